@@ -1,0 +1,18 @@
+/** Jest projects: `unit` (pure Node, no jsdom; numerics, spec, ledger, CLI) and `e2e` (browser). */
+const tsJest = ['ts-jest', { tsconfig: { module: 'commonjs', moduleResolution: 'node', target: 'ES2021', esModuleInterop: true, resolveJsonModule: true, strict: true, types: ['node', 'jest'], isolatedModules: true } }];
+module.exports = {
+  projects: [
+    {
+      displayName: 'unit',
+      testEnvironment: 'node',
+      testMatch: ['<rootDir>/test/unit/**/*.test.ts', '<rootDir>/test/reference/**/*.test.ts'],
+      transform: { '^.+\\.tsx?$': tsJest }
+    },
+    {
+      displayName: 'e2e',
+      testEnvironment: 'node',
+      testMatch: ['<rootDir>/test/e2e/**/*.test.ts'],
+      transform: { '^.+\\.tsx?$': tsJest }
+    }
+  ]
+};

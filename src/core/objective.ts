@@ -1,0 +1,83 @@
+/**
+ * The one interface every optimizer, probe and readout works through: a scalar
+ * objective of one flat parameter vector with exact first and second-order products.
+ *
+ * Networks (`core/model/network.ts`) and analytic test functions
+ * (`core/model/analytic.ts`) both implement it.
+ */
+
+/** Which rows of the data set an evaluation uses; `undefined` means the full batch. */
+export type Rows = Int32Array | undefined;
+
+/** One named slice of the flat parameter vector. */
+export interface ParamBlock {
+  /** Human name, e.g. `layers[1].weight`, `layers[1].bias`, `x`. */
+  readonly name: string;
+  /** Index of the layer it belongs to (0-based), or -1 for non-network objectives. */
+  readonly layer: number;
+  /** `weight` and `bias` for network layers, `param` for analytic objectives. */
+  readonly kind: 'weight' | 'bias' | 'param';
+  /** Offset into the flat vector. */
+  readonly offset: number;
+  /** Number of entries (product of `shape`). */
+  readonly size: number;
+  /** `[out, in]` for weights (row-major), `[out]` for biases, `[P]` otherwise. */
+  readonly shape: readonly number[];
+}
+
+/**
+ * A twice-differentiable objective over a flat `Float64Array` of `parameterCount` entries.
+ *
+ * All methods are pure with respect to `w` and `v` (never modified); outputs are written
+ * into caller-owned arrays so hot loops allocate nothing. Regularization, when the setup
+ * has any, is included in every value, gradient and product.
+ */
+export interface Objective {
+  /** Number of parameters P. */
+  readonly parameterCount: number;
+  /** Layout of the flat vector, in order, covering [0, P) without gaps. */
+  readonly blocks: readonly ParamBlock[];
+  /** Number of data rows (0 for analytic objectives, whose `rows` argument is ignored). */
+  readonly rowCount: number;
+
+  /** Loss at `w` on `rows` (default: all rows). */
+  value(w: Float64Array, rows?: Rows): number;
+
+  /** Writes ∇f(w) into `out` (length P) and returns f(w). */
+  gradient(w: Float64Array, out: Float64Array, rows?: Rows): number;
+
+  /** Writes the exact Hessian-vector product H(w)·v into `out` (length P). */
+  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void;
+
+  /**
+   * Writes the Gauss-Newton product G(w)·v = Jᵀ·H_out·J·v (+ regularization) into `out`.
+   * For analytic objectives without a natural split this is the Hessian product.
+   */
+  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void;
+}
+
+/** Euclidean dot product of two equal-length vectors. */
+export function dot(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += a[i] * b[i];
+  return s;
+}
+
+/** Euclidean norm, scaled to avoid overflow for large entries. */
+export function norm2(a: Float64Array, offset = 0, size = a.length - offset): number {
+  let scale = 0;
+  let ssq = 1;
+  for (let i = offset; i < offset + size; i++) {
+    const x = a[i];
+    if (x !== 0) {
+      const ax = Math.abs(x);
+      if (scale < ax) {
+        ssq = 1 + ssq * (scale / ax) * (scale / ax);
+        scale = ax;
+      } else {
+        ssq += (ax / scale) * (ax / scale);
+      }
+    }
+  }
+  return scale * Math.sqrt(ssq);
+}
