@@ -1,0 +1,154 @@
+/**
+ * Activation functions, each declared once with f, f′ and f″ (STYLE.md: one table, one
+ * rule each). Forward, backward and the R-operator in `network.ts` are generic over it.
+ *
+ * Each entry evaluates a whole pre-activation slice in one loop, writing f, f′ and
+ * (when asked) f″, so a layer costs one pass and no per-element dispatch.
+ */
+import erf from '@stdlib/math-base-special-erf';
+import type { ActivationName } from '../setup';
+
+/** Vectorized activation: writes f(a), f′(a) and optionally f″(a) for a[0..n). */
+export interface Activation {
+  readonly name: ActivationName;
+  /** True when f is the identity (f′ = 1, f″ = 0), so callers can skip multiplies. */
+  readonly identity: boolean;
+  /** True when f″ ≡ 0 everywhere it is defined (piecewise-linear units). */
+  readonly piecewiseLinear: boolean;
+  eval(a: Float64Array, f: Float64Array, d1: Float64Array, d2: Float64Array | null, n: number): void;
+}
+
+/** Negative-side slope of `leaky-relu` (PyTorch's default negative_slope). */
+export const LEAKY_SLOPE = 0.01;
+const INV_SQRT2 = Math.SQRT1_2;
+const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
+
+/** Logistic function 1/(1+e^−x), evaluated without overflow for either sign. */
+export function logistic(x: number): number {
+  if (x >= 0) return 1 / (1 + Math.exp(-x));
+  const e = Math.exp(x);
+  return e / (1 + e);
+}
+
+const linear: Activation = {
+  name: 'linear', identity: true, piecewiseLinear: true,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) { f[i] = a[i]; d1[i] = 1; }
+    if (d2) d2.fill(0, 0, n);
+  },
+};
+
+const tanh: Activation = {
+  // f = tanh a, f′ = 1 − f², f″ = −2 f f′
+  name: 'tanh', identity: false, piecewiseLinear: false,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const t = Math.tanh(a[i]);
+      const g = 1 - t * t;
+      f[i] = t; d1[i] = g;
+      if (d2) d2[i] = -2 * t * g;
+    }
+  },
+};
+
+const sigmoid: Activation = {
+  // f = σ(a), f′ = σ(1 − σ), f″ = f′ (1 − 2σ)
+  name: 'sigmoid', identity: false, piecewiseLinear: false,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const s = logistic(a[i]);
+      const g = s * (1 - s);
+      f[i] = s; d1[i] = g;
+      if (d2) d2[i] = g * (1 - 2 * s);
+    }
+  },
+};
+
+const relu: Activation = {
+  // f = max(0, a); f′(0) = 0 as in PyTorch; f″ = 0
+  name: 'relu', identity: false, piecewiseLinear: true,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const x = a[i];
+      if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = 0; d1[i] = 0; }
+    }
+    if (d2) d2.fill(0, 0, n);
+  },
+};
+
+const leakyRelu: Activation = {
+  // f = a for a > 0, 0.01·a otherwise; f″ = 0
+  name: 'leaky-relu', identity: false, piecewiseLinear: true,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const x = a[i];
+      if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = LEAKY_SLOPE * x; d1[i] = LEAKY_SLOPE; }
+    }
+    if (d2) d2.fill(0, 0, n);
+  },
+};
+
+const softplus: Activation = {
+  // f = log(1 + e^a) = max(a, 0) + log1p(e^−|a|), f′ = σ(a), f″ = σ(1 − σ).
+  // Unlike PyTorch (threshold 20) it never switches to the identity; the difference is < 3e-9.
+  name: 'softplus', identity: false, piecewiseLinear: false,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const x = a[i];
+      const s = logistic(x);
+      f[i] = Math.max(x, 0) + Math.log1p(Math.exp(-Math.abs(x)));
+      d1[i] = s;
+      if (d2) d2[i] = s * (1 - s);
+    }
+  },
+};
+
+const elu: Activation = {
+  // α = 1: f = a (a > 0) or e^a − 1; f′ = 1 or e^a; f″ = 0 or e^a
+  name: 'elu', identity: false, piecewiseLinear: false,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const x = a[i];
+      if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
+        const e = Math.exp(x);
+        f[i] = Math.expm1(x); d1[i] = e; if (d2) d2[i] = e;
+      }
+    }
+  },
+};
+
+const gelu: Activation = {
+  // Exact (erf) form, PyTorch's default: f = a Φ(a), f′ = Φ + a φ, f″ = φ (2 − a²)
+  name: 'gelu', identity: false, piecewiseLinear: false,
+  eval(a, f, d1, d2, n) {
+    for (let i = 0; i < n; i++) {
+      const x = a[i];
+      const cdf = 0.5 * (1 + erf(x * INV_SQRT2));
+      const pdf = INV_SQRT_2PI * Math.exp(-0.5 * x * x);
+      f[i] = x * cdf;
+      d1[i] = cdf + x * pdf;
+      if (d2) d2[i] = pdf * (2 - x * x);
+    }
+  },
+};
+
+/** Returns the activation for a name; exhaustive over {@link ActivationName}. */
+export function activation(name: ActivationName): Activation {
+  switch (name) {
+    case 'linear': return linear;
+    case 'tanh': return tanh;
+    case 'sigmoid': return sigmoid;
+    case 'relu': return relu;
+    case 'leaky-relu': return leakyRelu;
+    case 'softplus': return softplus;
+    case 'elu': return elu;
+    case 'gelu': return gelu;
+    default: {
+      const never: never = name;
+      throw new Error(`unknown activation '${String(never)}'`);
+    }
+  }
+}
+
+/** Every activation name, for table-driven tests and schema checks. */
+export const ACTIVATIONS: readonly ActivationName[] = ['linear', 'tanh', 'sigmoid', 'relu', 'leaky-relu', 'softplus', 'elu', 'gelu'];
