@@ -1,0 +1,47 @@
+/**
+ * Stochastic gradient descent with optional heavy-ball or Nesterov momentum, in PyTorch's
+ * formulation (torch.optim.SGD, dampening 0):
+ *
+ *   v ← μ·v + g;   plain momentum: w ← w − η·v;   Nesterov: w ← w − η·(g + μ·v).
+ *
+ * Relation to the look-ahead form of Sutskever et al. (ICML 2013),
+ * v′ ← μv′ − η∇f(w′ + μv′), w′ ← w′ + v′: with a constant η and v′ = −η·v, the PyTorch
+ * iterate w equals the look-ahead point w′ + μv′, so both produce the same sequence of
+ * gradient evaluation points (checked on a quadratic in test/unit/optim/nesterov.test.ts).
+ * With a schedule the two differ slightly, because PyTorch's buffer is not scaled by η.
+ */
+import type { Recipe } from '../setup';
+import type { OptimizerState } from '../state';
+import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+
+/** SGD / heavy-ball / Nesterov (torch.optim.SGD; Polyak 1964; Sutskever et al. 2013). */
+export const sgd: OptimizerFamily = {
+  layerScaled: true,
+  decoupledDecay: false,
+  init(parameterCount: number, recipe: Recipe): OptimizerState {
+    const buffers: Record<string, Float64Array> = {};
+    if (recipe.momentum !== 0) buffers.velocity = new Float64Array(parameterCount);
+    return { kind: 'sgd', t: 0, buffers, scalars: {} };
+  },
+  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+    const mu = ctx.recipe.momentum;
+    if (mu === 0) {
+      out.set(grad);
+    } else {
+      const v = buffer(state, 'velocity');
+      if (ctx.recipe.nesterov) {
+        for (let i = 0; i < grad.length; i++) {
+          v[i] = mu * v[i] + grad[i];
+          out[i] = grad[i] + mu * v[i];
+        }
+      } else {
+        for (let i = 0; i < grad.length; i++) {
+          v[i] = mu * v[i] + grad[i];
+          out[i] = v[i];
+        }
+      }
+    }
+    state.t += 1;
+    return { stepSize: ctx.lr, extraEvaluations: 0 };
+  }
+};

@@ -1,0 +1,108 @@
+/**
+ * The contract every optimizer family implements (optax-style `init` / `update` pairs over an
+ * explicit, serializable {@link OptimizerState}).
+ *
+ * Sign convention, in one place: `update` writes an *ascent-form* direction `u` (a
+ * preconditioned gradient, pointing uphill) and a non-negative `stepSize` s; the session turns it
+ * into the displacement Δw = −s·(layer scale)·u with {@link descend} and applies it with
+ * {@link applyUpdates}. No family changes parameters itself.
+ */
+import type { Objective, Rows } from '../objective';
+import type { Recipe } from '../setup';
+import type { OptimizerState } from '../state';
+
+/** Per-session scratch vectors, allocated once per name so hot loops allocate nothing. */
+export class Workspace {
+  private readonly vectors = new Map<string, Float64Array>();
+
+  /** @param length Length of every vector handed out (the parameter count P). */
+  constructor(readonly length: number) {}
+
+  /** The scratch vector called `name` (contents left from its previous use). */
+  vector(name: string): Float64Array {
+    let v = this.vectors.get(name);
+    if (v === undefined) {
+      v = new Float64Array(this.length);
+      this.vectors.set(name, v);
+    }
+    return v;
+  }
+}
+
+/** Everything an update may consult besides gradient, state and parameters. */
+export interface OptimizerContext {
+  /** Learning rate in effect for this update (schedule and warm-up applied). */
+  readonly lr: number;
+  /** The recipe (hyper-parameters). */
+  readonly recipe: Recipe;
+  /**
+   * The objective the update may evaluate (line searches, Hessian products). It already
+   * includes the recipe's weight decay as ½·λ‖w‖² for the batch families, so its gradient
+   * matches the `grad` handed to `update`.
+   */
+  readonly objective: Objective;
+  /** Rows of this step's (mini-)batch; `undefined` = full batch. */
+  readonly rows: Rows;
+  /** Rows for curvature products (Newton, Gauss-Newton). */
+  readonly curvatureRows: Rows;
+  /** Objective value at `params` on `rows` (already computed together with `grad`). */
+  readonly loss: number;
+  /** Scratch vectors of length P. */
+  readonly work: Workspace;
+}
+
+/** What an update reports besides the direction it wrote. */
+export interface UpdateInfo {
+  /** Non-negative multiplier s in Δw = −s·u. */
+  stepSize: number;
+  /** Objective evaluations used beyond the gradient the session computed. */
+  extraEvaluations: number;
+}
+
+/** One optimizer family: `init` builds the state, `update` advances it in place and writes `u`. */
+export interface OptimizerFamily {
+  /** Whether per-layer `lrScale` multipliers apply to this family's displacement. */
+  readonly layerScaled: boolean;
+  /** Whether the family adds weight decay itself (decoupled, AdamW) instead of to the gradient. */
+  readonly decoupledDecay: boolean;
+  /** A fresh state for P parameters (all buffers zero, t = 0). */
+  init(parameterCount: number, recipe: Recipe): OptimizerState;
+  /**
+   * Writes the ascent-form direction into `out` (length P) and advances `state` in place
+   * (including `state.t`). `grad` has clipping and coupled weight decay applied.
+   */
+  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo;
+}
+
+/**
+ * Turns an ascent-form direction into the displacement, in place: u ← −s·scale ⊙ u.
+ * This is the single place where the descent sign is applied.
+ * @param scales per-parameter learning-rate multipliers, or null for all ones.
+ */
+export function descend(u: Float64Array, stepSize: number, scales: Float64Array | null): void {
+  const a = -stepSize;
+  if (scales === null) {
+    for (let i = 0; i < u.length; i++) u[i] = a * u[i];
+  } else {
+    for (let i = 0; i < u.length; i++) u[i] = a * scales[i] * u[i];
+  }
+}
+
+/** The only place parameters change: w ← w + Δw (optax `apply_updates`). */
+export function applyUpdates(params: Float64Array, updates: Float64Array): void {
+  for (let i = 0; i < params.length; i++) params[i] += updates[i];
+}
+
+/** A zero-filled named buffer record for `init` functions. */
+export function zeros(parameterCount: number, names: readonly string[]): Record<string, Float64Array> {
+  const out: Record<string, Float64Array> = {};
+  for (const n of names) out[n] = new Float64Array(parameterCount);
+  return out;
+}
+
+/** Fetches a buffer, failing loudly when a state of the wrong family is handed in. */
+export function buffer(state: OptimizerState, name: string): Float64Array {
+  const b = state.buffers[name];
+  if (b === undefined) throw new Error(`optimizer state of kind '${state.kind}' has no buffer '${name}'`);
+  return b;
+}

@@ -1,0 +1,54 @@
+/**
+ * Seeded mini-batch order: each epoch's row order is a fresh Fisher–Yates permutation of
+ * 0…N−1 drawn from the session's 'batches' generator; batches are consecutive slices of it.
+ * The last batch of an epoch is the remainder (N mod B rows) and is used as is — it is not
+ * dropped and not padded — so every row is seen exactly once per epoch (PyTorch's DataLoader
+ * with shuffle=True, drop_last=False behaves the same way; common practice).
+ */
+import type { Rng } from '../rng';
+
+/** Mutable position in the row order (the batch part of a SessionState). */
+export interface BatchPosition {
+  epoch: number;
+  cursor: number;
+  order: Int32Array | null;
+}
+
+/** Draws a fresh permutation of 0…n−1 into `order` (allocated when null) and returns it. */
+export function drawOrder(rng: Rng, n: number, order: Int32Array | null): Int32Array {
+  const o = order !== null && order.length === n ? order : new Int32Array(n);
+  for (let i = 0; i < n; i++) o[i] = i;
+  rng.shuffle(o);
+  return o;
+}
+
+/**
+ * Copies the next batch of `pos.order` into `full` (length B) or `tail` (length N mod B) and
+ * advances the position; at the end of an epoch the epoch counter is raised and the next
+ * permutation drawn in place. Returns the buffer holding this step's rows.
+ */
+export function nextBatch(rng: Rng, pos: BatchPosition, batch: number, full: Int32Array, tail: Int32Array | null): Int32Array {
+  const order = pos.order;
+  if (order === null) throw new Error('mini-batch session has no row order (state.order is null)');
+  const n = order.length;
+  const take = Math.min(batch, n - pos.cursor);
+  const out = take === full.length ? full : tail;
+  if (out === null || out.length !== take) throw new Error(`batch position ${pos.cursor} of ${n} does not fit batch size ${batch}`);
+  for (let i = 0; i < take; i++) out[i] = order[pos.cursor + i];
+  pos.cursor += take;
+  if (pos.cursor >= n) {
+    pos.epoch += 1;
+    pos.cursor = 0;
+    pos.order = drawOrder(rng, n, order);
+  }
+  return out;
+}
+
+/**
+ * A fixed row subset of size k drawn once (first k of a permutation from `rng`), sorted
+ * ascending so curvature products read the data in memory order.
+ */
+export function drawSubset(rng: Rng, n: number, k: number): Int32Array {
+  const perm = drawOrder(rng, n, null);
+  return perm.slice(0, k).sort();
+}

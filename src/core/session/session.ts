@@ -1,0 +1,269 @@
+/**
+ * The live session: weights, optimizer state, batch generator and step count of one
+ * experiment, advanced one optimizer update at a time.
+ *
+ * One update (`step`) does, in order:
+ *  1. take this step's rows (full batch, or the next slice of the epoch's seeded permutation);
+ *  2. g = ∇f(w) on those rows (batch loss comes with it); record ‖g‖ and per-layer ‖∇W‖;
+ *  3. clip g to the global norm `clipNorm`, then add coupled weight decay λw (not for AdamW);
+ *  4. the optimizer family writes an ascent-form direction u and a step size s;
+ *  5. Δw = −s·(lrScale per layer)·u ({@link descend}), w ← w + Δw ({@link applyUpdates});
+ *  6. full-batch loss (and held-out loss) at the new w go into the step record.
+ * All buffers are allocated once; an update allocates only the record it returns.
+ */
+import { buildHeldOutObjective, buildObjective, initialParameters } from '../build';
+import { norm2, type Objective, type Rows } from '../objective';
+import { Rng } from '../rng';
+import type { Experiment } from '../setup';
+import type { LayerRecord, OptimizerState, SessionState, StepRecord } from '../state';
+import { withWeightDecay } from '../optim/decayed';
+import { addWeightDecay, clipByGlobalNorm, layerScales } from '../optim/gradient';
+import { familyFor } from '../optim/registry';
+import { learningRate } from '../optim/schedule';
+import { applyUpdates, descend, Workspace, type OptimizerContext, type OptimizerFamily } from '../optim/types';
+import { drawOrder, drawSubset, nextBatch, type BatchPosition } from './batches';
+import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';
+import { evaluateStop, type StopCondition } from './stop';
+
+/** Callbacks for long runs; `shouldStop` is checked between updates. */
+export interface StepHooks {
+  onProgress?(done: number, total: number): void;
+  shouldStop?(): boolean;
+}
+
+/** Why {@link Session.runUntil} ended. */
+export type RunReason = 'condition' | 'diverged' | 'max-steps' | 'stopped';
+
+/** Objectives and start point to use instead of building them from the setup (tests, probes). */
+export interface SessionParts {
+  objective: Objective;
+  heldOut?: Objective;
+  /** Initial parameters (copied); default: `initialParameters(setup, fork('init'))`. */
+  initial?: Float64Array;
+}
+
+/** Mutable context object reused across updates so the hot path allocates nothing. */
+class StepContext implements OptimizerContext {
+  lr = 0;
+  rows: Rows = undefined;
+  curvatureRows: Rows = undefined;
+  loss = 0;
+  constructor(readonly recipe: Experiment['recipe'], readonly objective: Objective, readonly work: Workspace) {}
+}
+
+/** Weight blocks, one per layer, for the per-layer record. */
+interface LayerSlice {
+  layer: number;
+  offset: number;
+  size: number;
+}
+
+/** A running experiment (see the module comment for the order of operations). */
+export class Session {
+  readonly objective: Objective;
+  private readonly heldOut: Objective | undefined;
+  private readonly family: OptimizerFamily;
+  private readonly params: Float64Array;
+  private optState: OptimizerState;
+  private readonly rng: Rng;
+  private readonly pos: BatchPosition;
+  private steps: number;
+  private readonly batchSize: number;
+  private readonly fullRows: Int32Array | null;
+  private readonly tailRows: Int32Array | null;
+  private readonly curvature: Int32Array | undefined;
+  private readonly grad: Float64Array;
+  private readonly upd: Float64Array;
+  private readonly scales: Float64Array | null;
+  private readonly ctx: StepContext;
+  private readonly layers: LayerSlice[];
+  private readonly layerGrad: Float64Array;
+
+  private constructor(readonly experiment: Experiment, parts: SessionParts, state: SessionState | null) {
+    const { setup, recipe, seed } = experiment;
+    this.objective = parts.objective;
+    this.heldOut = parts.heldOut;
+    const p = this.objective.parameterCount;
+    this.family = familyFor(recipe.optimizer);
+    const n = this.objective.rowCount;
+    this.batchSize = recipe.batch === 'full' || n === 0 || recipe.batch >= n ? 0 : recipe.batch;
+    if (this.batchSize !== 0 && (!Number.isInteger(this.batchSize) || this.batchSize < 1)) {
+      throw new Error(`recipe.batch must be 'full' or a positive integer, got ${String(recipe.batch)}`);
+    }
+    this.fullRows = this.batchSize > 0 ? new Int32Array(this.batchSize) : null;
+    this.tailRows = this.batchSize > 0 && n % this.batchSize !== 0 ? new Int32Array(n % this.batchSize) : null;
+    const cb = recipe.curvatureBatch;
+    this.curvature = typeof cb === 'number' && n > 0 && cb < n ? drawSubset(Rng.fromSeed(seed).fork('curvature'), n, cb) : undefined;
+    if (state === null) {
+      const init = parts.initial ?? initialParameters(setup, Rng.fromSeed(seed).fork('init'));
+      if (init.length !== p) throw new Error(`initial parameters have length ${init.length}, the objective expects ${p}`);
+      this.params = Float64Array.from(init);
+      this.optState = this.family.init(p, recipe);
+      this.rng = Rng.fromSeed(seed).fork('batches');
+      this.pos = { epoch: 0, cursor: 0, order: this.batchSize > 0 ? drawOrder(this.rng, n, null) : null };
+      this.steps = 0;
+    } else {
+      if (state.params.length !== p) throw new Error(`state.params has length ${state.params.length}, the objective expects ${p}`);
+      if (state.optimizer.kind !== recipe.optimizer) {
+        throw new Error(`state.optimizer.kind is '${state.optimizer.kind}' but recipe.optimizer is '${recipe.optimizer}'`);
+      }
+      if (this.batchSize > 0 && (state.order === null || state.order.length !== n)) {
+        throw new Error(`state.order must hold a permutation of ${n} rows for batch size ${this.batchSize}`);
+      }
+      const s = copySessionState(state);
+      this.params = s.params;
+      this.optState = s.optimizer;
+      this.rng = Rng.fromState(s.rng);
+      this.pos = { epoch: s.epoch, cursor: s.cursor, order: this.batchSize > 0 ? s.order : null };
+      this.steps = s.step;
+    }
+    this.grad = new Float64Array(p);
+    this.upd = new Float64Array(p);
+    this.scales = layerScales(this.objective.blocks, p, recipe.layers);
+    const work = new Workspace(p);
+    this.ctx = new StepContext(recipe, this.family.layerScaled ? this.objective : withWeightDecay(this.objective, recipe.weightDecay), work);
+    this.layers = this.objective.blocks.filter((b) => b.kind === 'weight').map((b) => ({ layer: b.layer, offset: b.offset, size: b.size }));
+    this.layerGrad = new Float64Array(this.layers.length);
+  }
+
+  /** A new session at step 0: w0 from fork('init') of the seed, batch orders from fork('batches'). */
+  static create(experiment: Experiment, parts?: SessionParts): Session {
+    return new Session(experiment, parts ?? Session.build(experiment), null);
+  }
+
+  /** A session continuing `state` bit for bit (the state is deep-copied). */
+  static restore(experiment: Experiment, state: SessionState, parts?: SessionParts): Session {
+    return new Session(experiment, parts ?? Session.build(experiment), state);
+  }
+
+  private static build(experiment: Experiment): SessionParts {
+    return { objective: buildObjective(experiment.setup), heldOut: buildHeldOutObjective(experiment.setup) };
+  }
+
+  /** Updates applied so far. */
+  get stepCount(): number {
+    return this.steps;
+  }
+
+  /** The current weights (a live view: do not modify). */
+  get parameters(): Float64Array {
+    return this.params;
+  }
+
+  /** The fixed curvature rows drawn once from fork('curvature'), or undefined ('same' / 'full'). */
+  curvatureRows(): Int32Array | undefined {
+    return this.curvature === undefined ? undefined : Int32Array.from(this.curvature);
+  }
+
+  /** Full-batch training loss at the current weights (regularization included). */
+  fullLoss(): number {
+    return this.objective.value(this.params);
+  }
+
+  /** Held-out loss at the current weights, when the setup has a held-out split. */
+  heldOutLoss(): number | undefined {
+    return this.heldOut?.value(this.params);
+  }
+
+  /** Record 0 style record of the current state: no update, batch loss NaN, ‖g‖ full batch. */
+  initialRecord(): StepRecord {
+    const loss = this.objective.gradient(this.params, this.grad);
+    const layers = this.layers.map((l) => ({ layer: l.layer, weightNorm: norm2(this.params, l.offset, l.size), gradNorm: norm2(this.grad, l.offset, l.size), updateRatio: 0 }));
+    const rec: StepRecord = { step: this.steps, loss, batchLoss: NaN, gradNorm: norm2(this.grad), updateNorm: 0, lr: learningRate(this.experiment.recipe, this.steps), evaluations: 1, layers, ms: 0 };
+    const h = this.heldOutLoss();
+    if (h !== undefined) rec.heldOutLoss = h;
+    return rec;
+  }
+
+  /** Applies n updates (default 1); record k describes the state after it. */
+  step(n = 1, hooks?: StepHooks): StepRecord[] {
+    const out: StepRecord[] = [];
+    for (let i = 0; i < n; i++) {
+      if (i > 0 && hooks?.shouldStop?.()) break;
+      out.push(this.update());
+      hooks?.onProgress?.(i + 1, n);
+    }
+    return out;
+  }
+
+  /**
+   * Steps until `cond` holds, the loss becomes non-finite ('diverged'), `maxSteps` updates
+   * were applied, or `hooks.shouldStop` returns true. The 'diverged' condition compares with
+   * the full-batch loss at the start of the run.
+   */
+  runUntil(cond: StopCondition, maxSteps: number, hooks?: StepHooks): { records: StepRecord[]; reason: RunReason } {
+    const records: StepRecord[] = [];
+    const start = cond.kind === 'diverged' ? this.fullLoss() : NaN;
+    for (let i = 0; i < maxSteps; i++) {
+      if (hooks?.shouldStop?.()) return { records, reason: 'stopped' };
+      const rec = this.update();
+      records.push(rec);
+      hooks?.onProgress?.(i + 1, maxSteps);
+      const verdict = evaluateStop(cond, rec, records.length, start, this.params);
+      if (verdict !== null) return { records, reason: verdict };
+    }
+    return { records, reason: 'max-steps' };
+  }
+
+  /** A deep copy of everything needed to continue bit for bit. */
+  state(): SessionState {
+    return copySessionState({ step: this.steps, params: this.params, optimizer: this.optState, rng: this.rng.state(), epoch: this.pos.epoch, cursor: this.pos.cursor, order: this.pos.order });
+  }
+
+  /** A copy of the optimizer state alone. */
+  optimizerState(): OptimizerState {
+    return copyOptimizerState(this.optState);
+  }
+
+  /** SHA-256 hex of {@link Session.state} (see `fingerprintState` for the byte order). */
+  fingerprint(): string {
+    return fingerprintState({ step: this.steps, params: this.params, optimizer: this.optState, rng: this.rng.state(), epoch: this.pos.epoch, cursor: this.pos.cursor, order: this.pos.order });
+  }
+
+  private update(): StepRecord {
+    const t0 = now();
+    const recipe = this.experiment.recipe;
+    const rows = this.batchSize > 0 ? nextBatch(this.rng, this.pos, this.batchSize, this.fullRows as Int32Array, this.tailRows) : undefined;
+    if (this.batchSize === 0 && this.objective.rowCount > 0) this.pos.epoch += 1;
+    const lr = learningRate(recipe, this.steps);
+    const g = this.grad;
+    const batchLoss = this.objective.gradient(this.params, g, rows);
+    for (let k = 0; k < this.layers.length; k++) this.layerGrad[k] = norm2(g, this.layers[k].offset, this.layers[k].size);
+    const gradNorm = clipByGlobalNorm(g, recipe.clipNorm);
+    if (!this.family.decoupledDecay) addWeightDecay(g, this.params, recipe.weightDecay);
+    const ctx = this.ctx;
+    ctx.lr = lr;
+    ctx.rows = rows;
+    ctx.curvatureRows = recipe.curvatureBatch === 'same' ? rows : this.curvature;
+    ctx.loss = this.family.layerScaled || recipe.weightDecay === 0 ? batchLoss : batchLoss + 0.5 * recipe.weightDecay * sumSquares(this.params);
+    const info = this.family.update(g, this.optState, this.params, ctx, this.upd);
+    descend(this.upd, info.stepSize, this.family.layerScaled ? this.scales : null);
+    const layers: LayerRecord[] = new Array(this.layers.length);
+    for (let k = 0; k < this.layers.length; k++) {
+      const l = this.layers[k];
+      const before = norm2(this.params, l.offset, l.size);
+      const delta = norm2(this.upd, l.offset, l.size);
+      layers[k] = { layer: l.layer, weightNorm: 0, gradNorm: this.layerGrad[k], updateRatio: before > 0 ? delta / before : delta > 0 ? Infinity : 0 };
+    }
+    const updateNorm = norm2(this.upd);
+    applyUpdates(this.params, this.upd);
+    this.steps += 1;
+    for (let k = 0; k < this.layers.length; k++) layers[k].weightNorm = norm2(this.params, this.layers[k].offset, this.layers[k].size);
+    const loss = this.objective.value(this.params);
+    const rec: StepRecord = { step: this.steps, loss, batchLoss, gradNorm, updateNorm, lr, evaluations: 1 + info.extraEvaluations, layers, ms: 0 };
+    const h = this.heldOut?.value(this.params);
+    if (h !== undefined) rec.heldOutLoss = h;
+    rec.ms = now() - t0;
+    return rec;
+  }
+}
+
+function sumSquares(w: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < w.length; i++) s += w[i] * w[i];
+  return s;
+}
+
+function now(): number {
+  return typeof performance !== 'undefined' ? performance.now() : Date.now();
+}
