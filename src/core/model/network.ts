@@ -60,6 +60,15 @@ export function networkBlocks(inputs: number, units: readonly number[]): ParamBl
   return blocks;
 }
 
+/** Options of {@link Network}. */
+export interface NetworkOptions {
+  /**
+   * Replaces the activation of a layer (return undefined to keep the named one). Used to
+   * audit user-defined pieces and, in tests, to inject a deliberately wrong derivative.
+   */
+  activationOf?: (layer: number) => Activation | undefined;
+}
+
 /** A dense feed-forward network with a loss over an in-memory data set. */
 export class Network implements Objective {
   readonly parameterCount: number;
@@ -84,14 +93,15 @@ export class Network implements Objective {
    * @param data rows the objective averages over
    * @param loss loss name (conventions in `losses.ts`)
    * @param l2 coefficient λ of ½·λ·Σ‖W‖² over weight matrices (biases excluded)
+   * @param options optional activation overrides
    */
-  constructor(model: NetworkModel, data: DataSetup, loss: LossName, l2: number) {
+  constructor(model: NetworkModel, data: DataSetup, loss: LossName, l2: number, options: NetworkOptions = {}) {
     if (data.inputs !== model.inputs) throw new Error(`data has ${data.inputs} input columns but model.inputs is ${model.inputs}`);
     this.blocks = networkBlocks(model.inputs, model.layers.map((l) => l.units));
     this.plan = model.layers.map((layer, l) => ({
       fanIn: this.blocks[2 * l].shape[1],
       units: layer.units,
-      act: activation(layer.activation),
+      act: options.activationOf?.(l) ?? activation(layer.activation),
       wOff: this.blocks[2 * l].offset,
       bOff: this.blocks[2 * l + 1].offset,
     }));
