@@ -1,0 +1,142 @@
+/**
+ * Turns a spec value that passed the schema and the cross-field checks into the
+ * normalized {@link Experiment}: every default applied, data packed row-major into
+ * Float64Arrays. Defaults here match the `description`s of `schema/spec.schema.json`.
+ */
+import type {
+  ActivationName, DataSetup, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
+  OptimizerName, Recipe, ScheduleSetup,
+} from '../core/setup';
+
+type Obj = Record<string, unknown>;
+
+const obj = (v: unknown): Obj => (typeof v === 'object' && v !== null && !Array.isArray(v) ? (v as Obj) : {});
+const numOr = (v: unknown, d: number): number => (typeof v === 'number' ? v : d);
+const boolOr = (v: unknown, d: boolean): boolean => (typeof v === 'boolean' ? v : d);
+const strOr = <T extends string>(v: unknown, d: T): T => (typeof v === 'string' ? (v as T) : d);
+const vec = (v: unknown): number[] => (v as number[]).slice();
+const mat = (v: unknown): number[][] => (v as number[][]).map((r) => r.slice());
+
+/** Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw. */
+export const RECIPE_DEFAULTS: Readonly<Omit<Recipe, 'layers' | 'schedule'>> = {
+  optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
+  centered: false, amsgrad: false, weightDecay: 0, batch: 'full', warmup: 0, clipNorm: 0, history: 10,
+  lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3, innerSteps: 10, curvatureBatch: 'same',
+};
+
+/** Packs rows into one row-major Float64Array. */
+function pack(rows: number[][], width: number): Float64Array {
+  const out = new Float64Array(rows.length * width);
+  rows.forEach((r, i) => out.set(r, i * width));
+  return out;
+}
+
+function targets(y: unknown[]): number[][] {
+  return y.map((r) => (typeof r === 'number' ? [r] : (r as number[])));
+}
+
+function buildData(raw: Obj, inputs: number): DataSetup {
+  const x = raw.x as number[][];
+  const y = targets(raw.y as unknown[]);
+  const width = y[0].length;
+  const data: DataSetup = { rows: x.length, inputs, targets: width, x: pack(x, inputs), y: pack(y, width) };
+  const held = raw.heldOut;
+  if (held !== undefined) {
+    const h = obj(held);
+    const hx = h.x as number[][];
+    data.heldOut = { rows: hx.length, x: pack(hx, inputs), y: pack(targets(h.y as unknown[]), width) };
+  }
+  return data;
+}
+
+function buildModel(raw: Obj): ModelSetup {
+  const objective = raw.objective;
+  if (objective === 'quadratic') {
+    const matrix = mat(raw.matrix);
+    const n = matrix.length;
+    return {
+      kind: 'quadratic',
+      matrix,
+      center: raw.center !== undefined ? vec(raw.center) : new Array<number>(n).fill(0),
+      start: raw.start !== undefined ? vec(raw.start) : new Array<number>(n).fill(1),
+    };
+  }
+  if (objective === 'rosenbrock') return { kind: 'rosenbrock', start: raw.start !== undefined ? vec(raw.start) : [-1.2, 1] };
+  const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => ({
+    units: l.units as number,
+    activation: strOr<ActivationName>(l.activation, 'linear'),
+  }));
+  const model: ModelSetup = {
+    kind: 'network',
+    inputs: raw.inputs as number,
+    layers,
+    init: strOr<InitScheme>(raw.init, 'lecun-normal'),
+    gain: numOr(raw.gain, 1),
+  };
+  if (raw.weights !== undefined)
+    model.weights = (raw.weights as Obj[]).map((w): LayerWeights => ({ weight: mat(w.weight), bias: vec(w.bias) }));
+  return model;
+}
+
+function buildSchedule(raw: unknown): ScheduleSetup {
+  if (raw === undefined) return { kind: 'constant' };
+  const s = obj(raw);
+  switch (s.kind as ScheduleSetup['kind']) {
+    case 'constant':
+      return { kind: 'constant' };
+    case 'step':
+      return { kind: 'step', every: s.every as number, factor: numOr(s.factor, 0.1) };
+    case 'exponential':
+      return { kind: 'exponential', gamma: s.gamma as number };
+    case 'inverse-time':
+      return { kind: 'inverse-time', decay: s.decay as number };
+    case 'cosine':
+      return { kind: 'cosine', steps: s.steps as number, floor: numOr(s.floor, 0) };
+  }
+}
+
+function buildRecipe(raw: Obj, layerCount: number): Recipe {
+  const d = RECIPE_DEFAULTS;
+  const optimizer = strOr<OptimizerName>(raw.optimizer, d.optimizer);
+  const batch = raw.batch === undefined ? d.batch : (raw.batch as Recipe['batch']);
+  const curvatureBatch = raw.curvatureBatch === undefined ? d.curvatureBatch : (raw.curvatureBatch as Recipe['curvatureBatch']);
+  const layers = Array.isArray(raw.layers)
+    ? (raw.layers as Obj[]).map((l) => ({ lrScale: l.lrScale as number }))
+    : Array.from({ length: layerCount }, () => ({ lrScale: 1 }));
+  return {
+    optimizer,
+    lr: numOr(raw.lr, d.lr),
+    momentum: numOr(raw.momentum, d.momentum),
+    nesterov: boolOr(raw.nesterov, d.nesterov),
+    beta1: numOr(raw.beta1, d.beta1),
+    beta2: numOr(raw.beta2, d.beta2),
+    eps: numOr(raw.eps, d.eps),
+    alpha: numOr(raw.alpha, d.alpha),
+    centered: boolOr(raw.centered, d.centered),
+    amsgrad: boolOr(raw.amsgrad, d.amsgrad),
+    weightDecay: numOr(raw.weightDecay, optimizer === 'adamw' ? 0.01 : d.weightDecay),
+    batch,
+    schedule: buildSchedule(raw.schedule),
+    warmup: numOr(raw.warmup, d.warmup),
+    clipNorm: numOr(raw.clipNorm, d.clipNorm),
+    layers,
+    history: numOr(raw.history, d.history),
+    lineSearch: strOr<Recipe['lineSearch']>(raw.lineSearch, d.lineSearch),
+    cgVariant: strOr<Recipe['cgVariant']>(raw.cgVariant, d.cgVariant),
+    damping: numOr(raw.damping, d.damping),
+    innerSteps: numOr(raw.innerSteps, d.innerSteps),
+    curvatureBatch,
+  };
+}
+
+/** Builds the normalized experiment from a validated spec value. */
+export function buildExperiment(value: unknown): Experiment {
+  const spec = obj(value);
+  const model = buildModel(obj(spec.model));
+  const loss = strOr<LossName>(spec.loss, 'mse');
+  const l2 = numOr(obj(spec.regularization).l2, 0);
+  const layerCount = model.kind === 'network' ? model.layers.length : 0;
+  const setup: Experiment['setup'] = { model, loss, l2 };
+  if (model.kind === 'network') setup.data = buildData(obj(spec.data), model.inputs);
+  return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
+}

@@ -1,0 +1,252 @@
+/**
+ * Cross-field checks that a JSON schema cannot express: shapes that must agree between
+ * model and data, class indices, symmetric matrices, optimizer-specific keys. Written
+ * defensively: they run even when the schema already failed, and skip whatever the
+ * schema reports, so the user sees every problem at once.
+ */
+import { formatPath } from './path';
+import type { Path } from './path';
+
+/** One cross-field problem (an error or a warning), before positions are attached. */
+export interface CheckProblem {
+  path: Path;
+  message: string;
+  atKey?: boolean;
+}
+
+/** Errors block the experiment; warnings flag legal but suspicious choices. */
+export interface CheckReport {
+  errors: CheckProblem[];
+  warnings: CheckProblem[];
+}
+
+type Obj = Record<string, unknown>;
+
+const isObj = (v: unknown): v is Obj => typeof v === 'object' && v !== null && !Array.isArray(v);
+const isPosInt = (v: unknown): v is number => typeof v === 'number' && Number.isInteger(v) && v >= 1;
+const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+
+/** Which optimizers use each optimizer-specific recipe key (others ignore it). */
+export const KEY_USERS: Readonly<Record<string, readonly string[]>> = {
+  momentum: ['sgd'],
+  nesterov: ['sgd'],
+  beta1: ['adam', 'adamw'],
+  beta2: ['adam', 'adamw'],
+  amsgrad: ['adam', 'adamw'],
+  eps: ['adagrad', 'rmsprop', 'adam', 'adamw'],
+  alpha: ['rmsprop'],
+  centered: ['rmsprop'],
+  weightDecay: ['sgd', 'adagrad', 'rmsprop', 'adam', 'adamw'],
+  history: ['lbfgs', 'minibatch-lbfgs'],
+  lineSearch: ['lbfgs', 'cg', 'newton', 'gauss-newton', 'minibatch-lbfgs'],
+  cgVariant: ['cg'],
+  damping: ['newton', 'gauss-newton'],
+  innerSteps: ['minibatch-lbfgs'],
+};
+
+/** Target rows as a uniform list of lists, or the first entry that breaks uniformity. */
+function targetRows(y: unknown[], at: Path, report: CheckReport): number[][] | undefined {
+  const flat = typeof y[0] === 'number';
+  const rows: number[][] = [];
+  for (let i = 0; i < y.length; i++) {
+    const r = y[i];
+    if (flat && Array.isArray(r)) {
+      report.errors.push({ path: [...at, i], message: `${formatPath([...at, i])} is a list, but ${formatPath([...at, 0])} is a number; write every target row the same way` });
+      return undefined;
+    }
+    if (!flat && typeof r === 'number') {
+      report.errors.push({ path: [...at, i], message: `${formatPath([...at, i])} is a number, but ${formatPath([...at, 0])} is a list; write every target row the same way` });
+      return undefined;
+    }
+    if (typeof r === 'number') rows.push([r]);
+    else if (Array.isArray(r)) rows.push(r as number[]);
+    else return undefined; // reported by the schema
+  }
+  return rows;
+}
+
+/** Checks one x/y split (training or held-out) against the model's widths and the loss. */
+function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: number | undefined, loss: string, report: CheckReport): number | undefined {
+  const x = split.x;
+  const y = split.y;
+  let xRows: number | undefined;
+  if (Array.isArray(x)) {
+    xRows = x.length;
+    if (inputs !== undefined) {
+      x.forEach((row, i) => {
+        if (Array.isArray(row) && row.length !== inputs)
+          report.errors.push({ path: [...at, 'x', i], message: `${formatPath([...at, 'x', i])} has ${row.length} columns, but model.inputs is ${inputs}` });
+      });
+    }
+  }
+  if (!Array.isArray(y) || y.length === 0) return xRows;
+  const rows = targetRows(y, [...at, 'y'], report);
+  if (!rows) return xRows;
+  if (xRows !== undefined && xRows > 0 && rows.length !== xRows)
+    report.errors.push({ path: [...at, 'y'], message: `${formatPath([...at, 'y'])} has ${rows.length} rows, but ${formatPath([...at, 'x'])} has ${xRows}` });
+  const flat = typeof y[0] === 'number';
+  const cell = (i: number, j: number): Path => (flat ? [...at, 'y', i] : [...at, 'y', i, j]);
+  if (loss === 'cross-entropy') {
+    rows.forEach((r, i) => {
+      if (r.length !== 1) {
+        report.errors.push({ path: [...at, 'y', i], message: `${formatPath([...at, 'y', i])} must hold one class index for cross-entropy, got ${r.length} values` });
+        return;
+      }
+      const c = r[0];
+      if (!isNum(c)) return;
+      const range = outUnits !== undefined ? ` (an integer from 0 to ${outUnits - 1})` : ' (a non-negative integer)';
+      if (!Number.isInteger(c) || c < 0 || (outUnits !== undefined && c >= outUnits))
+        report.errors.push({ path: cell(i, 0), message: `${formatPath(cell(i, 0))} must be a class index${range}, got ${c}` });
+    });
+    return xRows;
+  }
+  rows.forEach((r, i) => {
+    if (outUnits !== undefined && r.length !== outUnits) {
+      const what = flat ? 'is a single value' : `has ${r.length} columns`;
+      report.errors.push({ path: [...at, 'y', i], message: `${formatPath([...at, 'y', i])} ${what}, but the last layer has ${outUnits} units` });
+    }
+    if (loss === 'binary-cross-entropy') {
+      r.forEach((v, j) => {
+        if (isNum(v) && (v < 0 || v > 1))
+          report.errors.push({ path: cell(i, j), message: `${formatPath(cell(i, j))} must be in [0, 1] for binary-cross-entropy, got ${v}` });
+      });
+    }
+  });
+  return xRows;
+}
+
+/** Checks explicit initial weights against the layer shapes. */
+function checkWeights(weights: unknown[], layers: unknown[], inputs: number | undefined, report: CheckReport): void {
+  if (weights.length !== layers.length)
+    report.errors.push({ path: ['model', 'weights'], message: `model.weights has ${weights.length} entries, but model.layers has ${layers.length}; give one { weight, bias } per layer` });
+  let fanIn = inputs;
+  layers.forEach((layer, k) => {
+    const units = isObj(layer) && isPosInt(layer.units) ? layer.units : undefined;
+    const w = weights[k];
+    if (isObj(w) && units !== undefined) {
+      const at: Path = ['model', 'weights', k];
+      if (Array.isArray(w.weight)) {
+        if (w.weight.length !== units)
+          report.errors.push({ path: [...at, 'weight'], message: `${formatPath([...at, 'weight'])} has ${w.weight.length} rows, but model.layers[${k}].units is ${units} (weight is [units][fan_in])` });
+        if (fanIn !== undefined)
+          w.weight.forEach((row, i) => {
+            if (Array.isArray(row) && row.length !== fanIn)
+              report.errors.push({ path: [...at, 'weight', i], message: `${formatPath([...at, 'weight', i])} has ${row.length} columns, but the layer's fan-in is ${fanIn}` });
+          });
+      }
+      if (Array.isArray(w.bias) && w.bias.length !== units)
+        report.errors.push({ path: [...at, 'bias'], message: `${formatPath([...at, 'bias'])} has ${w.bias.length} entries, but model.layers[${k}].units is ${units}` });
+    }
+    fanIn = units;
+  });
+}
+
+function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
+  const inputs = isPosInt(model.inputs) ? model.inputs : undefined;
+  const layers = Array.isArray(model.layers) ? model.layers : [];
+  const last = layers[layers.length - 1];
+  const outUnits = isObj(last) && isPosInt(last.units) ? last.units : undefined;
+  const loss = typeof spec.loss === 'string' ? spec.loss : 'mse';
+  if (Array.isArray(model.weights)) checkWeights(model.weights, layers, inputs, report);
+  if (loss === 'cross-entropy' && isObj(last)) {
+    if (outUnits === 1)
+      report.errors.push({ path: ['model', 'layers', layers.length - 1, 'units'], message: `cross-entropy needs at least 2 units in the last layer (one logit per class), got 1; use binary-cross-entropy for two classes with one unit` });
+    const act = typeof last.activation === 'string' ? last.activation : 'linear';
+    if (act !== 'linear')
+      report.warnings.push({ path: ['model', 'layers', layers.length - 1, 'activation'], message: `cross-entropy applies softmax itself; a final ${act} squashes the logits` });
+  }
+  let rows: number | undefined;
+  if (spec.data === undefined) {
+    report.errors.push({ path: ['model'], atKey: true, message: 'data is required for a network model: give data.x and data.y' });
+  } else if (isObj(spec.data)) {
+    rows = checkSplit(spec.data, ['data'], inputs, outUnits, loss, report);
+    if (isObj(spec.data.heldOut)) checkSplit(spec.data.heldOut, ['data', 'heldOut'], inputs, outUnits, loss, report);
+  }
+  const recipe = isObj(spec.recipe) ? spec.recipe : {};
+  if (Array.isArray(recipe.layers) && recipe.layers.length !== layers.length && layers.length > 0)
+    report.errors.push({ path: ['recipe', 'layers'], message: `recipe.layers has ${recipe.layers.length} entries, but model.layers has ${layers.length}; give one { lrScale } per layer` });
+  if (rows !== undefined && rows > 0) {
+    for (const key of ['batch', 'curvatureBatch'] as const) {
+      const b = recipe[key];
+      if (isPosInt(b) && b > rows)
+        report.errors.push({ path: ['recipe', key], message: `recipe.${key} is ${b}, but the data has only ${rows} rows` });
+    }
+  }
+}
+
+function checkObjective(spec: Obj, model: Obj, report: CheckReport): void {
+  const name = String(model.objective);
+  if (name !== 'quadratic' && name !== 'rosenbrock') return;
+  let n = 2;
+  if (name === 'quadratic' && Array.isArray(model.matrix)) {
+    const a = model.matrix as unknown[];
+    n = a.length;
+    let square = true;
+    a.forEach((row, i) => {
+      if (Array.isArray(row) && row.length !== n) {
+        square = false;
+        report.errors.push({ path: ['model', 'matrix', i], message: `model.matrix[${i}] has ${row.length} columns, but the matrix has ${n} rows; it must be square` });
+      }
+    });
+    const rows = a.filter(Array.isArray) as unknown[][];
+    if (square && rows.length === n && rows.every((r) => r.every(isNum))) {
+      const m = rows as number[][];
+      let scale = 0;
+      for (const r of m) for (const v of r) scale = Math.max(scale, Math.abs(v));
+      outer: for (let i = 0; i < n; i++)
+        for (let j = i + 1; j < n; j++)
+          if (Math.abs(m[i][j] - m[j][i]) > 1e-12 * scale) {
+            report.errors.push({ path: ['model', 'matrix', i, j], message: `model.matrix must be symmetric: [${i}][${j}] is ${m[i][j]} but [${j}][${i}] is ${m[j][i]}` });
+            break outer;
+          }
+    }
+  }
+  for (const key of name === 'quadratic' ? ['center', 'start'] : ['start']) {
+    const v = model[key];
+    if (Array.isArray(v) && v.length !== n)
+      report.errors.push({ path: ['model', key], message: `model.${key} has ${v.length} entries, but the ${name} objective has ${n} parameters` });
+  }
+  for (const key of ['data', 'loss'])
+    if (spec[key] !== undefined) report.warnings.push({ path: [key], atKey: true, message: `${key} is not used by the ${name} objective and is ignored` });
+  if (isObj(spec.regularization) && isNum(spec.regularization.l2) && spec.regularization.l2 > 0)
+    report.warnings.push({ path: ['regularization', 'l2'], message: `regularization.l2 penalizes network weight matrices; the ${name} objective has none, so it has no effect` });
+  const recipe = isObj(spec.recipe) ? spec.recipe : {};
+  if (Array.isArray(recipe.layers) && recipe.layers.length > 0)
+    report.errors.push({ path: ['recipe', 'layers'], message: `recipe.layers sets per-layer rates of a network, but the ${name} objective has no layers` });
+  for (const key of ['batch', 'curvatureBatch'])
+    if (isPosInt(recipe[key])) report.warnings.push({ path: ['recipe', key], message: `recipe.${key} picks data rows; the ${name} objective has no data, so it has no effect` });
+}
+
+function checkRecipe(recipe: Obj, report: CheckReport): void {
+  const opt = typeof recipe.optimizer === 'string' ? recipe.optimizer : 'sgd';
+  if (!(opt in OPTIMIZER_SET)) return;
+  for (const [key, users] of Object.entries(KEY_USERS)) {
+    if (recipe[key] === undefined || users.includes(opt)) continue;
+    const message = `recipe.${key} applies to ${users.join(', ')}, not to ${opt}`;
+    if (key === 'momentum' || key === 'nesterov') report.errors.push({ path: ['recipe', key], atKey: true, message: `${message}; remove it` });
+    else report.warnings.push({ path: ['recipe', key], atKey: true, message: `${message}, so it has no effect` });
+  }
+  if (opt === 'sgd' && recipe.nesterov === true && !(isNum(recipe.momentum) && recipe.momentum > 0))
+    report.errors.push({ path: ['recipe', 'nesterov'], message: 'recipe.nesterov needs recipe.momentum > 0 (Nesterov momentum with zero momentum is undefined, as in PyTorch)' });
+  if (opt === 'sgd' && isNum(recipe.momentum) && recipe.momentum >= 1)
+    report.warnings.push({ path: ['recipe', 'momentum'], message: `recipe.momentum is ${recipe.momentum}; with μ ≥ 1 the velocity never decays and the iteration cannot settle` });
+}
+
+const OPTIMIZER_SET: Readonly<Record<string, true>> = {
+  sgd: true, adagrad: true, rmsprop: true, adam: true, adamw: true, lbfgs: true, cg: true, newton: true, 'gauss-newton': true, 'minibatch-lbfgs': true,
+};
+
+/** Runs every cross-field check over a raw spec value (which may have failed the schema). */
+export function crossCheck(spec: unknown): CheckReport {
+  const report: CheckReport = { errors: [], warnings: [] };
+  if (!isObj(spec)) return report;
+  if (spec.seed === undefined)
+    report.warnings.push({ path: [], message: 'no seed given, so seed 0 is used; write seed: explicitly so the notebook states it' });
+  const model = spec.model;
+  if (isObj(model)) {
+    if (model.objective !== undefined) checkObjective(spec, model, report);
+    else checkNetwork(spec, model, report);
+  }
+  if (isObj(spec.recipe)) checkRecipe(spec.recipe, report);
+  return report;
+}
