@@ -1,0 +1,99 @@
+/**
+ * Dense symmetric eigen-solver: Householder tridiagonalization followed by implicit QL with
+ * Wilkinson shifts (all eigenvalues, optional eigenvectors), or Sturm bisection plus inverse
+ * iteration (selected eigenpairs). Golub & Van Loan, *Matrix Computations*, 4th ed., ch. 8.
+ *
+ * Matrices are row-major `Float64Array`s of n·n entries; only the lower triangle (j ≤ i) is
+ * read, so an input whose upper triangle is stale is fine. Eigenvectors are returned as the
+ * *rows* of an n×n (or k×n) array, row k belonging to `values[k]`, so that each vector is
+ * contiguous in memory.
+ */
+import { applyReflectors, tridiagonalize } from './householder';
+import type { HouseholderReduction } from './householder';
+import { bisectEigenvalues, tridiagonalInverseIteration, tridiagonalQL } from './tridiagonal';
+
+/** Options of {@link symmetricEigen}. */
+export interface SymmetricEigenOptions {
+  /** Also compute eigenvectors (accumulates the Householder and Givens transforms). Default false. */
+  vectors?: boolean;
+  /** Allow the solver to overwrite `a` instead of copying it. Default false. */
+  overwrite?: boolean;
+}
+
+/** Eigen-decomposition A = V D Vᵀ of a symmetric matrix. */
+export interface SymmetricEigenResult {
+  /** Order n. */
+  readonly n: number;
+  /** Eigenvalues in ascending order. */
+  readonly values: Float64Array;
+  /** Row k (offset k·n) is the unit eigenvector of `values[k]`; null unless requested. */
+  readonly vectors: Float64Array | null;
+}
+
+function checkSquare(a: Float64Array, n: number): void {
+  if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
+  if (a.length !== n * n) throw new RangeError(`a symmetric matrix of order ${n} needs ${n * n} entries, got ${a.length}`);
+}
+
+function reduce(a: Float64Array, n: number, overwrite: boolean): HouseholderReduction {
+  checkSquare(a, n);
+  return tridiagonalize(overwrite ? a : Float64Array.from(a), n);
+}
+
+/**
+ * All eigenvalues (ascending) and optionally eigenvectors of the symmetric n×n matrix `a`:
+ * Householder tridiagonalization, then implicit QL with Wilkinson shifts
+ * (Golub & Van Loan 4th ed., alg. 8.3.1 and 8.3.2). Cost ≈ 4n³/3 flops for values only.
+ */
+export function symmetricEigen(a: Float64Array, n: number, options: SymmetricEigenOptions = {}): SymmetricEigenResult {
+  const red = reduce(a, n, options.overwrite === true);
+  if (options.vectors !== true) return { n, values: tridiagonalQL(red), vectors: null };
+  const z = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) z[i * n + i] = 1;
+  const values = tridiagonalQL(red, z);
+  applyReflectors(red, z, n);
+  return { n, values, vectors: z };
+}
+
+/** All eigenvalues of the symmetric n×n row-major matrix `a`, ascending (see {@link symmetricEigen}). */
+export function eigenvalues(a: Float64Array, n: number): Float64Array {
+  return symmetricEigen(a, n).values;
+}
+
+/**
+ * Eigenpairs number `first`..`last` (0-based in ascending order, inclusive) of the symmetric
+ * matrix `a` by tridiagonalization, Sturm bisection and inverse iteration
+ * (Golub & Van Loan 4th ed., §8.4.1–8.4.2). Negative indices count from the top: −1 is the
+ * largest eigenvalue, so `(a, n, -3, -1)` returns the three largest.
+ */
+export function selectedEigenpairs(
+  a: Float64Array,
+  n: number,
+  first: number,
+  last: number,
+  options: { vectors?: boolean; overwrite?: boolean } = {}
+): SymmetricEigenResult & { readonly first: number } {
+  checkSquare(a, n);
+  const lo = first < 0 ? n + first : first;
+  const hi = last < 0 ? n + last : last;
+  if (!Number.isInteger(lo) || !Number.isInteger(hi) || lo < 0 || hi >= n || lo > hi) {
+    throw new RangeError(`eigenpair indices must satisfy 0 <= first <= last < ${n} after counting negatives from the top, got first=${first}, last=${last}`);
+  }
+  const red = reduce(a, n, options.overwrite === true);
+  const values = bisectEigenvalues(red, lo, hi);
+  if (options.vectors === false) return { n, values, vectors: null, first: lo };
+  const vectors = tridiagonalInverseIteration(red, values);
+  applyReflectors(red, vectors, values.length);
+  return { n, values, vectors, first: lo };
+}
+
+/** Row-major `Float64Array` from an array of equal-length rows (checks that it is square). */
+export function fromRows(rows: readonly (readonly number[])[]): Float64Array {
+  const n = rows.length;
+  const out = new Float64Array(n * n);
+  rows.forEach((row, i) => {
+    if (row.length !== n) throw new RangeError(`row ${i} has ${row.length} entries, expected ${n} for a square matrix`);
+    out.set(row, i * n);
+  });
+  return out;
+}
