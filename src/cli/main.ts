@@ -1,0 +1,61 @@
+/**
+ * `stepwell` command line over core + spec: `inspect` (loss, gradient, Hessian products,
+ * eigenvalues, gradient audit at the initial point) and `run` (a trajectory from spec + seed).
+ * Every command prints JSON with `--json` and a readable summary otherwise.
+ */
+import { parseArgs } from 'node:util';
+import { CliError, type Sink } from './io';
+import { inspectCommand } from './inspect';
+import { runCommand } from './run';
+
+const USAGE = `usage:
+  stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
+  stepwell run SPEC --steps N [--json] [--until COND] [--set KEY=VALUE ...]
+    COND: loss<VALUE | grad<VALUE | diverged
+`;
+
+/** Runs the CLI with `argv` (without node and script); resolves to the exit code. */
+export async function main(argv: string[], out: Sink, err: Sink): Promise<number> {
+  const [command, ...rest] = argv;
+  try {
+    switch (command) {
+      case 'inspect': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          json: { type: 'boolean' }, vector: { type: 'string' }, top: { type: 'string' }, bottom: { type: 'string' },
+          trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true },
+        } });
+        out.write(inspectCommand(specPath(a.positionals), a.values));
+        return 0;
+      }
+      case 'run': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true },
+        } });
+        out.write(runCommand(specPath(a.positionals), a.values));
+        return 0;
+      }
+      case undefined:
+      case '--help':
+      case 'help':
+        out.write(USAGE);
+        return command === undefined ? 2 : 0;
+      default:
+        throw new CliError(`unknown command '${command}'\n${USAGE}`);
+    }
+  } catch (e) {
+    if (e instanceof CliError) {
+      err.write(e.message.split('\n').map((l) => (l.startsWith('usage') || l.startsWith(' ') ? l : `stepwell: ${l}`)).join('\n') + '\n');
+      return e.exitCode;
+    }
+    if (e instanceof TypeError && 'code' in e && String((e as { code: unknown }).code).startsWith('ERR_PARSE_ARGS')) {
+      err.write(`stepwell: ${e.message}\n${USAGE}`);
+      return 2;
+    }
+    throw e;
+  }
+}
+
+function specPath(positionals: string[]): string {
+  if (positionals.length !== 1) throw new CliError(`expected exactly one SPEC file, got ${positionals.length}\n${USAGE}`);
+  return positionals[0];
+}

@@ -1,0 +1,108 @@
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { main } from '../../../src/cli/main';
+
+const dir = mkdtempSync(join(tmpdir(), 'stepwell-cli-'));
+function file(name: string, text: string): string {
+  const p = join(dir, name);
+  writeFileSync(p, text);
+  return p;
+}
+async function cli(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '', err = '';
+  const code = await main(argv, { write: (s: string) => (out += s) }, { write: (s: string) => (err += s) });
+  return { code, out, err };
+}
+
+// An invented two-input regression (demo data; not an expected value).
+const spec = file('net.yaml', `seed: 7
+model:
+  inputs: 2
+  layers:
+    - { units: 3, activation: tanh }
+    - { units: 1, activation: linear }
+data:
+  x: [[0.2, -0.1], [0.7, 0.4], [-0.5, 0.3], [0.1, 0.9], [-0.8, -0.6]]
+  y: [[0.1], [0.9], [-0.2], [0.5], [-0.7]]
+recipe: { optimizer: sgd, lr: 0.05 }
+`);
+const rosen = file('rosen.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001 }\n');
+
+describe('stepwell inspect', () => {
+  it('prints loss, gradient, H·v, eigenvalues and the audit as one JSON object', async () => {
+    const v = file('v.json', JSON.stringify([1, 0]));
+    const r = await cli('inspect', rosen, '--json', '--vector', v, '--top', '2', '--bottom', '1');
+    expect(r.code).toBe(0);
+    const o = JSON.parse(r.out);
+    // source: Nocedal & Wright 2006 §2: f(−1.2, 1) = 24.2, ∇f = (−215.6, −88), ∂²f/∂x² = 1200x² − 400y + 2 = 1330, ∂²f/∂x∂y = −400x = 480
+    expect(o.parameterCount).toBe(2);
+    expect(o.loss).toBeCloseTo(24.2, 12);
+    expect(o.gradient[0]).toBeCloseTo(-215.6, 10);
+    expect(o.gradient[1]).toBeCloseTo(-88, 10);
+    expect(o.hvp).toEqual([1330, 480]);
+    // source: closed form of a 2×2 symmetric matrix [[1330, 480], [480, 200]]: mid ± √(((a−d)/2)² + b²)
+    const mid = (1330 + 200) / 2, rad = Math.hypot((1330 - 200) / 2, 480);
+    expect(o.eigenvalues[0]).toBeCloseTo(mid + rad, 9);
+    expect(o.eigenvalues[1]).toBeCloseTo(mid - rad, 9);
+    expect(o.bottomEigenvalues).toEqual([o.eigenvalues[1]]);
+    expect(o.gradcheck.verdict).toBe('right');
+  });
+
+  it('reports a vector of the wrong length with the expected count', async () => {
+    const v = file('short.json', '[1, 2, 3]');
+    const r = await cli('inspect', spec, '--vector', v);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/must hold a JSON array of 13 numbers \(one per parameter\), got 3 entries/);
+  });
+});
+
+describe('stepwell run', () => {
+  it('prints N+1 records, record k after k updates, and the final state', async () => {
+    const r = await cli('run', spec, '--steps', '4', '--json');
+    expect(r.code).toBe(0);
+    const o = JSON.parse(r.out);
+    expect(o.trajectory.map((t: { step: number }) => t.step)).toEqual([0, 1, 2, 3, 4]);
+    expect(o.final.parameters).toHaveLength(13);
+    expect(o.final.loss).toBe(o.trajectory[4].loss);
+    expect(o.final.fingerprint).toMatch(/^[0-9a-f]{64}$/);
+    // common practice: small-step full-batch gradient descent decreases the loss monotonically.
+    expect(o.trajectory.every((t: { loss: number }, i: number, a: { loss: number }[]) => i === 0 || t.loss < a[i - 1].loss)).toBe(true);
+  });
+
+  it('is deterministic: the same spec and seed give the same fingerprint', async () => {
+    const a = JSON.parse((await cli('run', spec, '--steps', '3', '--json')).out);
+    const b = JSON.parse((await cli('run', spec, '--steps', '3', '--json')).out);
+    expect(a.final.fingerprint).toBe(b.final.fingerprint);
+  });
+
+  it('applies --set recipe overrides and stops on divergence with --until', async () => {
+    const q = file('quad.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[4]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 0.1 }\n');
+    // source: CHECKS.md / Nocedal & Wright ch. 3: η > 2/c = 0.5 diverges on c/2·w² with c = 4
+    const r = JSON.parse((await cli('run', q, '--steps', '500', '--until', 'diverged', '--set', 'lr=0.6', '--json')).out);
+    expect(r.stopped).toBe('diverged');
+    expect(r.trajectory.length).toBeLessThan(501);
+    expect(r.trajectory[1].lr).toBe(0.6);
+  });
+
+  it('names the field and its line for a bad spec and exits non-zero', async () => {
+    const bad = file('bad.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lrr: 0.1 }\n');
+    const r = await cli('run', bad, '--steps', '1');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/bad\.yaml:3:\d+: unknown key 'lrr' in recipe \(did you mean 'lr'\?\)/);
+  });
+
+  it('says which flag is missing', async () => {
+    const r = await cli('run', spec);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/run needs --steps N/);
+  });
+});
+
+describe('the installed bin', () => {
+  it('runs through npx without a build step', () => {
+    const out = execFileSync('npx', ['stepwell', 'run', rosen, '--steps', '2', '--json'], { encoding: 'utf8' });
+    expect(JSON.parse(out).trajectory).toHaveLength(3);
+  });
+});
