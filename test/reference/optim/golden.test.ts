@@ -1,0 +1,135 @@
+/**
+ * Optimizer trajectories against torch.optim in float64.
+ *
+ * Every expected number comes from golden.json, written by make_golden.py in this folder
+ * (header: torch/numpy/python versions, command, date): the same invented network, data
+ * and explicit weights are stepped by torch.optim and by our session, full batch.
+ *
+ * Tolerances (relative, ‖a − b‖ / ‖b‖):
+ * - first-order families (SGD, momentum, Nesterov, Adagrad, RMSprop, Adam, AMSGrad, AdamW):
+ *   1e-10 on every step's loss, on the parameters after step 1 and after the last step, and
+ *   on ‖g‖ and ‖Δw‖ of every step. Both sides apply the same update formula in float64; the
+ *   only differences are summation order in the gradient (~1e-15 relative) and the order of
+ *   the few scalar operations per coordinate (a few ulps). With step sizes this small the
+ *   update map barely amplifies them over 25 steps, and any difference of convention (bias
+ *   correction, where ε sits, dampening, decay coupling) shows at 1e-4 or more.
+ * - L-BFGS: 1e-8. The two-loop recursion divides by sᵀy and scales by sᵀy / yᵀy, where s and
+ *   y are differences of nearby iterates and gradients, so round-off is amplified by the
+ *   conditioning of the secant pairs and compounds across steps; the line search accepts or
+ *   rejects trial steps by comparisons that a 1e-15 perturbation could in principle flip
+ *   (none are that close in these cases — torch's accepted steps t are in golden.json).
+ */
+import { readFileSync } from 'fs';
+import { join } from 'path';
+import { parseSpec } from '../../../src/spec';
+import { Session } from '../../../src/core/session/session';
+import type { StepRecord } from '../../../src/core/state';
+
+interface TrajectoryCase {
+  name: string;
+  network: string;
+  torch: string;
+  steps: number;
+  spec: { recipe: { optimizer: string; weightDecay?: number } };
+  initialLoss: number;
+  losses: number[];
+  gradNorms: number[];
+  updateNorms: number[];
+  paramsAfter1: number[];
+  paramsFinal: number[];
+  t?: number[];
+  evaluations?: number[];
+}
+
+const golden = JSON.parse(readFileSync(join(__dirname, 'golden.json'), 'utf8')) as { cases: TrajectoryCase[] };
+const FIRST_ORDER_REL = 1e-10;
+const LBFGS_REL = 1e-8;
+
+function relErr(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  if (a.length !== b.length) return Infinity;
+  let d = 0;
+  let m = 0;
+  for (let i = 0; i < b.length; i++) {
+    d += (a[i] - b[i]) ** 2;
+    m += b[i] ** 2;
+  }
+  return Math.sqrt(d) / Math.max(Math.sqrt(m), 1e-300);
+}
+
+/** Largest per-step relative error of a recorded series against torch's. */
+function worstStep(got: number[], want: number[]): { err: number; step: number } {
+  let err = got.length === want.length ? 0 : Infinity;
+  let step = -1;
+  want.forEach((w, k) => {
+    const e = Math.abs(got[k] - w) / Math.max(Math.abs(w), 1e-300);
+    if (!(e <= err)) {
+      err = e;
+      step = k + 1;
+    }
+  });
+  return { err, step };
+}
+
+interface Run {
+  initialLoss: number;
+  records: StepRecord[];
+  after1: Float64Array;
+  final: Float64Array;
+}
+
+function run(c: TrajectoryCase): Run {
+  const parsed = parseSpec(JSON.stringify(c.spec));
+  if (!parsed.ok) throw new Error(`${c.name}: spec rejected: ${JSON.stringify(parsed.errors)}`);
+  const session = Session.create(parsed.experiment);
+  const initialLoss = session.initialRecord().loss;
+  const first = session.step(1);
+  const after1 = Float64Array.from(session.parameters);
+  const records = first.concat(session.step(c.steps - 1));
+  return { initialLoss, records, after1, final: Float64Array.from(session.parameters) };
+}
+
+/** Fails with the quantity, the error and the worst step in the message (jest has no custom messages). */
+function within(what: string, e: { err: number; step?: number }, tol: number): void {
+  if (!(e.err <= tol)) {
+    throw new Error(`${what}: relative error ${e.err.toExponential(3)} > ${tol}${e.step !== undefined ? ` (worst at step ${e.step})` : ''}`);
+  }
+}
+
+function checkTrajectory(c: TrajectoryCase, tol: number): void {
+  const r = run(c);
+  expect(r.records.map((s) => s.step)).toEqual(c.losses.map((_, k) => k + 1));
+  within('initial loss', { err: Math.abs(r.initialLoss - c.initialLoss) / c.initialLoss }, tol);
+  within('loss after each step', worstStep(r.records.map((s) => s.loss), c.losses), tol);
+  within('‖g‖ of each step', worstStep(r.records.map((s) => s.gradNorm), c.gradNorms), tol);
+  within('‖Δw‖ of each step', worstStep(r.records.map((s) => s.updateNorm), c.updateNorms), tol);
+  within('parameters after step 1', { err: relErr(r.after1, c.paramsAfter1) }, tol);
+  within(`parameters after step ${c.steps}`, { err: relErr(r.final, c.paramsFinal) }, tol);
+  // the trajectory must actually move: a session that ignored the recipe would fail above,
+  // but guard the oracle too (torch's loss fell over the run)
+  expect(c.losses[c.losses.length - 1]).toBeLessThan(c.initialLoss);
+}
+
+const firstOrder = golden.cases.filter((c) => c.spec.recipe.optimizer !== 'lbfgs');
+const lbfgs = golden.cases.filter((c) => c.spec.recipe.optimizer === 'lbfgs');
+
+describe('golden file', () => {
+  it('covers every first-order family and both L-BFGS line-search settings', () => {
+    const kinds = new Set(golden.cases.map((c) => c.torch.replace(/\{.*$/, '')));
+    expect([...kinds].sort()).toEqual(['Adagrad', 'Adam', 'AdamW', 'LBFGS', 'RMSprop', 'SGD']);
+    expect(golden.cases.every((c) => c.steps >= 20 && c.losses.length === c.steps)).toBe(true);
+  });
+});
+
+// source: PyTorch 1.13 torch.optim, float64 (test/reference/optim/make_golden.py)
+describe('first-order optimizers follow torch.optim step for step (1e-10 relative)', () => {
+  it.each(firstOrder.map((c) => [c.name, c] as const))('%s', (_n, c) => {
+    checkTrajectory(c, FIRST_ORDER_REL);
+  });
+});
+
+// source: PyTorch 1.13 torch.optim.LBFGS(max_iter=1), float64 (test/reference/optim/make_golden.py)
+describe('L-BFGS follows torch.optim.LBFGS step for step (1e-8 relative)', () => {
+  it.each(lbfgs.map((c) => [c.name, c] as const))('%s', (_n, c) => {
+    checkTrajectory(c, LBFGS_REL);
+  });
+});
