@@ -202,12 +202,24 @@ describe.each(cases.map((c) => [c.name, c] as const))('network %s', (_name, c) =
 
 // source: PyTorch 1.13 autograd, float64 (test/reference/model/make_golden.py)
 describe.each(analytic.map((a) => [a.name, a] as const))('analytic %s', (_name, a) => {
-  const setup: Setup = { model: a.model, loss: 'mse', l2: 0 };
+  /** The analytic objective as a spec names it, started at the golden point. */
+  function specText(): string {
+    const m = a.model;
+    const model = m.kind === 'rosenbrock'
+      ? { objective: 'rosenbrock', start: a.point }
+      : { objective: 'quadratic', matrix: m.matrix, center: m.center, start: a.point };
+    return JSON.stringify({ seed: 1, model, recipe: { optimizer: 'sgd', lr: 0.001 } });
+  }
 
   it('value, gradient and dense Hessian (from hvp) match torch to 1e-9 relative', () => {
+    const parsed = parseSpec(specText());
+    if (!parsed.ok) throw new Error(`${a.name}: spec rejected: ${JSON.stringify(parsed.errors)}`);
+    const setup = parsed.experiment.setup;
+    expect(setup.model.kind).toBe(a.model.kind);
     const f = buildObjective(setup);
     const n = a.point.length;
-    const w = Float64Array.from(a.point);
+    const w = initialParameters(setup, Rng.fromSeed(1).fork('init'));
+    expect(Array.from(w)).toEqual(a.point);
     const g = new Float64Array(n);
     expect(scalarErr(f.gradient(w, g), a.value)).toBeLessThanOrEqual(REL);
     expect(scalarErr(f.value(w), a.value)).toBeLessThanOrEqual(REL);
