@@ -288,13 +288,27 @@ export class Network implements Objective {
 
 /**
  * dst[r, o] (=|+=) Σ_i M[o, i]·inp[r, i] (+ bias[o]) with M the layer's weight block of `src`.
+ * Four outputs at a time share each input load (register blocking); each sum still runs
+ * over i in order, so the result does not depend on the blocking.
  */
 function dense(src: Float64Array, p: LayerPlan, inp: Float64Array, n: number, dst: Float64Array, withBias: boolean, accumulate: boolean): void {
   const { fanIn, units, wOff, bOff } = p;
+  const o4 = units - (units % 4);
   for (let r = 0; r < n; r++) {
     const ir = r * fanIn;
     const orow = r * units;
-    for (let o = 0; o < units; o++) {
+    let o = 0;
+    for (; o < o4; o += 4) {
+      const w0 = wOff + o * fanIn, w1 = w0 + fanIn, w2 = w1 + fanIn, w3 = w2 + fanIn;
+      let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+      if (withBias) { s0 = src[bOff + o]; s1 = src[bOff + o + 1]; s2 = src[bOff + o + 2]; s3 = src[bOff + o + 3]; }
+      for (let i = 0; i < fanIn; i++) {
+        const x = inp[ir + i];
+        s0 += src[w0 + i] * x; s1 += src[w1 + i] * x; s2 += src[w2 + i] * x; s3 += src[w3 + i] * x;
+      }
+      if (accumulate) { dst[orow + o] += s0; dst[orow + o + 1] += s1; dst[orow + o + 2] += s2; dst[orow + o + 3] += s3; } else { dst[orow + o] = s0; dst[orow + o + 1] = s1; dst[orow + o + 2] = s2; dst[orow + o + 3] = s3; }
+    }
+    for (; o < units; o++) {
       const wr = wOff + o * fanIn;
       let s = withBias ? src[bOff + o] : 0;
       for (let i = 0; i < fanIn; i++) s += src[wr + i] * inp[ir + i];
@@ -303,10 +317,29 @@ function dense(src: Float64Array, p: LayerPlan, inp: Float64Array, n: number, ds
   }
 }
 
-/** g_W[o, i] += Σ_r d[r, o]·inp[r, i], and g_b[o] += Σ_r d[r, o] when `withBias`. */
+/**
+ * g_W[o, i] += Σ_r d[r, o]·inp[r, i], and g_b[o] += Σ_r d[r, o] when `withBias`.
+ * Blocked over four rows r so each gradient entry is loaded and stored once per block; the
+ * four terms are added in r order.
+ */
 function accumulateOuter(g: Float64Array, p: LayerPlan, d: Float64Array, inp: Float64Array, n: number, withBias: boolean): void {
   const { fanIn, units, wOff, bOff } = p;
-  for (let r = 0; r < n; r++) {
+  const n4 = n - (n % 4);
+  let r = 0;
+  for (; r < n4; r += 4) {
+    const i0 = r * fanIn, i1 = i0 + fanIn, i2 = i1 + fanIn, i3 = i2 + fanIn;
+    const d0 = r * units, d1 = d0 + units, d2 = d1 + units, d3 = d2 + units;
+    for (let o = 0; o < units; o++) {
+      const c0 = d[d0 + o], c1 = d[d1 + o], c2 = d[d2 + o], c3 = d[d3 + o];
+      if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0) continue;
+      if (withBias) g[bOff + o] = (((g[bOff + o] + c0) + c1) + c2) + c3;
+      const wr = wOff + o * fanIn;
+      for (let i = 0; i < fanIn; i++) {
+        g[wr + i] = (((g[wr + i] + c0 * inp[i0 + i]) + c1 * inp[i1 + i]) + c2 * inp[i2 + i]) + c3 * inp[i3 + i];
+      }
+    }
+  }
+  for (; r < n; r++) {
     const ir = r * fanIn;
     const drow = r * units;
     for (let o = 0; o < units; o++) {
@@ -319,14 +352,27 @@ function accumulateOuter(g: Float64Array, p: LayerPlan, d: Float64Array, inp: Fl
   }
 }
 
-/** dst[r, i] (=|+=) Σ_o M[o, i]·d[r, o] — the transpose product with `src`'s weight block. */
+/**
+ * dst[r, i] (=|+=) Σ_o M[o, i]·d[r, o] — the transpose product with `src`'s weight block.
+ * Blocked over four outputs o, added in o order, so each dst entry is loaded once per block.
+ */
 function backprop(src: Float64Array, p: LayerPlan, d: Float64Array, n: number, dst: Float64Array, accumulate: boolean): void {
   const { fanIn, units, wOff } = p;
   if (!accumulate) dst.fill(0, 0, n * fanIn);
+  const o4 = units - (units % 4);
   for (let r = 0; r < n; r++) {
     const ir = r * fanIn;
     const drow = r * units;
-    for (let o = 0; o < units; o++) {
+    let o = 0;
+    for (; o < o4; o += 4) {
+      const c0 = d[drow + o], c1 = d[drow + o + 1], c2 = d[drow + o + 2], c3 = d[drow + o + 3];
+      if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0) continue;
+      const w0 = wOff + o * fanIn, w1 = w0 + fanIn, w2 = w1 + fanIn, w3 = w2 + fanIn;
+      for (let i = 0; i < fanIn; i++) {
+        dst[ir + i] = (((dst[ir + i] + c0 * src[w0 + i]) + c1 * src[w1 + i]) + c2 * src[w2 + i]) + c3 * src[w3 + i];
+      }
+    }
+    for (; o < units; o++) {
       const c = d[drow + o];
       if (c === 0) continue;
       const wr = wOff + o * fanIn;
