@@ -1,0 +1,23 @@
+/**
+ * Starts an engine in a Web Worker and returns its client. Kept apart from the rest of the
+ * worker folder because `import.meta.url` is for the bundler only (unit tests never load it).
+ */
+import { EngineClient } from './client';
+import type { EngineReply } from './protocol';
+
+/** Starts a new engine worker (one per stepwell cell). */
+export function spawnEngine(): EngineClient {
+  const worker = new Worker(new URL('./engine.worker.ts', import.meta.url));
+  return new EngineClient({
+    postMessage: message => worker.postMessage(message),
+    listen: listener => {
+      worker.onmessage = (event: MessageEvent<EngineReply>) => listener(event.data);
+      worker.onerror = (event: ErrorEvent) => {
+        event.preventDefault();
+        // A crashed worker cannot answer; report it on every pending request id.
+        listener({ id: -1, kind: 'failed', message: `engine worker error: ${event.message}` });
+      };
+    },
+    terminate: () => worker.terminate()
+  });
+}

@@ -1,0 +1,221 @@
+/**
+ * The engine host driven directly in Node (no Worker), over the real core and spec parser.
+ * Expected values here are not numeric references: they compare the host's results with
+ * the same core stepped directly, so a fault in chunking, checkpoints, rewind, resume or
+ * verify shows up as a fingerprint mismatch.
+ */
+import { EngineHost } from '../../../src/worker/engine-host';
+import { EngineClient } from '../../../src/worker/client';
+import { inProcessPort } from '../../../src/worker/in-process';
+import { realCore } from '../../../src/worker/core-adapter';
+import type { EngineReply } from '../../../src/worker/protocol';
+import { TEMPLATE_SPEC, parseSpec } from '../../../src/spec';
+import { Session } from '../../../src/core/session';
+
+function experiment() {
+  const parsed = parseSpec(TEMPLATE_SPEC);
+  if (!parsed.ok) throw new Error('template must parse');
+  return parsed.experiment;
+}
+
+/** Fingerprint of a fresh session after n direct steps (the comparison baseline). */
+function directPrint(n: number, spec = TEMPLATE_SPEC): string {
+  const parsed = parseSpec(spec);
+  if (!parsed.ok) throw new Error('spec must parse');
+  const s = Session.create(parsed.experiment);
+  s.step(n);
+  return s.fingerprint();
+}
+
+function collect(options: EngineHost.Options = {}) {
+  const replies: EngineReply[] = [];
+  const host = new EngineHost(realCore, r => replies.push(structuredClone(r)), options);
+  return { host, replies, last: () => replies[replies.length - 1] };
+}
+
+const load = (id: number, checkpointEvery = 5) => ({ id, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery });
+
+describe('EngineHost', () => {
+  it('loads the template and answers ready at step 0 with record 0', async () => {
+    const { host, last } = collect();
+    await host.receive(load(1));
+    const r = last();
+    expect(r.kind).toBe('ready');
+    if (r.kind !== 'ready') return;
+    expect(r.summary.step).toBe(0);
+    expect(r.trajectory).toHaveLength(1);
+    expect(r.summary.fingerprint).toMatch(/^[0-9a-f]{64}$/);
+    expect(r.summary.fingerprint).toBe(directPrint(0));
+    expect(r.summary.recipe).toContain('sgd');
+    expect(r.summary.setup).toContain('network 3→5 tanh→1 linear');
+  });
+
+  it('reports spec errors with their line numbers instead of loading', async () => {
+    const { host, last } = collect();
+    const broken = TEMPLATE_SPEC.replace('lr: 0.1 ', 'lr: -3  ');
+    await host.receive({ id: 1, kind: 'load', specText: broken, checkpointEvery: 5 });
+    const r = last();
+    expect(r.kind).toBe('spec-errors');
+    if (r.kind !== 'spec-errors') return;
+    const lrLine = broken.split('\n').findIndex(l => l.includes('lr: -3')) + 1;
+    expect(r.errors.some(e => e.line === lrLine && e.path.includes('lr'))).toBe(true);
+  });
+
+  it('steps n updates and reaches the same state as the core stepped directly', async () => {
+    const { host, last } = collect();
+    await host.receive(load(1));
+    await host.receive({ id: 2, kind: 'step', n: 10 });
+    const r = last();
+    expect(r.kind).toBe('stepped');
+    if (r.kind !== 'stepped') return;
+    expect(r.summary.step).toBe(10);
+    expect(r.records.map(x => x.step)).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9, 10]);
+    expect(r.summary.fingerprint).toBe(directPrint(10));
+    expect(r.summary.checkpointSteps).toEqual([0, 5, 10]);
+  });
+
+  it('posts progress between chunks and stops early on a stop request', async () => {
+    const { host, replies, last } = collect({ chunkMs: 0 });
+    await host.receive(load(1));
+    const running = host.receive({ id: 2, kind: 'step', n: 100000 });
+    // Let the first chunk run, then stop: the loop must see the flag at the next yield.
+    await new Promise(resolve => setTimeout(resolve, 5));
+    await host.receive({ id: 3, kind: 'stop', target: 2 });
+    await running;
+    const progress = replies.filter(r => r.kind === 'progress');
+    expect(progress.length).toBeGreaterThan(0);
+    const r = last();
+    expect(r.kind).toBe('stepped');
+    if (r.kind !== 'stepped') return;
+    expect(r.stopped).toBe(true);
+    expect(r.reason).toBe('stopped');
+    expect(r.summary.step).toBeLessThan(100000);
+    const delivered = progress.flatMap(p => (p.kind === 'progress' ? p.records : [])).length + r.records.length;
+    expect(delivered).toBe(r.summary.step);
+    expect(r.summary.fingerprint).toBe(directPrint(r.summary.step));
+  });
+
+  it('rewinds to any earlier step by replaying from the nearest checkpoint', async () => {
+    const { host, last } = collect();
+    await host.receive(load(1, 5));
+    await host.receive({ id: 2, kind: 'step', n: 12 });
+    await host.receive({ id: 3, kind: 'rewind', step: 7 });
+    const r = last();
+    expect(r.kind).toBe('rewound');
+    if (r.kind !== 'rewound') return;
+    expect(r.summary.step).toBe(7);
+    expect(r.trajectory).toHaveLength(8);
+    expect(r.summary.fingerprint).toBe(directPrint(7));
+    expect(r.summary.checkpointSteps).toEqual([0, 5]);
+    await host.receive({ id: 4, kind: 'rewind', step: 9 });
+    expect(last()).toMatchObject({ kind: 'failed', message: expect.stringContaining('session is at step 7') });
+  });
+
+  it('resumes from a snapshot and continues bit for bit', async () => {
+    const a = collect();
+    await a.host.receive(load(1));
+    await a.host.receive({ id: 2, kind: 'step', n: 8 });
+    await a.host.receive({ id: 3, kind: 'snapshot' });
+    const snap = a.last();
+    if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
+    const b = collect();
+    await b.host.receive({
+      ...load(1),
+      resume: { state: snap.state, trajectory: snap.trajectory, checkpoints: snap.checkpoints }
+    });
+    expect(b.last()).toMatchObject({ kind: 'ready', summary: { step: 8 } });
+    await b.host.receive({ id: 2, kind: 'step', n: 4 });
+    const r = b.last();
+    expect(r.kind === 'stepped' && r.summary.fingerprint).toBe(directPrint(12));
+  });
+
+  it('verify says bit-identical for an honest session and names the first differing step otherwise', async () => {
+    const a = collect();
+    await a.host.receive(load(1, 5));
+    await a.host.receive({ id: 2, kind: 'step', n: 9 });
+    await a.host.receive({ id: 3, kind: 'verify' });
+    expect(a.last()).toMatchObject({ kind: 'verified', result: { match: 'bit-identical', steps: 9 } });
+    await a.host.receive({ id: 4, kind: 'snapshot' });
+    const snap = a.last();
+    if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
+    const tampered = snap.trajectory.map(r => (r.step === 3 ? { ...r, loss: r.loss * (1 + 1e-15) + 1e-300 } : r));
+    const b = collect();
+    await b.host.receive({ ...load(1, 5), resume: { state: snap.state, trajectory: tampered, checkpoints: snap.checkpoints } });
+    await b.host.receive({ id: 2, kind: 'verify' });
+    expect(b.last()).toMatchObject({ kind: 'verified', result: { match: 'differs', firstDifferingStep: 3 } });
+  });
+
+  it('stops stepping when the loss becomes non-finite', async () => {
+    const { host, last } = collect();
+    const wild = TEMPLATE_SPEC.replace('lr: 0.1 ', 'lr: 1e6 ');
+    await host.receive({ id: 1, kind: 'load', specText: wild, checkpointEvery: 0 });
+    expect(last().kind).toBe('ready');
+    await host.receive({ id: 2, kind: 'step', n: 500 });
+    const r = last();
+    expect(r).toMatchObject({ kind: 'stepped', reason: 'non-finite', stopped: false });
+    if (r.kind !== 'stepped') return;
+    expect(r.summary.step).toBeLessThan(500);
+    expect(Number.isFinite(r.records[r.records.length - 1].loss)).toBe(false);
+  });
+
+  it('run-until ends when the condition holds', async () => {
+    const { host, last } = collect();
+    await host.receive(load(1));
+    await host.receive({ id: 2, kind: 'run-until', condition: { kind: 'loss-below', value: 1e9 }, maxSteps: 50 });
+    expect(last()).toMatchObject({ kind: 'stepped', reason: 'condition', summary: { step: 1 } });
+  });
+
+  it('audits the gradient at the current step', async () => {
+    const { host, last } = collect();
+    await host.receive(load(1));
+    await host.receive({ id: 2, kind: 'step', n: 3 });
+    await host.receive({ id: 3, kind: 'gradcheck', sample: 50 });
+    const r = last();
+    expect(r.kind).toBe('audit');
+    if (r.kind !== 'audit') return;
+    expect(r.step).toBe(3);
+    expect(r.result.layers).toHaveLength(2);
+    // source: Stanford CS231n notes (from memory) — a correct float64 gradient audits below 1e-7.
+    expect(r.result.verdict).toBe('right');
+  });
+
+  it('answers malformed requests and requests before load with a clear failure', async () => {
+    const { host, last } = collect();
+    await host.receive({ id: 7, kind: 'step', n: -1 });
+    expect(last()).toMatchObject({ id: 7, kind: 'failed', message: expect.stringContaining('request.n') });
+    await host.receive({ id: 8, kind: 'launch' });
+    expect(last()).toMatchObject({ id: 8, kind: 'failed', message: expect.stringContaining('request.kind') });
+    await host.receive({ id: 9, kind: 'step', n: 1 });
+    expect(last()).toMatchObject({ id: 9, kind: 'failed', message: expect.stringContaining('load') });
+  });
+});
+
+describe('EngineClient over an in-process port', () => {
+  it('matches replies to requests and delivers progress', async () => {
+    const client = new EngineClient(inProcessPort(realCore, { chunkMs: 0 }));
+    const ready = await client.request({ kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0 });
+    expect(ready.kind).toBe('ready');
+    let progressed = 0;
+    const stepped = await client.request({ kind: 'step', n: 20 }, p => (progressed += p.records.length));
+    expect(stepped.kind).toBe('stepped');
+    if (stepped.kind !== 'stepped') return;
+    expect(progressed + stepped.records.length).toBe(20);
+    expect(stepped.summary.fingerprint).toBe(directPrint(20));
+    expect(client.inFlight).toEqual([]);
+    client.dispose();
+    expect((await client.request({ kind: 'snapshot' })).kind).toBe('failed');
+  });
+
+  it('uses a spec with explicit mini-batches deterministically', async () => {
+    const spec = TEMPLATE_SPEC.replace('batch: full ', 'batch: 3    ');
+    expect(parseSpec(spec).ok).toBe(true);
+    const client = new EngineClient(inProcessPort(realCore));
+    await client.request({ kind: 'load', specText: spec, checkpointEvery: 4 });
+    await client.request({ kind: 'step', n: 10 });
+    const v = await client.request({ kind: 'verify' });
+    expect(v).toMatchObject({ kind: 'verified', result: { match: 'bit-identical' } });
+    const r = await client.request({ kind: 'rewind', step: 6 });
+    expect(r.kind === 'rewound' && r.summary.fingerprint).toBe(directPrint(6, spec));
+    expect(experiment().seed).toBe(7);
+  });
+});
