@@ -116,7 +116,12 @@ describe('golden file', () => {
   it('covers every first-order family and both L-BFGS line-search settings', () => {
     const kinds = new Set(golden.cases.map((c) => c.torch.replace(/\{.*$/, '')));
     expect([...kinds].sort()).toEqual(['Adagrad', 'Adam', 'AdamW', 'LBFGS', 'RMSprop', 'SGD']);
-    expect(golden.cases.every((c) => c.steps >= 20 && c.losses.length === c.steps)).toBe(true);
+    expect(golden.cases.every((c) => c.losses.length === c.steps)).toBe(true);
+    // network trajectories run ≥ 20 steps; the analytic L-BFGS ones stop before the loss
+    // nears round-off, where relative comparisons lose their meaning
+    const nets = golden.cases.filter((c) => c.network !== 'rosenbrock' && !c.network.startsWith('quadratic'));
+    expect(nets.every((c) => c.steps >= 20)).toBe(true);
+    expect(golden.cases.every((c) => Math.min(...c.losses) > 1e-6)).toBe(true);
   });
 });
 

@@ -108,6 +108,49 @@ def full_loss(net, ps):
     return val + 0.5 * net["l2"] * reg
 
 
+def net_spec(net):
+    return {
+        "seed": 1,
+        "model": {
+            "inputs": net["inputs"],
+            "layers": [{"units": u, "activation": a} for u, a in net["layers"]],
+            "weights": [{"weight": W.tolist(), "bias": b.tolist()} for W, b in net["weights"]],
+        },
+        "data": {"x": net["x_np"].tolist(), "y": net["y_json"]},
+        "loss": net["loss"],
+        "regularization": {"l2": net["l2"]},
+    }
+
+
+def quadratic_matrix():
+    """A symmetric positive-definite 6 x 6 matrix with eigenvalues 0.5 ... 40 (seeded basis)."""
+    rng = np.random.default_rng(21)
+    Q, _ = np.linalg.qr(rng.normal(size=(6, 6)))
+    A = Q @ np.diag([0.5, 1.0, 2.5, 6.0, 15.0, 40.0]) @ Q.T
+    A = np.round(0.5 * (A + A.T), DIGITS)
+    c = np.round(rng.normal(size=6), DIGITS)
+    start = np.round(c + 2.0 * rng.normal(size=6), DIGITS)
+    return A, c, start
+
+
+def make_problem(name):
+    """(spec without recipe, initial parameter tensors, loss of the parameter list)."""
+    if name in NETS:
+        net = make_net(name)
+        return net_spec(net), make_params(net), lambda ps: full_loss(net, ps)
+    if name == "rosenbrock":
+        start = [-1.2, 1.0]
+        f = lambda ps: (1 - ps[0][0]) ** 2 + 100 * (ps[0][1] - ps[0][0] ** 2) ** 2
+        return {"seed": 1, "model": {"objective": "rosenbrock", "start": start}}, [torch.tensor(start).requires_grad_(True)], f
+    if name == "quadratic-6":
+        A, c, start = quadratic_matrix()
+        At, ct = torch.tensor(A), torch.tensor(c)
+        f = lambda ps: 0.5 * (ps[0] - ct) @ At @ (ps[0] - ct)
+        spec = {"seed": 1, "model": {"objective": "quadratic", "matrix": A.tolist(), "center": c.tolist(), "start": start.tolist()}}
+        return spec, [torch.tensor(start).requires_grad_(True)], f
+    raise ValueError(name)
+
+
 def flat(ps):
     return torch.cat([p.detach().reshape(-1) for p in ps])
 
@@ -170,26 +213,42 @@ OPTS = [
 ]
 
 
-def run_case(name, net_name, recipe, factory):
-    net = make_net(net_name)
-    ps = make_params(net)
+# analytic objectives: name, objective, recipe, torch factory, steps
+ANALYTIC = [
+    ("rosenbrock-sgd", "rosenbrock", {"optimizer": "sgd", "lr": 0.0005, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0},
+     lambda ps: torch.optim.SGD(ps, lr=0.0005), 25),
+    ("rosenbrock-sgd-momentum", "rosenbrock", {"optimizer": "sgd", "lr": 0.0002, "momentum": 0.9, "nesterov": False, "weightDecay": 0.0},
+     lambda ps: torch.optim.SGD(ps, lr=0.0002, momentum=0.9), 25),
+    ("rosenbrock-adam", "rosenbrock", {"optimizer": "adam", "lr": 0.05, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.0},
+     lambda ps: torch.optim.Adam(ps, lr=0.05), 25),
+    ("rosenbrock-lbfgs-strong-wolfe", "rosenbrock", {"optimizer": "lbfgs", "lr": 1.0, "history": 10, "lineSearch": "strong-wolfe"},
+     lambda ps: torch.optim.LBFGS(ps, lr=1.0, max_iter=1, history_size=10, line_search_fn="strong_wolfe"), 20),
+    ("quadratic-6-sgd", "quadratic-6", {"optimizer": "sgd", "lr": 0.045, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0},
+     lambda ps: torch.optim.SGD(ps, lr=0.045), 25),
+    ("quadratic-6-lbfgs-strong-wolfe", "quadratic-6", {"optimizer": "lbfgs", "lr": 1.0, "history": 10, "lineSearch": "strong-wolfe"},
+     lambda ps: torch.optim.LBFGS(ps, lr=1.0, max_iter=1, history_size=10, line_search_fn="strong_wolfe"), 8),
+]
+
+
+def run_case(name, problem, recipe, factory, steps=STEPS):
+    spec, ps, loss_of = make_problem(problem)
     opt = factory(ps)
     is_lbfgs = isinstance(opt, torch.optim.LBFGS)
 
     def closure():
         opt.zero_grad()
-        val = full_loss(net, ps)
+        val = loss_of(ps)
         val.backward()
         return val
 
     with torch.no_grad():
-        initial = float(full_loss(net, ps))
+        initial = float(loss_of(ps))
     losses, grad_norms, update_norms, steps_t, evals = [], [], [], [], []
     after1 = None
-    for k in range(STEPS):
+    for k in range(steps):
         before = flat(ps)
         ps_probe = [p.detach().clone().requires_grad_(True) for p in ps]
-        g = torch.autograd.grad(full_loss(net, ps_probe), ps_probe)
+        g = torch.autograd.grad(loss_of(ps_probe), ps_probe)
         grad_norms.append(float(torch.cat([t.reshape(-1) for t in g]).norm()))
         if is_lbfgs:
             st = opt.state[opt._params[0]]
@@ -204,26 +263,15 @@ def run_case(name, net_name, recipe, factory):
         after = flat(ps)
         update_norms.append(float((after - before).norm()))
         with torch.no_grad():
-            losses.append(float(full_loss(net, ps)))
+            losses.append(float(loss_of(ps)))
         if k == 0:
             after1 = [float(u) for u in after]
-    spec = {
-        "seed": 1,
-        "model": {
-            "inputs": net["inputs"],
-            "layers": [{"units": u, "activation": a} for u, a in net["layers"]],
-            "weights": [{"weight": W.tolist(), "bias": b.tolist()} for W, b in net["weights"]],
-        },
-        "data": {"x": net["x_np"].tolist(), "y": net["y_json"]},
-        "loss": net["loss"],
-        "regularization": {"l2": net["l2"]},
-        "recipe": dict(recipe, batch="full"),
-    }
+    spec = dict(spec, recipe=dict(recipe, batch="full"))
     out = {
         "name": name,
-        "network": net_name,
+        "network": problem,
         "torch": type(opt).__name__ + repr({k: v for k, v in opt.defaults.items() if k not in ("foreach", "maximize", "differentiable", "capturable", "fused")}),
-        "steps": STEPS,
+        "steps": steps,
         "spec": spec,
         "initialLoss": initial,
         "losses": losses,
@@ -239,11 +287,13 @@ def run_case(name, net_name, recipe, factory):
 
 
 def main():
-    cases = [run_case(*c) for c in OPTS]
+    cases = [run_case(*c) for c in OPTS] + [run_case(*c) for c in ANALYTIC]
     for c in cases:
         print(f"{c['name']:32s} {c['initialLoss']:.5f} -> {c['losses'][-1]:.5f}", file=sys.stderr)
         assert np.isfinite(c["losses"]).all() and c["losses"][-1] < c["initialLoss"], c["name"]
         assert min(c["updateNorms"]) > 0, f"{c['name']}: a step made no update"
+        # relative comparisons need losses far above round-off
+        assert min(c["losses"]) > 1e-6, f"{c['name']}: loss fell to {min(c['losses'])}"
     by_name = {c["name"]: c for c in cases}
     gap = max(abs(a - b) / b for a, b in zip(by_name["adam-amsgrad"]["losses"], by_name["adam-beta2-0.95"]["losses"]))
     assert gap > 1e-3, f"amsgrad indistinguishable from adam ({gap})"
