@@ -26,12 +26,19 @@ const SAFE_MIN = 2.2250738585072014e-308;
  * Wilkinson shifts (Golub & Van Loan 4th ed., alg. 8.3.2 in QL orientation).
  *
  * @param t - the tridiagonal matrix (not modified).
- * @param vectors - n×n row-major basis Zᵀ whose rows are rotated along with T (start from the
- *   identity to get the eigenvectors of T as rows), or null for eigenvalues only.
+ * @param vectors - n×`columns` row-major block Zᵀ whose rows are rotated along with T, or null
+ *   for eigenvalues only. Starting from the identity (columns = n) gives the eigenvectors of T as
+ *   rows; starting from one column e_j (columns = 1) gives only component j of every eigenvector
+ *   at O(n²) cost, which is all a Lanczos residual bound or a quadrature weight needs.
+ * @param columns - row length of `vectors` (default n).
  * @returns eigenvalues in ascending order; when `vectors` is given its rows are permuted to match.
  */
-export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = null): Float64Array {
+export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = null, columns?: number): Float64Array {
   const n = t.diagonal.length;
+  const cols = columns ?? n;
+  if (vectors !== null && vectors.length < n * cols) {
+    throw new RangeError(`QL basis needs ${n * cols} entries for ${n} rows of ${cols}, got ${vectors.length}`);
+  }
   const d = Float64Array.from(t.diagonal);
   // Internal layout: e[i] couples i and i+1.
   const e = new Float64Array(n);
@@ -75,7 +82,7 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
         p = s * r;
         d[i + 1] = g + p;
         g = c * r - b;
-        if (vectors !== null) rotateRows(vectors, n, i, c, s);
+        if (vectors !== null) rotateRows(vectors, cols, i, c, s);
       }
       if (deflated) continue;
       d[l] -= p;
@@ -83,15 +90,15 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
       e[m] = 0;
     }
   }
-  sortAscending(d, vectors, n);
+  sortAscending(d, vectors, n, cols);
   return d;
 }
 
 /** Rows i, i+1 of Zᵀ ← the Givens rotation (c, s) of the QL step, over contiguous memory. */
-function rotateRows(z: Float64Array, n: number, i: number, c: number, s: number): void {
-  const a = i * n;
-  const b = a + n;
-  for (let k = 0; k < n; k++) {
+function rotateRows(z: Float64Array, cols: number, i: number, c: number, s: number): void {
+  const a = i * cols;
+  const b = a + cols;
+  for (let k = 0; k < cols; k++) {
     const zi = z[a + k];
     const f = z[b + k];
     z[b + k] = s * zi + c * f;
@@ -99,14 +106,14 @@ function rotateRows(z: Float64Array, n: number, i: number, c: number, s: number)
   }
 }
 
-function sortAscending(d: Float64Array, vectors: Float64Array | null, n: number): void {
+function sortAscending(d: Float64Array, vectors: Float64Array | null, n: number, cols: number): void {
   const order = Array.from({ length: n }, (_, i) => i).sort((x, y) => d[x] - d[y]);
   if (order.every((v, i) => v === i)) return;
   const dv = Float64Array.from(order, (k) => d[k]);
   d.set(dv);
   if (vectors !== null) {
-    const copy = Float64Array.from(vectors.subarray(0, n * n));
-    for (let k = 0; k < n; k++) vectors.set(copy.subarray(order[k] * n, order[k] * n + n), k * n);
+    const copy = Float64Array.from(vectors.subarray(0, n * cols));
+    for (let k = 0; k < n; k++) vectors.set(copy.subarray(order[k] * cols, order[k] * cols + cols), k * cols);
   }
 }
 

@@ -1,0 +1,292 @@
+/**
+ * Matrix-free Lanczos iteration with full re-orthogonalization for the extreme eigenvalues of a
+ * symmetric operator, with residual bounds |β_m · s_{m,i}| (Golub & Van Loan, *Matrix
+ * Computations*, 4th ed., §10.1–10.3).
+ *
+ * Algorithm, per step j (q_0 a seeded normal unit vector):
+ * 1. w = A q_j; α_j = q_jᵀ w; w ← w − α_j q_j − β_{j−1} q_{j−1}.
+ * 2. Re-orthogonalize w against every q_0..q_j by classical Gram–Schmidt applied twice
+ *    ("twice is enough": Giraud, Langou & Rozložník 2005); α_j absorbs the first correction.
+ * 3. β_j = ‖w‖; q_{j+1} = w / β_j. When β_j vanishes the Krylov space is invariant; the run
+ *    continues from a fresh seeded vector orthogonal to the basis (β_j = 0 keeps T block
+ *    diagonal), which also lets it find further copies of a repeated eigenvalue.
+ * 4. The Ritz values θ_i of T_m and the last components s_{m,i} of T_m's eigenvectors give the
+ *    residual ‖A z_i − θ_i z_i‖ = |β_m s_{m,i}|; a wanted pair has converged when that residual is
+ *    at most `tol` times the largest |θ|.
+ */
+import type { Rng } from '../rng';
+import { dot } from '../objective';
+import type { IterationControl, LinearOperator, StopReason } from './operator';
+import { normalizeInPlace, reportProgress, stopRequested, subtractScaled } from './operator';
+import { tridiagonalEigen, tridiagonalQL } from './tridiagonal';
+
+/** The growing Krylov basis and tridiagonal coefficients of one Lanczos run. */
+export interface KrylovState {
+  readonly n: number;
+  /** Orthonormal basis q_0 … q_{m−1}; one more (q_m) is kept when the run can continue. */
+  readonly basis: Float64Array[];
+  /** T's diagonal α_0 … α_{m−1}. */
+  readonly alpha: number[];
+  /** T's off-diagonal: beta[j] couples j and j+1 (0 at a restart). */
+  readonly beta: number[];
+  /** Operator products spent. */
+  products: number;
+  /** True once the basis spans the whole space (no further step is possible). */
+  exhausted: boolean;
+  /** Steps after which the run continued from a fresh vector (an invariant subspace was found). */
+  readonly restarts: number[];
+}
+
+const BREAKDOWN = 1e-12;
+
+/** Orthogonalizes `w` twice against every vector of `basis` (CGS2); returns the first-pass coefficients' sum at `index`. */
+function reorthogonalize(w: Float64Array, basis: readonly Float64Array[], index: number): number {
+  let correction = 0;
+  for (let pass = 0; pass < 2; pass++) {
+    const h = basis.map((q) => dot(q, w));
+    basis.forEach((q, i) => subtractScaled(w, h[i], q));
+    if (pass === 0 && index >= 0) correction = h[index];
+  }
+  return correction;
+}
+
+/** A fresh seeded unit vector orthogonal to `basis`, or null when the basis spans the space. */
+function freshDirection(n: number, basis: readonly Float64Array[], rng: Rng): Float64Array | null {
+  if (basis.length >= n) return null;
+  for (let attempt = 0; attempt < 3; attempt++) {
+    const v = rng.fillNormal(new Float64Array(n));
+    const before = normalizeInPlace(v);
+    reorthogonalize(v, basis, -1);
+    const after = normalizeInPlace(v);
+    if (before > 0 && after > 1e-8) return v;
+  }
+  return null;
+}
+
+/**
+ * Starts a Lanczos run from a seeded standard-normal unit vector (or `start`, normalized).
+ * @param n - order of the operator.
+ */
+export function startKrylov(n: number, rng: Rng, start?: Float64Array): KrylovState {
+  if (!Number.isInteger(n) || n <= 0) throw new RangeError(`operator order must be a positive integer, got ${n}`);
+  const q = start !== undefined ? Float64Array.from(start) : rng.fillNormal(new Float64Array(n));
+  if (q.length !== n) throw new RangeError(`start vector has ${q.length} entries, expected ${n}`);
+  if (normalizeInPlace(q) === 0) throw new RangeError('start vector must be non-zero');
+  return { n, basis: [q], alpha: [], beta: [], products: 0, exhausted: false, restarts: [] };
+}
+
+/**
+ * One Lanczos step with full re-orthogonalization (steps 1–3 above) on `state`.
+ * @param restart - on an invariant subspace, continue from a fresh vector (extreme eigenvalues)
+ *   or stop (`false`, for quadrature, whose measure belongs to the start vector).
+ */
+export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, restart: boolean): void {
+  if (state.exhausted) return;
+  const { n, basis, alpha, beta } = state;
+  const j = alpha.length;
+  const q = basis[j];
+  const w = new Float64Array(n);
+  op(q, w);
+  state.products++;
+  let a = dot(q, w);
+  subtractScaled(w, a, q);
+  if (j > 0) subtractScaled(w, beta[j - 1], basis[j - 1]);
+  a += reorthogonalize(w, basis, j);
+  alpha.push(a);
+  let scale = 0;
+  for (const x of alpha) scale = Math.max(scale, Math.abs(x));
+  for (const x of beta) scale = Math.max(scale, Math.abs(x));
+  const b = Math.sqrt(dot(w, w));
+  if (b > BREAKDOWN * Math.max(scale, b) && basis.length < n) {
+    for (let i = 0; i < n; i++) w[i] /= b;
+    beta.push(b);
+    basis.push(w);
+    return;
+  }
+  const fresh = restart ? freshDirection(n, basis, rng) : null;
+  if (fresh === null) {
+    state.exhausted = true;
+    beta.push(0);
+    return;
+  }
+  beta.push(0);
+  basis.push(fresh);
+  state.restarts.push(alpha.length);
+}
+
+/** Options of {@link lanczosExtremes}. */
+export interface LanczosOptions extends IterationControl {
+  /** How many eigenvalues at each wanted end. Default 5. */
+  k?: number;
+  /** Which end(s): the algebraically largest, smallest (most negative), or both. Default `largest`. */
+  which?: 'largest' | 'smallest' | 'both';
+  /** Residual tolerance relative to the largest |Ritz value|. Default 1e-10. */
+  tol?: number;
+  /** Step cap (basis memory is maxIterations·n doubles). Default min(n, 300). */
+  maxIterations?: number;
+  /** Steps before convergence is first tested. Default min(n, k + 10). */
+  minIterations?: number;
+  /** Also form the Ritz vectors of the wanted pairs. Default false. */
+  vectors?: boolean;
+  /** Start vector (default: a seeded standard-normal draw from `rng`). */
+  start?: Float64Array;
+}
+
+/** One Ritz pair of a Lanczos run with its a-posteriori bounds. */
+export interface RitzPair {
+  /** Ritz value θ. */
+  readonly value: number;
+  /** ‖A z − θ z‖ = |β_m s_{m,i}| (Golub & Van Loan 4th ed., §10.1.4). */
+  readonly residual: number;
+  /** Bound on |θ − λ| for the nearest eigenvalue λ: min(r, r²/gap), gap estimated from the other Ritz values. */
+  readonly errorBound: number;
+  /** Whether `residual` ≤ tol·scale. */
+  readonly converged: boolean;
+  /** Unit Ritz vector when requested, else null. */
+  readonly vector: Float64Array | null;
+}
+
+/** Result of {@link lanczosExtremes}. */
+export interface LanczosResult {
+  /** The k largest Ritz pairs, descending (empty unless `which` is `largest` or `both`). */
+  readonly largest: RitzPair[];
+  /** The k smallest Ritz pairs, ascending (empty unless `which` is `smallest` or `both`). */
+  readonly smallest: RitzPair[];
+  /** Lanczos steps taken (= dimension of the final T). */
+  readonly iterations: number;
+  /** Operator products spent. */
+  readonly products: number;
+  /** Why the run ended. */
+  readonly stop: StopReason;
+  /** max |θ| of the final T, the scale of the relative tolerance. */
+  readonly scale: number;
+  /** The tolerance used. */
+  readonly tol: number;
+}
+
+interface RitzSnapshot {
+  values: Float64Array;
+  last: Float64Array;
+}
+
+function ritzSnapshot(state: KrylovState): RitzSnapshot {
+  const m = state.alpha.length;
+  const sub = new Float64Array(m);
+  for (let j = 1; j < m; j++) sub[j] = state.beta[j - 1];
+  const last = new Float64Array(m);
+  last[m - 1] = 1;
+  const values = tridiagonalQL({ diagonal: Float64Array.from(state.alpha), subdiagonal: sub }, last, 1);
+  return { values, last };
+}
+
+function wantedIndices(m: number, k: number, which: 'largest' | 'smallest' | 'both'): { top: number[]; bottom: number[] } {
+  const kk = Math.min(k, m);
+  const top = which === 'smallest' ? [] : Array.from({ length: kk }, (_, i) => m - 1 - i);
+  const bottom = which === 'largest' ? [] : Array.from({ length: kk }, (_, i) => i);
+  return { top, bottom };
+}
+
+/**
+ * The k largest and/or smallest eigenvalues of the symmetric operator `op` of order n by Lanczos
+ * with full re-orthogonalization, stopping when every wanted residual bound |β_m s_{m,i}| is at
+ * most `tol`·max|θ| (Golub & Van Loan 4th ed., §10.1–10.3).
+ *
+ * @param op - out ← A·v (A symmetric).
+ * @param rng - seeded generator for the start vector and restarts.
+ */
+export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options: LanczosOptions = {}): LanczosResult {
+  const k = options.k ?? 5;
+  const which = options.which ?? 'largest';
+  const tol = options.tol ?? 1e-10;
+  if (!Number.isInteger(k) || k < 1) throw new RangeError(`k must be a positive integer, got ${k}`);
+  if (!(tol > 0)) throw new RangeError(`tol must be positive, got ${tol}`);
+  const maxIterations = Math.min(n, options.maxIterations ?? 300);
+  const minIterations = Math.min(maxIterations, options.minIterations ?? k + 10);
+  if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new RangeError(`maxIterations must be a positive integer, got ${options.maxIterations}`);
+  const state = startKrylov(n, rng, options.start);
+  let stop: StopReason = 'max-iterations';
+  let snap: RitzSnapshot = { values: new Float64Array(0), last: new Float64Array(0) };
+  let scale = 0;
+  while (state.alpha.length < maxIterations) {
+    if (stopRequested(options)) {
+      stop = 'cancelled';
+      break;
+    }
+    lanczosStep(op, state, rng, true);
+    const m = state.alpha.length;
+    snap = ritzSnapshot(state);
+    scale = Math.max(Math.abs(snap.values[0]), Math.abs(snap.values[m - 1]));
+    const bm = state.beta[m - 1];
+    const { top, bottom } = wantedIndices(m, k, which);
+    const wanted = [...top, ...bottom];
+    const done = wanted.filter((i) => Math.abs(bm * snap.last[i]) <= tol * scale).length;
+    // After a restart the new block needs its own steps before the ends can be trusted.
+    const sinceRestart = m - (state.restarts.length > 0 ? state.restarts[state.restarts.length - 1] : 0);
+    const settled = state.restarts.length === 0 ? m >= minIterations : sinceRestart >= Math.min(minIterations, n - m + sinceRestart);
+    const converged = state.exhausted || (settled && sinceRestart > 0 && done === wanted.length);
+    if (state.exhausted) stop = 'exhausted';
+    else if (converged) stop = 'converged';
+    const cancel = reportProgress(options, {
+      phase: 'lanczos',
+      done: m,
+      total: maxIterations,
+      products: state.products,
+      detail: `${state.exhausted ? wanted.length : done} of ${wanted.length} converged`,
+    });
+    if (converged) break;
+    if (cancel) {
+      stop = 'cancelled';
+      break;
+    }
+  }
+  return assemble(state, snap, scale, k, which, tol, stop, options.vectors === true);
+}
+
+function assemble(
+  state: KrylovState,
+  snap: RitzSnapshot,
+  scale: number,
+  k: number,
+  which: 'largest' | 'smallest' | 'both',
+  tol: number,
+  stop: StopReason,
+  wantVectors: boolean
+): LanczosResult {
+  const m = state.alpha.length;
+  const { top, bottom } = wantedIndices(m, k, which);
+  const bm = state.exhausted ? 0 : m > 0 ? state.beta[m - 1] : 0;
+  let s: Float64Array | null = null;
+  if (wantVectors && m > 0) {
+    const sub = new Float64Array(m);
+    for (let j = 1; j < m; j++) sub[j] = state.beta[j - 1];
+    s = tridiagonalEigen({ diagonal: Float64Array.from(state.alpha), subdiagonal: sub }, true).vectors;
+  }
+  const pair = (i: number): RitzPair => {
+    const value = snap.values[i];
+    const residual = Math.abs(bm * snap.last[i]);
+    let gap = Infinity;
+    if (i > 0) gap = Math.min(gap, value - snap.values[i - 1]);
+    if (i + 1 < m) gap = Math.min(gap, snap.values[i + 1] - value);
+    const errorBound = Math.min(residual, gap > 0 ? (residual * residual) / gap : residual);
+    let vector: Float64Array | null = null;
+    if (s !== null) {
+      vector = new Float64Array(state.n);
+      for (let j = 0; j < m; j++) {
+        const c = s[i * m + j];
+        const q = state.basis[j];
+        for (let t = 0; t < state.n; t++) vector[t] += c * q[t];
+      }
+      normalizeInPlace(vector);
+    }
+    return { value, residual, errorBound, converged: residual <= tol * scale, vector };
+  };
+  return {
+    largest: top.map(pair),
+    smallest: bottom.map(pair),
+    iterations: m,
+    products: state.products,
+    stop,
+    scale,
+    tol,
+  };
+}

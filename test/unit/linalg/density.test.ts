@@ -1,0 +1,88 @@
+import { densityMassBelow, hutchinsonTrace, spectralDensity } from '../../../src/core/linalg/density';
+import { eigenvalues } from '../../../src/core/linalg/symmetric-eigen';
+import { Rng } from '../../../src/core/rng';
+import { graded, matvec, spiked } from '../../reference/curvature/fixtures';
+
+function trace(a: Float64Array, n: number): number {
+  let t = 0;
+  for (let i = 0; i < n; i++) t += a[i * n + i];
+  return t;
+}
+
+function trapezoid(x: Float64Array, y: Float64Array): number {
+  let s = 0;
+  for (let i = 1; i < x.length; i++) s += 0.5 * (x[i] - x[i - 1]) * (y[i] + y[i - 1]);
+  return s;
+}
+
+describe('spectralDensity (stochastic Lanczos quadrature)', () => {
+  const n = 300;
+  const a = spiked(n, 21);
+  const d = spectralDensity(matvec(a, n), n, Rng.fromSeed(42), { probes: 10, steps: 60 });
+
+  it('integrates to 1 on its grid and each probe’s weights sum to 1', () => {
+    // source: Gauss quadrature weights of a unit start vector sum to ‖v‖² = 1 (Golub & Meurant 2010, ch. 6).
+    for (const w of d.weights) expect(w.reduce((s, x) => s + x, 0)).toBeCloseTo(1, 12);
+    expect(trapezoid(d.grid, d.density)).toBeCloseTo(1, 6);
+  });
+
+  it('has a mean within 3 standard errors of tr(A)/n (seed 42, 10 probes)', () => {
+    // source: E[vᵀAv] = tr(A)/n for v uniform on the unit sphere (Ubaru, Chen & Saad 2017, §2).
+    const exact = trace(a, n) / n;
+    expect(Math.abs(d.mean - exact)).toBeLessThan(3 * d.meanStandardError);
+    // The grid density's first moment equals the nodes' mean (the kernel is symmetric).
+    let m1 = 0;
+    const t = Float64Array.from(d.grid, (x, i) => x * d.density[i]);
+    m1 = trapezoid(d.grid, t);
+    expect(m1).toBeCloseTo(d.mean, 5);
+  });
+
+  it('covers the extreme eigenvalues with its nodes (Gauss nodes converge to the ends first)', () => {
+    // source: Golub & Van Loan 4th ed., §10.1.5 (extreme Ritz values converge first).
+    const all = eigenvalues(a, n);
+    const maxNode = Math.max(...d.nodes.map((th) => th[th.length - 1]));
+    const minNode = Math.min(...d.nodes.map((th) => th[0]));
+    expect(Math.abs(maxNode - all[n - 1])).toBeLessThan(1e-8 * Math.abs(all[n - 1]));
+    expect(Math.abs(minNode - all[0])).toBeLessThan(1e-8 * Math.abs(all[0]));
+  });
+
+  it('estimates the negative share near the exact fraction of negative eigenvalues', () => {
+    // common practice (no single source): SLQ's node weights estimate the spectral CDF to about 1/√(probes·n) noise
+    const all = eigenvalues(a, n);
+    const exact = all.filter((x) => x < -1e-6 * Math.abs(all[n - 1])).length / n;
+    expect(Math.abs(d.negativeShare - exact)).toBeLessThan(0.1);
+    expect(Math.abs(densityMassBelow(d, 0) - exact)).toBeLessThan(0.1);
+    expect(densityMassBelow(d, d.grid[d.grid.length - 1])).toBeCloseTo(1, 6);
+  });
+
+  it('stops after the probe whose progress callback returns false', () => {
+    const r = spectralDensity(matvec(a, n), n, Rng.fromSeed(1), { probes: 5, steps: 20, onProgress: (p) => p.done < 2 });
+    expect(r.probes).toBe(2);
+    expect(r.stop).toBe('cancelled');
+    expect(r.products).toBe(40);
+  });
+});
+
+describe('hutchinsonTrace', () => {
+  it.each([
+    ['spiked n=300, seed 3', () => spiked(300, 21), 300, 3],
+    ['graded n=400, seed 4', () => graded(400, 22), 400, 4],
+  ] as const)('%s: within 3 standard errors of the exact trace', (_name, make, n, seed) => {
+    // source: Hutchinson 1989 — E[zᵀAz] = tr(A) for Rademacher z; the sample mean's standard error is s/√N.
+    const a = make();
+    const t = hutchinsonTrace(matvec(a, n), n, Rng.fromSeed(seed), { probes: 64 });
+    expect(t.probes).toBe(64);
+    expect(Math.abs(t.estimate - trace(a, n))).toBeLessThan(3 * t.standardError);
+    expect(t.standardError).toBeGreaterThan(0);
+  });
+
+  it('is exact for a diagonal matrix (zᵀDz = tr D for every Rademacher z)', () => {
+    // source: Hutchinson 1989 — the estimator's variance is 2 Σ_{i≠j} A_ij², zero for diagonal A.
+    const n = 20;
+    const a = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) a[i * n + i] = i - 7.5;
+    const t = hutchinsonTrace(matvec(a, n), n, Rng.fromSeed(9), { probes: 5 });
+    expect(t.estimate).toBeCloseTo(trace(a, n), 12);
+    expect(t.standardError).toBeCloseTo(0, 12);
+  });
+});
