@@ -1,0 +1,396 @@
+/**
+ * The controller of one stepwell cell: reads the ledger, drives the engine, keeps the
+ * view state, and writes the whole ledger back after each completed action. No DOM and no
+ * JupyterLab imports; views subscribe to {@link CellController.changed}.
+ */
+import { Signal } from '@lumino/signaling';
+import type { ISignal } from '@lumino/signaling';
+import type { StepRecord } from '../core/state';
+import type { EngineClient, FinalReply, ProgressReply, RequestBody } from '../worker/client';
+import type { StopCondition } from '../worker/protocol';
+import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
+import { cellSummary, markdownSummary, meanMs, problemLine, verifyLine, PROXY_NOTE } from './summary';
+import type { CellViewState, Notice, ReadoutTab } from './view-state';
+import { initialViewState } from './view-state';
+
+/** Collaborators of a {@link CellController}. */
+export interface ControllerDeps {
+  host: CellHost;
+  /** Starts an engine (a Worker in the browser, an in-process host in tests). */
+  engine: () => EngineClient;
+  ledger: LedgerGlue;
+  checkSpec: SpecChecker;
+  settings: () => CellSettings;
+}
+
+/** Drives one stepwell cell. */
+export class CellController {
+  private readonly deps: ControllerDeps;
+  private st: CellViewState = initialViewState();
+  private readonly changedSignal = new Signal<this, CellViewState>(this);
+  private engine: EngineClient | null = null;
+  /** True when the engine holds the session shown in the state. */
+  private engineInSync = false;
+  /** The ledger content last read or written: what a lazily started engine resumes from. */
+  private content: LedgerContent | null = null;
+  private disposedFlag = false;
+
+  /** @param deps - the cell, engine factory, ledger glue, spec checker and settings. */
+  constructor(deps: ControllerDeps) {
+    this.deps = deps;
+    this.readLedger();
+  }
+
+  /** Fires with the new state after every change. */
+  get changed(): ISignal<this, CellViewState> {
+    return this.changedSignal;
+  }
+
+  /** The current view state (replace-only; do not mutate). */
+  get state(): CellViewState {
+    return this.st;
+  }
+
+  /** True after {@link dispose}. */
+  get isDisposed(): boolean {
+    return this.disposedFlag;
+  }
+
+  /** Ends the engine and disconnects views. Idempotent. */
+  dispose(): void {
+    if (this.disposedFlag) return;
+    this.disposedFlag = true;
+    this.engine?.dispose();
+    this.engine = null;
+    Signal.clearData(this);
+  }
+
+  private set(patch: Partial<CellViewState>): void {
+    if (this.disposedFlag) return;
+    this.st = { ...this.st, ...patch };
+    this.changedSignal.emit(this.st);
+  }
+
+  private notice(level: Notice['level'], text: string): void {
+    this.set({ notice: { level, text } });
+  }
+
+  /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
+  readLedger(): void {
+    const read = this.deps.ledger.read(this.deps.host.readLedger());
+    const source = this.deps.host.readSource();
+    switch (read.kind) {
+      case 'absent':
+        this.content = null;
+        this.set({ ledger: 'absent', ledgerMessage: undefined, problems: this.deps.checkSpec(source) });
+        return;
+      case 'corrupt':
+        this.content = null;
+        this.set({
+          ledger: 'corrupt',
+          ledgerMessage: read.message,
+          sessionSpec: null,
+          summary: null,
+          trajectory: [],
+          problems: this.deps.checkSpec(source),
+          notice: {
+            level: 'error',
+            text:
+              `The saved Stepwell ledger of this cell cannot be read: ${read.message}. ` +
+              'The spec text is untouched. "Start over" replaces the unreadable ledger with a new session at step 0.'
+          }
+        });
+        return;
+      case 'ok':
+        this.content = read.content;
+        this.engineInSync = false;
+        this.set({
+          ledger: 'ok',
+          ledgerMessage: undefined,
+          sessionSpec: read.content.specText,
+          specEdited: source !== read.content.specText,
+          summary: read.content.summary,
+          trajectory: read.content.trajectory,
+          problems: this.deps.checkSpec(source)
+        });
+        return;
+    }
+  }
+
+  /** Re-checks the editor's text (call on source changes, debounced). */
+  sourceChanged(): void {
+    const source = this.deps.host.readSource();
+    this.set({
+      problems: this.deps.checkSpec(source),
+      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
+    });
+  }
+
+  /** Switches the readout tab. */
+  setTab(tab: ReadoutTab): void {
+    this.set({ tab });
+  }
+
+  /** Opens or closes an inline form. */
+  setForm(form: CellViewState['form']): void {
+    this.set({ form });
+  }
+
+  /**
+   * Runs the cell (Shift+Enter): starts a new session from the editor's text when it
+   * changed (or none exists), else keeps the session and refreshes the outputs.
+   *
+   * @param force - also replace an unreadable ledger.
+   * @returns true when the cell now holds a session for its text.
+   */
+  async run(force = false): Promise<boolean> {
+    if (this.st.busy !== null) {
+      this.notice('warn', `Busy with ${this.st.busy.action}: stop it first.`);
+      return false;
+    }
+    const source = this.deps.host.readSource();
+    const problems = this.deps.checkSpec(source);
+    this.set({ problems });
+    if (problems.length > 0) {
+      if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(problems.map(problemLine)));
+      this.notice('error', `The spec has ${problems.length} problem${problems.length > 1 ? 's' : ''}; nothing was run.`);
+      return false;
+    }
+    if (this.st.ledger === 'corrupt' && !force) {
+      this.notice('error', 'The saved ledger cannot be read; press "Start over" to replace it with a new session.');
+      return false;
+    }
+    if (this.st.ledger === 'ok' && this.st.sessionSpec === source) {
+      this.writeOutputs();
+      return true;
+    }
+    return this.loadFresh(source);
+  }
+
+  /** Discards the session and starts again at step 0 from the editor's current text. */
+  async reset(): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    const source = this.deps.host.readSource();
+    const problems = this.deps.checkSpec(source);
+    if (problems.length > 0) {
+      this.set({ problems, notice: { level: 'error', text: 'Fix the spec before resetting; nothing was changed.' } });
+      return false;
+    }
+    return this.loadFresh(source);
+  }
+
+  private async loadFresh(source: string): Promise<boolean> {
+    const engine = this.ensureEngine();
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, verify: null });
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
+    this.set({ busy: null });
+    if (reply.kind === 'spec-errors') {
+      this.set({ problems: reply.errors });
+      this.notice('error', 'The engine rejected the spec; see the problems above.');
+      return false;
+    }
+    if (reply.kind !== 'ready') return this.failed(reply);
+    this.engineInSync = true;
+    this.set({
+      ledger: 'ok',
+      ledgerMessage: undefined,
+      sessionSpec: source,
+      specEdited: false,
+      summary: reply.summary,
+      trajectory: reply.trajectory,
+      warnings: reply.warnings,
+      msPerStep: undefined,
+      notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
+    });
+    return this.persist();
+  }
+
+  private ensureEngine(): EngineClient {
+    if (this.engine === null) {
+      this.engine = this.deps.engine();
+      this.engineInSync = false;
+    }
+    return this.engine;
+  }
+
+  /** Makes sure the engine holds the session in the state (resuming from the ledger). */
+  private async syncEngine(): Promise<EngineClient | null> {
+    const engine = this.ensureEngine();
+    if (this.engineInSync) return engine;
+    const c = this.content;
+    if (c === null) {
+      this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
+      return null;
+    }
+    const reply = await engine.request({
+      kind: 'load',
+      specText: c.specText,
+      checkpointEvery: this.deps.settings().checkpointEvery,
+      resume: { state: c.state, trajectory: c.trajectory, checkpoints: c.checkpoints }
+    });
+    if (reply.kind === 'spec-errors') {
+      this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
+      return null;
+    }
+    if (reply.kind !== 'ready') {
+      this.failed(reply);
+      return null;
+    }
+    this.engineInSync = true;
+    return engine;
+  }
+
+  /** Advances `n` optimizer steps (default: the "Step ×N" setting). */
+  step(n = this.deps.settings().defaultN): Promise<boolean> {
+    return this.stepping(`Step ×${n}`, { kind: 'step', n }, n);
+  }
+
+  /** Steps until `condition` holds, at most `maxSteps` steps. */
+  runUntil(condition: StopCondition, maxSteps: number): Promise<boolean> {
+    this.set({ runUntil: { condition, maxSteps }, form: null });
+    return this.stepping(`Run until (max ${maxSteps})`, { kind: 'run-until', condition, maxSteps }, maxSteps);
+  }
+
+  private async stepping(action: string, body: RequestBody, total: number): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    if (this.st.specEdited) {
+      this.notice('warn', 'The spec was edited since this session started: run the cell or Reset to apply it, or undo the edit to continue.');
+      return false;
+    }
+    const engine = await this.syncEngine();
+    if (engine === null) return false;
+    const produced: StepRecord[] = [];
+    this.set({ busy: { action, done: 0, total }, notice: null, verify: null });
+    const onProgress = (p: ProgressReply): void => {
+      produced.push(...p.records);
+      this.set({ busy: { action, done: p.done, total }, trajectory: this.st.trajectory.concat(p.records) });
+    };
+    const reply = await engine.request(body, onProgress);
+    if (reply.kind !== 'stepped') {
+      this.set({ busy: null });
+      return this.failed(reply);
+    }
+    produced.push(...reply.records);
+    const last = reply.records.length > 0 ? reply.records[reply.records.length - 1] : undefined;
+    let notice: Notice | null = null;
+    switch (reply.reason) {
+      case 'stopped':
+        notice = { level: 'info', text: `Stopped at step ${reply.summary.step}.` };
+        break;
+      case 'non-finite':
+        notice = {
+          level: 'error',
+          text: `The loss became non-finite at step ${last?.step ?? reply.summary.step}: the recipe diverged. Rewind or change the recipe.`
+        };
+        break;
+      case 'condition':
+        notice = { level: 'info', text: `Condition met at step ${reply.summary.step}.` };
+        break;
+      case 'done':
+        break;
+    }
+    this.set({
+      busy: null,
+      summary: reply.summary,
+      trajectory: this.st.trajectory.concat(reply.records),
+      msPerStep: meanMs(produced),
+      notice
+    });
+    return this.persist();
+  }
+
+  /** Rewinds to `step` (≤ the current step), replaying from the nearest checkpoint. */
+  async rewind(step: number): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    const engine = await this.syncEngine();
+    if (engine === null) return false;
+    this.set({ busy: { action: `Rewind to ${step}`, done: 0, total: 0 }, form: null });
+    const reply = await engine.request({ kind: 'rewind', step }, p =>
+      this.set({ busy: { action: `Rewind to ${step}`, done: p.done, total: p.total } })
+    );
+    this.set({ busy: null });
+    if (reply.kind !== 'rewound') return this.failed(reply);
+    this.set({ summary: reply.summary, trajectory: reply.trajectory, audit: null, verify: null, notice: null });
+    return this.persist();
+  }
+
+  /** Runs the gradient audit at the current parameters. */
+  async audit(): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    const engine = await this.syncEngine();
+    if (engine === null) return false;
+    this.set({ busy: { action: 'Gradient audit', done: 0, total: 0 } });
+    const reply = await engine.request({ kind: 'gradcheck', sample: this.deps.settings().auditSample });
+    this.set({ busy: null });
+    if (reply.kind !== 'audit') return this.failed(reply);
+    this.set({ audit: { step: reply.step, result: reply.result }, tab: 'audit' });
+    return true;
+  }
+
+  /** Replays from the seed and compares with the current session. */
+  async verify(): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    const engine = await this.syncEngine();
+    if (engine === null) return false;
+    const total = this.st.summary?.step ?? 0;
+    this.set({ busy: { action: 'Verify', done: 0, total }, verify: null });
+    const reply = await engine.request({ kind: 'verify' }, p =>
+      this.set({ busy: { action: 'Verify', done: p.done, total: p.total } })
+    );
+    this.set({ busy: null });
+    if (reply.kind !== 'verified') return this.failed(reply);
+    const ok = reply.result.match === 'bit-identical';
+    this.set({ verify: reply.result, notice: { level: ok ? 'info' : 'error', text: verifyLine(reply.result) } });
+    return ok;
+  }
+
+  /** Asks the engine to end the running action early. */
+  stop(): void {
+    this.engine?.stop();
+  }
+
+  private failed(reply: FinalReply): false {
+    const text = reply.kind === 'failed' ? reply.message : `unexpected engine reply '${reply.kind}'`;
+    this.notice('error', `Stepwell engine: ${text}`);
+    return false;
+  }
+
+  /** Snapshots the session and writes the whole ledger and the outputs. */
+  private async persist(): Promise<boolean> {
+    const engine = this.engine;
+    if (engine === null || this.st.sessionSpec === null) return false;
+    const snap = await engine.request({ kind: 'snapshot' });
+    if (snap.kind !== 'snapshot') return this.failed(snap);
+    const content: LedgerContent = {
+      specText: this.st.sessionSpec,
+      summary: snap.summary,
+      state: snap.state,
+      trajectory: snap.trajectory,
+      checkpoints: snap.checkpoints
+    };
+    let built: { value: object; bytes: number };
+    try {
+      built = this.deps.ledger.build(content, this.deps.settings().checkpointCap);
+    } catch (error) {
+      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${String((error as Error).message ?? error)}`);
+      return false;
+    }
+    this.deps.host.writeLedger(built.value);
+    this.content = content;
+    this.set({ ledgerBytes: built.bytes, summary: snap.summary });
+    this.writeOutputs();
+    return true;
+  }
+
+  private writeOutputs(): void {
+    const s = this.st.summary;
+    if (s === null) return;
+    const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
+    this.deps.host.writeOutputs(summary, markdownSummary(summary));
+  }
+}
+
+/** The markdown fallback for a cell whose spec does not parse yet. */
+export function errorMarkdown(lines: string[]): string {
+  return ['**Stepwell experiment**: the spec has problems.', '', ...lines.map(l => `- ${l.replace(/[<>*_`]/g, c => `\\${c}`)}`), '', `*${PROXY_NOTE}*`].join('\n');
+}

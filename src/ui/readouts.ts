@@ -1,0 +1,109 @@
+/**
+ * The readout panels other than the loss trace, as functions from plain data to DOM.
+ * They show numbers the engine computed; nothing is recomputed here.
+ */
+import type { StepRecord } from '../core/state';
+import type { AuditResult } from '../core/probe/gradcheck';
+import { el, textTable } from './dom';
+import { auditRows, fmt } from './summary';
+
+/** CSS class names of the readouts. */
+export namespace ReadoutClass {
+  export const table = 'sw-Table';
+  export const note = 'sw-Note';
+  export const verdict = 'sw-Verdict';
+}
+
+/**
+ * Per-layer numbers of the latest step: ‖W‖, ‖∇W‖ and the update ratio ‖ΔW‖/‖W‖.
+ */
+export function layersPanel(last: StepRecord | undefined): HTMLElement {
+  const box = el('div', 'sw-Readout');
+  if (last === undefined || last.layers.length === 0) {
+    box.appendChild(
+      el('p', ReadoutClass.note, last === undefined ? 'No session yet.' : 'This objective has no layers.')
+    );
+    return box;
+  }
+  if (last.step === 0) {
+    box.appendChild(el('p', ReadoutClass.note, 'Take a step: the per-layer numbers describe an update.'));
+  }
+  const rows = last.layers.map(l => [String(l.layer), fmt(l.weightNorm), fmt(l.gradNorm), fmt(l.updateRatio)]);
+  box.appendChild(textTable(ReadoutClass.table, ['layer', '‖W‖', '‖∇W‖', '‖ΔW‖ / ‖W‖'], rows));
+  box.appendChild(
+    el(
+      'p',
+      ReadoutClass.note,
+      `Step ${last.step}. The update ratio is often healthy near 1e-3 (a rule of thumb): far above, the step is ` +
+        'large for that layer; far below, the layer barely moves. Activation health is coming in a later version.'
+    )
+  );
+  return box;
+}
+
+/** The gradient-audit table: one row per parameter block, then the step-size sweep. */
+export function auditPanel(audit: { step: number; result: AuditResult } | null, onRun: () => void, busy: boolean): HTMLElement {
+  const box = el('div', 'sw-Readout');
+  const run = el('button', 'jp-Button sw-Button', audit === null ? 'Run gradient audit' : 'Run again');
+  run.type = 'button';
+  run.disabled = busy;
+  run.title = 'Compare the exact gradient with central differences at the current parameters';
+  run.addEventListener('click', onRun);
+  box.appendChild(run);
+  if (audit === null) {
+    box.appendChild(
+      el('p', ReadoutClass.note, 'Compares the exact gradient with central finite differences on sampled entries.')
+    );
+    return box;
+  }
+  const r = audit.result;
+  const rows = auditRows(r);
+  box.appendChild(
+    el(
+      'p',
+      ReadoutClass.note,
+      `At step ${audit.step}: ${r.checked} of ${r.parameterCount} entries ${r.sampled ? '(a seeded sample) ' : ''}checked ` +
+        `with difference step h = ${r.h.toExponential(0)}; overall ${r.verdict}, worst relative error ${r.maxRelError.toExponential(2)}.`
+    )
+  );
+  box.appendChild(
+    textTable(
+      `${ReadoutClass.table} sw-AuditTable`,
+      ['layer', 'checked', 'max rel. error', 'median rel. error', 'worst entry', 'verdict'],
+      rows.map(x => [x.name, x.checked, x.max, x.median, x.worst, x.verdict]),
+      i => `${ReadoutClass.verdict}-${rows[i].verdict}`
+    )
+  );
+  if (r.sweep.length > 0) {
+    box.appendChild(
+      textTable(
+        `${ReadoutClass.table} sw-SweepTable`,
+        ['h', 'max rel. error', 'median rel. error'],
+        r.sweep.map(p => [p.h.toExponential(0), p.maxRelError.toExponential(2), p.medianRelError.toExponential(2)])
+      )
+    );
+    box.appendChild(
+      el(
+        'p',
+        ReadoutClass.note,
+        'If the error falls as h shrinks and then rises again, the remaining error is round-off, not a wrong derivative.'
+      )
+    );
+  }
+  box.appendChild(
+    el(
+      'p',
+      ReadoutClass.note,
+      'Relative error |a − n| / max(|a|, |n|) below 1e-7: right; up to 1e-4: acceptable; up to 1e-2: suspicious ' +
+        '(acceptable near kinks such as ReLU at 0); above 1e-2: wrong. Thresholds from the Stanford CS231n notes on gradient checking.'
+    )
+  );
+  return box;
+}
+
+/** The placeholder of a readout that is not built yet. */
+export function comingPanel(what: string): HTMLElement {
+  const box = el('div', 'sw-Readout');
+  box.appendChild(el('p', ReadoutClass.note, `${what} is coming in a later version of Stepwell; it is not computed yet.`));
+  return box;
+}

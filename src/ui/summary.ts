@@ -1,0 +1,166 @@
+/**
+ * Text the cell shows and writes: the status line, the small summary carried by our mime
+ * bundle, the markdown fallback that any viewer without Stepwell renders, and the audit
+ * table's rows. Pure functions of plain data.
+ */
+import type { StepRecord } from '../core/state';
+import type { AuditResult, AuditVerdict } from '../core/probe/gradcheck';
+import type { SessionSummary, SpecProblem, VerifyResult } from '../worker/protocol';
+
+/** Our mime type: its renderer is the live cell widget. */
+export const STEPWELL_MIME = 'application/vnd.stepwell.cell+json';
+
+/** The plain note shown in the widget and in every static summary. */
+export const PROXY_NOTE =
+  'Readouts come from a small proxy experiment run in the browser. They are evidence about this ' +
+  'setup and recipe, not a guarantee of how the full-scale model and data will behave.';
+
+/** Summary carried by our mime bundle (JSON-safe: non-finite numbers become null). */
+export interface CellSummary {
+  /** Format version of this payload. */
+  version: 1;
+  step: number;
+  loss: number | null;
+  heldOutLoss: number | null;
+  recipe: string;
+  setup: string;
+  fingerprint: string;
+  parameterCount: number;
+}
+
+const jsonNumber = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
+
+/** Formats a loss or norm for display: 6 significant digits, `NaN`/`∞` spelled out. */
+export function fmt(v: number | null | undefined): string {
+  if (v === null || v === undefined) return '—';
+  if (Number.isNaN(v)) return 'NaN';
+  if (!Number.isFinite(v)) return v > 0 ? '∞' : '−∞';
+  if (v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6)) return v.toExponential(3);
+  return String(Number(v.toPrecision(6)));
+}
+
+/** Short fingerprint for display (first 12 hex digits). */
+export function shortPrint(fingerprint: string): string {
+  return fingerprint.slice(0, 12);
+}
+
+/** Builds the mime-bundle summary from the session summary and the trajectory's last record. */
+export function cellSummary(summary: SessionSummary, last: StepRecord | undefined): CellSummary {
+  return {
+    version: 1,
+    step: summary.step,
+    loss: jsonNumber(last?.loss),
+    heldOutLoss: jsonNumber(last?.heldOutLoss),
+    recipe: summary.recipe,
+    setup: summary.setup,
+    fingerprint: summary.fingerprint,
+    parameterCount: summary.parameterCount
+  };
+}
+
+/** Escapes characters that markdown would interpret, so user text stays literal. */
+export function escapeMarkdown(text: string): string {
+  return text.replace(/[\\`*_[\]<>|#~]/g, c => `\\${c}`);
+}
+
+/**
+ * The `text/markdown` fallback: a static summary readable in any notebook viewer.
+ */
+export function markdownSummary(s: CellSummary): string {
+  const lines = [
+    `**Stepwell experiment** at step ${s.step}`,
+    '',
+    `| | |`,
+    `| --- | --- |`,
+    `| training loss | ${escapeMarkdown(fmt(s.loss))} |`
+  ];
+  if (s.heldOutLoss !== null) lines.push(`| held-out loss | ${escapeMarkdown(fmt(s.heldOutLoss))} |`);
+  lines.push(
+    `| setup | ${escapeMarkdown(s.setup)} (${s.parameterCount} parameters) |`,
+    `| recipe | ${escapeMarkdown(s.recipe)} |`,
+    `| fingerprint | \`${s.fingerprint.replace(/[^0-9a-f]/g, '')}\` |`,
+    '',
+    `*${escapeMarkdown(PROXY_NOTE)}*`,
+    '',
+    '*Open this notebook in JupyterLab with the Stepwell extension to step, audit and verify the experiment.*'
+  );
+  return lines.join('\n');
+}
+
+/** Inputs of the status line. */
+export interface StatusInputs {
+  step: number;
+  last: StepRecord | undefined;
+  /** Mean wall time per step of the last stepping action, ms. */
+  msPerStep?: number;
+  /** Ledger size in bytes. */
+  ledgerBytes?: number;
+}
+
+/** Human size: `812 B`, `14.2 kB`, `1.3 MB`. */
+export function bytes(n: number): string {
+  if (n < 1000) return `${n} B`;
+  if (n < 1e6) return `${(n / 1000).toFixed(1)} kB`;
+  return `${(n / 1e6).toFixed(1)} MB`;
+}
+
+/** The status line: `step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB`. */
+export function statusLine(s: StatusInputs): string {
+  const parts = [`step ${s.step}`, `loss ${fmt(s.last?.loss)}`];
+  if (s.last?.heldOutLoss !== undefined) parts.push(`held-out ${fmt(s.last.heldOutLoss)}`);
+  if (s.msPerStep !== undefined && Number.isFinite(s.msPerStep)) {
+    parts.push(s.msPerStep < 1 ? `${s.msPerStep.toFixed(2)} ms/step` : `${s.msPerStep.toFixed(1)} ms/step`);
+  }
+  if (s.ledgerBytes !== undefined) parts.push(`ledger ${bytes(s.ledgerBytes)}`);
+  return parts.join(' · ');
+}
+
+/** Mean wall time per step over records (ms), or undefined when there are none. */
+export function meanMs(records: readonly StepRecord[]): number | undefined {
+  const timed = records.filter(r => r.step > 0);
+  if (timed.length === 0) return undefined;
+  return timed.reduce((a, r) => a + r.ms, 0) / timed.length;
+}
+
+/** One spec problem as `line N: message` (or `path: message` when the line is unknown). */
+export function problemLine(p: SpecProblem): string {
+  const where = p.line !== undefined ? `line ${p.line}${p.col !== undefined ? `:${p.col}` : ''}` : p.path || 'spec';
+  const path = p.line !== undefined && p.path ? ` (${p.path})` : '';
+  return `${where}${path}: ${p.message}`;
+}
+
+/** The verify outcome as one sentence. */
+export function verifyLine(v: VerifyResult): string {
+  if (v.match === 'bit-identical') {
+    return `Replayed ${v.steps} steps from the seed: bit-identical (fingerprint ${shortPrint(v.actual)}).`;
+  }
+  return (
+    `Replayed ${v.steps} steps from the seed: differs at step ${v.firstDifferingStep ?? v.steps} ` +
+    `(expected ${shortPrint(v.expected)}, replay reached ${shortPrint(v.actual)}).`
+  );
+}
+
+/** A display row of the gradient-audit table. */
+export interface AuditDisplayRow {
+  /** Layer label and the blocks it covers. */
+  name: string;
+  max: string;
+  median: string;
+  /** Block and flat index of the worst entry. */
+  worst: string;
+  /** `checked / total` entries. */
+  checked: string;
+  verdict: AuditVerdict;
+}
+
+/** Formats audit rows for the table (the verdicts come from the engine; nothing recomputed). */
+export function auditRows(a: AuditResult): AuditDisplayRow[] {
+  return a.layers.map(l => ({
+    name: l.layer >= 0 ? `layer ${l.layer} (${l.blocks.join(', ')})` : l.blocks.join(', '),
+    max: l.maxRelError.toExponential(2),
+    median: l.medianRelError.toExponential(2),
+    worst: `${l.worstBlock} @ ${l.worstIndex}`,
+    checked: `${l.checked} / ${l.total}`,
+    verdict: l.verdict
+  }));
+}

@@ -1,0 +1,179 @@
+/**
+ * The loss-trace figure as plain data: a pure function of the trajectory and the theme
+ * colours, rendered by the thin plotly wrapper in `plot.ts`. No DOM, no plotly import, so
+ * figures are tested in Node.
+ */
+import type { StepRecord } from '../core/state';
+
+/** Colours and font read from the page's theme (JupyterLab CSS variables). */
+export interface FigureTheme {
+  /** Text and axis lines. */
+  foreground: string;
+  /** Grid lines. */
+  grid: string;
+  /** Plot and paper background. */
+  background: string;
+  /** Training-loss line. */
+  train: string;
+  /** Held-out loss line. */
+  heldOut: string;
+  /** Markers of notable events (divergence). */
+  alert: string;
+  /** CSS font family. */
+  font: string;
+}
+
+/** One line series in plotly's data shape. */
+export interface LineSeries {
+  type: 'scatter';
+  mode: 'lines' | 'lines+markers' | 'markers';
+  name: string;
+  x: number[];
+  /** `null` leaves a gap (non-finite values). */
+  y: (number | null)[];
+  line: { color: string; width: number; dash?: 'solid' | 'dot' | 'dash' };
+  marker?: { color: string; size: number; symbol?: string };
+  hovertemplate: string;
+}
+
+/** A text note anchored in data coordinates. */
+export interface FigureNote {
+  x: number;
+  y: number;
+  xref: 'x';
+  yref: 'paper';
+  text: string;
+  showarrow: boolean;
+  font: { color: string; size: number };
+  yanchor: 'top';
+}
+
+/** Axis settings used here. */
+export interface AxisLayout {
+  title: { text: string };
+  type: 'linear' | 'log';
+  gridcolor: string;
+  zerolinecolor: string;
+  color: string;
+  rangemode?: 'tozero' | 'normal';
+  automargin: boolean;
+}
+
+/** The figure description handed to plotly. */
+export interface Figure {
+  data: LineSeries[];
+  layout: {
+    height: number;
+    margin: { l: number; r: number; t: number; b: number };
+    paper_bgcolor: string;
+    plot_bgcolor: string;
+    font: { family: string; color: string; size: number };
+    xaxis: AxisLayout;
+    yaxis: AxisLayout;
+    legend: { orientation: 'h'; x: number; y: number; xanchor: 'right'; yanchor: 'bottom' };
+    annotations: FigureNote[];
+    showlegend: boolean;
+  };
+}
+
+/** Options of {@link traceFigure}. */
+export interface TraceOptions {
+  /** Pixel height. Default 260. */
+  height?: number;
+  /** Force a scale; default `auto` (log when all finite losses are positive and span > 2 decades). */
+  scale?: 'auto' | 'linear' | 'log';
+}
+
+const finite = (v: number | undefined): v is number => v !== undefined && Number.isFinite(v);
+
+/**
+ * Chooses the y scale: log when every finite value is positive and max/min exceeds 100.
+ */
+export function chooseScale(values: readonly number[]): 'linear' | 'log' {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const v of values) {
+    if (!Number.isFinite(v)) continue;
+    if (v <= 0) return 'linear';
+    lo = Math.min(lo, v);
+    hi = Math.max(hi, v);
+  }
+  return lo < Infinity && hi / lo > 100 ? 'log' : 'linear';
+}
+
+/**
+ * Builds the loss trace: training loss per step, held-out loss where the setup has a
+ * split, and a note at the first step whose loss is not finite.
+ *
+ * @param trajectory - step records in step order (record 0 first).
+ * @param theme - colours from the page.
+ * @returns the plotly figure description.
+ */
+export function traceFigure(trajectory: readonly StepRecord[], theme: FigureTheme, options: TraceOptions = {}): Figure {
+  const x = trajectory.map(r => r.step);
+  const train = trajectory.map(r => (Number.isFinite(r.loss) ? r.loss : null));
+  const data: LineSeries[] = [
+    {
+      type: 'scatter',
+      mode: trajectory.length < 30 ? 'lines+markers' : 'lines',
+      name: 'training loss',
+      x,
+      y: train,
+      line: { color: theme.train, width: 2 },
+      marker: { color: theme.train, size: 4 },
+      hovertemplate: 'step %{x}<br>training loss %{y:.6g}<extra></extra>'
+    }
+  ];
+  const held = trajectory.filter(r => r.heldOutLoss !== undefined);
+  if (held.length > 0) {
+    data.push({
+      type: 'scatter',
+      mode: held.length < 30 ? 'lines+markers' : 'lines',
+      name: 'held-out loss',
+      x: held.map(r => r.step),
+      y: held.map(r => (finite(r.heldOutLoss) ? r.heldOutLoss : null)),
+      line: { color: theme.heldOut, width: 2, dash: 'dash' },
+      marker: { color: theme.heldOut, size: 4 },
+      hovertemplate: 'step %{x}<br>held-out loss %{y:.6g}<extra></extra>'
+    });
+  }
+  const annotations: FigureNote[] = [];
+  const blowUp = trajectory.find(r => !Number.isFinite(r.loss));
+  if (blowUp !== undefined) {
+    annotations.push({
+      x: blowUp.step,
+      y: 1,
+      xref: 'x',
+      yref: 'paper',
+      text: `loss not finite at step ${blowUp.step}`,
+      showarrow: false,
+      font: { color: theme.alert, size: 12 },
+      yanchor: 'top'
+    });
+  }
+  const values = [...trajectory.map(r => r.loss), ...held.map(r => r.heldOutLoss as number)];
+  const scale = options.scale === undefined || options.scale === 'auto' ? chooseScale(values) : options.scale;
+  const axis = (title: string, type: 'linear' | 'log'): AxisLayout => ({
+    title: { text: title },
+    type,
+    gridcolor: theme.grid,
+    zerolinecolor: theme.grid,
+    color: theme.foreground,
+    automargin: true
+  });
+  return {
+    data,
+    layout: {
+      height: options.height ?? 260,
+      margin: { l: 56, r: 16, t: 24, b: 40 },
+      paper_bgcolor: theme.background,
+      plot_bgcolor: theme.background,
+      font: { family: theme.font, color: theme.foreground, size: 12 },
+      xaxis: { ...axis('step', 'linear'), rangemode: 'tozero' },
+      yaxis: axis(scale === 'log' ? 'loss (log scale)' : 'loss', scale),
+      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      annotations,
+      showlegend: held.length > 0
+    }
+  };
+}

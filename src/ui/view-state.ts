@@ -1,0 +1,77 @@
+/**
+ * The plain state a stepwell cell's widget renders. The controller owns and replaces it;
+ * views only read it, so any number of views (or none) can show one cell.
+ */
+import type { StepRecord } from '../core/state';
+import type { AuditResult } from '../core/probe/gradcheck';
+import type { SessionSummary, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+
+/** Readout tabs of the cell widget. */
+export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit';
+
+/** A message for the user above the readouts. */
+export interface Notice {
+  level: 'info' | 'warn' | 'error';
+  text: string;
+}
+
+/** Long work in progress. */
+export interface BusyState {
+  /** What is running, e.g. `Step ×1000`. */
+  action: string;
+  done: number;
+  total: number;
+}
+
+/** Everything the widget shows. */
+export interface CellViewState {
+  /** What the cell's metadata held when last read. */
+  ledger: 'absent' | 'ok' | 'corrupt';
+  /** Why the ledger could not be read (only when `ledger` is `corrupt`). */
+  ledgerMessage?: string;
+  /** Spec text the session belongs to (null before any session). */
+  sessionSpec: string | null;
+  /** True when the editor's text differs from {@link sessionSpec}. */
+  specEdited: boolean;
+  /** Problems of the editor's current text (live). */
+  problems: SpecProblem[];
+  /** Warnings of the session's spec. */
+  warnings: SpecProblem[];
+  summary: SessionSummary | null;
+  /** Record 0 to the current step. */
+  trajectory: StepRecord[];
+  busy: BusyState | null;
+  /** Mean ms per step of the last stepping action. */
+  msPerStep?: number;
+  /** Size of the last written ledger, bytes. */
+  ledgerBytes?: number;
+  /** The latest gradient audit and the step it ran at. */
+  audit: { step: number; result: AuditResult } | null;
+  verify: VerifyResult | null;
+  notice: Notice | null;
+  /** An open inline form. */
+  form: 'run-until' | 'rewind' | null;
+  tab: ReadoutTab;
+  /** Defaults of the run-until form (last used). */
+  runUntil: { condition: StopCondition; maxSteps: number };
+}
+
+/** The state of a cell before anything was read. */
+export function initialViewState(): CellViewState {
+  return {
+    ledger: 'absent',
+    sessionSpec: null,
+    specEdited: false,
+    problems: [],
+    warnings: [],
+    summary: null,
+    trajectory: [],
+    busy: null,
+    audit: null,
+    verify: null,
+    notice: null,
+    form: null,
+    tab: 'trace',
+    runUntil: { condition: { kind: 'loss-below', value: 1e-3 }, maxSteps: 1000 }
+  };
+}

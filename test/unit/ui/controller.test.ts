@@ -1,0 +1,152 @@
+/**
+ * The cell controller against a fake notebook cell (plain object) and the real engine host
+ * in-process: run, step, persist, restore from the written ledger, corrupt ledgers, edits.
+ */
+import { CellController } from '../../../src/ui/controller';
+import type { CellHost } from '../../../src/ui/ports';
+import { DEFAULT_SETTINGS } from '../../../src/ui/ports';
+import { ledgerGlue } from '../../../src/ui/ledger-glue';
+import { EngineClient } from '../../../src/worker/client';
+import { inProcessPort } from '../../../src/worker/in-process';
+import { realCore } from '../../../src/worker/core-adapter';
+import { parseSpec, TEMPLATE_SPEC } from '../../../src/spec';
+import type { CellSummary } from '../../../src/ui/summary';
+import { STEPWELL_MIME } from '../../../src/ui/summary';
+
+interface FakeCell extends CellHost {
+  source: string;
+  metadata: unknown;
+  outputs: { summary: CellSummary | null; markdown: string } | null;
+  writes: number;
+}
+
+function fakeCell(source = TEMPLATE_SPEC, metadata?: unknown): FakeCell {
+  const cell: FakeCell = {
+    source,
+    metadata,
+    outputs: null,
+    writes: 0,
+    readSource: () => cell.source,
+    // The notebook stores JSON: mimic it so nothing non-JSON survives a save.
+    readLedger: () => (cell.metadata === undefined ? undefined : JSON.parse(JSON.stringify(cell.metadata))),
+    writeLedger: v => {
+      cell.metadata = JSON.parse(JSON.stringify(v));
+      cell.writes++;
+    },
+    writeOutputs: (summary, markdown) => {
+      cell.outputs = { summary, markdown };
+    }
+  };
+  return cell;
+}
+
+const check = (text: string) => {
+  const r = parseSpec(text);
+  return r.ok ? [] : r.errors;
+};
+
+function controller(cell: FakeCell): CellController {
+  return new CellController({
+    host: cell,
+    engine: () => new EngineClient(inProcessPort(realCore)),
+    ledger: ledgerGlue,
+    checkSpec: check,
+    settings: () => ({ ...DEFAULT_SETTINGS, checkpointEvery: 4, checkpointCap: 5 })
+  });
+}
+
+describe('CellController', () => {
+  it('runs a new cell, steps, and writes a ledger that a second controller restores without re-running', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    expect(c.state.ledger).toBe('absent');
+    expect(await c.run()).toBe(true);
+    expect(c.state.summary?.step).toBe(0);
+    expect(await c.step(10)).toBe(true);
+    expect(c.state.summary?.step).toBe(10);
+    expect(c.state.trajectory).toHaveLength(11);
+    expect(cell.outputs?.summary?.step).toBe(10);
+    expect(cell.outputs?.markdown).toContain('step 10');
+    expect(cell.outputs?.markdown).toContain('not a guarantee');
+    const fingerprint = c.state.summary?.fingerprint;
+    c.dispose();
+
+    let engines = 0;
+    const reopened = new CellController({
+      host: cell,
+      engine: () => {
+        engines++;
+        return new EngineClient(inProcessPort(realCore));
+      },
+      ledger: ledgerGlue,
+      checkSpec: check,
+      settings: () => DEFAULT_SETTINGS
+    });
+    // Restored from metadata alone: same step, same trace, no engine started.
+    expect(engines).toBe(0);
+    expect(reopened.state.summary?.step).toBe(10);
+    expect(reopened.state.summary?.fingerprint).toBe(fingerprint);
+    expect(reopened.state.trajectory.map(r => r.loss)).toEqual(c.state.trajectory.map(r => r.loss));
+    expect(await reopened.verify()).toBe(true);
+    expect(reopened.state.verify?.match).toBe('bit-identical');
+    expect(await reopened.step(2)).toBe(true);
+    expect(reopened.state.summary?.step).toBe(12);
+    expect(engines).toBe(1);
+  });
+
+  it('keeps at most the checkpoint cap in the ledger and can rewind', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    await c.run();
+    await c.step(40);
+    const stored = cell.metadata as { checkpoints: unknown[] };
+    expect(stored.checkpoints.length).toBeLessThanOrEqual(5);
+    expect(await c.rewind(13)).toBe(true);
+    expect(c.state.summary?.step).toBe(13);
+    expect(c.state.trajectory).toHaveLength(14);
+  });
+
+  it('shows spec problems with line numbers and runs nothing', async () => {
+    const cell = fakeCell(TEMPLATE_SPEC.replace('units: 5', 'units: 0'));
+    const c = controller(cell);
+    expect(c.state.problems.length).toBeGreaterThan(0);
+    expect(c.state.problems[0].line).toBe(TEMPLATE_SPEC.split('\n').findIndex(l => l.includes('units: 5')) + 1);
+    expect(await c.run()).toBe(false);
+    expect(cell.metadata).toBeUndefined();
+    expect(cell.outputs?.summary).toBeNull();
+    expect(cell.outputs?.markdown).toContain('problems');
+  });
+
+  it('refuses to step an edited spec until the cell is run again, then starts over at step 0', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    await c.run();
+    await c.step(5);
+    cell.source = TEMPLATE_SPEC.replace('lr: 0.1 ', 'lr: 0.05');
+    c.sourceChanged();
+    expect(c.state.specEdited).toBe(true);
+    expect(await c.step(1)).toBe(false);
+    expect(c.state.summary?.step).toBe(5);
+    expect(await c.run()).toBe(true);
+    expect(c.state.summary?.step).toBe(0);
+    expect(c.state.summary?.recipe).toContain('η=0.05');
+  });
+
+  it('reports a corrupt ledger, leaves the spec untouched, and starts over only when asked', async () => {
+    const cell = fakeCell(TEMPLATE_SPEC, { format: 'stepwell-ledger-provisional-1', specText: TEMPLATE_SPEC, trajectory: 'oops' });
+    const c = controller(cell);
+    expect(c.state.ledger).toBe('corrupt');
+    expect(c.state.notice?.text).toContain('cannot be read');
+    expect(c.state.notice?.text).toContain('trajectory');
+    expect(await c.run()).toBe(false);
+    expect(cell.source).toBe(TEMPLATE_SPEC);
+    expect(cell.writes).toBe(0);
+    expect(await c.run(true)).toBe(true);
+    expect(c.state.ledger).toBe('ok');
+    expect(cell.writes).toBe(1);
+  });
+
+  it('uses our own mime type for the live widget', () => {
+    expect(STEPWELL_MIME).toBe('application/vnd.stepwell.cell+json');
+  });
+});

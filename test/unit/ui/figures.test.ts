@@ -1,0 +1,115 @@
+/**
+ * Pure figure and text builders of the cell widget, tested without a browser.
+ */
+import { chooseScale, traceFigure } from '../../../src/ui/trace-figure';
+import type { FigureTheme } from '../../../src/ui/trace-figure';
+import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLine, verifyLine } from '../../../src/ui/summary';
+import { readNumber } from '../../../src/ui/forms';
+import { thin } from '../../../src/ui/ledger-glue';
+import type { StepRecord } from '../../../src/core/state';
+
+const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
+
+const rec = (step: number, loss: number, heldOutLoss?: number): StepRecord => ({
+  step, loss, batchLoss: loss, gradNorm: 1, updateNorm: 0.1, lr: 0.1, evaluations: 1, layers: [], ms: 0.5, ...(heldOutLoss === undefined ? {} : { heldOutLoss })
+});
+
+describe('traceFigure', () => {
+  it('plots training loss per step in the theme colour', () => {
+    const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2)], theme);
+    expect(f.data).toHaveLength(1);
+    expect(f.data[0].x).toEqual([0, 1, 2]);
+    expect(f.data[0].y).toEqual([2, 1.5, 1.2]);
+    expect(f.data[0].line.color).toBe('#00f');
+    expect(f.layout.paper_bgcolor).toBe('#fff');
+    expect(f.layout.yaxis.type).toBe('linear');
+    expect(f.layout.showlegend).toBe(false);
+  });
+
+  it('adds the held-out series and a legend when the setup has a split', () => {
+    const f = traceFigure([rec(0, 2, 2.5), rec(1, 1, 1.8)], theme);
+    expect(f.data.map(d => d.name)).toEqual(['training loss', 'held-out loss']);
+    expect(f.data[1].y).toEqual([2.5, 1.8]);
+    expect(f.data[1].line.color).toBe('#f80');
+    expect(f.layout.showlegend).toBe(true);
+  });
+
+  it('leaves gaps for non-finite losses and notes the first one', () => {
+    const f = traceFigure([rec(0, 2), rec(1, 1e3), rec(2, Infinity), rec(3, NaN)], theme);
+    expect(f.data[0].y).toEqual([2, 1000, null, null]);
+    expect(f.layout.annotations).toHaveLength(1);
+    expect(f.layout.annotations[0].text).toBe('loss not finite at step 2');
+    expect(f.layout.annotations[0].x).toBe(2);
+  });
+
+  it('switches to a log axis when positive losses span more than two decades', () => {
+    expect(chooseScale([10, 0.01])).toBe('log');
+    expect(chooseScale([10, 1])).toBe('linear');
+    expect(chooseScale([10, -0.01, 0.001])).toBe('linear');
+    expect(traceFigure([rec(0, 100), rec(1, 0.5)], theme).layout.yaxis.type).toBe('log');
+    expect(traceFigure([rec(0, 100), rec(1, 0.5)], theme, { scale: 'linear' }).layout.yaxis.type).toBe('linear');
+  });
+});
+
+describe('summary texts', () => {
+  it('formats numbers for people', () => {
+    expect(fmt(0.0132456789)).toBe('0.0132457');
+    expect(fmt(1.5e-5)).toBe('1.500e-5');
+    expect(fmt(NaN)).toBe('NaN');
+    expect(fmt(Infinity)).toBe('∞');
+    expect(fmt(null)).toBe('—');
+  });
+
+  it('writes a status line with step, loss, timing and ledger size', () => {
+    expect(statusLine({ step: 40, last: rec(40, 0.0132, 0.0171), msPerStep: 0.42, ledgerBytes: 14200 }))
+      .toBe('step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB');
+  });
+
+  it('places spec problems at their line', () => {
+    expect(problemLine({ path: 'recipe.lr', message: 'recipe.lr must be positive', line: 31, col: 7 }))
+      .toBe('line 31:7 (recipe.lr): recipe.lr must be positive');
+    expect(problemLine({ path: '', message: 'the spec is empty' })).toBe('spec: the spec is empty');
+  });
+
+  it('escapes user text in the markdown fallback and carries the proxy note', () => {
+    const md = markdownSummary({ version: 1, step: 3, loss: 0.5, heldOutLoss: null, recipe: 'sgd η=0.1, full batch', setup: 'net <b>x</b>', fingerprint: 'ab12<script>', parameterCount: 26 });
+    expect(md).toContain('step 3');
+    expect(md).not.toContain('<b>');
+    expect(md).toContain('\\<b\\>');
+    expect(md).toContain('`ab12c`');
+    expect(md).toContain('not a guarantee');
+    expect(escapeMarkdown('a*b_c')).toBe('a\\*b\\_c');
+  });
+
+  it('states verify outcomes in one sentence', () => {
+    expect(verifyLine({ match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
+    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
+  });
+
+  it('formats audit layers without recomputing verdicts', () => {
+    const rows = auditRows({
+      loss: 1, parameterCount: 26, checked: 26, sampled: false, h: 1e-5, maxRelError: 0.2, verdict: 'wrong', entries: [], sweep: [],
+      bestOverSweep: { h: 1e-5, maxRelError: 0.2, medianRelError: 0.1 },
+      layers: [{ layer: 0, blocks: ['layers[0].weight', 'layers[0].bias'], checked: 20, total: 20, maxRelError: 0.2, medianRelError: 0.1, worstIndex: 3, worstBlock: 'layers[0].weight', verdict: 'wrong' }]
+    });
+    expect(rows).toEqual([{ name: 'layer 0 (layers[0].weight, layers[0].bias)', max: '2.00e-1', median: '1.00e-1', worst: 'layers[0].weight @ 3', checked: '20 / 20', verdict: 'wrong' }]);
+  });
+});
+
+describe('form input and checkpoint thinning', () => {
+  it('reads numbers with messages that name the field', () => {
+    expect(readNumber('25', 'N', true, 1)).toBe(25);
+    expect(readNumber('2.5', 'N', true, 1)).toBe('N must be a whole number, got 2.5');
+    expect(readNumber('abc', 'N', true, 1)).toBe("N must be a number, got 'abc'");
+    expect(readNumber('0', 'N', true, 1)).toBe('N must be at least 1, got 0');
+  });
+
+  it('keeps the first and last checkpoints and at most the cap', () => {
+    const cps = Array.from({ length: 11 }, (_, i) => ({ step: i * 10, fingerprint: String(i), state: null as never }));
+    const kept = thin(cps, 4).map(c => c.step);
+    expect(kept).toHaveLength(4);
+    expect(kept[0]).toBe(0);
+    expect(kept[3]).toBe(100);
+    expect(thin(cps, 20)).toHaveLength(11);
+  });
+});
