@@ -288,27 +288,51 @@ export class Network implements Objective {
 
 /**
  * dst[r, o] (=|+=) Σ_i M[o, i]·inp[r, i] (+ bias[o]) with M the layer's weight block of `src`.
- * Four outputs at a time share each input load (register blocking); each sum still runs
- * over i in order, so the result does not depend on the blocking.
+ * Blocked two rows × four outputs (register blocking); each sum still runs over i in
+ * order, so the result does not depend on the blocking.
  */
 function dense(src: Float64Array, p: LayerPlan, inp: Float64Array, n: number, dst: Float64Array, withBias: boolean, accumulate: boolean): void {
   const { fanIn, units, wOff, bOff } = p;
   const o4 = units - (units % 4);
-  for (let r = 0; r < n; r++) {
-    const ir = r * fanIn;
-    const orow = r * units;
+  const n2 = n - (n % 2);
+  let r = 0;
+  // Two rows × four outputs: eight independent sums, each input and weight loaded once per block.
+  for (; r < n2; r += 2) {
+    const ia = r * fanIn, ib = ia + fanIn;
+    const oa = r * units, ob = oa + units;
     let o = 0;
     for (; o < o4; o += 4) {
       const w0 = wOff + o * fanIn, w1 = w0 + fanIn, w2 = w1 + fanIn, w3 = w2 + fanIn;
-      let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-      if (withBias) { s0 = src[bOff + o]; s1 = src[bOff + o + 1]; s2 = src[bOff + o + 2]; s3 = src[bOff + o + 3]; }
+      let a0 = 0, a1 = 0, a2 = 0, a3 = 0;
+      if (withBias) { a0 = src[bOff + o]; a1 = src[bOff + o + 1]; a2 = src[bOff + o + 2]; a3 = src[bOff + o + 3]; }
+      let b0 = a0, b1 = a1, b2 = a2, b3 = a3;
       for (let i = 0; i < fanIn; i++) {
-        const x = inp[ir + i];
-        s0 += src[w0 + i] * x; s1 += src[w1 + i] * x; s2 += src[w2 + i] * x; s3 += src[w3 + i] * x;
+        const x = inp[ia + i], y = inp[ib + i];
+        const v0 = src[w0 + i], v1 = src[w1 + i], v2 = src[w2 + i], v3 = src[w3 + i];
+        a0 += v0 * x; a1 += v1 * x; a2 += v2 * x; a3 += v3 * x;
+        b0 += v0 * y; b1 += v1 * y; b2 += v2 * y; b3 += v3 * y;
       }
-      if (accumulate) { dst[orow + o] += s0; dst[orow + o + 1] += s1; dst[orow + o + 2] += s2; dst[orow + o + 3] += s3; } else { dst[orow + o] = s0; dst[orow + o + 1] = s1; dst[orow + o + 2] = s2; dst[orow + o + 3] = s3; }
+      if (accumulate) {
+        dst[oa + o] += a0; dst[oa + o + 1] += a1; dst[oa + o + 2] += a2; dst[oa + o + 3] += a3;
+        dst[ob + o] += b0; dst[ob + o + 1] += b1; dst[ob + o + 2] += b2; dst[ob + o + 3] += b3;
+      } else {
+        dst[oa + o] = a0; dst[oa + o + 1] = a1; dst[oa + o + 2] = a2; dst[oa + o + 3] = a3;
+        dst[ob + o] = b0; dst[ob + o + 1] = b1; dst[ob + o + 2] = b2; dst[ob + o + 3] = b3;
+      }
     }
     for (; o < units; o++) {
+      const wr = wOff + o * fanIn;
+      let a = withBias ? src[bOff + o] : 0;
+      let b = a;
+      for (let i = 0; i < fanIn; i++) { const v = src[wr + i]; a += v * inp[ia + i]; b += v * inp[ib + i]; }
+      dst[oa + o] = accumulate ? dst[oa + o] + a : a;
+      dst[ob + o] = accumulate ? dst[ob + o] + b : b;
+    }
+  }
+  for (; r < n; r++) {
+    const ir = r * fanIn;
+    const orow = r * units;
+    for (let o = 0; o < units; o++) {
       const wr = wOff + o * fanIn;
       let s = withBias ? src[bOff + o] : 0;
       for (let i = 0; i < fanIn; i++) s += src[wr + i] * inp[ir + i];
