@@ -7,7 +7,7 @@ import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } 
 
 /** Adagrad (Duchi et al. 2011), PyTorch conventions (ε added after the square root). */
 export const adagrad: OptimizerFamily = {
-  layerScaled: true,
+  firstOrder: true,
   decoupledDecay: false,
   init(parameterCount: number): OptimizerState {
     return { kind: 'adagrad', t: 0, buffers: { sum: new Float64Array(parameterCount) }, scalars: {} };

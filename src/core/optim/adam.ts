@@ -44,7 +44,7 @@ function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerStat
 
 /** Adam / AMSGrad with weight decay added to the gradient (torch.optim.Adam). */
 export const adam: OptimizerFamily = {
-  layerScaled: true,
+  firstOrder: true,
   decoupledDecay: false,
   init: (p: number, recipe: Recipe) => initAdam('adam', p, recipe),
   update: (g, s, w, ctx, out) => updateAdam(false, g, s, w, ctx, out)
@@ -52,7 +52,7 @@ export const adam: OptimizerFamily = {
 
 /** AdamW: decoupled weight decay w ← w − ηλw before the Adam step (torch.optim.AdamW). */
 export const adamw: OptimizerFamily = {
-  layerScaled: true,
+  firstOrder: true,
   decoupledDecay: true,
   init: (p: number, recipe: Recipe) => initAdam('adamw', p, recipe),
   update: (g, s, w, ctx, out) => updateAdam(true, g, s, w, ctx, out)

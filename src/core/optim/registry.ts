@@ -1,6 +1,10 @@
 /** Maps each optimizer name of a recipe to its family (exhaustive over OptimizerName). */
 import type { OptimizerName } from '../setup';
 import { adagrad } from './adagrad';
+import { cg } from './cg';
+import { lbfgs } from './lbfgs';
+import { minibatchLbfgs } from './minibatch-lbfgs';
+import { gaussNewton, newton } from './newton';
 import { adam, adamw } from './adam';
 import { rmsprop } from './rmsprop';
 import { sgd } from './sgd';
@@ -20,11 +24,15 @@ export function familyFor(name: OptimizerName): OptimizerFamily {
     case 'adamw':
       return adamw;
     case 'lbfgs':
+      return lbfgs;
     case 'cg':
+      return cg;
     case 'newton':
+      return newton;
     case 'gauss-newton':
+      return gaussNewton;
     case 'minibatch-lbfgs':
-      throw new Error(`optimizer '${name}' is not implemented yet`);
+      return minibatchLbfgs;
     default: {
       const never: never = name;
       throw new Error(`unknown optimizer '${String(never)}'`);

@@ -10,7 +10,7 @@ import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } 
 
 /** RMSProp: plain, centered and with momentum, PyTorch conventions. */
 export const rmsprop: OptimizerFamily = {
-  layerScaled: true,
+  firstOrder: true,
   decoupledDecay: false,
   init(parameterCount: number, recipe: Recipe): OptimizerState {
     const buffers: Record<string, Float64Array> = { squareAvg: new Float64Array(parameterCount) };

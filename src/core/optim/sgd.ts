@@ -16,7 +16,7 @@ import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } 
 
 /** SGD / heavy-ball / Nesterov (torch.optim.SGD; Polyak 1964; Sutskever et al. 2013). */
 export const sgd: OptimizerFamily = {
-  layerScaled: true,
+  firstOrder: true,
   decoupledDecay: false,
   init(parameterCount: number, recipe: Recipe): OptimizerState {
     const buffers: Record<string, Float64Array> = {};

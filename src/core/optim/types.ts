@@ -18,11 +18,11 @@ export class Workspace {
   /** @param length Length of every vector handed out (the parameter count P). */
   constructor(readonly length: number) {}
 
-  /** The scratch vector called `name` (contents left from its previous use). */
-  vector(name: string): Float64Array {
+  /** The scratch vector called `name` (contents left from its previous use), default length P. */
+  vector(name: string, length = this.length): Float64Array {
     let v = this.vectors.get(name);
-    if (v === undefined) {
-      v = new Float64Array(this.length);
+    if (v === undefined || v.length !== length) {
+      v = new Float64Array(length);
       this.vectors.set(name, v);
     }
     return v;
@@ -61,8 +61,13 @@ export interface UpdateInfo {
 
 /** One optimizer family: `init` builds the state, `update` advances it in place and writes `u`. */
 export interface OptimizerFamily {
-  /** Whether per-layer `lrScale` multipliers apply to this family's displacement. */
-  readonly layerScaled: boolean;
+  /**
+   * First-order families get the clipped gradient plus coupled weight decay λw, and their
+   * displacement is multiplied by the per-layer `lrScale`. Batch families (L-BFGS, CG, Newton,
+   * Gauss-Newton, mini-batch L-BFGS) minimize f + ½λ‖w‖² through line searches instead:
+   * no clipping, no per-layer scaling (both would break their curvature model).
+   */
+  readonly firstOrder: boolean;
   /** Whether the family adds weight decay itself (decoupled, AdamW) instead of to the gradient. */
   readonly decoupledDecay: boolean;
   /** A fresh state for P parameters (all buffers zero, t = 0). */

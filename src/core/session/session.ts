@@ -121,7 +121,7 @@ export class Session {
     this.upd = new Float64Array(p);
     this.scales = layerScales(this.objective.blocks, p, recipe.layers);
     const work = new Workspace(p);
-    this.ctx = new StepContext(recipe, this.family.layerScaled ? this.objective : withWeightDecay(this.objective, recipe.weightDecay), work);
+    this.ctx = new StepContext(recipe, this.family.firstOrder ? this.objective : withWeightDecay(this.objective, recipe.weightDecay), work);
     this.layers = this.objective.blocks.filter((b) => b.kind === 'weight').map((b) => ({ layer: b.layer, offset: b.offset, size: b.size }));
     this.layerGrad = new Float64Array(this.layers.length);
   }
@@ -229,15 +229,15 @@ export class Session {
     const g = this.grad;
     const batchLoss = this.objective.gradient(this.params, g, rows);
     for (let k = 0; k < this.layers.length; k++) this.layerGrad[k] = norm2(g, this.layers[k].offset, this.layers[k].size);
-    const gradNorm = clipByGlobalNorm(g, recipe.clipNorm);
+    const gradNorm = clipByGlobalNorm(g, this.family.firstOrder ? recipe.clipNorm : 0);
     if (!this.family.decoupledDecay) addWeightDecay(g, this.params, recipe.weightDecay);
     const ctx = this.ctx;
     ctx.lr = lr;
     ctx.rows = rows;
     ctx.curvatureRows = recipe.curvatureBatch === 'same' ? rows : this.curvature;
-    ctx.loss = this.family.layerScaled || recipe.weightDecay === 0 ? batchLoss : batchLoss + 0.5 * recipe.weightDecay * sumSquares(this.params);
+    ctx.loss = this.family.firstOrder || recipe.weightDecay === 0 ? batchLoss : batchLoss + 0.5 * recipe.weightDecay * sumSquares(this.params);
     const info = this.family.update(g, this.optState, this.params, ctx, this.upd);
-    descend(this.upd, info.stepSize, this.family.layerScaled ? this.scales : null);
+    descend(this.upd, info.stepSize, this.family.firstOrder ? this.scales : null);
     const layers: LayerRecord[] = new Array(this.layers.length);
     for (let k = 0; k < this.layers.length; k++) {
       const l = this.layers[k];

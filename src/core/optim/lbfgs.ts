@@ -1,0 +1,204 @@
+/**
+ * L-BFGS (Nocedal & Wright 2006, alg. 7.4 two-loop recursion and alg. 7.5), one iteration per
+ * session step, laid out to match torch.optim.LBFGS(max_iter=1) (PyTorch 1.13) step by step:
+ *
+ *  - history pairs s = t·d, y = g − g_prev are stored only when yᵀs > 1e-10; the oldest pair
+ *    is dropped beyond `history` pairs; initial inverse Hessian H0 = (yᵀs / yᵀy)·I (N&W eq. 7.20);
+ *  - the first trial step is min(1, 1/‖g‖₁)·lr on the first iteration and lr afterwards;
+ *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most 25 trials), 'brent' (exact
+ *    minimization along d, bracket from (0, trial)), or 'none' (fixed step = trial);
+ *  - no update when max|g| ≤ 1e-7 (torch's tolerance_grad).
+ * Difference from torch: when d is not a descent direction (gᵀd > −1e-9) torch stops in place
+ * and would repeat the same direction forever; here the history is cleared and the step falls
+ * back to steepest descent.
+ *
+ * State (all plain data): buffers `s`, `y` (history × P, ring buffer), `rho` (history),
+ * `prevGrad`, `dir`; scalars `count`, `start` (ring head), `hDiag`, `stepLength`.
+ */
+import { dot } from '../objective';
+import type { Recipe } from '../setup';
+import type { OptimizerState } from '../state';
+import { minimizeAlong } from './linesearch/along';
+import { lineFunctionWithSlope } from './linesearch/along';
+import { strongWolfe } from './linesearch/wolfe';
+import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+
+/** torch.optim.LBFGS's tolerance_grad and tolerance_change defaults. */
+const TOLERANCE_GRAD = 1e-7;
+const TOLERANCE_CHANGE = 1e-9;
+/** Curvature pairs with yᵀs at or below this are skipped (torch; keeps H positive definite). */
+const MIN_CURVATURE = 1e-10;
+
+/** A fresh L-BFGS state with `history` pairs of P entries. */
+export function initLbfgs(kind: 'lbfgs' | 'minibatch-lbfgs', parameterCount: number, history: number): OptimizerState {
+  if (!Number.isInteger(history) || history < 1) throw new Error(`recipe.history must be a positive integer, got ${history}`);
+  return {
+    kind,
+    t: 0,
+    buffers: {
+      s: new Float64Array(history * parameterCount),
+      y: new Float64Array(history * parameterCount),
+      rho: new Float64Array(history),
+      prevGrad: new Float64Array(parameterCount),
+      dir: new Float64Array(parameterCount)
+    },
+    scalars: { count: 0, start: 0, hDiag: 1, stepLength: 0 }
+  };
+}
+
+/** Clears the curvature history (the next direction is steepest descent). */
+export function resetLbfgs(state: OptimizerState): void {
+  state.t = 0;
+  state.scalars.count = 0;
+  state.scalars.start = 0;
+  state.scalars.hDiag = 1;
+  state.scalars.stepLength = 0;
+}
+
+/** Stores (s, y) = (t·d_prev, g − g_prev) when yᵀs > 1e-10 and refreshes H0 = yᵀs/yᵀy. */
+function remember(g: Float64Array, state: OptimizerState, m: number, p: number): void {
+  const S = buffer(state, 's');
+  const Y = buffer(state, 'y');
+  const rho = buffer(state, 'rho');
+  const prev = buffer(state, 'prevGrad');
+  const d = buffer(state, 'dir');
+  const t = state.scalars.stepLength;
+  let ys = 0;
+  let yy = 0;
+  for (let i = 0; i < p; i++) {
+    const yi = g[i] - prev[i];
+    ys += yi * (d[i] * t);
+    yy += yi * yi;
+  }
+  if (!(ys > MIN_CURVATURE)) return;
+  let count = state.scalars.count;
+  let start = state.scalars.start;
+  let slot: number;
+  if (count === m) {
+    slot = start;
+    start = (start + 1) % m;
+  } else {
+    slot = (start + count) % m;
+    count += 1;
+  }
+  const off = slot * p;
+  for (let i = 0; i < p; i++) {
+    Y[off + i] = g[i] - prev[i];
+    S[off + i] = d[i] * t;
+  }
+  rho[slot] = 1 / ys;
+  state.scalars.count = count;
+  state.scalars.start = start;
+  state.scalars.hDiag = ys / yy;
+}
+
+/** Two-loop recursion (N&W alg. 7.4): dir ← −H·g from the stored pairs. */
+function twoLoop(g: Float64Array, state: OptimizerState, m: number, p: number, alpha: Float64Array): void {
+  const S = buffer(state, 's');
+  const Y = buffer(state, 'y');
+  const rho = buffer(state, 'rho');
+  const d = buffer(state, 'dir');
+  const { count, start, hDiag } = state.scalars;
+  for (let i = 0; i < p; i++) d[i] = -g[i];
+  for (let k = count - 1; k >= 0; k--) {
+    const off = ((start + k) % m) * p;
+    let sq = 0;
+    for (let i = 0; i < p; i++) sq += S[off + i] * d[i];
+    const a = sq * rho[(start + k) % m];
+    alpha[k] = a;
+    for (let i = 0; i < p; i++) d[i] += -a * Y[off + i];
+  }
+  for (let i = 0; i < p; i++) d[i] = d[i] * hDiag;
+  for (let k = 0; k < count; k++) {
+    const slot = (start + k) % m;
+    const off = slot * p;
+    let yr = 0;
+    for (let i = 0; i < p; i++) yr += Y[off + i] * d[i];
+    const coef = alpha[k] - yr * rho[slot];
+    for (let i = 0; i < p; i++) d[i] += coef * S[off + i];
+  }
+}
+
+/** Outcome of one L-BFGS iteration: the step length along `state.buffers.dir`. */
+export interface LbfgsStep {
+  step: number;
+  evaluations: number;
+}
+
+/**
+ * One L-BFGS iteration at w with gradient g and value f: updates the memory, writes the
+ * direction into `state.buffers.dir` and returns the step length t (0 = no move).
+ */
+export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext): LbfgsStep {
+  const p = g.length;
+  const m = recipe.history;
+  let gmax = 0;
+  let g1 = 0;
+  for (let i = 0; i < p; i++) {
+    const a = Math.abs(g[i]);
+    if (a > gmax) gmax = a;
+    g1 += a;
+  }
+  if (gmax <= TOLERANCE_GRAD) return { step: 0, evaluations: 0 };
+  state.t += 1;
+  const d = buffer(state, 'dir');
+  if (state.t === 1) {
+    resetLbfgs(state);
+    state.t = 1;
+    for (let i = 0; i < p; i++) d[i] = -g[i];
+  } else {
+    remember(g, state, m, p);
+    twoLoop(g, state, m, p, ctx.work.vector('lbfgs.alpha', m));
+  }
+  buffer(state, 'prevGrad').set(g);
+  let t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
+  let gtd = dot(g, d);
+  if (gtd > -TOLERANCE_CHANGE) {
+    resetLbfgs(state);
+    state.t = 1;
+    for (let i = 0; i < p; i++) d[i] = -g[i];
+    gtd = dot(g, d);
+    t0 = Math.min(1, 1 / g1) * lr;
+  }
+  let step = t0;
+  let evaluations = 0;
+  switch (recipe.lineSearch) {
+    case 'none':
+      break;
+    case 'strong-wolfe': {
+      let dmax = 0;
+      for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
+      const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
+      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: TOLERANCE_CHANGE / dmax });
+      step = r.step;
+      evaluations = r.evaluations;
+      break;
+    }
+    case 'brent': {
+      const r = minimizeAlong(ctx.objective, w, d, { method: 'brent', initialStep: t0, rows: ctx.rows, scratch: { point: ctx.work.vector('ls.point'), grad: ctx.work.vector('ls.grad') } });
+      step = r.value <= f ? r.step : 0;
+      evaluations = r.evaluations;
+      break;
+    }
+    default: {
+      const never: never = recipe.lineSearch;
+      throw new Error(`unknown lineSearch '${String(never)}'`);
+    }
+  }
+  state.scalars.stepLength = step;
+  return { step, evaluations };
+}
+
+/** Full-batch (or fixed mini-batch) L-BFGS, one iteration per step. */
+export const lbfgs: OptimizerFamily = {
+  firstOrder: false,
+  decoupledDecay: false,
+  init: (parameterCount: number, recipe: Recipe) => initLbfgs('lbfgs', parameterCount, recipe.history),
+  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+    const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx);
+    const d = buffer(state, 'dir');
+    if (r.step === 0) out.fill(0);
+    else for (let i = 0; i < out.length; i++) out[i] = -d[i];
+    return { stepSize: r.step, extraEvaluations: r.evaluations };
+  }
+};
