@@ -1,0 +1,17 @@
+/**
+ * The ledger layer: the versioned record a stepwell cell keeps in notebook metadata under
+ * {@link LEDGER_KEY}, with exact encode/decode, validation, migration and size policies.
+ * Pure: no DOM or JupyterLab; runs in Node, a Web Worker and the browser.
+ */
+export { LEDGER_FORMAT, LEDGER_KEY, LEDGER_VERSION, LedgerError } from './types';
+export type { EncodedOptimizerState, EncodedScalar, EncodedSessionState, EncodedTrajectory, Ledger, LedgerBranch, LedgerCheckpoint } from './types';
+export { base64FromBytes, base64FromFloat64, base64FromInt32, bytesFromBase64, float64FromBase64, int32FromBase64 } from './base64';
+export { decodeScalar, decodeSessionState, decodeTrajectory, encodeScalar, encodeSessionState, encodeTrajectory } from './codec';
+export { migrateLedger, MIGRATIONS, OLDEST_READABLE_VERSION, recoverSpec } from './migrate';
+export type { LedgerJson, MigrateResult, Migration } from './migrate';
+export { validateLedger } from './validate';
+export type { LedgerResult, ValidateOptions } from './validate';
+export { capTrajectory, thinCheckpoints } from './thin';
+export { buildLedger, decodeBranch, DEFAULT_LEDGER_LIMITS, ledgerSize, serializeLedger } from './build';
+export type { BranchInput, DecodedBranch, LedgerInput, LedgerLimits } from './build';
+export { sha256Hex } from './hash';

@@ -1,0 +1,119 @@
+/**
+ * The ledger: the one value a stepwell cell keeps in notebook metadata. Plain JSON;
+ * typed arrays are base64 of little-endian bytes so every number restores bit for bit.
+ * The layout is described field by field in `schema/ledger.schema.json`.
+ */
+import type { OptimizerName } from '../core/setup';
+
+/** The cell-metadata key under which the ledger lives. */
+export const LEDGER_KEY = 'stepwell';
+/** Value of {@link Ledger.format}. */
+export const LEDGER_FORMAT = 'stepwell-ledger';
+/** The version this code writes (and the newest it reads). */
+export const LEDGER_VERSION = 1;
+
+/**
+ * A scalar that JSON can carry exactly: a finite number other than -0 as itself, anything
+ * else (NaN with its payload, ±Infinity, -0) as `"f64:"` + 16 hex digits of its bits.
+ */
+export type EncodedScalar = number | string;
+
+/** {@link OptimizerState} with buffers as base64 float64. */
+export interface EncodedOptimizerState {
+  kind: OptimizerName;
+  t: number;
+  buffers: Record<string, string>;
+  scalars: Record<string, EncodedScalar>;
+}
+
+/** {@link SessionState} in JSON form: `params` base64 float64, `order` base64 int32 or null. */
+export interface EncodedSessionState {
+  step: number;
+  params: string;
+  optimizer: EncodedOptimizerState;
+  rng: { s: [number, number, number, number]; spare: EncodedScalar | null };
+  epoch: number;
+  cursor: number;
+  order: string | null;
+}
+
+/** One saved state with its fingerprint (SHA-256 hex of the decoded state). */
+export interface LedgerCheckpoint {
+  step: number;
+  fingerprint: string;
+  state: EncodedSessionState;
+}
+
+/**
+ * Step records in columns, each base64 float64 of `count` entries; the three layer
+ * columns hold `count × layers` entries, record-major. `heldOutLoss` is present when
+ * every record has one.
+ */
+export interface EncodedTrajectory {
+  count: number;
+  layers: number;
+  step: string;
+  loss: string;
+  batchLoss: string;
+  heldOutLoss?: string;
+  gradNorm: string;
+  updateNorm: string;
+  lr: string;
+  evaluations: string;
+  ms: string;
+  layerWeightNorm: string;
+  layerGradNorm: string;
+  layerUpdateRatio: string;
+}
+
+/** A trajectory forked from a checkpoint, possibly with a changed recipe. */
+export interface LedgerBranch {
+  name: string;
+  /** Where it was forked from; absent for the main branch. */
+  parent?: { branch: string; step: number };
+  /** Recipe keys changed against the spec. */
+  recipePatch?: Record<string, unknown>;
+  trajectory: EncodedTrajectory;
+  /** States before the head, steps strictly increasing. */
+  checkpoints: LedgerCheckpoint[];
+  /** The latest state. */
+  head: LedgerCheckpoint;
+}
+
+/** The whole metadata value, format version 1. */
+export interface Ledger {
+  format: typeof LEDGER_FORMAT;
+  version: typeof LEDGER_VERSION;
+  /** Engine name and version, e.g. `stepwell 0.1.0`. */
+  engine: string;
+  /** The spec text exactly as the user wrote it. */
+  spec: string;
+  seed: number;
+  /** SHA-256 hex of the UTF-8 bytes of `spec`. */
+  specHash: string;
+  /** SHA-256 hex of externally loaded data, when there is any. */
+  dataHash?: string;
+  /** Length of every params vector. */
+  parameterCount: number;
+  branches: LedgerBranch[];
+  activeBranch: string;
+  /** Findings (typed by the findings rules; kept as plain objects here). */
+  findings: Record<string, unknown>[];
+  /** ISO-8601 time of writing; informational only. */
+  savedAt?: string;
+}
+
+/** A problem in one field of a ledger; `message` is `"<field>: <detail>"`. */
+export class LedgerError extends Error {
+  /** Path of the field, like `branches[0].checkpoints[2].state.params`. */
+  readonly field: string;
+  /** What is wrong with it. */
+  readonly detail: string;
+
+  constructor(field: string, detail: string) {
+    super(field ? `${field}: ${detail}` : detail);
+    this.name = 'LedgerError';
+    this.field = field;
+    this.detail = detail;
+  }
+}

@@ -1,0 +1,146 @@
+/**
+ * The ledger's one door in: migrate to the current version, validate against
+ * `schema/ledger.schema.json`, then check what a schema cannot (base64 decodes to the right
+ * lengths, steps increase, fingerprints match their states, branch names resolve).
+ * Every problem is reported as `"<field>: <detail>"`.
+ */
+import Ajv from 'ajv';
+import type { ErrorObject, ValidateFunction } from 'ajv';
+import ledgerSchema from '../../schema/ledger.schema.json';
+import { fingerprintState } from '../core/session/state-data';
+import { decodeSessionState, decodeTrajectory } from './codec';
+import { migrateLedger } from './migrate';
+import { sha256Hex } from './hash';
+import { LedgerError } from './types';
+import type { Ledger, LedgerCheckpoint } from './types';
+
+/** Outcome of {@link validateLedger}. */
+export type LedgerResult = { ok: true; ledger: Ledger } | { ok: false; errors: string[] };
+
+/** Options of {@link validateLedger}. */
+export interface ValidateOptions {
+  /** Recompute each checkpoint's fingerprint from its decoded state (default true). */
+  verifyFingerprints?: boolean;
+}
+
+let compiled: ValidateFunction | undefined;
+function validator(): ValidateFunction {
+  if (!compiled) compiled = new Ajv({ allErrors: true, verbose: true, strictTypes: false }).compile(ledgerSchema);
+  return compiled;
+}
+
+/** Turns a JSON pointer into `branches[0].head.state`; the root is `ledger`. */
+function fieldOf(pointer: string): string {
+  if (pointer === '') return 'ledger';
+  let out = '';
+  for (const raw of pointer.slice(1).split('/')) {
+    const seg = raw.replace(/~1/g, '/').replace(/~0/g, '~');
+    out += /^\d+$/.test(seg) ? `[${seg}]` : out === '' ? seg : `.${seg}`;
+  }
+  return out;
+}
+
+function schemaMessage(e: ErrorObject): string | undefined {
+  const field = fieldOf(e.instancePath);
+  const got = JSON.stringify(e.data)?.slice(0, 40) ?? 'nothing';
+  switch (e.keyword) {
+    case 'required':
+      return `${field}: missing required field '${(e.params as { missingProperty: string }).missingProperty}'`;
+    case 'additionalProperties':
+      return `${field}: unknown field '${(e.params as { additionalProperty: string }).additionalProperty}'`;
+    case 'pattern':
+      return (e.schema as string).includes('{64}')
+        ? `${field}: expected 64 lowercase hex digits (SHA-256), got ${got}`
+        : `${field}: expected a number or "f64:" + 16 hex digits, got ${got}`;
+    case 'anyOf':
+      return `${field}: has the wrong type, got ${got}`;
+    default:
+      return `${field}: ${e.message ?? 'is invalid'}${e.keyword === 'type' || e.keyword === 'enum' || e.keyword === 'minimum' ? `, got ${got}` : ''}`;
+  }
+}
+
+function checkpointProblems(c: LedgerCheckpoint, field: string, parameterCount: number, verify: boolean, errors: string[]): void {
+  try {
+    const state = decodeSessionState(c.state, `${field}.state`, parameterCount);
+    if (state.step !== c.step) errors.push(`${field}.step: is ${c.step}, but ${field}.state.step is ${state.step}`);
+    if (verify && fingerprintState(state) !== c.fingerprint)
+      errors.push(`${field}.fingerprint: does not match the state it describes (the state was edited or damaged)`);
+  } catch (err) {
+    errors.push(err instanceof LedgerError ? err.message : `${field}: ${String(err)}`);
+  }
+}
+
+/** Checks of one valid-by-schema ledger that the schema cannot express. */
+function semanticProblems(l: Ledger, verify: boolean): string[] {
+  const errors: string[] = [];
+  if (sha256Hex(l.spec) !== l.specHash) errors.push('specHash: does not match the SHA-256 of spec (the spec text was changed after it was hashed)');
+  const names = new Map<string, number>();
+  l.branches.forEach((b, i) => {
+    const prev = names.get(b.name);
+    if (prev !== undefined) errors.push(`branches[${i}].name: '${b.name}' is already the name of branches[${prev}]`);
+    else names.set(b.name, i);
+  });
+  if (!names.has(l.activeBranch)) errors.push(`activeBranch: no branch is named '${l.activeBranch}' (branches: ${Array.from(names.keys()).join(', ')})`);
+  if (!l.branches.some((b) => b.parent === undefined)) errors.push('branches: no branch is a root (every branch has a parent)');
+  l.branches.forEach((b, i) => {
+    const at = `branches[${i}]`;
+    if (b.parent) {
+      const p = names.get(b.parent.branch);
+      if (p === undefined) errors.push(`${at}.parent.branch: no branch is named '${b.parent.branch}'`);
+      else if (p === i) errors.push(`${at}.parent.branch: a branch cannot be its own parent`);
+      else if (b.parent.step > l.branches[p].head.step)
+        errors.push(`${at}.parent.step: is ${b.parent.step}, beyond the head (step ${l.branches[p].head.step}) of branch '${b.parent.branch}'`);
+      // Walk up the parents; a cycle never reaches a root.
+      if (p !== undefined && p !== i) {
+        const seen = new Set<number>([i]);
+        let cur: number | undefined = p;
+        while (cur !== undefined) {
+          if (seen.has(cur)) {
+            errors.push(`${at}.parent: the parent chain loops back to branch '${l.branches[cur].name}'`);
+            break;
+          }
+          seen.add(cur);
+          const up: { branch: string } | undefined = l.branches[cur].parent;
+          cur = up ? names.get(up.branch) : undefined;
+        }
+      }
+    }
+    let last = -1;
+    b.checkpoints.forEach((c, k) => {
+      const field = `${at}.checkpoints[${k}]`;
+      if (c.step <= last) errors.push(`${field}.step: steps must increase, got ${c.step} after ${last}`);
+      if (c.step >= b.head.step) errors.push(`${field}.step: is ${c.step}, not before the head (step ${b.head.step})`);
+      last = c.step;
+      checkpointProblems(c, field, l.parameterCount, verify, errors);
+    });
+    checkpointProblems(b.head, `${at}.head`, l.parameterCount, verify, errors);
+    if (b.parent && b.head.step < b.parent.step) errors.push(`${at}.head.step: is ${b.head.step}, before the fork step ${b.parent.step}`);
+    try {
+      const records = decodeTrajectory(b.trajectory, `${at}.trajectory`);
+      const lastRec = records[records.length - 1];
+      if (lastRec && lastRec.step > b.head.step)
+        errors.push(`${at}.trajectory.step: the last record is step ${lastRec.step}, beyond the head (step ${b.head.step})`);
+    } catch (err) {
+      errors.push(err instanceof LedgerError ? err.message : `${at}.trajectory: ${String(err)}`);
+    }
+  });
+  return errors;
+}
+
+/**
+ * Validates a stored ledger (any readable version; older ones are migrated first).
+ * @returns the ledger at the current version, or every problem found, each naming its field.
+ * Never throws on bad input.
+ */
+export function validateLedger(value: unknown, options: ValidateOptions = {}): LedgerResult {
+  const migrated = migrateLedger(value);
+  if (!migrated.ok) return migrated;
+  const validate = validator();
+  if (!validate(migrated.value)) {
+    const errors = (validate.errors ?? []).map(schemaMessage).filter((m): m is string => m !== undefined);
+    return { ok: false, errors: Array.from(new Set(errors)) };
+  }
+  const ledger = migrated.value as unknown as Ledger;
+  const errors = semanticProblems(ledger, options.verifyFingerprints !== false);
+  return errors.length > 0 ? { ok: false, errors } : { ok: true, ledger };
+}

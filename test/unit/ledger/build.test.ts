@@ -1,0 +1,133 @@
+/**
+ * buildLedger end to end: a real session is stepped, saved, read back and continued, and
+ * its fingerprint matches an uninterrupted run bit for bit. Failed builds throw before
+ * returning anything.
+ */
+import { Session } from '../../../src/core/session';
+import { parseSpec } from '../../../src/spec';
+import type { Experiment } from '../../../src/core/setup';
+import type { SessionState, StepRecord } from '../../../src/core/state';
+import { buildLedger, decodeBranch, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';
+import { input, P, state } from './fixtures';
+
+const SPEC = `seed: 11
+model:
+  inputs: 2
+  layers: [{ units: 4, activation: tanh }, { units: 1 }]
+data:
+  x: [[0.1, 0.9], [0.4, -0.2], [-0.7, 0.3], [0.8, 0.8], [-0.5, -0.6], [0.2, 0.0]]
+  y: [0.3, -0.1, 0.5, 0.9, -0.4, 0.05]
+recipe: { optimizer: adam, lr: 0.05, batch: 4 }
+`;
+
+function experiment(): Experiment {
+  const r = parseSpec(SPEC);
+  if (!r.ok) throw new Error(r.errors.map((e) => e.message).join('\n'));
+  return r.experiment;
+}
+
+describe('buildLedger with a real session', () => {
+  const exp = experiment();
+  const session = Session.create(exp);
+  const records: StepRecord[] = [session.initialRecord()];
+  const checkpoints: SessionState[] = [session.state()];
+  for (let k = 0; k < 40; k++) {
+    records.push(...session.step());
+    checkpoints.push(session.state());
+  }
+  const head = session.state();
+  const ledger = buildLedger({
+    engine: 'stepwell test', spec: SPEC, seed: exp.seed, parameterCount: head.params.length,
+    branches: [{ name: 'main', trajectory: records, checkpoints, head, pinned: [13] }],
+    activeBranch: 'main', savedAt: '2026-01-01T00:00:00.000Z', limits: { maxCheckpoints: 6, maxRecords: 16 },
+  });
+
+  it('validates after a trip through JSON text', () => {
+    const r = validateLedger(JSON.parse(serializeLedger(ledger)));
+    expect(r.ok ? [] : r.errors).toEqual([]);
+  });
+
+  it('thins checkpoints and caps records as asked, keeping first, head and pins', () => {
+    const b = ledger.branches[0];
+    const steps = [...b.checkpoints.map((c) => c.step), b.head.step];
+    expect(steps.length).toBe(6);
+    expect(steps[0]).toBe(0);
+    expect(steps).toContain(13);
+    expect(b.head.step).toBe(40);
+    expect(b.trajectory.count).toBeLessThanOrEqual(16);
+    expect(ledgerSize(ledger)).toEqual({ bytes: Buffer.byteLength(serializeLedger(ledger), 'utf8'), checkpoints: 6, records: b.trajectory.count });
+  });
+
+  it('a restored checkpoint continues bit for bit like the uninterrupted run', () => {
+    const decoded = decodeBranch(JSON.parse(serializeLedger(ledger)), 'main');
+    const pin = decoded.checkpoints.find((c) => c.step === 13)!;
+    const resumed = Session.restore(exp, pin.state);
+    expect(resumed.fingerprint()).toBe(pin.fingerprint);
+    resumed.step(40 - 13);
+    expect(resumed.fingerprint()).toBe(session.fingerprint());
+    expect(decoded.head.fingerprint).toBe(session.fingerprint());
+  });
+
+  it('stored records equal the session records bit for bit', () => {
+    const decoded = decodeBranch(ledger, 'main');
+    for (const r of decoded.trajectory) {
+      const original = records[r.step];
+      expect(Object.is(r.batchLoss, original.batchLoss) && r.loss === original.loss && r.ms === original.ms).toBe(true);
+      expect(r.layers).toEqual(original.layers);
+    }
+  });
+});
+
+describe('buildLedger: structure and atomicity', () => {
+  it('pins the fork point of a child branch in its parent', () => {
+    const l = buildLedger({ ...input(), limits: { maxCheckpoints: 3 } });
+    expect(l.branches[0].checkpoints.map((c) => c.step)).toContain(4);
+    expect(l.branches[1].parent).toEqual({ branch: 'main', step: 4 });
+    expect(l.branches[1].recipePatch).toEqual({ lr: 0.01 });
+  });
+
+  it('is deterministic for the same input', () => {
+    expect(serializeLedger(buildLedger(input()))).toBe(serializeLedger(buildLedger(input())));
+  });
+
+  it('drops a checkpoint that duplicates the head', () => {
+    const i = input();
+    const l = buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(0), state(10)] }] });
+    expect(l.branches[0].checkpoints.map((c) => c.step)).toEqual([0]);
+  });
+
+  it.each<[string, () => unknown, string]>([
+    ['a wrong parameter count', () => buildLedger({ ...input(), parameterCount: P + 1 }), 'branches[0].checkpoints[0].state.params: holds 5 numbers, expected 6'],
+    ['a NaN inside a finding', () => buildLedger({ ...input(), findings: [{ rule: 'r', value: NaN }] }), 'findings[0].value: is NaN, which JSON cannot hold'],
+    ['a typed array inside a recipe patch', () => {
+      const i = input();
+      return buildLedger({ ...i, branches: [i.branches[0], { ...i.branches[1], recipePatch: { w: new Float64Array(2) } }] });
+    }, 'branches[1].recipePatch.w: is a class instance or typed array, which is not plain JSON'],
+    ['a checkpoint after the head', () => {
+      const i = input();
+      return buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(0), state(12)] }, i.branches[1]] });
+    }, 'branches[0].checkpoints[1]: is at step 12, after the head (step 10)'],
+    ['two checkpoints at one step', () => {
+      const i = input();
+      return buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(2), state(2)] }, i.branches[1]] });
+    }, 'branches[0].checkpoints[1]: is a second checkpoint at step 2'],
+    ['uneven trajectory records', () => {
+      const i = input();
+      const t = [...i.branches[0].trajectory];
+      t[3] = { ...t[3], layers: [] };
+      return buildLedger({ ...i, branches: [{ ...i.branches[0], trajectory: t }, i.branches[1]] });
+    }, 'branches[0].trajectory.trajectory[3].layers: has 0 entries, but record 0 has 2'],
+    ['an unknown active branch', () => buildLedger({ ...input(), activeBranch: 'x' }), "activeBranch: no branch is named 'x'"],
+  ])('throws a LedgerError for %s, returning nothing', (_n, fn, message) => {
+    let result: unknown;
+    let error: unknown;
+    try {
+      result = fn();
+    } catch (e) {
+      error = e;
+    }
+    expect(result).toBeUndefined();
+    expect(error).toBeInstanceOf(LedgerError);
+    expect((error as Error).message).toContain(message);
+  });
+});
