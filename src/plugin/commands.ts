@@ -1,0 +1,118 @@
+/**
+ * Commands of Stepwell. Ids live in {@link CommandIDs}; toolbar buttons and keyboard
+ * shortcuts are declared in schema/plugin.json.
+ */
+import type { JupyterFrontEnd } from '@jupyterlab/application';
+import type { ICommandPalette } from '@jupyterlab/apputils';
+import type { INotebookTracker } from '@jupyterlab/notebook';
+import { TEMPLATE_SPEC } from '../spec';
+import type { CellController } from '../ui/controller';
+import { hasMarker } from './registry';
+import { stepIcon, stepwellIcon } from './icons';
+import type { IStepwellCells } from './tokens';
+
+/** Command ids. */
+export namespace CommandIDs {
+  export const insertCell = 'stepwell:insert-cell';
+  export const step = 'stepwell:step';
+  export const stepN = 'stepwell:step-n';
+  export const runUntil = 'stepwell:run-until';
+  export const stop = 'stepwell:stop';
+  export const reset = 'stepwell:reset';
+  export const rewind = 'stepwell:rewind';
+  export const verify = 'stepwell:verify';
+  export const audit = 'stepwell:audit';
+}
+
+/** The text of a new stepwell cell (the template, with the marker line guaranteed). */
+export function newCellSource(): string {
+  return hasMarker(TEMPLATE_SPEC) ? TEMPLATE_SPEC : `# stepwell\n${TEMPLATE_SPEC}`;
+}
+
+/** Registers every command and its palette entry. */
+export function addCommands(
+  app: JupyterFrontEnd,
+  tracker: INotebookTracker,
+  cells: IStepwellCells,
+  palette: ICommandPalette | null
+): void {
+  const { commands } = app;
+  /** The controller of the active cell when it is a stepwell cell. */
+  const active = (): CellController | null => {
+    const cell = tracker.activeCell;
+    if (cell === null || !cells.isStepwell(cell.model)) return null;
+    return cells.controllerFor(cell.model);
+  };
+  const onStepwell = { isEnabled: () => active() !== null, isVisible: () => active() !== null };
+  const idle = { isEnabled: () => { const c = active(); return c !== null && c.state.busy === null && c.state.summary !== null; }, isVisible: onStepwell.isVisible };
+
+  commands.addCommand(CommandIDs.insertCell, {
+    label: 'Insert Stepwell Cell',
+    caption: 'Insert a stepwell experiment cell below the active cell and start its session',
+    icon: stepwellIcon,
+    isEnabled: () => tracker.currentWidget !== null,
+    execute: async () => {
+      const panel = tracker.currentWidget;
+      if (panel === null || panel.model === null) return;
+      const notebook = panel.content;
+      const index = notebook.activeCellIndex + 1;
+      panel.model.sharedModel.insertCell(index, { cell_type: 'code', source: newCellSource(), metadata: {} });
+      notebook.activeCellIndex = index;
+      const cell = notebook.activeCell;
+      if (cell !== null) await cells.controllerFor(cell.model).run();
+    }
+  });
+  commands.addCommand(CommandIDs.step, {
+    label: 'Step Once',
+    caption: 'Apply one optimizer update in the active stepwell cell',
+    icon: stepIcon,
+    ...idle,
+    execute: () => active()?.step(1)
+  });
+  commands.addCommand(CommandIDs.stepN, {
+    label: () => `Step ×${cells.settings.defaultN}`,
+    caption: 'Apply N optimizer updates (N from the settings) in the active stepwell cell',
+    ...idle,
+    execute: () => active()?.step()
+  });
+  commands.addCommand(CommandIDs.runUntil, {
+    label: 'Run Until…',
+    caption: 'Open the run-until form of the active stepwell cell',
+    ...idle,
+    execute: () => active()?.setForm('run-until')
+  });
+  commands.addCommand(CommandIDs.stop, {
+    label: 'Stop Stepping',
+    caption: 'End the running work of the active stepwell cell early',
+    isEnabled: () => active()?.state.busy != null,
+    isVisible: onStepwell.isVisible,
+    execute: () => active()?.stop()
+  });
+  commands.addCommand(CommandIDs.reset, {
+    label: 'Reset to Step 0',
+    caption: 'Start the active stepwell cell again at step 0 from its spec text',
+    ...onStepwell,
+    execute: () => active()?.reset()
+  });
+  commands.addCommand(CommandIDs.rewind, {
+    label: 'Rewind…',
+    caption: 'Open the rewind form (checkpoints or an earlier step) of the active stepwell cell',
+    ...idle,
+    execute: () => active()?.setForm('rewind')
+  });
+  commands.addCommand(CommandIDs.verify, {
+    label: 'Verify by Replay',
+    caption: 'Replay the active stepwell cell from its seed and compare bit for bit',
+    ...idle,
+    execute: () => active()?.verify()
+  });
+  commands.addCommand(CommandIDs.audit, {
+    label: 'Audit Gradient',
+    caption: 'Compare the exact gradient with finite differences in the active stepwell cell',
+    ...idle,
+    execute: () => active()?.audit()
+  });
+  if (palette !== null) {
+    for (const command of Object.values(CommandIDs)) palette.addItem({ command, category: 'Stepwell' });
+  }
+}

@@ -1,0 +1,97 @@
+/**
+ * Stepwell's JupyterLab plugins. Each plugin object is small and hands off to named
+ * functions: the registry of stepwell cells, the cell executor, the rendermime factory of
+ * the live widget, and the commands with their settings.
+ */
+import type { JupyterFrontEnd, JupyterFrontEndPlugin } from '@jupyterlab/application';
+import { ICommandPalette } from '@jupyterlab/apputils';
+import { INotebookCellExecutor, INotebookTracker } from '@jupyterlab/notebook';
+import { IRenderMimeRegistry } from '@jupyterlab/rendermime';
+import { ISettingRegistry } from '@jupyterlab/settingregistry';
+import type { CellSettings } from '../ui/ports';
+import { DEFAULT_SETTINGS } from '../ui/ports';
+import { spawnEngine } from '../worker/spawn';
+import { cellHost } from './cell-host';
+import { addCommands } from './commands';
+import { createExecutor } from './executor';
+import { StepwellCells } from './registry';
+import { rendererFactory } from './renderer';
+import { IStepwellCells } from './tokens';
+
+/** The id of the plugin that owns schema/plugin.json (settings, toolbar, shortcuts). */
+export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
+
+/** Provides the registry of stepwell cells. */
+const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
+  id: 'stepwell:cells',
+  description: 'Keeps one controller per stepwell cell and the user settings.',
+  autoStart: true,
+  provides: IStepwellCells,
+  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost)
+};
+
+/** Runs stepwell cells in our engine and every other cell as JupyterLab would. */
+const executorPlugin: JupyterFrontEndPlugin<INotebookCellExecutor> = {
+  id: 'stepwell:executor',
+  description: 'Notebook cell executor: stepwell cells run in the Stepwell engine, other cells in the kernel.',
+  autoStart: true,
+  requires: [IStepwellCells],
+  provides: INotebookCellExecutor,
+  activate: (_app: JupyterFrontEnd, cells: IStepwellCells): INotebookCellExecutor => createExecutor(cells)
+};
+
+/** Renders our mime type as the live cell widget. */
+const rendererPlugin: JupyterFrontEndPlugin<void> = {
+  id: 'stepwell:renderer',
+  description: 'Renders stepwell outputs as the live cell widget.',
+  autoStart: true,
+  requires: [IRenderMimeRegistry, IStepwellCells],
+  activate: (_app: JupyterFrontEnd, rendermime: IRenderMimeRegistry, cells: IStepwellCells): void => {
+    rendermime.addFactory(rendererFactory(cells));
+  }
+};
+
+/** Commands, palette entries and settings. */
+const commandsPlugin: JupyterFrontEndPlugin<void> = {
+  id: SETTINGS_PLUGIN_ID,
+  description: 'Stepwell commands (insert, step, run until, rewind, verify) and settings.',
+  autoStart: true,
+  requires: [INotebookTracker, IStepwellCells],
+  optional: [ICommandPalette, ISettingRegistry],
+  activate: (
+    app: JupyterFrontEnd,
+    tracker: INotebookTracker,
+    cells: IStepwellCells,
+    palette: ICommandPalette | null,
+    settings: ISettingRegistry | null
+  ): void => {
+    addCommands(app, tracker, cells, palette);
+    if (settings !== null) void followSettings(settings, cells as StepwellCells);
+  }
+};
+
+/** Reads our settings and follows later changes. */
+async function followSettings(registry: ISettingRegistry, cells: StepwellCells): Promise<void> {
+  try {
+    const settings = await registry.load(SETTINGS_PLUGIN_ID);
+    const apply = (): void => {
+      const c = settings.composite as Partial<Record<keyof CellSettings, unknown>>;
+      const pick = (k: keyof CellSettings): number => (typeof c[k] === 'number' ? (c[k] as number) : DEFAULT_SETTINGS[k]);
+      cells.settings = {
+        defaultN: pick('defaultN'),
+        checkpointEvery: pick('checkpointEvery'),
+        checkpointCap: pick('checkpointCap'),
+        auditSample: pick('auditSample'),
+        denseHessianLimit: pick('denseHessianLimit'),
+        eigenCount: pick('eigenCount')
+      };
+    };
+    apply();
+    settings.changed.connect(apply);
+  } catch (error) {
+    console.warn(`Stepwell: settings could not be loaded, using defaults (${String(error)})`);
+  }
+}
+
+const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin];
+export default plugins;

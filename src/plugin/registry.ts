@@ -1,0 +1,92 @@
+/**
+ * The registry of stepwell cells: which code cells are ours, and one controller per cell
+ * model (shared by every view of that cell). Controllers follow their model's source
+ * (debounced live spec check) and end with it.
+ */
+import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
+import { parseSpec } from '../spec';
+import { CellController } from '../ui/controller';
+import type { CellHost, CellSettings } from '../ui/ports';
+import { DEFAULT_SETTINGS } from '../ui/ports';
+import { LEDGER_KEY, ledgerGlue } from '../ui/ledger-glue';
+import type { EngineClient } from '../worker/client';
+import type { SpecProblem } from '../worker/protocol';
+import type { IStepwellCells } from './tokens';
+
+/**
+ * The marker line: a code cell whose first line is a YAML comment starting with
+ * "stepwell" (or "a stepwell …"), e.g. `# stepwell` or `# A stepwell experiment…`, is a
+ * stepwell cell even before it has a ledger.
+ */
+export const MARKER = /^#\s*(a\s+)?stepwell\b/i;
+
+/** True when the first line of `source` is the marker line. */
+export function hasMarker(source: string): boolean {
+  const first = source.split('\n', 1)[0] ?? '';
+  return MARKER.test(first.trim());
+}
+
+/** The live spec check: every error of the parser (warnings are shown after a run). */
+export function checkSpec(text: string): SpecProblem[] {
+  const r = parseSpec(text);
+  return r.ok ? [] : r.errors;
+}
+
+/** Milliseconds of quiet typing before the spec is re-checked. */
+const CHECK_DELAY_MS = 300;
+
+/** The {@link IStepwellCells} implementation. */
+export class StepwellCells implements IStepwellCells {
+  private readonly controllers = new Map<ICellModel, CellController>();
+  private readonly engine: () => EngineClient;
+  private readonly host: (model: ICodeCellModel) => CellHost;
+  /** The current settings (replaced when the user changes them). */
+  settings: CellSettings = { ...DEFAULT_SETTINGS };
+
+  /**
+   * @param engine - starts an engine for a new controller.
+   * @param host - the cell door over a model (see `cell-host.ts`).
+   */
+  constructor(engine: () => EngineClient, host: (model: ICodeCellModel) => CellHost) {
+    this.engine = engine;
+    this.host = host;
+  }
+
+  /** True for code cells with our metadata key or the marker line. */
+  isStepwell(model: ICellModel): boolean {
+    if (model.type !== 'code') return false;
+    return model.getMetadata(LEDGER_KEY) !== undefined || hasMarker(model.sharedModel.getSource());
+  }
+
+  /** The controller of a stepwell cell, created on first use. */
+  controllerFor(model: ICellModel): CellController {
+    const known = this.controllers.get(model);
+    if (known !== undefined && !known.isDisposed) return known;
+    if (model.type !== 'code') throw new Error('a stepwell cell must be a code cell');
+    const controller = new CellController({
+      host: this.host(model as ICodeCellModel),
+      engine: this.engine,
+      ledger: ledgerGlue,
+      checkSpec,
+      settings: () => this.settings
+    });
+    let timer: ReturnType<typeof setTimeout> | null = null;
+    const onContent = (): void => {
+      if (timer !== null) clearTimeout(timer);
+      timer = setTimeout(() => {
+        timer = null;
+        if (!controller.isDisposed) controller.sourceChanged();
+      }, CHECK_DELAY_MS);
+    };
+    model.contentChanged.connect(onContent);
+    const onDisposed = (): void => {
+      if (timer !== null) clearTimeout(timer);
+      model.contentChanged.disconnect(onContent);
+      controller.dispose();
+      this.controllers.delete(model);
+    };
+    model.sharedModel.disposed.connect(onDisposed);
+    this.controllers.set(model, controller);
+    return controller;
+  }
+}
