@@ -22,18 +22,28 @@ export function drawOrder(rng: Rng, n: number, order: Int32Array | null): Int32A
   return o;
 }
 
+/** Row buffers reused across steps: one of the batch size, one for a shorter remainder. */
+export interface BatchBuffers {
+  full: Int32Array;
+  tail: Int32Array | null;
+}
+
 /**
- * Copies the next batch of `pos.order` into `full` (length B) or `tail` (length N mod B) and
- * advances the position; at the end of an epoch the epoch counter is raised and the next
- * permutation drawn in place. Returns the buffer holding this step's rows.
+ * Copies the next batch of `pos.order` into `buf.full` (B rows) or, at the end of an epoch,
+ * into `buf.tail` (the remaining rows; reallocated only when its length changes, e.g. after a
+ * branch changed the batch size mid-epoch) and advances the position; at the end of an epoch
+ * the epoch counter is raised and the next permutation drawn in place. Returns the rows.
  */
-export function nextBatch(rng: Rng, pos: BatchPosition, batch: number, full: Int32Array, tail: Int32Array | null): Int32Array {
+export function nextBatch(rng: Rng, pos: BatchPosition, batch: number, buf: BatchBuffers): Int32Array {
   const order = pos.order;
   if (order === null) throw new Error('mini-batch session has no row order (state.order is null)');
   const n = order.length;
   const take = Math.min(batch, n - pos.cursor);
-  const out = take === full.length ? full : tail;
-  if (out === null || out.length !== take) throw new Error(`batch position ${pos.cursor} of ${n} does not fit batch size ${batch}`);
+  let out = buf.full;
+  if (take !== buf.full.length) {
+    if (buf.tail === null || buf.tail.length !== take) buf.tail = new Int32Array(take);
+    out = buf.tail;
+  }
   for (let i = 0; i < take; i++) out[i] = order[pos.cursor + i];
   pos.cursor += take;
   if (pos.cursor >= n) {

@@ -21,8 +21,9 @@ import { addWeightDecay, clipByGlobalNorm, layerScales } from '../optim/gradient
 import { familyFor } from '../optim/registry';
 import { learningRate } from '../optim/schedule';
 import { applyUpdates, descend, Workspace, type OptimizerContext, type OptimizerFamily } from '../optim/types';
-import { drawOrder, drawSubset, nextBatch, type BatchPosition } from './batches';
+import { drawOrder, drawSubset, nextBatch, type BatchBuffers, type BatchPosition } from './batches';
 import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';
+import { effectiveBatch } from './adapt';
 import { evaluateStop, type StopCondition } from './stop';
 
 /** Callbacks for long runs; `shouldStop` is checked between updates. */
@@ -69,8 +70,7 @@ export class Session {
   private readonly pos: BatchPosition;
   private steps: number;
   private readonly batchSize: number;
-  private readonly fullRows: Int32Array | null;
-  private readonly tailRows: Int32Array | null;
+  private readonly rowBuffers: BatchBuffers | null;
   private readonly curvature: Int32Array | undefined;
   private readonly grad: Float64Array;
   private readonly upd: Float64Array;
@@ -86,12 +86,11 @@ export class Session {
     const p = this.objective.parameterCount;
     this.family = familyFor(recipe.optimizer);
     const n = this.objective.rowCount;
-    this.batchSize = recipe.batch === 'full' || n === 0 || recipe.batch >= n ? 0 : recipe.batch;
+    this.batchSize = effectiveBatch(recipe, n);
     if (this.batchSize !== 0 && (!Number.isInteger(this.batchSize) || this.batchSize < 1)) {
       throw new Error(`recipe.batch must be 'full' or a positive integer, got ${String(recipe.batch)}`);
     }
-    this.fullRows = this.batchSize > 0 ? new Int32Array(this.batchSize) : null;
-    this.tailRows = this.batchSize > 0 && n % this.batchSize !== 0 ? new Int32Array(n % this.batchSize) : null;
+    this.rowBuffers = this.batchSize > 0 ? { full: new Int32Array(this.batchSize), tail: n % this.batchSize !== 0 ? new Int32Array(n % this.batchSize) : null } : null;
     const cb = recipe.curvatureBatch;
     this.curvature = typeof cb === 'number' && n > 0 && cb < n ? drawSubset(Rng.fromSeed(seed).fork('curvature'), n, cb) : undefined;
     if (state === null) {
@@ -223,7 +222,7 @@ export class Session {
   private update(): StepRecord {
     const t0 = now();
     const recipe = this.experiment.recipe;
-    const rows = this.batchSize > 0 ? nextBatch(this.rng, this.pos, this.batchSize, this.fullRows as Int32Array, this.tailRows) : undefined;
+    const rows = this.batchSize > 0 ? nextBatch(this.rng, this.pos, this.batchSize, this.rowBuffers as BatchBuffers) : undefined;
     if (this.batchSize === 0 && this.objective.rowCount > 0) this.pos.epoch += 1;
     const lr = learningRate(recipe, this.steps);
     const g = this.grad;
