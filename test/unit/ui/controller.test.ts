@@ -99,8 +99,9 @@ describe('CellController', () => {
     const c = controller(cell);
     await c.run();
     await c.step(40);
-    const stored = cell.metadata as { checkpoints: unknown[] };
-    expect(stored.checkpoints.length).toBeLessThanOrEqual(5);
+    const stored = cell.metadata as { branches: { checkpoints: unknown[] }[] };
+    // The head is stored apart from the checkpoints before it: cap 5 = head + 4.
+    expect(stored.branches[0].checkpoints.length).toBeLessThanOrEqual(4);
     expect(await c.rewind(13)).toBe(true);
     expect(c.state.summary?.step).toBe(13);
     expect(c.state.trajectory).toHaveLength(14);
@@ -133,16 +134,24 @@ describe('CellController', () => {
   });
 
   it('reports a corrupt ledger, leaves the spec untouched, and starts over only when asked', async () => {
-    const cell = fakeCell(TEMPLATE_SPEC, { format: 'stepwell-ledger-provisional-1', specText: TEMPLATE_SPEC, trajectory: 'oops' });
+    const good = fakeCell();
+    const first = controller(good);
+    await first.run();
+    await first.step(3);
+    first.dispose();
+    const broken = JSON.parse(JSON.stringify(good.metadata));
+    broken.branches[0].head.state.params = 'AAAA';
+    const cell = fakeCell(TEMPLATE_SPEC, broken);
     const c = controller(cell);
     expect(c.state.ledger).toBe('corrupt');
     expect(c.state.notice?.text).toContain('cannot be read');
-    expect(c.state.notice?.text).toContain('trajectory');
+    expect(c.state.notice?.text).toContain('params');
     expect(await c.run()).toBe(false);
     expect(cell.source).toBe(TEMPLATE_SPEC);
     expect(cell.writes).toBe(0);
     expect(await c.run(true)).toBe(true);
     expect(c.state.ledger).toBe('ok');
+    expect(c.state.summary?.step).toBe(0);
     expect(cell.writes).toBe(1);
   });
 

@@ -5,7 +5,6 @@ import { chooseScale, traceFigure } from '../../../src/ui/trace-figure';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
-import { thin } from '../../../src/ui/ledger-glue';
 import type { StepRecord } from '../../../src/core/state';
 
 const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
@@ -96,7 +95,7 @@ describe('summary texts', () => {
   });
 });
 
-describe('form input and checkpoint thinning', () => {
+describe('form input', () => {
   it('reads numbers with messages that name the field', () => {
     expect(readNumber('25', 'N', true, 1)).toBe(25);
     expect(readNumber('2.5', 'N', true, 1)).toBe('N must be a whole number, got 2.5');
@@ -104,12 +103,4 @@ describe('form input and checkpoint thinning', () => {
     expect(readNumber('0', 'N', true, 1)).toBe('N must be at least 1, got 0');
   });
 
-  it('keeps the first and last checkpoints and at most the cap', () => {
-    const cps = Array.from({ length: 11 }, (_, i) => ({ step: i * 10, fingerprint: String(i), state: null as never }));
-    const kept = thin(cps, 4).map(c => c.step);
-    expect(kept).toHaveLength(4);
-    expect(kept[0]).toBe(0);
-    expect(kept[3]).toBe(100);
-    expect(thin(cps, 20)).toHaveLength(11);
-  });
 });
