@@ -6,6 +6,7 @@
 import type { OptimizerName } from '../core/setup';
 import type { LayerRecord, SessionState, StepRecord } from '../core/state';
 import { base64FromFloat64, base64FromInt32, float64FromBase64, int32FromBase64 } from './base64';
+import { sha256Hex } from './hash';
 import { LedgerError } from './types';
 import type { EncodedScalar, EncodedSessionState, EncodedTrajectory } from './types';
 
@@ -127,6 +128,7 @@ export function encodeTrajectory(records: readonly StepRecord[]): EncodedTraject
     });
   });
   const t: EncodedTrajectory = {
+    digest: '',
     count: n,
     layers,
     step: base64FromFloat64(cols.step),
@@ -142,14 +144,29 @@ export function encodeTrajectory(records: readonly StepRecord[]): EncodedTraject
     layerUpdateRatio: base64FromFloat64(layerCols[2]),
   };
   if (held) t.heldOutLoss = base64FromFloat64(heldCol);
+  t.digest = trajectoryDigest(t);
   return t;
+}
+
+/**
+ * SHA-256 hex over `count`, `layers` and each column as `name=base64;` in a fixed order
+ * (`heldOutLoss` only when present). Records are not part of any state fingerprint, so
+ * this digest is what reveals an edited loss curve.
+ */
+export function trajectoryDigest(t: Omit<EncodedTrajectory, 'digest'> | Record<string, unknown>): string {
+  const o = t as Record<string, unknown>;
+  let text = `stepwell-trajectory-v1;count=${String(o.count)};layers=${String(o.layers)};`;
+  for (const c of [...COLUMNS, 'heldOutLoss', ...LAYER_COLUMNS.map(([name]) => name)])
+    if (o[c] !== undefined) text += `${c}=${String(o[c])};`;
+  return sha256Hex(text);
 }
 
 /**
  * Decodes a columnar trajectory back into step records (bit for bit), checking every
  * column's length and that steps are non-negative integers, strictly increasing.
+ * @param verifyDigest - also check {@link EncodedTrajectory.digest} (default true).
  */
-export function decodeTrajectory(e: unknown, field = 'trajectory'): StepRecord[] {
+export function decodeTrajectory(e: unknown, field = 'trajectory', verifyDigest = true): StepRecord[] {
   const o = need(e, field);
   const n = int(o.count, `${field}.count`);
   const layers = int(o.layers, `${field}.layers`);
@@ -173,5 +190,8 @@ export function decodeTrajectory(e: unknown, field = 'trajectory'): StepRecord[]
     if (held) r.heldOutLoss = held[i];
     out.push(r);
   }
+  // Last, so that a malformed column gets its specific message first.
+  if (verifyDigest && o.digest !== trajectoryDigest(o))
+    throw new LedgerError(`${field}.digest`, 'does not match the columns (the records were edited or damaged)');
   return out;
 }

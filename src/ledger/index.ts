@@ -6,7 +6,7 @@
 export { LEDGER_FORMAT, LEDGER_KEY, LEDGER_VERSION, LedgerError } from './types';
 export type { EncodedOptimizerState, EncodedScalar, EncodedSessionState, EncodedTrajectory, Ledger, LedgerBranch, LedgerCheckpoint } from './types';
 export { base64FromBytes, base64FromFloat64, base64FromInt32, bytesFromBase64, float64FromBase64, int32FromBase64 } from './base64';
-export { decodeScalar, decodeSessionState, decodeTrajectory, encodeScalar, encodeSessionState, encodeTrajectory } from './codec';
+export { decodeScalar, decodeSessionState, decodeTrajectory, encodeScalar, encodeSessionState, encodeTrajectory, trajectoryDigest } from './codec';
 export { migrateLedger, MIGRATIONS, OLDEST_READABLE_VERSION, recoverSpec } from './migrate';
 export type { LedgerJson, MigrateResult, Migration } from './migrate';
 export { validateLedger } from './validate';

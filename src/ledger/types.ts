@@ -50,6 +50,8 @@ export interface LedgerCheckpoint {
  * every record has one.
  */
 export interface EncodedTrajectory {
+  /** SHA-256 hex over count, layers and every column (see `trajectoryDigest`); exposes hand edits. */
+  digest: string;
   count: number;
   layers: number;
   step: string;

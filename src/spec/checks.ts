@@ -147,7 +147,12 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
   const last = layers[layers.length - 1];
   const outUnits = isObj(last) && isPosInt(last.units) ? last.units : undefined;
   const loss = typeof spec.loss === 'string' ? spec.loss : 'mse';
-  if (Array.isArray(model.weights)) checkWeights(model.weights, layers, inputs, report);
+  if (Array.isArray(model.weights)) {
+    checkWeights(model.weights, layers, inputs, report);
+    for (const key of ['init', 'gain'])
+      if (model[key] !== undefined)
+        report.warnings.push({ path: ['model', key], atKey: true, message: `model.${key} is ignored because model.weights gives the initial parameters` });
+  }
   if (loss === 'cross-entropy' && isObj(last)) {
     if (outUnits === 1)
       report.errors.push({ path: ['model', 'layers', layers.length - 1, 'units'], message: `cross-entropy needs at least 2 units in the last layer (one logit per class), got 1; use binary-cross-entropy for two classes with one unit` });

@@ -41,6 +41,7 @@ describe('validateLedger', () => {
     ['checkpoint steps out of order', (l) => l.branches[0].checkpoints.reverse(), 'branches[0].checkpoints[1].step: steps must increase'],
     ['checkpoint at the head step', (l) => l.branches[0].checkpoints.push(l.branches[0].head), 'is 10, not before the head (step 10)'],
     ['step and state.step disagree', (l) => (l.branches[0].checkpoints[1].step = 99), 'branches[0].checkpoints[1].step: is 99, but branches[0].checkpoints[1].state.step is'],
+    ['edited loss column (still valid base64)', (l) => (l.branches[0].trajectory.loss = flipChar(l.branches[0].trajectory.loss)), 'branches[0].trajectory.digest: does not match the columns (the records were edited or damaged)'],
     ['trajectory steps not increasing', (l) => (l.branches[1].trajectory.step = base64FromFloat64(Float64Array.of(4, 6, 5, 7))), 'branches[1].trajectory.step: steps must increase: entry 2 is 5 after 6'],
     ['trajectory column of the wrong length', (l) => (l.branches[1].trajectory.step = l.branches[0].checkpoints[0].state.optimizer.buffers.v), 'branches[1].trajectory.step: holds 5 numbers, expected 4'],
     ['trajectory layer column short', (l) => (l.branches[0].trajectory.layerUpdateRatio = 'AAAAAAAAAAA='), 'branches[0].trajectory.layerUpdateRatio: holds 1 numbers, expected 22'],
@@ -112,5 +113,27 @@ describe('migrateLedger: the version chain', () => {
     expect(migrateLedger(v1(), {}, 2)).toEqual({ ok: false, errors: ['version: no migration from ledger version 1 to 2'] });
     expect(migrateLedger(v1(), { 1: (v) => v }, 2)).toEqual({ ok: false, errors: ['version: the migration from version 1 did not produce version 2'] });
     expect(migrateLedger(v1(), { 1: () => { throw new Error('boom'); } }, 2)).toEqual({ ok: false, errors: ['version: migrating from version 1 to 2 failed: boom'] });
+  });
+});
+
+describe('validateLedger on randomly damaged text', () => {
+  let seed = 777;
+  const next = (n: number) => {
+    seed = (Math.imul(seed, 1103515245) + 12345) >>> 0;
+    return seed % n;
+  };
+  it('never throws and rejects every edit inside a base64 field', () => {
+    const text = JSON.stringify(ledgerJson());
+    const base64Spans = [...text.matchAll(/"([A-Za-z0-9+/]{16,}={0,2})"/g)].map((m) => [m.index! + 1, m.index! + 1 + m[1].length]);
+    for (let k = 0; k < 150; k++) {
+      const [a, b] = base64Spans[next(base64Spans.length)];
+      const at = a + next(b - a);
+      const replacement = 'ABCD+/=!'[next(8)];
+      if (text[at] === replacement) continue;
+      const damaged = text.slice(0, at) + replacement + text.slice(at + 1);
+      const r = validateLedger(JSON.parse(damaged));
+      expect(r.ok).toBe(false);
+      if (!r.ok) expect(r.errors.every((e) => /^[\w[\].]+: /.test(e))).toBe(true);
+    }
   });
 });

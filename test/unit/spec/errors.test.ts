@@ -158,3 +158,28 @@ describe('parseSpec: JSON input gives line and column too', () => {
     if (a.ok && b.ok) expect(a.experiment).toEqual(b.experiment);
   });
 });
+
+describe('parseSpec: damaged templates never throw', () => {
+  // A fixed linear congruential sequence picks the damage, so failures reproduce.
+  let seed = 12345;
+  const next = (n: number) => {
+    seed = (Math.imul(seed, 1103515245) + 12345) >>> 0;
+    return seed % n;
+  };
+  const junk = ['', ' ', ':', '-', '[', ']', '{', '}', '#', '0', 'x', '\n', '"', '&a', '*a', '\t'];
+  it('400 random single-character edits give a result with well-placed errors', async () => {
+    const { TEMPLATE_SPEC } = await import('../../../src/spec');
+    const lines = TEMPLATE_SPEC.split('\n').length;
+    for (let k = 0; k < 400; k++) {
+      const at = next(TEMPLATE_SPEC.length);
+      const text = TEMPLATE_SPEC.slice(0, at) + junk[next(junk.length)] + TEMPLATE_SPEC.slice(at + 1);
+      const r = parseSpec(text);
+      if (r.ok) continue;
+      expect(r.errors.length).toBeGreaterThan(0);
+      for (const e of r.errors) {
+        expect(e.message.length).toBeGreaterThan(5);
+        if (e.line !== undefined) expect(e.line).toBeLessThanOrEqual(lines + 1);
+      }
+    }
+  });
+});

@@ -30,6 +30,7 @@ describe('parseSpec: warnings', () => {
     ['cross-entropy after tanh', NET('', '{ units: 3, activation: tanh }'), 'model.layers[0].activation', 'cross-entropy applies softmax itself; a final tanh squashes the logits', 2],
     ['optimizer key that has no effect', NET('recipe: { optimizer: sgd, beta1: 0.8 }\n'), 'recipe.beta1', 'recipe.beta1 applies to adam, adamw, not to sgd, so it has no effect', 5],
     ['momentum of 1 or more', NET('recipe: { momentum: 1.2 }\n'), 'recipe.momentum', 'recipe.momentum is 1.2; with μ ≥ 1 the velocity never decays and the iteration cannot settle', 5],
+    ['init next to explicit weights', 'seed: 1\nmodel:\n  inputs: 1\n  init: he-normal\n  layers: [{ units: 1 }]\n  weights: [{ weight: [[2]], bias: [0] }]\ndata: { x: [[1]], y: [2] }\n', 'model.init', 'model.init is ignored because model.weights gives the initial parameters', 4],
     ['no seed', NET('').replace('seed: 1\n', ''), '', 'no seed given, so seed 0 is used; write seed: explicitly so the notebook states it', 1],
     ['data on an objective', 'seed: 1\nmodel: { objective: rosenbrock }\ndata: { x: [[1]], y: [1] }\n', 'data', 'data is not used by the rosenbrock objective and is ignored', 3],
     ['l2 on an objective', 'seed: 1\nmodel: { objective: rosenbrock }\nregularization: { l2: 0.1 }\n', 'regularization.l2', 'regularization.l2 penalizes network weight matrices; the rosenbrock objective has none, so it has no effect', 3],
