@@ -1,0 +1,19 @@
+/**
+ * Curvature readouts: dense and matrix-free spectra of the Hessian or Gauss-Newton matrix, derived
+ * numbers (λmax, λmin, condition number, negative share, trace, largest stable learning rate),
+ * per-layer block sharpness, sharpness along a trajectory, and the loss along a direction.
+ */
+export type { CurvatureKind, CurvatureOperatorOptions, CountingOperator } from './operator';
+export { curvatureOperator } from './operator';
+export type { DenseHessian, DenseHessianOptions, DenseSpectrum } from './dense';
+export { DENSE_LIMIT, denseHessian, denseSpectrum } from './dense';
+export type { StabilityRule, StabilityFactor, StabilityBound, StepMetric } from './stability';
+export { stabilityFactor, stabilityBound, preconditionerDiagonal, stepMetric } from './stability';
+export type { CurvatureSpectrum, CurvatureSummary, SummaryOptions, MeasureOptions, CurvatureReport } from './summary';
+export { DEFAULT_CUTOFF, CURVATURE_CAVEAT, spectrumFromDense, spectrumFromLanczos, curvatureSummary, measureCurvature } from './summary';
+export type { LayerSharpness, LayerSharpnessOptions } from './layers';
+export { layerSharpness } from './layers';
+export type { SteppableSession, SharpnessRecord, TrackOptions, SharpnessTrace } from './trajectory';
+export { trackSharpness } from './trajectory';
+export type { LineProfile, LineProfileOptions } from './profile';
+export { lineProfile } from './profile';

@@ -1,0 +1,270 @@
+/**
+ * The curvature readout's numbers: extreme eigenvalues with error bounds, condition number of the
+ * positive part, share of negative curvature, trace, and the recipe's largest stable learning
+ * rate with its margin, from either the dense spectrum (small P) or Lanczos + SLQ + Hutchinson.
+ */
+import type { Objective, Rows } from '../../objective';
+import type { Rng } from '../../rng';
+import type { Recipe } from '../../setup';
+import type { IterationControl, StopReason } from '../../linalg/operator';
+import type { LanczosResult } from '../../linalg/lanczos';
+import { lanczosExtremes } from '../../linalg/lanczos';
+import type { DensityOptions, SpectralDensity, TraceEstimate } from '../../linalg/density';
+import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
+import type { CurvatureKind } from './operator';
+import { curvatureOperator } from './operator';
+import type { DenseSpectrum } from './dense';
+import { DENSE_LIMIT, denseSpectrum } from './dense';
+import type { StabilityBound, StepMetric } from './stability';
+import { stabilityBound, stabilityFactor } from './stability';
+
+/** Default relative cutoff: eigenvalues within ±1e-6·max|λ| of zero count as zero. */
+export const DEFAULT_CUTOFF = 1e-6;
+
+/** The measured spectrum facts the summary is computed from. */
+export interface CurvatureSpectrum {
+  readonly method: 'dense' | 'lanczos';
+  readonly kind: CurvatureKind;
+  readonly parameterCount: number;
+  /** Largest eigenvalues, descending, with absolute error bounds. */
+  readonly top: readonly number[];
+  readonly topBounds: readonly number[];
+  /** Smallest (most negative) eigenvalues, ascending, with absolute error bounds. */
+  readonly bottom: readonly number[];
+  readonly bottomBounds: readonly number[];
+  /** All eigenvalues (dense only). */
+  readonly eigenvalues: Float64Array | null;
+  /** tr(M) and its standard error (0 when exact), or null when not measured. */
+  readonly trace: { readonly value: number; readonly standardError: number; readonly method: 'exact' | 'hutchinson' } | null;
+  /** Share of eigenvalues below −cutoff·max|λ|, or null when not measured. */
+  readonly negativeShare: { readonly value: number; readonly method: 'dense-count' | 'slq'; readonly cutoff: number } | null;
+  /** The SLQ density when computed (matrix-free path). */
+  readonly density: SpectralDensity | null;
+  /** Asymmetry of the dense matrix (dense only; see `denseHessian`). */
+  readonly asymmetry: number | null;
+  /** Operator products spent. */
+  readonly products: number;
+  /** `converged`, or why the main eigen-solve stopped early. */
+  readonly stop: StopReason;
+}
+
+/** Facts of a dense spectrum (all bounds are the eigen-solver's backward error scale, 1e-13·max|λ|·√P). */
+export function spectrumFromDense(d: DenseSpectrum, kind: CurvatureKind, k = 5, cutoff = DEFAULT_CUTOFF): CurvatureSpectrum {
+  const ev = d.eigenvalues;
+  const n = ev.length;
+  if (n === 0) throw new Error('dense spectrum is empty (the dense Hessian was cancelled)');
+  const scale = Math.max(Math.abs(ev[0]), Math.abs(ev[n - 1]));
+  // common practice: a backward-stable solver's eigenvalue error is O(n·ε·‖A‖); √n is the usual observed growth.
+  const bound = 1e-13 * scale * Math.sqrt(n) + d.asymmetry * scale;
+  const kk = Math.min(k, n);
+  let tr = 0;
+  for (const x of ev) tr += x;
+  const neg = ev.filter((x) => x < -cutoff * scale).length;
+  return {
+    method: 'dense',
+    kind,
+    parameterCount: n,
+    top: Array.from({ length: kk }, (_, i) => ev[n - 1 - i]),
+    topBounds: new Array<number>(kk).fill(bound),
+    bottom: Array.from({ length: kk }, (_, i) => ev[i]),
+    bottomBounds: new Array<number>(kk).fill(bound),
+    eigenvalues: ev,
+    trace: { value: tr, standardError: 0, method: 'exact' },
+    negativeShare: { value: neg / n, method: 'dense-count', cutoff },
+    density: null,
+    asymmetry: d.asymmetry,
+    products: d.products,
+    stop: d.stop,
+  };
+}
+
+/** Facts of a Lanczos run (with optional SLQ density and Hutchinson trace). */
+export function spectrumFromLanczos(
+  parameterCount: number,
+  kind: CurvatureKind,
+  l: LanczosResult,
+  density: SpectralDensity | null,
+  trace: TraceEstimate | null
+): CurvatureSpectrum {
+  return {
+    method: 'lanczos',
+    kind,
+    parameterCount,
+    top: l.largest.map((p) => p.value),
+    topBounds: l.largest.map((p) => p.errorBound),
+    bottom: l.smallest.map((p) => p.value),
+    bottomBounds: l.smallest.map((p) => p.errorBound),
+    eigenvalues: null,
+    trace: trace === null ? null : { value: trace.estimate, standardError: trace.standardError, method: 'hutchinson' },
+    negativeShare: density === null ? null : { value: density.negativeShare, method: 'slq', cutoff: density.negativeCutoff },
+    density,
+    asymmetry: null,
+    products: l.products + (density?.products ?? 0) + (trace?.products ?? 0),
+    stop: l.stop,
+  };
+}
+
+/** The curvature readout's derived numbers. */
+export interface CurvatureSummary {
+  readonly method: 'dense' | 'lanczos';
+  readonly kind: CurvatureKind;
+  readonly lambdaMax: number;
+  readonly lambdaMaxBound: number;
+  /** Most negative (smallest) eigenvalue, or null when only the top end was computed. */
+  readonly lambdaMin: number | null;
+  readonly lambdaMinBound: number | null;
+  /** λmax / (smallest eigenvalue above cutoff·λmax), or null with `conditionNote` saying why. */
+  readonly conditionNumber: number | null;
+  /** The relative cutoff used for "positive" and "negative". */
+  readonly cutoff: number;
+  readonly conditionNote: string;
+  readonly negativeShare: number | null;
+  readonly negativeShareMethod: 'dense-count' | 'slq' | null;
+  readonly trace: number | null;
+  readonly traceStandardError: number | null;
+  /** Largest stable learning rate of the recipe and the stability margin. */
+  readonly stability: StabilityBound;
+  /** The operator the stability bound used, e.g. `plain Hessian` or `frozen diagonal preconditioner P^-1`. */
+  readonly stepMetric: string;
+  /** Caveat shown with every curvature readout. */
+  readonly caveat: string;
+}
+
+/** Options of {@link curvatureSummary}. */
+export interface SummaryOptions {
+  /** Learning rate in effect (schedule applied). Default `recipe.lr`. */
+  lr?: number;
+  /** λmax of the step operator D^{1/2}(A + sI)D^{1/2} when it differs from A (see `stepMetric`). */
+  stepSharpness?: { value: number; bound: number; description: string };
+  /** Relative cutoff for positive / negative (default 1e-6). */
+  cutoff?: number;
+}
+
+/** The caveat every curvature readout carries. */
+export const CURVATURE_CAVEAT =
+  'Curvature of this model on these rows at these weights: the local quadratic model predicts stability for the next steps only, and a small proxy model does not guarantee the same limits at scale.';
+
+/**
+ * Derived numbers of a measured spectrum: λmax, λmin, condition number of the positive part
+ * (λmax over the smallest eigenvalue above cutoff·λmax), negative share, trace, and the recipe's
+ * largest stable learning rate and margin (formulas and sources in `stability.ts`).
+ */
+export function curvatureSummary(s: CurvatureSpectrum, recipe: Recipe, options: SummaryOptions = {}): CurvatureSummary {
+  const cutoff = options.cutoff ?? DEFAULT_CUTOFF;
+  if (s.top.length === 0) throw new Error('curvature summary needs the largest eigenvalue (run with which = largest or both)');
+  const lambdaMax = s.top[0];
+  const lambdaMin = s.bottom.length > 0 ? s.bottom[0] : null;
+  let conditionNumber: number | null = null;
+  let conditionNote: string;
+  const floor = cutoff * Math.abs(lambdaMax);
+  if (!(lambdaMax > 0)) {
+    conditionNote = 'no positive curvature';
+  } else if (s.eigenvalues !== null) {
+    const smallest = s.eigenvalues.find((x) => x > floor);
+    conditionNumber = smallest === undefined ? null : lambdaMax / smallest;
+    conditionNote = `λmax / smallest eigenvalue above ${cutoff}·λmax (dense spectrum)`;
+  } else if (lambdaMin !== null && lambdaMin > floor) {
+    conditionNumber = lambdaMax / lambdaMin;
+    conditionNote = 'λmax / λmin: every eigenvalue is positive (Lanczos ends)';
+  } else {
+    conditionNote =
+      lambdaMin === null
+        ? 'not available: only the top of the spectrum was computed'
+        : 'not available matrix-free: the smallest positive eigenvalue lies inside an indefinite or singular spectrum; use the dense path';
+  }
+  const step = options.stepSharpness;
+  const f = stabilityFactor(recipe);
+  if (f.preconditioned && step === undefined) {
+    throw new Error(`${recipe.optimizer} needs stepSharpness (λmax of the preconditioned Hessian) for its stability bound`);
+  }
+  const sharpness = step?.value ?? lambdaMax;
+  return {
+    method: s.method,
+    kind: s.kind,
+    lambdaMax,
+    lambdaMaxBound: s.topBounds[0],
+    lambdaMin,
+    lambdaMinBound: s.bottomBounds.length > 0 ? s.bottomBounds[0] : null,
+    conditionNumber,
+    cutoff,
+    conditionNote,
+    negativeShare: s.negativeShare?.value ?? null,
+    negativeShareMethod: s.negativeShare?.method ?? null,
+    trace: s.trace?.value ?? null,
+    traceStandardError: s.trace?.standardError ?? null,
+    stability: stabilityBound(recipe, sharpness, options.lr ?? recipe.lr),
+    stepMetric: step?.description ?? 'plain Hessian',
+    caveat: CURVATURE_CAVEAT,
+  };
+}
+
+/** Options of {@link measureCurvature}. */
+export interface MeasureOptions extends IterationControl {
+  rows?: Rows;
+  kind?: CurvatureKind;
+  /** `auto` (default): dense when P ≤ denseLimit, else Lanczos. */
+  method?: 'auto' | 'dense' | 'lanczos';
+  denseLimit?: number;
+  /** Eigenvalues reported at each end (default 5). */
+  k?: number;
+  /** Lanczos residual tolerance (default 1e-10) and step cap (default 300). */
+  tol?: number;
+  maxIterations?: number;
+  /** SLQ density on the matrix-free path (default `{ probes: 4, steps: 40 }`; false to skip). */
+  density?: DensityOptions | false;
+  /** Hutchinson probes on the matrix-free path (default 32; 0 to skip). */
+  traceProbes?: number;
+  /** Learning rate in effect (default `recipe.lr`). */
+  lr?: number;
+  /** The step operator (see `stepMetric`); default plain Hessian. */
+  metric?: StepMetric;
+  cutoff?: number;
+}
+
+/** Spectrum plus summary. */
+export interface CurvatureReport {
+  readonly spectrum: CurvatureSpectrum;
+  readonly summary: CurvatureSummary;
+}
+
+/**
+ * Measures the curvature of `objective` at `w` and summarizes it for `recipe`: the dense spectrum
+ * when P ≤ denseLimit (default 2000), else Lanczos (both ends), SLQ density and Hutchinson trace.
+ * When the step metric is not the plain Hessian, one more top-1 Lanczos (or dense) solve on
+ * D^{1/2}(M + sI)D^{1/2} gives the sharpness the stability bound uses.
+ *
+ * @param rng - seeded generator; sub-streams `lanczos`, `density`, `trace`, `step-metric` are forked from it.
+ */
+export function measureCurvature(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): CurvatureReport {
+  const p = objective.parameterCount;
+  const kind = options.kind ?? 'hessian';
+  const denseLimit = options.denseLimit ?? DENSE_LIMIT;
+  const method = options.method ?? 'auto';
+  const useDense = method === 'dense' || (method === 'auto' && p <= denseLimit);
+  const k = options.k ?? 5;
+  let spectrum: CurvatureSpectrum;
+  if (useDense) {
+    const d = denseSpectrum(objective, w, options.rows, kind, { limit: denseLimit, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    spectrum = spectrumFromDense(d, kind, k, options.cutoff);
+  } else {
+    const op = curvatureOperator(objective, w, { rows: options.rows, kind });
+    const l = lanczosExtremes(op.apply, p, rng.fork('lanczos'), { k, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    const densityOptions = options.density === false ? null : { probes: 4, steps: 40, negativeCutoff: options.cutoff, ...options.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
+    const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(op.apply, p, rng.fork('density'), densityOptions);
+    const probes = options.traceProbes ?? 32;
+    const trace = probes === 0 || l.stop === 'cancelled' ? null : hutchinsonTrace(op.apply, p, rng.fork('trace'), { probes, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    spectrum = spectrumFromLanczos(p, kind, l, density, trace);
+  }
+  let stepSharpness: SummaryOptions['stepSharpness'];
+  const metric = options.metric;
+  if (metric !== undefined && (metric.scaling !== null || metric.shift !== 0)) {
+    if (metric.scaling === null) {
+      stepSharpness = { value: spectrum.top[0] + metric.shift, bound: spectrum.topBounds[0], description: metric.description };
+    } else {
+      const op = curvatureOperator(objective, w, { rows: options.rows, kind, scaling: metric.scaling, shift: metric.shift });
+      const l = lanczosExtremes(op.apply, p, rng.fork('step-metric'), { k: 1, tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+      stepSharpness = { value: l.largest[0].value, bound: l.largest[0].errorBound, description: metric.description };
+    }
+  }
+  return { spectrum, summary: curvatureSummary(spectrum, recipe, { lr: options.lr, stepSharpness, cutoff: options.cutoff }) };
+}

@@ -1,0 +1,100 @@
+import { denseHessian } from '../../../src/core/probe/curvature/dense';
+import { CURVATURE_CAVEAT, measureCurvature } from '../../../src/core/probe/curvature/summary';
+import { Rosenbrock } from '../../../src/core/model/analytic';
+import { Rng } from '../../../src/core/rng';
+import { quadraticWithSpectrum, recipe } from './helpers';
+
+// An indefinite quadratic with a chosen spectrum (two exact zeros, two negatives).
+const SPECTRUM = [30, 8, 2, 0.5, 0, 0, -1, -4, 1.5, 3];
+const sorted = [...SPECTRUM].sort((x, y) => x - y);
+const TRACE = SPECTRUM.reduce((s, x) => s + x, 0);
+const { a, objective, n } = quadraticWithSpectrum(SPECTRUM, 5);
+const w = Float64Array.from({ length: n }, (_, i) => Math.cos(i));
+
+describe('denseHessian', () => {
+  it('reproduces the matrix of a quadratic and reports its asymmetry', () => {
+    // source: for f = ½wᵀAw the Hessian is A (closed form).
+    const h = denseHessian(objective, w);
+    expect(h.n).toBe(n);
+    expect(h.products).toBe(n);
+    for (let i = 0; i < n * n; i++) expect(h.matrix[i]).toBeCloseTo(a[i], 14);
+    expect(h.asymmetry).toBeLessThan(1e-15);
+  });
+
+  it('measures the asymmetry of a non-symmetric product as ‖M − Mᵀ‖/‖M‖', () => {
+    // A deliberately non-symmetric operator M = [[1, 2], [0, 1]]: ‖M − Mᵀ‖_F = 2√2, ‖M‖_F = √6.
+    const broken = { ...objective, parameterCount: 2, blocks: [], hvp: (_w: Float64Array, v: Float64Array, out: Float64Array) => { out[0] = v[0] + 2 * v[1]; out[1] = v[1]; } };
+    const h = denseHessian(broken, new Float64Array(2));
+    expect(h.asymmetry).toBeCloseTo((2 * Math.SQRT2) / Math.sqrt(6), 14);
+    expect(Array.from(h.matrix)).toEqual([1, 1, 1, 1]);
+  });
+
+  it('matches the Rosenbrock Hessian at the minimum (eigenvalues 501 ± √250601)', () => {
+    // source: Rosenbrock 1960; Nocedal & Wright 2006 §2 (CHECKS.md): H(1,1) = [[802, −400], [−400, 200]].
+    const rep = measureCurvature(new Rosenbrock(2), Float64Array.from([1, 1]), recipe(), Rng.fromSeed(1));
+    expect(rep.summary.lambdaMax).toBeCloseTo(501 + Math.sqrt(250601), 9);
+    expect(rep.summary.lambdaMin as number).toBeCloseTo(501 - Math.sqrt(250601), 9);
+    expect(rep.summary.conditionNumber as number).toBeCloseTo((501 + Math.sqrt(250601)) / (501 - Math.sqrt(250601)), 4);
+  });
+
+  it('refuses P above the limit with an exact message and stops when cancelled', () => {
+    expect(() => denseHessian(objective, w, undefined, 'hessian', { limit: 5 })).toThrow(
+      'the dense hessian needs P <= 5 parameters, this objective has 10; raise the limit or use the Lanczos path'
+    );
+    const h = denseHessian(objective, w, undefined, 'hessian', { onProgress: (p) => p.done < 3 });
+    expect(h.stop).toBe('cancelled');
+    expect(h.products).toBe(3);
+  });
+});
+
+describe('curvatureSummary on a quadratic with a chosen indefinite spectrum', () => {
+  // source: closed form — the Hessian of ½wᵀAw is A = Q·diag(SPECTRUM)·Qᵀ with Q orthogonal.
+  it('dense path: λmax, λmin, condition of the positive part, negative share, trace', () => {
+    const rep = measureCurvature(objective, w, recipe({ lr: 0.05 }), Rng.fromSeed(1));
+    const s = rep.summary;
+    expect(s.method).toBe('dense');
+    expect(s.lambdaMax).toBeCloseTo(30, 12);
+    expect(s.lambdaMin as number).toBeCloseTo(-4, 12);
+    expect(s.conditionNumber as number).toBeCloseTo(30 / 0.5, 9); // zeros fall below the 1e-6 cutoff
+    expect(s.cutoff).toBe(1e-6);
+    expect(s.negativeShare).toBeCloseTo(2 / 10, 15);
+    expect(s.trace as number).toBeCloseTo(TRACE, 12);
+    expect(s.traceStandardError).toBe(0);
+    expect(s.stability.largestStableLr as number).toBeCloseTo(2 / 30, 12);
+    expect(s.stability.margin as number).toBeCloseTo((0.05 * 30) / 2, 12);
+    expect(rep.spectrum.top).toHaveLength(5);
+    rep.spectrum.top.forEach((x, i) => expect(x).toBeCloseTo(sorted[n - 1 - i], 12));
+    expect(s.caveat).toBe(CURVATURE_CAVEAT);
+  });
+
+  it('Lanczos path: the same ends with bounds, Hutchinson trace within 3 s.e., SLQ negative share, no condition number', () => {
+    const rep = measureCurvature(objective, w, recipe({ lr: 0.05 }), Rng.fromSeed(4), { method: 'lanczos', k: 3, traceProbes: 64, density: { probes: 16, steps: 10 } });
+    const s = rep.summary;
+    expect(s.method).toBe('lanczos');
+    expect(Math.abs(s.lambdaMax - 30)).toBeLessThanOrEqual(s.lambdaMaxBound + 1e-12);
+    expect(Math.abs(s.lambdaMax - 30)).toBeLessThan(1e-9);
+    expect(Math.abs((s.lambdaMin as number) + 4)).toBeLessThan(1e-9);
+    expect(s.conditionNumber).toBeNull();
+    expect(s.conditionNote).toBe('not available matrix-free: the smallest positive eigenvalue lies inside an indefinite or singular spectrum; use the dense path');
+    // source: Hutchinson 1989 — unbiased with the reported standard error.
+    expect(Math.abs((s.trace as number) - TRACE)).toBeLessThan(3 * (s.traceStandardError as number));
+    // n = 10 steps exhaust the space, so each probe's quadrature is exact: Σ τ over negative nodes = Σ (vᵀu_i)² over λ_i < 0.
+    expect(s.negativeShareMethod).toBe('slq');
+    expect(Math.abs((s.negativeShare as number) - 0.2)).toBeLessThan(0.15);
+    expect(rep.spectrum.products).toBeGreaterThan(0);
+  });
+
+  it('positive definite spectrum: the Lanczos path gives the condition number from both ends', () => {
+    const pd = quadraticWithSpectrum([9, 4, 1, 0.5, 2, 3], 9);
+    const rep = measureCurvature(pd.objective, new Float64Array(6), recipe(), Rng.fromSeed(3), { method: 'lanczos', density: false, traceProbes: 0 });
+    expect(rep.summary.conditionNumber as number).toBeCloseTo(18, 8);
+    expect(rep.summary.trace).toBeNull();
+    expect(rep.summary.negativeShare).toBeNull();
+  });
+
+  it('Gauss-Newton kind is passed through to the products', () => {
+    const rep = measureCurvature(objective, w, recipe(), Rng.fromSeed(1), { kind: 'gauss-newton' });
+    expect(rep.summary.kind).toBe('gauss-newton');
+    expect(rep.summary.lambdaMax).toBeCloseTo(30, 12); // the analytic quadratic's gnvp is its Hessian product
+  });
+});
