@@ -160,6 +160,8 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
     if (act !== 'linear')
       report.warnings.push({ path: ['model', 'layers', layers.length - 1, 'activation'], message: `cross-entropy applies softmax itself; a final ${act} squashes the logits` });
   }
+  if (loss === 'binary-cross-entropy' && isObj(last) && typeof last.activation === 'string' && last.activation !== 'linear')
+    report.warnings.push({ path: ['model', 'layers', layers.length - 1, 'activation'], message: `binary-cross-entropy takes logits and applies the sigmoid itself; a final ${last.activation} squashes the logits` });
   let rows: number | undefined;
   if (spec.data === undefined) {
     report.errors.push({ path: ['model'], atKey: true, message: 'data is required for a network model: give data.x and data.y' });
