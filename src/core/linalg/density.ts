@@ -49,7 +49,12 @@ export interface SpectralDensity {
   readonly mean: number;
   /** Standard error of `mean` across probes (NaN for one probe). */
   readonly meanStandardError: number;
-  /** Estimated share of eigenvalues below −cutoff·max|θ|: Σ τ over such nodes, averaged. */
+  /**
+   * Estimated share of eigenvalues below −cutoff·max|θ|: the broadened density's mass there,
+   * (1/probes) Σ τ Φ((−cutoff·max|θ| − θ)/σ). Broadening matters: Hessians of networks carry a
+   * large mass near zero that a few Gauss nodes represent on one side or the other at random;
+   * the kernel splits it instead (so near-zero eigenvalues count about half negative).
+   */
   readonly negativeShare: number;
   /** The cutoff used for `negativeShare` (relative to `scale`). */
   readonly negativeCutoff: number;
@@ -139,7 +144,7 @@ function broaden(
     const w = weights[l];
     means.push(dot(th, w));
     for (let j = 0; j < th.length; j++) {
-      if (th[j] < cut) negative += w[j];
+      negative += w[j] * 0.5 * (1 + erf((cut - th[j]) / (sigma * Math.SQRT2)));
       // Skip kernel tails beyond 8σ (below 1e-14 of the peak).
       const a = Math.max(0, Math.floor(((th[j] - 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
       const b = Math.min(options.gridPoints - 1, Math.ceil(((th[j] + 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
