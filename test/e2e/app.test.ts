@@ -1,0 +1,83 @@
+/**
+ * The embedded app as a user meets it: `serve` prints a URL, the URL opens the first demo
+ * notebook, no blocking "Select Kernel" dialog appears, and nothing from our code throws.
+ */
+import * as fs from 'fs';
+import {
+  dialogTitle,
+  ensureBuilt,
+  executeCommand,
+  launchBrowser,
+  openNotebook,
+  ourErrors,
+  runPaletteCommand,
+  screenshot,
+  startApp,
+  type IAppServer,
+  type IBrowserSession
+} from './harness';
+
+jest.setTimeout(180_000);
+
+let app: IAppServer;
+let browser: IBrowserSession;
+
+beforeAll(async () => {
+  ensureBuilt();
+  app = await startApp();
+  browser = await launchBrowser();
+});
+
+afterAll(async () => {
+  await browser?.close();
+  await app?.stop();
+});
+
+describe('embedded app', () => {
+  it('prints a loopback URL that opens a notebook', () => {
+    expect(app.url).toMatch(/^http:\/\/127\.0\.0\.1:\d+\/lab\/tree\/.+\.ipynb$/);
+  });
+
+  it('opens the first demo notebook without a kernel dialog and without errors from our code', async () => {
+    const seconds = await openNotebook(browser.page, app.url);
+    console.log(`notebook visible after ${seconds.toFixed(1)} s`);
+    const notebookName = decodeURIComponent(app.url.split('/lab/tree/')[1]);
+    const tabLabel = await browser.page.locator('#jp-main-dock-panel .lm-TabBar-tab.lm-mod-current .lm-TabBar-tabLabel').textContent();
+    expect(tabLabel).toBe(notebookName.split('/').pop());
+    // The kernel dialog, if any, appears shortly after the notebook; give it time to show up.
+    await browser.page.waitForTimeout(2000);
+    expect(await dialogTitle(browser.page)).toBeNull();
+    const file = await screenshot(browser.page, 'app-notebook-open');
+    expect(fs.statSync(file).size).toBeGreaterThan(10_000);
+    expect(ourErrors(browser)).toEqual([]);
+  });
+
+  it('runs commands from the palette and by id', async () => {
+    await executeCommand(browser.page, 'notebook:insert-cell-below');
+    const before = await browser.page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Cell').count();
+    await runPaletteCommand(browser.page, 'Insert Cell Below');
+    await expect(
+      browser.page.waitForFunction(
+        n => document.querySelectorAll('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Cell').length === n + 1,
+        before,
+        { timeout: 10_000 }
+      )
+    ).resolves.toBeTruthy();
+    expect(await dialogTitle(browser.page)).toBeNull();
+  });
+
+  it('keeps a saved notebook in browser storage across a reload', async () => {
+    const page = browser.page;
+    const cells = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Cell');
+    const count = await cells.count();
+    await executeCommand(page, 'docmanager:save');
+    await page.waitForFunction(
+      () => !document.querySelector('#jp-main-dock-panel .lm-TabBar-tab.lm-mod-current.jp-mod-dirty'),
+      undefined,
+      { timeout: 10_000 }
+    );
+    await openNotebook(page, app.url);
+    await expect(cells.count()).resolves.toBe(count);
+    expect(ourErrors(browser)).toEqual([]);
+  });
+});
