@@ -8,7 +8,8 @@
  *  3. clip g to the global norm `clipNorm`, then add coupled weight decay λw (not for AdamW);
  *  4. the optimizer family writes an ascent-form direction u and a step size s;
  *  5. Δw = −s·(lrScale per layer)·u ({@link descend}), w ← w + Δw ({@link applyUpdates});
- *  6. full-batch loss (and held-out loss) at the new w go into the step record.
+ *  6. full-batch loss (and held-out loss) at the new w go into the step record; at full batch
+ *     the gradient computed with that loss is kept for the next update (same bits as recomputing).
  * All buffers are allocated once; an update allocates only the record it returns.
  */
 import { buildHeldOutObjective, buildObjective, initialParameters } from '../build';
@@ -73,6 +74,10 @@ export class Session {
   private readonly rowBuffers: BatchBuffers | null;
   private readonly curvature: Int32Array | undefined;
   private readonly grad: Float64Array;
+  /** Full batch: ∇f at the current weights, computed with the record's loss after the last update. */
+  private readonly nextGrad: Float64Array;
+  private nextValid = false;
+  private nextLoss = 0;
   private readonly upd: Float64Array;
   private readonly scales: Float64Array | null;
   private readonly ctx: StepContext;
@@ -117,6 +122,7 @@ export class Session {
       this.steps = s.step;
     }
     this.grad = new Float64Array(p);
+    this.nextGrad = new Float64Array(p);
     this.upd = new Float64Array(p);
     this.scales = layerScales(this.objective.blocks, p, recipe.layers);
     const work = new Workspace(p);
@@ -226,7 +232,14 @@ export class Session {
     if (this.batchSize === 0 && this.objective.rowCount > 0) this.pos.epoch += 1;
     const lr = learningRate(recipe, this.steps);
     const g = this.grad;
-    const batchLoss = this.objective.gradient(this.params, g, rows);
+    let batchLoss: number;
+    if (rows === undefined && this.nextValid) {
+      g.set(this.nextGrad);
+      batchLoss = this.nextLoss;
+    } else {
+      batchLoss = this.objective.gradient(this.params, g, rows);
+    }
+    this.nextValid = false;
     for (let k = 0; k < this.layers.length; k++) this.layerGrad[k] = norm2(g, this.layers[k].offset, this.layers[k].size);
     const gradNorm = clipByGlobalNorm(g, this.family.firstOrder ? recipe.clipNorm : 0);
     if (!this.family.decoupledDecay) addWeightDecay(g, this.params, recipe.weightDecay);
@@ -248,7 +261,16 @@ export class Session {
     applyUpdates(this.params, this.upd);
     this.steps += 1;
     for (let k = 0; k < this.layers.length; k++) layers[k].weightNorm = norm2(this.params, this.layers[k].offset, this.layers[k].size);
-    const loss = this.objective.value(this.params);
+    // Full batch: the gradient at the new weights comes with its loss and serves the next
+    // update, so a full-batch step costs one gradient evaluation, not a gradient and a value.
+    let loss: number;
+    if (rows === undefined) {
+      loss = this.objective.gradient(this.params, this.nextGrad);
+      this.nextLoss = loss;
+      this.nextValid = true;
+    } else {
+      loss = this.objective.value(this.params);
+    }
     const rec: StepRecord = { step: this.steps, loss, batchLoss, gradNorm, updateNorm, lr, evaluations: 1 + info.extraEvaluations, layers, ms: 0 };
     const h = this.heldOut?.value(this.params);
     if (h !== undefined) rec.heldOutLoss = h;
