@@ -3,7 +3,7 @@
  * s ← s + g²;  w ← w − η·g / (√s + ε)  (Duchi, Hazan & Singer, JMLR 2011).
  */
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** Adagrad (Duchi et al. 2011), PyTorch conventions (ε added after the square root). */
 export const adagrad: OptimizerFamily = {
@@ -12,7 +12,7 @@ export const adagrad: OptimizerFamily = {
   init(parameterCount: number): OptimizerState {
     return { kind: 'adagrad', t: 0, buffers: { sum: new Float64Array(parameterCount) }, scalars: {} };
   },
-  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const s = buffer(state, 'sum');
     const eps = ctx.recipe.eps;
     for (let i = 0; i < grad.length; i++) {
@@ -20,6 +20,6 @@ export const adagrad: OptimizerFamily = {
       out[i] = grad[i] / (Math.sqrt(s[i]) + eps);
     }
     state.t += 1;
-    return { stepSize: ctx.lr, extraEvaluations: 0 };
+    return ctx.lr;
   }
 };

@@ -9,7 +9,7 @@
  */
 import type { OptimizerName, Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): OptimizerState {
   const buffers: Record<string, Float64Array> = { m: new Float64Array(parameterCount), v: new Float64Array(parameterCount) };
@@ -17,7 +17,7 @@ function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): 
   return { kind, t: 0, buffers, scalars: {} };
 }
 
-function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
   const { beta1, beta2, eps, amsgrad, weightDecay } = ctx.recipe;
   const m = buffer(state, 'm');
   const v = buffer(state, 'v');
@@ -39,7 +39,7 @@ function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerStat
     const u = m[i] / (Math.sqrt(second) / c2Sqrt + eps);
     out[i] = decay === 0 ? u : u + decay * params[i];
   }
-  return { stepSize: ctx.lr / c1, extraEvaluations: 0 };
+  return ctx.lr / c1;
 }
 
 /** Adam / AMSGrad with weight decay added to the gradient (torch.optim.Adam). */

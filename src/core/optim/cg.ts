@@ -14,7 +14,7 @@ import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** Nonlinear CG family (Fletcher–Reeves 1964; Polak–Ribière 1969 with the + truncation). */
 export const cg: OptimizerFamily = {
@@ -28,7 +28,7 @@ export const cg: OptimizerFamily = {
       scalars: { sinceRestart: 0, stepLength: 0, prevSlope: 0, prevGG: 0 }
     };
   },
-  update(g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const p = g.length;
     const recipe: Recipe = ctx.recipe;
     const d = buffer(state, 'dir');
@@ -39,7 +39,7 @@ export const cg: OptimizerFamily = {
     for (let i = 0; i < p; i++) g1 += Math.abs(g[i]);
     if (gg === 0) {
       out.fill(0);
-      return { stepSize: 0, extraEvaluations: 0 };
+      return 0;
     }
     let restart = state.t === 0 || sc.sinceRestart >= p || sc.prevGG === 0;
     if (!restart) {
@@ -94,6 +94,7 @@ export const cg: OptimizerFamily = {
     sc.sinceRestart += 1;
     state.t += 1;
     for (let i = 0; i < p; i++) out[i] = -d[i];
-    return { stepSize: step, extraEvaluations: evaluations };
+    ctx.extraEvaluations += evaluations;
+    return step;
   }
 };

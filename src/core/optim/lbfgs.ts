@@ -21,7 +21,7 @@ import type { OptimizerState } from '../state';
 import { minimizeAlong } from './linesearch/along';
 import { lineFunctionWithSlope } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** torch.optim.LBFGS's tolerance_grad and tolerance_change defaults. */
 const TOLERANCE_GRAD = 1e-7;
@@ -194,11 +194,12 @@ export const lbfgs: OptimizerFamily = {
   firstOrder: false,
   decoupledDecay: false,
   init: (parameterCount: number, recipe: Recipe) => initLbfgs('lbfgs', parameterCount, recipe.history),
-  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx);
     const d = buffer(state, 'dir');
     if (r.step === 0) out.fill(0);
     else for (let i = 0; i < out.length; i++) out[i] = -d[i];
-    return { stepSize: r.step, extraEvaluations: r.evaluations };
+    ctx.extraEvaluations += r.evaluations;
+    return r.step;
   }
 };

@@ -11,7 +11,7 @@
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lbfgsIteration } from './lbfgs';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** Mini-batch L-BFGS family. */
 export const minibatchLbfgs: OptimizerFamily = {
@@ -22,7 +22,7 @@ export const minibatchLbfgs: OptimizerFamily = {
     if (!Number.isInteger(recipe.history) || recipe.history < 1) throw new Error(`recipe.history must be a positive integer, got ${recipe.history}`);
     return { kind: 'minibatch-lbfgs', t: 0, buffers: {}, scalars: {} };
   },
-  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const p = grad.length;
     const m = ctx.recipe.history;
     const work = ctx.work;
@@ -57,6 +57,7 @@ export const minibatchLbfgs: OptimizerFamily = {
     }
     for (let i = 0; i < p; i++) out[i] = params[i] - x[i];
     state.t += 1;
-    return { stepSize: 1, extraEvaluations: evaluations };
+    ctx.extraEvaluations += evaluations;
+    return 1;
   }
 };

@@ -19,7 +19,7 @@ import type { OptimizerName, Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { type OptimizerContext, type OptimizerFamily } from './types';
 
 /** Largest parameter count for which the dense matrix is built. */
 export const DENSE_LIMIT = 2000;
@@ -34,7 +34,7 @@ function initNewton(kind: OptimizerName, parameterCount: number, recipe: Recipe)
   return { kind, t: 0, buffers: {}, scalars: { lambda: recipe.damping } };
 }
 
-function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
   const p = g.length;
   const recipe = ctx.recipe;
   const e = ctx.work.vector('newton.unit');
@@ -103,7 +103,8 @@ function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerSta
   }
   state.t += 1;
   for (let i = 0; i < p; i++) out[i] = -d[i];
-  return { stepSize: step, extraEvaluations: evaluations };
+  ctx.extraEvaluations += evaluations;
+  return step;
 }
 
 /** Damped Newton: exact Hessian from P Hessian-vector products (Pearlmutter 1994). */

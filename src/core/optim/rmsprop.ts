@@ -6,7 +6,7 @@
  */
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** RMSProp: plain, centered and with momentum, PyTorch conventions. */
 export const rmsprop: OptimizerFamily = {
@@ -18,7 +18,7 @@ export const rmsprop: OptimizerFamily = {
     if (recipe.momentum > 0) buffers.momentum = new Float64Array(parameterCount);
     return { kind: 'rmsprop', t: 0, buffers, scalars: {} };
   },
-  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const { alpha, eps, momentum, centered } = ctx.recipe;
     const a = buffer(state, 'squareAvg');
     const m = centered ? buffer(state, 'gradAvg') : null;
@@ -41,6 +41,6 @@ export const rmsprop: OptimizerFamily = {
       }
     }
     state.t += 1;
-    return { stepSize: ctx.lr, extraEvaluations: 0 };
+    return ctx.lr;
   }
 };

@@ -12,7 +12,7 @@
  */
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily, type UpdateInfo } from './types';
+import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 /** SGD / heavy-ball / Nesterov (torch.optim.SGD; Polyak 1964; Sutskever et al. 2013). */
 export const sgd: OptimizerFamily = {
@@ -23,7 +23,7 @@ export const sgd: OptimizerFamily = {
     if (recipe.momentum !== 0) buffers.velocity = new Float64Array(parameterCount);
     return { kind: 'sgd', t: 0, buffers, scalars: {} };
   },
-  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo {
+  update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const mu = ctx.recipe.momentum;
     if (mu === 0) {
       out.set(grad);
@@ -42,6 +42,6 @@ export const sgd: OptimizerFamily = {
       }
     }
     state.t += 1;
-    return { stepSize: ctx.lr, extraEvaluations: 0 };
+    return ctx.lr;
   }
 };

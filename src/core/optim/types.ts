@@ -49,13 +49,10 @@ export interface OptimizerContext {
   readonly loss: number;
   /** Scratch vectors of length P. */
   readonly work: Workspace;
-}
-
-/** What an update reports besides the direction it wrote. */
-export interface UpdateInfo {
-  /** Non-negative multiplier s in Δw = −s·u. */
-  stepSize: number;
-  /** Objective evaluations used beyond the gradient the session computed. */
+  /**
+   * Objective evaluations the update used beyond the gradient the session computed; the
+   * session sets it to 0 before each update and families add to it (line searches, products).
+   */
   extraEvaluations: number;
 }
 
@@ -73,10 +70,11 @@ export interface OptimizerFamily {
   /** A fresh state for P parameters (all buffers zero, t = 0). */
   init(parameterCount: number, recipe: Recipe): OptimizerState;
   /**
-   * Writes the ascent-form direction into `out` (length P) and advances `state` in place
-   * (including `state.t`). `grad` has clipping and coupled weight decay applied.
+   * Writes the ascent-form direction u into `out` (length P), advances `state` in place
+   * (including `state.t`) and returns the step size s ≥ 0 of Δw = −s·u (a plain number, so
+   * the hot path allocates nothing). `grad` has clipping and coupled weight decay applied.
    */
-  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): UpdateInfo;
+  update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number;
 }
 
 /**

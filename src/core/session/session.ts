@@ -50,6 +50,7 @@ class StepContext implements OptimizerContext {
   rows: Rows = undefined;
   curvatureRows: Rows = undefined;
   loss = 0;
+  extraEvaluations = 0;
   constructor(readonly recipe: Experiment['recipe'], readonly objective: Objective, readonly work: Workspace) {}
 }
 
@@ -248,8 +249,9 @@ export class Session {
     ctx.rows = rows;
     ctx.curvatureRows = recipe.curvatureBatch === 'same' ? rows : this.curvature;
     ctx.loss = this.family.firstOrder || recipe.weightDecay === 0 ? batchLoss : batchLoss + 0.5 * recipe.weightDecay * sumSquares(this.params);
-    const info = this.family.update(g, this.optState, this.params, ctx, this.upd);
-    descend(this.upd, info.stepSize, this.family.firstOrder ? this.scales : null);
+    ctx.extraEvaluations = 0;
+    const stepSize = this.family.update(g, this.optState, this.params, ctx, this.upd);
+    descend(this.upd, stepSize, this.family.firstOrder ? this.scales : null);
     const layers: LayerRecord[] = new Array(this.layers.length);
     for (let k = 0; k < this.layers.length; k++) {
       const l = this.layers[k];
@@ -271,7 +273,7 @@ export class Session {
     } else {
       loss = this.objective.value(this.params);
     }
-    const rec: StepRecord = { step: this.steps, loss, batchLoss, gradNorm, updateNorm, lr, evaluations: 1 + info.extraEvaluations, layers, ms: 0 };
+    const rec: StepRecord = { step: this.steps, loss, batchLoss, gradNorm, updateNorm, lr, evaluations: 1 + ctx.extraEvaluations, layers, ms: 0 };
     const h = this.heldOut?.value(this.params);
     if (h !== undefined) rec.heldOutLoss = h;
     rec.ms = now() - t0;
