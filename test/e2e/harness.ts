@@ -173,7 +173,26 @@ export async function openNotebook(page: Page, url: string, timeoutMs = 60_000):
   await page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Notebook .jp-Cell').first().waitFor({ state: 'visible', timeout: timeoutMs });
   const seconds = (Date.now() - t0) / 1000;
   await waitForApp(page, timeoutMs);
+  await page.evaluate(async () => {
+    const app = (window as unknown as { jupyterapp?: { shell: { currentWidget: unknown } } }).jupyterapp;
+    const widget = app?.shell.currentWidget as { context?: { ready: Promise<void> } } | null | undefined;
+    await widget?.context?.ready;
+  });
   return seconds;
+}
+
+/** Number of cells in the current notebook's model (not only the rendered ones). */
+export async function notebookCellCount(page: Page): Promise<number> {
+  return page.evaluate(async () => {
+    const app = (window as unknown as { jupyterapp?: { shell: { currentWidget: unknown } } }).jupyterapp;
+    const widget = app?.shell.currentWidget as
+      | { context?: { ready: Promise<void> }; model?: { cells: { length: number } } }
+      | null
+      | undefined;
+    if (!widget?.context || !widget.model) throw new Error('the current widget is not a notebook');
+    await widget.context.ready;
+    return widget.model.cells.length;
+  });
 }
 
 /** Whether a modal dialog (for example "Select Kernel") is showing. */
