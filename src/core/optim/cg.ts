@@ -91,7 +91,8 @@ export const cg: OptimizerFamily = {
     sc.prevGG = gg;
     sc.prevSlope = gtd;
     sc.stepLength = step;
-    sc.sinceRestart += 1;
+    // no acceptable step: force a restart along −g next time (FR would otherwise repeat d)
+    sc.sinceRestart = step === 0 ? p : sc.sinceRestart + 1;
     state.t += 1;
     for (let i = 0; i < p; i++) out[i] = -d[i];
     ctx.extraEvaluations += evaluations;

@@ -8,9 +8,9 @@
  *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most 25 trials), 'brent' (exact
  *    minimization along d, bracket from (0, trial)), or 'none' (fixed step = trial);
  *  - no update when max|g| ≤ 1e-7 (torch's tolerance_grad).
- * Difference from torch: when d is not a descent direction (gᵀd > −1e-9) torch stops in place
- * and would repeat the same direction forever; here the history is cleared and the step falls
- * back to steepest descent.
+ * Differences from torch: when d is not a descent direction (gᵀd > −1e-9), or the line search
+ * along it finds no acceptable step, torch stays in place and would repeat the same direction
+ * forever; here the history is cleared and the iteration retries along −g.
  *
  * State (all plain data): buffers `s`, `y` (history × P, ring buffer), `rho` (history),
  * `prevGrad`, `dir`; scalars `count`, `start` (ring head), `hDiag`, `stepLength`.
@@ -18,8 +18,7 @@
 import { dot } from '../objective';
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { minimizeAlong } from './linesearch/along';
-import { lineFunctionWithSlope } from './linesearch/along';
+import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
 import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
@@ -125,6 +124,30 @@ export interface LbfgsStep {
   evaluations: number;
 }
 
+/** The recipe's line search along d from w (value f, slope gtd < 0), first trial t0. */
+function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Array, gtd: number, t0: number, recipe: Recipe, ctx: OptimizerContext): LbfgsStep {
+  const p = g.length;
+  switch (recipe.lineSearch) {
+    case 'none':
+      return { step: t0, evaluations: 0 };
+    case 'strong-wolfe': {
+      let dmax = 0;
+      for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
+      const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
+      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: TOLERANCE_CHANGE / dmax });
+      return { step: r.step, evaluations: r.evaluations };
+    }
+    case 'brent': {
+      const r = minimizeAlong(ctx.objective, w, d, { method: 'brent', initialStep: t0, rows: ctx.rows, scratch: { point: ctx.work.vector('ls.point'), grad: ctx.work.vector('ls.grad') } });
+      return { step: r.value <= f ? r.step : 0, evaluations: r.evaluations };
+    }
+    default: {
+      const never: never = recipe.lineSearch;
+      throw new Error(`unknown lineSearch '${String(never)}'`);
+    }
+  }
+}
+
 /**
  * One L-BFGS iteration at w with gradient g and value f: updates the memory, writes the
  * direction into `state.buffers.dir` and returns the step length t (0 = no move).
@@ -160,36 +183,25 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     gtd = dot(g, d);
     t0 = Math.min(1, 1 / g1) * lr;
   }
-  let step = t0;
-  let evaluations = 0;
-  switch (recipe.lineSearch) {
-    case 'none':
-      break;
-    case 'strong-wolfe': {
-      let dmax = 0;
-      for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
-      const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
-      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: TOLERANCE_CHANGE / dmax });
-      step = r.step;
-      evaluations = r.evaluations;
-      break;
-    }
-    case 'brent': {
-      const r = minimizeAlong(ctx.objective, w, d, { method: 'brent', initialStep: t0, rows: ctx.rows, scratch: { point: ctx.work.vector('ls.point'), grad: ctx.work.vector('ls.grad') } });
-      step = r.value <= f ? r.step : 0;
-      evaluations = r.evaluations;
-      break;
-    }
-    default: {
-      const never: never = recipe.lineSearch;
-      throw new Error(`unknown lineSearch '${String(never)}'`);
-    }
+  let { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx);
+  if (step === 0 && state.t > 1) {
+    // the quasi-Newton direction gave no acceptable step: clear the history, retry along −g
+    resetLbfgs(state);
+    state.t = 1;
+    for (let i = 0; i < p; i++) d[i] = -g[i];
+    const retry = searchAlong(g, f, w, d, dot(g, d), Math.min(1, 1 / g1) * lr, recipe, ctx);
+    step = retry.step;
+    evaluations += retry.evaluations;
   }
   state.scalars.stepLength = step;
   return { step, evaluations };
 }
 
-/** Full-batch (or fixed mini-batch) L-BFGS, one iteration per step. */
+/**
+ * L-BFGS, one iteration per step. Meant for full batch: with a mini-batch recipe each step
+ * uses its own batch, so y = g_k − g_{k−1} mixes two batches and the curvature pairs are noise
+ * (use 'minibatch-lbfgs', which solves each batch afresh, for that).
+ */
 export const lbfgs: OptimizerFamily = {
   firstOrder: false,
   decoupledDecay: false,
