@@ -109,7 +109,11 @@ export function writeContents(source = contentsSource()) {
   const notebooks = [];
   const walk = rel => {
     const absDir = path.join(source, rel);
-    const entries = fs.readdirSync(absDir).filter(f => !f.startsWith('.')).sort();
+    // Scripts kept beside the demos (generators) are not contents a notebook user needs.
+    const entries = fs
+      .readdirSync(absDir)
+      .filter(f => !f.startsWith('.') && !/\.(ts|mts|cts|js|mjs|cjs)$/.test(f))
+      .sort();
     const models = [];
     for (const f of entries) {
       const relPath = rel ? `${rel}/${f}` : f;
