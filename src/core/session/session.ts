@@ -85,8 +85,12 @@ export class Session {
   private readonly layers: LayerSlice[];
   private readonly layerGrad: Float64Array;
 
-  private constructor(readonly experiment: Experiment, parts: SessionParts, state: SessionState | null) {
-    const { setup, recipe, seed } = experiment;
+  /** The experiment this session runs (its recipe is a private copy; the setup is shared, read-only). */
+  readonly experiment: Experiment;
+
+  private constructor(experiment: Experiment, parts: SessionParts, state: SessionState | null) {
+    this.experiment = { seed: experiment.seed, setup: experiment.setup, recipe: copyRecipe(experiment.recipe) };
+    const { setup, recipe, seed } = this.experiment;
     this.objective = parts.objective;
     this.heldOut = parts.heldOut;
     const p = this.objective.parameterCount;
@@ -108,13 +112,7 @@ export class Session {
       this.pos = { epoch: 0, cursor: 0, order: this.batchSize > 0 ? drawOrder(this.rng, n, null) : null };
       this.steps = 0;
     } else {
-      if (state.params.length !== p) throw new Error(`state.params has length ${state.params.length}, the objective expects ${p}`);
-      if (state.optimizer.kind !== recipe.optimizer) {
-        throw new Error(`state.optimizer.kind is '${state.optimizer.kind}' but recipe.optimizer is '${recipe.optimizer}'`);
-      }
-      if (this.batchSize > 0 && (state.order === null || state.order.length !== n)) {
-        throw new Error(`state.order must hold a permutation of ${n} rows for batch size ${this.batchSize}`);
-      }
+      checkState(state, this.family.init(p, recipe), p, n, this.batchSize);
       const s = copySessionState(state);
       this.params = s.params;
       this.optState = s.optimizer;
@@ -279,6 +277,37 @@ export class Session {
     rec.ms = now() - t0;
     return rec;
   }
+}
+
+/** Rejects a state that this recipe and objective cannot continue, with the field at fault. */
+function checkState(state: SessionState, fresh: OptimizerState, p: number, n: number, batch: number): void {
+  if (!Number.isInteger(state.step) || state.step < 0) throw new Error(`state.step must be a non-negative integer, got ${state.step}`);
+  if (state.params.length !== p) throw new Error(`state.params has length ${state.params.length}, the objective expects ${p}`);
+  if (state.optimizer.kind !== fresh.kind) {
+    throw new Error(`state.optimizer.kind is '${state.optimizer.kind}' but recipe.optimizer is '${fresh.kind}'`);
+  }
+  for (const k of Object.keys(fresh.buffers)) {
+    const b = state.optimizer.buffers[k];
+    if (b === undefined) throw new Error(`state.optimizer.buffers.${k} is missing (the recipe's ${fresh.kind} needs it)`);
+    if (b.length !== fresh.buffers[k].length) throw new Error(`state.optimizer.buffers.${k} has length ${b.length}, expected ${fresh.buffers[k].length}`);
+  }
+  for (const k of Object.keys(fresh.scalars)) {
+    if (typeof state.optimizer.scalars[k] !== 'number') throw new Error(`state.optimizer.scalars.${k} is missing (the recipe's ${fresh.kind} needs it)`);
+  }
+  if (batch === 0) return;
+  const order = state.order;
+  if (order === null || order.length !== n) throw new Error(`state.order must hold a permutation of ${n} rows for batch size ${batch}`);
+  const seen = new Uint8Array(n);
+  for (let i = 0; i < n; i++) {
+    const r = order[i];
+    if (!(r >= 0 && r < n) || seen[r] === 1) throw new Error(`state.order is not a permutation of 0…${n - 1} (entry ${i} is ${r})`);
+    seen[r] = 1;
+  }
+  if (!Number.isInteger(state.cursor) || state.cursor < 0 || state.cursor >= n) throw new Error(`state.cursor must be an integer in [0, ${n - 1}], got ${state.cursor}`);
+}
+
+function copyRecipe(r: Experiment['recipe']): Experiment['recipe'] {
+  return { ...r, schedule: { ...r.schedule }, layers: r.layers.map((l) => ({ ...l })) };
 }
 
 function sumSquares(w: Float64Array): number {

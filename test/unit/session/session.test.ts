@@ -131,3 +131,36 @@ describe('step records', () => {
     expect(s.runUntil({ kind: 'loss-below', value: -1 }, 7, { shouldStop: () => true }).reason).toBe('stopped');
   });
 });
+
+describe('restore refuses states it cannot continue', () => {
+  const base = make({ optimizer: 'adam', lr: 0.01, batch: 8 });
+  base.step(3);
+  const good = base.state();
+  const exp = base.experiment;
+  const restore = (mutate: (s: ReturnType<Session['state']>) => void): (() => Session) => () => {
+    const s = base.state();
+    mutate(s);
+    return Session.restore(exp, s, { objective: data });
+  };
+  it.each<[string, (s: ReturnType<Session['state']>) => void, string]>([
+    ['wrong parameter count', (s) => { s.params = new Float64Array(5); }, 'state.params has length 5, the objective expects 6'],
+    ['wrong optimizer kind', (s) => { s.optimizer.kind = 'sgd'; }, "state.optimizer.kind is 'sgd' but recipe.optimizer is 'adam'"],
+    ['missing buffer', (s) => { delete s.optimizer.buffers.v; }, "state.optimizer.buffers.v is missing (the recipe's adam needs it)"],
+    ['short buffer', (s) => { s.optimizer.buffers.m = new Float64Array(2); }, 'state.optimizer.buffers.m has length 2, expected 6'],
+    ['duplicate rows in the order', (s) => { (s.order as Int32Array)[1] = (s.order as Int32Array)[0]; }, 'state.order is not a permutation of 0…49 (entry'],
+    ['row out of range', (s) => { (s.order as Int32Array)[4] = 50; }, 'state.order is not a permutation of 0…49 (entry 4 is 50)'],
+    ['cursor out of range', (s) => { s.cursor = 50; }, 'state.cursor must be an integer in [0, 49], got 50'],
+    ['negative step', (s) => { s.step = -1; }, 'state.step must be a non-negative integer, got -1']
+  ])('%s', (_n, mutate, message) => {
+    expect(restore(mutate)).toThrow(message);
+  });
+  it('the untouched state restores', () => {
+    expect(Session.restore(exp, good, { objective: data }).fingerprint()).toBe(base.fingerprint());
+  });
+  it('the session keeps its own copy of the recipe', () => {
+    const e = experiment({ optimizer: 'sgd', lr: 0.1 });
+    const s = Session.create(e, { objective: data, initial: new Float64Array(6) });
+    e.recipe.lr = 100;
+    expect(s.step()[0].lr).toBe(0.1);
+  });
+});
