@@ -19,6 +19,7 @@ import { checkSpec } from '../src/plugin/registry';
 import { EngineClient } from '../src/worker/client';
 import { inProcessPort } from '../src/worker/in-process';
 import { realCore } from '../src/worker/core-adapter';
+import type { EngineCore, EngineSession } from '../src/worker/engine-core';
 import { parseSpec } from '../src/spec';
 import { Session } from '../src/core/session';
 import { eigenvalues } from '../src/core/linalg';
@@ -41,6 +42,20 @@ const lines = (text: string): string[] => text.split(/(?<=\n)/);
 
 const markdown = (id: string, text: string): NbCell => ({ cell_type: 'markdown', id, metadata: {}, source: lines(text) });
 
+/** The real core with wall times zeroed, so regenerating gives byte-identical notebooks. */
+const timelessCore: EngineCore = {
+  ...realCore,
+  create: e => timeless(realCore.create(e)),
+  restore: (e, st) => timeless(realCore.restore(e, st))
+};
+
+function timeless(s: EngineSession): EngineSession {
+  return Object.assign(Object.create(s) as EngineSession, {
+    stepOnce: (): StepRecord => ({ ...s.stepOnce(), ms: 0 }),
+    initialRecord: (): StepRecord => ({ ...s.initialRecord(), ms: 0 })
+  });
+}
+
 /** A stepwell cell; `steps` > 0 pre-runs it through the real controller, `'diverge'` runs until it diverges. */
 async function stepwellCell(id: string, spec: string, steps: number | 'diverge'): Promise<NbCell> {
   const cell: NbCell = { cell_type: 'code', id, metadata: {}, source: lines(spec), outputs: [], execution_count: null };
@@ -57,7 +72,7 @@ async function stepwellCell(id: string, spec: string, steps: number | 'diverge')
   };
   const controller = new CellController({
     host,
-    engine: () => new EngineClient(inProcessPort(realCore)),
+    engine: () => new EngineClient(inProcessPort(timelessCore)),
     ledger: ledgerGlue,
     checkSpec,
     settings: () => DEFAULT_SETTINGS
