@@ -21,6 +21,7 @@ import { withWeightDecay } from '../optim/decayed';
 import { addWeightDecay, clipByGlobalNorm, layerScales } from '../optim/gradient';
 import { familyFor } from '../optim/registry';
 import { learningRate } from '../optim/schedule';
+import { checkRecipe } from '../optim/validate';
 import { applyUpdates, descend, Workspace, type OptimizerContext, type OptimizerFamily } from '../optim/types';
 import { drawOrder, drawSubset, nextBatch, type BatchBuffers, type BatchPosition } from './batches';
 import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';
@@ -91,15 +92,13 @@ export class Session {
   private constructor(experiment: Experiment, parts: SessionParts, state: SessionState | null) {
     this.experiment = { seed: experiment.seed, setup: experiment.setup, recipe: copyRecipe(experiment.recipe) };
     const { setup, recipe, seed } = this.experiment;
+    checkRecipe(recipe);
     this.objective = parts.objective;
     this.heldOut = parts.heldOut;
     const p = this.objective.parameterCount;
     this.family = familyFor(recipe.optimizer);
     const n = this.objective.rowCount;
     this.batchSize = effectiveBatch(recipe, n);
-    if (this.batchSize !== 0 && (!Number.isInteger(this.batchSize) || this.batchSize < 1)) {
-      throw new Error(`recipe.batch must be 'full' or a positive integer, got ${String(recipe.batch)}`);
-    }
     this.rowBuffers = this.batchSize > 0 ? { full: new Int32Array(this.batchSize), tail: n % this.batchSize !== 0 ? new Int32Array(n % this.batchSize) : null } : null;
     const cb = recipe.curvatureBatch;
     this.curvature = typeof cb === 'number' && n > 0 && cb < n ? drawSubset(Rng.fromSeed(seed).fork('curvature'), n, cb) : undefined;
@@ -181,6 +180,7 @@ export class Session {
 
   /** Applies n updates (default 1); record k describes the state after it. */
   step(n = 1, hooks?: StepHooks): StepRecord[] {
+    if (!Number.isInteger(n) || n < 0) throw new Error(`step count must be a non-negative integer, got ${n}`);
     const out: StepRecord[] = [];
     for (let i = 0; i < n; i++) {
       if (i > 0 && hooks?.shouldStop?.()) break;
@@ -196,6 +196,7 @@ export class Session {
    * the full-batch loss at the start of the run.
    */
   runUntil(cond: StopCondition, maxSteps: number, hooks?: StepHooks): { records: StepRecord[]; reason: RunReason } {
+    if (!Number.isInteger(maxSteps) || maxSteps < 0) throw new Error(`maxSteps must be a non-negative integer, got ${maxSteps}`);
     const records: StepRecord[] = [];
     const start = cond.kind === 'diverged' ? this.fullLoss() : NaN;
     for (let i = 0; i < maxSteps; i++) {

@@ -86,3 +86,25 @@ describe('curvature rows', () => {
     expect(Array.from(make(12).state().order as Int32Array)).toEqual(Array.from(make('same').state().order as Int32Array));
   });
 });
+
+describe('recipe checks at the core boundary', () => {
+  const q = new TestQuadratic([[1]], [0]);
+  it.each<[Partial<Recipe>, string]>([
+    [{ lr: 0 }, 'recipe.lr must be a positive finite number, got 0'],
+    [{ lr: NaN }, 'recipe.lr must be a positive finite number, got null'],
+    [{ beta2: 1 }, 'recipe.beta2 must be in [0, 1), got 1'],
+    [{ batch: 0 }, "recipe.batch must be 'full' or a positive integer, got 0"],
+    [{ layers: [{ lrScale: 1 }, { lrScale: -1 }] }, 'recipe.layers[1].lrScale must be a non-negative number, got -1'],
+    [{ schedule: { kind: 'step', every: 0, factor: 0.5 } }, 'recipe.schedule.every must be a positive integer, got 0'],
+    [{ schedule: { kind: 'cosine', steps: 10, floor: 2 } }, 'recipe.schedule.floor must be a number in [0, 1] (a fraction of lr), got 2'],
+    [{ curvatureBatch: 0 }, "recipe.curvatureBatch must be 'same', 'full' or a positive integer, got 0"]
+  ])('%p is refused', (patch, message) => {
+    expect(() => Session.create(experiment(patch), { objective: q, initial: Float64Array.of(1) })).toThrow(message);
+  });
+  it('step counts must be non-negative integers', () => {
+    const s = Session.create(experiment(), { objective: q, initial: Float64Array.of(1) });
+    expect(() => s.step(1.5)).toThrow('step count must be a non-negative integer, got 1.5');
+    expect(() => s.runUntil({ kind: 'steps', count: 1 }, -1)).toThrow('maxSteps must be a non-negative integer, got -1');
+    expect(s.step(0)).toEqual([]);
+  });
+});
