@@ -11,10 +11,12 @@
  *   with different libm implementations of tanh/exp/erf (an ulp or so apart); for these
  *   small, well-scaled cases that moves results by ~1e-14 relative, and any missing or wrong
  *   derivative term moves them by ≥1e-6. 1e-9 sits between with wide margins either way.
+ *   Measured when written: ≤ 8e-16 for loss, gradient, H·v and G·v over all cases.
  * - eigenvalues: |λᵢ − μᵢ| ≤ 1e-8 · max|μ| after sorting. Weyl's inequality bounds each
  *   eigenvalue's shift by the spectral norm of the matrix perturbation
  *   (source: Golub & Van Loan, Matrix Computations, 4th ed., §8.1), so the error is
  *   measured against the spectral radius; eigenvalues near zero have no relative accuracy.
+ *   Measured when written: ≤ 8e-15.
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { parseSpec } from '../../../src/spec';
