@@ -103,6 +103,9 @@ function checkTrajectory(c: TrajectoryCase, tol: number): void {
   expect(r.records.map((s) => s.step)).toEqual(c.losses.map((_, k) => k + 1));
   within('initial loss', { err: Math.abs(r.initialLoss - c.initialLoss) / c.initialLoss }, tol);
   within('loss after each step', worstStep(r.records.map((s) => s.loss), c.losses), tol);
+  // the batch loss is taken with the gradient, before the update: at full batch, record k's
+  // batchLoss is torch's loss after step k − 1
+  within('batch loss of each step', worstStep(r.records.map((s) => s.batchLoss), [c.initialLoss, ...c.losses.slice(0, -1)]), tol);
   within('‖g‖ of each step', worstStep(r.records.map((s) => s.gradNorm), c.gradNorms), tol);
   within('‖Δw‖ of each step', worstStep(r.records.map((s) => s.updateNorm), c.updateNorms), tol);
   within('parameters after step 1', { err: relErr(r.after1, c.paramsAfter1) }, tol);
