@@ -11,7 +11,7 @@
  *
  * Refuses models with more than 2000 parameters (the matrix would hold 4·10⁶ entries and need
  * P products per step). Evaluations reported include the P curvature products.
- * State: scalars `lambda` (current damping).
+ * State: scalars `lambda` (current damping) and `stepLength` (the accepted t of the last update).
  */
 import { CholeskyDecomposition, Matrix } from 'ml-matrix';
 import { dot } from '../objective';
@@ -31,7 +31,7 @@ function initNewton(kind: OptimizerName, parameterCount: number, recipe: Recipe)
     throw new Error(`optimizer '${kind}' builds the dense ${parameterCount} × ${parameterCount} curvature matrix; this model has P = ${parameterCount} parameters, the limit is ${DENSE_LIMIT}. Use 'lbfgs' or 'cg' instead.`);
   }
   if (!(recipe.damping >= 0)) throw new Error(`recipe.damping must be a non-negative number, got ${recipe.damping}`);
-  return { kind, t: 0, buffers: {}, scalars: { lambda: recipe.damping } };
+  return { kind, t: 0, buffers: {}, scalars: { lambda: recipe.damping, stepLength: 0 } };
 }
 
 function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
@@ -102,6 +102,7 @@ function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerSta
     }
   }
   state.t += 1;
+  state.scalars.stepLength = step;
   for (let i = 0; i < p; i++) out[i] = -d[i];
   ctx.extraEvaluations += evaluations;
   return step;
