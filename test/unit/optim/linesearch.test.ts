@@ -3,6 +3,7 @@
  * test/reference/linesearch/make_golden.py) and against published facts of the methods.
  */
 import golden from '../../reference/linesearch/golden.json';
+import wolfeGolden from '../../reference/linesearch/wolfe-golden.json';
 import { bracketMinimum, brentMinimize, goldenSection, minimizeAlong, strongWolfe, type Bracket, GOLDEN_RATIO } from '../../../src/core/optim/linesearch';
 import { TestQuadratic, TestRosenbrock } from './fixtures';
 
@@ -152,5 +153,27 @@ describe('minimizeAlong', () => {
   });
   it('rejects a mismatched direction', () => {
     expect(() => minimizeAlong(q, w, Float64Array.of(1))).toThrow('minimizeAlong needs w and direction of length 2, got 2 and 1');
+  });
+});
+
+describe('strong Wolfe against torch.optim.lbfgs._strong_wolfe (PyTorch 1.13, float64)', () => {
+  // source: PyTorch 1.13 torch.optim.lbfgs._strong_wolfe on Rosenbrock
+  // (test/reference/linesearch/make_wolfe_golden.py → wolfe-golden.json)
+  const rosen = new TestRosenbrock();
+  it.each(wolfeGolden.cases.map((c) => [`start (${c.start.join(', ')}), α0 = ${c.t0}`, c] as const))('%s', (_n, c) => {
+    const w = Float64Array.from(c.start);
+    const d = Float64Array.from(c.direction);
+    const pt = new Float64Array(2);
+    const gt = new Float64Array(2);
+    const phi = (a: number) => {
+      for (let i = 0; i < 2; i++) pt[i] = w[i] + a * d[i];
+      const v = rosen.gradient(pt, gt);
+      return { value: v, slope: gt[0] * d[0] + gt[1] * d[1] };
+    };
+    const dmax = Math.max(Math.abs(d[0]), Math.abs(d[1]));
+    const r = strongWolfe(phi, c.f0, c.g0, c.t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: 1e-9 / dmax });
+    expect(Math.abs(r.step - c.step)).toBeLessThanOrEqual(1e-12 * Math.abs(c.step));
+    expect(Math.abs(r.value - c.value)).toBeLessThanOrEqual(1e-12 * Math.abs(c.value));
+    expect(r.evaluations).toBe(c.evaluations);
   });
 });
