@@ -1,7 +1,8 @@
 /**
  * Writes the demo notebooks from our own invented scenarios (seeded, so the output is the
  * same on every run). Pre-run cells are stepped by the same cell controller and engine
- * host the browser uses, so their ledgers and outputs are exactly what a user would get.
+ * host the extension uses, inside headless Chromium (prerun.ts), so their ledgers and
+ * outputs are exactly what a user would get and replay bit for bit in the browser.
  *
  * Run: `npx tsx demo-notebooks/make_demos.ts`
  *
@@ -10,16 +11,10 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { CellController } from '../src/ui/controller';
-import { DEFAULT_SETTINGS } from '../src/ui/ports';
-import type { CellHost } from '../src/ui/ports';
-import { ledgerGlue, LEDGER_KEY } from '../src/ui/ledger-glue';
-import { stepwellOutput } from '../src/plugin/cell-host';
-import { checkSpec } from '../src/plugin/registry';
-import { EngineClient } from '../src/worker/client';
-import { inProcessPort } from '../src/worker/in-process';
-import { realCore } from '../src/worker/core-adapter';
-import type { EngineCore, EngineSession } from '../src/worker/engine-core';
+import * as esbuild from 'esbuild';
+import { chromium } from 'playwright-core';
+import { CHROMIUM, CHROMIUM_ARGS } from '../test/e2e/harness';
+import type { PrerunRequest, PrerunResult } from './prerun';
 import { parseSpec } from '../src/spec';
 import { Session } from '../src/core/session';
 import { eigenvalues } from '../src/core/linalg';
@@ -42,48 +37,48 @@ const lines = (text: string): string[] => text.split(/(?<=\n)/);
 
 const markdown = (id: string, text: string): NbCell => ({ cell_type: 'markdown', id, metadata: {}, source: lines(text) });
 
-/** The real core with wall times zeroed, so regenerating gives byte-identical notebooks. */
-const timelessCore: EngineCore = {
-  ...realCore,
-  create: e => timeless(realCore.create(e)),
-  restore: (e, st) => timeless(realCore.restore(e, st))
-};
+/** Pre-run requests collected while the notebooks are assembled. */
+const pending: PrerunRequest[] = [];
+/** Step each pre-run cell must end at for its prose to hold. */
+const expectedSteps = new Map<string, number>();
 
-function timeless(s: EngineSession): EngineSession {
-  return Object.assign(Object.create(s) as EngineSession, {
-    stepOnce: (): StepRecord => ({ ...s.stepOnce(), ms: 0 }),
-    initialRecord: (): StepRecord => ({ ...s.initialRecord(), ms: 0 })
-  });
+/** A stepwell cell; a non-zero action pre-runs it (in Chromium, see prerun.ts). */
+function stepwellCell(id: string, spec: string, action: number | 'diverge'): NbCell {
+  if (action !== 0) pending.push({ id, spec, action });
+  return { cell_type: 'code', id, metadata: {}, source: lines(spec), outputs: [], execution_count: null };
 }
 
-/** A stepwell cell; `steps` > 0 pre-runs it through the real controller, `'diverge'` runs until it diverges. */
-async function stepwellCell(id: string, spec: string, steps: number | 'diverge'): Promise<NbCell> {
-  const cell: NbCell = { cell_type: 'code', id, metadata: {}, source: lines(spec), outputs: [], execution_count: null };
-  if (steps === 0) return cell;
-  const host: CellHost = {
-    readSource: () => spec,
-    readLedger: () => cell.metadata[LEDGER_KEY],
-    writeLedger: value => {
-      cell.metadata = { [LEDGER_KEY]: JSON.parse(JSON.stringify(value)) };
-    },
-    writeOutputs: (summary, md) => {
-      cell.outputs = [stepwellOutput(summary, md)];
-    }
-  };
-  const controller = new CellController({
-    host,
-    engine: () => new EngineClient(inProcessPort(timelessCore)),
-    ledger: ledgerGlue,
-    checkSpec,
-    settings: () => DEFAULT_SETTINGS
+/** Bundles prerun.ts, runs every pending request in headless Chromium, fills the cells in. */
+async function prerunInChromium(cells: NbCell[]): Promise<void> {
+  const bundle = await esbuild.build({
+    entryPoints: [path.join(__dirname, 'prerun.ts')],
+    bundle: true,
+    format: 'iife',
+    platform: 'browser',
+    write: false,
+    logLevel: 'silent'
   });
-  if (!(await controller.run())) throw new Error(`cell ${id}: the spec did not run: ${JSON.stringify(controller.state.problems)}`);
-  if (steps === 'diverge') await controller.runUntil({ kind: 'diverged', factor: 1e3 }, 200);
-  else await controller.step(steps);
-  // Ledgers carry a write time; fix it so regenerating gives identical files.
-  (cell.metadata[LEDGER_KEY] as Json).savedAt = '2026-01-01T00:00:00.000Z';
-  controller.dispose();
-  return cell;
+  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  try {
+    const page = await browser.newPage();
+    await page.addScriptTag({ content: bundle.outputFiles[0].text });
+    const results = (await page.evaluate(
+      `stepwellPrerun(${JSON.stringify(pending)})`
+    )) as PrerunResult[];
+    for (const r of results) {
+      const cell = cells.find(c => c.id === r.id);
+      if (cell === undefined) throw new Error(`no cell ${r.id}`);
+      const head = (r.metadata.stepwell as { branches: { head: { step: number } }[] }).branches[0].head.step;
+      const expected = expectedSteps.get(r.id);
+      // The prose was computed in Node; the browser's Math functions differ in the last bits, so check it still holds.
+      if (expected !== undefined && head !== expected) throw new Error(`cell ${r.id}: Chromium stopped at step ${head}, the prose says ${expected}`);
+      cell.metadata = r.metadata;
+      cell.outputs = r.outputs;
+    }
+    console.log(`pre-ran ${results.length} cells in Chromium ${browser.version()}`);
+  } finally {
+    await browser.close();
+  }
 }
 
 /** Largest Hessian eigenvalue at the session's current weights (dense, from exact Hv products). */
@@ -151,7 +146,7 @@ it opens at step ${blow} **without re-running**,
 because its whole state is stored in the notebook. Press **Verify** to replay it from the seed and check
 that the stored trajectory is reproduced bit for bit.
 `),
-    await stepwellCell('gh-diverging', badSpec, 'diverge'),
+    (expectedSteps.set('gh-diverging', blow), stepwellCell('gh-diverging', badSpec, 'diverge')),
     markdown('gh-diagnosis', `## What the readouts say
 
 * **Trace**: the training loss falls to ${g3(lowest.loss)} at step ${lowest.step}, then grows by orders of
@@ -172,7 +167,7 @@ is a strong hint, not a proof. The fix is to step below the limit with a margin:
 Run the next cell (**Shift+Enter**) to start its session, then press **Step ×N** a few times or use
 **Run until…** with "training loss ≤ 0.002".
 `),
-    await stepwellCell('gh-fixed', goodSpec, 0),
+    stepwellCell('gh-fixed', goodSpec, 0),
     markdown('gh-decision', `## Decision
 
 η = ${good}, because λmax ≈ ${g3(l0)} at the start makes η = ${bad} unstable (η·λmax/2 ≈ ${g3((bad * l0) / 2)} > 1);
@@ -216,7 +211,7 @@ chutes, no better than a guess.
 
 The cell below holds that experiment at step 100, restored from the notebook without re-running.
 `),
-    await stepwellCell('ps-plateau', badSpec, 100),
+    stepwellCell('ps-plateau', badSpec, 100),
     markdown('ps-diagnosis', `## What the readouts say
 
 * **Trace**: flat at ln 3 ≈ ${ln3.toFixed(4)} from step 0 to step 100 — a plateau, not a slow descent.
@@ -235,7 +230,7 @@ The cell below holds that experiment at step 100, restored from the notebook wit
 
 The fix: \`gain: 1\`. Run the next cell, then **Step ×N** with N = 100 and compare the trace.
 `),
-    await stepwellCell('ps-fixed', goodSpec, 0),
+    stepwellCell('ps-fixed', goodSpec, 0),
     markdown('ps-decision', `## Decision
 
 Initialize with lecun-normal at gain 1: with gain ${tiny} the loss stayed at ln 3 for 100 steps; with gain 1 it
@@ -262,8 +257,11 @@ async function main(): Promise<void> {
     fs.writeFileSync(path.join(dir, name), JSON.stringify(notebook(cells), null, 1) + '\n');
     console.log(`wrote demo-notebooks/${name}`);
   };
-  write('greenhouse-humidity-sensor.ipynb', await greenhouse());
-  write('parcel-sorter-plateau.ipynb', await parcels());
+  const gh = await greenhouse();
+  const ps = await parcels();
+  await prerunInChromium([...gh, ...ps]);
+  write('greenhouse-humidity-sensor.ipynb', gh);
+  write('parcel-sorter-plateau.ipynb', ps);
 }
 
 main().catch(error => {

@@ -129,15 +129,21 @@ export function problemLine(p: SpecProblem): string {
   return `${where}${path}: ${p.message}`;
 }
 
+/** Why a replay can differ before the first update. */
+export const STEP0_HINT =
+  'The starting point already differs: the spec or its data changed, or this browser computes Math functions ' +
+  '(exp, tanh, log, cos) differently in the last bits from the JavaScript engine that wrote the ledger.';
+
 /** The verify outcome as one sentence. */
 export function verifyLine(v: VerifyResult): string {
   if (v.match === 'bit-identical') {
     return `Replayed ${v.steps} steps from the seed: bit-identical (fingerprint ${shortPrint(v.actual)}).`;
   }
-  return (
-    `Replayed ${v.steps} steps from the seed: differs at step ${v.firstDifferingStep ?? v.steps} ` +
-    `(expected ${shortPrint(v.expected)}, replay reached ${shortPrint(v.actual)}).`
-  );
+  const at = v.firstDifferingStep ?? v.steps;
+  const text =
+    `Replayed ${v.steps} steps from the seed: differs at step ${at} ` +
+    `(expected ${shortPrint(v.expected)}, replay reached ${shortPrint(v.actual)}).`;
+  return at === 0 ? `${text} ${STEP0_HINT}` : text;
 }
 
 /** A display row of the gradient-audit table. */

@@ -83,6 +83,7 @@ describe('summary texts', () => {
   it('states verify outcomes in one sentence', () => {
     expect(verifyLine({ match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
     expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
+    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 0, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('starting point already differs');
   });
 
   it('formats audit layers without recomputing verdicts', () => {

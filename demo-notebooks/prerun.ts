@@ -1,0 +1,83 @@
+/**
+ * Browser entry of the demo generator: steps stepwell cells through the same controller
+ * and engine host as the extension, inside headless Chromium, so the stored ledgers replay
+ * bit for bit in the browser (JavaScript engines differ in their Math functions; see
+ * src/ui/DESIGN.md). Bundled by make_demos.ts with esbuild; exposes `stepwellPrerun`.
+ */
+import { CellController } from '../src/ui/controller';
+import { DEFAULT_SETTINGS } from '../src/ui/ports';
+import type { CellHost } from '../src/ui/ports';
+import { ledgerGlue, LEDGER_KEY } from '../src/ui/ledger-glue';
+import { stepwellOutput } from '../src/plugin/cell-host';
+import { checkSpec } from '../src/plugin/registry';
+import { EngineClient } from '../src/worker/client';
+import { inProcessPort } from '../src/worker/in-process';
+import { realCore } from '../src/worker/core-adapter';
+import type { EngineCore, EngineSession } from '../src/worker/engine-core';
+import type { StepRecord } from '../src/core/state';
+
+/** What to do with one cell. */
+export interface PrerunRequest {
+  id: string;
+  spec: string;
+  /** A number of steps, or run until the loss exceeds 1000× its start. */
+  action: number | 'diverge';
+}
+
+/** The cell's metadata and outputs after the pre-run. */
+export interface PrerunResult {
+  id: string;
+  metadata: Record<string, unknown>;
+  outputs: unknown[];
+}
+
+/** The real core with wall times zeroed, so regenerating gives byte-identical notebooks. */
+const timelessCore: EngineCore = {
+  ...realCore,
+  create: e => timeless(realCore.create(e)),
+  restore: (e, st) => timeless(realCore.restore(e, st))
+};
+
+function timeless(s: EngineSession): EngineSession {
+  return Object.assign(Object.create(s) as EngineSession, {
+    stepOnce: (): StepRecord => ({ ...s.stepOnce(), ms: 0 }),
+    initialRecord: (): StepRecord => ({ ...s.initialRecord(), ms: 0 })
+  });
+}
+
+async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
+  const out: PrerunResult = { id: r.id, metadata: {}, outputs: [] };
+  const host: CellHost = {
+    readSource: () => r.spec,
+    readLedger: () => out.metadata[LEDGER_KEY],
+    writeLedger: value => {
+      out.metadata = { [LEDGER_KEY]: JSON.parse(JSON.stringify(value)) };
+    },
+    writeOutputs: (summary, md) => {
+      out.outputs = [stepwellOutput(summary, md)];
+    }
+  };
+  const controller = new CellController({
+    host,
+    engine: () => new EngineClient(inProcessPort(timelessCore)),
+    ledger: ledgerGlue,
+    checkSpec,
+    settings: () => DEFAULT_SETTINGS
+  });
+  if (!(await controller.run())) throw new Error(`cell ${r.id}: the spec did not run: ${JSON.stringify(controller.state.problems)}`);
+  const ok = r.action === 'diverge' ? await controller.runUntil({ kind: 'diverged', factor: 1e3 }, 200) : await controller.step(r.action);
+  if (!ok) throw new Error(`cell ${r.id}: stepping failed: ${controller.state.notice?.text ?? ''}`);
+  // Ledgers carry a write time; fix it so regenerating gives identical files.
+  (out.metadata[LEDGER_KEY] as Record<string, unknown>).savedAt = '2026-01-01T00:00:00.000Z';
+  controller.dispose();
+  return out;
+}
+
+/** Pre-runs every request in order. */
+export async function stepwellPrerun(requests: PrerunRequest[]): Promise<PrerunResult[]> {
+  const results: PrerunResult[] = [];
+  for (const r of requests) results.push(await prerunOne(r));
+  return results;
+}
+
+(globalThis as unknown as { stepwellPrerun: typeof stepwellPrerun }).stepwellPrerun = stepwellPrerun;
