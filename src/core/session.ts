@@ -8,7 +8,7 @@ export type { StopCondition } from './session/stop';
 export { DEFAULT_DIVERGENCE_FACTOR } from './session/stop';
 export { fingerprintState, copySessionState, copyOptimizerState } from './session/state-data';
 export { Grove } from './session/grove';
-export type { Checkpoint, GroveOptions, BranchOrigin } from './session/grove';
+export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot } from './session/grove';
 export type { ReplayReport } from './session/replay';
 export { relativeDifference } from './session/replay';
 export { adaptSessionState, adaptOptimizerState, effectiveBatch } from './session/adapt';

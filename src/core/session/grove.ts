@@ -50,6 +50,24 @@ export interface BranchOrigin {
   patch: Partial<Recipe>;
 }
 
+/** Plain-data form of one branch (see {@link Grove.snapshot}). */
+export interface BranchSnapshot {
+  name: string;
+  experiment: Experiment;
+  origin: BranchOrigin | null;
+  trajectory: StepRecord[];
+  checkpoints: Checkpoint[];
+  /** Current spacing of automatic checkpoints (after thinning). */
+  every: number;
+  /** The live session's state. */
+  current: SessionState;
+}
+
+/** Plain-data form of a whole grove, branches in creation order. */
+export interface GroveSnapshot {
+  branches: BranchSnapshot[];
+}
+
 interface Branch {
   name: string;
   experiment: Experiment;
@@ -62,6 +80,12 @@ interface Branch {
 
 function copyRecord(r: StepRecord): StepRecord {
   return { ...r, layers: r.layers.map((l) => ({ ...l })) };
+}
+
+/** Copies seed and recipe; the setup (with its data arrays) is shared read-only. */
+function copyExperiment(e: Experiment): Experiment {
+  const r = e.recipe;
+  return { seed: e.seed, setup: e.setup, recipe: { ...r, schedule: { ...r.schedule }, layers: r.layers.map((l) => ({ ...l })) } };
 }
 
 function copyCheckpoint(c: Checkpoint): Checkpoint {
@@ -94,6 +118,46 @@ export class Grove {
     return g;
   }
 
+  /**
+   * Plain data for the ledger: every branch with its recipe, origin, trajectory, checkpoints
+   * and current state (deep copies; the setup, with its data arrays, is shared read-only).
+   */
+  snapshot(): GroveSnapshot {
+    return {
+      branches: [...this.branches.values()].map((b) => ({
+        name: b.name,
+        experiment: copyExperiment(b.experiment),
+        origin: b.origin === null ? null : { parent: b.origin.parent, step: b.origin.step, patch: { ...b.origin.patch } },
+        trajectory: b.trajectory.map(copyRecord),
+        checkpoints: b.checkpoints.map(copyCheckpoint),
+        every: b.every,
+        current: b.session.state()
+      }))
+    };
+  }
+
+  /** Rebuilds a grove from {@link Grove.snapshot} data (each branch continues bit for bit). */
+  static restore(snap: GroveSnapshot, opts: GroveOptions = {}): Grove {
+    const g = new Grove(opts);
+    if (snap.branches.length === 0) throw new Error('a grove snapshot needs at least one branch');
+    for (const b of snap.branches) {
+      if (g.branches.has(b.name)) throw new Error(`the snapshot names branch '${b.name}' twice`);
+      if (b.origin !== null && !g.branches.has(b.origin.parent)) throw new Error(`branch '${b.name}' names parent '${b.origin.parent}', which does not come before it in the snapshot`);
+      if (b.checkpoints.length === 0) throw new Error(`branch '${b.name}' has no checkpoint (its first state is needed for rewind and replay)`);
+      if (b.trajectory.length !== b.current.step + 1) throw new Error(`branch '${b.name}' has ${b.trajectory.length} trajectory records for step ${b.current.step} (expected ${b.current.step + 1})`);
+      g.branches.set(b.name, {
+        name: b.name,
+        experiment: copyExperiment(b.experiment),
+        origin: b.origin === null ? null : { ...b.origin, patch: { ...b.origin.patch } },
+        session: g.newSession(b.experiment, b.current),
+        trajectory: b.trajectory.map(copyRecord),
+        checkpoints: b.checkpoints.map(copyCheckpoint),
+        every: b.every
+      });
+    }
+    return g;
+  }
+
   /** Branch names in creation order. */
   names(): string[] {
     return [...this.branches.keys()];
@@ -101,7 +165,7 @@ export class Grove {
 
   /** The experiment (with its recipe) a branch runs. */
   experiment(name: string): Experiment {
-    return this.get(name).experiment;
+    return copyExperiment(this.get(name).experiment);
   }
 
   /** Where a branch was forked from (null for the root). */
