@@ -42,6 +42,10 @@ interface TrajectoryCase {
   paramsFinal: number[];
   t?: number[];
   evaluations?: number[];
+  lrs?: number[];
+  scheduler?: string;
+  clipNorm?: number;
+  clipRule?: string;
 }
 
 const golden = JSON.parse(readFileSync(join(__dirname, 'golden.json'), 'utf8')) as { cases: TrajectoryCase[] };
@@ -106,6 +110,7 @@ function checkTrajectory(c: TrajectoryCase, tol: number): void {
   // the batch loss is taken with the gradient, before the update: at full batch, record k's
   // batchLoss is torch's loss after step k − 1
   within('batch loss of each step', worstStep(r.records.map((s) => s.batchLoss), [c.initialLoss, ...c.losses.slice(0, -1)]), tol);
+  if (c.lrs) within('learning rate of each step', worstStep(r.records.map((s) => s.lr), c.lrs), tol);
   within('‖g‖ of each step', worstStep(r.records.map((s) => s.gradNorm), c.gradNorms), tol);
   within('‖Δw‖ of each step', worstStep(r.records.map((s) => s.updateNorm), c.updateNorms), tol);
   within('parameters after step 1', { err: relErr(r.after1, c.paramsAfter1) }, tol);
@@ -120,13 +125,17 @@ function checkTrajectory(c: TrajectoryCase, tol: number): void {
   }
 }
 
-const firstOrder = golden.cases.filter((c) => c.spec.recipe.optimizer !== 'lbfgs');
+const torchClip = (c: TrajectoryCase): boolean => c.clipRule === 'torch.nn.utils.clip_grad_norm_';
+const firstOrder = golden.cases.filter((c) => c.spec.recipe.optimizer !== 'lbfgs' && !torchClip(c));
+const clippedByTorch = golden.cases.filter(torchClip);
 const lbfgs = golden.cases.filter((c) => c.spec.recipe.optimizer === 'lbfgs');
 
 describe('golden file', () => {
   it('covers every first-order family and both L-BFGS line-search settings', () => {
     const kinds = new Set(golden.cases.map((c) => c.torch.replace(/\{.*$/, '')));
     expect([...kinds].sort()).toEqual(['Adagrad', 'Adam', 'AdamW', 'LBFGS', 'RMSprop', 'SGD']);
+    const schedulers = new Set(golden.cases.map((c) => c.scheduler).filter((x) => x !== undefined));
+    expect([...schedulers].sort()).toEqual(['ChainedScheduler', 'CosineAnnealingLR', 'ExponentialLR', 'LambdaLR', 'LinearLR', 'StepLR']);
     expect(golden.cases.every((c) => c.losses.length === c.steps)).toBe(true);
     // network trajectories run ≥ 20 steps; the analytic L-BFGS ones stop before the loss
     // nears round-off, where relative comparisons lose their meaning
@@ -137,9 +146,28 @@ describe('golden file', () => {
 });
 
 // source: PyTorch 1.13 torch.optim, float64 (test/reference/optim/make_golden.py)
-describe('first-order optimizers follow torch.optim step for step (1e-10 relative)', () => {
+describe('first-order optimizers, schedules, warm-up, per-layer rates and exact clipping follow torch.optim step for step (1e-10 relative)', () => {
   it.each(firstOrder.map((c) => [c.name, c] as const))('%s', (_n, c) => {
     checkTrajectory(c, FIRST_ORDER_REL);
+  });
+});
+
+/*
+ * Deliberate, documented difference (src/core/optim/gradient.ts, clipByGlobalNorm): the engine
+ * clips with the exact ratio max/‖g‖, torch.nn.utils.clip_grad_norm_ with max/(‖g‖ + 1e-6).
+ * Each clipped step is then longer by the relative amount ≈ 1e-6/‖g‖ (≤ 3.4e-6 here: every
+ * clipped ‖g‖ exceeds clipNorm = 0.3), which moves these trajectories by ~1e-6 relative, so
+ * they are held to 1e-5 instead of 1e-10. The `*-exact-ratio` cases above replay the same
+ * recipes with the exact ratio written out in the torch script and pass at 1e-10, which pins
+ * the engine's formula; these two pin that torch's own clipping differs by no more than that.
+ */
+const TORCH_CLIP_REL = 1e-5;
+
+// source: PyTorch 1.13 torch.optim + torch.nn.utils.clip_grad_norm_, float64 (test/reference/optim/make_golden.py)
+describe('clipped trajectories follow torch.nn.utils.clip_grad_norm_ up to its 1e-6 offset (1e-5 relative)', () => {
+  it.each(clippedByTorch.map((c) => [c.name, c] as const))('%s', (_n, c) => {
+    expect(c.clipNorm).toBe(0.3);
+    checkTrajectory(c, TORCH_CLIP_REL);
   });
 });
 

@@ -230,9 +230,61 @@ ANALYTIC = [
 ]
 
 
-def run_case(name, problem, recipe, factory, steps=STEPS):
+# schedules, warm-up, per-layer rates and clipping on the tanh-mse network (4 layers of
+# parameter tensors: W0, b0, W1, b1): name, problem, recipe, optimizer, steps, scheduler, clip
+def _groups(ps, lr, scales):
+    return [{"params": ps[2 * k:2 * k + 2], "lr": lr * s} for k, s in enumerate(scales)]
+
+
+SCHEDULED = [
+    ("sgd-step-schedule", "tanh-mse", {"optimizer": "sgd", "lr": 0.2, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0,
+                                       "schedule": {"kind": "step", "every": 5, "factor": 0.5}},
+     lambda ps: torch.optim.SGD(ps, lr=0.2), STEPS, lambda o: torch.optim.lr_scheduler.StepLR(o, step_size=5, gamma=0.5), 0.0),
+    ("adam-exponential-schedule", "gelu-tanh-ce", {"optimizer": "adam", "lr": 0.03, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.0,
+                                                   "schedule": {"kind": "exponential", "gamma": 0.9}},
+     lambda ps: torch.optim.Adam(ps, lr=0.03), STEPS, lambda o: torch.optim.lr_scheduler.ExponentialLR(o, gamma=0.9), 0.0),
+    # eta_min = floor * lr; T_max = 30 > 25 steps, so torch's periodic cosine never turns back up
+    ("sgd-momentum-cosine-schedule", "tanh-mse", {"optimizer": "sgd", "lr": 0.05, "momentum": 0.9, "nesterov": False, "weightDecay": 0.0,
+                                                  "schedule": {"kind": "cosine", "steps": 30, "floor": 0.1}},
+     lambda ps: torch.optim.SGD(ps, lr=0.05, momentum=0.9), STEPS, lambda o: torch.optim.lr_scheduler.CosineAnnealingLR(o, T_max=30, eta_min=0.005), 0.0),
+    # 1 / (1 + decay * t) through torch's generic LambdaLR
+    ("rmsprop-inverse-time-schedule", "tanh-mse", {"optimizer": "rmsprop", "lr": 0.01, "alpha": 0.99, "eps": 1e-8, "centered": False, "weightDecay": 0.0,
+                                                   "schedule": {"kind": "inverse-time", "decay": 0.2}},
+     lambda ps: torch.optim.RMSprop(ps, lr=0.01, alpha=0.99, eps=1e-8), STEPS, lambda o: torch.optim.lr_scheduler.LambdaLR(o, lambda t: 1.0 / (1.0 + 0.2 * t)), 0.0),
+    # warm-up W = 5: torch LinearLR from 1/W over W - 1 updates gives (t + 1)/W, then 1
+    ("adam-warmup", "tanh-mse", {"optimizer": "adam", "lr": 0.03, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.0, "warmup": 5},
+     lambda ps: torch.optim.Adam(ps, lr=0.03), STEPS, lambda o: torch.optim.lr_scheduler.LinearLR(o, start_factor=0.2, end_factor=1.0, total_iters=4), 0.0),
+    ("sgd-warmup-step-schedule", "gelu-tanh-ce", {"optimizer": "sgd", "lr": 0.5, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0, "warmup": 4,
+                                                  "schedule": {"kind": "step", "every": 10, "factor": 0.3}},
+     lambda ps: torch.optim.SGD(ps, lr=0.5), STEPS,
+     lambda o: torch.optim.lr_scheduler.ChainedScheduler([torch.optim.lr_scheduler.LinearLR(o, start_factor=0.25, end_factor=1.0, total_iters=3),
+                                                          torch.optim.lr_scheduler.StepLR(o, step_size=10, gamma=0.3)]), 0.0),
+    # per-layer multipliers as torch parameter groups with lr * lrScale
+    ("sgd-momentum-layer-scales", "tanh-mse", {"optimizer": "sgd", "lr": 0.05, "momentum": 0.9, "nesterov": False, "weightDecay": 0.0,
+                                               "layers": [{"lrScale": 2.0}, {"lrScale": 0.25}]},
+     lambda ps: torch.optim.SGD(_groups(ps, 0.05, [2.0, 0.25]), lr=0.05, momentum=0.9), STEPS, None, 0.0),
+    ("adamw-layer-scales", "gelu-tanh-ce", {"optimizer": "adamw", "lr": 0.02, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.05,
+                                            "layers": [{"lrScale": 1.5}, {"lrScale": 0.5}, {"lrScale": 0.0}]},
+     lambda ps: torch.optim.AdamW(_groups(ps, 0.02, [1.5, 0.5, 0.0]), lr=0.02, weight_decay=0.05), STEPS, None, 0.0),
+    # torch.nn.utils.clip_grad_norm_ scales by max/(||g|| + 1e-6); see the test for the tolerance
+    ("sgd-clip-norm", "tanh-mse", {"optimizer": "sgd", "lr": 0.3, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0, "clipNorm": 0.3},
+     lambda ps: torch.optim.SGD(ps, lr=0.3), STEPS, None, 0.3),
+    ("adam-clip-norm", "gelu-tanh-ce", {"optimizer": "adam", "lr": 0.02, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.0, "clipNorm": 0.3},
+     lambda ps: torch.optim.Adam(ps, lr=0.02), STEPS, None, 0.3),
+    ("sgd-clip-norm-exact-ratio", "tanh-mse", {"optimizer": "sgd", "lr": 0.3, "momentum": 0.0, "nesterov": False, "weightDecay": 0.0, "clipNorm": 0.3},
+     lambda ps: torch.optim.SGD(ps, lr=0.3), STEPS, None, -0.3),
+    ("adam-clip-norm-exact-ratio", "gelu-tanh-ce", {"optimizer": "adam", "lr": 0.02, "beta1": 0.9, "beta2": 0.999, "eps": 1e-8, "amsgrad": False, "weightDecay": 0.0, "clipNorm": 0.3},
+     lambda ps: torch.optim.Adam(ps, lr=0.02), STEPS, None, -0.3),
+]
+
+
+def run_case(name, problem, recipe, factory, steps=STEPS, scheduler=None, clip=0.0):
+    """One trajectory. `scheduler(opt)` builds a torch lr scheduler stepped after every update;
+    `clip` > 0 applies torch.nn.utils.clip_grad_norm_(max_norm=clip) before every update,
+    `clip` < 0 scales the gradient by the exact ratio |clip|/||g|| when ||g|| > |clip|."""
     spec, ps, loss_of = make_problem(problem)
     opt = factory(ps)
+    sched = scheduler(opt) if scheduler else None
     is_lbfgs = isinstance(opt, torch.optim.LBFGS)
 
     def closure():
@@ -243,9 +295,10 @@ def run_case(name, problem, recipe, factory, steps=STEPS):
 
     with torch.no_grad():
         initial = float(loss_of(ps))
-    losses, grad_norms, update_norms, steps_t, evals = [], [], [], [], []
+    losses, grad_norms, update_norms, steps_t, evals, lrs = [], [], [], [], [], []
     after1 = None
     for k in range(steps):
+        lrs.append(float(opt.param_groups[0]["lr"]))
         before = flat(ps)
         ps_probe = [p.detach().clone().requires_grad_(True) for p in ps]
         g = torch.autograd.grad(loss_of(ps_probe), ps_probe)
@@ -259,7 +312,17 @@ def run_case(name, problem, recipe, factory, steps=STEPS):
             steps_t.append(float(st["t"]))
         else:
             closure()
+            if clip > 0:
+                torch.nn.utils.clip_grad_norm_(ps, max_norm=clip)
+            elif clip < 0:
+                # the exact ratio max/||g|| (no +1e-6), written out here with torch tensors
+                total = torch.cat([q.grad.reshape(-1) for q in ps]).norm()
+                if total > -clip:
+                    for q in ps:
+                        q.grad.mul_(-clip / total)
             opt.step()
+        if sched is not None:
+            sched.step()
         after = flat(ps)
         update_norms.append(float((after - before).norm()))
         with torch.no_grad():
@@ -280,6 +343,13 @@ def run_case(name, problem, recipe, factory, steps=STEPS):
         "paramsAfter1": after1,
         "paramsFinal": [float(u) for u in flat(ps)],
     }
+    if len(opt.param_groups) == 1:
+        out["lrs"] = lrs
+    if sched is not None:
+        out["scheduler"] = type(sched).__name__
+    if clip != 0:
+        out["clipNorm"] = abs(clip)
+        out["clipRule"] = "torch.nn.utils.clip_grad_norm_" if clip > 0 else "exact ratio max/||g|| in the script"
     if is_lbfgs:
         out["t"] = steps_t
         out["evaluations"] = evals
@@ -287,7 +357,11 @@ def run_case(name, problem, recipe, factory, steps=STEPS):
 
 
 def main():
-    cases = [run_case(*c) for c in OPTS] + [run_case(*c) for c in ANALYTIC]
+    cases = [run_case(*c) for c in OPTS] + [run_case(*c) for c in ANALYTIC] + [run_case(*c) for c in SCHEDULED]
+    for c in cases:
+        if c.get("clipNorm"):
+            clipped = sum(g > c["clipNorm"] for g in c["gradNorms"])
+            assert 3 <= clipped < c["steps"], f"{c['name']}: {clipped} of {c['steps']} steps clipped"
     for c in cases:
         print(f"{c['name']:32s} {c['initialLoss']:.5f} -> {c['losses'][-1]:.5f}", file=sys.stderr)
         assert np.isfinite(c["losses"]).all() and c["losses"][-1] < c["initialLoss"], c["name"]
