@@ -3,6 +3,7 @@
  * notebook, no blocking "Select Kernel" dialog appears, and nothing from our code throws.
  */
 import * as fs from 'fs';
+import * as path from 'path';
 import {
   dialogTitle,
   ensureBuilt,
@@ -11,6 +12,7 @@ import {
   notebookCellCount,
   openNotebook,
   ourErrors,
+  pluginStates,
   runPaletteCommand,
   screenshot,
   startApp,
@@ -51,6 +53,21 @@ describe('embedded app', () => {
     const file = await screenshot(browser.page, 'app-notebook-open');
     expect(fs.statSync(file).size).toBeGreaterThan(10_000);
     expect(ourErrors(browser)).toEqual([]);
+  });
+
+  it('activates the host plugins and, when present, every Stepwell plugin, with Stepwell running the cells', async () => {
+    expect(await pluginStates(browser.page, '@stepwell/host:')).toEqual({ '@stepwell/host:session-dialogs': true });
+    const hasStepwell = fs.existsSync(path.join(__dirname, '..', '..', 'src', 'plugin', 'index.ts'));
+    const stepwell = await pluginStates(browser.page, 'stepwell:');
+    if (hasStepwell) {
+      expect(Object.keys(stepwell).length).toBeGreaterThan(0);
+      const inactive = Object.entries(stepwell).filter(([, on]) => !on).map(([id]) => id);
+      expect(inactive).toEqual([]);
+      // The host falls back to JupyterLab's executor (with this warning) only if nobody provides one.
+      expect(browser.consoleWarnings.filter(w => /no plugin provides/.test(w))).toEqual([]);
+    } else {
+      expect(stepwell).toEqual({});
+    }
   });
 
   it('runs commands from the palette and by id', async () => {

@@ -101,6 +101,8 @@ export interface IBrowserSession {
   page: Page;
   /** Text of `console.error` messages. */
   consoleErrors: string[];
+  /** Text of `console.warn` messages. */
+  consoleWarnings: string[];
   /** Uncaught exceptions and unhandled rejections in the page. */
   pageErrors: Error[];
   /** Responses with status >= 400 and requests that failed, as "STATUS URL". */
@@ -127,6 +129,7 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
     context,
     page,
     consoleErrors: [],
+    consoleWarnings: [],
     pageErrors: [],
     failedRequests: [],
     userDataDir,
@@ -136,6 +139,7 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
     }
   };
   page.on('console', msg => {
+    if (msg.type() === 'warning') session.consoleWarnings.push(msg.text());
     if (msg.type() !== 'error') return;
     const where = msg.location();
     // "Failed to load resource" carries its URL only in the location.
@@ -159,6 +163,19 @@ export function ourErrors(session: IBrowserSession): string[] {
     ...session.pageErrors.map(e => `page error: ${e.stack ?? e.message}`),
     ...session.consoleErrors.filter(t => mine.test(t)).map(t => `console error: ${t}`)
   ];
+}
+
+/** Plugin ids registered in the app with a prefix, each with whether it has been activated. */
+export async function pluginStates(page: Page, prefix: string): Promise<Record<string, boolean>> {
+  return page.evaluate(p => {
+    const app = (window as unknown as {
+      jupyterapp?: { listPlugins(): string[]; isPluginActivated(id: string): boolean };
+    }).jupyterapp;
+    if (!app) throw new Error('window.jupyterapp is missing (exposeAppInBrowser is off?)');
+    const out: Record<string, boolean> = {};
+    for (const id of app.listPlugins().filter(i => i.startsWith(p))) out[id] = app.isPluginActivated(id);
+    return out;
+  }, prefix);
 }
 
 /** Wait until the app has restored its layout (the host sets data-stepwell-host="restored"). */
