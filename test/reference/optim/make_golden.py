@@ -1,5 +1,7 @@
 #!/usr/bin/python3
-"""Golden optimizer trajectories: torch.optim on small full-batch networks in float64.
+"""Golden optimizer trajectories: torch.optim on small full-batch networks and on analytic
+objectives (Rosenbrock, a quadratic) in float64, with torch's lr schedulers, parameter groups
+for per-layer rates, and gradient clipping.
 
 Reference: PyTorch's torch.optim (run with Debian's /usr/bin/python3). Regenerate from
 the repository root with
@@ -14,7 +16,8 @@ For every case the file holds the spec (our JSON format, with every optimizer
 hyper-parameter spelled out in the recipe so that no default matters), the full-batch
 loss before the first step and after each step, the norm of the gradient each step
 used and of the update it made, the parameters after step 1 and after the last step,
-and for L-BFGS the accepted step length t and the objective evaluations per step.
+the learning rate of each update (single parameter group), and for L-BFGS the
+accepted step length t and the objective evaluations per step.
 
 Network conventions are those of test/reference/model/make_golden.py (flat vector:
 weight [out, in] row-major then bias, per layer; a = W h + b; mean-reduced losses;
