@@ -1,0 +1,110 @@
+/**
+ * Curvature timings: the dense symmetric eigen-solver on random matrices, and the curvature
+ * readouts (top-10 Lanczos, dense spectrum) on seeded random MLPs of three sizes.
+ * Reference figures (PyTorch 1.13 + SciPy, one thread, float64) are the ones stated in the issue.
+ */
+import { Network } from '../../src/core/model/network';
+import { initNetwork } from '../../src/core/model/init';
+import { Rng } from '../../src/core/rng';
+import type { ActivationName, LossName, NetworkModel } from '../../src/core/setup';
+import { symmetricEigen } from '../../src/core/linalg/symmetric-eigen';
+import { lanczosExtremes } from '../../src/core/linalg/lanczos';
+import { curvatureOperator, denseSpectrum } from '../../src/core/probe/curvature';
+import { timeIt, type BenchResult } from './types';
+
+export const title = 'Curvature: dense eigen-solver, Lanczos and dense spectra of MLP Hessians';
+
+function randomSymmetric(n: number, seed: number): Float64Array {
+  const rng = Rng.fromSeed(seed);
+  const a = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j <= i; j++) {
+      const v = rng.normal();
+      a[i * n + j] = v;
+      a[j * n + i] = v;
+    }
+  }
+  return a;
+}
+
+/** One timed run (for work too long to repeat). */
+function once(fn: () => void): { ms: number; reps: number } {
+  const t = performance.now();
+  fn();
+  return { ms: performance.now() - t, reps: 1 };
+}
+
+interface MlpCase {
+  widths: number[];
+  act: ActivationName;
+  loss: LossName;
+  batch: number;
+  dense: boolean;
+  /** PyTorch + scipy eigsh top-10 figures from the issue. */
+  reference?: { ms: number; what: string };
+}
+
+const MLPS: MlpCase[] = [
+  { widths: [4, 16, 16, 1], act: 'tanh', loss: 'mse', batch: 64, dense: true },
+  // Dense P = 5 699 takes minutes and 260 MB: only with STEPWELL_BENCH_FULL=1.
+  { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256, dense: process.env.STEPWELL_BENCH_FULL === '1', reference: { ms: 210, what: 'PyTorch 1.13 + scipy eigsh top-10, 117 Hv, 1 thread' } },
+  { widths: [64, 256, 256, 10], act: 'relu', loss: 'cross-entropy', batch: 512, dense: false },
+];
+
+function buildMlp(c: MlpCase): { net: Network; w: Float64Array } {
+  const rng = Rng.fromSeed(11);
+  const [inputs, ...units] = c.widths;
+  const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
+  const k = units[units.length - 1];
+  const x = rng.fillNormal(new Float64Array(c.batch * inputs));
+  const y = new Float64Array(c.loss === 'cross-entropy' ? c.batch : c.batch * k);
+  for (let i = 0; i < y.length; i++) y[i] = c.loss === 'cross-entropy' ? rng.int(k) : rng.normal();
+  const net = new Network(model, { rows: c.batch, inputs, targets: c.loss === 'cross-entropy' ? 1 : k, x, y }, c.loss, 0);
+  return { net, w: initNetwork(model, rng) };
+}
+
+/**
+ * Figures: `dense eigenvalues n = …` (values only) for n = 370, 1000, 2000 (reference: LAPACK
+ * eigvalsh 2000×2000, 1.0 s) and eigenvectors for n = 370, 1000; for each MLP the top-10 Lanczos
+ * time (tol 1e-10, with the Hessian-vector product count in `extra.Hv`) and, for the two smaller
+ * ones, the dense spectrum (P products + eigen-solve; the P = 5 699 case takes minutes and 260 MB,
+ * so it runs only with STEPWELL_BENCH_FULL=1).
+ */
+export function run(): BenchResult[] {
+  const out: BenchResult[] = [];
+  for (const n of [370, 1000, 2000]) {
+    const a = randomSymmetric(n, n);
+    const t = n <= 370 ? timeIt(() => symmetricEigen(a, n), 1500, 20) : once(() => symmetricEigen(a, n));
+    out.push({
+      name: `dense eigenvalues n = ${n}`,
+      ...t,
+      reference: n === 2000 ? { ms: 1000, what: 'LAPACK eigvalsh via PyTorch, 1 thread' } : undefined,
+      extra: { 'ns per n³/6 update': ((t.ms * 1e6) / ((n * n * n) / 6)).toFixed(2) },
+    });
+    if (n <= 1000) out.push({ name: `dense eigenvalues + eigenvectors n = ${n}`, ...once(() => symmetricEigen(a, n, { vectors: true })) });
+  }
+  for (const c of MLPS) {
+    const { net, w } = buildMlp(c);
+    const p = net.parameterCount;
+    const label = `${c.widths.join('-')} ${c.act}, ${c.loss}, batch ${c.batch} (P = ${p})`;
+    let hv = 0;
+    let iterations = 0;
+    let lmax = 0;
+    const t = once(() => {
+      const op = curvatureOperator(net, w);
+      const r = lanczosExtremes(op.apply, p, Rng.fromSeed(1), { k: 10, tol: 1e-10 });
+      hv = op.count();
+      iterations = r.iterations;
+      lmax = r.largest[0].value;
+    });
+    out.push({ name: `top-10 Lanczos ${label}`, ...t, reference: c.reference, extra: { Hv: hv, iterations, 'λmax': lmax.toPrecision(6) } });
+    if (c.dense) {
+      let asym = 0;
+      const td = once(() => {
+        asym = denseSpectrum(net, w, undefined, 'hessian', { limit: p }).asymmetry;
+      });
+      out.push({ name: `dense Hessian spectrum ${label}`, ...td, extra: { Hv: p, asymmetry: asym.toExponential(1) } });
+    }
+  }
+  return out;
+}
