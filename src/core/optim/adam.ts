@@ -9,6 +9,7 @@
  */
 import type { OptimizerName, Recipe } from '../setup';
 import type { OptimizerState } from '../state';
+import { powInt } from './powers';
 import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
 function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): OptimizerState {
@@ -23,8 +24,8 @@ function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerStat
   const v = buffer(state, 'v');
   const vMax = amsgrad ? buffer(state, 'vMax') : null;
   state.t += 1;
-  const c1 = 1 - Math.pow(beta1, state.t);
-  const c2Sqrt = Math.sqrt(1 - Math.pow(beta2, state.t));
+  const c1 = 1 - powInt(beta1, state.t);
+  const c2Sqrt = Math.sqrt(1 - powInt(beta2, state.t));
   // Displacement −(η/c1)·u, so the decoupled term ηλw enters u as λ·c1·w.
   const decay = decoupled ? weightDecay * c1 : 0;
   for (let i = 0; i < grad.length; i++) {

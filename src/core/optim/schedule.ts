@@ -11,8 +11,12 @@
  *                 fraction of lr, held after `steps` updates)
  *   warm-up:      warm = min(1, (t + 1) / warmup), so update `warmup − 1` is the first at full lr
  *                 and no update is wasted at lr 0 (common practice, Goyal et al. 2017).
+ * Powers use {@link powInt} (same bits in every engine); the cosine schedule uses Math.cos,
+ * which engines may round differently in the last bit (replays across engines then match only
+ * within a tolerance).
  */
 import type { Recipe, ScheduleSetup } from '../setup';
+import { powInt } from './powers';
 
 /** Multiplier of the schedule alone at update t (0-based). */
 export function scheduleFactor(schedule: ScheduleSetup, t: number): number {
@@ -20,9 +24,9 @@ export function scheduleFactor(schedule: ScheduleSetup, t: number): number {
     case 'constant':
       return 1;
     case 'step':
-      return Math.pow(schedule.factor, Math.floor(t / schedule.every));
+      return powInt(schedule.factor, Math.floor(t / schedule.every));
     case 'exponential':
-      return Math.pow(schedule.gamma, t);
+      return powInt(schedule.gamma, t);
     case 'inverse-time':
       return 1 / (1 + schedule.decay * t);
     case 'cosine': {

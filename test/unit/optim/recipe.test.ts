@@ -1,5 +1,6 @@
 /** Recipe features: schedules, warm-up, clipping, per-layer scales, curvature rows. */
 import { learningRate, scheduleFactor, warmupFactor } from '../../../src/core/optim/schedule';
+import { powInt } from '../../../src/core/optim/powers';
 import { Session } from '../../../src/core/session';
 import type { Recipe, ScheduleSetup } from '../../../src/core/setup';
 import { experiment, leastSquares, recipe, TestQuadratic } from './fixtures';
@@ -106,5 +107,27 @@ describe('recipe checks at the core boundary', () => {
     expect(() => s.step(1.5)).toThrow('step count must be a non-negative integer, got 1.5');
     expect(() => s.runUntil({ kind: 'steps', count: 1 }, -1)).toThrow('maxSteps must be a non-negative integer, got -1');
     expect(s.step(0)).toEqual([]);
+  });
+});
+
+describe('powInt (square-and-multiply)', () => {
+  // common practice: binary exponentiation; exact where every intermediate is representable
+  it.each<[number, number, number]>([[2, 10, 1024], [3, 20, 3486784401], [0.5, 30, 2 ** -30], [7, 0, 1], [-2, 5, -32]])('%p^%p = %p exactly', (x, n, want) => {
+    expect(powInt(x, n)).toBe(want);
+  });
+  it('agrees with Math.pow (V8) within n·ε relative for Adam-like β and large t', () => {
+    // source: V8's Math.pow as the reference; bound: each squaring doubles the earlier relative
+    // error, so square-and-multiply is accurate to about n·ε (common practice; Higham 2002 §3)
+    for (const b of [0.9, 0.99, 0.999, 0.95]) for (const n of [1, 2, 3, 10, 100, 1000, 12345]) {
+      if (Math.pow(b, n) < 1e-290) continue; // underflow: both give 0 or a subnormal
+      expect(Math.abs(powInt(b, n) - Math.pow(b, n)) / Math.pow(b, n)).toBeLessThanOrEqual((n + 1) * Number.EPSILON);
+    }
+    // what matters for Adam: 1 − βᵗ to 1e-13 relative
+    for (const b of [0.9, 0.999]) for (const n of [1, 10, 1000, 100000]) {
+      expect(Math.abs((1 - powInt(b, n)) - (1 - Math.pow(b, n))) / (1 - Math.pow(b, n))).toBeLessThan(1e-13);
+    }
+  });
+  it('rejects non-integer exponents', () => {
+    expect(() => powInt(2, 0.5)).toThrow('powInt needs a non-negative integer exponent, got 0.5');
   });
 });
