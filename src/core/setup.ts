@@ -109,7 +109,7 @@ export type ScheduleSetup =
 export interface Recipe {
   optimizer: OptimizerName;
   lr: number;
-  /** SGD heavy-ball coefficient μ, PyTorch form v ← μv + g, w ← w − ηv. Default 0. */
+  /** Momentum μ: SGD heavy ball in PyTorch form v ← μv + g, w ← w − ηv; RMSProp's buffer as torch.optim.RMSprop. Default 0. */
   momentum: number;
   /** SGD Nesterov momentum (PyTorch formulation). Default false. */
   nesterov: boolean;

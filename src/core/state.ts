@@ -53,7 +53,7 @@ export interface StepRecord {
   step: number;
   /** Full-batch training loss after the update (regularization included). */
   loss: number;
-  /** Loss on the mini-batch the update used (equals `loss` at full batch); NaN for record 0. */
+  /** Loss on the rows the update used, before the update (at full batch: the previous record's `loss`); NaN for record 0. */
   batchLoss: number;
   /** Held-out loss after the update, when the setup has a held-out split. */
   heldOutLoss?: number;

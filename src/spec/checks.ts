@@ -28,7 +28,7 @@ const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFin
 
 /** Which optimizers use each optimizer-specific recipe key (others ignore it). */
 export const KEY_USERS: Readonly<Record<string, readonly string[]>> = {
-  momentum: ['sgd'],
+  momentum: ['sgd', 'rmsprop'],
   nesterov: ['sgd'],
   beta1: ['adam', 'adamw'],
   beta2: ['adam', 'adamw'],
@@ -229,13 +229,13 @@ function checkRecipe(recipe: Obj, report: CheckReport): void {
   if (!(opt in OPTIMIZER_SET)) return;
   for (const [key, users] of Object.entries(KEY_USERS)) {
     if (recipe[key] === undefined || users.includes(opt)) continue;
-    const message = `recipe.${key} applies to ${users.join(', ')}, not to ${opt}`;
+    const message = `recipe.${key} applies to ${users.join(' and ')}, not to ${opt}`;
     if (key === 'momentum' || key === 'nesterov') report.errors.push({ path: ['recipe', key], atKey: true, message: `${message}; remove it` });
     else report.warnings.push({ path: ['recipe', key], atKey: true, message: `${message}, so it has no effect` });
   }
   if (opt === 'sgd' && recipe.nesterov === true && !(isNum(recipe.momentum) && recipe.momentum > 0))
     report.errors.push({ path: ['recipe', 'nesterov'], message: 'recipe.nesterov needs recipe.momentum > 0 (Nesterov momentum with zero momentum is undefined, as in PyTorch)' });
-  if (opt === 'sgd' && isNum(recipe.momentum) && recipe.momentum >= 1)
+  if ((opt === 'sgd' || opt === 'rmsprop') && isNum(recipe.momentum) && recipe.momentum >= 1)
     report.warnings.push({ path: ['recipe', 'momentum'], message: `recipe.momentum is ${recipe.momentum}; with μ ≥ 1 the velocity never decays and the iteration cannot settle` });
 }
 

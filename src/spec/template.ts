@@ -33,7 +33,7 @@ regularization: { l2: 0 }   # adds ½·l2·Σ‖W‖² over weight matrices (not
 recipe:
   optimizer: sgd            # sgd | adagrad | rmsprop | adam | adamw | lbfgs | cg | newton | gauss-newton | minibatch-lbfgs
   lr: 0.1                   # learning rate η
-  momentum: 0               # heavy-ball μ (sgd only)
+  momentum: 0               # momentum μ (sgd heavy ball, rmsprop)
   batch: full               # full, or rows per mini-batch
   schedule: { kind: constant }   # constant | step | exponential | inverse-time | cosine
 `;

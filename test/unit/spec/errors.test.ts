@@ -44,7 +44,7 @@ describe('parseSpec: error paths and positions on a multi-line YAML fixture', ()
     ['data.x[1]', 'data.x[1] has 2 columns, but model.inputs is 3', 11, 7],
     ['data.x[2][1]', 'data.x[2][1] must be a finite number, got "abc"', 12, 11],
     ['recipe.lrr', "unknown key 'lrr' in recipe (did you mean 'lr'?)", 15, 3],
-    ['recipe.momentum', 'recipe.momentum applies to sgd, not to adam; remove it', 17, 3],
+    ['recipe.momentum', 'recipe.momentum applies to sgd and rmsprop, not to adam; remove it', 17, 3],
     ['recipe.batch', "recipe.batch must be 'full' or a positive integer, got 0", 18, 10],
     ['recipe.schedule', "recipe.schedule is missing the required key 'every'", 19, 3],
   ])('%s', (path, message, line, col) => {
@@ -181,5 +181,13 @@ describe('parseSpec: damaged templates never throw', () => {
         if (e.line !== undefined) expect(e.line).toBeLessThanOrEqual(lines + 1);
       }
     }
+  });
+});
+
+describe('momentum on rmsprop', () => {
+  it('is accepted (torch.optim.RMSprop has a momentum buffer)', () => {
+    const r = parseSpec('seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: rmsprop, lr: 0.01, momentum: 0.9 }\n');
+    expect(r.ok).toBe(true);
+    if (r.ok) expect(r.experiment.recipe.momentum).toBe(0.9);
   });
 });

@@ -29,7 +29,7 @@ describe('parseSpec: warnings', () => {
   it.each<[string, string, string, string, number]>([
     ['cross-entropy after tanh', NET('', '{ units: 3, activation: tanh }'), 'model.layers[0].activation', 'cross-entropy applies softmax itself; a final tanh squashes the logits', 2],
     ['binary-cross-entropy after sigmoid', 'seed: 1\nmodel: { inputs: 1, layers: [{ units: 1, activation: sigmoid }] }\ndata: { x: [[0], [1]], y: [0, 1] }\nloss: binary-cross-entropy\n', 'model.layers[0].activation', 'binary-cross-entropy takes logits and applies the sigmoid itself; a final sigmoid squashes the logits', 2],
-    ['optimizer key that has no effect', NET('recipe: { optimizer: sgd, beta1: 0.8 }\n'), 'recipe.beta1', 'recipe.beta1 applies to adam, adamw, not to sgd, so it has no effect', 5],
+    ['optimizer key that has no effect', NET('recipe: { optimizer: sgd, beta1: 0.8 }\n'), 'recipe.beta1', 'recipe.beta1 applies to adam and adamw, not to sgd, so it has no effect', 5],
     ['momentum of 1 or more', NET('recipe: { momentum: 1.2 }\n'), 'recipe.momentum', 'recipe.momentum is 1.2; with μ ≥ 1 the velocity never decays and the iteration cannot settle', 5],
     ['init next to explicit weights', 'seed: 1\nmodel:\n  inputs: 1\n  init: he-normal\n  layers: [{ units: 1 }]\n  weights: [{ weight: [[2]], bias: [0] }]\ndata: { x: [[1]], y: [2] }\n', 'model.init', 'model.init is ignored because model.weights gives the initial parameters', 4],
     ['no seed', NET('').replace('seed: 1\n', ''), '', 'no seed given, so seed 0 is used; write seed: explicitly so the notebook states it', 1],
