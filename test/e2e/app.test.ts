@@ -3,6 +3,7 @@
  * notebook, no blocking "Select Kernel" dialog appears, and nothing from our code throws.
  */
 import * as fs from 'fs';
+import * as http from 'http';
 import * as path from 'path';
 import {
   dialogTitle,
@@ -97,5 +98,53 @@ describe('embedded app', () => {
     await openNotebook(page, app.url);
     expect(await notebookCellCount(page)).toBe(count);
     expect(ourErrors(browser)).toEqual([]);
+  });
+});
+
+describe('app server', () => {
+  it('moves to a free port when the requested one is taken, and says so', async () => {
+    const second = await startApp({ args: [], env: { STEPWELL_PORT: String(app.port) } });
+    try {
+      expect(second.port).not.toBe(app.port);
+      expect(second.output()).toMatch(new RegExp(`port ${app.port} is in use`));
+      const res = await fetch(second.url);
+      expect(res.status).toBe(200);
+      expect(await res.text()).toContain('jupyter-config-data');
+    } finally {
+      await second.stop();
+    }
+  });
+
+  it('rejects a bad port with a message naming the setting', async () => {
+    await expect(startApp({ args: ['--port', 'eighty'] })).rejects.toThrow(/port must be an integer from 0 to 65535 \(from --port\), got "eighty"/);
+  });
+
+  it('serves the contents index and nothing outside build/', async () => {
+    const index = (await (await fetch(`${app.origin}/api/contents/all.json`)).json()) as { content: { path: string; type: string }[] };
+    const notebook = decodeURIComponent(app.url.split('/lab/tree/')[1]);
+    expect(index.content.filter(c => c.type === 'notebook').map(c => c.path)).toContain(notebook);
+    const file = await fetch(`${app.origin}/files/${notebook.split('/').map(encodeURIComponent).join('/')}`);
+    expect(file.status).toBe(200);
+    expect(((await file.json()) as { nbformat: number }).nbformat).toBe(4);
+    // Path traversal: a raw request for a file above build/ must not be answered with it.
+    const status = await new Promise<number>((resolve, reject) => {
+      const req = http.get({ host: '127.0.0.1', port: app.port, path: '/../package.json' }, res => {
+        res.resume();
+        resolve(res.statusCode ?? 0);
+      });
+      req.on('error', reject);
+    });
+    expect(status).toBe(404);
+  });
+
+  it('`npm start` (start.mjs) reuses the build and prints the notebook URL', async () => {
+    const started = await startApp({ script: 'start.mjs', args: [], env: { STEPWELL_PORT: '0' } });
+    try {
+      expect(started.output()).toMatch(/bundle up to date|built in/);
+      expect(started.url).toMatch(/\/lab\/tree\/.+\.ipynb$/);
+      expect((await fetch(started.url)).status).toBe(200);
+    } finally {
+      await started.stop();
+    }
   });
 });

@@ -56,10 +56,23 @@ export interface IAppServer {
   stop(): Promise<void>;
 }
 
-/** Start the static server on a free loopback port and wait for its URL line. */
-export async function startApp(timeoutMs = 30_000): Promise<IAppServer> {
-  const child: ChildProcess = spawn(process.execPath, [path.join(ROOT, 'src', 'host', 'serve.mjs'), '--port', '0'], {
+/** How to start the app server. */
+export interface IStartOptions {
+  /** Script under src/host/ to run: `serve.mjs` (default) or `start.mjs` (what `npm start` runs). */
+  script?: 'serve.mjs' | 'start.mjs';
+  /** Command-line arguments; default `--port 0` (any free port). */
+  args?: string[];
+  /** Extra environment variables. */
+  env?: Record<string, string>;
+  timeoutMs?: number;
+}
+
+/** Start the static server (by default on a free loopback port) and wait for its URL line. */
+export async function startApp(options: IStartOptions = {}): Promise<IAppServer> {
+  const { script = 'serve.mjs', args = ['--port', '0'], env = {}, timeoutMs = 120_000 } = options;
+  const child: ChildProcess = spawn(process.execPath, [path.join(ROOT, 'src', 'host', script), ...args], {
     cwd: ROOT,
+    env: { ...process.env, ...env },
     stdio: ['ignore', 'pipe', 'pipe']
   });
   let out = '';
