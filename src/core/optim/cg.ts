@@ -37,7 +37,7 @@ export const cg: OptimizerFamily = {
     const gg = dot(g, g);
     let g1 = 0;
     for (let i = 0; i < p; i++) g1 += Math.abs(g[i]);
-    if (gg === 0) {
+    if (gg === 0 || !Number.isFinite(gg) || !Number.isFinite(ctx.loss)) {
       out.fill(0);
       return 0;
     }

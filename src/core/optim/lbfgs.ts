@@ -162,7 +162,8 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     if (a > gmax) gmax = a;
     g1 += a;
   }
-  if (gmax <= TOLERANCE_GRAD) return { step: 0, evaluations: 0 };
+  // converged (torch's tolerance_grad), or a non-finite value/gradient: stay in place
+  if (gmax <= TOLERANCE_GRAD || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
   state.t += 1;
   const d = buffer(state, 'dir');
   if (state.t === 1) {

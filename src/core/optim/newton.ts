@@ -36,6 +36,14 @@ function initNewton(kind: OptimizerName, parameterCount: number, recipe: Recipe)
 
 function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
   const p = g.length;
+  let finite = Number.isFinite(ctx.loss);
+  for (let i = 0; i < p && finite; i++) finite = Number.isFinite(g[i]);
+  if (!finite) {
+    // a non-finite value or gradient: stay in place (the record shows it) instead of solving with NaN
+    out.fill(0);
+    state.scalars.stepLength = 0;
+    return 0;
+  }
   const recipe = ctx.recipe;
   const e = ctx.work.vector('newton.unit');
   const col = ctx.work.vector('newton.column');

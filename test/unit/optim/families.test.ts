@@ -187,3 +187,26 @@ describe('restore continues bit for bit for every family', () => {
     expect(b.fingerprint()).toBe(a.fingerprint());
   });
 });
+
+describe('batch families at a non-finite point', () => {
+  // common practice: a NaN loss must be visible in the record, not crash the step
+  const nan: import('../../../src/core/objective').Objective = {
+    parameterCount: 2, rowCount: 0, blocks: [{ name: 'x', layer: -1, kind: 'param', offset: 0, size: 2, shape: [2] }],
+    value: () => NaN,
+    gradient: (_w, out) => { out.fill(NaN); return NaN; },
+    hvp: (_w, _v, out) => { out.fill(NaN); },
+    gnvp: (_w, _v, out) => { out.fill(NaN); }
+  };
+  it.each<[string, Partial<Recipe>]>([
+    ['lbfgs', { optimizer: 'lbfgs', lr: 1 }],
+    ['cg', { optimizer: 'cg', lr: 1 }],
+    ['newton', { optimizer: 'newton', lr: 1 }],
+    ['minibatch-lbfgs', { optimizer: 'minibatch-lbfgs', lr: 1 }]
+  ])('%s stays in place and records NaN; runUntil reports diverged', (_n, patch) => {
+    const s = Session.create(experiment(patch), { objective: nan, initial: Float64Array.of(1, 2) });
+    const [r] = s.step();
+    expect(Number.isNaN(r.loss)).toBe(true);
+    expect(Array.from(s.parameters)).toEqual([1, 2]);
+    expect(s.runUntil({ kind: 'steps', count: 5 }, 5).reason).toBe('diverged');
+  });
+});
