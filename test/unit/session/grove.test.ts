@@ -19,6 +19,16 @@ describe('replay', () => {
     expect(g.trajectory('main')[200].heldOutLoss).toBeGreaterThan(0);
   });
 
+  it('a 200-step mini-batch Adam branch forked from an SGD run replays bit-identically', () => {
+    const g = Grove.create(networkExperiment({ optimizer: 'sgd', lr: 0.05, batch: 16 }));
+    g.step('main', 20);
+    g.branch('main', 10, 'adam', { optimizer: 'adam', lr: 0.01, batch: 10 });
+    g.step('adam', 200);
+    const r = g.replay('adam');
+    expect(r).toMatchObject({ match: 'bit-identical', maxRelDiff: 0 });
+    expect(r.comparedSteps[r.comparedSteps.length - 1]).toBe(210);
+  });
+
   it('a branch replays from its parent’s replayed state', () => {
     const g = Grove.create(networkExperiment({ optimizer: 'sgd', lr: 0.05, momentum: 0.9, batch: 16 }));
     g.step('main', 40);
