@@ -312,7 +312,12 @@ export class Grove {
       steps.push({ step: session.stepCount, loss: session.stepCount === 0 ? session.initialRecord().loss : NaN, fingerprint: at ? session.fingerprint() : null, params: at ? Float64Array.from(session.parameters) : null });
     };
     if (b.origin === null) note();
-    else if (checkpointSteps.has(session.stepCount)) steps.push({ step: session.stepCount, loss: NaN, fingerprint: session.fingerprint(), params: Float64Array.from(session.parameters) });
+    else if (checkpointSteps.has(session.stepCount)) {
+      // the fork state under the branch's recipe replaces the parent's entry for this step
+      const forkLoss = steps.length > 0 ? steps[steps.length - 1].loss : NaN;
+      steps = steps.filter((s) => s.step !== session.stepCount);
+      steps.push({ step: session.stepCount, loss: forkLoss, fingerprint: session.fingerprint(), params: Float64Array.from(session.parameters) });
+    }
     while (session.stepCount < target) {
       const [r] = session.step(1);
       note();
