@@ -86,6 +86,21 @@ describe('embedded app', () => {
     expect(await dialogTitle(browser.page)).toBeNull();
   });
 
+  it('switches to the dark theme and back (theme style sheets are served)', async () => {
+    const page = browser.page;
+    const themeOf = () => page.evaluate(() => document.body.dataset.jpThemeName ?? '');
+    await executeCommand(page, 'apputils:change-theme', { theme: 'JupyterLab Dark' });
+    await page.waitForFunction(() => document.body.dataset.jpThemeName === 'JupyterLab Dark', undefined, { timeout: 15_000 });
+    // The dark theme's variables really apply: the layout background is dark.
+    const background = await page.evaluate(() => getComputedStyle(document.body).getPropertyValue('--jp-layout-color0').trim());
+    expect(background.toLowerCase()).not.toBe('white');
+    await screenshot(page, 'app-dark-theme');
+    await executeCommand(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
+    await page.waitForFunction(() => document.body.dataset.jpThemeName === 'JupyterLab Light', undefined, { timeout: 15_000 });
+    expect(await themeOf()).toBe('JupyterLab Light');
+    expect(browser.failedRequests.filter(r => r.includes('/themes/'))).toEqual([]);
+  });
+
   it('keeps a saved notebook in browser storage across a reload', async () => {
     const page = browser.page;
     const count = await notebookCellCount(page);
