@@ -15,7 +15,13 @@
  *
  * The reflector u of step i stays in A[i, 0..i−1] (with h in `h[i]`), so Q = H_{n−1} ⋯ H_2 can
  * be applied later to any vector at O(n²) cost ({@link applyReflectors}).
+ *
+ * The fused row loop (step 3) runs in a WebAssembly SIMD kernel (`simd.ts`, two doubles per
+ * instruction) when the engine supports it, else in the scalar loop below; both are tested.
  */
+
+import type { SimdKernel } from './simd';
+import { simdKernel, simdMemory } from './simd';
 
 /** Tridiagonal matrix: `diagonal[i]` = T[i, i]; `subdiagonal[i]` = T[i, i−1] (`subdiagonal[0]` = 0). */
 export interface Tridiagonal {
@@ -39,20 +45,61 @@ export interface HouseholderReduction extends Tridiagonal {
  *
  * @param a - n×n row-major matrix; **overwritten** with the reflectors (copy it first to keep it).
  * @param n - order of the matrix.
+ * @param options - `simd: false` forces the scalar loop (the SIMD kernel of `simd.ts` is used by default).
  * @returns T and the reflectors, stored in `a`.
  */
-export function tridiagonalize(a: Float64Array, n: number): HouseholderReduction {
+export function tridiagonalize(a: Float64Array, n: number, options: TridiagonalizeOptions = {}): HouseholderReduction {
   if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
+  const kernel = options.simd !== false && n >= SIMD_MIN_ORDER ? simdKernel() : null;
+  if (kernel === null) {
+    const w = { a, pu: new Float64Array(n), pq: new Float64Array(n), cu: new Float64Array(n), p: new Float64Array(n) };
+    return reduceRows(w, n, null);
+  }
+  // Work inside the kernel's memory: [A | pu | pq | cu | p], then copy the reflectors back into `a`.
+  const buf = simdMemory(kernel, 8 * (n * n + 4 * n));
+  const nn = n * n;
+  const w = {
+    a: new Float64Array(buf, 0, nn),
+    pu: new Float64Array(buf, 8 * nn, n),
+    pq: new Float64Array(buf, 8 * (nn + n), n),
+    cu: new Float64Array(buf, 8 * (nn + 2 * n), n),
+    p: new Float64Array(buf, 8 * (nn + 3 * n), n),
+  };
+  w.a.set(a.subarray(0, nn));
+  const red = reduceRows(w, n, kernel);
+  a.set(w.a);
+  return { ...red, reflectors: a };
+}
+
+/** Options of {@link tridiagonalize}. */
+export interface TridiagonalizeOptions {
+  /** Use the WebAssembly SIMD kernel when available (default true; false forces the scalar loop). */
+  simd?: boolean;
+}
+
+/** Below this order the scalar loop is as fast as the SIMD kernel. */
+const SIMD_MIN_ORDER = 32;
+
+interface Workspace {
+  a: Float64Array;
+  pu: Float64Array;
+  pq: Float64Array;
+  cu: Float64Array;
+  p: Float64Array;
+}
+
+function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): HouseholderReduction {
+  const { a, pu, pq, cu, p } = ws;
   const d = new Float64Array(n);
   const e = new Float64Array(n);
   const h = new Float64Array(n);
   // Pending rank-2 update B ← B − pu qᵀ − pq uᵀ on the leading (pendingSize)×(pendingSize) block.
-  const pu = new Float64Array(n);
-  const pq = new Float64Array(n);
   let pendingSize = 0;
-  const p = new Float64Array(n);
-  const cu = new Float64Array(n);
+  const puB = pu.byteOffset;
+  const pqB = pq.byteOffset;
+  const cuB = cu.byteOffset;
+  const pB = p.byteOffset;
   for (let i = n - 1; i >= 0; i--) {
     const row = i * n;
     // 1. Bring row i up to date (columns 0..i) with the pending update of step i+1.
@@ -96,7 +143,12 @@ export function tridiagonalize(a: Float64Array, n: number): HouseholderReduction
       if (pendingSize > 0) {
         const ur = pu[r];
         const qr = pq[r];
-        if (fuse) {
+        if (fuse && kernel !== null) {
+          const s = kernel.fused(8 * rr, puB, pqB, cuB, pB, r, ur, qr, vr);
+          const diag = a[rr + r] - 2 * ur * qr;
+          a[rr + r] = diag;
+          p[r] += s + diag * vr;
+        } else if (fuse) {
           // Two accumulators break the add-latency chain; this loop is the O(n³) hot spot.
           let s0 = 0;
           let s1 = 0;

@@ -1,5 +1,8 @@
 import { eigenvalues, fromRows, selectedEigenpairs, symmetricEigen } from '../../../src/core/linalg/symmetric-eigen';
 import { Rng } from '../../../src/core/rng';
+import { tridiagonalize } from '../../../src/core/linalg/householder';
+import { tridiagonalQL } from '../../../src/core/linalg/tridiagonal';
+import { simdKernel } from '../../../src/core/linalg/simd';
 import { diagonal, repeated, repeatedSpectrum, tridiagonal, wilkinson } from '../../reference/curvature/fixtures';
 
 /** Seeded random symmetric matrix with standard normal entries. */
@@ -116,6 +119,24 @@ describe('symmetricEigen invariants', () => {
     const v = eigenvalues(fromRows([[2, 1], [1, 3]]), 2);
     expect(v[0]).toBeCloseTo((5 - Math.sqrt(5)) / 2, 14);
     expect(v[1]).toBeCloseTo((5 + Math.sqrt(5)) / 2, 14);
+  });
+});
+
+describe('SIMD and scalar tridiagonalization', () => {
+  it('the WebAssembly SIMD kernel is available under Node 20 (so the fast path is the tested one)', () => {
+    expect(simdKernel()).not.toBeNull();
+  });
+
+  it.each([33, 64, 201])('n=%d: both paths give the same tridiagonal spectrum and the same reflector count', (n) => {
+    const a = seededSymmetric(n, 100 + n);
+    const fast = tridiagonalize(Float64Array.from(a), n);
+    const slow = tridiagonalize(Float64Array.from(a), n, { simd: false });
+    const vf = tridiagonalQL(fast);
+    const vs = tridiagonalQL(slow);
+    const scale = maxAbs(vs);
+    for (let k = 0; k < n; k++) expect(Math.abs(vf[k] - vs[k])).toBeLessThan(1e-12 * scale);
+    // the reductions differ only by rounding (summation order), never structurally
+    for (let k = 0; k < n; k++) expect(Math.abs(fast.diagonal[k] - slow.diagonal[k])).toBeLessThan(1e-10 * scale);
   });
 });
 
