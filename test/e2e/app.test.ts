@@ -86,6 +86,20 @@ describe('embedded app', () => {
     expect(await dialogTitle(browser.page)).toBeNull();
   });
 
+  it('runs a plain code cell without a kernel: a short notice, no blocking dialog', async () => {
+    const page = browser.page;
+    await executeCommand(page, 'notebook:insert-cell-below');
+    await executeCommand(page, 'notebook:change-cell-to-code');
+    await executeCommand(page, 'notebook:enter-edit-mode');
+    await page.keyboard.type('1 + 1');
+    await executeCommand(page, 'notebook:run-cell');
+    await page.waitForTimeout(1000);
+    expect(await dialogTitle(page)).toBeNull();
+    const toasts = await page.locator('.Toastify__toast').allInnerTexts();
+    expect(toasts.some(t => /No Jupyter kernel is available/.test(t))).toBe(true);
+    await screenshot(page, 'app-no-kernel-notice');
+  });
+
   it('switches to the dark theme and back (theme style sheets are served)', async () => {
     const page = browser.page;
     const themeOf = () => page.evaluate(() => document.body.dataset.jpThemeName ?? '');
