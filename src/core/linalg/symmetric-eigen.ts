@@ -18,6 +18,12 @@ export interface SymmetricEigenOptions {
   vectors?: boolean;
   /** Allow the solver to overwrite `a` instead of copying it. Default false. */
   overwrite?: boolean;
+  /**
+   * Compute only the eigenvectors of the `topVectors` largest eigenvalues, by inverse iteration
+   * on T and back-transformation (O(n²) each instead of the O(n³) full accumulation). Ignored
+   * when `vectors` is true.
+   */
+  topVectors?: number;
 }
 
 /** Eigen-decomposition A = V D Vᵀ of a symmetric matrix. */
@@ -26,8 +32,10 @@ export interface SymmetricEigenResult {
   readonly n: number;
   /** Eigenvalues in ascending order. */
   readonly values: Float64Array;
-  /** Row k (offset k·n) is the unit eigenvector of `values[k]`; null unless requested. */
+  /** Row k (offset k·n) is the unit eigenvector of `values[vectorOffset + k]`; null unless requested. */
   readonly vectors: Float64Array | null;
+  /** Index into `values` of the eigenvalue of row 0 of `vectors` (0 for a full set). */
+  readonly vectorOffset: number;
 }
 
 function checkSquare(a: Float64Array, n: number): void {
@@ -47,12 +55,20 @@ function reduce(a: Float64Array, n: number, overwrite: boolean): HouseholderRedu
  */
 export function symmetricEigen(a: Float64Array, n: number, options: SymmetricEigenOptions = {}): SymmetricEigenResult {
   const red = reduce(a, n, options.overwrite === true);
-  if (options.vectors !== true) return { n, values: tridiagonalQL(red), vectors: null };
+  if (options.vectors !== true) {
+    const values = tridiagonalQL(red);
+    const k = Math.min(n, options.topVectors ?? 0);
+    if (!Number.isInteger(k) || k < 0) throw new RangeError(`topVectors must be a non-negative integer, got ${options.topVectors}`);
+    if (k === 0) return { n, values, vectors: null, vectorOffset: 0 };
+    const vectors = tridiagonalInverseIteration(red, values.slice(n - k));
+    applyReflectors(red, vectors, k);
+    return { n, values, vectors, vectorOffset: n - k };
+  }
   const z = new Float64Array(n * n);
   for (let i = 0; i < n; i++) z[i * n + i] = 1;
   const values = tridiagonalQL(red, z);
   applyReflectors(red, z, n);
-  return { n, values, vectors: z };
+  return { n, values, vectors: z, vectorOffset: 0 };
 }
 
 /** All eigenvalues of the symmetric n×n row-major matrix `a`, ascending (see {@link symmetricEigen}). */
@@ -64,7 +80,8 @@ export function eigenvalues(a: Float64Array, n: number): Float64Array {
  * Eigenpairs number `first`..`last` (0-based in ascending order, inclusive) of the symmetric
  * matrix `a` by tridiagonalization, Sturm bisection and inverse iteration
  * (Golub & Van Loan 4th ed., §8.4.1–8.4.2). Negative indices count from the top: −1 is the
- * largest eigenvalue, so `(a, n, -3, -1)` returns the three largest.
+ * largest eigenvalue, so `(a, n, -3, -1)` returns the three largest. `values` holds only the
+ * selected eigenvalues (ascending), row k of `vectors` belongs to `values[k]`.
  */
 export function selectedEigenpairs(
   a: Float64Array,
@@ -72,7 +89,7 @@ export function selectedEigenpairs(
   first: number,
   last: number,
   options: { vectors?: boolean; overwrite?: boolean } = {}
-): SymmetricEigenResult & { readonly first: number } {
+): SymmetricEigenResult {
   checkSquare(a, n);
   const lo = first < 0 ? n + first : first;
   const hi = last < 0 ? n + last : last;
@@ -81,10 +98,10 @@ export function selectedEigenpairs(
   }
   const red = reduce(a, n, options.overwrite === true);
   const values = bisectEigenvalues(red, lo, hi);
-  if (options.vectors === false) return { n, values, vectors: null, first: lo };
+  if (options.vectors === false) return { n, values, vectors: null, vectorOffset: 0 };
   const vectors = tridiagonalInverseIteration(red, values);
   applyReflectors(red, vectors, values.length);
-  return { n, values, vectors, first: lo };
+  return { n, values, vectors, vectorOffset: 0 };
 }
 
 /** Row-major `Float64Array` from an array of equal-length rows (checks that it is square). */

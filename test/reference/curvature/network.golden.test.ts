@@ -43,6 +43,20 @@ describe('curvature of a tanh MLP against torch', () => {
     d.eigenvalues.forEach((x, i) => expect(Math.abs(x - ref[i])).toBeLessThan(1e-12 * scale));
   });
 
+  it('dense top eigenvector matches torch.linalg.eigh’s (up to sign) and the Lanczos Ritz vector', () => {
+    const d = denseSpectrum(objective, w, undefined, 'hessian', { topVectors: 1 });
+    const p = objective.parameterCount;
+    const u = (d.vectors as Float64Array).subarray(0, p);
+    let c = 0;
+    for (let i = 0; i < p; i++) c += u[i] * net.topEigenvector[i];
+    expect(Math.abs(Math.abs(c) - 1)).toBeLessThan(1e-10);
+    const r = lanczosExtremes(curvatureOperator(objective, w).apply, p, Rng.fromSeed(4), { k: 1, vectors: true, tol: 1e-12 });
+    const z = r.largest[0].vector as Float64Array;
+    c = 0;
+    for (let i = 0; i < p; i++) c += z[i] * net.topEigenvector[i];
+    expect(Math.abs(Math.abs(c) - 1)).toBeLessThan(1e-8);
+  });
+
   it.each([1, 2, 3])('Lanczos (seed %d) top-5 and bottom-5 of the indefinite Hessian agree with torch to 1e-8 relative', (seed) => {
     const op = curvatureOperator(objective, w);
     const r = lanczosExtremes(op.apply, objective.parameterCount, Rng.fromSeed(seed), { k: 5, which: 'both' });

@@ -86,6 +86,19 @@ describe('symmetricEigen invariants', () => {
     expect(Math.abs(tr - sum)).toBeLessThan(1e-12 * scale * n);
   });
 
+  it.each([['random n=200', 200, () => seededSymmetric(200, 5)], ['repeated n=60', 60, () => repeated(60, 16)]] as const)(
+    '%s: topVectors gives the top eigenvectors (A·v ≈ λv, orthonormal) without the full accumulation',
+    (_name, n, make) => {
+      const a = make();
+      const r = symmetricEigen(a, n, { topVectors: 6 });
+      expect(r.vectorOffset).toBe(n - 6);
+      const vals = r.values.slice(n - 6);
+      const scale = Math.max(1, maxAbs(r.values));
+      expect(residual(a, n, vals, r.vectors as Float64Array)).toBeLessThan(1e-10 * scale);
+      expect(orthogonality(r.vectors as Float64Array, n, 6)).toBeLessThan(1e-10);
+    }
+  );
+
   it('values-only and with-vectors paths agree', () => {
     const a = seededSymmetric(120, 9);
     const v1 = eigenvalues(a, 120);

@@ -97,8 +97,10 @@ export function denseHessian(
 export interface DenseSpectrum {
   /** All eigenvalues, ascending. */
   readonly eigenvalues: Float64Array;
-  /** Unit eigenvectors as rows (row k for eigenvalue k), when requested. */
+  /** Unit eigenvectors as rows, row k for `eigenvalues[vectorOffset + k]`, when requested. */
   readonly vectors: Float64Array | null;
+  /** Index of the eigenvalue of row 0 of `vectors` (P − topVectors when only the top ones were asked for). */
+  readonly vectorOffset: number;
   /** Asymmetry of the computed matrix (see {@link DenseHessian}). */
   readonly asymmetry: number;
   /** Products spent building the matrix. */
@@ -108,17 +110,18 @@ export interface DenseSpectrum {
 
 /**
  * {@link denseHessian} followed by all eigenvalues (and optionally eigenvectors) by Householder
- * tridiagonalization and implicit QL (Golub & Van Loan 4th ed., alg. 8.3.1–8.3.2).
+ * tridiagonalization and implicit QL (Golub & Van Loan 4th ed., alg. 8.3.1–8.3.2). `vectors: true`
+ * gives all eigenvectors (O(P³)); `topVectors: k` only the k largest (inverse iteration, O(k·P²)).
  */
 export function denseSpectrum(
   objective: Objective,
   w: Float64Array,
   rows?: Rows,
   kind: CurvatureKind = 'hessian',
-  options: DenseHessianOptions & { vectors?: boolean } = {}
+  options: DenseHessianOptions & { vectors?: boolean; topVectors?: number } = {}
 ): DenseSpectrum {
   const h = denseHessian(objective, w, rows, kind, options);
-  if (h.stop === 'cancelled') return { eigenvalues: new Float64Array(0), vectors: null, asymmetry: h.asymmetry, products: h.products, stop: h.stop };
-  const eig = symmetricEigen(h.matrix, h.n, { vectors: options.vectors === true, overwrite: true });
-  return { eigenvalues: eig.values, vectors: eig.vectors, asymmetry: h.asymmetry, products: h.products, stop: h.stop };
+  if (h.stop === 'cancelled') return { eigenvalues: new Float64Array(0), vectors: null, vectorOffset: 0, asymmetry: h.asymmetry, products: h.products, stop: h.stop };
+  const eig = symmetricEigen(h.matrix, h.n, { vectors: options.vectors === true, topVectors: options.topVectors, overwrite: true });
+  return { eigenvalues: eig.values, vectors: eig.vectors, vectorOffset: eig.vectorOffset, asymmetry: h.asymmetry, products: h.products, stop: h.stop };
 }
