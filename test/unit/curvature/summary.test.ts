@@ -1,6 +1,7 @@
 import { denseHessian } from '../../../src/core/probe/curvature/dense';
 import { CURVATURE_CAVEAT, measureCurvature } from '../../../src/core/probe/curvature/summary';
 import { Rosenbrock } from '../../../src/core/model/analytic';
+import type { Objective } from '../../../src/core/objective';
 import { Rng } from '../../../src/core/rng';
 import { quadraticWithSpectrum, recipe } from './helpers';
 
@@ -23,7 +24,11 @@ describe('denseHessian', () => {
 
   it('measures the asymmetry of a non-symmetric product as ‖M − Mᵀ‖/‖M‖', () => {
     // A deliberately non-symmetric operator M = [[1, 2], [0, 1]]: ‖M − Mᵀ‖_F = 2√2, ‖M‖_F = √6.
-    const broken = { ...objective, parameterCount: 2, blocks: [], hvp: (_w: Float64Array, v: Float64Array, out: Float64Array) => { out[0] = v[0] + 2 * v[1]; out[1] = v[1]; } };
+    const product = (_w: Float64Array, v: Float64Array, out: Float64Array): void => {
+      out[0] = v[0] + 2 * v[1];
+      out[1] = v[1];
+    };
+    const broken: Objective = { parameterCount: 2, blocks: [], rowCount: 0, value: () => 0, gradient: () => 0, hvp: product, gnvp: product };
     const h = denseHessian(broken, new Float64Array(2));
     expect(h.asymmetry).toBeCloseTo((2 * Math.SQRT2) / Math.sqrt(6), 14);
     expect(Array.from(h.matrix)).toEqual([1, 1, 1, 1]);
