@@ -5,6 +5,7 @@
 import { PageConfig } from '@jupyterlab/coreutils';
 import { PluginRegistry, type IPlugin } from '@lumino/coreutils';
 import { extensions, mimeExtensions, type IExtensionModule } from 'stepwell-host-extensions';
+import { federatedEntries, loadFederated } from './federated';
 
 type AnyPlugin = IPlugin<unknown, unknown> & { id: string };
 
@@ -61,9 +62,17 @@ export async function main(): Promise<void> {
     import('@jupyterlab/application'),
     import('@jupyterlab/services')
   ]);
-  const mime = await collect(mimeExtensions, disabled, deferred);
+  // A prebuilt extension replaces the bundled package of the same name.
+  const federated = await loadFederated(federatedEntries());
+  const replaced = new Set(federated.map(f => f.name));
+  const bundled = (mods: IExtensionModule[]) => mods.filter(m => !replaced.has(m.name));
+  const fromFederated = (key: 'extension' | 'mimeExtension'): IExtensionModule[] =>
+    federated
+      .filter(f => f[key] !== undefined)
+      .map(f => ({ name: f.name, load: () => Promise.resolve(f[key]) }));
+  const mime = await collect([...bundled(mimeExtensions), ...fromFederated('mimeExtension')], disabled, deferred);
   const setAside: AnyPlugin[] = [];
-  const plugins = await collect(extensions, disabled, deferred, setAside);
+  const plugins = await collect([...bundled(extensions), ...fromFederated('extension')], disabled, deferred, setAside);
   // Without the Stepwell plugin (or if it failed to load) nothing provides the cell executor and
   // every notebook plugin would fail: fall back to JupyterLab's default executor.
   if (!plugins.some(p => providesToken(p, CELL_EXECUTOR_TOKEN))) {

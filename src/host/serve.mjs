@@ -5,6 +5,7 @@ import fs from 'node:fs';
 import http from 'node:http';
 import path from 'node:path';
 import { BUILD } from './paths.mjs';
+import { readLabextensions, withFederated } from './labextensions.mjs';
 
 export const DEFAULT_PORT = 8890;
 const HOST = '127.0.0.1';
@@ -68,13 +69,42 @@ export function notebookUrl(port, notebook) {
   return notebook ? `${base}/lab/tree/${notebook.split('/').map(encodeURIComponent).join('/')}` : `${base}/lab`;
 }
 
-function handler(root) {
+/** A file of a prebuilt extension (`/extensions/<name>/...`), or null. */
+function extensionFile(urlPath, labextensions) {
+  let p;
+  try {
+    p = decodeURIComponent(urlPath.split('?')[0]);
+  } catch {
+    return null;
+  }
+  for (const ext of labextensions) {
+    const prefix = `/extensions/${ext.entry.name}/`;
+    if (!p.startsWith(prefix)) continue;
+    const file = path.normalize(path.join(ext.dir, p.slice(prefix.length)));
+    return file.startsWith(ext.dir + path.sep) ? file : null;
+  }
+  return null;
+}
+
+function handler(root, labextensions) {
+  const appPage = path.join(root, 'lab', 'index.html');
   return (req, res) => {
     if (req.method !== 'GET' && req.method !== 'HEAD') {
       res.writeHead(405, { Allow: 'GET, HEAD' }).end();
       return;
     }
-    const file = resolveFile(req.url || '/', root);
+    const urlPath = (req.url || '/').split('?')[0];
+    if (labextensions.length && urlPath === '/schemas/all_federated.json') {
+      const body = JSON.stringify(labextensions.flatMap(e => e.schemas));
+      res.writeHead(200, { 'Content-Type': TYPES['.json'], 'Cache-Control': 'no-store' }).end(body);
+      return;
+    }
+    const file = extensionFile(urlPath, labextensions) ?? resolveFile(req.url || '/', root);
+    if (labextensions.length && file === appPage && fs.existsSync(appPage)) {
+      const body = withFederated(fs.readFileSync(appPage, 'utf8'), labextensions.map(e => e.entry));
+      res.writeHead(200, { 'Content-Type': TYPES['.html'], 'Cache-Control': 'no-store' }).end(body);
+      return;
+    }
     let stat = null;
     try {
       stat = file ? fs.statSync(file) : null;
@@ -123,7 +153,8 @@ export async function startServer({ port = DEFAULT_PORT, strict = false, root = 
   if (!fs.existsSync(path.join(root, 'lab', 'index.html'))) {
     throw new Error(`no built app in ${root}: run \`npm run build\` first`);
   }
-  const server = http.createServer(handler(root));
+  const labextensions = readLabextensions();
+  const server = http.createServer(handler(root, labextensions));
   let actual;
   try {
     actual = await listen(server, port);
@@ -132,7 +163,7 @@ export async function startServer({ port = DEFAULT_PORT, strict = false, root = 
     console.warn(`stepwell: port ${port} is in use, using a free port instead`);
     actual = await listen(server, 0);
   }
-  return { server, port: actual, url: notebookUrl(actual, firstNotebook(root)) };
+  return { server, port: actual, url: notebookUrl(actual, firstNotebook(root)), labextensions: labextensions.map(e => e.entry.name) };
 }
 
 /** Port from --port N / --port=N, else STEPWELL_PORT, else the default. Throws on a bad value. */
@@ -152,7 +183,8 @@ export function portFromArgs(argv = process.argv.slice(2), env = process.env) {
 /** Start serving and print the URL; keeps running until interrupted. */
 export async function serveFromCommandLine() {
   const { port } = portFromArgs();
-  const { server, url } = await startServer({ port });
+  const { server, url, labextensions } = await startServer({ port });
+  if (labextensions.length) console.log(`stepwell: serving prebuilt extensions ${labextensions.join(', ')}`);
   console.log(`Stepwell is running at ${url}`);
   const stop = () => server.close(() => process.exit(0));
   process.on('SIGINT', stop);

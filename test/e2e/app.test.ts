@@ -4,6 +4,7 @@
  */
 import * as fs from 'fs';
 import * as http from 'http';
+import { spawnSync } from 'child_process';
 import * as path from 'path';
 import {
   dialogTitle,
@@ -11,6 +12,8 @@ import {
   executeCommand,
   launchBrowser,
   notebookCellCount,
+  OUTPUT_DIR,
+  ROOT,
   openNotebook,
   ourErrors,
   pluginStates,
@@ -175,5 +178,36 @@ describe('app server', () => {
     } finally {
       await started.stop();
     }
+  });
+});
+
+describe('prebuilt (federated) extensions', () => {
+  it('loads one named by STEPWELL_LABEXTENSIONS and activates it with the app\'s shared singletons', async () => {
+    const out = path.join(OUTPUT_DIR, 'federated-check');
+    const built = spawnSync(process.execPath, [path.join(ROOT, 'src', 'host', 'federated-check', 'build.mjs'), out], { encoding: 'utf8' });
+    expect(built.stderr).toBe('');
+    expect(built.status).toBe(0);
+    const server = await startApp({ env: { STEPWELL_LABEXTENSIONS: out } });
+    const session = await launchBrowser();
+    try {
+      expect(server.output()).toContain('serving prebuilt extensions stepwell-host-federated-check');
+      await openNotebook(session.page, server.url);
+      // The plugin requires the command palette token: it activates only if the token object is
+      // the app's own, i.e. @jupyterlab/apputils came from the shared scope.
+      expect(await session.page.evaluate(() => document.body.dataset.stepwellFederatedCheck)).toBe('activated');
+      expect(await pluginStates(session.page, 'stepwell-host-federated-check:')).toEqual({
+        'stepwell-host-federated-check:plugin': true
+      });
+      expect(ourErrors(session)).toEqual([]);
+    } finally {
+      await session.close();
+      await server.stop();
+    }
+  });
+
+  it('refuses a folder that is not a prebuilt extension, naming it', async () => {
+    await expect(startApp({ env: { STEPWELL_LABEXTENSIONS: path.join(ROOT, 'src') } })).rejects.toThrow(
+      /STEPWELL_LABEXTENSIONS: .*src has no package.json/
+    );
   });
 });
