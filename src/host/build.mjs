@@ -64,8 +64,64 @@ function runWebpack() {
   });
 }
 
+const LOCK = path.join(BUILD, '.build-lock');
+
+function pidAlive(pid) {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (err) {
+    return err.code === 'EPERM';
+  }
+}
+
+/**
+ * Take the build lock (a folder holding the owner's pid) so that two builds started at the same
+ * time in one checkout (for example two test runs) do not write build/ together. A lock whose
+ * owner has exited is taken over. Returns the release function.
+ */
+async function acquireLock(timeoutMs = 10 * 60_000) {
+  fs.mkdirSync(BUILD, { recursive: true });
+  const t0 = Date.now();
+  let told = false;
+  for (;;) {
+    try {
+      fs.mkdirSync(LOCK);
+      fs.writeFileSync(path.join(LOCK, 'pid'), String(process.pid));
+      return () => fs.rmSync(LOCK, { recursive: true, force: true });
+    } catch (err) {
+      if (err.code !== 'EEXIST') throw err;
+    }
+    let owner = NaN;
+    try {
+      owner = Number(fs.readFileSync(path.join(LOCK, 'pid'), 'utf8'));
+    } catch {
+      // the owner has created the folder but not yet written its pid
+    }
+    if (Number.isInteger(owner) && owner > 0 && !pidAlive(owner)) {
+      fs.rmSync(LOCK, { recursive: true, force: true });
+      continue;
+    }
+    if (Date.now() - t0 > timeoutMs) throw new Error(`another build (pid ${owner}) holds ${LOCK} for too long; remove it if no build is running`);
+    if (!told) {
+      console.log(`stepwell: waiting for another build (pid ${owner}) to finish…`);
+      told = true;
+    }
+    await new Promise(r => setTimeout(r, 300));
+  }
+}
+
 /** Build everything; with ifStale, reuse the bundle when nothing changed. Returns timing info. */
 export async function build({ ifStale = false, quiet = false } = {}) {
+  const release = await acquireLock();
+  try {
+    return await buildLocked({ ifStale, quiet });
+  } finally {
+    release();
+  }
+}
+
+async function buildLocked({ ifStale, quiet }) {
   const t0 = Date.now();
   let bundled = false;
   if (!ifStale || isStale()) {
