@@ -24,6 +24,17 @@ export const RECIPE_DEFAULTS: Readonly<Omit<Recipe, 'layers' | 'schedule'>> = {
   lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3, innerSteps: 10, curvatureBatch: 'same',
 };
 
+/**
+ * Optimizers that treat `lr` as the first trial step of a line search or a Newton step,
+ * where PyTorch's L-BFGS and the textbook methods start from 1 (Nocedal & Wright 2006, §3.5).
+ */
+export const UNIT_STEP_OPTIMIZERS: readonly OptimizerName[] = ['lbfgs', 'cg', 'newton', 'gauss-newton', 'minibatch-lbfgs'];
+
+/** The default `lr` of an optimizer: 1 for line-search and Newton families, else 0.01. */
+export function defaultLr(optimizer: OptimizerName): number {
+  return UNIT_STEP_OPTIMIZERS.includes(optimizer) ? 1 : RECIPE_DEFAULTS.lr;
+}
+
 /** Packs rows into one row-major Float64Array. */
 function pack(rows: number[][], width: number): Float64Array {
   const out = new Float64Array(rows.length * width);
@@ -105,7 +116,7 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
     : Array.from({ length: layerCount }, () => ({ lrScale: 1 }));
   return {
     optimizer,
-    lr: numOr(raw.lr, d.lr),
+    lr: numOr(raw.lr, defaultLr(optimizer)),
     momentum: numOr(raw.momentum, d.momentum),
     nesterov: boolOr(raw.nesterov, d.nesterov),
     beta1: numOr(raw.beta1, d.beta1),

@@ -36,7 +36,7 @@ export const KEY_USERS: Readonly<Record<string, readonly string[]>> = {
   eps: ['adagrad', 'rmsprop', 'adam', 'adamw'],
   alpha: ['rmsprop'],
   centered: ['rmsprop'],
-  weightDecay: ['sgd', 'adagrad', 'rmsprop', 'adam', 'adamw'],
+  weightDecay: ['sgd', 'adagrad', 'rmsprop', 'adam', 'adamw', 'lbfgs', 'cg', 'newton', 'gauss-newton', 'minibatch-lbfgs'],
   history: ['lbfgs', 'minibatch-lbfgs'],
   lineSearch: ['lbfgs', 'cg', 'newton', 'gauss-newton', 'minibatch-lbfgs'],
   cgVariant: ['cg'],

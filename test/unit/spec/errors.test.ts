@@ -191,3 +191,11 @@ describe('momentum on rmsprop', () => {
     if (r.ok) expect(r.experiment.recipe.momentum).toBe(0.9);
   });
 });
+
+describe('optimizer-dependent lr default', () => {
+  it.each([['sgd', 0.01], ['adam', 0.01], ['lbfgs', 1], ['cg', 1], ['newton', 1]] as const)('%s defaults to lr %p', (optimizer, lr) => {
+    // source: PyTorch 1.13 defaults (SGD has none; torch.optim.LBFGS lr=1); Nocedal & Wright 2006 §3.5 (unit initial step for quasi-Newton/Newton)
+    const r = parseSpec(`seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: ${optimizer} }\n`);
+    expect(r.ok && r.experiment.recipe.lr).toBe(lr);
+  });
+});
