@@ -10,8 +10,10 @@ import { runCommand } from './run';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
-  stepwell run SPEC --steps N [--json] [--until COND] [--set KEY=VALUE ...]
+  stepwell run SPEC --steps N [--json] [--until COND] [--set KEY=VALUE ...] [--branch STEP:KEY=VALUE[,...]] [--replay]
     COND: loss<VALUE | grad<VALUE | diverged
+    --branch forks a branch at STEP with changed recipe keys and runs it to the same step count
+    --replay re-runs the trajectory from the seed and reports bit-identical / within tolerance / differs
 `;
 
 /** Runs the CLI with `argv` (without node and script); resolves to the exit code. */
@@ -30,6 +32,7 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
       case 'run': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true },
+          branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
         out.write(runCommand(specPath(a.positionals), a.values));
         return 0;

@@ -1,5 +1,7 @@
-/** `stepwell run SPEC --steps N`: a trajectory from spec + seed. */
-import { Session, type StopCondition } from '../core/session';
+/** `stepwell run SPEC --steps N`: a trajectory from spec + seed, optionally with a branch. */
+import { Grove, type StopCondition } from '../core/session';
+import type { Recipe } from '../core/setup';
+import type { StepRecord } from '../core/state';
 import { CliError, loadExperiment, positiveInt } from './io';
 
 /** Flags of `run`. */
@@ -8,6 +10,8 @@ export interface RunFlags {
   steps?: string;
   until?: string;
   set?: string[];
+  branch?: string;
+  replay?: boolean;
 }
 
 /** Parses `loss<V`, `grad<V` or `diverged` into a stop condition. */
@@ -19,35 +23,86 @@ export function parseUntil(text: string): StopCondition {
   return m[1] === 'loss' ? { kind: 'loss-below', value: v } : { kind: 'grad-norm-below', value: v };
 }
 
+/** Parses `STEP:KEY=VALUE[,KEY=VALUE…]` into the fork step and recipe overrides. */
+export function parseBranch(text: string): { at: number; overrides: string[] } {
+  const colon = text.indexOf(':');
+  const at = Number(colon < 0 ? NaN : text.slice(0, colon));
+  const overrides = colon < 0 ? [] : text.slice(colon + 1).split(',').map((s) => s.trim()).filter((s) => s !== '');
+  if (!Number.isInteger(at) || at < 0 || overrides.length === 0) {
+    throw new CliError(`--branch must be STEP:KEY=VALUE[,KEY=VALUE...] (e.g. 40:lr=0.02), got '${text}'`);
+  }
+  return { at, overrides };
+}
+
+interface Leg {
+  records: StepRecord[];
+  stopped: string;
+}
+
+/** Advances one branch of the grove by `steps` updates or until the condition holds. */
+function advance(grove: Grove, name: string, steps: number, until: StopCondition | undefined): Leg {
+  if (until === undefined) return { records: grove.step(name, steps), stopped: 'steps' };
+  const r = grove.runUntil(name, until, steps);
+  return { records: r.records, stopped: r.reason };
+}
+
+function compact(records: StepRecord[]): { step: number; loss: number; gradNorm: number; updateNorm: number; lr: number }[] {
+  return records.map((r) => ({ step: r.step, loss: r.loss, gradNorm: r.gradNorm, updateNorm: r.updateNorm, lr: r.lr }));
+}
+
 /** Runs the command and returns its output text. */
 export function runCommand(path: string, flags: RunFlags): string {
   if (flags.steps === undefined) throw new CliError('run needs --steps N (the number of optimizer updates, or the cap with --until)');
   const steps = positiveInt(flags.steps, '--steps', 0);
   const { experiment } = loadExperiment(path, flags.set);
-  const session = Session.create(experiment);
-  const records = [session.initialRecord()];
-  let reason: string = 'steps';
-  if (flags.until !== undefined) {
-    const r = session.runUntil(parseUntil(flags.until), steps);
-    records.push(...r.records);
-    reason = r.reason;
-  } else {
-    records.push(...session.step(steps));
+  const until = flags.until === undefined ? undefined : parseUntil(flags.until);
+  const fork = flags.branch === undefined ? undefined : parseBranch(flags.branch);
+  if (fork && fork.at > steps) throw new CliError(`--branch forks at step ${fork.at}, after the last step ${steps}`);
+  // The patched recipe goes through the same validation as the spec itself.
+  const patched: Recipe | undefined = fork ? loadExperiment(path, [...(flags.set ?? []), ...fork.overrides]).experiment.recipe : undefined;
+
+  const grove = Grove.create(experiment);
+  const main: Leg = { records: grove.trajectory('main').slice(), stopped: 'steps' };
+  const first = advance(grove, 'main', steps, until);
+  main.records.push(...first.records);
+  main.stopped = first.stopped;
+  let branch: (Leg & { name: string; at: number }) | undefined;
+  if (fork && patched) {
+    const at = Math.min(fork.at, grove.session('main').stepCount);
+    grove.branch('main', at, 'branch', patched);
+    const leg = advance(grove, 'branch', steps - at, until);
+    branch = { name: 'branch', at, records: [grove.trajectory('branch')[at], ...leg.records], stopped: leg.stopped };
   }
-  const final = { step: session.stepCount, loss: session.fullLoss(), fingerprint: session.fingerprint(), parameters: Array.from(session.parameters) };
+  const finalOf = (name: string) => {
+    const s = grove.session(name);
+    return { step: s.stepCount, loss: s.fullLoss(), fingerprint: s.fingerprint(), parameters: Array.from(s.parameters) };
+  };
+  const replay = flags.replay ? grove.replay('main') : undefined;
   if (flags.json) {
-    const trajectory = records.map((r) => ({ step: r.step, loss: r.loss, gradNorm: r.gradNorm, updateNorm: r.updateNorm, lr: r.lr }));
-    return JSON.stringify({ trajectory, stopped: reason, final }) + '\n';
+    const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: finalOf('main') };
+    if (branch && fork) {
+      out.branch = { at: branch.at, set: fork.overrides, trajectory: compact(branch.records), stopped: branch.stopped, final: finalOf('branch') };
+    }
+    if (replay) out.replay = replay;
+    return JSON.stringify(out) + '\n';
   }
-  const every = Math.max(1, Math.ceil(records.length / 20));
-  const lines = records.filter((r, i) => i % every === 0 || i === records.length - 1)
-    .map((r) => `${String(r.step).padStart(6)}  ${r.loss.toPrecision(8).padStart(14)}  ${Number.isFinite(r.gradNorm) ? r.gradNorm.toExponential(3) : '-'}`);
-  return [
-    `${experiment.recipe.optimizer}, lr ${experiment.recipe.lr}, batch ${experiment.recipe.batch}, seed ${experiment.seed}, ${session.objective.parameterCount} parameters`,
+  const table = (records: StepRecord[]) => {
+    const every = Math.max(1, Math.ceil(records.length / 20));
+    return records.filter((r, i) => i % every === 0 || i === records.length - 1)
+      .map((r) => `${String(r.step).padStart(6)}  ${r.loss.toPrecision(8).padStart(14)}  ${Number.isFinite(r.gradNorm) ? r.gradNorm.toExponential(3) : '-'}`);
+  };
+  const r = experiment.recipe;
+  const lines = [
+    `${r.optimizer}, lr ${r.lr}, batch ${r.batch}, seed ${experiment.seed}, ${grove.session('main').objective.parameterCount} parameters`,
     '  step            loss   |grad|',
-    ...lines,
-    `stopped: ${reason} after ${session.stepCount} steps; final loss ${final.loss.toPrecision(8)}`,
-    `fingerprint ${final.fingerprint}`,
-    '',
-  ].join('\n');
+    ...table(main.records),
+    `stopped: ${main.stopped} after ${grove.session('main').stepCount} steps; final loss ${finalOf('main').loss.toPrecision(8)}`,
+    `fingerprint ${finalOf('main').fingerprint}`,
+  ];
+  if (branch && fork) {
+    lines.push('', `branch at step ${branch.at} with ${fork.overrides.join(', ')}:`, ...table(branch.records),
+      `stopped: ${branch.stopped} after ${grove.session('branch').stepCount} steps; final loss ${finalOf('branch').loss.toPrecision(8)}`);
+  }
+  if (replay) lines.push(`replay from the seed: ${replay.match}${replay.firstDifferingStep !== undefined ? ` (first difference at step ${replay.firstDifferingStep})` : ''}`);
+  return lines.join('\n') + '\n';
 }

@@ -106,3 +106,27 @@ describe('the installed bin', () => {
     expect(JSON.parse(out).trajectory).toHaveLength(3);
   });
 });
+
+describe('stepwell run --branch and --replay', () => {
+  it('forks a branch with a changed recipe from the recorded state and replays bit-identically', async () => {
+    const q = file('quad-branch.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[4]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 0.45 }\n');
+    const r = JSON.parse((await cli('run', q, '--steps', '10', '--branch', '3:lr=0.25', '--replay', '--json')).out);
+    // The branch shares records 0…3 with the main trajectory.
+    expect(r.branch.at).toBe(3);
+    expect(r.branch.trajectory[0]).toEqual(r.trajectory[3]);
+    expect(r.branch.trajectory.map((t: { step: number }) => t.step)).toEqual([3, 4, 5, 6, 7, 8, 9, 10]);
+    // source: CHECKS.md / Nocedal & Wright ch. 3: on c/2·w² (c = 4) η = 1/c = 0.25 reaches the minimum in one step.
+    expect(r.branch.trajectory[1].loss).toBe(0);
+    // η = 0.45 < 2/c keeps oscillating towards 0: w_k = (1 − 0.45·4)^k = (−0.8)^k.
+    expect(r.final.parameters[0]).toBeCloseTo((-0.8) ** 10, 14);
+    expect(r.replay.match).toBe('bit-identical');
+  });
+
+  it('validates the branch overrides like the spec itself', async () => {
+    const r = await cli('run', spec, '--steps', '4', '--branch', '2:lr=-1');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/recipe\.lr/);
+    const s = await cli('run', spec, '--steps', '4', '--branch', 'two:lr=0.1');
+    expect(s.err).toMatch(/--branch must be STEP:KEY=VALUE/);
+  });
+});
