@@ -213,17 +213,25 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
  */
 export function applyReflectors(red: HouseholderReduction, v: Float64Array, count: number): void {
   const { n, reflectors: a, h } = red;
-  for (let i = 2; i < n; i++) {
-    const hi = h[i];
-    if (hi === 0) continue;
-    const row = i * n;
-    for (let k = 0; k < count; k++) {
-      const off = k * n;
-      let s = 0;
-      for (let j = 0; j < i; j++) s += a[row + j] * v[off + j];
-      const f = s / hi;
-      if (f === 0) continue;
-      for (let j = 0; j < i; j++) v[off + j] -= f * a[row + j];
+  // Blocks of vectors small enough to stay in cache while every reflector streams past once.
+  const block = Math.max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * Math.max(1, n))));
+  for (let k0 = 0; k0 < count; k0 += block) {
+    const k1 = Math.min(count, k0 + block);
+    for (let i = 2; i < n; i++) {
+      const hi = h[i];
+      if (hi === 0) continue;
+      const row = i * n;
+      for (let k = k0; k < k1; k++) {
+        const off = k * n;
+        let s = 0;
+        for (let j = 0; j < i; j++) s += a[row + j] * v[off + j];
+        const f = s / hi;
+        if (f === 0) continue;
+        for (let j = 0; j < i; j++) v[off + j] -= f * a[row + j];
+      }
     }
   }
 }
+
+/** Working-set size for {@link applyReflectors}' vector blocks (about half an L2 cache). */
+const VECTOR_BLOCK_BYTES = 256 * 1024;
