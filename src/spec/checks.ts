@@ -230,7 +230,10 @@ function checkRecipe(recipe: Obj, report: CheckReport): void {
   for (const [key, users] of Object.entries(KEY_USERS)) {
     if (recipe[key] === undefined || users.includes(opt)) continue;
     const message = `recipe.${key} applies to ${users.join(' and ')}, not to ${opt}`;
-    if (key === 'momentum' || key === 'nesterov') report.errors.push({ path: ['recipe', key], atKey: true, message: `${message}; remove it` });
+    // A momentum the optimizer would silently ignore changes the method the user thinks they
+    // run, so it is an error; an explicit 0 / false is harmless (e.g. after switching optimizer).
+    const inert = recipe[key] === 0 || recipe[key] === false;
+    if ((key === 'momentum' || key === 'nesterov') && !inert) report.errors.push({ path: ['recipe', key], atKey: true, message: `${message}; remove it` });
     else report.warnings.push({ path: ['recipe', key], atKey: true, message: `${message}, so it has no effect` });
   }
   if (opt === 'sgd' && recipe.nesterov === true && !(isNum(recipe.momentum) && recipe.momentum > 0))

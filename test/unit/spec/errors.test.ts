@@ -82,7 +82,7 @@ describe('parseSpec: cross-field errors', () => {
     ['batch above rows', NET('recipe: { batch: 5 }\n'), 'recipe.batch', 'recipe.batch is 5, but the data has only 2 rows', 5],
     ['recipe.layers length', NET('recipe: { layers: [{ lrScale: 1 }] }\n'), 'recipe.layers', 'recipe.layers has 1 entries, but model.layers has 2; give one { lrScale } per layer', 5],
     ['nesterov without momentum', NET('recipe: { nesterov: true }\n'), 'recipe.nesterov', 'recipe.nesterov needs recipe.momentum > 0 (Nesterov momentum with zero momentum is undefined, as in PyTorch)', 5],
-    ['nesterov on adam', NET('recipe: { optimizer: adam, nesterov: false }\n'), 'recipe.nesterov', 'recipe.nesterov applies to sgd, not to adam; remove it', 5],
+    ['nesterov on adam', NET('recipe: { optimizer: adam, nesterov: true }\n'), 'recipe.nesterov', 'recipe.nesterov applies to sgd, not to adam; remove it', 5],
     ['non-finite number', NET('recipe: { lr: .inf }\n'), 'recipe.lr', 'recipe.lr must be a finite number, got Infinity', 5],
     ['NaN in data', NET().replace('[1, 0]]', '[.nan, 0]]'), 'data.x[1][0]', 'data.x[1][0] must be a finite number, got NaN', 3],
     ['type error', NET('recipe: { lr: abc }\n'), 'recipe.lr', 'recipe.lr must be a positive number, got "abc"', 5],
@@ -197,5 +197,17 @@ describe('optimizer-dependent lr default', () => {
     // source: PyTorch 1.13 defaults (SGD has none; torch.optim.LBFGS lr=1); Nocedal & Wright 2006 §3.5 (unit initial step for quasi-Newton/Newton)
     const r = parseSpec(`seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: ${optimizer} }\n`);
     expect(r.ok && r.experiment.recipe.lr).toBe(lr);
+  });
+});
+
+describe('momentum keys on optimizers that ignore them', () => {
+  it('an explicit momentum: 0 on adam is only a warning', () => {
+    const r = parseSpec('seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: adam, momentum: 0, nesterov: false }\n');
+    expect(r.ok).toBe(true);
+    if (r.ok) expect(r.warnings.map((w) => w.path)).toEqual(['recipe.momentum', 'recipe.nesterov']);
+  });
+  it('a non-zero momentum on adam is an error', () => {
+    const r = parseSpec('seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: adam, momentum: 0.9 }\n');
+    expect(r.ok).toBe(false);
   });
 });
