@@ -224,8 +224,10 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
     const sinceRestart = m - (state.restarts.length > 0 ? state.restarts[state.restarts.length - 1] : 0);
     const settled = state.restarts.length === 0 ? m >= minIterations : sinceRestart >= Math.min(minIterations, n - m + sinceRestart);
     const converged = state.exhausted || (settled && sinceRestart > 0 && done === wanted.length);
+    // A·q = 0 exactly for a random q means A = 0 (with probability one): every eigenvalue is 0.
+    const zero = m === 1 && state.alpha[0] === 0 && state.beta[0] === 0;
     if (state.exhausted) stop = 'exhausted';
-    else if (converged) stop = 'converged';
+    else if (converged || zero) stop = 'converged';
     const cancel = reportProgress(options, {
       phase: 'lanczos',
       done: m,
@@ -233,7 +235,7 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
       products: state.products,
       detail: `${state.exhausted ? wanted.length : done} of ${wanted.length} converged`,
     });
-    if (converged) break;
+    if (converged || zero) break;
     if (cancel) {
       stop = 'cancelled';
       break;

@@ -2,7 +2,7 @@ import { Session } from '../../../src/core/session';
 import type { Experiment, Recipe } from '../../../src/core/setup';
 import { Rng } from '../../../src/core/rng';
 import { parseSpec } from '../../../src/spec/index';
-import { measureCurvature, preconditionerDiagonal, stabilityBound, stepMetric, trackSharpness } from '../../../src/core/probe/curvature';
+import { measureCurvature, measureSessionCurvature, preconditionerDiagonal, stabilityBound, stepMetric, trackSharpness } from '../../../src/core/probe/curvature';
 import { golden } from '../../reference/curvature/fixtures';
 import { norm, quadraticWithSpectrum, recipe } from './helpers';
 
@@ -70,6 +70,33 @@ describe('stability limits against the optimizers of core/optim (real Session)',
     const rep = measureCurvature(objective, Float64Array.from(start), r, Rng.fromSeed(1), { metric });
     expect(rep.summary.stability.largestStableLr as number).toBeCloseTo(2 / (2 * LMAX), 9);
     expect(stabilityBound(r, LMAX).largestStableLr as number).toBeCloseTo(2 / LMAX, 12);
+  });
+});
+
+describe('measureSessionCurvature', () => {
+  it('adaptive optimizer: no bound before the first step, the frozen-preconditioner bound after it', () => {
+    const r = recipe({ optimizer: 'adam', lr: 0.01 });
+    const s = Session.create(experiment(r));
+    const before = measureSessionCurvature(s, Rng.fromSeed(1)).summary.stability;
+    expect(before.largestStableLr).toBeNull();
+    expect(before.note).toContain('available after the first step');
+    s.step(10);
+    const after = measureSessionCurvature(s, Rng.fromSeed(1)).summary;
+    const p = preconditionerDiagonal(r, s.optimizerState()) as Float64Array;
+    const direct = measureCurvature(objective, s.parameters, r, Rng.fromSeed(1), { metric: stepMetric(r, objective.blocks, p) }).summary;
+    expect(after.stability.rule).toBe('adam-frozen');
+    expect(after.stability.largestStableLr as number).toBeCloseTo(direct.stability.largestStableLr as number, 10);
+    expect(after.lambdaMax).toBeCloseTo(LMAX, 10);
+  });
+
+  it('uses the learning rate in effect at the session step (schedule applied)', () => {
+    // source: the step schedule multiplies lr by factor every `every` updates (core/optim/schedule.ts)
+    const r = recipe({ lr: 0.02, schedule: { kind: 'step', every: 5, factor: 0.5 } });
+    const s = Session.create(experiment(r));
+    s.step(7);
+    const st = measureSessionCurvature(s, Rng.fromSeed(1)).summary.stability;
+    expect(st.lr).toBeCloseTo(0.01, 15);
+    expect(st.margin as number).toBeCloseTo((0.01 * LMAX) / 2, 10);
   });
 });
 

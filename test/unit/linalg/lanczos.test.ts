@@ -71,6 +71,13 @@ describe('lanczosExtremes against the dense solver', () => {
     expect(r.largest[1].value).toBeCloseTo(5, 12);
   });
 
+  it('stops after one product on the zero operator', () => {
+    const r = lanczosExtremes((_v, out) => out.fill(0), 1000, Rng.fromSeed(1), { k: 3, which: 'both' });
+    expect(r.stop).toBe('converged');
+    expect(r.products).toBe(1);
+    expect(r.largest[0].value).toBe(0);
+  });
+
   it('reports progress every step and cancels when the callback returns false or shouldStop is set', () => {
     const a = randomSymmetric(150, 5);
     const seen: number[] = [];

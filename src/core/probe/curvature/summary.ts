@@ -174,10 +174,14 @@ export function curvatureSummary(s: CurvatureSpectrum, recipe: Recipe, options: 
   }
   const step = options.stepSharpness;
   const f = stabilityFactor(recipe);
+  const lr = options.lr ?? recipe.lr;
+  let stability: StabilityBound;
   if (f.preconditioned && step === undefined) {
-    throw new Error(`${recipe.optimizer} needs stepSharpness (λmax of the preconditioned Hessian) for its stability bound`);
+    // No preconditioner yet (before the first step) or none passed: the plain λmax says nothing here.
+    stability = { ...f, sharpness: NaN, largestStableLr: null, lr, margin: null, note: `${f.note}; needs the optimizer's diagonal preconditioner, available after the first step` };
+  } else {
+    stability = stabilityBound(recipe, step?.value ?? lambdaMax, lr);
   }
-  const sharpness = step?.value ?? lambdaMax;
   return {
     method: s.method,
     kind: s.kind,
@@ -192,7 +196,7 @@ export function curvatureSummary(s: CurvatureSpectrum, recipe: Recipe, options: 
     negativeShareMethod: s.negativeShare?.method ?? null,
     trace: s.trace?.value ?? null,
     traceStandardError: s.trace?.standardError ?? null,
-    stability: stabilityBound(recipe, sharpness, options.lr ?? recipe.lr),
+    stability,
     stepMetric: step?.description ?? 'plain Hessian',
     caveat: CURVATURE_CAVEAT,
   };
