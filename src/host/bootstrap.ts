@@ -84,6 +84,7 @@ export async function main(): Promise<void> {
     }
   }
 
+  performance.mark('stepwell-host:plugins-loaded');
   const pluginRegistry = new PluginRegistry();
   pluginRegistry.registerPlugins(plugins);
   // Resolve the service manager from the in-browser service plugins before the app exists.
@@ -101,7 +102,10 @@ export async function main(): Promise<void> {
   if ((PageConfig.getOption('exposeAppInBrowser') || '').toLowerCase() === 'true') {
     (window as unknown as { jupyterapp: unknown }).jupyterapp = lab;
   }
+  performance.mark('stepwell-host:services-resolved');
   await lab.start({ ignorePlugins: deferred, bubblingKeydown: true });
+  performance.mark('stepwell-host:started');
   await lab.restored;
+  performance.mark('stepwell-host:restored');
   document.body.dataset.stepwellHost = 'restored';
 }

@@ -28,6 +28,7 @@ if (staticUrl) {
   __webpack_public_path__ = staticUrl.endsWith('/') ? staticUrl : `${staticUrl}/`;
 }
 
+performance.mark('stepwell-host:entry');
 void import('./bootstrap').then(m => m.main()).catch((err: unknown) => {
   console.error('Stepwell app failed to start', err);
   const box = document.createElement('pre');

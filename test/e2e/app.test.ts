@@ -20,6 +20,7 @@ import {
   runPaletteCommand,
   screenshot,
   startApp,
+  startupTimings,
   type IAppServer,
   type IBrowserSession
 } from './harness';
@@ -47,7 +48,8 @@ describe('embedded app', () => {
 
   it('opens the first demo notebook without a kernel dialog and without errors from our code', async () => {
     const seconds = await openNotebook(browser.page, app.url);
-    console.log(`notebook visible after ${seconds.toFixed(1)} s`);
+    const marks = Object.entries(await startupTimings(browser.page)).map(([k, v]) => `${k} ${v.toFixed(2)} s`);
+    console.log(`notebook visible after ${seconds.toFixed(1)} s (${marks.join(', ')})`);
     const notebookName = decodeURIComponent(app.url.split('/lab/tree/')[1]);
     const tabLabel = await browser.page.locator('#jp-main-dock-panel .lm-TabBar-tab.lm-mod-current .lm-TabBar-tabLabel').textContent();
     expect(tabLabel).toBe(notebookName.split('/').pop());

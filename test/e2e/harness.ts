@@ -211,6 +211,22 @@ export async function openNotebook(page: Page, url: string, timeoutMs = 60_000):
   return seconds;
 }
 
+/**
+ * Start-up milestones in seconds since navigation: DOM ready, the entry script, all plugin
+ * modules loaded, app started, layout restored (performance marks set by src/host).
+ */
+export async function startupTimings(page: Page): Promise<Record<string, number>> {
+  return page.evaluate(() => {
+    const out: Record<string, number> = {};
+    const nav = performance.getEntriesByType('navigation')[0] as PerformanceNavigationTiming | undefined;
+    if (nav) out.domContentLoaded = nav.domContentLoadedEventEnd / 1000;
+    for (const m of performance.getEntriesByType('mark')) {
+      if (m.name.startsWith('stepwell-host:')) out[m.name.slice('stepwell-host:'.length)] = m.startTime / 1000;
+    }
+    return out;
+  });
+}
+
 /** Number of cells in the current notebook's model (not only the rendered ones). */
 export async function notebookCellCount(page: Page): Promise<number> {
   return page.evaluate(async () => {
