@@ -80,6 +80,8 @@ export interface TridiagonalizeOptions {
 
 /** Below this order the scalar loop is as fast as the SIMD kernel. */
 const SIMD_MIN_ORDER = 32;
+/** Below this many vectors, copying the reflectors into the kernel's memory costs more than it saves. */
+const SIMD_MIN_VECTORS = 16;
 
 interface Workspace {
   a: Float64Array;
@@ -215,6 +217,25 @@ export function applyReflectors(red: HouseholderReduction, v: Float64Array, coun
   const { n, reflectors: a, h } = red;
   // Blocks of vectors small enough to stay in cache while every reflector streams past once.
   const block = Math.max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * Math.max(1, n))));
+  const kernel = count >= SIMD_MIN_VECTORS && n >= SIMD_MIN_ORDER ? simdKernel() : null;
+  if (kernel !== null) {
+    // Reflectors and vectors side by side in the kernel's memory; reflect(u, v, len, h) per pair.
+    const nn = n * n;
+    const buf = simdMemory(kernel, 8 * (nn + count * n));
+    const rw = new Float64Array(buf, 0, nn);
+    const vw = new Float64Array(buf, 8 * nn, count * n);
+    rw.set(a.subarray(0, nn));
+    vw.set(v.subarray(0, count * n));
+    for (let k0 = 0; k0 < count; k0 += block) {
+      const k1 = Math.min(count, k0 + block);
+      for (let i = 2; i < n; i++) {
+        if (h[i] === 0) continue;
+        for (let k = k0; k < k1; k++) kernel.reflect(8 * i * n, 8 * (nn + k * n), i, h[i]);
+      }
+    }
+    v.set(vw);
+    return;
+  }
   for (let k0 = 0; k0 < count; k0 += block) {
     const k1 = Math.min(count, k0 + block);
     for (let i = 2; i < n; i++) {

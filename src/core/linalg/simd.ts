@@ -9,6 +9,10 @@
  * lanes at a time. Every operation is IEEE-754 double arithmetic (no fused multiply-add), so
  * results are deterministic; only the summation order differs from the scalar path.
  *
+ * `rot` applies a Givens rotation to two contiguous rows (the QL eigenvector accumulation of
+ * `tridiagonal.ts`) and `reflect` one Householder reflection to one vector (the back-transform of
+ * `householder.ts`).
+ *
  * When the engine lacks WebAssembly SIMD, {@link simdKernel} returns null and callers use the
  * scalar TypeScript loop.
  */
@@ -17,6 +21,10 @@
 export interface SimdKernel {
   readonly memory: WebAssembly.Memory;
   readonly fused: (a: number, pu: number, pq: number, cu: number, p: number, r: number, ur: number, qr: number, vr: number) => number;
+  /** For k < len: (a[k], b[k]) ← (c·a[k] − s·b[k], s·a[k] + c·b[k]) (a Givens rotation of two rows). */
+  readonly rot: (a: number, b: number, len: number, c: number, s: number) => void;
+  /** v ← v − u·(uᵀv)/h over len entries (one Householder reflection of one vector). */
+  readonly reflect: (u: number, v: number, len: number, h: number) => void;
 }
 
 const V = 0xfd; // SIMD prefix
@@ -73,6 +81,59 @@ const BODY: number[] = [
   0x0b,
 ];
 
+// rot params: 0 a, 1 b, 2 len (i32); 3 c, 4 s (f64). locals: 5 off, 6 end (i32); 7 C, 8 S, 9 x, 10 y (v128); 11 xs, 12 ys (f64)
+const atT = (base: number): number[] => [...get(base), ...get(5), ...I32_ADD];
+const ROT_BODY: number[] = [
+  ...get(3), ...SPLAT, ...set(7),
+  ...get(4), ...SPLAT, ...set(8),
+  ...get(2), 0x41, 0x7e, 0x71, 0x41, 0x03, 0x74, ...set(6),
+  0x02, 0x40, 0x03, 0x40,
+  ...get(5), ...get(6), 0x4f, 0x0d, 0x01,
+  ...atT(0), ...LOAD, ...set(9),
+  ...atT(1), ...LOAD, ...set(10),
+  ...atT(1), ...get(8), ...get(9), ...MUL, ...get(7), ...get(10), ...MUL, ...ADD, ...STORE,
+  ...atT(0), ...get(7), ...get(9), ...MUL, ...get(8), ...get(10), ...MUL, ...SUB, ...STORE,
+  ...get(5), 0x41, 0x10, ...I32_ADD, ...set(5),
+  0x0c, 0x00,
+  0x0b, 0x0b,
+  ...get(2), 0x41, 0x01, 0x71, 0x04, 0x40,
+  ...atT(0), ...F64_LOAD, ...set(11),
+  ...atT(1), ...F64_LOAD, ...set(12),
+  ...atT(1), ...get(4), ...get(11), ...F64_MUL, ...get(3), ...get(12), ...F64_MUL, ...F64_ADD, ...F64_STORE,
+  ...atT(0), ...get(3), ...get(11), ...F64_MUL, ...get(4), ...get(12), ...F64_MUL, ...F64_SUB, ...F64_STORE,
+  0x0b,
+  0x0b,
+];
+
+// reflect params: 0 u, 1 v, 2 len (i32); 3 h (f64). locals: 4 off, 5 end (i32); 6 acc, 7 F (v128); 8 f (f64)
+const atF = (base: number): number[] => [...get(base), ...get(4), ...I32_ADD];
+const REFLECT_BODY: number[] = [
+  ...get(2), 0x41, 0x7e, 0x71, 0x41, 0x03, 0x74, ...set(5),
+  0x02, 0x40, 0x03, 0x40,
+  ...get(4), ...get(5), 0x4f, 0x0d, 0x01,
+  ...get(6), ...atF(0), ...LOAD, ...atF(1), ...LOAD, ...MUL, ...ADD, ...set(6),
+  ...get(4), 0x41, 0x10, ...I32_ADD, ...set(4),
+  0x0c, 0x00,
+  0x0b, 0x0b,
+  ...get(6), V, 0x21, 0x00, ...get(6), V, 0x21, 0x01, ...F64_ADD, ...set(8),
+  ...get(2), 0x41, 0x01, 0x71, 0x04, 0x40,
+  ...get(8), ...atF(0), ...F64_LOAD, ...atF(1), ...F64_LOAD, ...F64_MUL, ...F64_ADD, ...set(8),
+  0x0b,
+  ...get(8), ...get(3), 0xa3, ...set(8),
+  ...get(8), ...SPLAT, ...set(7),
+  0x41, 0x00, ...set(4),
+  0x02, 0x40, 0x03, 0x40,
+  ...get(4), ...get(5), 0x4f, 0x0d, 0x01,
+  ...atF(1), ...atF(1), ...LOAD, ...get(7), ...atF(0), ...LOAD, ...MUL, ...SUB, ...STORE,
+  ...get(4), 0x41, 0x10, ...I32_ADD, ...set(4),
+  0x0c, 0x00,
+  0x0b, 0x0b,
+  ...get(2), 0x41, 0x01, 0x71, 0x04, 0x40,
+  ...atF(1), ...atF(1), ...F64_LOAD, ...get(8), ...atF(0), ...F64_LOAD, ...F64_MUL, ...F64_SUB, ...F64_STORE,
+  0x0b,
+  0x0b,
+];
+
 function uleb(n: number): number[] {
   const out: number[] = [];
   do {
@@ -90,13 +151,21 @@ function section(id: number, payload: number[]): number[] {
 
 function moduleBytes(): Uint8Array {
   const name = (s: string): number[] => [...uleb(s.length), ...Array.from(s, (c) => c.charCodeAt(0))];
-  const type = [0x01, 0x60, 0x09, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x7c, 0x01, 0x7c];
-  const func = [0x01, 0x00];
+  const type = [
+    0x03,
+    0x60, 0x09, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x7c, 0x01, 0x7c, // fused
+    0x60, 0x05, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x00, // rot
+    0x60, 0x04, 0x7f, 0x7f, 0x7f, 0x7c, 0x00, // reflect
+  ];
+  const func = [0x03, 0x00, 0x01, 0x02];
   const memory = [0x01, 0x00, 0x01];
-  const exports = [0x02, ...name('memory'), 0x02, 0x00, ...name('fused'), 0x00, 0x00];
-  const locals = [0x03, 0x02, 0x7f, 0x05, 0x7b, 0x01, 0x7c];
-  const body = [...locals, ...BODY];
-  const code = [0x01, ...uleb(body.length), ...body];
+  const exports = [0x04, ...name('memory'), 0x02, 0x00, ...name('fused'), 0x00, 0x00, ...name('rot'), 0x00, 0x01, ...name('reflect'), 0x00, 0x02];
+  const bodies = [
+    [0x03, 0x02, 0x7f, 0x05, 0x7b, 0x01, 0x7c, ...BODY],
+    [0x03, 0x02, 0x7f, 0x04, 0x7b, 0x02, 0x7c, ...ROT_BODY],
+    [0x03, 0x02, 0x7f, 0x02, 0x7b, 0x01, 0x7c, ...REFLECT_BODY],
+  ];
+  const code = [0x03, ...bodies.flatMap((b) => [...uleb(b.length), ...b])];
   return Uint8Array.from([
     0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00,
     ...section(1, type),
@@ -118,7 +187,9 @@ export function simdKernel(): SimdKernel | null {
     const instance = new WebAssembly.Instance(new WebAssembly.Module(moduleBytes()), {});
     const memory = instance.exports.memory as WebAssembly.Memory;
     const fused = instance.exports.fused as SimdKernel['fused'];
-    cached = { memory, fused };
+    const rot = instance.exports.rot as SimdKernel['rot'];
+    const reflect = instance.exports.reflect as SimdKernel['reflect'];
+    cached = { memory, fused, rot, reflect };
   } catch {
     cached = null;
   }

@@ -8,6 +8,7 @@
  * bisection, inverse iteration); Wilkinson, *The Algebraic Eigenvalue Problem*, 1965, ch. 5.
  */
 import type { Tridiagonal } from './householder';
+import { simdKernel, simdMemory } from './simd';
 
 /** Eigen-decomposition of a tridiagonal matrix: ascending values, optional vectors as rows. */
 export interface TridiagonalEigen {
@@ -40,6 +41,13 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
     throw new RangeError(`QL basis needs ${n * cols} entries for ${n} rows of ${cols}, got ${vectors.length}`);
   }
   const d = Float64Array.from(t.diagonal);
+  // Long rows rotate in the SIMD kernel's memory (`rot`, two doubles per instruction).
+  const kernel = vectors !== null && cols >= 32 ? simdKernel() : null;
+  let z = vectors;
+  if (kernel !== null && vectors !== null) {
+    z = new Float64Array(simdMemory(kernel, 8 * n * cols), 0, n * cols);
+    z.set(vectors.subarray(0, n * cols));
+  }
   // Internal layout: e[i] couples i and i+1.
   const e = new Float64Array(n);
   for (let i = 0; i + 1 < n; i++) e[i] = t.subdiagonal[i + 1];
@@ -82,7 +90,8 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
         p = s * r;
         d[i + 1] = g + p;
         g = c * r - b;
-        if (vectors !== null) rotateRows(vectors, cols, i, c, s);
+        if (kernel !== null) kernel.rot(8 * i * cols, 8 * (i + 1) * cols, cols, c, s);
+        else if (z !== null) rotateRows(z, cols, i, c, s);
       }
       if (deflated) continue;
       d[l] -= p;
@@ -90,6 +99,7 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
       e[m] = 0;
     }
   }
+  if (kernel !== null && vectors !== null && z !== null) vectors.set(z);
   sortAscending(d, vectors, n, cols);
   return d;
 }
