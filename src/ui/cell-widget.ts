@@ -32,8 +32,12 @@ const TABS: [ReadoutTab, string][] = [
   ['audit', 'Audit']
 ];
 
-/** Least milliseconds between plot redraws while work is running. */
-const PLOT_INTERVAL_MS = 250;
+/**
+ * Least milliseconds between plot redraws while work is running. A plotly redraw costs tens
+ * of milliseconds of main-thread time; the status line and progress bar update on every
+ * progress message, the plot about once a second.
+ */
+const PLOT_INTERVAL_MS = 1000;
 
 /** The widget shown in a stepwell cell's output area. */
 export class StepwellCellWidget extends Widget {
@@ -117,7 +121,7 @@ export class StepwellCellWidget extends Widget {
     this.statusNode.textContent =
       s.summary === null
         ? s.ledger === 'corrupt' ? 'unreadable ledger' : 'no session yet: run the cell (Shift+Enter)'
-        : `${statusLine({ step: s.summary.step, last, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
+        : `${statusLine({ step: last?.step ?? s.summary.step, last, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
           ` · ${s.summary.recipe}`;
     replaceChildren(this.problemsNode, s.problems.map(p => el('li', 'sw-Problem', problemLine(p))));
     show(this.problemsNode, s.problems.length > 0);

@@ -12,6 +12,7 @@ import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } f
 import { cellSummary, markdownSummary, meanMs, problemLine, verifyLine, PROXY_NOTE } from './summary';
 import type { CellViewState, Notice, ReadoutTab } from './view-state';
 import { initialViewState } from './view-state';
+import { RECENT_RECORDS, thinInPlace } from '../worker/thin';
 
 /** Collaborators of a {@link CellController}. */
 export interface ControllerDeps {
@@ -259,18 +260,20 @@ export class CellController {
     }
     const engine = await this.syncEngine();
     if (engine === null) return false;
+    // Only the newest records are kept for the timing; a long run would otherwise hold all of them.
     const produced: StepRecord[] = [];
     this.set({ busy: { action, done: 0, total }, notice: null, verify: null });
     const onProgress = (p: ProgressReply): void => {
-      produced.push(...p.records);
-      this.set({ busy: { action, done: p.done, total }, trajectory: this.st.trajectory.concat(p.records) });
+      for (const r of p.records.slice(-RECENT_RECORDS)) produced.push(r);
+      if (produced.length > 2 * RECENT_RECORDS) produced.splice(0, produced.length - RECENT_RECORDS);
+      this.set({ busy: { action, done: p.done, total }, trajectory: thinInPlace(this.st.trajectory.concat(p.records)) });
     };
     const reply = await engine.request(body, onProgress);
     if (reply.kind !== 'stepped') {
       this.set({ busy: null });
       return this.failed(reply);
     }
-    produced.push(...reply.records);
+    for (const r of reply.records) produced.push(r);
     const last = reply.records.length > 0 ? reply.records[reply.records.length - 1] : undefined;
     let notice: Notice | null = null;
     switch (reply.reason) {
@@ -292,8 +295,8 @@ export class CellController {
     this.set({
       busy: null,
       summary: reply.summary,
-      trajectory: this.st.trajectory.concat(reply.records),
-      msPerStep: meanMs(produced),
+      trajectory: thinInPlace(this.st.trajectory.concat(reply.records)),
+      msPerStep: meanMs(produced.slice(-RECENT_RECORDS)),
       notice
     });
     return this.persist();
@@ -355,29 +358,19 @@ export class CellController {
     return false;
   }
 
-  /** Snapshots the session and writes the whole ledger and the outputs. */
+  /** Has the worker build the whole ledger, then writes it and the outputs in one go each. */
   private async persist(): Promise<boolean> {
     const engine = this.engine;
-    if (engine === null || this.st.sessionSpec === null) return false;
-    const snap = await engine.request({ kind: 'snapshot' });
-    if (snap.kind !== 'snapshot') return this.failed(snap);
-    const content: LedgerContent = {
-      specText: this.st.sessionSpec,
-      summary: snap.summary,
-      state: snap.state,
-      trajectory: snap.trajectory,
-      checkpoints: snap.checkpoints
-    };
-    let built: { value: object; bytes: number };
-    try {
-      built = this.deps.ledger.build(content, this.deps.settings().checkpointCap);
-    } catch (error) {
-      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${String((error as Error).message ?? error)}`);
+    const specText = this.st.sessionSpec;
+    if (engine === null || specText === null) return false;
+    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap });
+    if (reply.kind === 'failed') {
+      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
       return false;
     }
-    this.deps.host.writeLedger(built.value);
-    this.content = content;
-    this.set({ ledgerBytes: built.bytes, summary: snap.summary });
+    if (reply.kind !== 'ledger') return this.failed(reply);
+    this.deps.host.writeLedger(reply.value);
+    this.set({ ledgerBytes: reply.bytes, summary: reply.summary, trajectory: reply.trajectory });
     this.writeOutputs();
     return true;
   }

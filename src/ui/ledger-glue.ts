@@ -1,10 +1,9 @@
 /**
- * The one adapter between the cell controller and the ledger layer (`src/ledger/`): maps
- * the controller's {@link LedgerContent} (one trajectory, its checkpoints, the head) onto
- * the ledger's `main` branch and back. Validation and encoding are the ledger layer's.
+ * The one adapter between the cell controller and the ledger layer (`src/ledger/`) on the
+ * page: validates a metadata value and decodes its active branch into the controller's
+ * {@link LedgerContent}. (Ledgers are written by the worker: `worker/ledger-build.ts`.)
  */
-import { buildLedger, decodeBranch, ledgerSize, recoverSpec, validateLedger, LEDGER_KEY as KEY } from '../ledger';
-import type { SessionState } from '../core/state';
+import { decodeBranch, recoverSpec, validateLedger, LEDGER_KEY as KEY } from '../ledger';
 import { parseSpec } from '../spec';
 import { describeRecipe, describeSetup } from '../worker/describe';
 import type { CheckpointData } from '../worker/protocol';
@@ -13,11 +12,6 @@ import type { LedgerContent, LedgerGlue, LedgerRead } from './ports';
 /** Our metadata key on a stepwell cell. */
 export const LEDGER_KEY = KEY;
 
-/** Engine name written into each ledger. */
-export const ENGINE_NAME = 'stepwell 0.1.0';
-
-/** Name of the one branch this version of the cell writes. */
-const MAIN = 'main';
 
 function read(value: unknown): LedgerRead {
   if (value === undefined || value === null) return { kind: 'absent' };
@@ -58,23 +52,5 @@ function read(value: unknown): LedgerRead {
   }
 }
 
-function build(content: LedgerContent, cap: number): { value: object; bytes: number } {
-  const parsed = parseSpec(content.specText);
-  if (!parsed.ok) throw new Error(`the session's spec does not parse: ${parsed.errors[0].message}`);
-  const head = content.state;
-  const byStep = new Map<number, SessionState>();
-  for (const c of content.checkpoints) if (c.step < head.step) byStep.set(c.step, c.state);
-  const ledger = buildLedger({
-    engine: ENGINE_NAME,
-    spec: content.specText,
-    seed: parsed.experiment.seed,
-    parameterCount: content.summary.parameterCount,
-    branches: [{ name: MAIN, trajectory: content.trajectory, checkpoints: [...byStep.values()], head }],
-    activeBranch: MAIN,
-    limits: { maxCheckpoints: Math.max(2, cap) }
-  });
-  return { value: ledger, bytes: ledgerSize(ledger).bytes };
-}
-
 /** The ledger glue the plugin uses. */
-export const ledgerGlue: LedgerGlue = { read, build };
+export const ledgerGlue: LedgerGlue = { read };

@@ -42,17 +42,13 @@ export type LedgerRead =
   /** `specText` when the spec could still be recovered from the broken value. */
   | { kind: 'corrupt'; message: string; specText?: string };
 
-/** The ledger layer as the controller uses it. */
+/**
+ * The ledger layer as the controller uses it on the page: reading only. Ledgers are built
+ * in the worker (`worker/ledger-build.ts`), which holds the full session.
+ */
 export interface LedgerGlue {
   /** Validates and decodes a metadata value; never throws. */
   read(value: unknown): LedgerRead;
-  /**
-   * Builds and validates a complete ledger value ready to store.
-   * Throws with a message naming the problem when the content cannot be stored.
-   *
-   * @param checkpointCap - most checkpoints to keep (older ones are thinned).
-   */
-  build(content: LedgerContent, checkpointCap: number): { value: object; bytes: number };
 }
 
 /** User settings the controller reads at each action (schema/plugin.json). */

@@ -57,6 +57,8 @@ export interface AxisLayout {
   color: string;
   rangemode?: 'tozero' | 'normal';
   automargin: boolean;
+  /** How tick labels write powers of ten (`power`: 10⁻⁶, never SI prefixes such as µ). */
+  exponentformat: 'power' | 'e' | 'none';
 }
 
 /** The figure description handed to plotly. */
@@ -86,6 +88,45 @@ export interface TraceOptions {
 
 const finite = (v: number | undefined): v is number => v !== undefined && Number.isFinite(v);
 
+/** Most points drawn per series; longer traces are reduced by {@link decimate}. */
+export const MAX_PLOT_POINTS = 1000;
+
+/**
+ * Reduces a series to at most about `maxPoints` points for drawing, keeping each bucket's
+ * lowest and highest value (so spikes and divergences stay visible), the first and the last
+ * point, and a gap (null) wherever a bucket holds a non-finite value.
+ */
+export function decimate(x: readonly number[], y: readonly (number | null)[], maxPoints = MAX_PLOT_POINTS): { x: number[]; y: (number | null)[] } {
+  const n = x.length;
+  if (n <= maxPoints) return { x: x.slice(), y: y.slice() };
+  const size = Math.ceil(n / Math.max(1, Math.floor((maxPoints - 2) / 2)));
+  const ox: number[] = [x[0]];
+  const oy: (number | null)[] = [y[0]];
+  for (let start = 1; start < n - 1; start += size) {
+    const end = Math.min(n - 1, start + size);
+    let lo = -1;
+    let hi = -1;
+    let gap = -1;
+    for (let i = start; i < end; i++) {
+      const v = y[i];
+      if (v === null) {
+        if (gap < 0) gap = i;
+        continue;
+      }
+      if (lo < 0 || v < (y[lo] as number)) lo = i;
+      if (hi < 0 || v > (y[hi] as number)) hi = i;
+    }
+    const picks = [lo, hi, gap].filter(i => i >= 0).sort((a, b) => a - b);
+    for (const i of picks.filter((v, k) => picks.indexOf(v) === k)) {
+      ox.push(x[i]);
+      oy.push(y[i]);
+    }
+  }
+  ox.push(x[n - 1]);
+  oy.push(y[n - 1]);
+  return { x: ox, y: oy };
+}
+
 /**
  * Chooses the y scale: log when every finite value is positive and max/min exceeds 100.
  */
@@ -110,15 +151,17 @@ export function chooseScale(values: readonly number[]): 'linear' | 'log' {
  * @returns the plotly figure description.
  */
 export function traceFigure(trajectory: readonly StepRecord[], theme: FigureTheme, options: TraceOptions = {}): Figure {
-  const x = trajectory.map(r => r.step);
-  const train = trajectory.map(r => (Number.isFinite(r.loss) ? r.loss : null));
+  const train = decimate(
+    trajectory.map(r => r.step),
+    trajectory.map(r => (Number.isFinite(r.loss) ? r.loss : null))
+  );
   const data: LineSeries[] = [
     {
       type: 'scatter',
       mode: trajectory.length < 30 ? 'lines+markers' : 'lines',
       name: 'training loss',
-      x,
-      y: train,
+      x: train.x,
+      y: train.y,
       line: { color: theme.train, width: 2 },
       marker: { color: theme.train, size: 4 },
       hovertemplate: 'step %{x}<br>training loss %{y:.6g}<extra></extra>'
@@ -126,12 +169,16 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
   ];
   const held = trajectory.filter(r => r.heldOutLoss !== undefined);
   if (held.length > 0) {
+    const h = decimate(
+      held.map(r => r.step),
+      held.map(r => (finite(r.heldOutLoss) ? r.heldOutLoss : null))
+    );
     data.push({
       type: 'scatter',
       mode: held.length < 30 ? 'lines+markers' : 'lines',
       name: 'held-out loss',
-      x: held.map(r => r.step),
-      y: held.map(r => (finite(r.heldOutLoss) ? r.heldOutLoss : null)),
+      x: h.x,
+      y: h.y,
       line: { color: theme.heldOut, width: 2, dash: 'dash' },
       marker: { color: theme.heldOut, size: 4 },
       hovertemplate: 'step %{x}<br>held-out loss %{y:.6g}<extra></extra>'
@@ -159,7 +206,8 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
     gridcolor: theme.grid,
     zerolinecolor: theme.grid,
     color: theme.foreground,
-    automargin: true
+    automargin: true,
+    exponentformat: 'power'
   });
   return {
     data,

@@ -21,6 +21,9 @@ import type {
 import { checkRequest } from './protocol';
 import { evaluateStop } from '../core/session/stop';
 import { describeRecipe, describeSetup } from './describe';
+import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, sampleRecords, thinInPlace } from './thin';
+import { buildCellLedger } from './ledger-build';
+import { thinCheckpoints } from '../ledger/thin';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -109,7 +112,7 @@ export class EngineHost {
       case 'reset': {
         const l = this.need();
         this.loaded = this.fresh(l.experiment, l.checkpointEvery);
-        this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: this.loaded.trajectory.slice() });
+        this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: sampleRecords(this.loaded.trajectory, DISPLAY_RECORDS) });
         return;
       }
       case 'rewind':
@@ -134,6 +137,20 @@ export class EngineHost {
       }
       case 'verify':
         return this.verify(id);
+      case 'ledger': {
+        const l = this.need();
+        const built = buildCellLedger({
+          specText: request.specText,
+          experiment: l.experiment,
+          parameterCount: l.session.parameterCount,
+          head: l.session.state(),
+          trajectory: l.trajectory,
+          checkpoints: l.checkpoints,
+          checkpointCap: request.checkpointCap
+        });
+        this.post({ id, kind: 'ledger', summary: this.summary(), value: built.value, bytes: built.bytes, trajectory: sampleRecords(l.trajectory, DISPLAY_RECORDS) });
+        return;
+      }
     }
   }
 
@@ -182,7 +199,7 @@ export class EngineHost {
       id: request.id,
       kind: 'ready',
       summary: this.summary(),
-      trajectory: this.loaded.trajectory.slice(),
+      trajectory: sampleRecords(this.loaded.trajectory, DISPLAY_RECORDS),
       warnings: parsed.warnings
     });
   }
@@ -216,7 +233,7 @@ export class EngineHost {
       if (typeof out === 'string') return { end: out, pending };
       pending.push(out);
       if (performance.now() - chunkStart >= this.chunkMs && i + 1 < total) {
-        this.post({ id, kind: 'progress', done: i + 1, total, records: pending });
+        this.post({ id, kind: 'progress', done: i + 1, total, records: sampleRecords(pending, REPLY_SAMPLE) });
         pending = [];
         await nextTick();
         chunkStart = performance.now();
@@ -229,6 +246,11 @@ export class EngineHost {
     const step = l.session.stepCount;
     if (l.checkpointEvery > 0 && step % l.checkpointEvery === 0) {
       l.checkpoints.push({ step, fingerprint: l.session.fingerprint(), state: l.session.state() });
+      // A long run would pile up states; thin them with the ledger's policy (dense near the head).
+      if (l.checkpoints.length > 2 * MEMORY_CHECKPOINT_CAP) {
+        const keep = new Set(thinCheckpoints(l.checkpoints.map(c => c.step), MEMORY_CHECKPOINT_CAP));
+        l.checkpoints = l.checkpoints.filter(c => keep.has(c.step));
+      }
     }
   }
 
@@ -238,6 +260,7 @@ export class EngineHost {
     const { end, pending } = await this.sliced(id, total, i => {
       const record = l.session.stepOnce();
       l.trajectory.push(record);
+      thinInPlace(l.trajectory);
       this.checkpointIfDue(l);
       if (!Number.isFinite(record.loss)) return 'non-finite';
       if (condition !== null && evaluateStop(condition, record, i + 1, startLoss, l.session.parameters) !== null) {
@@ -251,7 +274,7 @@ export class EngineHost {
       id,
       kind: 'stepped',
       summary: this.summary(),
-      records: pending.concat(tail),
+      records: sampleRecords(pending.concat(tail), REPLY_SAMPLE),
       stopped: end === 'stopped',
       reason: end
     });
@@ -274,7 +297,7 @@ export class EngineHost {
     l.session = session;
     l.trajectory = l.trajectory.filter(r => r.step <= target);
     l.checkpoints = l.checkpoints.filter(c => c.step <= target);
-    this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: l.trajectory.slice() });
+    this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: sampleRecords(l.trajectory, DISPLAY_RECORDS) });
   }
 
   private async verify(id: number): Promise<void> {

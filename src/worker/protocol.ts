@@ -74,6 +74,8 @@ export type EngineRequest =
   | { id: number; kind: 'rewind'; step: number }
   | { id: number; kind: 'gradcheck'; sample: number }
   | { id: number; kind: 'snapshot' }
+  /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
+  | { id: number; kind: 'ledger'; specText: string; checkpointCap: number }
   | { id: number; kind: 'verify' }
   | { id: number; kind: 'stop'; target: number };
 
@@ -102,7 +104,7 @@ export type EngineReply =
       id: number;
       kind: 'ready';
       summary: SessionSummary;
-      /** Full trajectory from record 0 to the current step. */
+      /** An even sample (≤ 5000, first and last included) of the trajectory. */
       trajectory: StepRecord[];
       warnings: SpecProblem[];
     }
@@ -114,14 +116,14 @@ export type EngineReply =
       done: number;
       /** Steps requested (cap for `run-until`). */
       total: number;
-      /** Records produced since the previous progress message. */
+      /** An even sample (≤ 100) of the records produced since the previous progress message. */
       records: StepRecord[];
     }
   | {
       id: number;
       kind: 'stepped';
       summary: SessionSummary;
-      /** Records produced by this request that no progress message carried. */
+      /** An even sample (≤ 100, last included) of the records produced since the last progress message. */
       records: StepRecord[];
       /** True when a stop request ended the work early. */
       stopped: boolean;
@@ -132,7 +134,7 @@ export type EngineReply =
       id: number;
       kind: 'rewound';
       summary: SessionSummary;
-      /** The trajectory after the rewind (record 0 to the new current step). */
+      /** An even sample (≤ 5000) of the trajectory after the rewind. */
       trajectory: StepRecord[];
     }
   | {
@@ -150,6 +152,17 @@ export type EngineReply =
       trajectory: StepRecord[];
       checkpoints: CheckpointData[];
     }
+  | {
+      id: number;
+      kind: 'ledger';
+      summary: SessionSummary;
+      /** The complete, validated ledger value to store under the cell's metadata key. */
+      value: object;
+      /** UTF-8 size of the value's JSON. */
+      bytes: number;
+      /** An even sample (≤ 5000) of the trajectory, for display. */
+      trajectory: StepRecord[];
+    }
   | { id: number; kind: 'verified'; result: VerifyResult }
   | { id: number; kind: 'failed'; message: string };
 
@@ -164,6 +177,7 @@ export const FINAL_REPLIES: readonly EngineReplyKind[] = [
   'rewound',
   'audit',
   'snapshot',
+  'ledger',
   'verified',
   'failed'
 ];
@@ -181,6 +195,7 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'rewind',
   'gradcheck',
   'snapshot',
+  'ledger',
   'verify',
   'stop'
 ];
@@ -217,6 +232,9 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('sample');
     case 'stop':
       return positiveInt('target');
+    case 'ledger':
+      if (typeof r.specText !== 'string') return 'request.specText must be a string';
+      return positiveInt('checkpointCap');
     case 'reset':
     case 'snapshot':
     case 'verify':

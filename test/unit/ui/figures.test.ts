@@ -1,7 +1,7 @@
 /**
  * Pure figure and text builders of the cell widget, tested without a browser.
  */
-import { chooseScale, traceFigure } from '../../../src/ui/trace-figure';
+import { chooseScale, decimate, traceFigure } from '../../../src/ui/trace-figure';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
@@ -46,7 +46,29 @@ describe('traceFigure', () => {
     expect(chooseScale([10, 1])).toBe('linear');
     expect(chooseScale([10, -0.01, 0.001])).toBe('linear');
     expect(traceFigure([rec(0, 100), rec(1, 0.5)], theme).layout.yaxis.type).toBe('log');
+    expect(traceFigure([rec(0, 100), rec(1, 0.5)], theme).layout.yaxis.exponentformat).toBe('power');
     expect(traceFigure([rec(0, 100), rec(1, 0.5)], theme, { scale: 'linear' }).layout.yaxis.type).toBe('linear');
+  });
+});
+
+describe('decimate', () => {
+  it('keeps short series as they are', () => {
+    expect(decimate([0, 1, 2], [3, null, 1], 10)).toEqual({ x: [0, 1, 2], y: [3, null, 1] });
+  });
+
+  it('reduces long series but keeps the ends, the extremes and the gaps', () => {
+    const n = 10000;
+    const x = Array.from({ length: n }, (_, i) => i);
+    const y: (number | null)[] = x.map(i => Math.sin(i / 50));
+    y[4321] = 99;
+    y[7000] = null;
+    const d = decimate(x, y, 500);
+    expect(d.x.length).toBeLessThanOrEqual(3 * 500);
+    expect(d.x[0]).toBe(0);
+    expect(d.x[d.x.length - 1]).toBe(n - 1);
+    expect(d.y).toContain(99);
+    expect(d.y).toContain(null);
+    expect([...d.x].sort((a, b) => a - b)).toEqual(d.x);
   });
 });
 

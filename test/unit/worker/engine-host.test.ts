@@ -90,8 +90,11 @@ describe('EngineHost', () => {
     expect(r.stopped).toBe(true);
     expect(r.reason).toBe('stopped');
     expect(r.summary.step).toBeLessThan(100000);
-    const delivered = progress.flatMap(p => (p.kind === 'progress' ? p.records : [])).length + r.records.length;
-    expect(delivered).toBe(r.summary.step);
+    // Replies carry an even sample of the records; the last one is always the current step.
+    const delivered = progress.flatMap(p => (p.kind === 'progress' ? p.records : [])).concat(r.records);
+    expect(delivered.length).toBeLessThanOrEqual(r.summary.step);
+    expect(delivered[delivered.length - 1].step).toBe(r.summary.step);
+    expect(delivered.every((x, i) => i === 0 || x.step > delivered[i - 1].step)).toBe(true);
     expect(r.summary.fingerprint).toBe(directPrint(r.summary.step));
   });
 
@@ -199,6 +202,7 @@ describe('EngineClient over an in-process port', () => {
     const stepped = await client.request({ kind: 'step', n: 20 }, p => (progressed += p.records.length));
     expect(stepped.kind).toBe('stepped');
     if (stepped.kind !== 'stepped') return;
+    // 20 steps with a progress message after each: every record fits in the samples.
     expect(progressed + stepped.records.length).toBe(20);
     expect(stepped.summary.fingerprint).toBe(directPrint(20));
     expect(client.inFlight).toEqual([]);
@@ -217,5 +221,19 @@ describe('EngineClient over an in-process port', () => {
     const r = await client.request({ kind: 'rewind', step: 6 });
     expect(r.kind === 'rewound' && r.summary.fingerprint).toBe(directPrint(6, spec));
     expect(experiment().seed).toBe(7);
+  });
+});
+
+describe('thinInPlace', () => {
+  const recs = (n: number) => Array.from({ length: n }, (_, i) => ({ step: i, loss: 1, batchLoss: 1, gradNorm: 1, updateNorm: 1, lr: 1, evaluations: 1, layers: [], ms: 0 }));
+  it('leaves short lists alone and halves the old part of long ones, keeping the first and the recent records', () => {
+    const { thinInPlace } = require('../../../src/worker/thin') as typeof import('../../../src/worker/thin');
+    expect(thinInPlace(recs(10), 20, 5)).toHaveLength(10);
+    const long = thinInPlace(recs(30), 20, 5);
+    expect(long[0].step).toBe(0);
+    expect(long.slice(-5).map(r => r.step)).toEqual([25, 26, 27, 28, 29]);
+    expect(long.length).toBeLessThanOrEqual(20);
+    const steps = long.map(r => r.step);
+    expect([...steps].sort((a, b) => a - b)).toEqual(steps);
   });
 });

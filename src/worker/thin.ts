@@ -1,0 +1,54 @@
+/**
+ * Keeps long trajectories bounded in memory while a run goes on: when a list of step
+ * records grows past `cap`, every other record of its older part is dropped; the first
+ * record and the newest `keepRecent` stay. Repeated halving keeps the cost amortized
+ * constant per record and the early history evenly sampled.
+ */
+import type { StepRecord } from '../core/state';
+
+/** Most step records held in memory per session (host and page). */
+export const MEMORY_RECORD_CAP = 20000;
+
+/** Most checkpoints held in memory per session (thinned to this when twice as many pile up). */
+export const MEMORY_CHECKPOINT_CAP = 200;
+
+/** Newest records always kept at full density. */
+export const RECENT_RECORDS = 2000;
+
+/**
+ * Thins `records` in place when longer than `cap`.
+ *
+ * @returns the same array (for chaining).
+ */
+export function thinInPlace(records: StepRecord[], cap = MEMORY_RECORD_CAP, keepRecent = RECENT_RECORDS): StepRecord[] {
+  if (records.length <= cap) return records;
+  const old = records.length - keepRecent;
+  let w = 1;
+  for (let i = 1; i < old; i++) if (i % 2 === 0) records[w++] = records[i];
+  for (let i = old; i < records.length; i++) records[w++] = records[i];
+  records.length = w;
+  return records;
+}
+
+/** Most records a progress or final reply carries (an even sample of what was produced). */
+export const REPLY_SAMPLE = 100;
+
+/** Most records of a full trajectory sent to the page for display. */
+export const DISPLAY_RECORDS = 5000;
+
+/**
+ * An even sample of at most `max` records that always includes the first and the last.
+ * The page only draws and summarizes; the full trajectory stays in the worker.
+ */
+export function sampleRecords(records: readonly StepRecord[], max: number): StepRecord[] {
+  const n = records.length;
+  if (n <= max) return records.slice();
+  const out: StepRecord[] = [];
+  let last = -1;
+  for (let k = 0; k < max; k++) {
+    const i = Math.round((k * (n - 1)) / (max - 1));
+    if (i !== last) out.push(records[i]);
+    last = i;
+  }
+  return out;
+}

@@ -1,0 +1,163 @@
+/**
+ * The stepwell-cell journey in the real app, in headless Chromium: open the first demo
+ * notebook, insert a stepwell cell from the command palette, break its spec (inline error
+ * at the right line), fix it, run it, Step ×N, save, reload (step and trace persist,
+ * restored without re-running), Verify (bit-identical), and keep the page responsive
+ * during a long run that is then stopped. Screenshots go to test-output/.
+ */
+import type { Locator, Page } from 'playwright-core';
+import {
+  ensureBuilt,
+  launchBrowser,
+  openNotebook,
+  ourErrors,
+  runPaletteCommand,
+  screenshot,
+  startApp,
+  type IAppServer,
+  type IBrowserSession
+} from './harness';
+
+jest.setTimeout(300_000);
+
+let app: IAppServer;
+let browser: IBrowserSession;
+
+beforeAll(async () => {
+  ensureBuilt();
+  app = await startApp();
+  browser = await launchBrowser();
+});
+
+afterAll(async () => {
+  await browser?.close();
+  await app?.stop();
+});
+
+/** The status line text of a stepwell widget. */
+const status = (cell: Locator): Promise<string> => cell.locator('.sw-Status').innerText();
+
+/** Waits until a cell's status line says it is at `step`. */
+async function waitForStep(cell: Locator, step: number, timeout = 60_000): Promise<void> {
+  await cell.locator('.sw-Status', { hasText: new RegExp(`^step ${step} ·`) }).waitFor({ timeout });
+}
+
+/** Replaces the text of the editor line containing `needle` (after its indentation) by typing. */
+async function retypeLine(page: Page, cell: Locator, needle: string, text: string): Promise<void> {
+  await cell.locator('.cm-line', { hasText: needle }).first().click();
+  await page.keyboard.press('End');
+  await page.keyboard.press('Shift+Home');
+  await page.keyboard.type(text);
+}
+
+describe('stepwell cell in the browser', () => {
+  it('inserts, edits, steps, saves, reloads, verifies and stays responsive', async () => {
+    const page = browser.page;
+    await openNotebook(page, app.url);
+    const cells = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Notebook .jp-Cell');
+    // The demo opens where it was left, from its ledger: no engine needed to show step and trace.
+    const demoCell = page.locator('.sw-CellWidget').first();
+    await demoCell.waitFor();
+    expect(await status(demoCell)).toMatch(/^step \d+ · loss/);
+
+    // Insert a new stepwell cell below the first (markdown) cell, as a user would.
+    await cells.first().click();
+    await page.keyboard.press('Escape');
+    await runPaletteCommand(page, 'Insert Stepwell Cell');
+    const cell = cells.nth(1);
+    const widget = cell.locator('.sw-CellWidget');
+    await widget.waitFor({ timeout: 30_000 });
+    await waitForStep(cell, 0);
+    await screenshot(page, 'stepwell-1-inserted');
+
+    // Break the spec: the problem shows under the editor with the line number of the edit.
+    const source = await cell.locator('.cm-content').innerText();
+    const lrLine = source.split('\n').findIndex(l => /^\s*lr:/.test(l)) + 1;
+    expect(lrLine).toBeGreaterThan(0);
+    await retypeLine(page, cell, 'lr:', 'lr: -3');
+    const problem = cell.locator('.sw-Problem', { hasText: `line ${lrLine}` });
+    await problem.waitFor({ timeout: 10_000 });
+    expect(await problem.innerText()).toMatch(/lr/);
+    await cell.locator('.sw-Problem').first().scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-2-spec-error');
+    expect(await cell.locator('.sw-Button-step').isDisabled()).toBe(true);
+
+    // Fix it and run the cell: the engine starts a session from the edited text.
+    await retypeLine(page, cell, 'lr:', 'lr: 0.05');
+    await cell.locator('.sw-Problems').waitFor({ state: 'hidden', timeout: 10_000 });
+    await page.keyboard.press('Control+Enter');
+    await cell.locator('.sw-Status', { hasText: 'η=0.05' }).waitFor({ timeout: 30_000 });
+    await waitForStep(cell, 0);
+
+    // Step ×N with the default N (10): status and trace update.
+    await cell.locator('.sw-Button-stepN').click();
+    await waitForStep(cell, 10);
+    await cell.locator('.sw-TracePlot .scatterlayer .trace').first().waitFor({ timeout: 10_000 });
+    const points = await cell.locator('.sw-TracePlot .scatterlayer .trace .point').count();
+    expect(points).toBe(11);
+    const before = await status(cell);
+    expect(before).toMatch(/^step 10 · loss [\d.e-]+ · .* ms\/step · ledger [\d.]+ kB · sgd η=0\.05/);
+    await widget.scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-3-stepped');
+
+    // Save, reload: the cell comes back at step 10 with its trace, from the notebook alone.
+    await page.keyboard.press('Escape');
+    await page.keyboard.press('Control+s');
+    await page.locator('.jp-mod-dirty').waitFor({ state: 'detached', timeout: 20_000 }).catch(() => undefined);
+    await page.waitForTimeout(1000);
+    await openNotebook(page, app.url);
+    const again = cells.nth(1);
+    await again.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
+    await waitForStep(again, 10);
+    await again.locator('.sw-TracePlot .scatterlayer .trace .point').nth(10).waitFor({ timeout: 10_000 });
+    expect(await again.locator('.cm-content').innerText()).toContain('lr: 0.05');
+
+    // Verify replays from the seed in the worker.
+    await again.locator('.sw-Button-verify').click();
+    const verdict = again.locator('.sw-Notice', { hasText: 'bit-identical' });
+    await verdict.waitFor({ timeout: 30_000 });
+    expect(await verdict.innerText()).toContain('Replayed 10 steps from the seed: bit-identical');
+    await again.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-4-reloaded-verified');
+
+    // A long run must leave the main thread free: a page timer keeps firing while the worker steps.
+    await page.evaluate(() => {
+      const w = window as unknown as { swTicks: number[]; swTimer: number };
+      w.swTicks = [];
+      w.swTimer = window.setInterval(() => w.swTicks.push(performance.now()), 20);
+    });
+    await again.locator('.sw-StepN').fill('10000000');
+    await again.locator('.sw-Button-stepN').click();
+    await again.locator('.sw-Progress').waitFor({ state: 'visible', timeout: 10_000 });
+    await again.locator('.sw-Progress').scrollIntoViewIfNeeded();
+    await page.waitForTimeout(3000);
+    expect(await again.locator('.sw-Progress').isVisible()).toBe(true);
+    await screenshot(page, 'stepwell-5-long-run');
+    // Judge the run itself: the one-off save and redraw after Stop is not part of it.
+    const stopAt = await page.evaluate(() => performance.now());
+    await again.locator('.sw-Button-stop').click();
+    await again.locator('.sw-Notice', { hasText: 'Stopped at step' }).waitFor({ timeout: 30_000 });
+    const ticks = await page.evaluate(until => {
+      const w = window as unknown as { swTicks: number[]; swTimer: number };
+      window.clearInterval(w.swTimer);
+      return w.swTicks.filter(t => t <= until);
+    }, stopAt);
+    const span = ticks[ticks.length - 1] - ticks[0];
+    let worstGap = 0;
+    for (let i = 1; i < ticks.length; i++) worstGap = Math.max(worstGap, ticks[i] - ticks[i - 1]);
+    // The engine runs in a worker: the page's 20 ms timer keeps firing through a multi-second run.
+    // Lenient bounds (machines running this are often busy): at least half the expected ticks, and no
+    // single stall of half a second (a main-thread loop would stall for the whole run).
+    expect(span).toBeGreaterThan(2500);
+    expect(ticks.length).toBeGreaterThan(0.5 * (span / 20));
+    expect(worstGap).toBeLessThan(500);
+    const stopped = await status(again);
+    const step = Number(/^step (\d+)/.exec(stopped)?.[1]);
+    expect(step).toBeGreaterThan(10);
+    expect(step).toBeLessThan(10_000_010);
+    await again.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-6-stopped');
+
+    expect(ourErrors(browser)).toEqual([]);
+  });
+});
