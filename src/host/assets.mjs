@@ -148,6 +148,18 @@ export function writeContents(source = contentsSource()) {
   return notebooks.sort();
 }
 
+/**
+ * Plugin ids to switch off: the host's list plus, while the Stepwell plugin is bundled, the ones
+ * Stepwell's package.json names under `jupyterlab.disabledExtensions` (the same key a Jupyter
+ * server honours for an installed prebuilt extension).
+ */
+export function disabledPlugins(app) {
+  const own = fs.existsSync(path.join(ROOT, 'src', 'plugin', 'index.ts'))
+    ? (readPackageJson('.').pkg.jupyterlab || {}).disabledExtensions || []
+    : [];
+  return [...new Set([...app.disabled, ...own])];
+}
+
 /** The page config the app reads at start-up (see HOSTING.md for what each key does). */
 export function pageConfig(app) {
   const { pkg } = readPackageJson('.');
@@ -172,7 +184,7 @@ export function pageConfig(app) {
     settingsStorageName: 'Stepwell Storage',
     workspacesStorageName: 'Stepwell Storage',
     federated_extensions: [],
-    disabledExtensions: app.disabled,
+    disabledExtensions: disabledPlugins(app),
     deferredExtensions: [],
     exposeAppInBrowser: 'true',
     terminalsAvailable: 'false',

@@ -38,7 +38,8 @@ function readOne(dir) {
           version: pkg.version
         }))
     : [];
-  return { entry, dir: abs, schemas };
+  const disabled = Array.isArray(pkg.jupyterlab.disabledExtensions) ? pkg.jupyterlab.disabledExtensions : [];
+  return { entry, dir: abs, schemas, disabled };
 }
 
 /** The prebuilt extensions named by the environment (none when the variable is unset). */
@@ -47,13 +48,17 @@ export function readLabextensions(env = process.env) {
   return dirs.map(readOne);
 }
 
-/** The app page with `federated_extensions` set to the given entries. */
-export function withFederated(html, entries) {
+/**
+ * The app page with `federated_extensions` set to the given entries and the plugins they ask to
+ * switch off (`jupyterlab.disabledExtensions` of their package.json) added to `disabledExtensions`.
+ */
+export function withFederated(html, entries, disabled = []) {
   return html.replace(
     /(<script id="jupyter-config-data" type="application\/json">)([\s\S]*?)(<\/script>)/,
     (_m, open, json, close) => {
       const config = JSON.parse(json);
       config.federated_extensions = entries;
+      config.disabledExtensions = [...new Set([...(config.disabledExtensions || []), ...disabled])];
       return open + JSON.stringify(config, null, 2).replace(/</g, '\\u003c') + close;
     }
   );

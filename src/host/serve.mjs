@@ -101,7 +101,11 @@ function handler(root, labextensions) {
     }
     const file = extensionFile(urlPath, labextensions) ?? resolveFile(req.url || '/', root);
     if (labextensions.length && file === appPage && fs.existsSync(appPage)) {
-      const body = withFederated(fs.readFileSync(appPage, 'utf8'), labextensions.map(e => e.entry));
+      const body = withFederated(
+        fs.readFileSync(appPage, 'utf8'),
+        labextensions.map(e => e.entry),
+        labextensions.flatMap(e => e.disabled)
+      );
       res.writeHead(200, { 'Content-Type': TYPES['.html'], 'Cache-Control': 'no-store' }).end(body);
       return;
     }

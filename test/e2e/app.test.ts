@@ -200,6 +200,11 @@ describe('prebuilt (federated) extensions', () => {
       expect(await pluginStates(session.page, 'stepwell-host-federated-check:')).toEqual({
         'stepwell-host-federated-check:plugin': true
       });
+      // Its package.json asks for a core plugin to be switched off: the served page config did.
+      expect(await pluginStates(session.page, '@jupyterlab/help-extension:jupyter-forum')).toEqual({});
+      expect(await pluginStates(browser.page, '@jupyterlab/help-extension:jupyter-forum')).toEqual({
+        '@jupyterlab/help-extension:jupyter-forum': true
+      });
       expect(ourErrors(session)).toEqual([]);
     } finally {
       await session.close();

@@ -35,7 +35,19 @@ export async function buildFederatedCheck(out) {
   );
   fs.writeFileSync(
     path.join(out, 'package.json'),
-    JSON.stringify({ name: NAME, version: '0.0.1', jupyterlab: { _build: { load: 'static/remoteEntry.js', extension: './extension' } } }, null, 2)
+    JSON.stringify(
+      {
+        name: NAME,
+        version: '0.0.1',
+        jupyterlab: {
+          // Asks the app to switch a core plugin off, as Stepwell does with the cell executor.
+          disabledExtensions: ['@jupyterlab/help-extension:jupyter-forum'],
+          _build: { load: 'static/remoteEntry.js', extension: './extension' }
+        }
+      },
+      null,
+      2
+    )
   );
   return out;
 }
