@@ -4,6 +4,7 @@
  * Hutchinson's trace estimator. Pure numerics: no DOM, no JupyterLab.
  */
 export type { Tridiagonal, HouseholderReduction } from './householder';
+export type { TridiagonalizeOptions } from './householder';
 export { tridiagonalize, applyReflectors } from './householder';
 export type { TridiagonalEigen } from './tridiagonal';
 export { tridiagonalQL, tridiagonalEigen, gershgorinBounds, sturmCount, bisectEigenvalues, tridiagonalInverseIteration } from './tridiagonal';
