@@ -89,6 +89,9 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
   op(q, w);
   state.products++;
   let a = dot(q, w);
+  if (!Number.isFinite(a) || !Number.isFinite(dot(w, w))) {
+    throw new Error(`the operator returned a non-finite product at Lanczos step ${j + 1} (NaN or ±Infinity); the weights may have diverged`);
+  }
   subtractScaled(w, a, q);
   if (j > 0) subtractScaled(w, beta[j - 1], basis[j - 1]);
   a += reorthogonalize(w, basis, j);

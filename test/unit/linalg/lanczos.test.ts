@@ -71,6 +71,12 @@ describe('lanczosExtremes against the dense solver', () => {
     expect(r.largest[1].value).toBeCloseTo(5, 12);
   });
 
+  it('fails with an exact message when the operator returns NaN', () => {
+    expect(() => lanczosExtremes((_v, out) => out.fill(NaN), 10, Rng.fromSeed(1))).toThrow(
+      'the operator returned a non-finite product at Lanczos step 1 (NaN or ±Infinity); the weights may have diverged'
+    );
+  });
+
   it('stops after one product on the zero operator', () => {
     const r = lanczosExtremes((_v, out) => out.fill(0), 1000, Rng.fromSeed(1), { k: 3, which: 'both' });
     expect(r.stop).toBe('converged');

@@ -69,6 +69,9 @@ export function denseHessian(
     e[j] = 1;
     op.apply(e, col);
     e[j] = 0;
+    for (let i = 0; i < n; i++) {
+      if (!Number.isFinite(col[i])) throw new Error(`the ${kind} product of column ${j} is not finite (entry ${i} is ${col[i]}); the weights may have diverged`);
+    }
     // Column j of M stored as row j; symmetrization below makes the orientation irrelevant.
     m.set(col, j * n);
     if (reportProgress(options, { phase: 'dense-hessian', done: j + 1, total: n, products: j + 1 }) && j + 1 < n) {
