@@ -17,6 +17,10 @@ import { reportProgress, stopRequested } from './operator';
 import { lanczosStep, startKrylov } from './lanczos';
 import { tridiagonalQL } from './tridiagonal';
 
+// Math functions bound once: global lookups inside hot loops are slow when the code runs in a
+// vm context (as under jest), and binding them costs nothing elsewhere.
+const { ceil, exp, floor, max, min } = Math;
+
 /** Options of {@link spectralDensity}. */
 export interface DensityOptions extends IterationControl {
   /** Number of probe vectors (each a seeded normal vector, normalized). Default 8. */
@@ -76,7 +80,7 @@ export interface SpectralDensity {
  */
 export function spectralDensity(op: LinearOperator, n: number, rng: Rng, options: DensityOptions = {}): SpectralDensity {
   const probes = options.probes ?? 8;
-  const steps = Math.min(n, options.steps ?? 80);
+  const steps = min(n, options.steps ?? 80);
   const gridPoints = options.gridPoints ?? 512;
   const negativeCutoff = options.negativeCutoff ?? 1e-6;
   if (!Number.isInteger(probes) || probes < 1) throw new RangeError(`probes must be a positive integer, got ${probes}`);
@@ -126,11 +130,11 @@ function broaden(
   let lo = Infinity;
   let hi = -Infinity;
   for (const th of nodes) for (const t of th) {
-    lo = Math.min(lo, t);
-    hi = Math.max(hi, t);
+    lo = min(lo, t);
+    hi = max(hi, t);
   }
-  const scale = Math.max(Math.abs(lo), Math.abs(hi));
-  const sigma = options.sigma ?? (hi > lo ? 0.01 * (hi - lo) : Math.max(1e-3, 1e-3 * scale));
+  const scale = max(Math.abs(lo), Math.abs(hi));
+  const sigma = options.sigma ?? (hi > lo ? 0.01 * (hi - lo) : max(1e-3, 1e-3 * scale));
   if (!(sigma > 0)) throw new RangeError(`sigma must be positive, got ${sigma}`);
   const [g0, g1] = options.range ?? [lo - 5 * sigma, hi + 5 * sigma];
   if (!(g1 > g0)) throw new RangeError(`density range must satisfy low < high, got [${g0}, ${g1}]`);
@@ -146,11 +150,11 @@ function broaden(
     for (let j = 0; j < th.length; j++) {
       negative += w[j] * 0.5 * (1 + erf((cut - th[j]) / (sigma * Math.SQRT2)));
       // Skip kernel tails beyond 8σ (below 1e-14 of the peak).
-      const a = Math.max(0, Math.floor(((th[j] - 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
-      const b = Math.min(options.gridPoints - 1, Math.ceil(((th[j] + 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
+      const a = max(0, floor(((th[j] - 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
+      const b = min(options.gridPoints - 1, ceil(((th[j] + 8 * sigma - g0) / (g1 - g0)) * (options.gridPoints - 1)));
       for (let g = a; g <= b; g++) {
         const z = (grid[g] - th[j]) / sigma;
-        density[g] += w[j] * norm * Math.exp(-0.5 * z * z);
+        density[g] += w[j] * norm * exp(-0.5 * z * z);
       }
     }
   });

@@ -23,6 +23,10 @@
 import type { SimdKernel } from './simd';
 import { simdKernel, simdMemory } from './simd';
 
+// Math functions bound once: global lookups inside hot loops are slow when the code runs in a
+// vm context (as under jest), and binding them costs nothing elsewhere.
+const { abs, max, sqrt } = Math;
+
 /** Tridiagonal matrix: `diagonal[i]` = T[i, i]; `subdiagonal[i]` = T[i, i−1] (`subdiagonal[0]` = 0). */
 export interface Tridiagonal {
   readonly diagonal: Float64Array;
@@ -115,7 +119,7 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
     if (i === 0) break;
     // 2. Householder vector for x = A[i, 0..i−1], mapping x to α e_{i−1}.
     let scale = 0;
-    for (let j = 0; j < i; j++) scale = Math.max(scale, Math.abs(a[row + j]));
+    for (let j = 0; j < i; j++) scale = max(scale, abs(a[row + j]));
     let hi = 0;
     if (i === 1 || scale === 0) {
       e[i] = a[row + i - 1];
@@ -125,7 +129,7 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
         const t = a[row + j] / scale;
         ss += t * t;
       }
-      const sigma = scale * Math.sqrt(ss);
+      const sigma = scale * sqrt(ss);
       const last = a[row + i - 1];
       const alpha = last >= 0 ? -sigma : sigma;
       hi = sigma * sigma - alpha * last;
@@ -216,7 +220,7 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
 export function applyReflectors(red: HouseholderReduction, v: Float64Array, count: number): void {
   const { n, reflectors: a, h } = red;
   // Blocks of vectors small enough to stay in cache while every reflector streams past once.
-  const block = Math.max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * Math.max(1, n))));
+  const block = max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * max(1, n))));
   const kernel = count >= SIMD_MIN_VECTORS && n >= SIMD_MIN_ORDER ? simdKernel() : null;
   if (kernel !== null) {
     // Reflectors and vectors side by side in the kernel's memory; reflect(u, v, len, h) per pair.

@@ -20,6 +20,10 @@ import type { IterationControl, LinearOperator, StopReason } from './operator';
 import { normalizeInPlace, reportProgress, stopRequested, subtractScaled } from './operator';
 import { tridiagonalEigen, tridiagonalQL } from './tridiagonal';
 
+// Math functions bound once: global lookups inside hot loops are slow when the code runs in a
+// vm context (as under jest), and binding them costs nothing elsewhere.
+const { abs, max, sqrt } = Math;
+
 /** The growing Krylov basis and tridiagonal coefficients of one Lanczos run. */
 export interface KrylovState {
   readonly n: number;
@@ -97,10 +101,10 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
   a += reorthogonalize(w, basis, j);
   alpha.push(a);
   let scale = 0;
-  for (const x of alpha) scale = Math.max(scale, Math.abs(x));
-  for (const x of beta) scale = Math.max(scale, Math.abs(x));
-  const b = Math.sqrt(dot(w, w));
-  if (b > BREAKDOWN * Math.max(scale, b) && basis.length < n) {
+  for (const x of alpha) scale = max(scale, abs(x));
+  for (const x of beta) scale = max(scale, abs(x));
+  const b = sqrt(dot(w, w));
+  if (b > BREAKDOWN * max(scale, b) && basis.length < n) {
     for (let i = 0; i < n; i++) w[i] /= b;
     beta.push(b);
     basis.push(w);
@@ -218,11 +222,11 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
     lanczosStep(op, state, rng, true);
     const m = state.alpha.length;
     snap = ritzSnapshot(state);
-    scale = Math.max(Math.abs(snap.values[0]), Math.abs(snap.values[m - 1]));
+    scale = max(abs(snap.values[0]), abs(snap.values[m - 1]));
     const bm = state.beta[m - 1];
     const { top, bottom } = wantedIndices(m, k, which);
     const wanted = [...top, ...bottom];
-    const done = wanted.filter((i) => Math.abs(bm * snap.last[i]) <= tol * scale).length;
+    const done = wanted.filter((i) => abs(bm * snap.last[i]) <= tol * scale).length;
     // After a restart the new block needs its own steps before the ends can be trusted.
     const sinceRestart = m - (state.restarts.length > 0 ? state.restarts[state.restarts.length - 1] : 0);
     const settled = state.restarts.length === 0 ? m >= minIterations : sinceRestart >= Math.min(minIterations, n - m + sinceRestart);
@@ -268,7 +272,7 @@ function assemble(
   }
   const pair = (i: number): RitzPair => {
     const value = snap.values[i];
-    const residual = Math.abs(bm * snap.last[i]);
+    const residual = abs(bm * snap.last[i]);
     let gap = Infinity;
     if (i > 0) gap = Math.min(gap, value - snap.values[i - 1]);
     if (i + 1 < m) gap = Math.min(gap, snap.values[i + 1] - value);

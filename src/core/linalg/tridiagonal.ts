@@ -10,6 +10,10 @@
 import type { Tridiagonal } from './householder';
 import { simdKernel, simdMemory } from './simd';
 
+// Math functions bound once: global lookups inside hot loops are slow when the code runs in a
+// vm context (as under jest), and binding them costs nothing elsewhere.
+const { abs, max, min, sin, sqrt } = Math;
+
 /** Eigen-decomposition of a tridiagonal matrix: ascending values, optional vectors as rows. */
 export interface TridiagonalEigen {
   /** Eigenvalues in ascending order. */
@@ -56,8 +60,8 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
     for (;;) {
       let m = l;
       for (; m < n - 1; m++) {
-        const dd = Math.abs(d[m]) + Math.abs(d[m + 1]);
-        if (Math.abs(e[m]) <= EPS * dd) break;
+        const dd = abs(d[m]) + abs(d[m + 1]);
+        if (abs(e[m]) <= EPS * dd) break;
       }
       if (m === l) break;
       if (++sweeps > MAX_SWEEPS) {
@@ -65,7 +69,7 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
       }
       // Wilkinson shift: the eigenvalue of the leading 2×2 block of the active part closer to d[l].
       let g = (d[l + 1] - d[l]) / (2 * e[l]);
-      let r = Math.hypot(g, 1);
+      let r = pythag(g, 1);
       g = d[m] - d[l] + e[l] / (g + (g >= 0 ? r : -r));
       let s = 1;
       let c = 1;
@@ -75,7 +79,7 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
       for (; i >= l; i--) {
         const f = s * e[i];
         const b = c * e[i];
-        r = Math.hypot(f, g);
+        r = pythag(f, g);
         e[i + 1] = r;
         if (r === 0) {
           d[i + 1] -= p;
@@ -102,6 +106,19 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
   if (kernel !== null && vectors !== null && z !== null) vectors.set(z);
   sortAscending(d, vectors, n, cols);
   return d;
+}
+
+/** √(a² + b²) without overflow or harmful underflow (faster than the variadic Math.hypot). */
+function pythag(a: number, b: number): number {
+  const x = abs(a);
+  const y = abs(b);
+  if (x > y) {
+    const t = y / x;
+    return x * sqrt(1 + t * t);
+  }
+  if (y === 0) return 0;
+  const t = x / y;
+  return y * sqrt(1 + t * t);
 }
 
 /** Rows i, i+1 of Zᵀ ← the Givens rotation (c, s) of the QL step, over contiguous memory. */
@@ -146,9 +163,9 @@ export function gershgorinBounds(t: Tridiagonal): [number, number] {
   let lo = Infinity;
   let hi = -Infinity;
   for (let i = 0; i < n; i++) {
-    const r = (i > 0 ? Math.abs(e[i]) : 0) + (i + 1 < n ? Math.abs(e[i + 1]) : 0);
-    lo = Math.min(lo, d[i] - r);
-    hi = Math.max(hi, d[i] + r);
+    const r = (i > 0 ? abs(e[i]) : 0) + (i + 1 < n ? abs(e[i + 1]) : 0);
+    lo = min(lo, d[i] - r);
+    hi = max(hi, d[i] + r);
   }
   return [lo, hi];
 }
@@ -161,11 +178,11 @@ export function sturmCount(t: Tridiagonal, x: number, pivmin: number): number {
   const { diagonal: d, subdiagonal: e } = t;
   let count = 0;
   let q = d[0] - x;
-  if (Math.abs(q) < pivmin) q = -pivmin;
+  if (abs(q) < pivmin) q = -pivmin;
   if (q < 0) count++;
   for (let i = 1; i < d.length; i++) {
     q = d[i] - x - (e[i] * e[i]) / q;
-    if (Math.abs(q) < pivmin) q = -pivmin;
+    if (abs(q) < pivmin) q = -pivmin;
     if (q < 0) count++;
   }
   return count;
@@ -174,7 +191,7 @@ export function sturmCount(t: Tridiagonal, x: number, pivmin: number): number {
 /** Smallest pivot magnitude allowed in a Sturm count: safe minimum · max(1, max e²) (LAPACK's pivmin). */
 function pivotFloor(t: Tridiagonal): number {
   let m = 1;
-  for (let i = 1; i < t.subdiagonal.length; i++) m = Math.max(m, t.subdiagonal[i] * t.subdiagonal[i]);
+  for (let i = 1; i < t.subdiagonal.length; i++) m = max(m, t.subdiagonal[i] * t.subdiagonal[i]);
   return SAFE_MIN * m;
 }
 
@@ -188,7 +205,7 @@ export function bisectEigenvalues(t: Tridiagonal, first: number, last: number): 
     throw new RangeError(`eigenvalue indices must satisfy 0 <= first <= last < ${n}, got first=${first}, last=${last}`);
   }
   const [glo, ghi] = gershgorinBounds(t);
-  const span = Math.max(Math.abs(glo), Math.abs(ghi));
+  const span = max(abs(glo), abs(ghi));
   const pivmin = pivotFloor(t);
   const lo0 = glo - 2 * EPS * span - pivmin;
   const hi0 = ghi + 2 * EPS * span + pivmin;
@@ -199,13 +216,13 @@ export function bisectEigenvalues(t: Tridiagonal, first: number, last: number): 
     // Eigenvalue k is the smallest x with count(x) > k; lo never exceeds it (ascending order).
     for (let it = 0; it < 200; it++) {
       const mid = 0.5 * (lo + hi);
-      if (hi - lo <= 2 * EPS * Math.max(Math.abs(lo), Math.abs(hi)) + pivmin || mid === lo || mid === hi) break;
+      if (hi - lo <= 2 * EPS * max(abs(lo), abs(hi)) + pivmin || mid === lo || mid === hi) break;
       if (sturmCount(t, mid, pivmin) > k) hi = mid;
       else lo = mid;
     }
     out[k - first] = 0.5 * (lo + hi);
     // Next search starts just below this eigenvalue (a repeated eigenvalue yields the same point).
-    lo = Math.min(lo, out[k - first]);
+    lo = min(lo, out[k - first]);
   }
   return out;
 }
@@ -223,7 +240,7 @@ export function tridiagonalInverseIteration(t: Tridiagonal, values: Float64Array
   const k = values.length;
   const out = new Float64Array(k * n);
   const [glo, ghi] = gershgorinBounds(t);
-  const tnorm = Math.max(Math.abs(glo), Math.abs(ghi), Number.MIN_VALUE);
+  const tnorm = max(abs(glo), abs(ghi), Number.MIN_VALUE);
   const clusterGap = 1e-3 * tnorm;
   // LU storage: U has main u0, first and second superdiagonals u1, u2; multipliers ml; pivot flags.
   const u0 = new Float64Array(n);
@@ -242,7 +259,7 @@ export function tridiagonalInverseIteration(t: Tridiagonal, values: Float64Array
     previousShift = lambda;
     factorShifted(d, e, lambda, tnorm, u0, u1, u2, ml, swapped);
     // Deterministic, generic start vector (no component pattern aligned with T's structure).
-    for (let i = 0; i < n; i++) x[i] = 1 + 0.5 * Math.sin(1.7 * i + 0.3 * j + 1);
+    for (let i = 0; i < n; i++) x[i] = 1 + 0.5 * sin(1.7 * i + 0.3 * j + 1);
     for (let it = 0; it < 5; it++) {
       normalize(x);
       solveShifted(n, u0, u1, u2, ml, swapped, x);
@@ -274,7 +291,7 @@ function factorShifted(
   let b = n > 1 ? e[1] : 0;
   for (let i = 0; i < n; i++) {
     if (i === n - 1) {
-      u0[i] = Math.abs(a) < tiny ? tiny : a;
+      u0[i] = abs(a) < tiny ? tiny : a;
       u1[i] = 0;
       u2[i] = 0;
       swapped[i] = 0;
@@ -283,7 +300,7 @@ function factorShifted(
     const sub = e[i + 1];
     const nd = d[i + 1] - lambda;
     const nb = i + 2 < n ? e[i + 2] : 0;
-    if (Math.abs(sub) > Math.abs(a)) {
+    if (abs(sub) > abs(a)) {
       // Swap rows i and i+1 (partial pivoting).
       swapped[i] = 1;
       const m = a / sub;
@@ -295,7 +312,7 @@ function factorShifted(
       b = -m * nb;
     } else {
       swapped[i] = 0;
-      const piv = Math.abs(a) < tiny ? tiny : a;
+      const piv = abs(a) < tiny ? tiny : a;
       const m = sub / piv;
       ml[i] = m;
       u0[i] = piv;
@@ -333,14 +350,14 @@ function solveShifted(
   }
   // Rescale to keep the iterate representable when the shift is an eigenvalue to working precision.
   let m = 0;
-  for (let i = 0; i < n; i++) m = Math.max(m, Math.abs(x[i]));
+  for (let i = 0; i < n; i++) m = max(m, abs(x[i]));
   if (m > 0 && Number.isFinite(m)) for (let i = 0; i < n; i++) x[i] /= m;
 }
 
 function normalize(x: Float64Array): void {
   let s = 0;
   for (let i = 0; i < x.length; i++) s += x[i] * x[i];
-  const r = Math.sqrt(s);
+  const r = sqrt(s);
   if (r > 0) for (let i = 0; i < x.length; i++) x[i] /= r;
 }
 
