@@ -22,16 +22,18 @@ export function generateExtensionsModule() {
   const stepwellPlugin = path.join(ROOT, 'src', 'plugin', 'index.ts');
   const stepwellStyle = path.join(ROOT, 'style', 'index.css');
   if (fs.existsSync(stepwellStyle)) lines.push(`import ${JSON.stringify(stepwellStyle)};`);
-  const entry = (name, i, kind) => `  { name: ${JSON.stringify(name)}, load: () => import(/* webpackMode: "eager" */ ${JSON.stringify(name)}) }`;
+  // "eager": the package is part of the bundle's chunk graph, but each one still loads through its
+  // own promise, so one broken package is reported and the others start.
+  const entry = name => `  { name: ${JSON.stringify(name)}, load: () => import(/* webpackMode: "eager" */ ${JSON.stringify(name)}) }`;
   lines.push('export const extensions = [');
-  lines.push(app.extensions.map((n, i) => entry(n, i, 'ext')).join(',\n') + ',');
+  lines.push(app.extensions.map(entry).join(',\n') + ',');
   lines.push('  { name: "@stepwell/host", load: () => import(/* webpackMode: "eager" */ "stepwell-host-plugins") }' +
     (fs.existsSync(stepwellPlugin)
       ? `,\n  { name: "stepwell", load: () => import(/* webpackMode: "eager" */ ${JSON.stringify(stepwellPlugin)}) }`
       : ''));
   lines.push('];');
   lines.push('export const mimeExtensions = [');
-  lines.push(app.mimeExtensions.map((n, i) => entry(n, i, 'mime')).join(',\n'));
+  lines.push(app.mimeExtensions.map(entry).join(',\n'));
   lines.push('];');
   lines.push(`export const hasStepwellPlugin = ${fs.existsSync(stepwellPlugin)};`);
   fs.mkdirSync(GEN, { recursive: true });
