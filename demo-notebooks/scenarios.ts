@@ -55,9 +55,12 @@ export function parcelRows(seed: number, rows: number): Rows {
   return { x, y };
 }
 
-/** YAML flow list of rows, one row per line, indented. */
-export function yamlRows(x: number[][], indent: string): string {
-  return x.map(row => `${indent}- [${row.map(v => (v >= 0 ? ' ' : '') + v.toFixed(3)).join(', ')}]`).join('\n');
+/** YAML flow list of rows, `perLine` rows per line (compact enough to read the spec around it). */
+export function yamlFlowRows(x: number[][], indent: string, perLine: number): string {
+  const row = (r: number[]): string => `[${r.map(v => (v >= 0 ? ' ' : '') + v.toFixed(3)).join(', ')}]`;
+  const lines: string[] = [];
+  for (let i = 0; i < x.length; i += perLine) lines.push(x.slice(i, i + perLine).map(row).join(', '));
+  return `[${lines.join(`,\n${indent}`)}]`;
 }
 
 /** YAML flow list of targets, wrapped at ten per line. */
@@ -79,12 +82,10 @@ model:
     - { units: 1, activation: linear }
   init: lecun-normal
 data:
-  x:
-${yamlRows(train.x, '    ')}
+  x: ${yamlFlowRows(train.x, '     ', 5)}
   y: ${yamlTargets(train.y, '     ', 3)}
   heldOut:
-    x:
-${yamlRows(held.x, '      ')}
+    x: ${yamlFlowRows(held.x, '       ', 5)}
     y: ${yamlTargets(held.y, '       ', 3)}
 loss: mse
 recipe:
@@ -109,12 +110,10 @@ model:
   init: lecun-normal
   gain: ${gain}
 data:
-  x:
-${yamlRows(train.x, '    ')}
+  x: ${yamlFlowRows(train.x, '     ', 4)}
   y: ${yamlTargets(train.y, '     ', 0)}     # chute: 0 flats, 1 small parcels, 2 bulky
   heldOut:
-    x:
-${yamlRows(held.x, '      ')}
+    x: ${yamlFlowRows(held.x, '       ', 4)}
     y: ${yamlTargets(held.y, '       ', 0)}
 loss: cross-entropy
 recipe:

@@ -11,6 +11,8 @@ import { el } from '../ui/dom';
 import type { CellSummary } from '../ui/summary';
 import { PROXY_NOTE, STEPWELL_MIME, fmt, shortPrint } from '../ui/summary';
 import type { IStepwellCells } from './tokens';
+import type { CellController } from '../ui/controller';
+import { codeMirrorView, markProblems } from './editor-marks';
 
 /** Class added to the cell widget of a stepwell cell. */
 export const STEPWELL_CELL_CLASS = 'sw-mod-stepwell';
@@ -64,8 +66,27 @@ export class StepwellRenderer extends Widget implements IRenderMime.IRenderer {
     }
     cell.addClass(STEPWELL_CELL_CLASS);
     this.node.replaceChildren();
-    this.view = new StepwellCellWidget({ controller: this.cells.controllerFor(cell.model) });
+    const controller = this.cells.controllerFor(cell.model);
+    this.view = new StepwellCellWidget({ controller });
     layout.addWidget(this.view);
+    this.followProblems(cell, controller);
+  }
+
+  /** Mirrors the controller's spec problems as line marks in the cell's editor. */
+  private followProblems(cell: Cell, controller: CellController): void {
+    let shown = '';
+    const update = (): void => {
+      const problems = controller.state.problems;
+      const key = JSON.stringify(problems);
+      if (key === shown) return;
+      const view = codeMirrorView(cell.editor);
+      if (view === null) return;
+      shown = key;
+      markProblems(view, problems);
+    };
+    controller.changed.connect(update);
+    this.disposed.connect(() => controller.changed.disconnect(update));
+    update();
   }
 }
 

@@ -78,6 +78,10 @@ describe('stepwell cell in the browser', () => {
     const problem = cell.locator('.sw-Problem', { hasText: `line ${lrLine}` });
     await problem.waitFor({ timeout: 10_000 });
     expect(await problem.innerText()).toMatch(/lr/);
+    // The editor marks the same line.
+    const marked = cell.locator('.cm-line.sw-mod-problemLine');
+    await marked.waitFor({ timeout: 10_000 });
+    expect(await marked.innerText()).toContain('lr: -3');
     await cell.locator('.sw-Problem').first().scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-2-spec-error');
     expect(await cell.locator('.sw-Button-step').isDisabled()).toBe(true);
@@ -85,6 +89,7 @@ describe('stepwell cell in the browser', () => {
     // Fix it and run the cell: the engine starts a session from the edited text.
     await retypeLine(page, cell, 'lr:', 'lr: 0.05');
     await cell.locator('.sw-Problems').waitFor({ state: 'hidden', timeout: 10_000 });
+    expect(await cell.locator('.cm-line.sw-mod-problemLine').count()).toBe(0);
     await page.keyboard.press('Control+Enter');
     await cell.locator('.sw-Status', { hasText: 'η=0.05' }).waitFor({ timeout: 30_000 });
     await waitForStep(cell, 0);
