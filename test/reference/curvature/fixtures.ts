@@ -3,6 +3,7 @@
  * integer hash reproduced bit for bit on both sides), plus small helpers for the tests.
  */
 import golden from './golden.json';
+import type { Setup } from '../../../src/core/setup';
 
 export { golden };
 
@@ -173,4 +174,41 @@ export function maxRelativeError(x: ArrayLike<number>, y: ArrayLike<number>, flo
   let m = 0;
   for (let i = 0; i < y.length; i++) m = Math.max(m, Math.abs(x[i] - y[i]) / Math.max(Math.abs(y[i]), floor));
   return m;
+}
+
+/**
+ * The cross-entropy network of make_golden.py `ce_network_case` (8-24-24-3 tanh, softmax
+ * cross-entropy, 60 rows), rebuilt from the hash: the setup and the flat weights.
+ */
+export function crossEntropyNetwork(): { setup: Setup; w: Float64Array } {
+  const sizes = [8, 24, 24, 3];
+  const rows = 60;
+  const x = new Float64Array(rows * sizes[0]);
+  for (let r = 0; r < rows; r++) for (let c = 0; c < sizes[0]; c++) x[r * sizes[0] + c] = 2 * hashUniform(61, r, c);
+  const y = Float64Array.from({ length: rows }, (_, r) => Math.floor(3 * (hashUniform(62, r, 0) + 0.5)));
+  const flat: number[] = [];
+  for (let l = 0; l + 1 < sizes.length; l++) {
+    const fanIn = sizes[l];
+    const fanOut = sizes[l + 1];
+    const bound = Math.sqrt(3 / fanIn) * 2;
+    for (let o = 0; o < fanOut; o++) for (let i = 0; i < fanIn; i++) flat.push(bound * hashUniform(70 + l, o, i));
+    for (let o = 0; o < fanOut; o++) flat.push(0.2 * hashUniform(80 + l, o, 0));
+  }
+  const setup: Setup = {
+    model: {
+      kind: 'network',
+      inputs: sizes[0],
+      layers: [
+        { units: 24, activation: 'tanh' },
+        { units: 24, activation: 'tanh' },
+        { units: 3, activation: 'linear' },
+      ],
+      init: 'lecun-normal',
+      gain: 1,
+    },
+    data: { rows, inputs: sizes[0], targets: 1, x, y },
+    loss: 'cross-entropy',
+    l2: 0,
+  };
+  return { setup, w: Float64Array.from(flat) };
 }

@@ -201,6 +201,51 @@ def network_case():
     }
 
 
+def ce_network_case():
+    """8-24-24-3 tanh MLP with softmax cross-entropy on 60 invented rows (P = 891).
+
+    Nothing is stored but the results: fixtures.ts rebuilds the same weights and data from the hash
+    (x = 2u, class = floor(3(u + 1/2)), W = 2·sqrt(3/fan_in)·u, b = 0.2u)."""
+    sizes = [8, 24, 24, 3]
+    rows = 60
+    X = torch.tensor([[2.0 * hash_uniform(61, r, c) for c in range(sizes[0])] for r in range(rows)])
+    Y = torch.tensor([math.floor(3.0 * (hash_uniform(62, r, 0) + 0.5)) for r in range(rows)])
+    flat = []
+    for l, (fan_in, fan_out) in enumerate(zip(sizes[:-1], sizes[1:])):
+        bound = math.sqrt(3.0 / fan_in) * 2.0
+        flat.extend(bound * hash_uniform(70 + l, o, i) for o in range(fan_out) for i in range(fan_in))
+        flat.extend(0.2 * hash_uniform(80 + l, o, 0) for o in range(fan_out))
+    w0 = torch.tensor(flat)
+
+    def logits(w):
+        h, k = X, 0
+        for l, (fan_in, fan_out) in enumerate(zip(sizes[:-1], sizes[1:])):
+            W = w[k:k + fan_in * fan_out].reshape(fan_out, fan_in)
+            k += fan_in * fan_out
+            b = w[k:k + fan_out]
+            k += fan_out
+            a = h @ W.T + b
+            h = torch.tanh(a) if l < len(sizes) - 2 else a
+        return h
+
+    def loss(w):
+        return torch.nn.functional.cross_entropy(logits(w), Y)
+
+    H = torch.autograd.functional.hessian(loss, w0)
+    H = 0.5 * (H + H.T)
+    ev = torch.linalg.eigvalsh(H)
+    return {
+        "sizes": sizes,
+        "rows": rows,
+        "parameterCount": int(w0.numel()),
+        "loss": loss(w0).item(),
+        "top5": ev[-5:].flip(0).tolist(),
+        "bottom5": ev[:5].tolist(),
+        "trace": torch.trace(H).item(),
+        "eigenvalues": ev.tolist(),
+    }
+
+
 def main():
     out = {
         "generator": "test/reference/curvature/make_golden.py",
@@ -228,6 +273,7 @@ def main():
             "eigenvalues": ev.tolist(),
         }
     out["network"] = network_case()
+    out["crossEntropyNetwork"] = ce_network_case()
     with open(OUT, "w") as f:
         json.dump(out, f, indent=1)
         f.write("\n")

@@ -5,7 +5,7 @@ import { Rng } from '../../../src/core/rng';
 import { lanczosExtremes } from '../../../src/core/linalg/lanczos';
 import { hutchinsonTrace } from '../../../src/core/linalg/density';
 import { curvatureOperator, denseSpectrum, layerSharpness, lineProfile, measureCurvature } from '../../../src/core/probe/curvature';
-import { golden } from './fixtures';
+import { crossEntropyNetwork, golden } from './fixtures';
 
 // The network case of make_golden.py: a 4-16-16-1 tanh MLP (P = 369) with mse on 40 invented rows.
 // source for every expected value here: torch 1.13 float64, torch.autograd.functional.hessian /
@@ -106,6 +106,34 @@ describe('curvature of a tanh MLP against torch', () => {
     expect(prof.curvature).toBeCloseTo(top5[0], 10);
     const mid = net.profile.t.indexOf(0);
     expect(prof.quadratic[mid]).toBeCloseTo(net.loss, 13);
+  });
+});
+
+describe('curvature of a softmax cross-entropy MLP against torch (P = 891)', () => {
+  // source: torch 1.13 float64, torch.autograd.functional.hessian + torch.linalg.eigvalsh of
+  // F.cross_entropy on the same hash-built weights and data (make_golden.py ce_network_case).
+  const ce = golden.crossEntropyNetwork;
+  const { setup, w: wc } = crossEntropyNetwork();
+  const obj = buildObjective(setup);
+
+  it('has the golden parameter count and loss', () => {
+    expect(obj.parameterCount).toBe(ce.parameterCount);
+    expect(obj.value(wc)).toBeCloseTo(ce.loss, 13);
+  });
+
+  it('dense spectrum matches torch to 1e-12·max|λ| and the trace to 1e-10', () => {
+    const d = denseSpectrum(obj, wc);
+    const scale = Math.max(...ce.eigenvalues.map(Math.abs));
+    d.eigenvalues.forEach((x, i) => expect(Math.abs(x - ce.eigenvalues[i])).toBeLessThan(1e-12 * scale));
+    expect(d.eigenvalues.reduce((s, x) => s + x, 0)).toBeCloseTo(ce.trace, 10);
+  });
+
+  it('Lanczos top-5 and bottom-5 (indefinite) agree with torch to 1e-8 relative', () => {
+    const r = lanczosExtremes(curvatureOperator(obj, wc).apply, obj.parameterCount, Rng.fromSeed(9), { k: 5, which: 'both' });
+    expect(r.stop).toBe('converged');
+    expect(ce.bottom5[0]).toBeLessThan(0);
+    r.largest.forEach((p, i) => expect(Math.abs(p.value - ce.top5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ce.top5[i])));
+    r.smallest.forEach((p, i) => expect(Math.abs(p.value - ce.bottom5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ce.bottom5[i])));
   });
 });
 
