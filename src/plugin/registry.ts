@@ -63,8 +63,22 @@ export class StepwellCells implements IStepwellCells {
     const known = this.controllers.get(model);
     if (known !== undefined && !known.isDisposed) return known;
     if (model.type !== 'code') throw new Error('a stepwell cell must be a code cell');
+    // Our own ledger writes are not news; anyone else's (undo, a collaborator, a script) is.
+    const inner = this.host(model as ICodeCellModel);
+    let writing = false;
+    const host: CellHost = {
+      ...inner,
+      writeLedger: value => {
+        writing = true;
+        try {
+          inner.writeLedger(value);
+        } finally {
+          writing = false;
+        }
+      }
+    };
     const controller = new CellController({
-      host: this.host(model as ICodeCellModel),
+      host,
       engine: this.engine,
       ledger: ledgerGlue,
       checkSpec,
@@ -79,9 +93,16 @@ export class StepwellCells implements IStepwellCells {
       }, CHECK_DELAY_MS);
     };
     model.contentChanged.connect(onContent);
+    const onMetadata = (_: ICellModel, change: { key: string }): void => {
+      if (change.key === LEDGER_KEY && !writing && !controller.isDisposed && controller.state.busy === null) {
+        controller.readLedger();
+      }
+    };
+    model.metadataChanged.connect(onMetadata);
     const onDisposed = (): void => {
       if (timer !== null) clearTimeout(timer);
       model.contentChanged.disconnect(onContent);
+      model.metadataChanged.disconnect(onMetadata);
       controller.dispose();
       this.controllers.delete(model);
     };

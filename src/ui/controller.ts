@@ -83,10 +83,22 @@ export class CellController {
     switch (read.kind) {
       case 'absent':
         this.content = null;
-        this.set({ ledger: 'absent', ledgerMessage: undefined, problems: this.deps.checkSpec(source) });
+        this.engineInSync = false;
+        this.set({
+          ledger: 'absent',
+          ledgerMessage: undefined,
+          sessionSpec: null,
+          specEdited: false,
+          summary: null,
+          trajectory: [],
+          audit: null,
+          verify: null,
+          problems: this.deps.checkSpec(source)
+        });
         return;
       case 'corrupt':
         this.content = null;
+        this.engineInSync = false;
         this.set({
           ledger: 'corrupt',
           ledgerMessage: read.message,
@@ -108,6 +120,9 @@ export class CellController {
         this.set({
           ledger: 'ok',
           ledgerMessage: undefined,
+          audit: null,
+          verify: null,
+          notice: null,
           sessionSpec: read.content.specText,
           specEdited: source !== read.content.specText,
           summary: read.content.summary,

@@ -155,6 +155,28 @@ describe('CellController', () => {
     expect(cell.writes).toBe(1);
   });
 
+  it('follows a ledger changed from outside (an undo) and resumes from it', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    await c.run();
+    await c.step(5);
+    const at5 = JSON.parse(JSON.stringify(cell.metadata));
+    const print5 = c.state.summary?.fingerprint;
+    await c.step(3);
+    expect(c.state.summary?.step).toBe(8);
+    cell.metadata = at5;
+    c.readLedger();
+    expect(c.state.summary?.step).toBe(5);
+    expect(c.state.summary?.fingerprint).toBe(print5);
+    expect(await c.step(1)).toBe(true);
+    expect(c.state.summary?.step).toBe(6);
+    expect(await c.verify()).toBe(true);
+    cell.metadata = undefined;
+    c.readLedger();
+    expect(c.state.summary).toBeNull();
+    expect(c.state.trajectory).toEqual([]);
+  });
+
   it('uses our own mime type for the live widget', () => {
     expect(STEPWELL_MIME).toBe('application/vnd.stepwell.cell+json');
   });
