@@ -165,4 +165,49 @@ describe('stepwell cell in the browser', () => {
 
     expect(ourErrors(browser)).toEqual([]);
   });
+
+  it('walks the second demo: restored plateau, run the fix until a target loss, rewind, verify', async () => {
+    const page = browser.page;
+    await openNotebook(page, app.url.replace('greenhouse-humidity-sensor', 'parcel-sorter-plateau'));
+    const cells = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Notebook .jp-Cell');
+    // The plateau cell opens at step 100 from its ledger, and replays bit for bit.
+    const plateau = cells.nth(1);
+    await plateau.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
+    await waitForStep(plateau, 100);
+    await plateau.locator('.sw-Button-verify').click();
+    await plateau.locator('.sw-Notice', { hasText: 'Replayed 100 steps from the seed: bit-identical' }).waitFor({ timeout: 60_000 });
+
+    // The fixed recipe has no session yet: Shift+Enter starts it (no kernel involved).
+    const fixed = cells.nth(3);
+    await fixed.scrollIntoViewIfNeeded();
+    await fixed.locator('.jp-InputArea-editor').click();
+    await page.keyboard.press('Shift+Enter');
+    await fixed.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
+    await waitForStep(fixed, 0);
+    expect(await page.locator('.jp-Dialog').count()).toBe(0);
+
+    await fixed.locator('.sw-Button-until').click();
+    const form = fixed.locator('.sw-Form');
+    await form.locator('input').first().fill('0.3');
+    await form.locator('input').nth(1).fill('500');
+    await form.locator('button', { hasText: 'Run' }).click();
+    await fixed.locator('.sw-Notice', { hasText: 'Condition met at step' }).waitFor({ timeout: 60_000 });
+    const reached = Number(/^step (\d+)/.exec(await status(fixed))?.[1]);
+    expect(reached).toBeGreaterThan(0);
+    expect(reached).toBeLessThan(500);
+    const loss = Number(/loss ([\d.e-]+)/.exec(await status(fixed))?.[1]);
+    expect(loss).toBeLessThanOrEqual(0.3);
+
+    await fixed.locator('.sw-Button-rewind').click();
+    await fixed.locator('.sw-Form input').fill('7');
+    await fixed.locator('.sw-Form button', { hasText: 'Rewind' }).click();
+    await waitForStep(fixed, 7);
+    await fixed.locator('.sw-Button-verify').click();
+    await fixed.locator('.sw-Notice', { hasText: 'Replayed 7 steps from the seed: bit-identical' }).waitFor({ timeout: 30_000 });
+    await fixed.locator('.sw-Tab[data-tab="layers"]').click();
+    expect(await fixed.locator('.sw-Readout table tbody tr').count()).toBe(4);
+    await fixed.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-7-second-demo');
+    expect(ourErrors(browser)).toEqual([]);
+  });
 });
