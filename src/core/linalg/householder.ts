@@ -143,7 +143,9 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
       p.fill(0, 0, i);
       for (let j = 0; j < i; j++) cu[j] = a[row + j];
     }
-    for (let r = 0; r < i; r++) {
+    if (fuse && pendingSize > 0 && kernel !== null) {
+      kernel.sweep(0, 8 * n, puB, pqB, cuB, pB, i);
+    } else for (let r = 0; r < i; r++) {
       const rr = r * n;
       const vr = cu[r];
       if (pendingSize > 0) {

@@ -9,6 +9,9 @@
  * lanes at a time. Every operation is IEEE-754 double arithmetic (no fused multiply-add), so
  * results are deterministic; only the summation order differs from the scalar path.
  *
+ * `sweep` runs `fused` over all rows of one reduction step inside WebAssembly (one JS call per
+ * step instead of one per row, which alone made the reduction about 1.5× faster).
+ *
  * `rot` applies a Givens rotation to two contiguous rows (the QL eigenvector accumulation of
  * `tridiagonal.ts`) and `reflect` one Householder reflection to one vector (the back-transform of
  * `householder.ts`).
@@ -21,6 +24,11 @@
 export interface SimdKernel {
   readonly memory: WebAssembly.Memory;
   readonly fused: (a: number, pu: number, pq: number, cu: number, p: number, r: number, ur: number, qr: number, vr: number) => number;
+  /**
+   * One whole fused sweep of `householder.ts` step 3 over rows r < i of the row-major matrix at `a`
+   * (row stride `stride` bytes): `fused` on each row, then its diagonal and p[r] — no JS call per row.
+   */
+  readonly sweep: (a: number, stride: number, pu: number, pq: number, cu: number, p: number, i: number) => void;
   /** For k < len: (a[k], b[k]) ← (c·a[k] − s·b[k], s·a[k] + c·b[k]) (a Givens rotation of two rows). */
   readonly rot: (a: number, b: number, len: number, c: number, s: number) => void;
   /** v ← v − u·(uᵀv)/h over len entries (one Householder reflection of one vector). */
@@ -134,6 +142,27 @@ const REFLECT_BODY: number[] = [
   0x0b,
 ];
 
+// sweep params: 0 a, 1 stride, 2 pu, 3 pq, 4 cu, 5 p, 6 i (i32). locals: 7 r, 8 row (i32); 9 ur, 10 qr, 11 vr, 12 s, 13 dg (f64); 14 r8 (i32)
+const at8 = (base: number): number[] => [...get(base), ...get(14), ...I32_ADD];
+const F64_TWO = [0x44, 0, 0, 0, 0, 0, 0, 0, 0x40];
+const SWEEP_BODY: number[] = [
+  0x02, 0x40, 0x03, 0x40,
+  ...get(7), ...get(6), 0x4f, 0x0d, 0x01,
+  ...get(7), 0x41, 0x03, 0x74, ...set(14),
+  ...get(0), ...get(7), ...get(1), 0x6c, ...I32_ADD, ...set(8),
+  ...at8(2), ...F64_LOAD, ...set(9),
+  ...at8(3), ...F64_LOAD, ...set(10),
+  ...at8(4), ...F64_LOAD, ...set(11),
+  ...get(8), ...get(2), ...get(3), ...get(4), ...get(5), ...get(7), ...get(9), ...get(10), ...get(11), 0x10, 0x00, ...set(12),
+  ...at8(8), ...F64_LOAD, ...F64_TWO, ...get(9), ...F64_MUL, ...get(10), ...F64_MUL, ...F64_SUB, ...set(13),
+  ...at8(8), ...get(13), ...F64_STORE,
+  ...at8(5), ...at8(5), ...F64_LOAD, ...get(12), ...get(13), ...get(11), ...F64_MUL, ...F64_ADD, ...F64_ADD, ...F64_STORE,
+  ...get(7), 0x41, 0x01, ...I32_ADD, ...set(7),
+  0x0c, 0x00,
+  0x0b, 0x0b,
+  0x0b,
+];
+
 function uleb(n: number): number[] {
   const out: number[] = [];
   do {
@@ -156,16 +185,19 @@ function moduleBytes(): Uint8Array {
     0x60, 0x09, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x7c, 0x01, 0x7c, // fused
     0x60, 0x05, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x00, // rot
     0x60, 0x04, 0x7f, 0x7f, 0x7f, 0x7c, 0x00, // reflect
+    0x60, 0x07, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x00, // sweep
   ];
-  const func = [0x03, 0x00, 0x01, 0x02];
+  type[0] = 0x04;
+  const func = [0x04, 0x00, 0x01, 0x02, 0x03];
   const memory = [0x01, 0x00, 0x01];
-  const exports = [0x04, ...name('memory'), 0x02, 0x00, ...name('fused'), 0x00, 0x00, ...name('rot'), 0x00, 0x01, ...name('reflect'), 0x00, 0x02];
+  const exports = [0x05, ...name('memory'), 0x02, 0x00, ...name('fused'), 0x00, 0x00, ...name('rot'), 0x00, 0x01, ...name('reflect'), 0x00, 0x02, ...name('sweep'), 0x00, 0x03];
   const bodies = [
     [0x03, 0x02, 0x7f, 0x05, 0x7b, 0x01, 0x7c, ...BODY],
     [0x03, 0x02, 0x7f, 0x04, 0x7b, 0x02, 0x7c, ...ROT_BODY],
     [0x03, 0x02, 0x7f, 0x02, 0x7b, 0x01, 0x7c, ...REFLECT_BODY],
+    [0x03, 0x02, 0x7f, 0x05, 0x7c, 0x01, 0x7f, ...SWEEP_BODY],
   ];
-  const code = [0x03, ...bodies.flatMap((b) => [...uleb(b.length), ...b])];
+  const code = [0x04, ...bodies.flatMap((b) => [...uleb(b.length), ...b])];
   return Uint8Array.from([
     0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00,
     ...section(1, type),
@@ -189,7 +221,8 @@ export function simdKernel(): SimdKernel | null {
     const fused = instance.exports.fused as SimdKernel['fused'];
     const rot = instance.exports.rot as SimdKernel['rot'];
     const reflect = instance.exports.reflect as SimdKernel['reflect'];
-    cached = { memory, fused, rot, reflect };
+    const sweep = instance.exports.sweep as SimdKernel['sweep'];
+    cached = { memory, fused, rot, reflect, sweep };
   } catch {
     cached = null;
   }
