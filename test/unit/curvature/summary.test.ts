@@ -1,5 +1,5 @@
 import { denseHessian } from '../../../src/core/probe/curvature/dense';
-import { CURVATURE_CAVEAT, measureCurvature } from '../../../src/core/probe/curvature/summary';
+import { CANCELLED, CURVATURE_CAVEAT, measureCurvature } from '../../../src/core/probe/curvature/summary';
 import { Rosenbrock } from '../../../src/core/model/analytic';
 import type { Objective } from '../../../src/core/objective';
 import { Rng } from '../../../src/core/rng';
@@ -95,6 +95,15 @@ describe('curvatureSummary on a quadratic with a chosen indefinite spectrum', ()
     expect(rep.summary.conditionNumber as number).toBeCloseTo(18, 8);
     expect(rep.summary.trace).toBeNull();
     expect(rep.summary.negativeShare).toBeNull();
+  });
+
+  it('cancellation: partial Lanczos results are returned, an empty or dense run throws CANCELLED', () => {
+    const partial = measureCurvature(objective, w, recipe(), Rng.fromSeed(1), { method: 'lanczos', onProgress: (p) => !(p.phase === 'lanczos' && p.done >= 3) });
+    expect(partial.spectrum.stop).toBe('cancelled');
+    expect(partial.spectrum.density).toBeNull();
+    expect(partial.summary.trace).toBeNull();
+    expect(() => measureCurvature(objective, w, recipe(), Rng.fromSeed(1), { method: 'lanczos', shouldStop: () => true })).toThrow(CANCELLED);
+    expect(() => measureCurvature(objective, w, recipe(), Rng.fromSeed(1), { onProgress: (p) => p.done < 2 })).toThrow(CANCELLED);
   });
 
   it('Gauss-Newton kind is passed through to the products', () => {

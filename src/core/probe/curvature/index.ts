@@ -10,7 +10,7 @@ export { DENSE_LIMIT, denseHessian, denseSpectrum } from './dense';
 export type { StabilityRule, StabilityFactor, StabilityBound, StepMetric } from './stability';
 export { stabilityFactor, stabilityBound, preconditionerDiagonal, stepMetric } from './stability';
 export type { CurvatureSpectrum, CurvatureSummary, SummaryOptions, MeasureOptions, CurvatureReport } from './summary';
-export { DEFAULT_CUTOFF, CURVATURE_CAVEAT, spectrumFromDense, spectrumFromLanczos, curvatureSummary, measureCurvature } from './summary';
+export { DEFAULT_CUTOFF, CURVATURE_CAVEAT, CANCELLED, spectrumFromDense, spectrumFromLanczos, curvatureSummary, measureCurvature } from './summary';
 export type { LayerSharpness, LayerSharpnessOptions } from './layers';
 export { layerSharpness } from './layers';
 export type { SteppableSession, SharpnessRecord, TrackOptions, SharpnessTrace } from './trajectory';

@@ -225,6 +225,9 @@ export interface MeasureOptions extends IterationControl {
   cutoff?: number;
 }
 
+/** The message of the error {@link measureCurvature} throws when cancelled before any eigenvalue exists. */
+export const CANCELLED = 'curvature measurement was cancelled before any eigenvalue was available';
+
 /** Spectrum plus summary. */
 export interface CurvatureReport {
   readonly spectrum: CurvatureSpectrum;
@@ -236,6 +239,10 @@ export interface CurvatureReport {
  * when P ≤ denseLimit (default 2000), else Lanczos (both ends), SLQ density and Hutchinson trace.
  * When the step metric is not the plain Hessian, one more top-1 Lanczos (or dense) solve on
  * D^{1/2}(M + sI)D^{1/2} gives the sharpness the stability bound uses.
+ *
+ * A run cancelled part-way returns what it has (`spectrum.stop` = `cancelled`, unconverged values
+ * carry their error bounds; density and trace are skipped); cancelled before the first eigenvalue
+ * (or during the dense Hessian) it throws {@link CANCELLED}.
  *
  * @param rng - seeded generator; sub-streams `lanczos`, `density`, `trace`, `step-metric` are forked from it.
  */
@@ -249,14 +256,17 @@ export function measureCurvature(objective: Objective, w: Float64Array, recipe: 
   let spectrum: CurvatureSpectrum;
   if (useDense) {
     const d = denseSpectrum(objective, w, options.rows, kind, { limit: denseLimit, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    if (d.stop === 'cancelled') throw new Error(CANCELLED);
     spectrum = spectrumFromDense(d, kind, k, options.cutoff);
   } else {
     const op = curvatureOperator(objective, w, { rows: options.rows, kind });
     const l = lanczosExtremes(op.apply, p, rng.fork('lanczos'), { k, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    if (l.largest.length === 0) throw new Error(CANCELLED);
     const densityOptions = options.density === false ? null : { probes: 4, steps: 40, negativeCutoff: options.cutoff, ...options.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
     const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(op.apply, p, rng.fork('density'), densityOptions);
     const probes = options.traceProbes ?? 32;
-    const trace = probes === 0 || l.stop === 'cancelled' ? null : hutchinsonTrace(op.apply, p, rng.fork('trace'), { probes, onProgress: options.onProgress, shouldStop: options.shouldStop });
+    const skipTrace = probes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
+    const trace = skipTrace ? null : hutchinsonTrace(op.apply, p, rng.fork('trace'), { probes, onProgress: options.onProgress, shouldStop: options.shouldStop });
     spectrum = spectrumFromLanczos(p, kind, l, density, trace);
   }
   let stepSharpness: SummaryOptions['stepSharpness'];
