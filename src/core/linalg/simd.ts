@@ -31,6 +31,11 @@ export interface SimdKernel {
   readonly sweep: (a: number, stride: number, pu: number, pq: number, cu: number, p: number, i: number) => void;
   /** For k < len: (a[k], b[k]) ← (c·a[k] − s·b[k], s·a[k] + c·b[k]) (a Givens rotation of two rows). */
   readonly rot: (a: number, b: number, len: number, c: number, s: number) => void;
+  /**
+   * The rotations of one QL sweep, deferred and applied together: for i = hi down to lo,
+   * `rot` on rows i and i+1 (row stride `stride` bytes, `cols` entries) with c[i], s[i].
+   */
+  readonly rotSweep: (z: number, stride: number, cols: number, c: number, s: number, lo: number, hi: number) => void;
   /** v ← v − u·(uᵀv)/h over len entries (one Householder reflection of one vector). */
   readonly reflect: (u: number, v: number, len: number, h: number) => void;
 }
@@ -163,6 +168,23 @@ const SWEEP_BODY: number[] = [
   0x0b,
 ];
 
+// rotSweep params: 0 z, 1 stride, 2 cols, 3 c, 4 s, 5 lo, 6 hi (i32). locals: 7 i, 8 row, 9 i8 (i32)
+const ROT_SWEEP_BODY: number[] = [
+  ...get(6), ...set(7),
+  0x02, 0x40, 0x03, 0x40,
+  ...get(7), ...get(5), 0x48, 0x0d, 0x01,
+  ...get(7), 0x41, 0x03, 0x74, ...set(9),
+  ...get(0), ...get(7), ...get(1), 0x6c, ...I32_ADD, ...set(8),
+  ...get(8), ...get(8), ...get(1), ...I32_ADD, ...get(2),
+  ...get(3), ...get(9), ...I32_ADD, ...F64_LOAD,
+  ...get(4), ...get(9), ...I32_ADD, ...F64_LOAD,
+  0x10, 0x01,
+  ...get(7), 0x41, 0x01, 0x6b, ...set(7),
+  0x0c, 0x00,
+  0x0b, 0x0b,
+  0x0b,
+];
+
 function uleb(n: number): number[] {
   const out: number[] = [];
   do {
@@ -185,19 +207,28 @@ function moduleBytes(): Uint8Array {
     0x60, 0x09, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x7c, 0x01, 0x7c, // fused
     0x60, 0x05, 0x7f, 0x7f, 0x7f, 0x7c, 0x7c, 0x00, // rot
     0x60, 0x04, 0x7f, 0x7f, 0x7f, 0x7c, 0x00, // reflect
-    0x60, 0x07, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x00, // sweep
+    0x60, 0x07, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x7f, 0x00, // sweep, rotSweep
   ];
   type[0] = 0x04;
-  const func = [0x04, 0x00, 0x01, 0x02, 0x03];
+  const func = [0x05, 0x00, 0x01, 0x02, 0x03, 0x03];
   const memory = [0x01, 0x00, 0x01];
-  const exports = [0x05, ...name('memory'), 0x02, 0x00, ...name('fused'), 0x00, 0x00, ...name('rot'), 0x00, 0x01, ...name('reflect'), 0x00, 0x02, ...name('sweep'), 0x00, 0x03];
+  const exports = [
+    0x06,
+    ...name('memory'), 0x02, 0x00,
+    ...name('fused'), 0x00, 0x00,
+    ...name('rot'), 0x00, 0x01,
+    ...name('reflect'), 0x00, 0x02,
+    ...name('sweep'), 0x00, 0x03,
+    ...name('rotSweep'), 0x00, 0x04,
+  ];
   const bodies = [
     [0x03, 0x02, 0x7f, 0x05, 0x7b, 0x01, 0x7c, ...BODY],
     [0x03, 0x02, 0x7f, 0x04, 0x7b, 0x02, 0x7c, ...ROT_BODY],
     [0x03, 0x02, 0x7f, 0x02, 0x7b, 0x01, 0x7c, ...REFLECT_BODY],
     [0x03, 0x02, 0x7f, 0x05, 0x7c, 0x01, 0x7f, ...SWEEP_BODY],
+    [0x01, 0x03, 0x7f, ...ROT_SWEEP_BODY],
   ];
-  const code = [0x04, ...bodies.flatMap((b) => [...uleb(b.length), ...b])];
+  const code = [0x05, ...bodies.flatMap((b) => [...uleb(b.length), ...b])];
   return Uint8Array.from([
     0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00,
     ...section(1, type),
@@ -222,7 +253,8 @@ export function simdKernel(): SimdKernel | null {
     const rot = instance.exports.rot as SimdKernel['rot'];
     const reflect = instance.exports.reflect as SimdKernel['reflect'];
     const sweep = instance.exports.sweep as SimdKernel['sweep'];
-    cached = { memory, fused, rot, reflect, sweep };
+    const rotSweep = instance.exports.rotSweep as SimdKernel['rotSweep'];
+    cached = { memory, fused, rot, reflect, sweep, rotSweep };
   } catch {
     cached = null;
   }

@@ -48,8 +48,14 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
   // Long rows rotate in the SIMD kernel's memory (`rot`, two doubles per instruction).
   const kernel = vectors !== null && cols >= 32 ? simdKernel() : null;
   let z = vectors;
+  // With the kernel, a sweep's rotations are recorded in rc/rs and applied in one call (rotSweep).
+  let rc = new Float64Array(0);
+  let rs = rc;
   if (kernel !== null && vectors !== null) {
-    z = new Float64Array(simdMemory(kernel, 8 * n * cols), 0, n * cols);
+    const buf = simdMemory(kernel, 8 * (n * cols + 2 * n));
+    z = new Float64Array(buf, 0, n * cols);
+    rc = new Float64Array(buf, 8 * n * cols, n);
+    rs = new Float64Array(buf, 8 * (n * cols + n), n);
     z.set(vectors.subarray(0, n * cols));
   }
   // Internal layout: e[i] couples i and i+1.
@@ -94,9 +100,13 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
         p = s * r;
         d[i + 1] = g + p;
         g = c * r - b;
-        if (kernel !== null) kernel.rot(8 * i * cols, 8 * (i + 1) * cols, cols, c, s);
-        else if (z !== null) rotateRows(z, cols, i, c, s);
+        if (kernel !== null) {
+          rc[i] = c;
+          rs[i] = s;
+        } else if (z !== null) rotateRows(z, cols, i, c, s);
       }
+      // Rotations m−1 … i+1 were formed (i+1 = l after a full sweep, or just above a deflation).
+      if (kernel !== null && i + 1 <= m - 1) kernel.rotSweep(0, 8 * cols, cols, rc.byteOffset, rs.byteOffset, i + 1, m - 1);
       if (deflated) continue;
       d[l] -= p;
       e[l] = g;
