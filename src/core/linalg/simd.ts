@@ -1,6 +1,6 @@
 /**
- * A WebAssembly SIMD (f64x2) kernel for the O(n³) inner loop of the Householder
- * tridiagonalization, hand-assembled from the instruction encoding of the WebAssembly core
+ * WebAssembly SIMD (f64x2) kernels for the O(n³) loops of the dense eigen-solver,
+ * hand-assembled from the instruction encoding of the WebAssembly core
  * specification 2.0 (§5, binary format; SIMD opcodes 0xFD-prefixed).
  *
  * `fused(a, pu, pq, cu, p, r, ur, qr, vr)` works on byte addresses into the module's memory; for
@@ -13,7 +13,8 @@
  * step instead of one per row, which alone made the reduction about 1.5× faster).
  *
  * `rot` applies a Givens rotation to two contiguous rows (the QL eigenvector accumulation of
- * `tridiagonal.ts`) and `reflect` one Householder reflection to one vector (the back-transform of
+ * `tridiagonal.ts`), `rotSweep` all rotations of one QL sweep in one call, and `reflect` one
+ * Householder reflection to one vector (the back-transform of
  * `householder.ts`).
  *
  * When the engine lacks WebAssembly SIMD, {@link simdKernel} returns null and callers use the
