@@ -2,9 +2,9 @@
 import { buildObjective, initialParameters } from '../core/build';
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
-import { symmetricEigen } from '../core/linalg/symmetric-eigen';
-import type { Objective } from '../core/objective';
-import { CliError, loadExperiment, positiveInt, readVector } from './io';
+import { spectralDensity } from '../core/linalg';
+import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
+import { loadExperiment, positiveInt, readVector } from './io';
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
@@ -15,25 +15,6 @@ export interface InspectFlags {
   trace?: boolean;
   density?: boolean;
   set?: string[];
-}
-
-/** Largest P for which `inspect` assembles the dense Hessian. */
-export const DENSE_LIMIT = 2000;
-
-/** The dense Hessian from P exact Hessian-vector products, symmetrized as (H + Hᵀ)/2. */
-function assembleHessian(objective: Objective, w: Float64Array): Float64Array {
-  const p = objective.parameterCount;
-  const h = new Float64Array(p * p);
-  const e = new Float64Array(p);
-  const col = new Float64Array(p);
-  for (let j = 0; j < p; j++) {
-    e[j] = 1;
-    objective.hvp(w, e, col);
-    e[j] = 0;
-    for (let i = 0; i < p; i++) h[i * p + j] = col[i];
-  }
-  for (let i = 0; i < p; i++) for (let j = 0; j < i; j++) { const s = 0.5 * (h[i * p + j] + h[j * p + i]); h[i * p + j] = s; h[j * p + i] = s; }
-  return h;
 }
 
 /** Runs the command and returns its output text. */
@@ -53,12 +34,28 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
   }
   const top = positiveInt(flags.top, '--top', 0);
   const bottom = positiveInt(flags.bottom, '--bottom', 0);
-  if (top > 0 || bottom > 0) {
-    if (P > DENSE_LIMIT) throw new CliError(`--top/--bottom use the dense Hessian, limited to ${DENSE_LIMIT} parameters; this model has ${P}`);
-    const values = symmetricEigen(assembleHessian(objective, w), P).values; // ascending
-    if (top > 0) out.eigenvalues = Array.from(values).reverse().slice(0, top);
-    if (bottom > 0) out.bottomEigenvalues = Array.from(values).slice(0, bottom);
-    out.eigenMethod = 'dense';
+  const probeRng = Rng.fromSeed(experiment.seed).fork('probe');
+  if (top > 0 || bottom > 0 || flags.trace) {
+    // Dense spectrum up to the dense limit, Lanczos with residual bounds beyond it.
+    const k = Math.max(top, bottom, 1);
+    const { spectrum, summary } = measureCurvature(objective, w, experiment.recipe, probeRng.fork('spectrum'), {
+      k, density: false, traceProbes: flags.trace ? 32 : 0,
+    });
+    out.eigenMethod = spectrum.method;
+    if (top > 0) {
+      out.eigenvalues = spectrum.top.slice(0, top);
+      out.eigenvalueErrorBounds = spectrum.topBounds.slice(0, top);
+    }
+    if (bottom > 0) {
+      out.bottomEigenvalues = spectrum.bottom.slice(0, bottom);
+      out.bottomEigenvalueErrorBounds = spectrum.bottomBounds.slice(0, bottom);
+    }
+    if (flags.trace && spectrum.trace) out.trace = { value: spectrum.trace.value, standardError: spectrum.trace.standardError, method: spectrum.trace.method };
+    out.stability = { ...summary.stability, caveat: summary.caveat };
+  }
+  if (flags.density) {
+    const d = spectralDensity(curvatureOperator(objective, w).apply, P, probeRng.fork('density'));
+    out.density = { grid: Array.from(d.grid), density: Array.from(d.density), sigma: d.sigma, mean: d.mean, probes: d.probes, method: 'stochastic Lanczos quadrature' };
   }
   const audit = auditGradient(objective, w, { rng: Rng.fromSeed(experiment.seed).fork('audit') });
   out.gradcheck = {
@@ -71,7 +68,9 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
     `gradient audit: ${audit.verdict} (max relative error ${audit.maxRelError.toExponential(2)} over ${audit.checked}${audit.sampled ? ' sampled' : ''} parameters)`,
     ...audit.layers.map((l) => `  layer ${l.layer}: max ${l.maxRelError.toExponential(2)}, median ${l.medianRelError.toExponential(2)}, ${l.verdict}`),
   ];
-  if (out.eigenvalues) lines.push(`top eigenvalues: ${(out.eigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
+  if (out.eigenvalues) lines.push(`top eigenvalues (${String(out.eigenMethod)}): ${(out.eigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
   if (out.bottomEigenvalues) lines.push(`bottom eigenvalues: ${(out.bottomEigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
+  if (out.trace) { const t = out.trace as { value: number; standardError: number; method: string }; lines.push(`trace: ${t.value.toPrecision(6)} ± ${t.standardError.toPrecision(2)} (${t.method})`); }
+  if (out.stability) { const st = out.stability as { largestStableLr: number | null; margin: number | null; formula: string; caveat: string }; lines.push(`largest stable learning rate: ${st.largestStableLr === null ? 'no fixed limit' : st.largestStableLr.toPrecision(4)} (${st.formula}); stability margin ${st.margin === null ? '-' : st.margin.toPrecision(3)}`, st.caveat); }
   return lines.join('\n') + '\n';
 }

@@ -10,6 +10,8 @@ import { runCommand } from './run';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
+    --top/--bottom: extreme Hessian eigenvalues, dense up to 2000 parameters, Lanczos (with error bounds) beyond
+    --trace: tr(H), exact when dense, Hutchinson with its standard error otherwise; --density: SLQ spectral density
   stepwell run SPEC --steps N [--json] [--until COND] [--set KEY=VALUE ...] [--branch STEP:KEY=VALUE[,...]] [--replay]
     COND: loss<VALUE | grad<VALUE | diverged
     --branch forks a branch at STEP with changed recipe keys and runs it to the same step count

@@ -130,3 +130,35 @@ describe('stepwell run --branch and --replay', () => {
     expect(s.err).toMatch(/--branch must be STEP:KEY=VALUE/);
   });
 });
+
+describe('stepwell inspect: curvature flags', () => {
+  it('reports the exact spectrum, trace and stable learning rate of a quadratic', async () => {
+    // A diagonal quadratic with chosen eigenvalues 9, 4, 1, −0.5 (invented spectrum).
+    const q = file('quad4.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[9,0,0,0],[0,4,0,0],[0,0,1,0],[0,0,0,-0.5]], start: [1,1,1,1] }\nrecipe: { optimizer: sgd, lr: 0.1 }\n');
+    const o = JSON.parse((await cli('inspect', q, '--json', '--top', '2', '--bottom', '1', '--trace')).out);
+    // source: eigenvalues of a diagonal matrix are its entries; trace is their sum (common practice)
+    expect(o.eigenMethod).toBe('dense');
+    expect(o.eigenvalues[0]).toBeCloseTo(9, 12);
+    expect(o.eigenvalues[1]).toBeCloseTo(4, 12);
+    expect(o.bottomEigenvalues[0]).toBeCloseTo(-0.5, 12);
+    expect(o.trace.value).toBeCloseTo(13.5, 12);
+    // source: CHECKS.md / Nocedal & Wright ch. 3: gradient descent is stable iff η < 2/λmax = 2/9; margin η·λmax/2 = 0.45
+    expect(o.stability.largestStableLr).toBeCloseTo(2 / 9, 12);
+    expect(o.stability.margin).toBeCloseTo(0.45, 12);
+  });
+
+  it('switches to Lanczos with error bounds above the dense limit, and gives a density that integrates to 1', async () => {
+    // 20 inputs → 100 tanh → 1: P = 2 201 > 2 000 (invented rows).
+    const rows = Array.from({ length: 6 }, (_, i) => Array.from({ length: 20 }, (_, j) => Math.sin(i * 3 + j)));
+    const big = file('big.json', JSON.stringify({ seed: 2, model: { inputs: 20, layers: [{ units: 100, activation: 'tanh' }, { units: 1, activation: 'linear' }] }, data: { x: rows, y: rows.map((r) => [r[0]]) }, recipe: { optimizer: 'sgd', lr: 0.1 } }));
+    const o = JSON.parse((await cli('inspect', big, '--json', '--top', '2', '--density')).out);
+    expect(o.parameterCount).toBe(2201);
+    expect(o.eigenMethod).toBe('lanczos');
+    // source: Golub & Van Loan 4th ed. ch. 10: the Ritz residual |β_m s_mi| bounds the eigenvalue error
+    expect(o.eigenvalueErrorBounds[0]).toBeLessThan(1e-6 * Math.abs(o.eigenvalues[0]));
+    const step = o.density.grid[1] - o.density.grid[0];
+    const mass = o.density.density.reduce((s: number, x: number) => s + x * step, 0);
+    // source: Ubaru, Chen & Saad 2017: SLQ quadrature weights sum to 1 per probe, so the broadened density integrates to ~1
+    expect(mass).toBeCloseTo(1, 2);
+  });
+});
