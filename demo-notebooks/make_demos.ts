@@ -126,6 +126,10 @@ async function greenhouse(): Promise<NbCell[]> {
   const turn = records.find(r => r.step > lowest.step && r.loss > 10 * lowest.loss);
   if (blow === 0 || turn === undefined) throw new Error('greenhouse: η = 0.9 no longer diverges within 60 steps');
   const atBlow = records[blow - 1];
+  const atBlowSession = session(badSpec);
+  atBlowSession.step(blow);
+  const lBlow = lambdaMax(atBlowSession);
+  if (!(lBlow > 2 / bad)) throw new Error('greenhouse: λmax at the divergence is no longer above 2/η');
   if (!atBlow.layers.every(l => l.updateRatio > 0.1)) throw new Error('greenhouse: the update ratios at the divergence are no longer large');
   if (bad * l0 / 2 <= 1 || good * l0 / 2 >= 1) throw new Error('greenhouse: the stability story no longer holds at step 0');
   const fixed = session(goodSpec);
@@ -154,11 +158,11 @@ that the stored trajectory is reproduced bit for bit.
   run stopped. (Stepping on, it reaches ${last.loss.toExponential(1)} by step 60.)
 * **Layers**: at step ${blow} the update ratios ‖ΔW‖/‖W‖ of the two layers are ${ratios(atBlow)}, far above the
   usual 1e-3 (a rule of thumb): each step changes the weights by about their own size or more.
-* **Curvature** (this readout is coming in a later version; the numbers here were computed with
-  Stepwell's exact Hessian-vector products when this notebook was generated): at step 0 the largest
-  Hessian eigenvalue is λmax ≈ ${g3(l0)}. Gradient descent on a quadratic is stable only while
-  η·λmax/2 < 1, that is η < 2/λmax ≈ ${g3(2 / l0)}. With η = ${bad}, η·λmax/2 ≈ ${g3((bad * l0) / 2)}: the
-  direction of sharpest curvature is over-corrected at every step and the error along it grows.
+* **Curvature**: open the Curvature tab and press *Measure curvature* — at step ${blow} the sharpest
+  directions lie far above the stability limit (λmax ≈ ${g3(lBlow)} against 2/η ≈ ${g3(2 / bad)}). Then **Rewind…** to step 0 and measure again: already at
+  the start the largest Hessian eigenvalue is λmax ≈ ${g3(l0)}. Gradient descent on a quadratic is stable
+  only while η·λmax/2 < 1, that is η < 2/λmax ≈ ${g3(2 / l0)}. With η = ${bad}, η·λmax/2 ≈ ${g3((bad * l0) / 2)}:
+  the direction of sharpest curvature is over-corrected at every step and the error along it grows.
 
 The rule is about the local curvature along the trajectory, which changes as the weights move; it
 is a strong hint, not a proof. The fix is to step below the limit with a margin: η = ${good}

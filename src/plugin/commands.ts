@@ -22,6 +22,7 @@ export namespace CommandIDs {
   export const rewind = 'stepwell:rewind';
   export const verify = 'stepwell:verify';
   export const audit = 'stepwell:audit';
+  export const curvature = 'stepwell:curvature';
 }
 
 /** The text of a new stepwell cell (the template, with the marker line guaranteed). */
@@ -111,6 +112,12 @@ export function addCommands(
     caption: 'Compare the exact gradient with finite differences in the active stepwell cell',
     ...idle,
     execute: () => active()?.audit()
+  });
+  commands.addCommand(CommandIDs.curvature, {
+    label: 'Measure Curvature',
+    caption: 'Compute the extreme Hessian eigenvalues and the step-size stability limit in the active stepwell cell',
+    ...idle,
+    execute: () => active()?.measureCurvature()
   });
   if (palette !== null) {
     for (const command of Object.values(CommandIDs)) palette.addItem({ command, category: 'Stepwell' });

@@ -8,7 +8,8 @@ import type { CellController } from './controller';
 import { button, el, replaceChildren, show } from './dom';
 import { runUntilForm, rewindForm, readNumber } from './forms';
 import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
-import { auditPanel, comingPanel, layersPanel } from './readouts';
+import { auditPanel, curvaturePanel, layersPanel } from './readouts';
+import { curvatureFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
 import { traceFigure } from './trace-figure';
 import type { CellViewState, ReadoutTab } from './view-state';
@@ -53,6 +54,7 @@ export class StepwellCellWidget extends Widget {
   private readonly tabsNode = el('div', CellWidgetClass.tabs);
   private readonly panelNode = el('div', 'sw-Panel');
   private readonly plotNode = el('div', CellWidgetClass.plot);
+  private readonly curvaturePlot = el('div', 'sw-CurvaturePlot');
   private readonly nInput = el('input', 'sw-Input sw-StepN');
   private readonly buttons: Record<string, HTMLButtonElement> = {};
   private lastPlot = 0;
@@ -170,15 +172,27 @@ export class StepwellCellWidget extends Widget {
       this.schedulePlot(s.busy !== null);
       return;
     }
-    const key = `${s.tab}:${s.trajectory.length}:${s.audit?.step}:${s.busy !== null}`;
+    const last = s.trajectory[s.trajectory.length - 1];
+    const key = `${s.tab}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}`;
     if (key === this.renderedPanel) return;
     this.renderedPanel = key;
-    const last = s.trajectory[s.trajectory.length - 1];
-    const panel =
-      s.tab === 'layers' ? layersPanel(last)
-        : s.tab === 'audit' ? auditPanel(s.audit, () => void this.controller.audit(), s.busy !== null)
-          : comingPanel('The curvature spectrum (Hessian eigenvalues against the 2/η stability limit)');
+    releaseFigure(this.curvaturePlot);
+    let panel: HTMLElement;
+    switch (s.tab) {
+      case 'layers':
+        panel = layersPanel(last);
+        break;
+      case 'audit':
+        panel = auditPanel(s.audit, () => void this.controller.audit(), s.busy !== null);
+        break;
+      case 'curvature':
+        panel = curvaturePanel(s.curvature, () => void this.controller.measureCurvature(), s.busy !== null, this.curvaturePlot);
+        break;
+    }
     replaceChildren(this.panelNode, [panel]);
+    if (s.tab === 'curvature' && s.curvature !== null && this.isAttached) {
+      void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, readTheme(this.node)));
+    }
   }
 
   private schedulePlot(throttle: boolean): void {
@@ -199,7 +213,11 @@ export class StepwellCellWidget extends Widget {
 
   /** Draws the plot once the node is in the page, and follows theme changes. */
   protected onAfterAttach(): void {
-    this.themeObserver = new MutationObserver(() => this.drawPlot());
+    this.themeObserver = new MutationObserver(() => {
+      this.renderedPanel = null;
+      this.render(this.controller.state);
+      this.drawPlot();
+    });
     this.themeObserver.observe(document.body, { attributes: true, attributeFilter: ['data-jp-theme-name', 'data-jp-theme-light'] });
     this.drawPlot();
   }
@@ -221,6 +239,7 @@ export class StepwellCellWidget extends Widget {
     this.controller.changed.disconnect(this.onState, this);
     if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
     releaseFigure(this.plotNode);
+    releaseFigure(this.curvaturePlot);
     super.dispose();
   }
 }

@@ -92,6 +92,7 @@ export class CellController {
           summary: null,
           trajectory: [],
           audit: null,
+          curvature: null,
           verify: null,
           problems: this.deps.checkSpec(source)
         });
@@ -121,6 +122,7 @@ export class CellController {
           ledger: 'ok',
           ledgerMessage: undefined,
           audit: null,
+          curvature: null,
           verify: null,
           notice: null,
           sessionSpec: read.content.specText,
@@ -197,7 +199,7 @@ export class CellController {
 
   private async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
-    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, verify: null });
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, curvature: null, verify: null });
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
@@ -328,7 +330,7 @@ export class CellController {
     );
     this.set({ busy: null });
     if (reply.kind !== 'rewound') return this.failed(reply);
-    this.set({ summary: reply.summary, trajectory: reply.trajectory, audit: null, verify: null, notice: null });
+    this.set({ summary: reply.summary, trajectory: reply.trajectory, audit: null, curvature: null, verify: null, notice: null });
     return this.persist();
   }
 
@@ -342,6 +344,20 @@ export class CellController {
     this.set({ busy: null });
     if (reply.kind !== 'audit') return this.failed(reply);
     this.set({ audit: { step: reply.step, result: reply.result }, tab: 'audit' });
+    return true;
+  }
+
+  /** Measures the Hessian spectrum and the recipe's stability limit at the current step. */
+  async measureCurvature(): Promise<boolean> {
+    if (this.st.busy !== null) return false;
+    const engine = await this.syncEngine();
+    if (engine === null) return false;
+    const settings = this.deps.settings();
+    this.set({ busy: { action: 'Measuring curvature', done: 0, total: 0 } });
+    const reply = await engine.request({ kind: 'curvature', k: settings.eigenCount, denseLimit: settings.denseHessianLimit });
+    this.set({ busy: null });
+    if (reply.kind !== 'curvature') return this.failed(reply);
+    this.set({ curvature: reply.result, tab: 'curvature' });
     return true;
   }
 

@@ -4,6 +4,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
+import type { CurvatureResult } from '../worker/protocol';
 import { el, textTable } from './dom';
 import { auditRows, fmt } from './summary';
 
@@ -101,9 +102,65 @@ export function auditPanel(audit: { step: number; result: AuditResult } | null, 
   return box;
 }
 
-/** The placeholder of a readout that is not built yet. */
-export function comingPanel(what: string): HTMLElement {
+/**
+ * The curvature readout: λmax and the recipe's stability limit, the spectrum's ends and the
+ * derived numbers, computed by the engine at one step. `plot` receives the figure.
+ */
+export function curvaturePanel(c: CurvatureResult | null, onMeasure: () => void, busy: boolean, plot: HTMLElement): HTMLElement {
   const box = el('div', 'sw-Readout');
-  box.appendChild(el('p', ReadoutClass.note, `${what} is coming in a later version of Stepwell; it is not computed yet.`));
+  const run = el('button', 'jp-Button sw-Button sw-Button-curvature', c === null ? 'Measure curvature' : 'Measure again');
+  run.type = 'button';
+  run.disabled = busy;
+  run.title = 'Compute the extreme Hessian eigenvalues at the current weights (exact Hessian-vector products)';
+  run.addEventListener('click', onMeasure);
+  box.appendChild(run);
+  if (c === null) {
+    box.appendChild(
+      el(
+        'p',
+        ReadoutClass.note,
+        'Computes the largest and smallest Hessian eigenvalues at the current weights (the full Hessian for small ' +
+          'models, Lanczos otherwise) and compares the sharpness with the stability limit of the step size.'
+      )
+    );
+    return box;
+  }
+  const s = c.summary;
+  const st = s.stability;
+  box.appendChild(
+    el(
+      'p',
+      'sw-CurvatureHead',
+      `At step ${c.step}: λmax = ${fmt(s.lambdaMax)} (± ${s.lambdaMaxBound.toExponential(1)})` +
+        (s.lambdaMin !== null ? `, λmin = ${fmt(s.lambdaMin)}` : '') +
+        ` — ${c.method === 'dense' ? 'full Hessian' : 'Lanczos'} over ${c.parameterCount} parameters, ${c.products} Hessian-vector products` +
+        (c.stop !== 'converged' ? ` (stopped: ${c.stop})` : '') + '.'
+    )
+  );
+  const verdict =
+    st.margin === null ? 'the rule does not apply to this optimizer'
+      : st.margin < 1 ? 'stable on the local quadratic model'
+        : 'UNSTABLE on the local quadratic model: the sharpest directions grow each step';
+  const stability = el(
+    'p',
+    `sw-Stability ${st.margin !== null && st.margin >= 1 ? 'sw-mod-unstable' : ''}`.trim(),
+    st.largestStableLr === null
+      ? `Step-size limit: ${verdict}.`
+      : `η = ${fmt(st.lr)}; limit ${st.formula} → largest stable η ≈ ${fmt(st.largestStableLr)}; ` +
+          `η / limit = ${fmt(st.margin)}: ${verdict}.`
+  );
+  box.appendChild(stability);
+  if (st.note) box.appendChild(el('p', ReadoutClass.note, `${st.note} (operator: ${s.stepMetric}).`));
+  box.appendChild(plot);
+  const rows: string[][] = [];
+  c.top.forEach((v, i) => rows.push([`top ${i + 1}`, fmt(v), c.topBounds[i]?.toExponential(1) ?? '—']));
+  c.bottom.forEach((v, i) => rows.push([`bottom ${i + 1}`, fmt(v), c.bottomBounds[i]?.toExponential(1) ?? '—']));
+  box.appendChild(textTable(`${ReadoutClass.table} sw-SpectrumTable`, ['eigenvalue', 'λ', '± bound'], rows));
+  const extra: string[] = [];
+  extra.push(s.conditionNumber !== null ? `condition number ${fmt(s.conditionNumber)} (${s.conditionNote})` : `condition number: ${s.conditionNote}`);
+  if (s.negativeShare !== null) extra.push(`negative share ${(100 * s.negativeShare).toFixed(1)} %`);
+  if (s.trace !== null) extra.push(`trace ${fmt(s.trace)}${s.traceStandardError ? ` ± ${fmt(s.traceStandardError)}` : ''}`);
+  box.appendChild(el('p', ReadoutClass.note, extra.join(' · ')));
+  box.appendChild(el('p', ReadoutClass.note, s.caveat));
   return box;
 }

@@ -4,7 +4,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
-import type { SessionSummary, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+import type { CurvatureResult, SessionSummary, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 
 /** Readout tabs of the cell widget. */
 export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit';
@@ -48,6 +48,8 @@ export interface CellViewState {
   /** The latest gradient audit and the step it ran at. */
   audit: { step: number; result: AuditResult } | null;
   verify: VerifyResult | null;
+  /** The latest curvature measurement. */
+  curvature: CurvatureResult | null;
   notice: Notice | null;
   /** An open inline form. */
   form: 'run-until' | 'rewind' | null;
@@ -69,6 +71,7 @@ export function initialViewState(): CellViewState {
     busy: null,
     audit: null,
     verify: null,
+    curvature: null,
     notice: null,
     form: null,
     tab: 'trace',

@@ -7,8 +7,10 @@ import type { SessionState, StepRecord } from '../core/state';
 import { Session } from '../core/session';
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
+import { measureSessionCurvature } from '../core/probe/curvature';
 import { parseSpec } from '../spec';
 import type { EngineCore, EngineSession, ParseOutcome } from './engine-core';
+import type { CurvatureResult } from './protocol';
 
 /** An {@link EngineSession} over a real {@link Session}. */
 class SessionAdapter implements EngineSession {
@@ -64,5 +66,22 @@ export const realCore: EngineCore = {
     // The subset is drawn from the seed and the step, so an audit is itself reproducible.
     const rng = Rng.fromSeed(experiment.seed).fork(`audit-${session.stepCount}`);
     return auditGradient(session.session.objective, session.parameters, { sample, rng });
+  },
+  curvature(experiment, session, k, denseLimit): CurvatureResult {
+    if (!(session instanceof SessionAdapter)) throw new Error('the curvature readout needs a session made by this core');
+    const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
+    const { spectrum, summary } = measureSessionCurvature(session.session, rng, { k, denseLimit });
+    return {
+      step: session.stepCount,
+      method: spectrum.method,
+      parameterCount: spectrum.parameterCount,
+      top: [...spectrum.top],
+      topBounds: [...spectrum.topBounds],
+      bottom: [...spectrum.bottom],
+      bottomBounds: [...spectrum.bottomBounds],
+      products: spectrum.products,
+      stop: spectrum.stop,
+      summary
+    };
   }
 };

@@ -5,7 +5,7 @@
  */
 import type { Experiment } from '../core/setup';
 import type { SessionState, StepRecord } from '../core/state';
-import type { AuditResult, SpecProblem } from './protocol';
+import type { AuditResult, CurvatureResult, SpecProblem } from './protocol';
 
 /** A live optimizer session as the host drives it. */
 export interface EngineSession {
@@ -40,4 +40,6 @@ export interface EngineCore {
   restore(experiment: Experiment, state: SessionState): EngineSession;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: EngineSession, sample: number): AuditResult;
+  /** Hessian spectrum and stability summary at the session's current weights. */
+  curvature(experiment: Experiment, session: EngineSession, k: number, denseLimit: number): CurvatureResult;
 }

@@ -123,6 +123,11 @@ export class EngineHost {
         this.post({ id, kind: 'audit', step: l.session.stepCount, result });
         return;
       }
+      case 'curvature': {
+        const l = this.need();
+        this.post({ id, kind: 'curvature', result: this.core.curvature(l.experiment, l.session, request.k, request.denseLimit) });
+        return;
+      }
       case 'snapshot': {
         const l = this.need();
         this.post({

@@ -13,8 +13,28 @@
 import type { SessionState, StepRecord } from '../core/state';
 import type { StopCondition } from '../core/session';
 import type { AuditResult } from '../core/probe/gradcheck';
+import type { CurvatureSummary } from '../core/probe/curvature';
 
-export type { StopCondition, AuditResult };
+export type { StopCondition, AuditResult, CurvatureSummary };
+
+/** A curvature measurement at one step (the spectrum's ends and its summary). */
+export interface CurvatureResult {
+  /** Step of the measurement. */
+  step: number;
+  method: 'dense' | 'lanczos';
+  parameterCount: number;
+  /** Largest eigenvalues, descending, and their absolute error bounds. */
+  top: number[];
+  topBounds: number[];
+  /** Smallest eigenvalues, ascending, and their absolute error bounds. */
+  bottom: number[];
+  bottomBounds: number[];
+  /** Hessian-vector products spent. */
+  products: number;
+  /** `converged`, or why the eigen-solve stopped early. */
+  stop: string;
+  summary: CurvatureSummary;
+}
 
 /** One problem in the spec text, at a path and (when known) a 1-based line and column. */
 export interface SpecProblem {
@@ -73,6 +93,8 @@ export type EngineRequest =
   | { id: number; kind: 'reset' }
   | { id: number; kind: 'rewind'; step: number }
   | { id: number; kind: 'gradcheck'; sample: number }
+  /** Measure the Hessian spectrum at the current weights: `k` eigenvalues per end, dense up to `denseLimit` parameters. */
+  | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
   /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
   | { id: number; kind: 'ledger'; specText: string; checkpointCap: number }
@@ -163,6 +185,7 @@ export type EngineReply =
       /** An even sample (≤ 5000) of the trajectory, for display. */
       trajectory: StepRecord[];
     }
+  | { id: number; kind: 'curvature'; result: CurvatureResult }
   | { id: number; kind: 'verified'; result: VerifyResult }
   | { id: number; kind: 'failed'; message: string };
 
@@ -176,6 +199,7 @@ export const FINAL_REPLIES: readonly EngineReplyKind[] = [
   'stepped',
   'rewound',
   'audit',
+  'curvature',
   'snapshot',
   'ledger',
   'verified',
@@ -194,6 +218,7 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'reset',
   'rewind',
   'gradcheck',
+  'curvature',
   'snapshot',
   'ledger',
   'verify',
@@ -230,6 +255,8 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('step');
     case 'gradcheck':
       return positiveInt('sample');
+    case 'curvature':
+      return positiveInt('k') ?? positiveInt('denseLimit');
     case 'stop':
       return positiveInt('target');
     case 'ledger':

@@ -59,6 +59,13 @@ describe('stepwell cell in the browser', () => {
     const demoCell = page.locator('.sw-CellWidget').first();
     await demoCell.waitFor();
     expect(await status(demoCell)).toMatch(/^step \d+ · loss/);
+    // Its curvature readout shows why it diverged: λmax far above the step size's stability limit.
+    await demoCell.locator('.sw-Tab[data-tab="curvature"]').click();
+    await demoCell.locator('.sw-Button-curvature').click();
+    await demoCell.locator('.sw-Stability.sw-mod-unstable').waitFor({ timeout: 30_000 });
+    expect(await demoCell.locator('.sw-CurvaturePlot .scatterlayer .trace').count()).toBeGreaterThan(0);
+    await demoCell.locator('.sw-Stability').scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-0-demo-curvature');
 
     // Insert a new stepwell cell below the first (markdown) cell, as a user would.
     await cells.first().click();

@@ -1,0 +1,95 @@
+/**
+ * The curvature figure as plain data: the measured extreme Hessian eigenvalues as stems and
+ * the recipe's stability limit on λ as a horizontal line (for plain gradient descent 2/η:
+ * eigen-directions above it grow instead of shrink). Pure; rendered by `plot.ts`.
+ */
+import type { CurvatureResult } from '../worker/protocol';
+import type { AxisLayout, Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
+
+/**
+ * Builds the spectrum-ends figure.
+ *
+ * @param c - a curvature measurement.
+ * @param theme - colours from the page.
+ */
+export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure {
+  const top = c.top.map((v, i) => ({ rank: i + 1, v }));
+  const bottom = c.bottom.map((v, i) => ({ rank: -(i + 1), v }));
+  const points = [...bottom.reverse(), ...top];
+  const limit = stabilityLimit(c);
+  const above = (v: number): boolean => limit !== null && v > limit;
+  const stems: LineSeries = {
+    type: 'scatter',
+    mode: 'markers',
+    name: 'eigenvalues',
+    x: points.map(p => p.rank),
+    y: points.map(p => p.v),
+    line: { color: theme.train, width: 0 },
+    marker: { color: theme.train, size: 9 },
+    hovertemplate: 'λ = %{y:.6g}<extra></extra>'
+  };
+  const data: LineSeries[] = [stems];
+  const unstable = points.filter(p => above(p.v));
+  if (unstable.length > 0) {
+    data.push({
+      type: 'scatter',
+      mode: 'markers',
+      name: 'above the stability limit',
+      x: unstable.map(p => p.rank),
+      y: unstable.map(p => p.v),
+      line: { color: theme.alert, width: 0 },
+      marker: { color: theme.alert, size: 11, symbol: 'diamond' },
+      hovertemplate: 'λ = %{y:.6g} (unstable)<extra></extra>'
+    });
+  }
+  const annotations: FigureNote[] = [];
+  if (limit !== null) {
+    const xs = points.map(p => p.rank);
+    const lo = Math.min(...xs, 0) - 0.5;
+    const hi = Math.max(...xs, 0) + 0.5;
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: `stability limit ${c.summary.stability.formula}`,
+      x: [lo, hi],
+      y: [limit, limit],
+      line: { color: theme.heldOut, width: 2, dash: 'dash' },
+      hovertemplate: `limit λ = %{y:.6g}<extra></extra>`
+    });
+  }
+  const axis = (title: string): AxisLayout => ({
+    title: { text: title },
+    type: 'linear',
+    gridcolor: theme.grid,
+    zerolinecolor: theme.foreground,
+    color: theme.foreground,
+    automargin: true,
+    exponentformat: 'power'
+  });
+  return {
+    data,
+    layout: {
+      height: 260,
+      margin: { l: 56, r: 16, t: 24, b: 40 },
+      paper_bgcolor: theme.background,
+      plot_bgcolor: theme.background,
+      font: { family: theme.font, color: theme.foreground, size: 12 },
+      xaxis: axis('rank (1 = largest, −1 = smallest)'),
+      yaxis: axis('Hessian eigenvalue λ'),
+      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      annotations,
+      showlegend: true
+    }
+  };
+}
+
+/**
+ * The largest sharpness the recipe tolerates at its learning rate (factor/η, e.g. 2/η for plain
+ * gradient descent), or null when the rule does not apply (line searches, Newton) or when the
+ * bound is on a preconditioned matrix rather than the plain Hessian shown here.
+ */
+export function stabilityLimit(c: CurvatureResult): number | null {
+  const s = c.summary.stability;
+  if (s.factor === null || s.preconditioned || !(s.lr > 0)) return null;
+  return s.factor / s.lr;
+}
