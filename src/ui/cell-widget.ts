@@ -9,7 +9,7 @@ import { button, el, replaceChildren, show } from './dom';
 import { runUntilForm, rewindForm, readNumber } from './forms';
 import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
 import { auditPanel, curvaturePanel, layersPanel } from './readouts';
-import { curvatureFigure } from './curvature-figure';
+import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
 import { traceFigure } from './trace-figure';
 import type { CellViewState, ReadoutTab } from './view-state';
@@ -55,6 +55,7 @@ export class StepwellCellWidget extends Widget {
   private readonly panelNode = el('div', 'sw-Panel');
   private readonly plotNode = el('div', CellWidgetClass.plot);
   private readonly curvaturePlot = el('div', 'sw-CurvaturePlot');
+  private readonly sharpnessPlot = el('div', 'sw-CurvaturePlot sw-SharpnessPlot');
   private readonly nInput = el('input', 'sw-Input sw-StepN');
   private readonly buttons: Record<string, HTMLButtonElement> = {};
   private lastPlot = 0;
@@ -173,10 +174,13 @@ export class StepwellCellWidget extends Widget {
       return;
     }
     const last = s.trajectory[s.trajectory.length - 1];
-    const key = `${s.tab}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}`;
+    const key =
+      `${s.tab}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}:` +
+      `${s.sharpness.length}:${s.sharpness[s.sharpness.length - 1]?.step}`;
     if (key === this.renderedPanel) return;
     this.renderedPanel = key;
-    releaseFigure(this.curvaturePlot);
+    // The plot nodes are reused across panel rebuilds (plotly updates them in place); they are
+    // released in dispose() only, since purging one with a redraw pending breaks plotly.
     let panel: HTMLElement;
     switch (s.tab) {
       case 'layers':
@@ -186,13 +190,27 @@ export class StepwellCellWidget extends Widget {
         panel = auditPanel(s.audit, () => void this.controller.audit(), s.busy !== null);
         break;
       case 'curvature':
-        panel = curvaturePanel(s.curvature, () => void this.controller.measureCurvature(), s.busy !== null, this.curvaturePlot);
+        panel = curvaturePanel(
+          s.curvature,
+          s.sharpness,
+          { measure: () => void this.controller.measureCurvature(), track: () => void this.controller.trackSharpness(this.stepsFromBox()), trackSteps: this.stepsFromBox() },
+          s.busy !== null,
+          { spectrum: this.curvaturePlot, history: this.sharpnessPlot }
+        );
         break;
     }
     replaceChildren(this.panelNode, [panel]);
-    if (s.tab === 'curvature' && s.curvature !== null && this.isAttached) {
-      void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, readTheme(this.node)));
+    if (s.tab === 'curvature' && this.isAttached) {
+      const theme = readTheme(this.node);
+      if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
+      if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
     }
+  }
+
+  /** N of the Step ×N box, or the default when it is empty or invalid. */
+  private stepsFromBox(): number {
+    const n = readNumber(this.nInput.value, 'N', true, 1);
+    return typeof n === 'number' ? n : this.controller.defaultN;
   }
 
   private schedulePlot(throttle: boolean): void {
@@ -240,6 +258,7 @@ export class StepwellCellWidget extends Widget {
     if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
     releaseFigure(this.plotNode);
     releaseFigure(this.curvaturePlot);
+    releaseFigure(this.sharpnessPlot);
     super.dispose();
   }
 }

@@ -7,7 +7,7 @@ import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { StepRecord } from '../core/state';
 import type { EngineClient, FinalReply, ProgressReply, RequestBody } from '../worker/client';
-import type { StopCondition } from '../worker/protocol';
+import type { SharpnessPoint, StopCondition } from '../worker/protocol';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
 import { cellSummary, markdownSummary, meanMs, problemLine, verifyLine, PROXY_NOTE } from './summary';
 import type { CellViewState, Notice, ReadoutTab } from './view-state';
@@ -52,6 +52,11 @@ export class CellController {
     return this.st;
   }
 
+  /** Steps of "Step ×N" from the settings. */
+  get defaultN(): number {
+    return this.deps.settings().defaultN;
+  }
+
   /** True after {@link dispose}. */
   get isDisposed(): boolean {
     return this.disposedFlag;
@@ -93,6 +98,7 @@ export class CellController {
           trajectory: [],
           audit: null,
           curvature: null,
+          sharpness: [],
           verify: null,
           problems: this.deps.checkSpec(source)
         });
@@ -123,6 +129,7 @@ export class CellController {
           ledgerMessage: undefined,
           audit: null,
           curvature: null,
+          sharpness: [],
           verify: null,
           notice: null,
           sessionSpec: read.content.specText,
@@ -199,7 +206,7 @@ export class CellController {
 
   private async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
-    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, curvature: null, verify: null });
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, curvature: null, sharpness: [], verify: null });
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
@@ -263,6 +270,12 @@ export class CellController {
     return this.stepping(`Step ×${n}`, { kind: 'step', n }, n);
   }
 
+  /** Advances `n` steps measuring the sharpness about 50 times along the way (and at the start). */
+  trackSharpness(n = this.deps.settings().defaultN): Promise<boolean> {
+    const every = Math.max(1, Math.round(n / 50));
+    return this.stepping(`Step ×${n} tracking λmax`, { kind: 'step', n, sharpnessEvery: every }, n);
+  }
+
   /** Steps until `condition` holds, at most `maxSteps` steps. */
   runUntil(condition: StopCondition, maxSteps: number): Promise<boolean> {
     this.set({ runUntil: { condition, maxSteps }, form: null });
@@ -283,7 +296,11 @@ export class CellController {
     const onProgress = (p: ProgressReply): void => {
       for (const r of p.records.slice(-RECENT_RECORDS)) produced.push(r);
       if (produced.length > 2 * RECENT_RECORDS) produced.splice(0, produced.length - RECENT_RECORDS);
-      this.set({ busy: { action, done: p.done, total }, trajectory: thinInPlace(this.st.trajectory.concat(p.records)) });
+      this.set({
+        busy: { action, done: p.done, total },
+        trajectory: thinInPlace(this.st.trajectory.concat(p.records)),
+        sharpness: mergeSharpness(this.st.sharpness, p.sharpness)
+      });
     };
     const reply = await engine.request(body, onProgress);
     if (reply.kind !== 'stepped') {
@@ -313,6 +330,7 @@ export class CellController {
       busy: null,
       summary: reply.summary,
       trajectory: thinInPlace(this.st.trajectory.concat(reply.records)),
+      sharpness: mergeSharpness(this.st.sharpness, reply.sharpness),
       msPerStep: meanMs(produced.slice(-RECENT_RECORDS)),
       notice
     });
@@ -330,7 +348,15 @@ export class CellController {
     );
     this.set({ busy: null });
     if (reply.kind !== 'rewound') return this.failed(reply);
-    this.set({ summary: reply.summary, trajectory: reply.trajectory, audit: null, curvature: null, verify: null, notice: null });
+    this.set({
+      summary: reply.summary,
+      trajectory: reply.trajectory,
+      audit: null,
+      curvature: null,
+      verify: null,
+      notice: null,
+      sharpness: this.st.sharpness.filter(p => p.step <= reply.summary.step)
+    });
     return this.persist();
   }
 
@@ -412,6 +438,13 @@ export class CellController {
     const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
     this.deps.host.writeOutputs(summary, markdownSummary(summary));
   }
+}
+
+/** Adds new sharpness points, replacing any at the same step, in step order. */
+export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | undefined): SharpnessPoint[] {
+  if (fresh === undefined || fresh.length === 0) return old;
+  const steps = new Set(fresh.map(p => p.step));
+  return old.filter(p => !steps.has(p.step)).concat(fresh).sort((a, b) => a.step - b.step);
 }
 
 /** The markdown fallback for a cell whose spec does not parse yet. */

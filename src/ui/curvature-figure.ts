@@ -3,8 +3,9 @@
  * the recipe's stability limit on λ as a horizontal line (for plain gradient descent 2/η:
  * eigen-directions above it grow instead of shrink). Pure; rendered by `plot.ts`.
  */
-import type { CurvatureResult } from '../worker/protocol';
+import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
 import type { AxisLayout, Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
+import { chooseScale } from './trace-figure';
 
 /**
  * Builds the spectrum-ends figure.
@@ -92,4 +93,79 @@ export function stabilityLimit(c: CurvatureResult): number | null {
   const s = c.summary.stability;
   if (s.factor === null || s.preconditioned || !(s.lr > 0)) return null;
   return s.factor / s.lr;
+}
+
+/**
+ * The sharpness over the steps against the limit of the learning rate in effect: the signature
+ * of a step size that is too large is the sharpness line crossing the limit line.
+ *
+ * @param points - measurements in step order.
+ * @param theme - colours from the page.
+ */
+export function sharpnessFigure(points: readonly SharpnessPoint[], theme: FigureTheme): Figure {
+  const pre = points.some(p => p.preconditioned);
+  const data: LineSeries[] = [
+    {
+      type: 'scatter',
+      mode: points.length < 30 ? 'lines+markers' : 'lines',
+      name: pre ? 'sharpness (preconditioned)' : 'λmax',
+      x: points.map(p => p.step),
+      y: points.map(p => (Number.isFinite(p.sharpness) ? p.sharpness : null)),
+      line: { color: theme.train, width: 2 },
+      marker: { color: theme.train, size: 5 },
+      hovertemplate: 'step %{x}<br>sharpness %{y:.6g}<extra></extra>'
+    }
+  ];
+  const limited = points.filter(p => p.limit !== null);
+  if (limited.length > 0) {
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: 'stability limit',
+      x: limited.map(p => p.step),
+      y: limited.map(p => p.limit),
+      line: { color: theme.heldOut, width: 2, dash: 'dash' },
+      hovertemplate: 'step %{x}<br>limit %{y:.6g}<extra></extra>'
+    });
+    const over = limited.filter(p => p.sharpness > (p.limit as number));
+    if (over.length > 0) {
+      data.push({
+        type: 'scatter',
+        mode: 'markers',
+        name: 'above the limit',
+        x: over.map(p => p.step),
+        y: over.map(p => p.sharpness),
+        line: { color: theme.alert, width: 0 },
+        marker: { color: theme.alert, size: 8, symbol: 'diamond' },
+        hovertemplate: 'step %{x}<br>sharpness %{y:.6g} (unstable)<extra></extra>'
+      });
+    }
+  }
+  const axis = (title: string): AxisLayout => ({
+    title: { text: title },
+    type: 'linear',
+    gridcolor: theme.grid,
+    zerolinecolor: theme.grid,
+    color: theme.foreground,
+    automargin: true,
+    exponentformat: 'power'
+  });
+  return {
+    data,
+    layout: {
+      height: 240,
+      margin: { l: 56, r: 16, t: 24, b: 40 },
+      paper_bgcolor: theme.background,
+      plot_bgcolor: theme.background,
+      font: { family: theme.font, color: theme.foreground, size: 12 },
+      xaxis: { ...axis('step'), rangemode: 'tozero' },
+      yaxis: {
+        ...axis(pre ? 'sharpness of the preconditioned Hessian' : 'λmax'),
+        type: chooseScale([...points.map(p => p.sharpness), ...limited.map(p => p.limit as number)])
+      },
+      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      annotations: [],
+      showlegend: true
+    }
+  };
 }

@@ -20,14 +20,18 @@ export function readTheme(node: HTMLElement): FigureTheme {
   };
 }
 
-/** Renders (or updates in place) a figure in `node`. */
+/** Renders (or updates in place) a figure in `node`. A failed draw is reported, never thrown. */
 export async function renderFigure(node: HTMLElement, figure: Figure): Promise<void> {
-  await Plotly.react(
-    node,
-    figure.data as unknown as Plotly.Data[],
-    figure.layout as unknown as Partial<Plotly.Layout>,
-    { displaylogo: false, responsive: true, modeBarButtonsToRemove: ['select2d', 'lasso2d'] }
-  );
+  try {
+    await Plotly.react(
+      node,
+      figure.data as unknown as Plotly.Data[],
+      figure.layout as unknown as Partial<Plotly.Layout>,
+      { displaylogo: false, responsive: true, modeBarButtonsToRemove: ['select2d', 'lasso2d'] }
+    );
+  } catch (error) {
+    console.warn(`Stepwell: a plot could not be drawn (${String(error)})`);
+  }
 }
 
 /** Releases plotly's resources on `node`. */

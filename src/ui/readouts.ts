@@ -4,7 +4,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
-import type { CurvatureResult } from '../worker/protocol';
+import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
 import { el, textTable } from './dom';
 import { auditRows, fmt } from './summary';
 
@@ -106,14 +106,40 @@ export function auditPanel(audit: { step: number; result: AuditResult } | null, 
  * The curvature readout: λmax and the recipe's stability limit, the spectrum's ends and the
  * derived numbers, computed by the engine at one step. `plot` receives the figure.
  */
-export function curvaturePanel(c: CurvatureResult | null, onMeasure: () => void, busy: boolean, plot: HTMLElement): HTMLElement {
+export function curvaturePanel(
+  c: CurvatureResult | null,
+  sharpness: readonly SharpnessPoint[],
+  actions: { measure: () => void; track: () => void; trackSteps: number },
+  busy: boolean,
+  plots: { spectrum: HTMLElement; history: HTMLElement }
+): HTMLElement {
   const box = el('div', 'sw-Readout');
+  const buttons = el('div', 'sw-Controls');
   const run = el('button', 'jp-Button sw-Button sw-Button-curvature', c === null ? 'Measure curvature' : 'Measure again');
   run.type = 'button';
   run.disabled = busy;
   run.title = 'Compute the extreme Hessian eigenvalues at the current weights (exact Hessian-vector products)';
-  run.addEventListener('click', onMeasure);
-  box.appendChild(run);
+  run.addEventListener('click', actions.measure);
+  const track = el('button', 'jp-Button sw-Button sw-Button-track', `Step ×${actions.trackSteps} tracking λmax`);
+  track.type = 'button';
+  track.disabled = busy;
+  track.title = 'Step N times (N from the Step ×N box) and measure the sharpness about 50 times on the way';
+  track.addEventListener('click', actions.track);
+  buttons.append(run, track);
+  box.appendChild(buttons);
+  if (sharpness.length > 0) {
+    const crossed = sharpness.find(p => p.limit !== null && p.sharpness > p.limit);
+    box.appendChild(
+      el(
+        'p',
+        `sw-Stability ${crossed ? 'sw-mod-unstable' : ''}`.trim(),
+        crossed
+          ? `The sharpness crossed the stability limit at step ${crossed.step} (${fmt(crossed.sharpness)} > ${fmt(crossed.limit)}).`
+          : `Over ${sharpness.length} measurements (steps ${sharpness[0].step}–${sharpness[sharpness.length - 1].step}) the sharpness stayed below the stability limit.`
+      )
+    );
+    box.appendChild(plots.history);
+  }
   if (c === null) {
     box.appendChild(
       el(
@@ -151,7 +177,7 @@ export function curvaturePanel(c: CurvatureResult | null, onMeasure: () => void,
   );
   box.appendChild(stability);
   if (st.note) box.appendChild(el('p', ReadoutClass.note, `${st.note} (operator: ${s.stepMetric}).`));
-  box.appendChild(plot);
+  box.appendChild(plots.spectrum);
   const rows: string[][] = [];
   c.top.forEach((v, i) => rows.push([`top ${i + 1}`, fmt(v), c.topBounds[i]?.toExponential(1) ?? '—']));
   c.bottom.forEach((v, i) => rows.push([`bottom ${i + 1}`, fmt(v), c.bottomBounds[i]?.toExponential(1) ?? '—']));

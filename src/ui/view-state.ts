@@ -4,7 +4,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
-import type { CurvatureResult, SessionSummary, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+import type { CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 
 /** Readout tabs of the cell widget. */
 export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit';
@@ -50,6 +50,8 @@ export interface CellViewState {
   verify: VerifyResult | null;
   /** The latest curvature measurement. */
   curvature: CurvatureResult | null;
+  /** Sharpness measured while stepping with tracking on (this page session only), step order. */
+  sharpness: SharpnessPoint[];
   notice: Notice | null;
   /** An open inline form. */
   form: 'run-until' | 'rewind' | null;
@@ -72,6 +74,7 @@ export function initialViewState(): CellViewState {
     audit: null,
     verify: null,
     curvature: null,
+    sharpness: [],
     notice: null,
     form: null,
     tab: 'trace',

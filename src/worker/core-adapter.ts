@@ -10,7 +10,7 @@ import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature } from '../core/probe/curvature';
 import { parseSpec } from '../spec';
 import type { EngineCore, EngineSession, ParseOutcome } from './engine-core';
-import type { CurvatureResult } from './protocol';
+import type { CurvatureResult, SharpnessPoint } from './protocol';
 
 /** An {@link EngineSession} over a real {@link Session}. */
 class SessionAdapter implements EngineSession {
@@ -82,6 +82,19 @@ export const realCore: EngineCore = {
       products: spectrum.products,
       stop: spectrum.stop,
       summary
+    };
+  },
+  sharpness(experiment, session): SharpnessPoint {
+    if (!(session instanceof SessionAdapter)) throw new Error('the sharpness trace needs a session made by this core');
+    const rng = Rng.fromSeed(experiment.seed).fork(`sharpness-${session.stepCount}`);
+    const { summary } = measureSessionCurvature(session.session, rng, { method: 'lanczos', k: 1, density: false, traceProbes: 0, maxIterations: 80 });
+    const st = summary.stability;
+    return {
+      step: session.stepCount,
+      lambdaMax: summary.lambdaMax,
+      sharpness: st.sharpness,
+      limit: st.factor === null || !(st.lr > 0) ? null : st.factor / st.lr,
+      preconditioned: st.preconditioned
     };
   }
 };

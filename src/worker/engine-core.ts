@@ -5,7 +5,7 @@
  */
 import type { Experiment } from '../core/setup';
 import type { SessionState, StepRecord } from '../core/state';
-import type { AuditResult, CurvatureResult, SpecProblem } from './protocol';
+import type { AuditResult, CurvatureResult, SharpnessPoint, SpecProblem } from './protocol';
 
 /** A live optimizer session as the host drives it. */
 export interface EngineSession {
@@ -42,4 +42,6 @@ export interface EngineCore {
   audit(experiment: Experiment, session: EngineSession, sample: number): AuditResult;
   /** Hessian spectrum and stability summary at the session's current weights. */
   curvature(experiment: Experiment, session: EngineSession, k: number, denseLimit: number): CurvatureResult;
+  /** The sharpness the recipe's stability rule uses, by a short Lanczos run (cheap enough to track). */
+  sharpness(experiment: Experiment, session: EngineSession): SharpnessPoint;
 }

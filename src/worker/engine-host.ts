@@ -15,6 +15,7 @@ import type {
   EngineReply,
   EngineRequest,
   SessionSummary,
+  SharpnessPoint,
   StopCondition,
   VerifyResult
 } from './protocol';
@@ -51,6 +52,8 @@ export class EngineHost {
   private queue: Promise<void> = Promise.resolve();
   private running: number | null = null;
   private stopFlag = false;
+  /** Extra fields of the next progress reply (the running request's measurements). */
+  private progressExtras: () => { sharpness?: SharpnessPoint[] } = () => ({});
 
   /**
    * @param core - the numerics (see `core-adapter.ts` for the real one).
@@ -96,6 +99,7 @@ export class EngineHost {
     } finally {
       this.running = null;
       this.stopFlag = false;
+      this.progressExtras = () => ({});
     }
   }
 
@@ -106,9 +110,9 @@ export class EngineHost {
         this.load(request);
         return;
       case 'step':
-        return this.stepMany(id, request.n, null);
+        return this.stepMany(id, request.n, null, request.sharpnessEvery ?? 0);
       case 'run-until':
-        return this.stepMany(id, request.maxSteps, request.condition);
+        return this.stepMany(id, request.maxSteps, request.condition, 0);
       case 'reset': {
         const l = this.need();
         this.loaded = this.fresh(l.experiment, l.checkpointEvery);
@@ -238,7 +242,7 @@ export class EngineHost {
       if (typeof out === 'string') return { end: out, pending };
       pending.push(out);
       if (performance.now() - chunkStart >= this.chunkMs && i + 1 < total) {
-        this.post({ id, kind: 'progress', done: i + 1, total, records: sampleRecords(pending, REPLY_SAMPLE) });
+        this.post({ id, kind: 'progress', done: i + 1, total, records: sampleRecords(pending, REPLY_SAMPLE), ...this.progressExtras() });
         pending = [];
         await nextTick();
         chunkStart = performance.now();
@@ -259,14 +263,25 @@ export class EngineHost {
     }
   }
 
-  private async stepMany(id: number, total: number, condition: StopCondition | null): Promise<void> {
+  private async stepMany(id: number, total: number, condition: StopCondition | null, sharpnessEvery: number): Promise<void> {
     const l = this.need();
     const startLoss = l.trajectory[l.trajectory.length - 1]?.loss ?? NaN;
+    const points: SharpnessPoint[] = [];
+    const measure = (): void => {
+      try {
+        points.push(this.core.sharpness(l.experiment, l.session));
+      } catch {
+        // Diverged weights make the products non-finite: the trace simply ends there.
+      }
+    };
+    if (sharpnessEvery > 0) measure();
+    this.progressExtras = () => ({ sharpness: points.splice(0, points.length) });
     const { end, pending } = await this.sliced(id, total, i => {
       const record = l.session.stepOnce();
       l.trajectory.push(record);
       thinInPlace(l.trajectory);
       this.checkpointIfDue(l);
+      if (sharpnessEvery > 0 && l.session.stepCount % sharpnessEvery === 0 && Number.isFinite(record.loss)) measure();
       if (!Number.isFinite(record.loss)) return 'non-finite';
       if (condition !== null && evaluateStop(condition, record, i + 1, startLoss, l.session.parameters) !== null) {
         return Number.isFinite(record.loss) ? 'condition' : 'non-finite';
@@ -280,6 +295,7 @@ export class EngineHost {
       kind: 'stepped',
       summary: this.summary(),
       records: sampleRecords(pending.concat(tail), REPLY_SAMPLE),
+      sharpness: points,
       stopped: end === 'stopped',
       reason: end
     });

@@ -48,6 +48,19 @@ export interface SpecProblem {
   col?: number;
 }
 
+/** One sharpness measurement while stepping: the sharpness the stability rule uses and its limit. */
+export interface SharpnessPoint {
+  step: number;
+  /** λmax of the Hessian. */
+  lambdaMax: number;
+  /** The sharpness the recipe's rule uses (λmax, or of the preconditioned matrix for adaptive optimizers). */
+  sharpness: number;
+  /** The largest sharpness the learning rate in effect tolerates (factor/η), or null when no rule applies. */
+  limit: number | null;
+  /** True when `sharpness` is of a preconditioned matrix. */
+  preconditioned: boolean;
+}
+
 /** A saved session state at one step. */
 export interface CheckpointData {
   /** Step of the state. */
@@ -88,7 +101,8 @@ export type EngineRequest =
       /** Auto-checkpoint interval in steps (0 = only step 0). */
       checkpointEvery: number;
     }
-  | { id: number; kind: 'step'; n: number }
+  /** `sharpnessEvery` > 0 also measures the sharpness every that many steps (and at the start). */
+  | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
   | { id: number; kind: 'reset' }
   | { id: number; kind: 'rewind'; step: number }
@@ -140,6 +154,8 @@ export type EngineReply =
       total: number;
       /** An even sample (≤ 100) of the records produced since the previous progress message. */
       records: StepRecord[];
+      /** Sharpness measured since the previous progress message. */
+      sharpness?: SharpnessPoint[];
     }
   | {
       id: number;
@@ -147,6 +163,8 @@ export type EngineReply =
       summary: SessionSummary;
       /** An even sample (≤ 100, last included) of the records produced since the last progress message. */
       records: StepRecord[];
+      /** Sharpness measured since the last progress message. */
+      sharpness?: SharpnessPoint[];
       /** True when a stop request ended the work early. */
       stopped: boolean;
       /** Why the work ended. */
@@ -248,7 +266,7 @@ export function checkRequest(value: unknown): string | null {
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
       return positiveInt('checkpointEvery');
     case 'step':
-      return positiveInt('n');
+      return positiveInt('n') ?? (r.sharpnessEvery === undefined ? null : positiveInt('sharpnessEvery'));
     case 'run-until':
       return positiveInt('maxSteps');
     case 'rewind':

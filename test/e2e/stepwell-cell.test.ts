@@ -66,6 +66,19 @@ describe('stepwell cell in the browser', () => {
     expect(await demoCell.locator('.sw-CurvaturePlot .scatterlayer .trace').count()).toBeGreaterThan(0);
     await demoCell.locator('.sw-Stability').scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-0-demo-curvature');
+    // Journey 1: back to step 0, step again tracking λmax, and see where it crosses the 2/η line.
+    await demoCell.locator('.sw-Button-rewind').click();
+    await demoCell.locator('.sw-Form input').fill('0');
+    await demoCell.locator('.sw-Form button', { hasText: 'Rewind' }).click();
+    await waitForStep(demoCell, 0);
+    await demoCell.locator('.sw-StepN').fill('20');
+    await demoCell.locator('.sw-Button-track').click();
+    const crossing = demoCell.locator('.sw-Stability', { hasText: 'crossed the stability limit at step' });
+    await crossing.waitFor({ timeout: 60_000 });
+    expect(await demoCell.locator('.sw-SharpnessPlot .scatterlayer .trace').count()).toBeGreaterThan(1);
+    await crossing.scrollIntoViewIfNeeded();
+    await screenshot(page, 'stepwell-0b-demo-sharpness');
+    await demoCell.locator('.sw-StepN').fill('');
 
     // Insert a new stepwell cell below the first (markdown) cell, as a user would.
     await cells.first().click();

@@ -5,7 +5,8 @@ import { EngineHost } from '../../../src/worker/engine-host';
 import { realCore } from '../../../src/worker/core-adapter';
 import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC } from '../../../src/spec';
-import { curvatureFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
+import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
+import { mergeSharpness } from '../../../src/ui/controller';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 
 const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
@@ -50,5 +51,35 @@ describe('curvature readout', () => {
     const c = await measure(TEMPLATE_SPEC.replace('optimizer: sgd ', 'optimizer: lbfgs'), 0);
     expect(stabilityLimit(c)).toBeNull();
     expect(curvatureFigure(c, theme).data.map(d => d.name)).toEqual(['eigenvalues']);
+  });
+});
+
+describe('sharpness trace', () => {
+  it('measures the sharpness at the start and every k steps while stepping', async () => {
+    const replies: EngineReply[] = [];
+    const host = new EngineHost(realCore, r => replies.push(structuredClone(r)), { chunkMs: 0 });
+    await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0 });
+    await host.receive({ id: 2, kind: 'step', n: 20, sharpnessEvery: 5 });
+    const points = replies.flatMap(r => (r.kind === 'progress' || r.kind === 'stepped' ? r.sharpness ?? [] : []));
+    expect(points.map(p => p.step)).toEqual([0, 5, 10, 15, 20]);
+    // common practice (Nocedal & Wright 2006, ch. 3): plain gradient descent's limit is 2/η.
+    for (const p of points) expect(p.limit).toBeCloseTo(2 / 0.1, 12);
+    await host.receive({ id: 3, kind: 'curvature', k: 1, denseLimit: 2000 });
+    const dense = replies[replies.length - 1];
+    if (dense.kind !== 'curvature') throw new Error('expected a curvature reply');
+    // The short Lanczos run and the full Hessian agree on λmax at step 20 (Golub & Van Loan, ch. 10: extreme eigenvalues converge first).
+    expect(points[4].lambdaMax).toBeCloseTo(dense.result.top[0], 6);
+  });
+
+  it('merges new points by step and marks crossings of the limit', () => {
+    const pt = (step: number, sharpness: number) => ({ step, lambdaMax: sharpness, sharpness, limit: 2, preconditioned: false });
+    const merged = mergeSharpness([pt(0, 1), pt(5, 1.5)], [pt(5, 1.6), pt(10, 2.5)]);
+    expect(merged.map(p => [p.step, p.sharpness])).toEqual([[0, 1], [5, 1.6], [10, 2.5]]);
+    expect(mergeSharpness(merged, undefined)).toBe(merged);
+    const f = sharpnessFigure(merged, theme);
+    expect(f.data.map(d => d.name)).toEqual(['λmax', 'stability limit', 'above the limit']);
+    expect(f.data[2].x).toEqual([10]);
+    expect(f.layout.yaxis.type).toBe('linear');
+    expect(sharpnessFigure([pt(0, 1), pt(1, 1e6)], theme).layout.yaxis.type).toBe('log');
   });
 });
