@@ -159,10 +159,12 @@ that the stored trajectory is reproduced bit for bit.
 * **Layers**: at step ${blow} the update ratios ‖ΔW‖/‖W‖ of the two layers are ${ratios(atBlow)}, far above the
   usual 1e-3 (a rule of thumb): each step changes the weights by about their own size or more.
 * **Curvature**: open the Curvature tab and press *Measure curvature* — at step ${blow} the sharpest
-  directions lie far above the stability limit (λmax ≈ ${g3(lBlow)} against 2/η ≈ ${g3(2 / bad)}). Then **Rewind…** to step 0 and measure again: already at
-  the start the largest Hessian eigenvalue is λmax ≈ ${g3(l0)}. Gradient descent on a quadratic is stable
-  only while η·λmax/2 < 1, that is η < 2/λmax ≈ ${g3(2 / l0)}. With η = ${bad}, η·λmax/2 ≈ ${g3((bad * l0) / 2)}:
-  the direction of sharpest curvature is over-corrected at every step and the error along it grows.
+  directions lie far above the stability limit (λmax ≈ ${g3(lBlow)} against 2/η ≈ ${g3(2 / bad)}). Then
+  **Rewind…** to step 0, put 20 in the Step ×N box and press *Step ×20 tracking λmax*: the largest
+  Hessian eigenvalue starts at λmax ≈ ${g3(l0)}, already above the limit. Gradient descent on a
+  quadratic is stable only while η·λmax/2 < 1, that is η < 2/λmax ≈ ${g3(2 / l0)}. With η = ${bad},
+  η·λmax/2 ≈ ${g3((bad * l0) / 2)}: the direction of sharpest curvature is over-corrected at every step and
+  the error along it grows.
 
 The rule is about the local curvature along the trajectory, which changes as the weights move; it
 is a strong hint, not a proof. The fix is to step below the limit with a margin: η = ${good}
