@@ -7,11 +7,11 @@ import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { StepRecord } from '../core/state';
 import type { EngineClient, FinalReply, ProgressReply, RequestBody } from '../worker/client';
-import type { SharpnessPoint, StopCondition } from '../worker/protocol';
+import type { StopCondition } from '../worker/protocol';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, markdownSummary, meanMs, problemLine, verifyLine, PROXY_NOTE } from './summary';
+import { cellSummary, errorMarkdown, markdownSummary, meanMs, problemLine, verifyLine } from './summary';
 import type { CellViewState, Notice, ReadoutTab } from './view-state';
-import { initialViewState } from './view-state';
+import { initialViewState, mergeSharpness, viewFromLedger } from './view-state';
 import { RECENT_RECORDS, thinInPlace } from '../worker/thin';
 
 /** Collaborators of a {@link CellController}. */
@@ -83,63 +83,11 @@ export class CellController {
 
   /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
   readLedger(): void {
-    const read = this.deps.ledger.read(this.deps.host.readLedger());
-    const source = this.deps.host.readSource();
-    switch (read.kind) {
-      case 'absent':
-        this.content = null;
-        this.engineInSync = false;
-        this.set({
-          ledger: 'absent',
-          ledgerMessage: undefined,
-          sessionSpec: null,
-          specEdited: false,
-          summary: null,
-          trajectory: [],
-          audit: null,
-          curvature: null,
-          sharpness: [],
-          verify: null,
-          problems: this.deps.checkSpec(source)
-        });
-        return;
-      case 'corrupt':
-        this.content = null;
-        this.engineInSync = false;
-        this.set({
-          ledger: 'corrupt',
-          ledgerMessage: read.message,
-          sessionSpec: null,
-          summary: null,
-          trajectory: [],
-          problems: this.deps.checkSpec(source),
-          notice: {
-            level: 'error',
-            text:
-              `The saved Stepwell ledger of this cell cannot be read: ${read.message}. ` +
-              'The spec text is untouched. "Start over" replaces the unreadable ledger with a new session at step 0.'
-          }
-        });
-        return;
-      case 'ok':
-        this.content = read.content;
-        this.engineInSync = false;
-        this.set({
-          ledger: 'ok',
-          ledgerMessage: undefined,
-          audit: null,
-          curvature: null,
-          sharpness: [],
-          verify: null,
-          notice: null,
-          sessionSpec: read.content.specText,
-          specEdited: source !== read.content.specText,
-          summary: read.content.summary,
-          trajectory: read.content.trajectory,
-          problems: this.deps.checkSpec(source)
-        });
-        return;
-    }
+    const raw = this.deps.host.readLedger();
+    const read = this.deps.ledger.read(raw);
+    this.content = read.kind === 'ok' ? read.content : null;
+    this.engineInSync = false;
+    this.set(viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec));
   }
 
   /** Re-checks the editor's text (call on source changes, debounced). */
@@ -337,16 +285,26 @@ export class CellController {
     return this.persist();
   }
 
+  /**
+   * One request with the busy state shown (progress included) and the engine synced first.
+   *
+   * @returns the final reply, or null when busy or no session exists (a notice says why).
+   */
+  private async exchange(action: string, body: RequestBody, total = 0): Promise<FinalReply | null> {
+    if (this.st.busy !== null) return null;
+    const engine = await this.syncEngine();
+    if (engine === null) return null;
+    this.set({ busy: { action, done: 0, total } });
+    const reply = await engine.request(body, p => this.set({ busy: { action, done: p.done, total: p.total } }));
+    this.set({ busy: null });
+    return reply;
+  }
+
   /** Rewinds to `step` (≤ the current step), replaying from the nearest checkpoint. */
   async rewind(step: number): Promise<boolean> {
-    if (this.st.busy !== null) return false;
-    const engine = await this.syncEngine();
-    if (engine === null) return false;
-    this.set({ busy: { action: `Rewind to ${step}`, done: 0, total: 0 }, form: null });
-    const reply = await engine.request({ kind: 'rewind', step }, p =>
-      this.set({ busy: { action: `Rewind to ${step}`, done: p.done, total: p.total } })
-    );
-    this.set({ busy: null });
+    this.set({ form: null });
+    const reply = await this.exchange(`Rewind to ${step}`, { kind: 'rewind', step });
+    if (reply === null) return false;
     if (reply.kind !== 'rewound') return this.failed(reply);
     this.set({
       summary: reply.summary,
@@ -362,12 +320,8 @@ export class CellController {
 
   /** Runs the gradient audit at the current parameters. */
   async audit(): Promise<boolean> {
-    if (this.st.busy !== null) return false;
-    const engine = await this.syncEngine();
-    if (engine === null) return false;
-    this.set({ busy: { action: 'Gradient audit', done: 0, total: 0 } });
-    const reply = await engine.request({ kind: 'gradcheck', sample: this.deps.settings().auditSample });
-    this.set({ busy: null });
+    const reply = await this.exchange('Gradient audit', { kind: 'gradcheck', sample: this.deps.settings().auditSample });
+    if (reply === null) return false;
     if (reply.kind !== 'audit') return this.failed(reply);
     this.set({ audit: { step: reply.step, result: reply.result }, tab: 'audit' });
     return true;
@@ -375,13 +329,9 @@ export class CellController {
 
   /** Measures the Hessian spectrum and the recipe's stability limit at the current step. */
   async measureCurvature(): Promise<boolean> {
-    if (this.st.busy !== null) return false;
-    const engine = await this.syncEngine();
-    if (engine === null) return false;
-    const settings = this.deps.settings();
-    this.set({ busy: { action: 'Measuring curvature', done: 0, total: 0 } });
-    const reply = await engine.request({ kind: 'curvature', k: settings.eigenCount, denseLimit: settings.denseHessianLimit });
-    this.set({ busy: null });
+    const { eigenCount, denseHessianLimit } = this.deps.settings();
+    const reply = await this.exchange('Measuring curvature', { kind: 'curvature', k: eigenCount, denseLimit: denseHessianLimit });
+    if (reply === null) return false;
     if (reply.kind !== 'curvature') return this.failed(reply);
     this.set({ curvature: reply.result, tab: 'curvature' });
     return true;
@@ -389,15 +339,9 @@ export class CellController {
 
   /** Replays from the seed and compares with the current session. */
   async verify(): Promise<boolean> {
-    if (this.st.busy !== null) return false;
-    const engine = await this.syncEngine();
-    if (engine === null) return false;
-    const total = this.st.summary?.step ?? 0;
-    this.set({ busy: { action: 'Verify', done: 0, total }, verify: null });
-    const reply = await engine.request({ kind: 'verify' }, p =>
-      this.set({ busy: { action: 'Verify', done: p.done, total: p.total } })
-    );
-    this.set({ busy: null });
+    this.set({ verify: null });
+    const reply = await this.exchange('Verify', { kind: 'verify' }, this.st.summary?.step ?? 0);
+    if (reply === null) return false;
     if (reply.kind !== 'verified') return this.failed(reply);
     const ok = reply.result.match === 'bit-identical';
     this.set({ verify: reply.result, notice: { level: ok ? 'info' : 'error', text: verifyLine(reply.result) } });
@@ -438,16 +382,4 @@ export class CellController {
     const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
     this.deps.host.writeOutputs(summary, markdownSummary(summary));
   }
-}
-
-/** Adds new sharpness points, replacing any at the same step, in step order. */
-export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | undefined): SharpnessPoint[] {
-  if (fresh === undefined || fresh.length === 0) return old;
-  const steps = new Set(fresh.map(p => p.step));
-  return old.filter(p => !steps.has(p.step)).concat(fresh).sort((a, b) => a.step - b.step);
-}
-
-/** The markdown fallback for a cell whose spec does not parse yet. */
-export function errorMarkdown(lines: string[]): string {
-  return ['**Stepwell experiment**: the spec has problems.', '', ...lines.map(l => `- ${l.replace(/[<>*_`]/g, c => `\\${c}`)}`), '', `*${PROXY_NOTE}*`].join('\n');
 }

@@ -170,3 +170,8 @@ export function auditRows(a: AuditResult): AuditDisplayRow[] {
     verdict: l.verdict
   }));
 }
+
+/** The markdown fallback for a cell whose spec does not parse yet. */
+export function errorMarkdown(lines: string[]): string {
+  return ['**Stepwell experiment**: the spec has problems.', '', ...lines.map(l => `- ${escapeMarkdown(l)}`), '', `*${escapeMarkdown(PROXY_NOTE)}*`].join('\n');
+}

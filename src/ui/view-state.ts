@@ -4,6 +4,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
+import type { LedgerRead, SpecChecker } from './ports';
 import type { CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 
 /** Readout tabs of the cell widget. */
@@ -80,4 +81,55 @@ export function initialViewState(): CellViewState {
     tab: 'trace',
     runUntil: { condition: { kind: 'loss-below', value: 1e-3 }, maxSteps: 1000 }
   };
+}
+
+/** Adds new sharpness points, replacing any at the same step, in step order. */
+export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | undefined): SharpnessPoint[] {
+  if (fresh === undefined || fresh.length === 0) return old;
+  const steps = new Set(fresh.map(p => p.step));
+  return old.filter(p => !steps.has(p.step)).concat(fresh).sort((a, b) => a.step - b.step);
+}
+
+/**
+ * The view-state changes after reading the cell's metadata: a restored session (step, trace,
+ * status, without any engine), no session, or an unreadable ledger with its message.
+ *
+ * @param read - the ledger glue's verdict on `raw`.
+ * @param raw - the metadata value (for its size).
+ * @param source - the editor's text.
+ * @param checkSpec - the live spec check.
+ */
+export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, checkSpec: SpecChecker): Partial<CellViewState> {
+  const cleared: Partial<CellViewState> = { audit: null, curvature: null, sharpness: [], verify: null, problems: checkSpec(source) };
+  switch (read.kind) {
+    case 'absent':
+      return { ...cleared, ledger: 'absent', ledgerMessage: undefined, sessionSpec: null, specEdited: false, summary: null, trajectory: [] };
+    case 'corrupt':
+      return {
+        ...cleared,
+        ledger: 'corrupt',
+        ledgerMessage: read.message,
+        sessionSpec: null,
+        summary: null,
+        trajectory: [],
+        notice: {
+          level: 'error',
+          text:
+            `The saved Stepwell ledger of this cell cannot be read: ${read.message}. ` +
+            'The spec text is untouched. "Start over" replaces the unreadable ledger with a new session at step 0.'
+        }
+      };
+    case 'ok':
+      return {
+        ...cleared,
+        ledger: 'ok',
+        ledgerMessage: undefined,
+        ledgerBytes: new TextEncoder().encode(JSON.stringify(raw)).length,
+        notice: null,
+        sessionSpec: read.content.specText,
+        specEdited: source !== read.content.specText,
+        summary: read.content.summary,
+        trajectory: read.content.trajectory
+      };
+  }
 }

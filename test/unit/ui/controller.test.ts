@@ -85,6 +85,7 @@ describe('CellController', () => {
     // Restored from metadata alone: same step, same trace, no engine started.
     expect(engines).toBe(0);
     expect(reopened.state.summary?.step).toBe(10);
+    expect(reopened.state.ledgerBytes).toBe(c.state.ledgerBytes);
     expect(reopened.state.summary?.fingerprint).toBe(fingerprint);
     expect(reopened.state.trajectory.map(r => r.loss)).toEqual(c.state.trajectory.map(r => r.loss));
     expect(await reopened.verify()).toBe(true);

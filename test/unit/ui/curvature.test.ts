@@ -6,7 +6,7 @@ import { realCore } from '../../../src/worker/core-adapter';
 import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC } from '../../../src/spec';
 import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
-import { mergeSharpness } from '../../../src/ui/controller';
+import { mergeSharpness } from '../../../src/ui/view-state';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 
 const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
