@@ -190,6 +190,14 @@ describe('EngineHost', () => {
     expect(last()).toMatchObject({ id: 8, kind: 'failed', message: expect.stringContaining('request.kind') });
     await host.receive({ id: 9, kind: 'step', n: 1 });
     expect(last()).toMatchObject({ id: 9, kind: 'failed', message: expect.stringContaining('load') });
+    await host.receive({ id: 10, kind: 'step', n: 5, sharpnessEvery: -2 });
+    expect(last()).toMatchObject({ id: 10, kind: 'failed', message: expect.stringContaining('request.sharpnessEvery') });
+    await host.receive({ id: 11, kind: 'curvature', k: 3 });
+    expect(last()).toMatchObject({ id: 11, kind: 'failed', message: expect.stringContaining('request.denseLimit') });
+    await host.receive({ id: 12, kind: 'ledger', specText: 7, checkpointCap: 4 });
+    expect(last()).toMatchObject({ id: 12, kind: 'failed', message: expect.stringContaining('request.specText') });
+    await host.receive('step');
+    expect(last()).toMatchObject({ id: -1, kind: 'failed', message: expect.stringContaining('object') });
   });
 });
 
