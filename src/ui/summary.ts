@@ -109,7 +109,8 @@ export function statusLine(s: StatusInputs): string {
   const parts = [`step ${s.step}`, `loss ${fmt(s.last?.loss)}`];
   if (s.last?.heldOutLoss !== undefined) parts.push(`held-out ${fmt(s.last.heldOutLoss)}`);
   if (s.msPerStep !== undefined && Number.isFinite(s.msPerStep)) {
-    parts.push(s.msPerStep < 1 ? `${s.msPerStep.toFixed(2)} ms/step` : `${s.msPerStep.toFixed(1)} ms/step`);
+    const ms = s.msPerStep;
+    parts.push(ms < 0.1 ? `${(ms * 1000).toFixed(1)} µs/step` : ms < 1 ? `${ms.toFixed(2)} ms/step` : `${ms.toFixed(1)} ms/step`);
   }
   if (s.ledgerBytes !== undefined) parts.push(`ledger ${bytes(s.ledgerBytes)}`);
   return parts.join(' · ');

@@ -121,7 +121,7 @@ describe('stepwell cell in the browser', () => {
     const points = await cell.locator('.sw-TracePlot .scatterlayer .trace .point').count();
     expect(points).toBe(11);
     const before = await status(cell);
-    expect(before).toMatch(/^step 10 · loss [\d.e-]+ · .* ms\/step · ledger [\d.]+ kB · sgd η=0\.05/);
+    expect(before).toMatch(/^step 10 · loss [\d.e-]+ · .* (ms|µs)\/step · ledger [\d.]+ kB · sgd η=0\.05/);
     await widget.scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-3-stepped');
 

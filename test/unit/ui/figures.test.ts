@@ -84,6 +84,7 @@ describe('summary texts', () => {
   it('writes a status line with step, loss, timing and ledger size', () => {
     expect(statusLine({ step: 40, last: rec(40, 0.0132, 0.0171), msPerStep: 0.42, ledgerBytes: 14200 }))
       .toBe('step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB');
+    expect(statusLine({ step: 9, last: rec(9, 1), msPerStep: 0.0042 })).toBe('step 9 · loss 1 · 4.2 µs/step');
   });
 
   it('places spec problems at their line', () => {
