@@ -245,3 +245,29 @@ describe('thinInPlace', () => {
     expect([...steps].sort((a, b) => a - b)).toEqual(steps);
   });
 });
+
+describe('long runs stay bounded in memory', () => {
+  it('thins the trajectory and the checkpoints the host keeps, and samples what it sends', async () => {
+    const { MEMORY_RECORD_CAP, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, DISPLAY_RECORDS } = require('../../../src/worker/thin') as typeof import('../../../src/worker/thin');
+    const { host, replies, last } = collect({ chunkMs: 20 });
+    await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 5 });
+    const n = MEMORY_RECORD_CAP + 5000;
+    await host.receive({ id: 2, kind: 'step', n });
+    const stepped = last();
+    expect(stepped).toMatchObject({ kind: 'stepped', summary: { step: n } });
+    for (const r of replies) if (r.kind === 'progress' || r.kind === 'stepped') expect(r.records.length).toBeLessThanOrEqual(REPLY_SAMPLE);
+    await host.receive({ id: 3, kind: 'snapshot' });
+    const snap = last();
+    if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
+    expect(snap.trajectory.length).toBeLessThanOrEqual(MEMORY_RECORD_CAP);
+    expect(snap.trajectory[snap.trajectory.length - 1].step).toBe(n);
+    expect(snap.checkpoints.length).toBeLessThanOrEqual(2 * MEMORY_CHECKPOINT_CAP);
+    await host.receive({ id: 4, kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 20 });
+    const ledger = last();
+    if (ledger.kind !== 'ledger') throw new Error('expected a ledger');
+    expect(ledger.trajectory.length).toBeLessThanOrEqual(DISPLAY_RECORDS);
+    // The replay still matches: thinning drops records, never changes them.
+    await host.receive({ id: 5, kind: 'verify' });
+    expect(last()).toMatchObject({ kind: 'verified', result: { match: 'bit-identical', steps: n } });
+  }, 60_000);
+});
