@@ -90,7 +90,7 @@ export class StepwellCellWidget extends Widget {
       const text = this.nInput.value;
       if (text.trim() === '') return void c.step();
       const n = readNumber(text, 'N', true, 1);
-      if (typeof n === 'string') this.noticeNode.textContent = n;
+      if (typeof n === 'string') c.say('error', `Step ×N: ${n}.`);
       else void c.step(n);
     });
     add('until', 'Run until…', 'Step until a condition holds', () => c.setForm(c.state.form === 'run-until' ? null : 'run-until'));

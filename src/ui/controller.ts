@@ -81,6 +81,11 @@ export class CellController {
     this.set({ notice: { level, text } });
   }
 
+  /** Shows a message in the cell (e.g. a bad value typed into a control). */
+  say(level: Notice['level'], text: string): void {
+    this.notice(level, text);
+  }
+
   /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
   readLedger(): void {
     const raw = this.deps.host.readLedger();

@@ -114,6 +114,12 @@ describe('stepwell cell in the browser', () => {
     await cell.locator('.sw-Status', { hasText: 'η=0.05' }).waitFor({ timeout: 30_000 });
     await waitForStep(cell, 0);
 
+    // A bad N is refused with a message that names it.
+    await cell.locator('.sw-StepN').fill('2.5');
+    await cell.locator('.sw-Button-stepN').click();
+    await cell.locator('.sw-Notice', { hasText: 'N must be a whole number, got 2.5' }).waitFor({ timeout: 5_000 });
+    await cell.locator('.sw-StepN').fill('');
+
     // Step ×N with the default N (10): status and trace update.
     await cell.locator('.sw-Button-stepN').click();
     await waitForStep(cell, 10);
