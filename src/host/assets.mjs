@@ -160,7 +160,7 @@ export function disabledPlugins(app) {
   return [...new Set([...app.disabled, ...own])];
 }
 
-/** The page config the app reads at start-up (see HOSTING.md for what each key does). */
+/** The page config the app reads at start-up (see DEVELOPERS.md, "Page config keys that matter"). */
 export function pageConfig(app) {
   const { pkg } = readPackageJson('.');
   return {
