@@ -82,6 +82,8 @@ export class StepwellCellWidget extends Widget {
     this.noticeNode.setAttribute('role', 'status');
     this.nInput.setAttribute('aria-label', 'steps per Step ×N');
     this.nInput.value = '';
+    this.nInput.placeholder = String(c.defaultN);
+    this.nInput.addEventListener('input', () => this.labelStepN());
     const add = (key: string, label: string, title: string, onClick: () => void): void => {
       this.buttons[key] = button(label, title, onClick, `sw-Button-${key}`);
     };
@@ -98,6 +100,7 @@ export class StepwellCellWidget extends Widget {
     add('reset', 'Reset', 'Start again at step 0 from the spec text', () => void c.reset());
     add('verify', 'Verify', 'Replay from the seed and compare bit for bit', () => void c.verify());
     add('start', 'Start over', 'Replace the unreadable ledger with a new session from the spec', () => void c.run(true));
+    this.labelStepN();
     this.controlsNode.append(
       this.buttons.step, this.buttons.stepN, this.nInput, this.buttons.until, this.buttons.rewind,
       this.buttons.reset, this.buttons.verify, this.buttons.start
@@ -205,6 +208,11 @@ export class StepwellCellWidget extends Widget {
       if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
       if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
     }
+  }
+
+  /** Shows the N that Step ×N will use on its button. */
+  private labelStepN(): void {
+    this.buttons.stepN.textContent = `Step ×${this.stepsFromBox()}`;
   }
 
   /** N of the Step ×N box, or the default when it is empty or invalid. */
