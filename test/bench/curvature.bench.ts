@@ -3,10 +3,8 @@
  * readouts (top-10 Lanczos, dense spectrum) on seeded random MLPs of three sizes.
  * Reference figures (PyTorch 1.13 + SciPy, one thread, float64) are the ones stated in the issue.
  */
-import { Network } from '../../src/core/model/network';
-import { initNetwork } from '../../src/core/model/init';
 import { Rng } from '../../src/core/rng';
-import type { ActivationName, LossName, NetworkModel } from '../../src/core/setup';
+import { buildMlp, type MlpShape } from './networks';
 import { symmetricEigen } from '../../src/core/linalg/symmetric-eigen';
 import { lanczosExtremes } from '../../src/core/linalg/lanczos';
 import { curvatureOperator, denseSpectrum } from '../../src/core/probe/curvature';
@@ -41,11 +39,7 @@ function cpu(t: { ms: number; cpuMs?: number }): Record<string, string> {
   return t.cpuMs === undefined ? {} : { 'cpu ms': t.cpuMs.toFixed(0) };
 }
 
-interface MlpCase {
-  widths: number[];
-  act: ActivationName;
-  loss: LossName;
-  batch: number;
+interface MlpCase extends MlpShape {
   dense: boolean;
   /** PyTorch + scipy eigsh top-10 figures from the issue. */
   reference?: { ms: number; what: string };
@@ -57,18 +51,6 @@ const MLPS: MlpCase[] = [
   { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256, dense: process.env.STEPWELL_BENCH_FULL === '1', reference: { ms: 210, what: 'PyTorch 1.13 + scipy eigsh top-10, 117 Hv, 1 thread' } },
   { widths: [64, 256, 256, 10], act: 'relu', loss: 'cross-entropy', batch: 512, dense: false },
 ];
-
-function buildMlp(c: MlpCase): { net: Network; w: Float64Array } {
-  const rng = Rng.fromSeed(11);
-  const [inputs, ...units] = c.widths;
-  const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
-  const k = units[units.length - 1];
-  const x = rng.fillNormal(new Float64Array(c.batch * inputs));
-  const y = new Float64Array(c.loss === 'cross-entropy' ? c.batch : c.batch * k);
-  for (let i = 0; i < y.length; i++) y[i] = c.loss === 'cross-entropy' ? rng.int(k) : rng.normal();
-  const net = new Network(model, { rows: c.batch, inputs, targets: c.loss === 'cross-entropy' ? 1 : k, x, y }, c.loss, 0);
-  return { net, w: initNetwork(model, rng) };
-}
 
 /**
  * Figures: `dense eigenvalues n = …` (values only) for n = 370, 1000, 2000 (reference: LAPACK
@@ -98,7 +80,7 @@ export function run(): BenchResult[] {
     }
   }
   for (const c of MLPS) {
-    const { net, w } = buildMlp(c);
+    const { net, w } = buildMlp(c, 11);
     const p = net.parameterCount;
     const label = `${c.widths.join('-')} ${c.act}, ${c.loss}, batch ${c.batch} (P = ${p})`;
     let hv = 0;

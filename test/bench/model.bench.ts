@@ -1,17 +1,11 @@
 /** Gradient and Hessian-vector product timings of the network core. */
-import { Network } from '../../src/core/model/network';
-import { initNetwork } from '../../src/core/model/init';
 import { Rng } from '../../src/core/rng';
-import type { ActivationName, LossName, NetworkModel } from '../../src/core/setup';
+import { buildMlp, type MlpShape } from './networks';
 import { timeIt, type BenchResult } from './types';
 
 export const title = 'Network core: gradient and Hessian-vector product';
 
-interface Case {
-  widths: number[];
-  act: ActivationName;
-  loss: LossName;
-  batch: number;
+interface Case extends MlpShape {
   /** PyTorch 1.13 CPU, float64, one thread, gradient only (figures from the issue, measured on this kind of machine). */
   torchGradMs?: number;
 }
@@ -22,22 +16,10 @@ const cases: Case[] = [
   { widths: [64, 256, 256, 10], act: 'relu', loss: 'cross-entropy', batch: 512 },
 ];
 
-function build(c: Case): { net: Network; w: Float64Array } {
-  const rng = Rng.fromSeed(1);
-  const [inputs, ...units] = c.widths;
-  const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
-  const k = units[units.length - 1];
-  const x = rng.fillNormal(new Float64Array(c.batch * inputs));
-  const y = new Float64Array(c.loss === 'cross-entropy' ? c.batch : c.batch * k);
-  for (let i = 0; i < y.length; i++) y[i] = c.loss === 'cross-entropy' ? rng.int(k) : rng.normal();
-  const net = new Network(model, { rows: c.batch, inputs, targets: c.loss === 'cross-entropy' ? 1 : k, x, y }, c.loss, 0);
-  return { net, w: initNetwork(model, rng) };
-}
-
 export function run(): BenchResult[] {
   const out: BenchResult[] = [];
   for (const c of cases) {
-    const { net, w } = build(c);
+    const { net, w } = buildMlp(c, 1);
     const P = net.parameterCount;
     const g = new Float64Array(P), v = Rng.fromSeed(2).fillNormal(new Float64Array(P)), hv = new Float64Array(P);
     const label = `${c.widths.join('-')} ${c.act}, ${c.loss}, batch ${c.batch} (P = ${P})`;

@@ -1,8 +1,10 @@
 /**
- * Small objectives written for these tests (independent of core/model): a quadratic
- * ½(w − c)ᵀA(w − c), the Rosenbrock function and a least-squares regression over rows.
+ * Objectives for the optimizer tests: the engine's analytic quadratic and Rosenbrock functions
+ * (themselves checked against PyTorch) and a least-squares regression over rows with two
+ * weight blocks.
  */
 import type { Objective, ParamBlock, Rows } from '../../../src/core/objective';
+import { Rosenbrock } from '../../../src/core/model/analytic';
 import type { Experiment, Recipe } from '../../../src/core/setup';
 
 /** Defaults as documented in src/core/setup.ts. */
@@ -20,77 +22,14 @@ export function experiment(patch: Partial<Recipe> = {}, seed = 7): Experiment {
   return { seed, setup: { model: { kind: 'rosenbrock', start: [-1.2, 1] }, loss: 'mse', l2: 0 }, recipe: recipe(patch) };
 }
 
-function paramBlocks(p: number): ParamBlock[] {
-  return [{ name: 'x', layer: -1, kind: 'param', offset: 0, size: p, shape: [p] }];
-}
 
-/** f(w) = ½ (w − c)ᵀ A (w − c), A dense symmetric (row-major). */
-export class TestQuadratic implements Objective {
-  readonly parameterCount: number;
-  readonly blocks: readonly ParamBlock[];
-  readonly rowCount = 0;
-  private readonly r: Float64Array;
-  constructor(readonly a: number[][], readonly c: number[]) {
-    this.parameterCount = c.length;
-    this.blocks = paramBlocks(c.length);
-    this.r = new Float64Array(c.length);
-  }
-  private mul(v: Float64Array, out: Float64Array): void {
-    const n = this.parameterCount;
-    for (let i = 0; i < n; i++) {
-      let s = 0;
-      for (let j = 0; j < n; j++) s += this.a[i][j] * v[j];
-      out[i] = s;
-    }
-  }
-  value(w: Float64Array): number {
-    const g = new Float64Array(this.parameterCount);
-    return this.gradient(w, g);
-  }
-  gradient(w: Float64Array, out: Float64Array): number {
-    for (let i = 0; i < this.parameterCount; i++) this.r[i] = w[i] - this.c[i];
-    this.mul(this.r, out);
-    let s = 0;
-    for (let i = 0; i < this.parameterCount; i++) s += this.r[i] * out[i];
-    return 0.5 * s;
-  }
-  hvp(_w: Float64Array, v: Float64Array, out: Float64Array): void {
-    this.mul(v, out);
-  }
-  gnvp(w: Float64Array, v: Float64Array, out: Float64Array): void {
-    this.hvp(w, v, out);
-  }
-}
+/** f(w) = ½ (w − c)ᵀ A (w − c): the engine's own analytic quadratic (checked against PyTorch in test/reference/model). */
+export { Quadratic as TestQuadratic } from '../../../src/core/model/analytic';
 
-/** f(x, y) = (1 − x)² + 100 (y − x²)² (Rosenbrock 1960). */
-export class TestRosenbrock implements Objective {
-  readonly parameterCount = 2;
-  readonly blocks = paramBlocks(2);
-  readonly rowCount = 0;
-  value(w: Float64Array): number {
-    const [x, y] = w;
-    return (1 - x) ** 2 + 100 * (y - x * x) ** 2;
-  }
-  gradient(w: Float64Array, out: Float64Array): number {
-    const [x, y] = w;
-    out[0] = -2 * (1 - x) - 400 * x * (y - x * x);
-    out[1] = 200 * (y - x * x);
-    return this.value(w);
-  }
-  hvp(w: Float64Array, v: Float64Array, out: Float64Array): void {
-    const [x, y] = w;
-    const hxx = 2 - 400 * (y - x * x) + 800 * x * x;
-    const hxy = -400 * x;
-    out[0] = hxx * v[0] + hxy * v[1];
-    out[1] = hxy * v[0] + 200 * v[1];
-  }
-  gnvp(w: Float64Array, v: Float64Array, out: Float64Array): void {
-    // Residuals r = (1 − x, 10(y − x²)), f = Σ r²: G = 2JᵀJ.
-    const x = w[0];
-    const j = [[-1, 0], [-20 * x, 10]];
-    const jv = [j[0][0] * v[0] + j[0][1] * v[1], j[1][0] * v[0] + j[1][1] * v[1]];
-    out[0] = 2 * (j[0][0] * jv[0] + j[1][0] * jv[1]);
-    out[1] = 2 * (j[0][1] * jv[0] + j[1][1] * jv[1]);
+/** The 2-D Rosenbrock function (Rosenbrock 1960), the engine's own (checked against PyTorch in test/reference/model). */
+export class TestRosenbrock extends Rosenbrock {
+  constructor() {
+    super(2);
   }
 }
 
