@@ -251,7 +251,9 @@ network of this depth; it is not a guarantee about the production model.*
 function notebook(cells: NbCell[]): Json {
   return {
     cells,
-    metadata: { stepwell_demo: true, language_info: { name: 'yaml' } },
+    // The empty kernelspec is what JupyterLab records for "No Kernel"; without it the notebook
+    // turns dirty the moment it opens. Stepwell cells never need a kernel.
+    metadata: { stepwell_demo: true, kernelspec: { name: '', display_name: '' }, language_info: { name: 'yaml' } },
     nbformat: 4,
     nbformat_minor: 5
   };
