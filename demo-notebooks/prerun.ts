@@ -2,7 +2,7 @@
  * Browser entry of the demo generator: steps stepwell cells through the same controller
  * and engine host as the extension, inside headless Chromium, so the stored ledgers replay
  * bit for bit in the browser (JavaScript engines differ in their Math functions; see
- * src/ui/DESIGN.md). Bundled by make_demos.ts with esbuild; exposes `stepwellPrerun`.
+ * DEVELOPERS.md, "Replays and JavaScript engines"). Bundled by make_demos.ts with esbuild; exposes `stepwellPrerun`.
  */
 import { CellController } from '../src/ui/controller';
 import { DEFAULT_SETTINGS } from '../src/ui/ports';
