@@ -4,8 +4,8 @@
  * eigen-directions above it grow instead of shrink). Pure; rendered by `plot.ts`.
  */
 import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
-import type { AxisLayout, Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
-import { chooseScale } from './trace-figure';
+import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
+import { chooseScale, themedAxis, themedLayout } from './trace-figure';
 
 /**
  * Builds the spectrum-ends figure.
@@ -58,29 +58,15 @@ export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure 
       hovertemplate: `limit λ = %{y:.6g}<extra></extra>`
     });
   }
-  const axis = (title: string): AxisLayout => ({
-    title: { text: title },
-    type: 'linear',
-    gridcolor: theme.grid,
-    zerolinecolor: theme.foreground,
-    color: theme.foreground,
-    automargin: true,
-    exponentformat: 'power'
-  });
   return {
     data,
-    layout: {
+    layout: themedLayout(theme, {
       height: 260,
-      margin: { l: 56, r: 16, t: 24, b: 40 },
-      paper_bgcolor: theme.background,
-      plot_bgcolor: theme.background,
-      font: { family: theme.font, color: theme.foreground, size: 12 },
-      xaxis: axis('rank (1 = largest, −1 = smallest)'),
-      yaxis: axis('Hessian eigenvalue λ'),
-      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      xaxis: themedAxis(theme, 'rank (1 = largest, −1 = smallest)', 'linear', theme.foreground),
+      yaxis: themedAxis(theme, 'Hessian eigenvalue λ', 'linear', theme.foreground),
       annotations,
       showlegend: true
-    }
+    })
   };
 }
 
@@ -141,31 +127,18 @@ export function sharpnessFigure(points: readonly SharpnessPoint[], theme: Figure
       });
     }
   }
-  const axis = (title: string): AxisLayout => ({
-    title: { text: title },
-    type: 'linear',
-    gridcolor: theme.grid,
-    zerolinecolor: theme.grid,
-    color: theme.foreground,
-    automargin: true,
-    exponentformat: 'power'
-  });
   return {
     data,
-    layout: {
+    layout: themedLayout(theme, {
       height: 240,
-      margin: { l: 56, r: 16, t: 24, b: 40 },
-      paper_bgcolor: theme.background,
-      plot_bgcolor: theme.background,
-      font: { family: theme.font, color: theme.foreground, size: 12 },
-      xaxis: { ...axis('step'), rangemode: 'tozero' },
-      yaxis: {
-        ...axis(pre ? 'sharpness of the preconditioned Hessian' : 'λmax'),
-        type: chooseScale([...points.map(p => p.sharpness), ...limited.map(p => p.limit as number)])
-      },
-      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      xaxis: { ...themedAxis(theme, 'step'), rangemode: 'tozero' },
+      yaxis: themedAxis(
+        theme,
+        pre ? 'sharpness of the preconditioned Hessian' : 'λmax',
+        chooseScale([...points.map(p => p.sharpness), ...limited.map(p => p.limit as number)])
+      ),
       annotations: [],
       showlegend: true
-    }
+    })
   };
 }

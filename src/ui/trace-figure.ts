@@ -78,6 +78,26 @@ export interface Figure {
   };
 }
 
+/** A themed axis: grid, zero line and tick colours from the JupyterLab theme, powers of ten as 10⁻⁶. */
+export function themedAxis(theme: FigureTheme, title: string, type: 'linear' | 'log' = 'linear', zeroline: string = theme.grid): AxisLayout {
+  return { title: { text: title }, type, gridcolor: theme.grid, zerolinecolor: zeroline, color: theme.foreground, automargin: true, exponentformat: 'power' };
+}
+
+/** The layout every Stepwell figure shares (theme colours, margins, legend top right); callers give the parts that differ. */
+export function themedLayout(
+  theme: FigureTheme,
+  parts: Pick<Figure['layout'], 'height' | 'xaxis' | 'yaxis' | 'annotations' | 'showlegend'>
+): Figure['layout'] {
+  return {
+    margin: { l: 56, r: 16, t: 24, b: 40 },
+    paper_bgcolor: theme.background,
+    plot_bgcolor: theme.background,
+    font: { family: theme.font, color: theme.foreground, size: 12 },
+    legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+    ...parts
+  };
+}
+
 /** Options of {@link traceFigure}. */
 export interface TraceOptions {
   /** Pixel height. Default 260. */
@@ -200,28 +220,14 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
   }
   const values = [...trajectory.map(r => r.loss), ...held.map(r => r.heldOutLoss as number)];
   const scale = options.scale === undefined || options.scale === 'auto' ? chooseScale(values) : options.scale;
-  const axis = (title: string, type: 'linear' | 'log'): AxisLayout => ({
-    title: { text: title },
-    type,
-    gridcolor: theme.grid,
-    zerolinecolor: theme.grid,
-    color: theme.foreground,
-    automargin: true,
-    exponentformat: 'power'
-  });
   return {
     data,
-    layout: {
+    layout: themedLayout(theme, {
       height: options.height ?? 260,
-      margin: { l: 56, r: 16, t: 24, b: 40 },
-      paper_bgcolor: theme.background,
-      plot_bgcolor: theme.background,
-      font: { family: theme.font, color: theme.foreground, size: 12 },
-      xaxis: { ...axis('step', 'linear'), rangemode: 'tozero' },
-      yaxis: axis(scale === 'log' ? 'loss (log scale)' : 'loss', scale),
-      legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+      xaxis: { ...themedAxis(theme, 'step'), rangemode: 'tozero' },
+      yaxis: themedAxis(theme, scale === 'log' ? 'loss (log scale)' : 'loss', scale),
       annotations,
       showlegend: held.length > 0
-    }
+    })
   };
 }
