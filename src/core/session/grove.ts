@@ -278,7 +278,7 @@ export class Grove {
       chain.unshift({ experiment: c.experiment, forkStep: c.origin === null ? null : c.origin.step });
     }
     const checkpoints = b.checkpoints.filter((c) => c.step <= target);
-    const plan = planReplay(chain, target, new Set(checkpoints.map((c) => c.step)), (e, s) => this.newSession(e, s));
+    const plan = planReplay(chain, target, new Set(checkpoints.map((c) => c.step)), new Set(b.trajectory.map((r) => r.step)), (e, s) => this.newSession(e, s));
     const live = b.session;
     // At the current step the live session is the recorded state; earlier ones are rebuilt.
     const recorded = target === live.stepCount ? null : this.reachPlan(b, target);

@@ -32,12 +32,15 @@ export interface ReplayPlan {
  * Plans the replay of `chain` (root first, the replayed branch last) up to `target`.
  *
  * @param checkpointSteps - the replayed branch's checkpoint steps (fingerprints noted there).
+ * @param recordSteps - the steps whose records will be compared (only these, the checkpoint
+ *   steps and step 0 are noted, so a replay of millions of updates holds little).
  * @param newSession - makes a session for an experiment, fresh (null) or from a state.
  */
 export function planReplay(
   chain: readonly ReplayLink[],
   target: number,
   checkpointSteps: ReadonlySet<number>,
+  recordSteps: ReadonlySet<number>,
   newSession: (experiment: Experiment, state: SessionState | null) => Session
 ): ReplayPlan {
   const steps: ReplayedStep[] = [];
@@ -49,6 +52,7 @@ export function planReplay(
     const to = last ? target : (chain[k + 1].forkStep as number);
     const note = (s: Session, record: ReplayedStep['record']): void => {
       const at = last && checkpointSteps.has(s.stepCount);
+      if (!at && !recordSteps.has(s.stepCount) && s.stepCount !== 0) return;
       steps.push({ step: s.stepCount, record, fingerprint: at ? s.fingerprint() : null, params: at ? Float64Array.from(s.parameters) : null });
     };
     return {
@@ -67,7 +71,7 @@ export function planReplay(
         note(s, before);
         return s;
       },
-      each: (s, record) => note(s, record),
+      each: note,
       close: (s) => {
         prev = s;
         if (last) final = s;
