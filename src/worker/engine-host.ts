@@ -2,42 +2,33 @@
  * The engine host: the worker's whole behaviour as a plain class. The worker entry only
  * forwards messages to {@link EngineHost.receive}; unit tests call it directly in Node.
  *
- * Long work (step, run-until, verify, rewind replays) runs in chunks of about
- * {@link EngineHost.Options.chunkMs} milliseconds; between chunks the host posts a
- * `progress` reply and yields to the event loop, so a `stop` request can arrive and set
- * the flag that the loop checks before every update.
+ * The session lives in a core {@link Grove} (one branch, `main`): stepping, checkpoints,
+ * trajectory bounds, rewind and replay verdicts are the grove's. The host adds what only a
+ * worker needs: requests in arrival order, time slices of about
+ * {@link EngineHost.Options.chunkMs} milliseconds with a `progress` reply and a yield to the
+ * event loop between them (so a `stop` request can arrive and be honoured between updates),
+ * samples of records instead of whole trajectories, and the protocol's reply shapes.
  */
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
-import type { EngineCore, EngineSession } from './engine-core';
-import type {
-  CheckpointData,
-  EngineReply,
-  EngineRequest,
-  SessionSummary,
-  SharpnessPoint,
-  StopCondition,
-  VerifyResult
-} from './protocol';
+import { Grove, type GroveOptions, type GroveTask, type RunReason, type StepHooks } from '../core/session';
+import type { EngineCore } from './engine-core';
+import type { CheckpointData, EngineReply, EngineRequest, SessionSummary, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
-import { evaluateStop } from '../core/session/stop';
 import { describeRecipe, describeSetup } from './describe';
-import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, sampleRecords, thinInPlace } from './thin';
-import { buildCellLedger } from './ledger-build';
-import { thinCheckpoints } from '../ledger/thin';
+import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECORDS, REPLY_SAMPLE, sampleRecords } from './thin';
+import { buildCellLedger, MAIN_BRANCH } from './ledger-build';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
 
-/** Why a loop ended. */
-type LoopEnd = 'done' | 'stopped' | 'condition' | 'non-finite';
+/** Why a stepping request ended (the protocol's `reason`). */
+type StepEnd = 'done' | 'stopped' | 'condition' | 'non-finite';
 
-/** The loaded experiment and its live session. */
+/** The loaded experiment and its grove. */
 interface Loaded {
   experiment: Experiment;
-  session: EngineSession;
-  trajectory: StepRecord[];
-  checkpoints: CheckpointData[];
+  grove: Grove;
   checkpointEvery: number;
 }
 
@@ -52,11 +43,9 @@ export class EngineHost {
   private queue: Promise<void> = Promise.resolve();
   private running: number | null = null;
   private stopFlag = false;
-  /** Extra fields of the next progress reply (the running request's measurements). */
-  private progressExtras: () => { sharpness?: SharpnessPoint[] } = () => ({});
 
   /**
-   * @param core - the numerics (see `core-adapter.ts` for the real one).
+   * @param core - parsing and readouts (see `core-adapter.ts` for the real one).
    * @param post - where replies go.
    * @param options - tuning; defaults in {@link EngineHost.Options}.
    */
@@ -99,7 +88,6 @@ export class EngineHost {
     } finally {
       this.running = null;
       this.stopFlag = false;
-      this.progressExtras = () => ({});
     }
   }
 
@@ -115,49 +103,44 @@ export class EngineHost {
         return this.stepMany(id, request.maxSteps, request.condition, 0);
       case 'reset': {
         const l = this.need();
-        this.loaded = this.fresh(l.experiment, l.checkpointEvery);
-        this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: sampleRecords(this.loaded.trajectory, DISPLAY_RECORDS) });
+        this.loaded = { ...l, grove: Grove.create(l.experiment, groveOptions(l.checkpointEvery), MAIN_BRANCH) };
+        this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: this.display() });
         return;
       }
       case 'rewind':
         return this.rewind(id, request.step);
       case 'gradcheck': {
         const l = this.need();
-        const result = this.core.audit(l.experiment, l.session, request.sample);
-        this.post({ id, kind: 'audit', step: l.session.stepCount, result });
+        const session = l.grove.session(MAIN_BRANCH);
+        this.post({ id, kind: 'audit', step: session.stepCount, result: this.core.audit(l.experiment, session, request.sample) });
         return;
       }
       case 'curvature': {
         const l = this.need();
-        this.post({ id, kind: 'curvature', result: this.core.curvature(l.experiment, l.session, request.k, request.denseLimit) });
+        this.post({ id, kind: 'curvature', result: this.core.curvature(l.experiment, l.grove.session(MAIN_BRANCH), request.k, request.denseLimit) });
         return;
       }
       case 'snapshot': {
-        const l = this.need();
-        this.post({
-          id,
-          kind: 'snapshot',
-          summary: this.summary(),
-          state: l.session.state(),
-          trajectory: l.trajectory.slice(),
-          checkpoints: l.checkpoints.slice()
-        });
+        const g = this.need().grove;
+        this.post({ id, kind: 'snapshot', summary: this.summary(), state: g.session(MAIN_BRANCH).state(), trajectory: g.trajectory(MAIN_BRANCH), checkpoints: checkpointData(g) });
         return;
       }
       case 'verify':
         return this.verify(id);
       case 'ledger': {
         const l = this.need();
+        const session = l.grove.session(MAIN_BRANCH);
+        const trajectory = l.grove.trajectory(MAIN_BRANCH);
         const built = buildCellLedger({
           specText: request.specText,
           experiment: l.experiment,
-          parameterCount: l.session.parameterCount,
-          head: l.session.state(),
-          trajectory: l.trajectory,
-          checkpoints: l.checkpoints,
+          parameterCount: session.objective.parameterCount,
+          head: session.state(),
+          trajectory,
+          checkpoints: checkpointData(l.grove),
           checkpointCap: request.checkpointCap
         });
-        this.post({ id, kind: 'ledger', summary: this.summary(), value: built.value, bytes: built.bytes, trajectory: sampleRecords(l.trajectory, DISPLAY_RECORDS) });
+        this.post({ id, kind: 'ledger', summary: this.summary(), value: built.value, bytes: built.bytes, trajectory: sampleRecords(trajectory, DISPLAY_RECORDS) });
         return;
       }
     }
@@ -168,192 +151,150 @@ export class EngineHost {
     return this.loaded;
   }
 
-  private fresh(experiment: Experiment, checkpointEvery: number): Loaded {
-    const session = this.core.create(experiment);
-    return {
-      experiment,
-      session,
-      trajectory: [session.initialRecord()],
-      checkpoints: [{ step: 0, fingerprint: session.fingerprint(), state: session.state() }],
-      checkpointEvery
-    };
-  }
-
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
     const parsed = this.core.parse(request.specText);
     if (!parsed.ok) {
       this.post({ id: request.id, kind: 'spec-errors', errors: parsed.errors });
       return;
     }
-    const resume = request.resume;
-    if (resume === undefined) {
-      this.loaded = this.fresh(parsed.experiment, request.checkpointEvery);
-    } else {
-      const last = resume.trajectory[resume.trajectory.length - 1];
-      if (last === undefined || last.step !== resume.state.step) {
-        throw new Error(
-          `saved trajectory ends at step ${last?.step ?? 'none'} but the saved state is at step ${resume.state.step}`
-        );
-      }
-      const session = this.core.restore(parsed.experiment, resume.state);
-      this.loaded = {
-        experiment: parsed.experiment,
-        session,
-        trajectory: resume.trajectory.slice(),
-        checkpoints: resume.checkpoints.slice().sort((a, b) => a.step - b.step),
-        checkpointEvery: request.checkpointEvery
-      };
-    }
-    this.post({
-      id: request.id,
-      kind: 'ready',
-      summary: this.summary(),
-      trajectory: sampleRecords(this.loaded.trajectory, DISPLAY_RECORDS),
-      warnings: parsed.warnings
-    });
+    const opts = groveOptions(request.checkpointEvery);
+    const grove = request.resume === undefined ? Grove.create(parsed.experiment, opts, MAIN_BRANCH) : Grove.resume(parsed.experiment, request.resume, opts, MAIN_BRANCH);
+    this.loaded = { experiment: parsed.experiment, grove, checkpointEvery: request.checkpointEvery };
+    this.post({ id: request.id, kind: 'ready', summary: this.summary(), trajectory: this.display(), warnings: parsed.warnings });
   }
 
   private summary(): SessionSummary {
     const l = this.need();
+    const session = l.grove.session(MAIN_BRANCH);
     return {
-      step: l.session.stepCount,
-      fingerprint: l.session.fingerprint(),
-      parameterCount: l.session.parameterCount,
-      checkpointSteps: l.checkpoints.map(c => c.step),
+      step: session.stepCount,
+      fingerprint: session.fingerprint(),
+      parameterCount: session.objective.parameterCount,
+      checkpointSteps: l.grove.checkpointSteps(MAIN_BRANCH),
       recipe: describeRecipe(l.experiment.recipe),
       setup: describeSetup(l.experiment.setup)
     };
   }
 
+  /** An even sample of the trajectory for display. */
+  private display(): StepRecord[] {
+    return sampleRecords(this.need().grove.trajectory(MAIN_BRANCH), DISPLAY_RECORDS);
+  }
+
   /**
-   * Runs `body` up to `total` times in time-sliced chunks, posting progress between chunks.
-   * `body` returns a record to report, or a loop end to finish early.
+   * Calls `slice` with hooks that end it after about `chunkMs` (at least one update each) or
+   * on a stop request, posting progress and yielding between slices, until `slice` says it
+   * is finished or a stop request arrived.
+   *
+   * @param progress - what the progress reply after a slice carries.
+   * @returns 'stopped' when a stop request ended the work.
    */
   private async sliced(
     id: number,
-    total: number,
-    body: (i: number) => StepRecord | LoopEnd
-  ): Promise<{ end: LoopEnd; pending: StepRecord[] }> {
-    let pending: StepRecord[] = [];
-    let chunkStart = performance.now();
-    for (let i = 0; i < total; i++) {
-      if (this.stopFlag) return { end: 'stopped', pending };
-      const out = body(i);
-      if (typeof out === 'string') return { end: out, pending };
-      pending.push(out);
-      if (performance.now() - chunkStart >= this.chunkMs && i + 1 < total) {
-        this.post({ id, kind: 'progress', done: i + 1, total, records: sampleRecords(pending, REPLY_SAMPLE), ...this.progressExtras() });
-        pending = [];
-        await nextTick();
-        chunkStart = performance.now();
-      }
-    }
-    return { end: 'done', pending };
-  }
-
-  private checkpointIfDue(l: Loaded): void {
-    const step = l.session.stepCount;
-    if (l.checkpointEvery > 0 && step % l.checkpointEvery === 0) {
-      l.checkpoints.push({ step, fingerprint: l.session.fingerprint(), state: l.session.state() });
-      // A long run would pile up states; thin them with the ledger's policy (dense near the head).
-      if (l.checkpoints.length > 2 * MEMORY_CHECKPOINT_CAP) {
-        const keep = new Set(thinCheckpoints(l.checkpoints.map(c => c.step), MEMORY_CHECKPOINT_CAP));
-        l.checkpoints = l.checkpoints.filter(c => keep.has(c.step));
-      }
+    slice: (hooks: StepHooks) => boolean,
+    progress: () => { done: number; total: number; records: StepRecord[]; sharpness?: SharpnessPoint[] }
+  ): Promise<'finished' | 'stopped'> {
+    for (;;) {
+      if (this.stopFlag) return 'stopped';
+      const start = performance.now();
+      let updates = 0;
+      const hooks: StepHooks = {
+        shouldStop: () => this.stopFlag || (updates > 0 && performance.now() - start >= this.chunkMs),
+        onProgress: () => {
+          updates += 1;
+        }
+      };
+      if (slice(hooks)) return 'finished';
+      if (this.stopFlag) return 'stopped';
+      this.post({ id, kind: 'progress', ...progress() });
+      await nextTick();
     }
   }
 
   private async stepMany(id: number, total: number, condition: StopCondition | null, sharpnessEvery: number): Promise<void> {
     const l = this.need();
-    const startLoss = l.trajectory[l.trajectory.length - 1]?.loss ?? NaN;
+    const grove = l.grove;
+    const session = grove.session(MAIN_BRANCH);
+    // A plain step runs `total` updates; it still ends early when the loss becomes non-finite.
+    const cond: StopCondition = condition ?? { kind: 'steps', count: total };
+    const carry = { startLoss: cond.kind === 'diverged' ? session.fullLoss() : NaN, done: 0 };
     const points: SharpnessPoint[] = [];
     const measure = (): void => {
       try {
-        points.push(this.core.sharpness(l.experiment, l.session));
+        points.push(this.core.sharpness(l.experiment, session));
       } catch {
         // Diverged weights make the products non-finite: the trace simply ends there.
       }
     };
     if (sharpnessEvery > 0) measure();
-    this.progressExtras = () => ({ sharpness: points.splice(0, points.length) });
-    const { end, pending } = await this.sliced(id, total, i => {
-      const record = l.session.stepOnce();
-      l.trajectory.push(record);
-      thinInPlace(l.trajectory);
-      this.checkpointIfDue(l);
-      if (sharpnessEvery > 0 && l.session.stepCount % sharpnessEvery === 0 && Number.isFinite(record.loss)) measure();
-      if (!Number.isFinite(record.loss)) return 'non-finite';
-      if (condition !== null && evaluateStop(condition, record, i + 1, startLoss, l.session.parameters) !== null) {
-        return Number.isFinite(record.loss) ? 'condition' : 'non-finite';
+    let pending: StepRecord[] = [];
+    let reason: RunReason = 'max-steps';
+    const end = await this.sliced(
+      id,
+      hooks => {
+        const res = grove.runUntil(MAIN_BRANCH, cond, total - carry.done, {
+          ...hooks,
+          onRecord: r => {
+            if (sharpnessEvery > 0 && r.step % sharpnessEvery === 0 && Number.isFinite(r.loss)) measure();
+          }
+        }, carry);
+        carry.done += res.records.length;
+        for (const r of res.records) pending.push(r);
+        reason = res.reason;
+        return reason !== 'stopped';
+      },
+      () => {
+        const records = sampleRecords(pending, REPLY_SAMPLE);
+        pending = [];
+        return { done: carry.done, total, records, sharpness: points.splice(0, points.length) };
       }
-      return record;
-    });
-    // The record that ended the loop early is already in the trajectory; report it too.
-    const tail = end === 'non-finite' || end === 'condition' ? [l.trajectory[l.trajectory.length - 1]] : [];
+    );
+    const last = pending[pending.length - 1];
+    const outcome: StepEnd = end === 'stopped' ? 'stopped' : stepEnd(reason, condition !== null, last);
     this.post({
       id,
       kind: 'stepped',
       summary: this.summary(),
-      records: sampleRecords(pending.concat(tail), REPLY_SAMPLE),
+      records: sampleRecords(pending, REPLY_SAMPLE),
       sharpness: points,
-      stopped: end === 'stopped',
-      reason: end
+      stopped: outcome === 'stopped',
+      reason: outcome
     });
   }
 
+  /** Runs a grove task in slices; progress replies carry its (done, total). */
+  private runTask<T>(id: number, task: GroveTask<T>): Promise<'finished' | 'stopped'> {
+    return this.sliced(id, hooks => task.run(hooks), () => ({ done: task.done, total: task.total, records: [] }));
+  }
+
   private async rewind(id: number, target: number): Promise<void> {
-    const l = this.need();
-    if (target > l.session.stepCount) {
-      throw new Error(`cannot rewind to step ${target}: the session is at step ${l.session.stepCount}`);
-    }
-    let base: CheckpointData | undefined;
-    for (const c of l.checkpoints) if (c.step <= target && (base === undefined || c.step > base.step)) base = c;
-    if (base === undefined) throw new Error(`no checkpoint at or before step ${target}`);
-    const session = this.core.restore(l.experiment, base.state);
-    const { end } = await this.sliced(id, target - base.step, () => session.stepOnce());
+    const grove = this.need().grove;
+    const at = grove.session(MAIN_BRANCH).stepCount;
+    if (target > at) throw new Error(`cannot rewind to step ${target}: the session is at step ${at}`);
+    const end = await this.runTask(id, grove.rewindTask(MAIN_BRANCH, target));
     if (end === 'stopped') {
       this.post({ id, kind: 'failed', message: `rewind to step ${target} was stopped; the session is unchanged` });
       return;
     }
-    l.session = session;
-    l.trajectory = l.trajectory.filter(r => r.step <= target);
-    l.checkpoints = l.checkpoints.filter(c => c.step <= target);
-    this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: sampleRecords(l.trajectory, DISPLAY_RECORDS) });
+    this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: this.display() });
   }
 
   private async verify(id: number): Promise<void> {
-    const l = this.need();
-    const steps = l.session.stepCount;
-    const replay = this.core.create(l.experiment);
-    const byStep = new Map<number, StepRecord>();
-    for (const r of l.trajectory) byStep.set(r.step, r);
-    const cps = new Map<number, string>();
-    for (const c of l.checkpoints) cps.set(c.step, c.fingerprint);
-    let firstDiff: number | undefined;
-    const check = (record: StepRecord): void => {
-      const saved = byStep.get(record.step);
-      const cp = cps.get(record.step);
-      const recordDiffers = saved !== undefined && !sameRecord(saved, record);
-      const cpDiffers = cp !== undefined && cp !== replay.fingerprint();
-      if (firstDiff === undefined && (recordDiffers || cpDiffers)) firstDiff = record.step;
-    };
-    check(replay.initialRecord());
-    const { end } = await this.sliced(id, steps, () => {
-      const record = replay.stepOnce();
-      check(record);
-      return record;
-    });
-    if (end === 'stopped') {
+    const grove = this.need().grove;
+    const steps = grove.session(MAIN_BRANCH).stepCount;
+    const task = grove.replayTask(MAIN_BRANCH);
+    if ((await this.runTask(id, task)) === 'stopped') {
       this.post({ id, kind: 'failed', message: `verify was stopped after a partial replay; nothing was compared` });
       return;
     }
-    const expected = l.session.fingerprint();
-    const actual = replay.fingerprint();
-    if (firstDiff === undefined && expected !== actual) firstDiff = steps;
+    const report = task.result();
+    const expected = report.recordedFingerprint;
+    const actual = report.replayedFingerprint;
+    // Only bits count here: a replay within the grove's tolerance still differs.
     const result: VerifyResult =
-      firstDiff === undefined
+      report.match === 'bit-identical'
         ? { match: 'bit-identical', steps, expected, actual }
-        : { match: 'differs', steps, firstDifferingStep: firstDiff, expected, actual };
+        : { match: 'differs', steps, firstDifferingStep: report.firstDifferingStep ?? steps, expected, actual };
     this.post({ id, kind: 'verified', result });
   }
 }
@@ -367,13 +308,26 @@ export namespace EngineHost {
   }
 }
 
-/** Bitwise equality of the deterministic fields of two step records (wall time excluded). */
-export function sameRecord(a: StepRecord, b: StepRecord): boolean {
-  return (
-    a.step === b.step &&
-    Object.is(a.loss, b.loss) &&
-    Object.is(a.gradNorm, b.gradNorm) &&
-    Object.is(a.updateNorm, b.updateNorm) &&
-    Object.is(a.lr, b.lr)
-  );
+/** The grove options the host uses: the cell's checkpoint spacing, the worker's memory bounds. */
+function groveOptions(checkpointEvery: number): GroveOptions {
+  return { checkpointEvery, maxAutomatic: MEMORY_CHECKPOINT_CAP, maxRecords: MEMORY_RECORD_CAP, recentRecords: RECENT_RECORDS };
+}
+
+/** The branch's checkpoints as protocol data. */
+function checkpointData(grove: Grove): CheckpointData[] {
+  return grove.checkpoints(MAIN_BRANCH).map(c => ({ step: c.step, fingerprint: c.fingerprint, state: c.state }));
+}
+
+/** The protocol's reason for a finished run: the grove's reason, and whether the loss is still finite. */
+function stepEnd(reason: RunReason, hasCondition: boolean, last: StepRecord | undefined): StepEnd {
+  switch (reason) {
+    case 'max-steps':
+    case 'stopped':
+      return 'done';
+    case 'condition':
+      return hasCondition ? 'condition' : 'done';
+    case 'diverged':
+      // Non-finite loss, or (run-until) the 'diverged' condition met / weights non-finite.
+      return last !== undefined && Number.isFinite(last.loss) && hasCondition ? 'condition' : 'non-finite';
+  }
 }

@@ -1,7 +1,9 @@
 /**
- * Keeps long trajectories bounded in memory while a run goes on: when a list of step
- * records grows past `cap`, every other record of its older part is dropped; the first
- * record and the newest `keepRecent` stay. Repeated halving keeps the cost amortized
+ * Memory and message-size policy of the engine and the page: the bounds the host hands to
+ * its grove (the thinning rule itself is core's `boundTrajectory`), the samples replies
+ * carry, and {@link thinInPlace}, which keeps the page's displayed trace bounded: when a list
+ * of step records grows past `cap`, every other record of its older part is dropped; the
+ * first record and the newest `keepRecent` stay. Repeated halving keeps the cost amortized
  * constant per record and the early history evenly sampled.
  */
 import type { StepRecord } from '../core/state';
@@ -9,7 +11,7 @@ import type { StepRecord } from '../core/state';
 /** Most step records held in memory per session (host and page). */
 export const MEMORY_RECORD_CAP = 20000;
 
-/** Most checkpoints held in memory per session (thinned to this when twice as many pile up). */
+/** Most automatic checkpoints the host's grove holds per branch (spacing doubles past it). */
 export const MEMORY_CHECKPOINT_CAP = 200;
 
 /** Newest records always kept at full density. */

@@ -7,7 +7,12 @@
  * manual ones on request. Thinning rule for the automatic ones: when more than
  * `maxAutomatic` are held, k doubles and automatic checkpoints whose step is not a multiple of
  * the new k are dropped (the branch's first checkpoint and manual ones are always kept), so
- * memory stays bounded and checkpoints stay evenly spread over a long run.
+ * memory stays bounded and checkpoints stay evenly spread over a long run. The trajectory is
+ * bounded too (see {@link boundTrajectory}): past `maxRecords` the far past is thinned, keeping
+ * record 0, the newest records and the records at checkpoint steps.
+ *
+ * Rewind and replay can take many updates; {@link Grove.rewindTask} and {@link Grove.replayTask}
+ * return them as {@link GroveTask}s that run in slices (the synchronous methods run them whole).
  *
  * Branching at step s of branch A with a recipe patch: the state of A at s (rewound from A's
  * checkpoints without disturbing A) is carried over to the new recipe by
@@ -17,79 +22,21 @@
 import type { Experiment, Recipe } from '../setup';
 import type { SessionState, StepRecord } from '../state';
 import { adaptSessionState } from './adapt';
-import { Session, type SessionParts, type StepHooks } from './session';
-import { copySessionState } from './state-data';
+import { Session, type RunCarry, type SessionParts, type StepHooks } from './session';
+import { fingerprintState } from './state-data';
 import type { StopCondition } from './stop';
-import { compareReplay, type ReplayedStep, type ReplayReport } from './replay';
+import { compareReplay, type ReplayReport } from './replay';
+import { planReplay, type ReplayLink } from './replay-legs';
+import { LegTask, runToEnd, type GroveTask, type Leg } from './task';
+import { boundTrajectory, checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
+import { copyCheckpoint, copyExperiment, copyRecord, type Branch, type BranchOrigin, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
 
-/** A saved state at one step with its fingerprint. */
-export interface Checkpoint {
-  step: number;
-  fingerprint: string;
-  state: SessionState;
-  /** True when the user asked for it (never thinned away). */
-  manual: boolean;
-}
+export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
 
-/** Options of a {@link Grove}. */
-export interface GroveOptions {
-  /** Initial spacing k of automatic checkpoints (default 10). */
-  checkpointEvery?: number;
-  /** Automatic checkpoints held per branch before thinning (default 32). */
-  maxAutomatic?: number;
-  /** Relative tolerance for a 'within-tolerance' replay verdict (default 1e-9). */
-  tolerance?: number;
-  /** Objective factory (default: built from the setup); tests inject their own objectives. */
-  parts?: (experiment: Experiment) => SessionParts;
-}
-
-/** Where a branch came from. */
-export interface BranchOrigin {
-  parent: string;
-  step: number;
-  patch: Partial<Recipe>;
-}
-
-/** Plain-data form of one branch (see {@link Grove.snapshot}). */
-export interface BranchSnapshot {
-  name: string;
-  experiment: Experiment;
-  origin: BranchOrigin | null;
-  trajectory: StepRecord[];
-  checkpoints: Checkpoint[];
-  /** Current spacing of automatic checkpoints (after thinning). */
-  every: number;
-  /** The live session's state. */
-  current: SessionState;
-}
-
-/** Plain-data form of a whole grove, branches in creation order. */
-export interface GroveSnapshot {
-  branches: BranchSnapshot[];
-}
-
-interface Branch {
-  name: string;
-  experiment: Experiment;
-  origin: BranchOrigin | null;
+/** A session re-stepped to a step, with the record of that step when the re-stepping made it. */
+interface Reached {
   session: Session;
-  trajectory: StepRecord[];
-  checkpoints: Checkpoint[];
-  every: number;
-}
-
-function copyRecord(r: StepRecord): StepRecord {
-  return { ...r, layers: r.layers.map((l) => ({ ...l })) };
-}
-
-/** Copies seed and recipe; the setup (with its data arrays) is shared read-only. */
-function copyExperiment(e: Experiment): Experiment {
-  const r = e.recipe;
-  return { seed: e.seed, setup: e.setup, recipe: { ...r, schedule: { ...r.schedule }, layers: r.layers.map((l) => ({ ...l })) } };
-}
-
-function copyCheckpoint(c: Checkpoint): Checkpoint {
-  return { step: c.step, fingerprint: c.fingerprint, state: copySessionState(c.state), manual: c.manual };
+  record: StepRecord | null;
 }
 
 /** The branches of one experiment (see the module comment). */
@@ -98,15 +45,19 @@ export class Grove {
   private readonly every: number;
   private readonly maxAutomatic: number;
   private readonly tolerance: number;
+  private readonly bound: TrajectoryBound;
   private readonly parts: ((experiment: Experiment) => SessionParts) | undefined;
 
   private constructor(opts: GroveOptions) {
     this.every = opts.checkpointEvery ?? 10;
     this.maxAutomatic = opts.maxAutomatic ?? 32;
     this.tolerance = opts.tolerance ?? 1e-9;
+    const maxRecords = opts.maxRecords ?? 20000;
+    this.bound = { maxRecords, recentRecords: opts.recentRecords ?? Math.max(1, Math.floor(maxRecords / 10)) };
     this.parts = opts.parts;
-    if (!Number.isInteger(this.every) || this.every < 1) throw new Error(`checkpointEvery must be a positive integer, got ${this.every}`);
+    if (!Number.isInteger(this.every) || this.every < 0) throw new Error(`checkpointEvery must be a non-negative integer, got ${this.every}`);
     if (!Number.isInteger(this.maxAutomatic) || this.maxAutomatic < 2) throw new Error(`maxAutomatic must be an integer ≥ 2, got ${this.maxAutomatic}`);
+    checkTrajectoryBound(this.bound);
   }
 
   /** A grove with one branch, `root` (default name 'main'), at step 0 of `experiment`. */
@@ -116,6 +67,29 @@ export class Grove {
     g.branches.set(root, { name: root, experiment, origin: null, session, trajectory: [session.initialRecord()], checkpoints: [], every: g.every });
     g.addCheckpoint(g.get(root), false);
     return g;
+  }
+
+  /**
+   * A grove with one root branch continuing `data` (e.g. a branch decoded from a ledger): the
+   * head state goes on bit for bit; the saved checkpoints (the head included, added when
+   * missing) serve rewind; replays still start from spec and seed.
+   *
+   * @throws when the trajectory does not end at the head's step or a checkpoint lies after it.
+   */
+  static resume(experiment: Experiment, data: ResumeData, opts: GroveOptions = {}, root = 'main'): Grove {
+    const head = data.state.step;
+    const last = data.trajectory[data.trajectory.length - 1];
+    if (last === undefined || last.step !== head) {
+      throw new Error(`saved trajectory ends at step ${last?.step ?? 'none'} but the saved state is at step ${head}`);
+    }
+    const byStep = new Map<number, Checkpoint>();
+    for (const c of data.checkpoints) {
+      if (c.step > head) throw new Error(`a saved checkpoint is at step ${c.step}, after the saved state (step ${head})`);
+      if (!byStep.has(c.step)) byStep.set(c.step, { step: c.step, fingerprint: c.fingerprint, state: c.state, manual: false });
+    }
+    if (!byStep.has(head)) byStep.set(head, { step: head, fingerprint: fingerprintState(data.state), state: data.state, manual: false });
+    const checkpoints = [...byStep.values()].sort((a, b) => a.step - b.step);
+    return Grove.restore({ branches: [{ name: root, experiment, origin: null, trajectory: [...data.trajectory], checkpoints, every: opts.checkpointEvery ?? 10, current: data.state }] }, opts);
   }
 
   /**
@@ -144,14 +118,18 @@ export class Grove {
       if (g.branches.has(b.name)) throw new Error(`the snapshot names branch '${b.name}' twice`);
       if (b.origin !== null && !g.branches.has(b.origin.parent)) throw new Error(`branch '${b.name}' names parent '${b.origin.parent}', which does not come before it in the snapshot`);
       if (b.checkpoints.length === 0) throw new Error(`branch '${b.name}' has no checkpoint (its first state is needed for rewind and replay)`);
-      if (b.trajectory.length !== b.current.step + 1) throw new Error(`branch '${b.name}' has ${b.trajectory.length} trajectory records for step ${b.current.step} (expected ${b.current.step + 1})`);
+      const t = b.trajectory;
+      if (t.length === 0 || t[t.length - 1].step !== b.current.step) {
+        throw new Error(`branch '${b.name}' has a trajectory ending at step ${t[t.length - 1]?.step ?? 'none'} for its state at step ${b.current.step} (expected the same step)`);
+      }
+      for (let i = 1; i < t.length; i++) if (!(t[i].step > t[i - 1].step)) throw new Error(`branch '${b.name}' has trajectory records out of step order (step ${t[i].step} after ${t[i - 1].step})`);
       g.branches.set(b.name, {
         name: b.name,
         experiment: copyExperiment(b.experiment),
         origin: b.origin === null ? null : { ...b.origin, patch: { ...b.origin.patch } },
         session: g.newSession(b.experiment, b.current),
-        trajectory: b.trajectory.map(copyRecord),
-        checkpoints: b.checkpoints.map(copyCheckpoint),
+        trajectory: t.map(copyRecord),
+        checkpoints: b.checkpoints.map(copyCheckpoint).sort((x, y) => x.step - y.step),
         every: b.every
       });
     }
@@ -179,7 +157,7 @@ export class Grove {
     return this.get(name).session;
   }
 
-  /** A copy of the branch's trajectory, record 0 first. */
+  /** A copy of the branch's trajectory, record 0 first (thinned past `maxRecords`). */
   trajectory(name: string): StepRecord[] {
     return this.get(name).trajectory.map(copyRecord);
   }
@@ -189,25 +167,24 @@ export class Grove {
     return this.get(name).checkpoints.map(copyCheckpoint);
   }
 
+  /** Steps of the branch's checkpoints, ascending. */
+  checkpointSteps(name: string): number[] {
+    return this.get(name).checkpoints.map((c) => c.step);
+  }
+
   /** Steps a branch n times, recording the trajectory and automatic checkpoints. */
   step(name: string, n = 1, hooks?: StepHooks): StepRecord[] {
     const b = this.get(name);
-    const out: StepRecord[] = [];
-    for (let i = 0; i < n; i++) {
-      if (i > 0 && hooks?.shouldStop?.()) break;
-      const [r] = b.session.step(1);
-      this.after(b, r);
-      out.push(r);
-      hooks?.onProgress?.(i + 1, n);
-    }
-    return out.map(copyRecord);
+    return b.session.step(n, this.recording(b, hooks)).map(copyRecord);
   }
 
-  /** {@link Session.runUntil} on a branch, recording trajectory and checkpoints. */
-  runUntil(name: string, cond: StopCondition, maxSteps: number, hooks?: StepHooks): ReturnType<Session['runUntil']> {
+  /**
+   * {@link Session.runUntil} on a branch, recording trajectory and checkpoints; `carry`
+   * continues a run done in several calls (see {@link RunCarry}).
+   */
+  runUntil(name: string, cond: StopCondition, maxSteps: number, hooks?: StepHooks, carry?: RunCarry): ReturnType<Session['runUntil']> {
     const b = this.get(name);
-    const res = b.session.runUntil(cond, maxSteps, hooks);
-    for (const r of res.records) this.after(b, r);
+    const res = b.session.runUntil(cond, maxSteps, this.recording(b, hooks), carry);
     return { records: res.records.map(copyRecord), reason: res.reason };
   }
 
@@ -224,7 +201,7 @@ export class Grove {
 
   /** The state of a branch at `step` (≤ its current step), without changing the branch. */
   stateAt(name: string, step: number): SessionState {
-    return this.sessionAt(this.get(name), step).state();
+    return runToEnd(this.reach(this.get(name), step)).session.state();
   }
 
   /**
@@ -232,12 +209,27 @@ export class Grove {
    * re-steps to exactly `step`; trajectory records and checkpoints after `step` are dropped.
    */
   rewind(name: string, step: number): Session {
+    return runToEnd(this.rewindTask(name, step));
+  }
+
+  /**
+   * {@link Grove.rewind} as a task run in slices. The branch changes only when the task
+   * finishes; a task left unfinished leaves the branch as it was.
+   *
+   * @throws (from `run`, at the end) when the branch was stepped or rewound meanwhile.
+   */
+  rewindTask(name: string, step: number): GroveTask<Session> {
     const b = this.get(name);
-    const s = this.sessionAt(b, step);
-    b.session = s;
-    b.trajectory.length = step + 1;
-    b.checkpoints = b.checkpoints.filter((c) => c.step <= step);
-    return s;
+    const live = b.session;
+    const at = live.stepCount;
+    return this.reach(b, step, (reached) => {
+      if (b.session !== live || live.stepCount !== at) throw new Error(`branch '${name}' changed while the rewind to step ${step} ran; nothing was rewound`);
+      b.session = reached.session;
+      b.trajectory = recordsUpTo(b.trajectory, step);
+      if (reached.record !== null && indexOfStep(b.trajectory, step) < 0) b.trajectory.push(copyRecord(reached.record));
+      b.checkpoints = b.checkpoints.filter((c) => c.step <= step);
+      return reached.session;
+    });
   }
 
   /**
@@ -250,19 +242,13 @@ export class Grove {
     if (name.trim() === '') throw new Error('a branch name must not be empty');
     const parent = this.get(from);
     const experiment: Experiment = { seed: parent.experiment.seed, setup: parent.experiment.setup, recipe: { ...parent.experiment.recipe, ...patch } };
-    const base = this.sessionAt(parent, step).state();
+    const reached = runToEnd(this.reach(parent, step));
     const probe = this.newSession(experiment, null);
-    const state = adaptSessionState(base, experiment.recipe, probe.objective);
+    const state = adaptSessionState(reached.session.state(), experiment.recipe, probe.objective);
     const session = this.newSession(experiment, state);
-    const b: Branch = {
-      name,
-      experiment,
-      origin: { parent: from, step, patch: { ...patch } },
-      session,
-      trajectory: parent.trajectory.slice(0, step + 1).map(copyRecord),
-      checkpoints: [],
-      every: this.every
-    };
+    const trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
+    if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
+    const b: Branch = { name, experiment, origin: { parent: from, step, patch: { ...patch } }, session, trajectory, checkpoints: [], every: this.every };
     this.branches.set(name, b);
     this.addCheckpoint(b, false);
     return session;
@@ -270,60 +256,43 @@ export class Grove {
 
   /**
    * Re-runs a branch from spec and seed (a forked branch from its parent's replayed state at
-   * the fork) up to `toStep` (default: its current step) and compares: the full-batch loss of
-   * every recorded step bit for bit, the fingerprint at every checkpoint, and the parameters at
-   * checkpoints and at `toStep`. 'bit-identical' when all match exactly; otherwise
-   * 'within-tolerance' when the largest relative parameter difference ‖Δw‖∞/‖w‖∞ is within the
-   * tolerance, else 'differs'.
+   * the fork) up to `toStep` (default: its current step) and compares: every recorded step
+   * record bit for bit (step, loss, ‖g‖, ‖Δw‖, η), the fingerprint at every checkpoint, and
+   * the parameters at checkpoints and at `toStep`. 'bit-identical' when all match exactly;
+   * otherwise 'within-tolerance' when the largest relative parameter difference ‖Δw‖∞/‖w‖∞ is
+   * within the tolerance, else 'differs'.
    */
   replay(name: string, toStep?: number): ReplayReport {
+    return runToEnd(this.replayTask(name, toStep));
+  }
+
+  /** {@link Grove.replay} as a task run in slices (the branch is never changed). */
+  replayTask(name: string, toStep?: number): GroveTask<ReplayReport> {
     const b = this.get(name);
     const target = toStep ?? b.session.stepCount;
     if (!Number.isInteger(target) || target < 0 || target > b.session.stepCount) {
       throw new Error(`replay step must be an integer in [0, ${b.session.stepCount}] for branch '${name}', got ${target}`);
     }
-    const recorded = this.sessionAt(b, target);
-    const replayed = this.replaySession(b, target);
-    return compareReplay({
-      trajectory: b.trajectory,
-      checkpoints: b.checkpoints.filter((c) => c.step <= target),
-      replayed: replayed.steps,
-      finalRecorded: recorded,
-      finalReplayed: replayed.session,
-      tolerance: this.tolerance
-    });
-  }
-
-  private replaySession(b: Branch, target: number): { session: Session; steps: ReplayedStep[] } {
-    let session: Session;
-    let steps: ReplayedStep[] = [];
-    if (b.origin === null) {
-      session = this.newSession(b.experiment, null);
-    } else {
-      const parent = this.get(b.origin.parent);
-      const up = this.replaySession(parent, b.origin.step);
-      steps = up.steps.filter((s) => s.step <= b.origin!.step);
-      const probe = up.session;
-      session = this.newSession(b.experiment, adaptSessionState(probe.state(), b.experiment.recipe, probe.objective));
+    const chain: ReplayLink[] = [];
+    for (let c: Branch | null = b; c !== null; c = c.origin === null ? null : this.get(c.origin.parent)) {
+      chain.unshift({ experiment: c.experiment, forkStep: c.origin === null ? null : c.origin.step });
     }
-    const checkpointSteps = new Set(b.checkpoints.map((c) => c.step));
-    const note = (): void => {
-      const at = checkpointSteps.has(session.stepCount);
-      steps.push({ step: session.stepCount, loss: session.stepCount === 0 ? session.initialRecord().loss : NaN, fingerprint: at ? session.fingerprint() : null, params: at ? Float64Array.from(session.parameters) : null });
-    };
-    if (b.origin === null) note();
-    else if (checkpointSteps.has(session.stepCount)) {
-      // the fork state under the branch's recipe replaces the parent's entry for this step
-      const forkLoss = steps.length > 0 ? steps[steps.length - 1].loss : NaN;
-      steps = steps.filter((s) => s.step !== session.stepCount);
-      steps.push({ step: session.stepCount, loss: forkLoss, fingerprint: session.fingerprint(), params: Float64Array.from(session.parameters) });
-    }
-    while (session.stepCount < target) {
-      const [r] = session.step(1);
-      note();
-      steps[steps.length - 1].loss = r.loss;
-    }
-    return { session, steps };
+    const checkpoints = b.checkpoints.filter((c) => c.step <= target);
+    const plan = planReplay(chain, target, new Set(checkpoints.map((c) => c.step)), new Set(b.trajectory.map((r) => r.step)), (e, s) => this.newSession(e, s));
+    const live = b.session;
+    // At the current step the live session is the recorded state; earlier ones are rebuilt.
+    const recorded = target === live.stepCount ? null : this.reachPlan(b, target);
+    const legs = recorded === null ? plan.legs : [...plan.legs, ...recorded.legs];
+    return new LegTask(legs, () =>
+      compareReplay({
+        trajectory: b.trajectory,
+        checkpoints,
+        replayed: plan.steps,
+        finalRecorded: recorded === null ? live : recorded.reached().session,
+        finalReplayed: plan.final(),
+        tolerance: this.tolerance
+      })
+    );
   }
 
   private get(name: string): Branch {
@@ -337,22 +306,64 @@ export class Grove {
     return state === null ? Session.create(experiment, parts) : Session.restore(experiment, state, parts);
   }
 
-  /** A new session at `step` of branch b, rebuilt from the nearest checkpoint ≤ step. */
-  private sessionAt(b: Branch, step: number): Session {
+  /** A task rebuilding branch b at `step` from its nearest checkpoint, then `finish`. */
+  private reach<T = Reached>(b: Branch, step: number, finish?: (r: Reached) => T): GroveTask<T> {
+    const plan = this.reachPlan(b, step);
+    return new LegTask(plan.legs, () => (finish ? finish(plan.reached()) : (plan.reached() as T)));
+  }
+
+  /**
+   * The leg rebuilding branch b at `step`: from the nearest checkpoint at or before it, or
+   * before it when the trajectory lacks the record of `step` (so re-stepping makes it).
+   */
+  private reachPlan(b: Branch, step: number): { legs: Leg[]; reached(): Reached } {
     const first = b.checkpoints[0].step;
     if (!Number.isInteger(step) || step < first || step > b.session.stepCount) {
       throw new Error(`step must be an integer in [${first}, ${b.session.stepCount}] for branch '${b.name}', got ${step}` + (step < first && b.origin ? ` (the branch starts at step ${first}; use its parent '${b.origin.parent}' for earlier steps)` : ''));
     }
+    const strict = indexOfStep(b.trajectory, step) < 0;
     let base = b.checkpoints[0];
-    for (const c of b.checkpoints) if (c.step <= step && c.step >= base.step) base = c;
-    const s = this.newSession(b.experiment, base.state);
-    if (step > base.step) s.step(step - base.step);
-    return s;
+    for (const c of b.checkpoints) if ((strict ? c.step < step : c.step <= step) && c.step >= base.step) base = c;
+    let out: Reached | null = null;
+    let record: StepRecord | null = null;
+    const legs: Leg[] = [
+      {
+        from: base.step,
+        to: step,
+        open: () => this.newSession(b.experiment, base.state),
+        each: (_s, r) => {
+          record = r;
+        },
+        close: (s) => {
+          out = { session: s, record };
+        }
+      }
+    ];
+    return {
+      legs,
+      reached: () => {
+        if (out === null) throw new Error(`branch '${b.name}' has not been rebuilt at step ${step} yet`);
+        return out;
+      }
+    };
+  }
+
+  /** Hooks that record every update of branch b (trajectory, checkpoints, bound) before the caller's. */
+  private recording(b: Branch, hooks?: StepHooks): StepHooks {
+    return {
+      shouldStop: hooks?.shouldStop,
+      onProgress: hooks?.onProgress,
+      onRecord: (r) => {
+        this.after(b, r);
+        hooks?.onRecord?.(r);
+      }
+    };
   }
 
   private after(b: Branch, r: StepRecord): void {
     b.trajectory.push(copyRecord(r));
-    if (r.step % b.every === 0) this.addCheckpoint(b, false);
+    if (b.every > 0 && r.step % b.every === 0) this.addCheckpoint(b, false);
+    if (b.trajectory.length > this.bound.maxRecords) boundTrajectory(b.trajectory, this.bound, new Set(b.checkpoints.map((c) => c.step)));
   }
 
   private addCheckpoint(b: Branch, manual: boolean): Checkpoint {
@@ -365,6 +376,13 @@ export class Grove {
   private thin(b: Branch): void {
     const first = b.checkpoints[0];
     const automatic = (c: Checkpoint): boolean => !c.manual && c !== first;
+    if (b.every === 0) {
+      // No automatic spacing to double (a resumed branch's saved checkpoints): keep the newest.
+      const auto = b.checkpoints.filter(automatic);
+      const drop = new Set(auto.slice(0, Math.max(0, auto.length - this.maxAutomatic)));
+      if (drop.size > 0) b.checkpoints = b.checkpoints.filter((c) => !drop.has(c));
+      return;
+    }
     while (b.checkpoints.filter(automatic).length > this.maxAutomatic) {
       b.every *= 2;
       b.checkpoints = b.checkpoints.filter((c) => !automatic(c) || c.step % b.every === 0);

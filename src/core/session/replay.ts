@@ -12,14 +12,26 @@ export interface ReplayReport {
   tolerance: number;
   /** Steps whose fingerprints were compared (checkpoints and the final step). */
   comparedSteps: number[];
+  /** Fingerprint of the recorded state at the replay's last step. */
+  recordedFingerprint: string;
+  /** Fingerprint the replay reached. */
+  replayedFingerprint: string;
 }
 
-/** One replayed step: loss after it, and fingerprint/parameters when a checkpoint is there. */
+/** One replayed step: its record when recomputed, and fingerprint/parameters when a checkpoint is there. */
 export interface ReplayedStep {
   step: number;
-  loss: number;
+  record: StepRecord | null;
   fingerprint: string | null;
   params: Float64Array | null;
+}
+
+/**
+ * Bitwise equality of the deterministic fields of two step records: step, full-batch loss,
+ * ‖g‖, ‖Δw‖ and learning rate (wall time, and fields a ledger may not hold, excluded).
+ */
+export function sameRecord(a: StepRecord, b: StepRecord): boolean {
+  return a.step === b.step && Object.is(a.loss, b.loss) && Object.is(a.gradNorm, b.gradNorm) && Object.is(a.updateNorm, b.updateNorm) && Object.is(a.lr, b.lr);
 }
 
 /** Inputs of {@link compareReplay}. */
@@ -46,7 +58,11 @@ export function relativeDifference(a: Float64Array, b: Float64Array): number {
   return den === 0 ? Infinity : num / den;
 }
 
-/** Compares recorded and replayed data step by step (see `Grove.replay`). */
+/**
+ * Compares recorded and replayed data step by step (see `Grove.replay`): every recorded step
+ * record the replay recomputed ({@link sameRecord}), the fingerprint and parameters at every
+ * checkpoint, and the final state.
+ */
 export function compareReplay(x: ReplayInputs): ReplayReport {
   let first = Infinity;
   let maxRel = 0;
@@ -54,8 +70,8 @@ export function compareReplay(x: ReplayInputs): ReplayReport {
   const byStep = new Map(x.replayed.map((s) => [s.step, s]));
   for (const rec of x.trajectory) {
     const r = byStep.get(rec.step);
-    if (r === undefined || Number.isNaN(r.loss) && rec.step !== 0) continue;
-    if (!Object.is(r.loss, rec.loss)) first = Math.min(first, rec.step);
+    if (r === undefined || r.record === null) continue;
+    if (!sameRecord(r.record, rec)) first = Math.min(first, rec.step);
   }
   for (const c of x.checkpoints) {
     const r = byStep.get(c.step);
@@ -66,13 +82,17 @@ export function compareReplay(x: ReplayInputs): ReplayReport {
   }
   const finalStep = x.finalRecorded.stepCount;
   if (!compared.includes(finalStep)) compared.push(finalStep);
-  if (x.finalRecorded.fingerprint() !== x.finalReplayed.fingerprint()) first = Math.min(first, finalStep);
+  const recordedFingerprint = x.finalRecorded.fingerprint();
+  const replayedFingerprint = x.finalReplayed.fingerprint();
+  if (recordedFingerprint !== replayedFingerprint) first = Math.min(first, finalStep);
   maxRel = Math.max(maxRel, relativeDifference(x.finalReplayed.parameters, x.finalRecorded.parameters));
   const report: ReplayReport = {
     match: first === Infinity ? 'bit-identical' : maxRel <= x.tolerance ? 'within-tolerance' : 'differs',
     maxRelDiff: maxRel,
     tolerance: x.tolerance,
-    comparedSteps: compared
+    comparedSteps: compared,
+    recordedFingerprint,
+    replayedFingerprint
   };
   if (first !== Infinity) report.firstDifferingStep = first;
   return report;

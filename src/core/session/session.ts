@@ -30,8 +30,21 @@ import { evaluateStop, type StopCondition } from './stop';
 
 /** Callbacks for long runs; `shouldStop` is checked between updates. */
 export interface StepHooks {
+  /** After each update: updates done so far in this call and the number asked for. */
   onProgress?(done: number, total: number): void;
+  /** Asked before each update (except the first of {@link Session.step}); true ends the call early. */
   shouldStop?(): boolean;
+  /** After each update, with its record, while the session is at that step. */
+  onRecord?(record: StepRecord): void;
+}
+
+/**
+ * What a {@link Session.runUntil} call continues from when a long run is done in several
+ * calls: the loss the 'diverged' condition compares with and the updates already applied.
+ */
+export interface RunCarry {
+  startLoss: number;
+  done: number;
 }
 
 /** Why {@link Session.runUntil} ended. */
@@ -184,7 +197,9 @@ export class Session {
     const out: StepRecord[] = [];
     for (let i = 0; i < n; i++) {
       if (i > 0 && hooks?.shouldStop?.()) break;
-      out.push(this.update());
+      const r = this.update();
+      out.push(r);
+      hooks?.onRecord?.(r);
       hooks?.onProgress?.(i + 1, n);
     }
     return out;
@@ -193,18 +208,21 @@ export class Session {
   /**
    * Steps until `cond` holds, the loss becomes non-finite ('diverged'), `maxSteps` updates
    * were applied, or `hooks.shouldStop` returns true. The 'diverged' condition compares with
-   * the full-batch loss at the start of the run.
+   * the full-batch loss at the start of the run, or `carry.startLoss` when a run continues in
+   * this call (`carry.done` updates then count towards a 'steps' condition).
    */
-  runUntil(cond: StopCondition, maxSteps: number, hooks?: StepHooks): { records: StepRecord[]; reason: RunReason } {
+  runUntil(cond: StopCondition, maxSteps: number, hooks?: StepHooks, carry?: RunCarry): { records: StepRecord[]; reason: RunReason } {
     if (!Number.isInteger(maxSteps) || maxSteps < 0) throw new Error(`maxSteps must be a non-negative integer, got ${maxSteps}`);
     const records: StepRecord[] = [];
-    const start = cond.kind === 'diverged' ? this.fullLoss() : NaN;
+    const start = carry !== undefined ? carry.startLoss : cond.kind === 'diverged' ? this.fullLoss() : NaN;
+    const before = carry?.done ?? 0;
     for (let i = 0; i < maxSteps; i++) {
       if (hooks?.shouldStop?.()) return { records, reason: 'stopped' };
       const rec = this.update();
       records.push(rec);
+      hooks?.onRecord?.(rec);
       hooks?.onProgress?.(i + 1, maxSteps);
-      const verdict = evaluateStop(cond, rec, records.length, start, this.params);
+      const verdict = evaluateStop(cond, rec, before + records.length, start, this.params);
       if (verdict !== null) return { records, reason: verdict };
     }
     return { records, reason: 'max-steps' };

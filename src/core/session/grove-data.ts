@@ -1,0 +1,93 @@
+/** Plain data of a grove: checkpoints, options, branch snapshots, and their deep copies. */
+import type { Experiment, Recipe } from '../setup';
+import type { SessionState, StepRecord } from '../state';
+import type { Session, SessionParts } from './session';
+import { copySessionState } from './state-data';
+
+/** A saved state at one step with its fingerprint. */
+export interface Checkpoint {
+  step: number;
+  fingerprint: string;
+  state: SessionState;
+  /** True when the user asked for it (never thinned away). */
+  manual: boolean;
+}
+
+/** Options of a {@link Grove}. */
+export interface GroveOptions {
+  /** Initial spacing k of automatic checkpoints (default 10; 0 = only the first and manual ones). */
+  checkpointEvery?: number;
+  /** Automatic checkpoints held per branch before thinning (default 32). */
+  maxAutomatic?: number;
+  /** Relative tolerance for a 'within-tolerance' replay verdict (default 1e-9). */
+  tolerance?: number;
+  /** Most trajectory records held in memory per branch before thinning (default 20 000; see `boundTrajectory`). */
+  maxRecords?: number;
+  /** Newest records kept at full density when thinning (default maxRecords / 10). */
+  recentRecords?: number;
+  /** Objective factory (default: built from the setup); tests inject their own objectives. */
+  parts?: (experiment: Experiment) => SessionParts;
+}
+
+/** Where a branch came from. */
+export interface BranchOrigin {
+  parent: string;
+  step: number;
+  patch: Partial<Recipe>;
+}
+
+/** Plain-data form of one branch (see {@link Grove.snapshot}). */
+export interface BranchSnapshot {
+  name: string;
+  experiment: Experiment;
+  origin: BranchOrigin | null;
+  trajectory: StepRecord[];
+  checkpoints: Checkpoint[];
+  /** Current spacing of automatic checkpoints (after thinning). */
+  every: number;
+  /** The live session's state. */
+  current: SessionState;
+}
+
+/** What a one-branch grove is resumed from (e.g. a decoded ledger branch). */
+export interface ResumeData {
+  /** The state to continue from (the head). */
+  state: SessionState;
+  /** Step records, steps ascending (may be thinned), the last one at the head's step. */
+  trajectory: readonly StepRecord[];
+  /** Saved states at or before the head, any order (duplicates by step are ignored). */
+  checkpoints: readonly { step: number; fingerprint: string; state: SessionState }[];
+}
+
+/** Plain-data form of a whole grove, branches in creation order. */
+export interface GroveSnapshot {
+  branches: BranchSnapshot[];
+}
+
+/** A branch as the grove holds it (internal). */
+export interface Branch {
+  name: string;
+  experiment: Experiment;
+  origin: BranchOrigin | null;
+  session: Session;
+  trajectory: StepRecord[];
+  checkpoints: Checkpoint[];
+  every: number;
+}
+
+/** A deep copy of a step record. */
+export function copyRecord(r: StepRecord): StepRecord {
+  return { ...r, layers: r.layers.map((l) => ({ ...l })) };
+}
+
+/** Copies seed and recipe; the setup (with its data arrays) is shared read-only. */
+export function copyExperiment(e: Experiment): Experiment {
+  const r = e.recipe;
+  return { seed: e.seed, setup: e.setup, recipe: { ...r, schedule: { ...r.schedule }, layers: r.layers.map((l) => ({ ...l })) } };
+}
+
+/** A deep copy of a checkpoint. */
+export function copyCheckpoint(c: Checkpoint): Checkpoint {
+  return { step: c.step, fingerprint: c.fingerprint, state: copySessionState(c.state), manual: c.manual };
+}
+

@@ -1,0 +1,84 @@
+/**
+ * Keeping a branch's in-memory trajectory bounded over very long runs, and finding records
+ * by step in a thinned (gapped, step-ascending) trajectory.
+ */
+import type { StepRecord } from '../state';
+
+/** How many records a trajectory may hold in memory. */
+export interface TrajectoryBound {
+  /** Most records held; past it the trajectory is thinned (at least 2). */
+  maxRecords: number;
+  /** Newest records always kept at full density (at least 1, below `maxRecords`). */
+  recentRecords: number;
+}
+
+/** Default bound: 20 000 records, the newest 2 000 of them dense. */
+export const DEFAULT_TRAJECTORY_BOUND: Readonly<TrajectoryBound> = { maxRecords: 20000, recentRecords: 2000 };
+
+/** Throws with the field at fault when `b` is not a usable bound. */
+export function checkTrajectoryBound(b: TrajectoryBound): void {
+  if (!Number.isInteger(b.maxRecords) || b.maxRecords < 2) throw new Error(`maxRecords must be an integer ≥ 2, got ${b.maxRecords}`);
+  if (!Number.isInteger(b.recentRecords) || b.recentRecords < 1 || b.recentRecords >= b.maxRecords) {
+    throw new Error(`recentRecords must be an integer in [1, ${b.maxRecords - 1}], got ${b.recentRecords}`);
+  }
+}
+
+/**
+ * Thins `records` (step-ascending) in place once they exceed `bound.maxRecords`.
+ *
+ * 1. Always kept: the first record, the newest `recentRecords` records and every record
+ *    whose step is in `keep` (checkpoint steps).
+ * 2. Of the others, those whose step is a multiple of a power-of-two stride are kept; the
+ *    stride doubles until at most (maxRecords + recentRecords) / 2 records remain, so the
+ *    next thinning is at least (maxRecords − recentRecords) / 2 appends away (amortized
+ *    O(1) per record). Strides of powers of two nest: thinning again never brings back a
+ *    dropped record, and the far past stays evenly spread.
+ * Mandatory records are never dropped, so the result may exceed the target when they alone do.
+ *
+ * @returns true when records were dropped.
+ */
+export function boundTrajectory(records: StepRecord[], bound: TrajectoryBound, keep: ReadonlySet<number>): boolean {
+  const n = records.length;
+  if (n <= bound.maxRecords) return false;
+  const target = Math.floor((bound.maxRecords + bound.recentRecords) / 2);
+  const recentFrom = n - bound.recentRecords;
+  const must = (i: number): boolean => i === 0 || i >= recentFrom || keep.has(records[i].step);
+  const span = records[n - 1].step - records[0].step;
+  let stride = 2;
+  for (;;) {
+    let count = 0;
+    for (let i = 0; i < n; i++) if (must(i) || records[i].step % stride === 0) count++;
+    if (count <= target || stride > span) break;
+    stride *= 2;
+  }
+  let w = 0;
+  for (let i = 0; i < n; i++) if (must(i) || records[i].step % stride === 0) records[w++] = records[i];
+  records.length = w;
+  return w < n;
+}
+
+/** Index of the record at `step` in a step-ascending trajectory, or −1 (binary search). */
+export function indexOfStep(records: readonly StepRecord[], step: number): number {
+  let lo = 0;
+  let hi = records.length - 1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    const s = records[mid].step;
+    if (s === step) return mid;
+    if (s < step) lo = mid + 1;
+    else hi = mid - 1;
+  }
+  return -1;
+}
+
+/** The records with step ≤ `step` (a new array; the records themselves are shared). */
+export function recordsUpTo(records: readonly StepRecord[], step: number): StepRecord[] {
+  let lo = 0;
+  let hi = records.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (records[mid].step <= step) lo = mid + 1;
+    else hi = mid;
+  }
+  return records.slice(0, lo);
+}
