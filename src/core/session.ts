@@ -10,7 +10,7 @@ export { fingerprintState, copySessionState, copyOptimizerState } from './sessio
 export { Grove } from './session/grove';
 export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot, ResumeData } from './session/grove';
 export type { GroveTask } from './session/task';
-export { boundTrajectory, DEFAULT_TRAJECTORY_BOUND } from './session/trajectory';
+export { boundTrajectory, strideSelection, DEFAULT_TRAJECTORY_BOUND } from './session/trajectory';
 export type { TrajectoryBound } from './session/trajectory';
 export type { ReplayReport } from './session/replay';
 export { relativeDifference, sameRecord } from './session/replay';

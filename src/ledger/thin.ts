@@ -3,6 +3,7 @@
  * and which step records.
  */
 import type { StepRecord } from '../core/state';
+import { strideSelection } from '../core/session/trajectory';
 
 /**
  * Chooses which checkpoint steps to keep.
@@ -62,16 +63,6 @@ export function thinCheckpoints(steps: readonly number[], maxCount: number, keep
 export function capTrajectory(records: readonly StepRecord[], cap: number, keep: readonly number[] = []): StepRecord[] {
   if (records.length <= cap) return records.slice();
   const must = new Set<number>(keep);
-  const isMust = (r: StepRecord, i: number): boolean => i === 0 || i === records.length - 1 || must.has(r.step);
-  const mandatory = records.filter(isMust).length;
-  let stride = 1;
-  for (;;) {
-    let count = mandatory;
-    records.forEach((r, i) => {
-      if (!isMust(r, i) && r.step % stride === 0) count++;
-    });
-    if (count <= cap || stride > Number.MAX_SAFE_INTEGER / 2) break;
-    stride *= 2;
-  }
-  return records.filter((r, i) => isMust(r, i) || r.step % stride === 0);
+  const kept = strideSelection(records, cap, (i) => i === 0 || i === records.length - 1 || must.has(records[i].step));
+  return records.filter((_, i) => kept(i));
 }

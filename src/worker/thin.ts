@@ -1,12 +1,11 @@
 /**
  * Memory and message-size policy of the engine and the page: the bounds the host hands to
  * its grove (the thinning rule itself is core's `boundTrajectory`), the samples replies
- * carry, and {@link thinInPlace}, which keeps the page's displayed trace bounded: when a list
- * of step records grows past `cap`, every other record of its older part is dropped; the
- * first record and the newest `keepRecent` stay. Repeated halving keeps the cost amortized
- * constant per record and the early history evenly sampled.
+ * carry, and {@link thinInPlace}, which keeps the page's displayed trace bounded by the same
+ * rule.
  */
 import type { StepRecord } from '../core/state';
+import { boundTrajectory } from '../core/session';
 
 /** Most step records held in memory per session (host and page). */
 export const MEMORY_RECORD_CAP = 20000;
@@ -17,18 +16,16 @@ export const MEMORY_CHECKPOINT_CAP = 200;
 /** Newest records always kept at full density. */
 export const RECENT_RECORDS = 2000;
 
+const NO_PINS: ReadonlySet<number> = new Set();
+
 /**
- * Thins `records` in place when longer than `cap`.
+ * Thins `records` in place when longer than `cap` (core's `boundTrajectory`: the first and
+ * the newest `keepRecent` records stay, the older part keeps a power-of-two stride of steps).
  *
  * @returns the same array (for chaining).
  */
 export function thinInPlace(records: StepRecord[], cap = MEMORY_RECORD_CAP, keepRecent = RECENT_RECORDS): StepRecord[] {
-  if (records.length <= cap) return records;
-  const old = records.length - keepRecent;
-  let w = 1;
-  for (let i = 1; i < old; i++) if (i % 2 === 0) records[w++] = records[i];
-  for (let i = old; i < records.length; i++) records[w++] = records[i];
-  records.length = w;
+  boundTrajectory(records, { maxRecords: cap, recentRecords: keepRecent }, NO_PINS);
   return records;
 }
 

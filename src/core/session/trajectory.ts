@@ -40,21 +40,35 @@ export function checkTrajectoryBound(b: TrajectoryBound): void {
 export function boundTrajectory(records: StepRecord[], bound: TrajectoryBound, keep: ReadonlySet<number>): boolean {
   const n = records.length;
   if (n <= bound.maxRecords) return false;
-  const target = Math.floor((bound.maxRecords + bound.recentRecords) / 2);
   const recentFrom = n - bound.recentRecords;
-  const must = (i: number): boolean => i === 0 || i >= recentFrom || keep.has(records[i].step);
-  const span = records[n - 1].step - records[0].step;
-  let stride = 2;
-  for (;;) {
-    let count = 0;
-    for (let i = 0; i < n; i++) if (must(i) || records[i].step % stride === 0) count++;
-    if (count <= target || stride > span) break;
-    stride *= 2;
-  }
+  const kept = strideSelection(records, Math.floor((bound.maxRecords + bound.recentRecords) / 2), (i) => i === 0 || i >= recentFrom || keep.has(records[i].step));
   let w = 0;
-  for (let i = 0; i < n; i++) if (must(i) || records[i].step % stride === 0) records[w++] = records[i];
+  for (let i = 0; i < n; i++) if (kept(i)) records[w++] = records[i];
   records.length = w;
   return w < n;
+}
+
+/**
+ * The power-of-two stride rule shared by every trajectory thinning (the grove's memory
+ * bound, the ledger's record cap, the page's displayed trace): keep every index `must`
+ * names, plus the records whose step is a multiple of the smallest power-of-two stride that
+ * brings the count to at most `target` (or the stride past the last step, when the mandatory
+ * records alone exceed it). Strides nest, so thinning a thinned list again keeps a subset
+ * and never brings back a dropped record.
+ * @param records step-ascending records
+ * @returns a predicate over indices of `records`: kept or not
+ */
+export function strideSelection(records: readonly StepRecord[], target: number, must: (i: number) => boolean): (i: number) => boolean {
+  const n = records.length;
+  const lastStep = n > 0 ? records[n - 1].step : 0;
+  let stride = 1;
+  const kept = (i: number): boolean => must(i) || records[i].step % stride === 0;
+  for (;;) {
+    let count = 0;
+    for (let i = 0; i < n; i++) if (kept(i)) count++;
+    if (count <= target || stride > lastStep) return kept;
+    stride *= 2;
+  }
 }
 
 /** Index of the record at `step` in a step-ascending trajectory, or −1 (binary search). */
