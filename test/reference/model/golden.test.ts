@@ -26,6 +26,7 @@ import type { Objective } from '../../../src/core/objective';
 import type { Setup } from '../../../src/core/setup';
 import { readFileSync } from 'fs';
 import { join } from 'path';
+import { relErr } from '../compare';
 
 interface Batch {
   rows: number[];
@@ -62,17 +63,6 @@ const cases = golden.cases;
 const analytic = golden.analytic;
 const REL = 1e-9;
 const EIG_REL = 1e-8;
-
-function relErr(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  let d = 0;
-  let n = 0;
-  for (let i = 0; i < b.length; i++) {
-    d += (a[i] - b[i]) ** 2;
-    n += b[i] ** 2;
-  }
-  if (a.length !== b.length) return Infinity;
-  return Math.sqrt(d) / Math.max(Math.sqrt(n), 1e-300);
-}
 
 function scalarErr(a: number, b: number): number {
   return Math.abs(a - b) / Math.max(Math.abs(b), 1e-300);

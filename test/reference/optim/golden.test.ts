@@ -27,6 +27,7 @@ import { join } from 'path';
 import { parseSpec } from '../../../src/spec';
 import { Session } from '../../../src/core/session/session';
 import type { StepRecord } from '../../../src/core/state';
+import { relErr } from '../compare';
 
 interface TrajectoryCase {
   name: string;
@@ -51,17 +52,6 @@ interface TrajectoryCase {
 const golden = JSON.parse(readFileSync(join(__dirname, 'golden.json'), 'utf8')) as { cases: TrajectoryCase[] };
 const FIRST_ORDER_REL = 1e-10;
 const LBFGS_REL = 1e-8;
-
-function relErr(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  if (a.length !== b.length) return Infinity;
-  let d = 0;
-  let m = 0;
-  for (let i = 0; i < b.length; i++) {
-    d += (a[i] - b[i]) ** 2;
-    m += b[i] ** 2;
-  }
-  return Math.sqrt(d) / Math.max(Math.sqrt(m), 1e-300);
-}
 
 /** Largest per-step relative error of a recorded series against torch's. */
 function worstStep(got: number[], want: number[]): { err: number; step: number } {

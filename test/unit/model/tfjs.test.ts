@@ -25,6 +25,7 @@ import { parseSpec } from '../../../src/spec';
 import { buildObjective, initialParameters } from '../../../src/core/build';
 import { Rng } from '../../../src/core/rng';
 import type { ActivationName, LossName } from '../../../src/core/setup';
+import { relErr } from '../../reference/compare';
 
 interface GoldenCase {
   name: string;
@@ -159,17 +160,6 @@ function tfObjective(c: GoldenCase, rows?: number[]): (w: Tensor1D) => Scalar {
     }
     return tf.add(value, tf.mul(0.5 * regularization.l2, reg));
   };
-}
-
-function relErr(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  if (a.length !== b.length) return Infinity;
-  let d = 0;
-  let m = 0;
-  for (let i = 0; i < b.length; i++) {
-    d += (a[i] - b[i]) ** 2;
-    m += b[i] ** 2;
-  }
-  return Math.sqrt(d) / Math.max(Math.sqrt(m), 1e-300);
 }
 
 /** Engine gradient and tfjs gradient at the case's explicit weights. */
