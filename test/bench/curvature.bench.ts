@@ -5,25 +5,13 @@
  */
 import { Rng } from '../../src/core/rng';
 import { buildMlp, type MlpShape } from './networks';
+import { randomSymmetric } from '../reference/curvature/fixtures';
 import { symmetricEigen } from '../../src/core/linalg/symmetric-eigen';
 import { lanczosExtremes } from '../../src/core/linalg/lanczos';
 import { curvatureOperator, denseSpectrum } from '../../src/core/probe/curvature';
 import { timeIt, type BenchResult } from './types';
 
 export const title = 'Curvature: dense eigen-solver, Lanczos and dense spectra of MLP Hessians';
-
-function randomSymmetric(n: number, seed: number): Float64Array {
-  const rng = Rng.fromSeed(seed);
-  const a = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j <= i; j++) {
-      const v = rng.normal();
-      a[i * n + j] = v;
-      a[j * n + i] = v;
-    }
-  }
-  return a;
-}
 
 /** One timed run (for work too long to repeat); also the process CPU time, less sensitive to a loaded machine. */
 function once(fn: () => void): { ms: number; reps: number; cpuMs: number } {
