@@ -67,6 +67,7 @@ describe('replay', () => {
     expect(small.match).toBe('within-tolerance');
     expect(small.firstDifferingStep).toBe(12);
     expect(small.maxRelDiff).toBeGreaterThan(0);
+    // 1e-9 is Grove's configured default replay tolerance (a setting of ours, not a check value).
     expect(small.maxRelDiff).toBeLessThan(1e-9);
     scale = 1e-3;
     const large = g.replay('main', 20);
