@@ -77,8 +77,7 @@ export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure 
  */
 export function stabilityLimit(c: CurvatureResult): number | null {
   const s = c.summary.stability;
-  if (s.factor === null || s.preconditioned || !(s.lr > 0)) return null;
-  return s.factor / s.lr;
+  return s.preconditioned ? null : s.sharpnessLimit;
 }
 
 /**

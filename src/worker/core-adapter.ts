@@ -43,7 +43,7 @@ export const realCore: EngineCore = {
       step: session.stepCount,
       lambdaMax: summary.lambdaMax,
       sharpness: st.sharpness,
-      limit: st.factor === null || !(st.lr > 0) ? null : st.factor / st.lr,
+      limit: st.sharpnessLimit,
       preconditioned: st.preconditioned
     };
   }

@@ -133,3 +133,14 @@ describe('largest stable learning rate on a quadratic with a chosen spectrum', (
     expect(preconditionerDiagonal(recipe({ optimizer: 'adam' }), { kind: 'adam', t: 0, buffers: {}, scalars: {} })).toBeNull();
   });
 });
+
+describe('sharpness limit', () => {
+  it('is factor/η: 2/η for plain gradient descent, 2(1+μ)/η for heavy ball', () => {
+    // source: CHECKS.md (Nocedal & Wright ch. 3; Polyak 1964): stable iff η·λ < 2 (GD), η·λ < 2(1+μ) (heavy ball)
+    const gd = stabilityBound(recipe({ optimizer: 'sgd', lr: 0.1 }), 5);
+    expect(gd.sharpnessLimit).toBeCloseTo(20, 12);
+    const hb = stabilityBound(recipe({ optimizer: 'sgd', lr: 0.1, momentum: 0.9 }), 5);
+    expect(hb.sharpnessLimit).toBeCloseTo(38, 12);
+    expect(stabilityBound(recipe({ optimizer: 'lbfgs', lr: 1 }), 5).sharpnessLimit).toBeNull();
+  });
+});

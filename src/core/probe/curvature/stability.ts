@@ -95,17 +95,20 @@ export interface StabilityBound extends StabilityFactor {
   readonly lr: number;
   /** lr / largestStableLr: below 1 stable, above 1 unstable on the quadratic model (η·λmax/2 for plain GD). */
   readonly margin: number | null;
+  /** The largest sharpness the learning rate in effect tolerates, factor/η (2/η for plain GD); null when no rule applies or η ≤ 0. */
+  readonly sharpnessLimit: number | null;
 }
 
 /** Largest stable learning rate and margin for a recipe given the relevant sharpness (see module comment). */
 export function stabilityBound(recipe: Recipe, sharpness: number, lr: number = recipe.lr): StabilityBound {
   const f = stabilityFactor(recipe);
-  if (f.factor === null) return { ...f, sharpness, largestStableLr: null, lr, margin: null };
+  if (f.factor === null) return { ...f, sharpness, largestStableLr: null, lr, margin: null, sharpnessLimit: null };
+  const sharpnessLimit = lr > 0 ? f.factor / lr : null;
   if (!(sharpness > 0)) {
-    return { ...f, sharpness, largestStableLr: Infinity, lr, margin: 0, note: `${f.note}; no positive curvature, so the quadratic model sets no limit` };
+    return { ...f, sharpness, largestStableLr: Infinity, lr, margin: 0, sharpnessLimit, note: `${f.note}; no positive curvature, so the quadratic model sets no limit` };
   }
   const largest = f.factor / sharpness;
-  return { ...f, sharpness, largestStableLr: largest, lr, margin: lr / largest };
+  return { ...f, sharpness, largestStableLr: largest, lr, margin: lr / largest, sharpnessLimit };
 }
 
 /**

@@ -178,7 +178,7 @@ export function curvatureSummary(s: CurvatureSpectrum, recipe: Recipe, options: 
   let stability: StabilityBound;
   if (f.preconditioned && step === undefined) {
     // No preconditioner yet (before the first step) or none passed: the plain λmax says nothing here.
-    stability = { ...f, sharpness: NaN, largestStableLr: null, lr, margin: null, note: `${f.note}; needs the optimizer's diagonal preconditioner, available after the first step` };
+    stability = { ...f, sharpness: NaN, largestStableLr: null, lr, margin: null, sharpnessLimit: null, note: `${f.note}; needs the optimizer's diagonal preconditioner, available after the first step` };
   } else {
     stability = stabilityBound(recipe, step?.value ?? lambdaMax, lr);
   }
