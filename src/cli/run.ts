@@ -78,10 +78,12 @@ export function runCommand(path: string, flags: RunFlags): string {
     return { step: s.stepCount, loss: s.fullLoss(), fingerprint: s.fingerprint(), parameters: Array.from(s.parameters) };
   };
   const replay = flags.replay ? grove.replay('main') : undefined;
+  const mainFinal = finalOf('main');
+  const branchFinal = branch ? finalOf('branch') : undefined;
   if (flags.json) {
-    const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: finalOf('main') };
+    const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: mainFinal };
     if (branch && fork) {
-      out.branch = { at: branch.at, set: fork.overrides, trajectory: compact(branch.records), stopped: branch.stopped, final: finalOf('branch') };
+      out.branch = { at: branch.at, set: fork.overrides, trajectory: compact(branch.records), stopped: branch.stopped, final: branchFinal };
     }
     if (replay) out.replay = replay;
     return JSON.stringify(out) + '\n';
@@ -96,12 +98,12 @@ export function runCommand(path: string, flags: RunFlags): string {
     `${r.optimizer}, lr ${r.lr}, batch ${r.batch}, seed ${experiment.seed}, ${grove.session('main').objective.parameterCount} parameters`,
     '  step            loss   |grad|',
     ...table(main.records),
-    `stopped: ${main.stopped} after ${grove.session('main').stepCount} steps; final loss ${finalOf('main').loss.toPrecision(8)}`,
-    `fingerprint ${finalOf('main').fingerprint}`,
+    `stopped: ${main.stopped} after ${mainFinal.step} steps; final loss ${mainFinal.loss.toPrecision(8)}`,
+    `fingerprint ${mainFinal.fingerprint}`,
   ];
-  if (branch && fork) {
+  if (branch && fork && branchFinal) {
     lines.push('', `branch at step ${branch.at} with ${fork.overrides.join(', ')}:`, ...table(branch.records),
-      `stopped: ${branch.stopped} after ${grove.session('branch').stepCount} steps; final loss ${finalOf('branch').loss.toPrecision(8)}`);
+      `stopped: ${branch.stopped} after ${branchFinal.step} steps; final loss ${branchFinal.loss.toPrecision(8)}`);
   }
   if (replay) lines.push(`replay from the seed: ${replay.match}${replay.firstDifferingStep !== undefined ? ` (first difference at step ${replay.firstDifferingStep})` : ''}`);
   return lines.join('\n') + '\n';
