@@ -15,7 +15,7 @@ import * as esbuild from 'esbuild';
 import { chromium } from 'playwright-core';
 import { CHROMIUM, CHROMIUM_ARGS } from '../test/e2e/harness';
 import type { PrerunRequest, PrerunResult } from './prerun';
-import { parseSpec } from '../src/spec';
+import { parseSpec } from '../src/experiment';
 import { Session } from '../src/core/session';
 import { eigenvalues } from '../src/core/linalg';
 import { auditGradient } from '../src/core/probe/gradcheck';

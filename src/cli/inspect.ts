@@ -1,5 +1,5 @@
 /** `stepwell inspect SPEC`: numbers at the initial point of an experiment. */
-import { buildObjective, initialParameters } from '../core/build';
+import { buildObjective, initialParameters } from '../core/assemble';
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { spectralDensity } from '../core/linalg';

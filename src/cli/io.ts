@@ -1,7 +1,7 @@
 /** Shared helpers of the command line: reading specs, reporting errors in one line each. */
 import { readFileSync } from 'node:fs';
 import { parse as parseYaml } from 'yaml';
-import { parseSpec } from '../spec';
+import { parseSpec } from '../experiment';
 import type { Experiment } from '../core/setup';
 
 /** A failure the CLI reports as `stepwell: …` lines and a non-zero exit code. */

@@ -1,5 +1,5 @@
 /**
- * Plain-data records shared by the session (`core/session.ts`), the ledger (`ledger/`),
+ * Plain-data records shared by the session (`core/session/`), the ledger (`ledger/`),
  * the worker protocol and the UI. No closures, no class instances: every field is a
  * number, string, boolean, array or typed array, so encode/decode is exact.
  */

@@ -9,9 +9,9 @@ export { base64FromBytes, base64FromFloat64, base64FromInt32, bytesFromBase64, f
 export { decodeScalar, decodeSessionState, decodeTrajectory, encodeScalar, encodeSessionState, encodeTrajectory, trajectoryDigest } from './codec';
 export { migrateLedger, MIGRATIONS, OLDEST_READABLE_VERSION, recoverSpec } from './migrate';
 export type { LedgerJson, MigrateResult, Migration } from './migrate';
-export { validateLedger } from './validate';
-export type { LedgerResult, ValidateOptions } from './validate';
-export { capTrajectory, thinCheckpoints } from './thin';
-export { buildLedger, decodeBranch, DEFAULT_LEDGER_LIMITS, ledgerSize, serializeLedger } from './build';
-export type { BranchInput, DecodedBranch, LedgerInput, LedgerLimits } from './build';
+export { validateLedger } from './check';
+export type { LedgerResult, ValidateOptions } from './check';
+export { capTrajectory, thinCheckpoints } from './caps';
+export { buildLedger, decodeBranch, DEFAULT_LEDGER_LIMITS, ledgerSize, serializeLedger } from './compose';
+export type { BranchInput, DecodedBranch, LedgerInput, LedgerLimits } from './compose';
 export { sha256Hex } from './hash';

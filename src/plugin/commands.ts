@@ -5,7 +5,7 @@
 import type { JupyterFrontEnd } from '@jupyterlab/application';
 import type { ICommandPalette } from '@jupyterlab/apputils';
 import type { INotebookTracker } from '@jupyterlab/notebook';
-import { TEMPLATE_SPEC } from '../spec';
+import { TEMPLATE_SPEC } from '../experiment';
 import type { CellController } from '../ui/controller';
 import { hasMarker } from './registry';
 import { stepIcon, stepwellIcon } from './icons';

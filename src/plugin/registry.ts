@@ -4,7 +4,7 @@
  * (debounced live spec check) and end with it.
  */
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
-import { parseSpec } from '../spec';
+import { parseSpec } from '../experiment';
 import { CellController } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';

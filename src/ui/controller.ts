@@ -12,7 +12,7 @@ import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } f
 import { cellSummary, errorMarkdown, markdownSummary, meanMs, problemLine, verifyLine } from './summary';
 import type { CellViewState, Notice, ReadoutTab } from './view-state';
 import { initialViewState, mergeSharpness, viewFromLedger } from './view-state';
-import { RECENT_RECORDS, thinInPlace } from '../worker/thin';
+import { RECENT_RECORDS, thinInPlace } from '../worker/sampling';
 
 /** Collaborators of a {@link CellController}. */
 export interface ControllerDeps {

@@ -4,7 +4,7 @@
  * {@link LedgerContent}. (Ledgers are written by the worker: `worker/ledger-build.ts`.)
  */
 import { decodeBranch, recoverSpec, validateLedger, LEDGER_KEY as KEY } from '../ledger';
-import { parseSpec } from '../spec';
+import { parseSpec } from '../experiment';
 import { describeRecipe, describeSetup } from '../worker/describe';
 import type { CheckpointData } from '../worker/protocol';
 import type { LedgerContent, LedgerGlue, LedgerRead } from './ports';

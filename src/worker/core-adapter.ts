@@ -5,7 +5,7 @@
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature } from '../core/probe/curvature';
-import { parseSpec } from '../spec';
+import { parseSpec } from '../experiment';
 import type { EngineCore, ParseOutcome } from './engine-core';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
 

@@ -16,7 +16,7 @@ import type { EngineCore } from './engine-core';
 import type { CheckpointData, EngineReply, EngineRequest, SessionSummary, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
-import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECORDS, REPLY_SAMPLE, sampleRecords } from './thin';
+import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECORDS, REPLY_SAMPLE, sampleRecords } from './sampling';
 import { buildCellLedger, MAIN_BRANCH } from './ledger-build';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */

@@ -1,6 +1,6 @@
 /** Time per optimizer step of a session on a mid-size network (full batch and mini-batch). */
 import { Session } from '../../src/core/session';
-import { parseSpec } from '../../src/spec';
+import { parseSpec } from '../../src/experiment';
 import { Rng } from '../../src/core/rng';
 import { timeIt, type BenchResult } from './types';
 

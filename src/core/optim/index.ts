@@ -12,6 +12,6 @@ export { minibatchLbfgs } from './minibatch-lbfgs';
 export { learningRate, scheduleFactor, warmupFactor } from './schedule';
 export { clipByGlobalNorm, addWeightDecay, layerScales } from './gradient';
 export { withWeightDecay } from './decayed';
-export { checkRecipe } from './validate';
+export { checkRecipe } from './recipe-check';
 export { powInt } from './powers';
 export * from './linesearch';

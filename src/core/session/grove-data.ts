@@ -1,7 +1,7 @@
 /** Plain data of a grove: checkpoints, options, branch snapshots, and their deep copies. */
 import type { Experiment, Recipe } from '../setup';
 import type { SessionState, StepRecord } from '../state';
-import type { Session, SessionParts } from './session';
+import type { Session, SessionParts } from './live';
 import { copySessionState } from './state-data';
 
 /** A saved state at one step with its fingerprint. */

@@ -22,7 +22,7 @@
 import type { Experiment, Recipe } from '../setup';
 import type { SessionState, StepRecord } from '../state';
 import { adaptSessionState } from './adapt';
-import { Session, type RunCarry, type SessionParts, type StepHooks } from './session';
+import { Session, type RunCarry, type SessionParts, type StepHooks } from './live';
 import { fingerprintState } from './state-data';
 import type { StopCondition } from './stop';
 import { compareReplay, type ReplayReport } from './replay';

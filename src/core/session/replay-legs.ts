@@ -9,7 +9,7 @@ import type { Experiment } from '../setup';
 import type { SessionState } from '../state';
 import { adaptSessionState } from './adapt';
 import type { ReplayedStep } from './replay';
-import type { Session } from './session';
+import type { Session } from './live';
 import type { Leg } from './task';
 
 /** One branch of the chain being replayed, root first. */

@@ -1,6 +1,6 @@
 /** Comparison of a recorded branch with its replay (see `Grove.replay`). */
 import type { StepRecord } from '../state';
-import type { Session } from './session';
+import type { Session } from './live';
 
 /** Verdict of a replay. */
 export interface ReplayReport {

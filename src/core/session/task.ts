@@ -5,7 +5,7 @@
  * {@link StepHooks.shouldStop} and yields between slices; a synchronous caller runs it whole.
  */
 import type { StepRecord } from '../state';
-import type { Session, StepHooks } from './session';
+import type { Session, StepHooks } from './live';
 
 /** Long work that runs in slices: call {@link GroveTask.run} until it returns true. */
 export interface GroveTask<T> {

@@ -1,5 +1,5 @@
-import { parseSpec } from '../../../src/spec/index';
-import { buildObjective } from '../../../src/core/build';
+import { parseSpec } from '../../../src/experiment/index';
+import { buildObjective } from '../../../src/core/assemble';
 import type { Objective } from '../../../src/core/objective';
 import { Rng } from '../../../src/core/rng';
 import { lanczosExtremes } from '../../../src/core/linalg/lanczos';

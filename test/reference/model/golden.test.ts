@@ -19,8 +19,8 @@
  *   Measured when written: ≤ 8e-15.
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { parseSpec } from '../../../src/spec';
-import { buildObjective, initialParameters } from '../../../src/core/build';
+import { parseSpec } from '../../../src/experiment';
+import { buildObjective, initialParameters } from '../../../src/core/assemble';
 import { Rng } from '../../../src/core/rng';
 import type { Objective } from '../../../src/core/objective';
 import type { Setup } from '../../../src/core/setup';

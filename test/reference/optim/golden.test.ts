@@ -24,8 +24,8 @@
  */
 import { readFileSync } from 'fs';
 import { join } from 'path';
-import { parseSpec } from '../../../src/spec';
-import { Session } from '../../../src/core/session/session';
+import { parseSpec } from '../../../src/experiment';
+import { Session } from '../../../src/core/session/live';
 import type { StepRecord } from '../../../src/core/state';
 import { relErr } from '../compare';
 

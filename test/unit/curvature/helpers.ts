@@ -1,5 +1,5 @@
 /** Shared builders for the curvature probe tests: recipes, quadratics with a chosen spectrum. */
-import { RECIPE_DEFAULTS } from '../../../src/spec/build';
+import { RECIPE_DEFAULTS } from '../../../src/experiment/normalize';
 import type { Recipe } from '../../../src/core/setup';
 import { Quadratic } from '../../../src/core/model/analytic';
 import { hashUniform, matmul, transpose } from '../../reference/curvature/fixtures';

@@ -1,7 +1,7 @@
 import { Session } from '../../../src/core/session';
 import type { Experiment, Recipe } from '../../../src/core/setup';
 import { Rng } from '../../../src/core/rng';
-import { parseSpec } from '../../../src/spec/index';
+import { parseSpec } from '../../../src/experiment/index';
 import { measureCurvature, measureSessionCurvature, preconditionerDiagonal, stabilityBound, stepMetric, trackSharpness } from '../../../src/core/probe/curvature';
 import { golden } from '../../reference/curvature/fixtures';
 import { norm, quadraticWithSpectrum, recipe } from './helpers';

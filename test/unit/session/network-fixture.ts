@@ -1,4 +1,4 @@
-/** A small regression network experiment (scenario of our own) built through core/build. */
+/** A small regression network experiment (scenario of our own) built through core/assemble. */
 import { Rng } from '../../../src/core/rng';
 import type { Experiment, Recipe } from '../../../src/core/setup';
 import { recipe } from '../optim/fixtures';

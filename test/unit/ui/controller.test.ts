@@ -9,7 +9,7 @@ import { ledgerGlue } from '../../../src/ui/ledger-glue';
 import { EngineClient } from '../../../src/worker/client';
 import { inProcessPort } from '../../../src/worker/in-process';
 import { realCore } from '../../../src/worker/core-adapter';
-import { parseSpec, TEMPLATE_SPEC } from '../../../src/spec';
+import { parseSpec, TEMPLATE_SPEC } from '../../../src/experiment';
 import type { CellSummary } from '../../../src/ui/summary';
 import { STEPWELL_MIME } from '../../../src/ui/summary';
 

@@ -4,7 +4,7 @@
 import { EngineHost } from '../../../src/worker/engine-host';
 import { realCore } from '../../../src/worker/core-adapter';
 import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol';
-import { TEMPLATE_SPEC } from '../../../src/spec';
+import { TEMPLATE_SPEC } from '../../../src/experiment';
 import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
 import { mergeSharpness } from '../../../src/ui/view-state';
 import type { FigureTheme } from '../../../src/ui/trace-figure';

@@ -5,7 +5,7 @@
 import { checkSpec, hasMarker, MARKER } from '../../../src/plugin/registry';
 import { isStepwellOutput, stepwellOutput } from '../../../src/plugin/cell-host';
 import { STEPWELL_MIME } from '../../../src/ui/summary';
-import { TEMPLATE_SPEC } from '../../../src/spec';
+import { TEMPLATE_SPEC } from '../../../src/experiment';
 
 describe('marker line', () => {
   it.each([

@@ -6,7 +6,7 @@
 import { EngineHost } from '../../../src/worker/engine-host';
 import { realCore } from '../../../src/worker/core-adapter';
 import type { EngineReply } from '../../../src/worker/protocol';
-import { TEMPLATE_SPEC, parseSpec } from '../../../src/spec';
+import { TEMPLATE_SPEC, parseSpec } from '../../../src/experiment';
 import { Session } from '../../../src/core/session';
 
 function directPrint(n: number): string {

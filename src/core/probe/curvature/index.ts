@@ -17,5 +17,5 @@ export type { SteppableSession, SharpnessRecord, TrackOptions, SharpnessTrace } 
 export { trackSharpness } from './trajectory';
 export type { LineProfile, LineProfileOptions } from './profile';
 export { lineProfile } from './profile';
-export type { CurvatureSession } from './session';
-export { measureSessionCurvature } from './session';
+export type { CurvatureSession } from './measure-session';
+export { measureSessionCurvature } from './measure-session';

@@ -3,8 +3,8 @@
  * all errors are reported at once, sorted by position. Positions are counted by hand
  * from the fixtures (1-based lines and columns).
  */
-import { formatSpecError, parseSpec } from '../../../src/spec';
-import type { SpecError } from '../../../src/spec';
+import { formatSpecError, parseSpec } from '../../../src/experiment';
+import type { SpecError } from '../../../src/experiment';
 
 function errors(text: string, format?: 'auto' | 'yaml' | 'json'): SpecError[] {
   const r = parseSpec(text, format);
@@ -168,7 +168,7 @@ describe('parseSpec: damaged templates never throw', () => {
   };
   const junk = ['', ' ', ':', '-', '[', ']', '{', '}', '#', '0', 'x', '\n', '"', '&a', '*a', '\t'];
   it('400 random single-character edits give a result with well-placed errors', async () => {
-    const { TEMPLATE_SPEC } = await import('../../../src/spec');
+    const { TEMPLATE_SPEC } = await import('../../../src/experiment');
     const lines = TEMPLATE_SPEC.split('\n').length;
     for (let k = 0; k < 400; k++) {
       const at = next(TEMPLATE_SPEC.length);

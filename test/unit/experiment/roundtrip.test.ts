@@ -5,7 +5,7 @@
  * source: torch.optim.Adam (betas 0.9/0.999, eps 1e-8), RMSprop (alpha 0.99, eps 1e-8),
  * AdamW (weight_decay 0.01), LBFGS (history_size 10); the rest are this project's documented choices.
  */
-import { parseSpec } from '../../../src/spec';
+import { parseSpec } from '../../../src/experiment';
 import type { Experiment, NetworkModel } from '../../../src/core/setup';
 
 const NET = `model:

@@ -12,7 +12,7 @@
  *     the gradient computed with that loss is kept for the next update (same bits as recomputing).
  * All buffers are allocated once; an update allocates only the record it returns.
  */
-import { buildHeldOutObjective, buildObjective, initialParameters } from '../build';
+import { buildHeldOutObjective, buildObjective, initialParameters } from '../assemble';
 import { norm2, type Objective, type Rows } from '../objective';
 import { Rng } from '../rng';
 import type { Experiment } from '../setup';
@@ -21,7 +21,7 @@ import { withWeightDecay } from '../optim/decayed';
 import { addWeightDecay, clipByGlobalNorm, layerScales } from '../optim/gradient';
 import { familyFor } from '../optim/registry';
 import { learningRate } from '../optim/schedule';
-import { checkRecipe } from '../optim/validate';
+import { checkRecipe } from '../optim/recipe-check';
 import { applyUpdates, descend, Workspace, type OptimizerContext, type OptimizerFamily } from '../optim/types';
 import { drawOrder, drawSubset, nextBatch, type BatchBuffers, type BatchPosition } from './batches';
 import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';

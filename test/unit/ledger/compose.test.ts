@@ -4,7 +4,7 @@
  * returning anything.
  */
 import { Session } from '../../../src/core/session';
-import { parseSpec } from '../../../src/spec';
+import { parseSpec } from '../../../src/experiment';
 import type { Experiment } from '../../../src/core/setup';
 import type { SessionState, StepRecord } from '../../../src/core/state';
 import { buildLedger, decodeBranch, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';

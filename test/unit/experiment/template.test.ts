@@ -1,5 +1,5 @@
 /** The starting text of a new cell parses cleanly; warnings flag legal but suspicious specs; schema defaults agree with the parser. */
-import { parseSpec, RECIPE_DEFAULTS, TEMPLATE_SPEC } from '../../../src/spec';
+import { parseSpec, RECIPE_DEFAULTS, TEMPLATE_SPEC } from '../../../src/experiment';
 import schema from '../../../schema/spec.schema.json';
 
 describe('TEMPLATE_SPEC', () => {

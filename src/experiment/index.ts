@@ -7,7 +7,7 @@
  * Pure: no DOM, no file system; runs in Node, a Web Worker and the browser.
  */
 import type { Experiment } from '../core/setup';
-import { buildExperiment } from './build';
+import { buildExperiment } from './normalize';
 import { crossCheck } from './checks';
 import type { CheckProblem } from './checks';
 import { formatPath } from './path';
@@ -16,7 +16,7 @@ import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
 
 export { TEMPLATE_SPEC } from './template';
-export { RECIPE_DEFAULTS } from './build';
+export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
 
 /**

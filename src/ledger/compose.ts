@@ -8,10 +8,10 @@ import { fingerprintState } from '../core/session/state-data';
 import type { SessionState, StepRecord } from '../core/state';
 import { decodeSessionState, decodeTrajectory, encodeSessionState, encodeTrajectory } from './codec';
 import { sha256Hex } from './hash';
-import { capTrajectory, thinCheckpoints } from './thin';
+import { capTrajectory, thinCheckpoints } from './caps';
 import { LEDGER_FORMAT, LEDGER_VERSION, LedgerError } from './types';
 import type { Ledger, LedgerBranch, LedgerCheckpoint } from './types';
-import { validateLedger } from './validate';
+import { validateLedger } from './check';
 
 /** Size limits applied while building. */
 export interface LedgerLimits {

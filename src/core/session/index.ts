@@ -1,0 +1,17 @@
+/**
+ * Stepping, checkpoints, branches and replay of one experiment. Entry point that re-exports
+ * `core/session/*`.
+ */
+export { Session } from './live';
+export type { StepHooks, RunReason, RunCarry, SessionParts } from './live';
+export type { StopCondition } from './stop';
+export { DEFAULT_DIVERGENCE_FACTOR } from './stop';
+export { fingerprintState, copySessionState, copyOptimizerState } from './state-data';
+export { Grove } from './grove';
+export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot, ResumeData } from './grove';
+export type { GroveTask } from './task';
+export { boundTrajectory, strideSelection, DEFAULT_TRAJECTORY_BOUND } from './trajectory';
+export type { TrajectoryBound } from './trajectory';
+export type { ReplayReport } from './replay';
+export { relativeDifference, sameRecord } from './replay';
+export { adaptSessionState, adaptOptimizerState, effectiveBatch } from './adapt';
