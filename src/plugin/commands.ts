@@ -85,7 +85,7 @@ export function addCommands(
   commands.addCommand(CommandIDs.stop, {
     label: 'Stop Stepping',
     caption: 'End the running work of the active stepwell cell early',
-    isEnabled: () => active()?.state.busy != null,
+    isEnabled: () => (active()?.state.busy ?? null) !== null,
     isVisible: onStepwell.isVisible,
     execute: () => active()?.stop()
   });

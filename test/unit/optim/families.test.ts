@@ -1,6 +1,7 @@
 /** Per-family properties with outside sources: formulas of the published methods. */
 import { Session } from '../../../src/core/session';
 import type { Recipe } from '../../../src/core/setup';
+import type { Objective } from '../../../src/core/objective';
 import { experiment, leastSquares, TestQuadratic, TestRosenbrock } from './fixtures';
 import { Matrix, solve } from 'ml-matrix';
 
@@ -190,7 +191,7 @@ describe('restore continues bit for bit for every family', () => {
 
 describe('batch families at a non-finite point', () => {
   // common practice: a NaN loss must be visible in the record, not crash the step
-  const nan: import('../../../src/core/objective').Objective = {
+  const nan: Objective = {
     parameterCount: 2, rowCount: 0, blocks: [{ name: 'x', layer: -1, kind: 'param', offset: 0, size: 2, shape: [2] }],
     value: () => NaN,
     gradient: (_w, out) => { out.fill(NaN); return NaN; },

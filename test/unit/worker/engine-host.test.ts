@@ -11,6 +11,7 @@ import { realCore } from '../../../src/worker/core-adapter';
 import type { EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC, parseSpec } from '../../../src/experiment';
 import { Session } from '../../../src/core/session';
+import { thinInPlace, MEMORY_RECORD_CAP, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, DISPLAY_RECORDS } from '../../../src/worker/sampling';
 
 function experiment() {
   const parsed = parseSpec(TEMPLATE_SPEC);
@@ -235,7 +236,6 @@ describe('EngineClient over an in-process port', () => {
 describe('thinInPlace', () => {
   const recs = (n: number) => Array.from({ length: n }, (_, i) => ({ step: i, loss: 1, batchLoss: 1, gradNorm: 1, updateNorm: 1, lr: 1, evaluations: 1, layers: [], ms: 0 }));
   it('leaves short lists alone and halves the old part of long ones, keeping the first and the recent records', () => {
-    const { thinInPlace } = require('../../../src/worker/sampling') as typeof import('../../../src/worker/sampling');
     expect(thinInPlace(recs(10), 20, 5)).toHaveLength(10);
     const long = thinInPlace(recs(30), 20, 5);
     expect(long[0].step).toBe(0);
@@ -248,7 +248,6 @@ describe('thinInPlace', () => {
 
 describe('long runs stay bounded in memory', () => {
   it('thins the trajectory and the checkpoints the host keeps, and samples what it sends', async () => {
-    const { MEMORY_RECORD_CAP, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, DISPLAY_RECORDS } = require('../../../src/worker/sampling') as typeof import('../../../src/worker/sampling');
     const { host, replies, last } = collect({ chunkMs: 20 });
     await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 5 });
     const n = MEMORY_RECORD_CAP + 5000;
