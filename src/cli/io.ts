@@ -1,7 +1,7 @@
 /** Shared helpers of the command line: reading specs, reporting errors in one line each. */
 import { readFileSync } from 'node:fs';
-import { parse as parseYaml } from 'yaml';
-import { parseSpec } from '../experiment';
+import { parseSpec, type SpecError } from '../experiment';
+import { parseAssignments, patchExperiment, type SpecPatch } from '../experiment/patch';
 import type { Experiment } from '../core/setup';
 
 /** A failure the CLI reports as `stepwell: …` lines and a non-zero exit code. */
@@ -25,32 +25,32 @@ export function readText(path: string, what: string): string {
   }
 }
 
+/** The spec errors as `FILE:LINE:COL: message` lines (line and column when known). */
+function specErrorLines(path: string, errors: readonly SpecError[]): string {
+  return errors.map((e) => `${path}${e.line !== undefined ? `:${e.line}:${e.col ?? 1}` : ''}: ${e.message}`).join('\n');
+}
+
 /**
- * Parses a spec file into an experiment, applying `key=value` recipe overrides (values parsed
- * as YAML scalars, e.g. `lr=0.02`, `batch=full`). Every spec error becomes one line
- * `FILE:LINE:COL: message`.
+ * Parses a spec file into an experiment, with `KEY=VALUE` overrides (`--set`; keys as
+ * `experiment/patch.ts` reads them: `lr=0.02`, `batch=full`, `layers[1].lrScale=0.5`,
+ * `model.init=he-normal`, `data.standardize=true`). Every spec error becomes one line
+ * `FILE:LINE:COL: message`; an override's error names the key.
+ *
+ * @returns the experiment, the text, and the patch the overrides made (empty without any).
  */
-export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string } {
-  let text = readText(path, 'spec');
-  if (overrides.length > 0) {
-    const doc: unknown = parseYaml(text);
-    if (typeof doc !== 'object' || doc === null) throw new CliError(`${path}: the spec must be a mapping to apply --set`);
-    const root = doc as Record<string, unknown>;
-    const recipe = (typeof root.recipe === 'object' && root.recipe !== null ? root.recipe : {}) as Record<string, unknown>;
-    for (const o of overrides) {
-      const eq = o.indexOf('=');
-      if (eq <= 0) throw new CliError(`--set needs KEY=VALUE (a recipe key), got '${o}'`);
-      recipe[o.slice(0, eq)] = parseYaml(o.slice(eq + 1)) as unknown;
-    }
-    root.recipe = recipe;
-    text = JSON.stringify(root);
-  }
-  const r = parseSpec(text);
-  if (!r.ok) {
-    const lines = r.errors.map((e) => `${path}${e.line !== undefined ? `:${e.line}:${e.col ?? 1}` : ''}: ${e.message}`);
-    throw new CliError(lines.join('\n'));
-  }
-  return { experiment: r.experiment, text };
+export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch } {
+  const text = readText(path, 'spec');
+  const patch = readOverrides(overrides, '--set');
+  const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch) : parseSpec(text);
+  if (!r.ok) throw new CliError(specErrorLines(path, r.errors));
+  return { experiment: r.experiment, text, patch };
+}
+
+/** `KEY=VALUE` strings as a patch, with an error naming `flag` and each bad assignment. */
+export function readOverrides(list: readonly string[], flag: string): SpecPatch {
+  const parsed = parseAssignments(list);
+  if (!parsed.ok) throw new CliError(parsed.errors.map((e) => `${flag}: ${e}`).join('\n'));
+  return parsed.patch;
 }
 
 /** Parses a positive integer flag, with an error naming the flag. */

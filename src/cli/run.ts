@@ -1,8 +1,9 @@
 /** `stepwell run SPEC --steps N`: a trajectory from spec + seed, optionally with a branch. */
 import { Grove, type StopCondition } from '../core/session';
-import type { Recipe } from '../core/setup';
+import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
-import { CliError, loadExperiment, positiveInt } from './io';
+import { describePatch, patchExperiment, splitAssignments, touchesSetup } from '../experiment/patch';
+import { CliError, loadExperiment, positiveInt, readOverrides } from './io';
 
 /** Flags of `run`. */
 export interface RunFlags {
@@ -23,12 +24,13 @@ export function parseUntil(text: string): StopCondition {
   return m[1] === 'loss' ? { kind: 'loss-below', value: v } : { kind: 'grad-norm-below', value: v };
 }
 
-/** Parses `STEP:KEY=VALUE[,KEY=VALUE…]` into the fork step and recipe overrides. */
+/** Parses `STEP:KEY=VALUE[,KEY=VALUE…]` into the fork step and the overrides (keys as `--set` takes them). */
 export function parseBranch(text: string): { at: number; overrides: string[] } {
   const colon = text.indexOf(':');
-  const at = Number(colon < 0 ? NaN : text.slice(0, colon));
-  const overrides = colon < 0 ? [] : text.slice(colon + 1).split(',').map((s) => s.trim()).filter((s) => s !== '');
-  if (!Number.isInteger(at) || at < 0 || overrides.length === 0) {
+  const stepText = colon < 0 ? '' : text.slice(0, colon);
+  const at = /^\d+$/.test(stepText) ? Number(stepText) : NaN;
+  const overrides = colon < 0 ? [] : splitAssignments(text.slice(colon + 1));
+  if (!Number.isSafeInteger(at) || overrides.length === 0) {
     throw new CliError(`--branch must be STEP:KEY=VALUE[,KEY=VALUE...] (e.g. 40:lr=0.02), got '${text}'`);
   }
   return { at, overrides };
@@ -54,12 +56,18 @@ function compact(records: StepRecord[]): { step: number; loss: number; gradNorm:
 export function runCommand(path: string, flags: RunFlags): string {
   if (flags.steps === undefined) throw new CliError('run needs --steps N (the number of optimizer updates, or the cap with --until)');
   const steps = positiveInt(flags.steps, '--steps', 0);
-  const { experiment } = loadExperiment(path, flags.set);
+  const { experiment, text, patch } = loadExperiment(path, flags.set);
   const until = flags.until === undefined ? undefined : parseUntil(flags.until);
   const fork = flags.branch === undefined ? undefined : parseBranch(flags.branch);
   if (fork && fork.at > steps) throw new CliError(`--branch forks at step ${fork.at}, after the last step ${steps}`);
-  // The patched recipe goes through the same validation as the spec itself.
-  const patched: Recipe | undefined = fork ? loadExperiment(path, [...(flags.set ?? []), ...fork.overrides]).experiment.recipe : undefined;
+  // The branch's experiment goes through the same validation as the spec itself.
+  const branchPatch = fork ? readOverrides(fork.overrides, '--branch') : undefined;
+  let patched: Experiment | undefined;
+  if (branchPatch) {
+    const r = patchExperiment(text, { ...patch, ...branchPatch });
+    if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
+    patched = r.experiment;
+  }
 
   const grove = Grove.create(experiment);
   const main: Leg = { records: grove.trajectory('main').slice(), stopped: 'steps' };
@@ -67,9 +75,10 @@ export function runCommand(path: string, flags: RunFlags): string {
   main.records.push(...first.records);
   main.stopped = first.stopped;
   let branch: (Leg & { name: string; at: number }) | undefined;
-  if (fork && patched) {
+  if (fork && patched && branchPatch) {
     const at = Math.min(fork.at, grove.session('main').stepCount);
-    grove.branch('main', at, 'branch', patched);
+    if (touchesSetup(branchPatch) && at !== 0) throw new CliError(`--branch ${describePatch(branchPatch)} changes the setup or the seed, so it must fork at step 0 (0:KEY=VALUE), not step ${at}`);
+    grove.fork('main', at, 'branch', patched, branchPatch);
     const leg = advance(grove, 'branch', steps - at, until);
     branch = { name: 'branch', at, records: [grove.trajectory('branch')[at], ...leg.records], stopped: leg.stopped };
   }

@@ -91,9 +91,16 @@ export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto
     const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value)}` });
     return { ok: false, errors: finish([e]) };
   }
+  const checked = checkValue(value, (p) => place(source, p));
+  if (!checked.ok) return checked;
+  return { ok: true, experiment: checked.experiment, warnings: finish([...read.warnings.map(fromRead), ...checked.placedWarnings]) };
+}
+
+/** Schema and cross-field checks of a plain spec value, then the build; problems placed by `where`. */
+function checkValue(value: object, where: (p: CheckProblem) => Placed): { ok: false; errors: SpecError[] } | { ok: true; experiment: Experiment; placedWarnings: Placed[] } {
   const schemaProblems = checkSchema(value);
   const cross = crossCheck(value);
-  const errors = [...schemaProblems.map((p) => place(source, p)), ...cross.errors.map((p) => place(source, p))];
+  const errors = [...schemaProblems.map(where), ...cross.errors.map(where)];
   if (errors.length > 0) return { ok: false, errors: finish(errors) };
   let experiment: Experiment;
   try {
@@ -102,8 +109,29 @@ export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto
     // A gap between the checks and the builder is a bug of ours; say so instead of throwing.
     return { ok: false, errors: [{ path: '', message: `internal error while building the experiment (please report): ${err instanceof Error ? err.message : String(err)}` }] };
   }
-  const warnings = [...read.warnings.map(fromRead), ...cross.warnings.map((p) => place(source, p))];
-  return { ok: true, experiment, warnings: finish(warnings) };
+  return { ok: true, experiment, placedWarnings: cross.warnings.map(where) };
+}
+
+/**
+ * Validates a plain spec value (already read from text, e.g. with a patch applied) into an
+ * experiment. Problems carry their path but no line or column: the value has no text.
+ */
+export function parseSpecValue(value: unknown): SpecResult {
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) {
+    return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value) ?? 'nothing'}` }] };
+  }
+  const unplaced = (p: CheckProblem): Placed => ({ path: formatPath(p.path), message: p.message, offset: Number.MAX_SAFE_INTEGER });
+  const checked = checkValue(value, unplaced);
+  return checked.ok ? { ok: true, experiment: checked.experiment, warnings: finish(checked.placedWarnings) } : checked;
+}
+
+/**
+ * Reads spec text into its plain value (YAML or JSON) without validating it, e.g. to apply a
+ * patch before {@link parseSpecValue}. Syntax problems come back with line and column.
+ */
+export function readSpecValue(text: string): { ok: true; value: unknown } | { ok: false; errors: SpecError[] } {
+  const read = readSource(text, 'yaml');
+  return read.ok ? { ok: true, value: read.source.value } : { ok: false, errors: finish(read.problems.map(fromRead)) };
 }
 
 /** Formats an error for display: its message, then "(line 5, column 14)" when known. */

@@ -1,5 +1,5 @@
 /** Plain data of a grove: checkpoints, options, branch snapshots, and their deep copies. */
-import type { Experiment, Recipe } from '../setup';
+import type { Experiment, Setup } from '../setup';
 import type { SessionState, StepRecord } from '../state';
 import type { Session, SessionParts } from './live';
 import { copySessionState } from './state-data';
@@ -29,11 +29,23 @@ export interface GroveOptions {
   parts?: (experiment: Experiment) => SessionParts;
 }
 
+/**
+ * What a branch changes, as plain data: flat spec keys (`lr`, `layers[1].lrScale`,
+ * `model.init`, …) and their new values. Core only records it; the experiment layer
+ * (`experiment/patch.ts`) reads and applies it.
+ */
+export type BranchPatch = Readonly<Record<string, unknown>>;
+
 /** Where a branch came from. */
 export interface BranchOrigin {
   parent: string;
   step: number;
-  patch: Partial<Recipe>;
+  patch: BranchPatch;
+  /**
+   * True when the branch changed the setup or the seed: it then starts afresh at step 0 from its
+   * own setup and seed instead of carrying the parent's state over.
+   */
+  restart: boolean;
 }
 
 /** Plain-data form of one branch (see {@link Grove.snapshot}). */
@@ -91,3 +103,32 @@ export function copyCheckpoint(c: Checkpoint): Checkpoint {
   return { step: c.step, fingerprint: c.fingerprint, state: copySessionState(c.state), manual: c.manual };
 }
 
+
+/** A copy of a branch origin (the patch's values are plain JSON, copied deeply). */
+export function copyOrigin(o: BranchOrigin | null): BranchOrigin | null {
+  return o === null ? null : { parent: o.parent, step: o.step, patch: structuredClone(o.patch) as BranchPatch, restart: o.restart };
+}
+
+/**
+ * True when two setups describe the same objective: the same model, loss, regularization and
+ * data, compared value by value (data arrays bit for bit).
+ */
+export function sameSetup(a: Setup, b: Setup): boolean {
+  return a === b || deepEqual(a, b);
+}
+
+function deepEqual(a: unknown, b: unknown): boolean {
+  if (Object.is(a, b)) return true;
+  if (typeof a !== 'object' || typeof b !== 'object' || a === null || b === null) return false;
+  if (ArrayBuffer.isView(a) || ArrayBuffer.isView(b)) {
+    if (!(a instanceof Float64Array && b instanceof Float64Array) && !(a instanceof Int32Array && b instanceof Int32Array)) return false;
+    if (a.length !== b.length) return false;
+    for (let i = 0; i < a.length; i++) if (!Object.is(a[i], b[i])) return false;
+    return true;
+  }
+  if (Array.isArray(a) !== Array.isArray(b)) return false;
+  const ka = Object.keys(a);
+  const kb = Object.keys(b);
+  if (ka.length !== kb.length) return false;
+  return ka.every((k) => Object.prototype.hasOwnProperty.call(b, k) && deepEqual((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k]));
+}

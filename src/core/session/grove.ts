@@ -14,10 +14,12 @@
  * Rewind and replay can take many updates; {@link Grove.rewindTask} and {@link Grove.replayTask}
  * return them as {@link GroveTask}s that run in slices (the synchronous methods run them whole).
  *
- * Branching at step s of branch A with a recipe patch: the state of A at s (rewound from A's
+ * Branching at step s of branch A with a changed recipe: the state of A at s (rewound from A's
  * checkpoints without disturbing A) is carried over to the new recipe by
  * {@link adaptSessionState}: optimizer state re-initialized when the optimizer kind changes,
- * kept where compatible otherwise; weights, step count and batch generator kept.
+ * kept where compatible otherwise; weights, step count and batch generator kept. A branch that
+ * changes the setup or the seed (a new init scheme, standardized data) can only fork at step 0,
+ * and starts afresh there from its own setup and seed ("restart").
  */
 import type { Experiment, Recipe } from '../setup';
 import type { SessionState, StepRecord } from '../state';
@@ -29,9 +31,9 @@ import { compareReplay, type ReplayReport } from './replay';
 import { planReplay, type ReplayLink } from './replay-legs';
 import { LegTask, runToEnd, type GroveTask, type Leg } from './task';
 import { boundTrajectory, checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
-import { copyCheckpoint, copyExperiment, copyRecord, type Branch, type BranchOrigin, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
+import { copyCheckpoint, copyExperiment, copyOrigin, copyRecord, sameSetup, type Branch, type BranchOrigin, type BranchPatch, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
 
-export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
+export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
 
 /** A session re-stepped to a step, with the record of that step when the re-stepping made it. */
 interface Reached {
@@ -101,7 +103,7 @@ export class Grove {
       branches: [...this.branches.values()].map((b) => ({
         name: b.name,
         experiment: copyExperiment(b.experiment),
-        origin: b.origin === null ? null : { parent: b.origin.parent, step: b.origin.step, patch: { ...b.origin.patch } },
+        origin: copyOrigin(b.origin),
         trajectory: b.trajectory.map(copyRecord),
         checkpoints: b.checkpoints.map(copyCheckpoint),
         every: b.every,
@@ -126,7 +128,7 @@ export class Grove {
       g.branches.set(b.name, {
         name: b.name,
         experiment: copyExperiment(b.experiment),
-        origin: b.origin === null ? null : { ...b.origin, patch: { ...b.origin.patch } },
+        origin: copyOrigin(b.origin),
         session: g.newSession(b.experiment, b.current),
         trajectory: t.map(copyRecord),
         checkpoints: b.checkpoints.map(copyCheckpoint).sort((x, y) => x.step - y.step),
@@ -148,8 +150,7 @@ export class Grove {
 
   /** Where a branch was forked from (null for the root). */
   origin(name: string): BranchOrigin | null {
-    const o = this.get(name).origin;
-    return o === null ? null : { parent: o.parent, step: o.step, patch: { ...o.patch } };
+    return copyOrigin(this.get(name).origin);
   }
 
   /** The live session of a branch (stepping it directly bypasses trajectory and checkpoints). */
@@ -233,22 +234,45 @@ export class Grove {
   }
 
   /**
-   * A new branch `name` forked from `from` at `step` with `patch` applied to the recipe
-   * (see the module comment for what carries over). Its trajectory starts with copies of the
-   * parent's records 0…step; its first checkpoint is the fork state.
+   * A new branch `name` forked from `from` at `step` with `patch` merged into the recipe
+   * (a shorthand for {@link Grove.fork} with the parent's seed and setup).
    */
   branch(from: string, step: number, name: string, patch: Partial<Recipe>): Session {
+    const parent = this.get(from).experiment;
+    return this.fork(from, step, name, { seed: parent.seed, setup: parent.setup, recipe: { ...parent.recipe, ...patch } }, patch);
+  }
+
+  /**
+   * A new branch `name` forked from `from` at `step`, running `experiment`; `patch` records
+   * what changed (flat spec keys, kept as the branch's origin). With the parent's seed and
+   * setup the fork state carries over (see the module comment): the new trajectory starts with
+   * copies of the parent's records 0…step. With another seed or setup the branch must fork at
+   * step 0 and starts afresh. The branch's first checkpoint is its fork state.
+   *
+   * @throws when the name is taken or empty, or a setup/seed change forks after step 0.
+   */
+  fork(from: string, step: number, name: string, experiment: Experiment, patch: BranchPatch): Session {
     if (this.branches.has(name)) throw new Error(`a branch named '${name}' already exists`);
     if (name.trim() === '') throw new Error('a branch name must not be empty');
     const parent = this.get(from);
-    const experiment: Experiment = { seed: parent.experiment.seed, setup: parent.experiment.setup, recipe: { ...parent.experiment.recipe, ...patch } };
-    const reached = runToEnd(this.reach(parent, step));
-    const probe = this.newSession(experiment, null);
-    const state = adaptSessionState(reached.session.state(), experiment.recipe, probe.objective);
-    const session = this.newSession(experiment, state);
-    const trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
-    if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
-    const b: Branch = { name, experiment, origin: { parent: from, step, patch: { ...patch } }, session, trajectory, checkpoints: [], every: this.every };
+    const restart = experiment.seed !== parent.experiment.seed || !sameSetup(experiment.setup, parent.experiment.setup);
+    if (restart && step !== 0) {
+      throw new Error(`branch '${name}' changes the ${experiment.seed !== parent.experiment.seed ? 'seed' : 'setup (model, data, loss or regularization)'}, so it must start at step 0, not step ${step}`);
+    }
+    let session: Session;
+    let trajectory: StepRecord[];
+    if (restart) {
+      this.reachPlan(parent, step); // validates the step against the parent
+      session = this.newSession(experiment, null);
+      trajectory = [session.initialRecord()];
+    } else {
+      const reached = runToEnd(this.reach(parent, step));
+      const probe = this.newSession(experiment, null);
+      session = this.newSession(experiment, adaptSessionState(reached.session.state(), experiment.recipe, probe.objective));
+      trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
+      if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
+    }
+    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: structuredClone(patch) as BranchPatch, restart }, session, trajectory, checkpoints: [], every: this.every };
     this.branches.set(name, b);
     this.addCheckpoint(b, false);
     return session;
@@ -275,7 +299,7 @@ export class Grove {
     }
     const chain: ReplayLink[] = [];
     for (let c: Branch | null = b; c !== null; c = c.origin === null ? null : this.get(c.origin.parent)) {
-      chain.unshift({ experiment: c.experiment, forkStep: c.origin === null ? null : c.origin.step });
+      chain.unshift({ experiment: c.experiment, forkStep: c.origin === null ? null : c.origin.step, restart: c.origin?.restart ?? false });
     }
     const checkpoints = b.checkpoints.filter((c) => c.step <= target);
     const plan = planReplay(chain, target, new Set(checkpoints.map((c) => c.step)), new Set(b.trajectory.map((r) => r.step)), (e, s) => this.newSession(e, s));

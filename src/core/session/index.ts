@@ -8,7 +8,7 @@ export type { StopCondition } from './stop';
 export { DEFAULT_DIVERGENCE_FACTOR } from './stop';
 export { fingerprintState, copySessionState, copyOptimizerState } from './state-data';
 export { Grove } from './grove';
-export type { Checkpoint, GroveOptions, BranchOrigin, BranchSnapshot, GroveSnapshot, ResumeData } from './grove';
+export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove';
 export type { GroveTask } from './task';
 export { boundTrajectory, strideSelection, DEFAULT_TRAJECTORY_BOUND } from './trajectory';
 export type { TrajectoryBound } from './trajectory';

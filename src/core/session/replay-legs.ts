@@ -1,7 +1,8 @@
 /**
  * The legs of a replay from spec and seed (see `Grove.replay`): a root branch is re-run from
- * a fresh session; a forked branch first replays its ancestors up to each fork point, then
- * carries the replayed state over to its recipe ({@link adaptSessionState}) and re-runs to
+ * a fresh session (as is a branch that restarted with its own setup or seed); a forked branch
+ * first replays its ancestors up to each fork point, then carries the replayed state over to its
+ * recipe ({@link adaptSessionState}) and re-runs to
  * the target, noting every record and, at the branch's checkpoint steps, the fingerprint and
  * parameters.
  */
@@ -17,6 +18,8 @@ export interface ReplayLink {
   experiment: Experiment;
   /** Step at which this branch was forked from the previous link (null for the root). */
   forkStep: number | null;
+  /** True when the branch starts afresh from its own seed and setup instead of the parent's state. */
+  restart: boolean;
 }
 
 /** Legs and outputs of a replay. */
@@ -59,7 +62,7 @@ export function planReplay(
       from,
       to,
       open: (): Session => {
-        if (link.forkStep === null) {
+        if (link.forkStep === null || link.restart) {
           const s = newSession(link.experiment, null);
           note(s, s.initialRecord());
           return s;

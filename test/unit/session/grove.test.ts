@@ -157,7 +157,7 @@ describe('branches', () => {
     expect(fresh.t).toBe(0);
     expect(fresh.buffers.velocity.every((x) => x === 0)).toBe(true);
     expect(Array.from(g.session('to-sgd').parameters)).toEqual(Array.from(g.session('main').parameters));
-    expect(g.origin('to-sgd')).toEqual({ parent: 'main', step: 6, patch: { optimizer: 'sgd', momentum: 0.9 } });
+    expect(g.origin('to-sgd')).toEqual({ parent: 'main', step: 6, patch: { optimizer: 'sgd', momentum: 0.9 }, restart: false });
   });
 
   it('switching batch size mid-epoch and back to full batch works and replays', () => {
@@ -200,5 +200,41 @@ describe('snapshot and restore', () => {
     const snap = g.snapshot();
     snap.branches.reverse();
     expect(() => Grove.restore(snap)).toThrow("branch 'b' names parent 'main', which does not come before it in the snapshot");
+  });
+});
+
+describe('branches that change the setup or the seed', () => {
+  it('start afresh at step 0 from their own init and replay bit-identically', () => {
+    const base = networkExperiment({ optimizer: 'sgd', lr: 0.05 });
+    const g = Grove.create(base);
+    g.step('main', 5);
+    const he: Experiment = { ...base, setup: { ...base.setup, model: { ...(base.setup.model as Extract<Experiment['setup']['model'], { kind: 'network' }>), init: 'he-normal' } } };
+    g.fork('main', 0, 'he', he, { 'model.init': 'he-normal' });
+    expect(g.origin('he')).toEqual({ parent: 'main', step: 0, patch: { 'model.init': 'he-normal' }, restart: true });
+    // a different init scheme gives different starting weights than the parent's step 0
+    expect(g.trajectory('he')[0].loss).not.toBe(g.trajectory('main')[0].loss);
+    expect(g.trajectory('he')).toHaveLength(1);
+    g.step('he', 12);
+    expect(g.replay('he').match).toBe('bit-identical');
+    // the same experiment from scratch reaches the same state
+    const alone = Grove.create(he);
+    alone.step('main', 12);
+    expect(alone.session('main').fingerprint()).toBe(g.session('he').fingerprint());
+  });
+
+  it('refuse to fork after step 0', () => {
+    const base = networkExperiment();
+    const g = Grove.create(base);
+    g.step('main', 3);
+    expect(() => g.fork('main', 2, 'seed9', { ...base, seed: 9 }, { seed: 9 })).toThrow(/changes the seed, so it must start at step 0, not step 2/);
+  });
+
+  it('keep carrying the state when only the recipe changes', () => {
+    const base = networkExperiment();
+    const g = Grove.create(base);
+    g.step('main', 4);
+    g.fork('main', 2, 'faster', { ...base, recipe: { ...base.recipe, lr: 0.2 } }, { lr: 0.2 });
+    expect(g.origin('faster')?.restart).toBe(false);
+    expect(g.trajectory('faster').map((r) => r.step)).toEqual([0, 1, 2]);
   });
 });

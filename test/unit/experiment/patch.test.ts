@@ -1,0 +1,104 @@
+/** Spec patches: key grammar, application to the spec value, validation like a spec (invariants only). */
+import { parseSpec } from '../../../src/experiment';
+import { applyPatch, parseAssignments, parsePatchText, patchExperiment, patchPath, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
+
+const SPEC = `seed: 3
+model:
+  inputs: 2
+  layers:
+    - { units: 4, activation: tanh }
+    - { units: 1, activation: linear }
+data:
+  x: [[0.1, 0.2], [0.3, -0.4], [0.5, 0.6]]
+  y: [[1], [0], [1]]
+recipe: { optimizer: sgd, lr: 0.1 }
+`;
+
+describe('patch keys', () => {
+  it.each([
+    ['lr', 'recipe.lr'],
+    ['momentum', 'recipe.momentum'],
+    ['layers[1].lrScale', 'recipe.layers.1.lrScale'],
+    ['model.init', 'model.init'],
+    ['data.standardize', 'data.standardize'],
+    ['recipe.lr', 'recipe.lr'],
+    ['seed', 'seed']
+  ])('%s resolves to %s', (key, path) => {
+    const p = patchPath(key);
+    expect(p.ok && p.path.join('.')).toBe(path);
+  });
+
+  it.each(['__proto__', 'recipe.__proto__', 'constructor', 'lr;rm', '', 'layers[x]'])('refuses %j', (key) => {
+    expect(patchPath(key).ok).toBe(false);
+  });
+
+  it('suggests the nearest key for a misspelling', () => {
+    const p = patchPath('momentun');
+    expect(p.ok ? '' : p.message).toMatch(/did you mean 'momentum'/);
+  });
+
+  it('tells setup keys from recipe keys', () => {
+    expect(touchesSetup({ lr: 0.1, 'layers[0].lrScale': 2 })).toBe(false);
+    expect(touchesSetup({ lr: 0.1, 'model.init': 'he-normal' })).toBe(true);
+    expect(touchesSetup({ seed: 4 })).toBe(true);
+  });
+});
+
+describe('assignments and patch text', () => {
+  it('reads KEY=VALUE as YAML values and keeps flow collections whole', () => {
+    expect(splitAssignments('lr=0.05, schedule={kind: cosine, steps: 100},batch=8')).toEqual(['lr=0.05', 'schedule={kind: cosine, steps: 100}', 'batch=8']);
+    const r = parseAssignments(['lr=0.05', 'batch=full', 'schedule={kind: cosine, steps: 100}', 'data.standardize=true']);
+    expect(r).toEqual({ ok: true, patch: { lr: 0.05, batch: 'full', schedule: { kind: 'cosine', steps: 100 }, 'data.standardize': true } });
+  });
+
+  it('names the bad assignment and shortens long garbage', () => {
+    const r = parseAssignments(['lr', 'x'.repeat(5000) + '=1']);
+    expect(r.ok).toBe(false);
+    if (r.ok) return;
+    expect(r.errors[0]).toMatch(/expected KEY=VALUE, got "lr"/);
+    expect(r.errors[1].length).toBeLessThan(300); // 5 000 characters in, a bounded message out
+  });
+
+  it('reads patch text with positions of bad keys', () => {
+    expect(parsePatchText('lr: 0.05\nmodel.init: he-normal\n')).toEqual({ ok: true, patch: { lr: 0.05, 'model.init': 'he-normal' } });
+    const r = parsePatchText('lr: 0.05\nmomentun: 0.9\n');
+    expect(r.ok ? null : r.errors[0]).toMatchObject({ line: 2, col: 1 });
+    expect(parsePatchText('- lr\n').ok).toBe(false);
+    expect(parsePatchText('a: &a [1]\nb: &b [*a, *a, *a, *a, *a, *a, *a, *a, *a, *a]\nc: [*b, *b, *b, *b, *b, *b, *b, *b, *b, *b]\n').ok).toBe(false);
+  });
+});
+
+describe('applying a patch', () => {
+  const base = parseSpec(SPEC);
+  if (!base.ok) throw new Error('fixture spec must parse');
+
+  it('changes exactly the patched keys and leaves the input untouched', () => {
+    const r = patchExperiment(SPEC, { lr: 0.05, momentum: 0.9 });
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.experiment.recipe).toEqual({ ...base.experiment.recipe, lr: 0.05, momentum: 0.9 });
+    expect(r.experiment.setup.model).toEqual(base.experiment.setup.model);
+  });
+
+  it('creates recipe.layers with lrScale 1 per layer when one layer is patched', () => {
+    const r = patchExperiment(SPEC, { 'layers[1].lrScale': 0.25 });
+    expect(r.ok && r.experiment.recipe.layers).toEqual([{ lrScale: 1 }, { lrScale: 0.25 }]);
+  });
+
+  it('patches the setup', () => {
+    const r = patchExperiment(SPEC, { 'model.init': 'he-normal', 'model.gain': 2 });
+    expect(r.ok && r.experiment.setup.model).toMatchObject({ init: 'he-normal', gain: 2 });
+  });
+
+  it('reports a bad value with the spec message, naming the key', () => {
+    const r = patchExperiment(SPEC, { lr: -1 });
+    expect(r.ok ? '' : r.errors.map((e) => e.message).join('\n')).toMatch(/^patch 'lr': recipe\.lr/);
+  });
+
+  it('refuses an index past the end of a list', () => {
+    const value = { model: { layers: [{}, {}] }, recipe: {} };
+    const r = applyPatch(value, { 'layers[5].lrScale': 2 });
+    expect(r.ok ? '' : r.errors[0].message).toMatch(/has 2 entries, so index 5 does not exist/);
+    expect(value).toEqual({ model: { layers: [{}, {}] }, recipe: {} });
+  });
+});
