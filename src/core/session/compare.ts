@@ -161,7 +161,9 @@ export function matchedSteps(inputs: readonly CompareInput[], between = 2): { st
   const start = Math.max(0, ...inputs.map((b) => b.forkStep ?? 0));
   const end = Math.min(...inputs.map((b) => b.trajectory[b.trajectory.length - 1].step));
   const chosen = new Map<number, MatchReason[]>();
-  const add = (s: number, why: MatchReason): void => chosen.set(s, [...(chosen.get(s) ?? []), why]);
+  const add = (s: number, why: MatchReason): void => {
+    chosen.set(s, [...(chosen.get(s) ?? []), why]);
+  };
   const inSpan = common.filter((s) => s >= Math.min(start, end) && s <= end);
   if (inSpan.length === 0) return [];
   const nearest = (target: number): number => inSpan.reduce((a, s) => (Math.abs(s - target) < Math.abs(a - target) ? s : a), inSpan[0]);
