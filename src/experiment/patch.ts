@@ -337,3 +337,31 @@ export function recipeExcerpt(specText: string, patches: readonly SpecPatch[]): 
   out.recipe = spec.recipe ?? {};
   return { ok: true, yaml: stringifyYaml(out, { lineWidth: 0 }) };
 }
+
+/**
+ * Checks the text of the cell's branch form: a YAML mapping of keys (see {@link parsePatchText})
+ * applied after the branch's ancestry and validated like a spec. Every problem carries the line
+ * and column of its key in the patch text (the spec's own problems, which a patch cannot fix,
+ * are reported without a position).
+ */
+export function checkPatchText(specText: string, ancestry: readonly SpecPatch[], text: string): { ok: true; patch: SpecPatch } | { ok: false; errors: SpecError[] } {
+  const parsed = parsePatchText(text);
+  if (!parsed.ok) return parsed;
+  const result = patchChainExperiment(specText, [...ancestry, parsed.patch]);
+  if (result.ok) return { ok: true, patch: parsed.patch };
+  const doc = parseDocument(text);
+  const where = new Map<string, { line: number; col: number }>();
+  if (isMap(doc.contents)) {
+    for (const pair of doc.contents.items) {
+      if (isScalar(pair.key) && pair.key.range) where.set(String(pair.key.value), positionAt(text, pair.key.range[0]));
+    }
+  }
+  return {
+    ok: false,
+    errors: result.errors.map((e) => {
+      const key = /^patch '([^']+)': /.exec(e.message)?.[1];
+      const pos = key === undefined ? undefined : where.get(key);
+      return pos ? { path: key as string, message: e.message, line: pos.line, col: pos.col } : { path: e.path, message: e.message };
+    })
+  };
+}

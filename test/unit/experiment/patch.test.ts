@@ -1,6 +1,6 @@
 /** Spec patches: key grammar, application to the spec value, validation like a spec (invariants only). */
 import { parseSpec } from '../../../src/experiment';
-import { applyPatch, applyPatches, parseAssignments, parsePatchText, patchChainExperiment, patchExperiment, patchPath, recipeExcerpt, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
+import { applyPatch, applyPatches, checkPatchText, parseAssignments, parsePatchText, patchChainExperiment, patchExperiment, patchPath, recipeExcerpt, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
 
 const SPEC = `seed: 3
 model:
@@ -123,5 +123,16 @@ describe('a branch’s ancestry of patches', () => {
     expect(r).toEqual({ ok: true, yaml: 'seed: 3\nmodel:\n  init: he-normal\nrecipe:\n  optimizer: sgd\n  lr: 0.02\n' });
     const listed = recipeExcerpt(SPEC, [{ 'model.layers[0].activation': 'relu' }]);
     expect(listed.ok && listed.yaml).toContain('layers:\n    - units: 4\n      activation: relu\n');
+  });
+});
+
+describe('the branch form', () => {
+  it('accepts a valid patch and places a bad value at its key’s line', () => {
+    expect(checkPatchText(SPEC, [{ lr: 0.05 }], 'momentum: 0.9\n')).toEqual({ ok: true, patch: { momentum: 0.9 } });
+    const r = checkPatchText(SPEC, [], '# smaller step\nmomentum: 0.5\nlr: -2\n');
+    expect(r.ok ? [] : r.errors).toEqual([expect.objectContaining({ path: 'lr', line: 3, col: 1 })]);
+    expect(r.ok ? '' : r.errors[0].message).toMatch(/^patch 'lr': recipe\.lr/);
+    const syntax = checkPatchText(SPEC, [], 'lr: [0.1\n');
+    expect(syntax.ok ? [] : syntax.errors[0].line).toBeDefined();
   });
 });

@@ -9,7 +9,7 @@ import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/u
 import { mergeSharpness } from '../../../src/ui/view-state';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 
-const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
+const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans', series: ['#00f', '#f80', '#0a0'] };
 
 async function measure(spec: string, steps: number): Promise<CurvatureResult> {
   const replies: EngineReply[] = [];

@@ -7,7 +7,7 @@ import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLin
 import { readNumber } from '../../../src/ui/forms';
 import type { StepRecord } from '../../../src/core/state';
 
-const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
+const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans', series: ['#00f', '#f80', '#0a0'] };
 
 const rec = (step: number, loss: number, heldOutLoss?: number): StepRecord => ({
   step, loss, batchLoss: loss, gradNorm: 1, updateNorm: 0.1, lr: 0.1, evaluations: 1, layers: [], ms: 0.5, ...(heldOutLoss === undefined ? {} : { heldOutLoss })
@@ -94,7 +94,7 @@ describe('summary texts', () => {
   });
 
   it('escapes user text in the markdown fallback and carries the proxy note', () => {
-    const md = markdownSummary({ version: 1, step: 3, loss: 0.5, heldOutLoss: null, recipe: 'sgd η=0.1, full batch', setup: 'net <b>x</b>', fingerprint: 'ab12<script>', parameterCount: 26 });
+    const md = markdownSummary({ version: 2, branch: 'main', branches: [], step: 3, loss: 0.5, heldOutLoss: null, recipe: 'sgd η=0.1, full batch', setup: 'net <b>x</b>', fingerprint: 'ab12<script>', parameterCount: 26 });
     expect(md).toContain('step 3');
     expect(md).not.toContain('<b>');
     expect(md).toContain('\\<b\\>');
@@ -103,10 +103,21 @@ describe('summary texts', () => {
     expect(escapeMarkdown('a*b_c')).toBe('a\\*b\\_c');
   });
 
+  it('lists the branches in the markdown fallback, each with its origin, change, step and loss', () => {
+    const line = (name: string, parent: string | null, forkStep: number | null, patchText: string, step: number, tip: number, loss: number | null) => ({ name, parent, forkStep, patchText, step, tip, loss });
+    const md = markdownSummary({
+      version: 2, branch: 'lr=0.4', step: 30, loss: 0.01, heldOutLoss: null, recipe: 'sgd η=0.4, full batch', setup: 'net', fingerprint: 'ab', parameterCount: 9,
+      branches: [line('main', null, null, '', 12, 40, null), line('lr=0.4', 'main', 10, 'lr=0.4', 30, 30, 0.01)]
+    });
+    expect(md).toContain('**Branches** (2):');
+    expect(md).toContain('| main | — | the spec as written | 12 (of 40) | — |');
+    expect(md).toContain('| lr=0.4 (shown) | main at step 10 | lr=0.4 | 30 | 0.01 |');
+  });
+
   it('states verify outcomes in one sentence', () => {
-    expect(verifyLine({ match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
-    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
-    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 0, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('starting point already differs');
+    expect(verifyLine({ branch: 'main', match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
+    expect(verifyLine({ branch: 'main', match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
+    expect(verifyLine({ branch: 'main', match: 'differs', steps: 10, firstDifferingStep: 0, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('starting point already differs');
   });
 
   it('formats audit layers without recomputing verdicts', () => {
