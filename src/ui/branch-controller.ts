@@ -241,7 +241,7 @@ export abstract class BranchController extends ControllerBase {
     if (data === null) return false;
     const axis = this.st.comparison.axis;
     const figureText = comparisonText(data.traces, axis);
-    const image = this.deps.imageOf ? await this.deps.imageOf(comparisonFigure(data.traces, axis, IMAGE_THEME, { width: 720, height: 320, title: 'Training loss of the compared branches' })) : null;
+    const image = this.deps.imageOf ? await this.deps.imageOf(comparisonFigure(data.traces, axis, IMAGE_THEME, { width: 720, height: 320 })) : null;
     const input = { question: q, chosen, comparison: data.comparison, traces: data.traces, findings: this.st.findings, image: image === null ? null : RECORD_IMAGE, figureText };
     let source: string;
     try {

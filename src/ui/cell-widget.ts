@@ -137,8 +137,8 @@ export class StepwellCellWidget extends Widget {
     this.statusNode.textContent =
       s.summary === null
         ? s.ledger === 'corrupt' ? 'unreadable ledger' : 'no session yet: run the cell (Shift+Enter)'
-        : `${statusLine({ step: s.summary.step, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
-          `${s.summary.step < s.summary.tip ? ` (of ${s.summary.tip})` : ''}${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
+        : `${statusLine({ step: s.summary.step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
+          `${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
           (s.specEdited ? ' · previous spec' : '');
     replaceChildren(this.problemsNode, s.problems.map(p => el('li', 'sw-Problem', problemLine(p))));
     show(this.problemsNode, s.problems.length > 0);

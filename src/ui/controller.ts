@@ -16,7 +16,7 @@ import type { StopCondition } from '../worker/protocol';
 import { RECENT_RECORDS, thinInPlace } from '../worker/sampling';
 import { BranchController, type ControllerDeps } from './branch-controller';
 import { readNumber } from './forms';
-import { errorMarkdown, meanMs, problemLine, verifyLines } from './summary';
+import { errorMarkdown, meanMs, problemLine, requestMs, verifyLines } from './summary';
 import type { Notice } from './view-state';
 import { mergeSharpness } from './view-state';
 
@@ -156,7 +156,7 @@ export class CellController extends BranchController {
       summary: reply.summary,
       trajectory: thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep()))),
       sharpness: mergeSharpness(this.st.sharpness, reply.sharpness),
-      msPerStep: meanMs(produced.slice(-RECENT_RECORDS)) ?? this.st.msPerStep,
+      msPerStep: requestMs(reply.updates, reply.elapsedMs) ?? meanMs(produced.slice(-RECENT_RECORDS)) ?? this.st.msPerStep,
       notice
     });
     return this.persist();

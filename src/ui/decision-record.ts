@@ -73,11 +73,11 @@ function findingLines(findings: readonly Record<string, unknown>[]): string[] {
   return findings.map((f) => {
     const str = (k: string): string | null => (typeof f[k] === 'string' ? (f[k] as string) : null);
     const numAt = (k: string): string | null => (typeof f[k] === 'number' ? fmt(f[k] as number) : null);
-    const head = [str('severity'), str('id') ? `\`${(str('id') as string).replace(/`/g, '')}\`` : null].filter((x) => x !== null).join(' ');
+    const head = [str('severity') ? escapeMarkdown(str('severity') as string) : null, str('id') ? `\`${(str('id') as string).replace(/`/g, '')}\`` : null].filter((x) => x !== null).join(' ');
     const where = [numAt('step') !== null ? `step ${numAt('step')}` : null, numAt('layer') !== null ? `layer ${numAt('layer')}` : null, str('branch') ? `branch ${str('branch')}` : null].filter((x) => x !== null);
     const measured = numAt('measured') !== null && numAt('threshold') !== null ? ` Measured ${numAt('measured')} against the threshold ${numAt('threshold')}.` : '';
     const source = str('source') ? ` Source: ${escapeMarkdown(str('source') as string)}.` : '';
-    return `- **${escapeMarkdown(head || 'finding')}**${where.length > 0 ? ` (${escapeMarkdown(where.join(', '))})` : ''}: ${escapeMarkdown(str('statement') ?? JSON.stringify(f))}${escapeMarkdown(measured)}${source}`;
+    return `- **${head || 'finding'}**${where.length > 0 ? ` (${escapeMarkdown(where.join(', '))})` : ''}: ${escapeMarkdown(str('statement') ?? JSON.stringify(f))}${escapeMarkdown(measured)}${source}`;
   });
 }
 

@@ -242,7 +242,8 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
     },
     ...kept
   ];
-  const held = trajectory.filter(r => r.heldOutLoss !== undefined);
+  // The held-out loss of kept steps after the cursor is left out, like their training loss's solid line.
+  const held = shown.filter(r => r.heldOutLoss !== undefined);
   if (held.length > 0) {
     const h = decimate(
       held.map(r => r.step),

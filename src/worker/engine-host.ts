@@ -238,7 +238,11 @@ export class EngineHost {
     const cond: StopCondition = condition ?? { kind: 'steps', count: total };
     const carry = { startLoss: cond.kind === 'diverged' ? session.fullLoss() : NaN, done: 0 };
     const points: SharpnessPoint[] = [];
+    // Wall time of the updates alone: sharpness measurements and the yields between slices excluded.
+    let elapsed = 0;
+    let measuring = 0;
     const measure = (): void => {
+      const t0 = performance.now();
       try {
         const p = this.core.sharpness(experiment, session);
         points.push(p);
@@ -246,6 +250,7 @@ export class EngineHost {
       } catch {
         // Diverged weights make the products non-finite: the trace simply ends there.
       }
+      measuring += performance.now() - t0;
     };
     if (sharpnessEvery > 0) measure();
     let pending: StepRecord[] = [];
@@ -253,12 +258,15 @@ export class EngineHost {
     const end = await this.sliced(
       id,
       hooks => {
+        const t0 = performance.now();
+        const m0 = measuring;
         const res = grove.runUntil(name, cond, total - carry.done, {
           ...hooks,
           onRecord: r => {
             if (sharpnessEvery > 0 && r.step % sharpnessEvery === 0 && Number.isFinite(r.loss)) measure();
           }
         }, carry);
+        elapsed += performance.now() - t0 - (measuring - m0);
         carry.done += res.records.length;
         for (const r of res.records) pending.push(r);
         reason = res.reason;
@@ -279,7 +287,9 @@ export class EngineHost {
       records: sampleRecords(pending, REPLY_SAMPLE),
       sharpness: points,
       stopped: outcome === 'stopped',
-      reason: outcome
+      reason: outcome,
+      updates: carry.done,
+      elapsedMs: elapsed
     });
   }
 

@@ -248,6 +248,10 @@ export type EngineReply =
       stopped: boolean;
       /** Why the work ended. */
       reason: 'done' | 'stopped' | 'condition' | 'non-finite';
+      /** Updates applied by this request. */
+      updates: number;
+      /** Wall time of those updates in ms (sharpness measurements and yields excluded). */
+      elapsedMs: number;
     }
   | {
       id: number;

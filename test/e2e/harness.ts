@@ -172,9 +172,13 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
  */
 export function ourErrors(session: IBrowserSession): string[] {
   const mine = /stepwell|failed to activate|could not start/i;
+  // JupyterLab renders a markdown cell's HTML first and swaps `attachment:` image URLs for data
+  // URLs afterwards, so the browser always tries (and fails) to load `attachment:…` once. Any
+  // markdown cell with an attachment does that; our record's image is named stepwell-….
+  const attachmentProbe = /ERR_UNKNOWN_URL_SCHEME \(attachment:/;
   return [
     ...session.pageErrors.map(e => `page error: ${e.stack ?? e.message}`),
-    ...session.consoleErrors.filter(t => mine.test(t)).map(t => `console error: ${t}`)
+    ...session.consoleErrors.filter(t => mine.test(t) && !attachmentProbe.test(t)).map(t => `console error: ${t}`)
   ];
 }
 

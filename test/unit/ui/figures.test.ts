@@ -3,7 +3,7 @@
  */
 import { chooseScale, decimate, traceFigure } from '../../../src/ui/trace-figure';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
-import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLine, verifyLine } from '../../../src/ui/summary';
+import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
 import type { StepRecord } from '../../../src/core/state';
 
@@ -85,6 +85,18 @@ describe('summary texts', () => {
     expect(statusLine({ step: 40, last: rec(40, 0.0132, 0.0171), msPerStep: 0.42, ledgerBytes: 14200 }))
       .toBe('step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB');
     expect(statusLine({ step: 9, last: rec(9, 1), msPerStep: 0.0042 })).toBe('step 9 · loss 1 · 4.2 µs/step');
+  });
+
+  it('gives a timing only when the measured time is well above the browser timer’s ~0.1 ms resolution', () => {
+    // one fast update reads 0 or 0.1 ms in a browser: no "0.0 µs/step"
+    expect(requestMs(1, 0.1)).toBeUndefined();
+    expect(requestMs(1, 0)).toBeUndefined();
+    expect(requestMs(40, 2)).toBe(0.05);
+    expect(meanMs([rec(0, 1), { ...rec(1, 1), ms: 0.1 }])).toBeUndefined();
+    const many = Array.from({ length: 100 }, (_, i) => ({ ...rec(i + 1, 1), ms: 0.1 }));
+    expect(meanMs(many)).toBeCloseTo(0.1, 12);
+    expect(MIN_TIMED_MS).toBe(5);
+    expect(statusLine({ step: 1, last: rec(1, 1), msPerStep: undefined })).toBe('step 1 · loss 1');
   });
 
   it('places spec problems at their line', () => {
