@@ -109,6 +109,11 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     await cell.locator('.sw-Button-stepN').click();
     await waitForStatus(cell, /^step 20 · .* · branch slower ·/);
     expect(await cell.locator('.sw-Branch').count()).toBe(3);
+    // Alt+Shift+S steps the box's N too (15), not the settings' default.
+    await cell.locator('.sw-Button-stepN').focus();
+    await page.keyboard.press('Escape');
+    await page.keyboard.press('Alt+Shift+S');
+    await waitForStatus(cell, /^step 35 · .* · branch slower ·/);
     await cell.locator('.sw-BranchBar').scrollIntoViewIfNeeded();
     await screenshot(page, 'branches-2-bar');
 
@@ -122,6 +127,15 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     expect(await cell.locator('.sw-PatchKey', { hasText: 'lr' }).count()).toBe(2);
     await cell.locator('.sw-Compare').scrollIntoViewIfNeeded();
     await screenshot(page, 'branches-3-compare-light');
+
+    // Switching tabs and resizing the window lays out only the displayed plots: no plotly errors.
+    for (let round = 0; round < 3; round++) {
+      for (const tab of ['trace', 'curvature', 'layers', 'compare']) await cell.locator(`.sw-Tab[data-tab="${tab}"]`).click();
+      await page.setViewportSize({ width: 1200 + 100 * round, height: 900 });
+      await page.waitForTimeout(300);
+    }
+    await page.setViewportSize({ width: 1400, height: 900 });
+    expect(browser.pageErrors.map(e => e.message)).toEqual([]);
 
     // The decision record: a second one asks before replacing the demo's.
     await cell.locator('.sw-Button-record').click();

@@ -72,7 +72,11 @@ describe('stepwell cell in the browser', () => {
     await demoCell.locator('.sw-Form button', { hasText: 'Go' }).click();
     await waitForStep(demoCell, 0);
     expect(await status(demoCell)).toMatch(/^step 0 \(of 20\) · /);
+    // The curvature measured at step 20 stays, and says it belongs to another step.
+    await demoCell.locator('.sw-Stale', { hasText: 'Measured at step 20; the branch is now at step 0.' }).waitFor({ timeout: 10_000 });
     await demoCell.locator('.sw-StepN').fill('20');
+    // The tracking button follows the box's N.
+    await demoCell.locator('.sw-Button-track', { hasText: 'Step ×20 tracking λmax' }).waitFor({ timeout: 5_000 });
     await demoCell.locator('.sw-Button-track').click();
     const crossing = demoCell.locator('.sw-Stability', { hasText: 'crossed the stability limit at step' });
     await crossing.waitFor({ timeout: 60_000 });

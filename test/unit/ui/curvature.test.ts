@@ -45,6 +45,8 @@ describe('curvature readout', () => {
     expect(unstable?.y.length ?? 0).toBe(expectedAbove);
     const line = f.data.find(d => d.name.startsWith('stability limit'));
     expect(line?.y).toEqual([0.4, 0.4]);
+    // The dashed line is at λ = 2/η (its legend says so), not at the largest stable η 2/λmax.
+    expect(line?.name).toBe('stability limit λ = 2/η');
   });
 
   it('draws no limit for an optimizer the rule does not cover', async () => {

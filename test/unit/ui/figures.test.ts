@@ -25,6 +25,19 @@ describe('traceFigure', () => {
     expect(f.layout.showlegend).toBe(false);
   });
 
+  it('ticks whole steps and keeps the legend at the top left, clear of the plot toolbar', () => {
+    const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2), rec(3, 1)], theme);
+    expect(f.layout.xaxis).toMatchObject({ tickmode: 'linear', tick0: 0, dtick: 1 });
+    expect(f.layout.legend).toMatchObject({ x: 0, xanchor: 'left' });
+  });
+
+  it('draws the steps kept after the cursor dotted and leaves their held-out loss out', () => {
+    const f = traceFigure([rec(0, 2, 2.5), rec(1, 1.5, 2), rec(2, 1.2, 1.8), rec(3, 1, 1.7)], theme, { cursor: 1 });
+    expect(f.data.map(d => [d.name, d.x])).toEqual([['training loss', [0, 1]], ['kept steps after 1', [1, 2, 3]], ['held-out loss', [0, 1]]]);
+    expect(f.data[1].line.dash).toBe('dot');
+    expect(f.layout.showlegend).toBe(true);
+  });
+
   it('adds the held-out series and a legend when the setup has a split', () => {
     const f = traceFigure([rec(0, 2, 2.5), rec(1, 1, 1.8)], theme);
     expect(f.data.map(d => d.name)).toEqual(['training loss', 'held-out loss']);
