@@ -53,11 +53,16 @@ export function readOverrides(list: readonly string[], flag: string): SpecPatch 
   return parsed.patch;
 }
 
-/** Parses a positive integer flag, with an error naming the flag. */
-export function positiveInt(value: string | undefined, flag: string, fallback: number): number {
+/**
+ * Parses a non-negative integer flag written in decimal digits (no `0x10`, `1e3` or empty
+ * text), at most `max`, with an error naming the flag.
+ */
+export function positiveInt(value: string | undefined, flag: string, fallback: number, max = Number.MAX_SAFE_INTEGER): number {
   if (value === undefined) return fallback;
+  const shown = value.length > 40 ? `${value.slice(0, 40)}…` : value;
+  if (!/^\d+$/.test(value)) throw new CliError(`${flag} must be a non-negative integer in decimal digits, got '${shown}'`);
   const n = Number(value);
-  if (!Number.isInteger(n) || n < 0) throw new CliError(`${flag} must be a non-negative integer, got '${value}'`);
+  if (!(n <= max)) throw new CliError(`${flag} must be at most ${max}, got ${shown}`);
   return n;
 }
 

@@ -49,11 +49,14 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
     }
   } catch (e) {
     if (e instanceof CliError) {
-      err.write(e.message.split('\n').map((l) => (l.startsWith('usage') || l.startsWith(' ') ? l : `stepwell: ${l}`)).join('\n') + '\n');
+      const lines = e.message.split('\n').filter((l) => l.trim() !== '');
+      err.write(lines.map((l) => (l.startsWith('usage') || l.startsWith(' ') ? l : `stepwell: ${l}`)).join('\n') + '\n');
       return e.exitCode;
     }
-    if (e instanceof TypeError && 'code' in e && String((e as { code: unknown }).code).startsWith('ERR_PARSE_ARGS')) {
-      err.write(`stepwell: ${e.message}\n${USAGE}`);
+    // Duck-typed: node:util's parse errors may come from another realm (jest's vm), where instanceof fails.
+    const parse = e as { code?: unknown; message?: unknown } | null;
+    if (typeof parse === 'object' && parse !== null && String(parse.code).startsWith('ERR_PARSE_ARGS')) {
+      err.write(`stepwell: ${String(parse.message).split('\n')[0]}\n${USAGE}`);
       return 2;
     }
     throw e;

@@ -15,6 +15,12 @@ export interface RunFlags {
   replay?: boolean;
 }
 
+/**
+ * Most updates one `run` may ask for: the trajectory of every step is printed, so this bounds
+ * the output (about 100 bytes a step) before any work starts.
+ */
+export const MAX_STEPS = 1_000_000;
+
 /** Parses `loss<V`, `grad<V` or `diverged` into a stop condition. */
 export function parseUntil(text: string): StopCondition {
   if (text === 'diverged') return { kind: 'diverged' };
@@ -55,7 +61,7 @@ function compact(records: StepRecord[]): { step: number; loss: number; gradNorm:
 /** Runs the command and returns its output text. */
 export function runCommand(path: string, flags: RunFlags): string {
   if (flags.steps === undefined) throw new CliError('run needs --steps N (the number of optimizer updates, or the cap with --until)');
-  const steps = positiveInt(flags.steps, '--steps', 0);
+  const steps = positiveInt(flags.steps, '--steps', 0, MAX_STEPS);
   const { experiment, text, patch } = loadExperiment(path, flags.set);
   const until = flags.until === undefined ? undefined : parseUntil(flags.until);
   const fork = flags.branch === undefined ? undefined : parseBranch(flags.branch);
@@ -108,6 +114,7 @@ export function runCommand(path: string, flags: RunFlags): string {
     '  step            loss   |grad|',
     ...table(main.records),
     `stopped: ${main.stopped} after ${mainFinal.step} steps; final loss ${mainFinal.loss.toPrecision(8)}`,
+    ...(until !== undefined && main.stopped === 'max-steps' ? [`the condition --until ${flags.until} was not met within ${steps} steps`] : []),
     `fingerprint ${mainFinal.fingerprint}`,
   ];
   if (branch && fork && branchFinal) {

@@ -100,6 +100,51 @@ describe('stepwell run', () => {
   });
 });
 
+describe('flags and messages', () => {
+  it.each(['', '0x10', '1e3', '-1', '2.5', ' 7'])('refuses --steps %j with a message naming the flag', async (steps) => {
+    const r = await cli('run', spec, `--steps=${steps}`, '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--steps must be a non-negative integer in decimal digits/);
+  });
+
+  it('refuses an absurd --steps before doing any work', async () => {
+    const r = await cli('run', spec, '--steps', '1000000000000', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--steps must be at most 1000000, got 1000000000000/);
+  });
+
+  it('ends every error line with content: no dangling "stepwell: " line after the usage', async () => {
+    const r = await cli('frobnicate');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/unknown command 'frobnicate'/);
+    expect(r.err.split('\n').filter((l) => /^stepwell:\s*$/.test(l))).toEqual([]);
+  });
+
+  it('says when --until stopped at the step cap without meeting its condition', async () => {
+    const r = await cli('run', spec, '--steps', '3', '--until', 'loss<1e-12');
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/the condition --until loss<1e-12 was not met within 3 steps/);
+  });
+
+  it('sets model and data keys with --set and names a bad key', async () => {
+    const ok = JSON.parse((await cli('run', spec, '--steps', '2', '--json', '--set', 'model.init=he-normal', '--set', 'layers[0].lrScale=0.5')).out);
+    const base = JSON.parse((await cli('run', spec, '--steps', '2', '--json')).out);
+    expect(ok.trajectory[0].loss).not.toBe(base.trajectory[0].loss); // another init scheme, other starting weights
+    const bad = await cli('run', spec, '--steps', '2', '--set', '__proto__=1');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--set: "__proto__" names '__proto__', which is not a spec key/);
+    const nan = await cli('run', spec, '--steps', '2', '--set', 'lr=.nan');
+    expect(nan.err).toMatch(/patch 'lr': recipe\.lr/);
+    expect(nan.err).not.toMatch(/:\d+:\d+:/); // no position inside an internal copy of the text
+  });
+
+  it('refuses a setup change forked after step 0', async () => {
+    const r = await cli('run', spec, '--steps', '4', '--branch', '2:model.init=he-normal');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/changes the setup or the seed, so it must fork at step 0/);
+  });
+});
+
 describe('the installed bin', () => {
   it('runs through npx without a build step', () => {
     const out = execFileSync('npx', ['stepwell', 'run', rosen, '--steps', '2', '--json'], { encoding: 'utf8' });
