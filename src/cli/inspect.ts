@@ -1,7 +1,8 @@
 /** `stepwell inspect SPEC`: numbers at the initial point of an experiment. */
 import { buildObjective, initialParameters } from '../core/assemble';
 import { Rng } from '../core/rng';
-import { auditGradient } from '../core/probe/gradcheck';
+import { AuditDivergedError, auditGradient, type AuditResult } from '../core/probe/gradcheck';
+import { norm2 } from '../core/objective';
 import { spectralDensity } from '../core/linalg';
 import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
 import { loadExperiment, positiveInt, readVector } from './io';
@@ -57,16 +58,26 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
     const d = spectralDensity(curvatureOperator(objective, w).apply, P, probeRng.fork('density'));
     out.density = { grid: Array.from(d.grid), density: Array.from(d.density), sigma: d.sigma, mean: d.mean, probes: d.probes, method: 'stochastic Lanczos quadrature' };
   }
-  const audit = auditGradient(objective, w, { rng: Rng.fromSeed(experiment.seed).fork('audit') });
-  out.gradcheck = {
-    maxRelError: audit.maxRelError, verdict: audit.verdict, checked: audit.checked, sampled: audit.sampled, h: audit.h,
-    layers: audit.layers.map((l) => ({ layer: l.layer, maxRelError: l.maxRelError, medianRelError: l.medianRelError, worstIndex: l.worstIndex, verdict: l.verdict })),
-  };
+  let audit: AuditResult | null = null;
+  try {
+    audit = auditGradient(objective, w, { rng: Rng.fromSeed(experiment.seed).fork('audit') });
+    out.gradcheck = {
+      maxRelError: audit.maxRelError, verdict: audit.verdict, checked: audit.checked, sampled: audit.sampled, h: audit.h,
+      layers: audit.layers.map((l) => ({ layer: l.layer, maxRelError: l.maxRelError, medianRelError: l.medianRelError, worstIndex: l.worstIndex, worstBlock: l.worstBlock, worstAt: l.worstAt, verdict: l.verdict })),
+    };
+  } catch (e) {
+    if (!(e instanceof AuditDivergedError)) throw e;
+    out.gradcheck = { error: e.message };
+  }
   if (flags.json) return JSON.stringify(out) + '\n';
   const lines = [
-    `parameters ${P}, loss ${loss.toPrecision(10)}, |gradient| ${Math.hypot(...gradient).toExponential(4)}`,
-    `gradient audit: ${audit.verdict} (max relative error ${audit.maxRelError.toExponential(2)} over ${audit.checked}${audit.sampled ? ' sampled' : ''} parameters)`,
-    ...audit.layers.map((l) => `  layer ${l.layer}: max ${l.maxRelError.toExponential(2)}, median ${l.medianRelError.toExponential(2)}, ${l.verdict}`),
+    `parameters ${P}, loss ${loss.toPrecision(10)}, |gradient| ${norm2(gradient).toExponential(4)}`,
+    ...(audit === null
+      ? [`gradient audit: ${(out.gradcheck as { error: string }).error}`]
+      : [
+          `gradient audit: ${audit.verdict} (max relative error ${audit.maxRelError.toExponential(2)} over ${audit.checked}${audit.sampled ? ' sampled' : ''} parameters)`,
+          ...audit.layers.map((l) => `  layer ${l.layer}: max ${l.maxRelError.toExponential(2)}, median ${l.medianRelError.toExponential(2)}, ${l.verdict}`),
+        ]),
   ];
   if (out.eigenvalues) lines.push(`top eigenvalues (${String(out.eigenMethod)}): ${(out.eigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
   if (out.bottomEigenvalues) lines.push(`bottom eigenvalues: ${(out.bottomEigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
