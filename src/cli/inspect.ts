@@ -5,7 +5,7 @@ import { AuditDivergedError, auditGradient, type AuditResult } from '../core/pro
 import { norm2 } from '../core/objective';
 import { spectralDensity } from '../core/linalg';
 import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
-import { loadExperiment, positiveInt, readVector } from './io';
+import { loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
@@ -19,8 +19,8 @@ export interface InspectFlags {
 }
 
 /** Runs the command and returns its output text. */
-export function inspectCommand(path: string, flags: InspectFlags): string {
-  const { experiment } = loadExperiment(path, flags.set);
+export function inspectCommand(path: string, flags: InspectFlags): CommandResult {
+  const { experiment, warnings } = loadExperiment(path, flags.set);
   const objective = buildObjective(experiment.setup);
   const w = initialParameters(experiment.setup, Rng.fromSeed(experiment.seed).fork('init'));
   const P = objective.parameterCount;
@@ -69,7 +69,7 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
     if (!(e instanceof AuditDivergedError)) throw e;
     out.gradcheck = { error: e.message };
   }
-  if (flags.json) return JSON.stringify(out) + '\n';
+  if (flags.json) return { out: toJson(out) + '\n', warnings, code: 0 };
   const lines = [
     `parameters ${P}, loss ${loss.toPrecision(10)}, |gradient| ${norm2(gradient).toExponential(4)}`,
     ...(audit === null
@@ -83,5 +83,5 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
   if (out.bottomEigenvalues) lines.push(`bottom eigenvalues: ${(out.bottomEigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
   if (out.trace) { const t = out.trace as { value: number; standardError: number; method: string }; lines.push(`trace: ${t.value.toPrecision(6)} ± ${t.standardError.toPrecision(2)} (${t.method})`); }
   if (out.stability) { const st = out.stability as { largestStableLr: number | null; margin: number | null; formula: string; caveat: string }; lines.push(`largest stable learning rate: ${st.largestStableLr === null ? 'no fixed limit' : st.largestStableLr.toPrecision(4)} (${st.formula}); stability margin ${st.margin === null ? '-' : st.margin.toPrecision(3)}`, st.caveat); }
-  return lines.join('\n') + '\n';
+  return { out: lines.join('\n') + '\n', warnings, code: 0 };
 }

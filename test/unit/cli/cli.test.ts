@@ -145,6 +145,63 @@ describe('flags and messages', () => {
   });
 });
 
+describe('non-finite numbers and long runs', () => {
+  // source: gradient descent on c/2·w² multiplies w by (1 − ηc) per step (CHECKS.md); with c = 4 and
+  // η = 1e200 the weight overflows to ±Infinity within two steps, so the loss is no longer finite.
+  const blowUp = file('blow.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[4]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 1e200 }\n');
+
+  it('stops at the first non-finite loss without --until, reports it, and keeps the last finite state as final (exit 3)', async () => {
+    const r = await cli('run', blowUp, '--steps', '50', '--json');
+    expect(r.code).toBe(3);
+    const o = JSON.parse(r.out);
+    expect(o.stopped).toBe('diverged');
+    const bad = o.trajectory[o.trajectory.length - 1];
+    expect(o.divergedAt).toBe(bad.step);
+    expect(typeof bad.loss === 'string' && ['NaN', 'Infinity'].includes(bad.loss)).toBe(true); // not null
+    expect(o.final.step).toBe(bad.step - 1);
+    expect(Number.isFinite(o.final.loss)).toBe(true);
+    expect(o.final.parameters.every((x: unknown) => typeof x === 'number')).toBe(true);
+    const text = await cli('run', blowUp, '--steps', '50');
+    expect(text.out).toMatch(/became non-finite at step \d+; the final state is the last finite one/);
+  });
+
+  it('treats divergence asked for with --until diverged as success (exit 0)', async () => {
+    const r = await cli('run', blowUp, '--steps', '50', '--until', 'diverged', '--json');
+    expect(r.code).toBe(0);
+  });
+
+  it('refuses a spec whose loss is not finite before any update', async () => {
+    const huge = file('huge-gain.yaml', `seed: 7
+model:
+  inputs: 2
+  gain: 1e308
+  layers:
+    - { units: 3, activation: linear }
+    - { units: 1, activation: linear }
+data:
+  x: [[0.2, -0.1], [0.7, 0.4]]
+  y: [[0.1], [0.9]]
+`);
+    const r = await cli('run', huge, '--steps', '3', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/the loss is already (NaN|Infinity) at step 0/);
+  });
+
+  it('prints the spec warnings on standard error', async () => {
+    const w = file('warn.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001, batch: 4 }\n');
+    const r = await cli('run', w, '--steps', '1', '--json');
+    expect(r.code).toBe(0);
+    expect(r.err).toMatch(/^stepwell: warning: .*warn\.yaml:3:\d+: recipe\.batch picks data rows/m);
+  });
+
+  it('runs 150 000 steps without overflowing the stack when joining records', async () => {
+    const q = file('long.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[1]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 0.001 }\n');
+    const r = await cli('run', q, '--steps', '150000', '--json');
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.out).trajectory).toHaveLength(150_001);
+  });
+});
+
 describe('the installed bin', () => {
   it('runs through npx without a build step', () => {
     const out = execFileSync('npx', ['stepwell', 'run', rosen, '--steps', '2', '--json'], { encoding: 'utf8' });
