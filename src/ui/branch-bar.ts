@@ -39,8 +39,10 @@ export function branchLines(b: BranchInfo): { name: string; origin: string; stat
  * Builds the bar for `branches` with `active` shown.
  *
  * @param busy - disables every action while the engine works.
+ * @param edited - the spec text was edited since the session started: no new branch (it would
+ *   patch the old text) and no discarding until the cell is run again.
  */
-export function branchBar(branches: readonly BranchInfo[], active: string, busy: boolean, actions: BranchBarActions): HTMLElement {
+export function branchBar(branches: readonly BranchInfo[], active: string, busy: boolean, actions: BranchBarActions, edited = false): HTMLElement {
   const root = el('div', BranchBarClass.root);
   const list = el('div', BranchBarClass.list);
   list.setAttribute('role', 'listbox');
@@ -79,11 +81,11 @@ export function branchBar(branches: readonly BranchInfo[], active: string, busy:
     b.disabled = busy || disabled;
     bar.appendChild(b);
   };
-  add('New branch…', 'Fork a branch from a step of the shown branch with a changed recipe', actions.newBranch, 'sw-Button-branch', activeInfo === undefined);
+  add('New branch…', edited ? 'Run the cell first: the spec text was edited since this session started' : 'Fork a branch from a step of the shown branch with a changed recipe', actions.newBranch, 'sw-Button-branch', activeInfo === undefined || edited);
   add('Rename…', 'Rename the shown branch', actions.rename, 'sw-Button-rename', activeInfo === undefined);
   add('Delete…', 'Delete the shown branch and the branches forked from it (asks first)', () => activeInfo && actions.remove(activeInfo.name), 'sw-Button-delete', activeInfo?.parent === null || activeInfo === undefined);
   if (activeInfo !== undefined && activeInfo.step < activeInfo.tip) {
-    add(`Discard steps ${activeInfo.step + 1}–${activeInfo.tip}…`, 'Drop the steps kept after the current step (asks first)', actions.discard, 'sw-Button-discard', false);
+    add(`Discard steps ${activeInfo.step + 1}–${activeInfo.tip}…`, 'Drop the steps kept after the current step (asks first)', actions.discard, 'sw-Button-discard', edited);
   }
   add('Compare', 'Overlay the branches and compare them at matched steps', actions.compare, 'sw-Button-compare', branches.length < 2);
   root.append(list, bar);

@@ -16,7 +16,7 @@ import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
 import { auditPanel, curvaturePanel, layersPanel } from './readouts';
 import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
-import { traceFigure } from './trace-figure';
+import { traceFigure, traceText } from './trace-figure';
 import { rovingFocus } from './keyboard';
 import type { CellViewState, ReadoutTab } from './view-state';
 import { READOUT_TABS } from './view-state';
@@ -132,12 +132,13 @@ export class StepwellCellWidget extends Widget {
   }
 
   private render(s: CellViewState): void {
-    const atCursor = s.summary === null ? undefined : s.trajectory.find(r => r.step === s.summary?.step);
+    const step = shownStep(s);
+    const atCursor = s.summary === null ? undefined : s.trajectory.find(r => r.step === step);
     const many = (s.summary?.branches.length ?? 0) > 1;
     this.statusNode.textContent =
       s.summary === null
         ? s.ledger === 'corrupt' ? 'unreadable ledger' : 'no session yet: run the cell (Shift+Enter)'
-        : `${statusLine({ step: s.summary.step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
+        : `${statusLine({ step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
           `${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
           (s.specEdited ? ' · previous spec' : '');
     replaceChildren(this.problemsNode, s.problems.map(p => el('li', 'sw-Problem', problemLine(p))));
@@ -191,7 +192,7 @@ export class StepwellCellWidget extends Widget {
 
   private renderBranchBar(s: CellViewState): void {
     const branches = s.summary?.branches ?? [];
-    const key = JSON.stringify([branches, s.summary?.branch, s.busy !== null]);
+    const key = JSON.stringify([branches, s.summary?.branch, s.busy !== null, s.specEdited]);
     if (key === this.renderedBar) return;
     this.renderedBar = key;
     if (s.summary === null) return replaceChildren(this.branchNode, []);
@@ -203,7 +204,7 @@ export class StepwellCellWidget extends Widget {
       remove: name => void c.deleteBranch(name),
       discard: () => void c.discardLater(),
       compare: () => c.setTab('compare')
-    })]);
+    }, s.specEdited)]);
   }
 
   private renderForm(s: CellViewState): void {
@@ -314,7 +315,11 @@ export class StepwellCellWidget extends Widget {
     this.lastPlot = performance.now();
     const s = this.controller.state;
     if (s.trajectory.length === 0 || s.tab !== 'trace' || this.isDisposed || !this.isAttached) return;
-    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node), { cursor: s.summary?.step }));
+    // While stepping, the records arriving are past the summary's step: no cursor to mark then.
+    const cursor = s.busy === null ? s.summary?.step : undefined;
+    this.plotNode.setAttribute('role', 'img');
+    this.plotNode.setAttribute('aria-label', traceText(s.trajectory, cursor));
+    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node), { cursor }));
   }
 
   /** Draws the plot once the node is in the page, and follows theme changes. */
@@ -347,6 +352,16 @@ export class StepwellCellWidget extends Widget {
     for (const node of [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot]) releaseFigure(node);
     super.dispose();
   }
+}
+
+/**
+ * The step the status line shows: the branch's cursor, or, while stepping, the newest record
+ * that has arrived (the summary is refreshed when the request ends).
+ */
+function shownStep(s: CellViewState): number {
+  const step = s.summary?.step ?? 0;
+  const last = s.trajectory[s.trajectory.length - 1];
+  return s.busy !== null && last !== undefined && last.step > step ? last.step : step;
 }
 
 /** Options of {@link StepwellCellWidget}. */

@@ -287,3 +287,20 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
     })
   };
 }
+
+/** The text alternative of the loss trace: where it starts, where the branch is, and where the loss stops being finite. */
+export function traceText(trajectory: readonly StepRecord[], cursor?: number): string {
+  if (trajectory.length === 0) return 'No steps yet.';
+  const first = trajectory[0];
+  const last = trajectory[trajectory.length - 1];
+  const at = trajectory.find(r => r.step === cursor) ?? last;
+  const bad = trajectory.find(r => !Number.isFinite(r.loss));
+  const kept = at.step < last.step ? ` Steps ${at.step + 1}–${last.step} are kept after it.` : '';
+  return `Training loss per step: ${fmtLoss(first.loss)} at step ${first.step}, ${fmtLoss(at.loss)} at step ${at.step}.${kept}` +
+    (bad !== undefined ? ` The loss is not finite from step ${bad.step}.` : '');
+}
+
+/** A loss with 4 significant digits for the text alternative. */
+function fmtLoss(v: number): string {
+  return Number.isFinite(v) ? String(Number(v.toPrecision(4))) : String(v);
+}

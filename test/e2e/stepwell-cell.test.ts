@@ -62,9 +62,12 @@ describe('stepwell cell in the browser', () => {
     // Its curvature readout shows why it diverged: λmax far above the step size's stability limit.
     await demoCell.locator('.sw-Tab[data-tab="curvature"]').click();
     await demoCell.locator('.sw-Button-curvature').click();
-    await demoCell.locator('.sw-Stability.sw-mod-unstable').waitFor({ timeout: 30_000 });
+    // (The sharpness trace restored from the notebook has its own verdict line; wait for the measurement's.)
+    await demoCell.locator('.sw-CurvatureHead', { hasText: 'At step 20: λmax' }).waitFor({ timeout: 60_000 });
+    await demoCell.locator('.sw-Stability.sw-mod-unstable', { hasText: 'UNSTABLE on the local quadratic model' }).waitFor({ timeout: 30_000 });
+    await demoCell.locator('.sw-Progress').waitFor({ state: 'hidden', timeout: 30_000 });
     expect(await demoCell.locator('.sw-CurvaturePlot .scatterlayer .trace').count()).toBeGreaterThan(0);
-    await demoCell.locator('.sw-Stability').scrollIntoViewIfNeeded();
+    await demoCell.locator('.sw-CurvatureHead').scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-0-demo-curvature');
     // Journey 1: back to step 0 (the later steps are kept), step again tracking λmax, and see where it crosses the 2/η line.
     await demoCell.locator('.sw-Button-rewind').click();
@@ -78,7 +81,10 @@ describe('stepwell cell in the browser', () => {
     // The tracking button follows the box's N.
     await demoCell.locator('.sw-Button-track', { hasText: 'Step ×20 tracking λmax' }).waitFor({ timeout: 5_000 });
     await demoCell.locator('.sw-Button-track').click();
-    const crossing = demoCell.locator('.sw-Stability', { hasText: 'crossed the stability limit at step' });
+    // Tracking re-steps through the 20 kept steps, back to the tip.
+    await waitForStep(demoCell, 20);
+    await demoCell.locator('.sw-Progress').waitFor({ state: 'hidden', timeout: 60_000 });
+    const crossing = demoCell.locator('.sw-Stability', { hasText: 'crossed the stability limit at step 0' });
     await crossing.waitFor({ timeout: 60_000 });
     expect(await demoCell.locator('.sw-SharpnessPlot .scatterlayer .trace').count()).toBeGreaterThan(1);
     await crossing.scrollIntoViewIfNeeded();
@@ -107,6 +113,11 @@ describe('stepwell cell in the browser', () => {
     const marked = cell.locator('.cm-line.sw-mod-problemLine');
     await marked.waitFor({ timeout: 10_000 });
     expect(await marked.innerText()).toContain('lr: -3');
+    // The notice says what works (no Reset while the text has problems) and the status that it shows the previous text's session.
+    await cell.locator('.sw-Notice', { hasText: 'fix them, then run the cell (Shift+Enter)' }).waitFor({ timeout: 10_000 });
+    expect(await cell.locator('.sw-Notice').innerText()).not.toContain('Reset');
+    expect(await status(cell)).toContain('previous spec');
+    expect(await cell.locator('.sw-Button-reset').isDisabled()).toBe(true);
     await cell.locator('.sw-Problem').first().scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-2-spec-error');
     expect(await cell.locator('.sw-Button-step').isDisabled()).toBe(true);

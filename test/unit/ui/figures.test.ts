@@ -1,7 +1,7 @@
 /**
  * Pure figure and text builders of the cell widget, tested without a browser.
  */
-import { chooseScale, decimate, traceFigure } from '../../../src/ui/trace-figure';
+import { chooseScale, decimate, traceFigure, traceText } from '../../../src/ui/trace-figure';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
@@ -29,6 +29,11 @@ describe('traceFigure', () => {
     const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2), rec(3, 1)], theme);
     expect(f.layout.xaxis).toMatchObject({ tickmode: 'linear', tick0: 0, dtick: 1 });
     expect(f.layout.legend).toMatchObject({ x: 0, xanchor: 'left' });
+  });
+
+  it('says in words what the trace shows', () => {
+    expect(traceText([rec(0, 2), rec(1, 1.5), rec(2, Infinity), rec(3, NaN)], 1)).toBe('Training loss per step: 2 at step 0, 1.5 at step 1. Steps 2–3 are kept after it. The loss is not finite from step 2.');
+    expect(traceText([])).toBe('No steps yet.');
   });
 
   it('draws the steps kept after the cursor dotted and leaves their held-out loss out', () => {
