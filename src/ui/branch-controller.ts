@@ -57,6 +57,10 @@ export abstract class BranchController extends ControllerBase {
    * @returns true when the branch exists and the ledger was written.
    */
   async forkBranch(request: ForkRequest): Promise<boolean> {
+    if (this.st.specEdited) {
+      this.notice('warn', 'The spec was edited since this session started: run the cell first; a branch patches the text its session belongs to.');
+      return false;
+    }
     const reply = await this.exchange('Making a branch', { kind: 'fork', step: request.atStep, patch: { ...request.set }, name: request.name, from: request.from });
     if (reply === null) return false;
     if (reply.kind === 'patch-errors') {

@@ -104,7 +104,8 @@ describe('branches in the cell', () => {
   });
 
   it('makes a branch as a finding’s proposal would, refusing a setup change after step 0 with the reason', async () => {
-    const c = controller(fakeCell());
+    const cell = fakeCell();
+    const c = controller(cell);
     await c.run();
     await c.step(10);
     expect(await c.forkBranch({ atStep: 6, set: { 'model.init': 'he-normal' } })).toBe(false);
@@ -114,6 +115,11 @@ describe('branches in the cell', () => {
     expect(c.state.summary?.branches.find(b => b.name === 'model.init=he-normal')?.restart).toBe(true);
     expect(await c.forkBranch({ atStep: 5, set: { lr: 0.05 }, from: 'main', name: 'half' })).toBe(true);
     expect(c.state.summary?.branches.map(b => b.name)).toEqual(['main', 'model.init=he-normal', 'half']);
+    // Not from an edited spec: the branch would patch text the session does not belong to.
+    cell.source = TEMPLATE_SPEC + '\n# edited\n';
+    c.sourceChanged();
+    expect(await c.forkBranch({ atStep: 1, set: { lr: 0.01 } })).toBe(false);
+    expect(c.state.notice?.text).toContain('run the cell first');
   });
 
   it('renames and deletes (asking first, never the root)', async () => {

@@ -117,8 +117,12 @@ describe('every branch after a ledger round trip', () => {
     const names = ['main', 'slow', 'model.init=he-normal'];
     const compared = await a.send({ kind: 'compare', branches: names });
 
+    // Findings (written by the findings rules) ride along unchanged.
+    const finding = { id: 'step-size-unstable', severity: 'problem', layer: null, step: 0, measured: 2.7, threshold: 2.2, source: 'invented for this test', statement: 'x', proposal: { atStep: 0, set: { lr: 0.5 } } };
+    (stored as unknown as { findings: object[] }).findings = [finding];
     const b = collect();
     const ready = await b.send({ ...load, resume: stored });
+    expect(ready.kind === 'ready' && ready.findings).toEqual([finding]);
     expect(ready).toMatchObject({ kind: 'ready', summary: { branch: 'main', step: 12, tip: 30 } });
     if (ready.kind !== 'ready') return;
     expect(ready.summary.branches).toEqual(before);
@@ -150,5 +154,7 @@ describe('every branch after a ledger round trip', () => {
     g.fork('main', 10, 'slow', patched.experiment, { lr: 0.02 });
     g.step('slow', 20);
     expect(stepped.kind === 'stepped' && stepped.summary.fingerprint).toBe(g.session('slow').fingerprint());
+    const rebuilt = await b.send({ kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 6 });
+    expect(rebuilt.kind === 'ledger' && (rebuilt.value as { findings: object[] }).findings).toEqual([finding]);
   });
 });
