@@ -55,7 +55,7 @@ export const THRESHOLDS = {
   /** Loss, as a share of the best constant predictor's loss, above which the loss is far from a minimum. */
   plateauBaseline: { value: 0.9, source: `${COMMON}: a model that explains less than 10% of what the best constant prediction leaves has not started learning` },
   /** lr / largest stable lr above which the step is unstable on the local quadratic model. */
-  stabilityMargin: { value: 1, source: 'source: gradient descent on a quadratic converges iff η < 2/λmax (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, ch. 3); momentum forms in core/probe/curvature/stability.ts' },
+  stabilityMargin: { value: 1, source: 'source: gradient descent on a quadratic converges iff η < 2/λmax (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, ch. 3); 2(1 + μ)/λmax with heavy-ball momentum (Polyak 1964)' },
   /** Loss, as a multiple of its start, above which the run has diverged (also non-finite). */
   divergenceFactor: { value: DEFAULT_DIVERGENCE_FACTOR, source: `${COMMON}: a thousandfold rise of the loss (the engine's 'diverged' stop condition)` },
   /** |λmin| / λmax above which negative curvature is large. */
