@@ -43,10 +43,10 @@ describe('activation health', () => {
   });
 
   it('counts ReLU units inactive on every row as dead', () => {
-    // unit 0: a = x (alive for x > 0); unit 1: a = −x − 5 ≤ −2; unit 2: a = −1.
-    const relu: NetworkModel = { ...model, layers: [{ units: 3, activation: 'relu' }], weights: [{ weight: [[1], [-1], [0]], bias: [0, -5, -1] }] };
-    const h = activationHealth(new Network(relu, column([-3, -1, 0, 1, 3], 3), 'mse', 0), relu, Float64Array.from([1, -1, 0, 0, -5, -1]));
-    expect(h.layers[0].deadShare).toBeCloseTo(2 / 3, 15);
+    // unit 0: a = x (alive for x > 0); unit 1: a = −x − 5 ≤ −2; unit 2: a = −1; unit 3: a = x − 2, alive on the last row only.
+    const relu: NetworkModel = { ...model, layers: [{ units: 4, activation: 'relu' }], weights: [{ weight: [[1], [-1], [0], [1]], bias: [0, -5, -1, -2] }] };
+    const h = activationHealth(new Network(relu, column([-3, -1, 0, 1, 3], 4), 'mse', 0), relu, Float64Array.from([1, -1, 0, 1, 0, -5, -1, -2]));
+    expect(h.layers[0].deadShare).toBe(0.5);
     expect(h.layers[0].deadUnits).toEqual([1, 2]);
     expect(h.layers[0].saturatedShare).toBeNull();
   });
