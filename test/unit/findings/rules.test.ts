@@ -5,7 +5,7 @@
  * (those readouts are checked against outside references in readouts.test.ts and
  * test/reference/probe).
  */
-import { diagnoseExperiment, evaluateFindings, roundDown, setupFacts, THRESHOLDS, auditFacts, type Evidence, type Finding, type FindingId, type SharpnessPoint } from '../../../src/core/probe/findings';
+import { diagnoseExperiment, evaluateFindings, roundDown, setupFacts, sharpnessPointFrom, THRESHOLDS, auditFacts, type Evidence, type Finding, type FindingId, type SharpnessPoint } from '../../../src/core/probe/findings';
 import { RULES } from '../../../src/core/probe/findings/engine';
 import { auditGradient } from '../../../src/core/probe/gradcheck';
 import type { Activation } from '../../../src/core/model/activations';
@@ -80,6 +80,13 @@ describe('step-size-unstable', () => {
     expect(ids(diagnose(quadratic([10, 1], '{ optimizer: sgd, lr: 0.25, momentum: 0.5 }'), 20).findings)).not.toContain('step-size-unstable');
     const f = only(diagnose(quadratic([10, 1], '{ optimizer: sgd, lr: 0.35, momentum: 0.5 }'), 20).findings, 'step-size-unstable')[0];
     expect(f.threshold).toBeCloseTo(0.3, 10);
+  });
+
+  it('turns a sharpness measured elsewhere into a point against the recipe\'s limit', () => {
+    // source: 2/λmax for plain gradient descent (Nocedal & Wright 2006, ch. 3): λ = 10 → 0.2, margin 0.25/0.2.
+    const p = sharpnessPointFrom(experimentOf(quadratic([10, 1], '{ optimizer: sgd, lr: 0.25 }')).recipe, 7, 10, 1e-9, 0.25);
+    expect(p).toEqual({ step: 7, sharpness: 10, errorBound: 1e-9, lr: 0.25, largestStableLr: 0.2, margin: 1.25, formula: '2/λmax' });
+    expect(sharpnessPointFrom(experimentOf(quadratic([10, 1], '{ optimizer: sgd, lr: 0.25 }')).recipe, 0, -1, 0, 0.25).largestStableLr).toBeNull();
   });
 
   it('branches from the measurement before a mid-run crossing, at 0.9 × the crossed limit', () => {

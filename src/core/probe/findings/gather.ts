@@ -3,7 +3,7 @@
  * gather it the same way. Cheap parts cost at most one forward pass; costly parts say what they
  * cost. Every result is plain data.
  */
-import type { Experiment, Setup } from '../../setup';
+import type { Experiment, Recipe, Setup } from '../../setup';
 import type { StepRecord } from '../../state';
 import type { Objective } from '../../objective';
 import { Rng } from '../../rng';
@@ -147,10 +147,19 @@ export function sharpnessPoint(session: CurvatureSession, rng: Rng, options: Sha
   const l = lanczosExtremes(op.apply, w.length, rng, { k: 1, which: 'largest', tol: options.tol ?? 1e-8, maxIterations: options.maxIterations ?? 100 });
   const top = l.largest[0];
   if (top === undefined || !Number.isFinite(top.value)) return null;
-  const lr = learningRate(recipe, session.stepCount);
-  const b = stabilityBound(recipe, top.value, lr);
+  return sharpnessPointFrom(recipe, session.stepCount, top.value, top.errorBound, learningRate(recipe, session.stepCount));
+}
+
+/**
+ * A {@link SharpnessPoint} from a sharpness measured elsewhere (e.g. a sharpness trace's λmax,
+ * which is the step operator's sharpness for plain SGD without per-layer rates or weight decay):
+ * the recipe's stability bound at that sharpness and learning rate. An infinite limit (no positive
+ * curvature) is stored as null so the point stays JSON-safe.
+ */
+export function sharpnessPointFrom(recipe: Recipe, step: number, sharpness: number, errorBound: number, lr: number): SharpnessPoint {
+  const b = stabilityBound(recipe, sharpness, lr);
   const limit = b.largestStableLr !== null && Number.isFinite(b.largestStableLr) ? b.largestStableLr : null;
-  return { step: session.stepCount, sharpness: top.value, errorBound: top.errorBound, lr, largestStableLr: limit, margin: limit === null ? null : b.margin, formula: f.formula };
+  return { step, sharpness, errorBound, lr, largestStableLr: limit, margin: limit === null ? null : b.margin, formula: b.formula };
 }
 
 /** The stability limit at step 0 of the experiment with standardized inputs (null when not a network, already standardized, or no limit applies at step 0). */

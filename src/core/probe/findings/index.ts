@@ -10,6 +10,6 @@ export type { DiagnoseOptions, DiagnoseResult } from './diagnose';
 export type { SharpnessPointOptions } from './gather';
 export { THRESHOLDS } from './thresholds';
 export { RULES, ruleOf, evaluateFindings } from './engine';
-export { setupFacts, baselineLoss, staticEvidence, liveEvidence, currentActivations, sharpnessPoint, standardizedFit, curvatureFacts, auditFacts, diagnoseRng } from './gather';
+export { setupFacts, baselineLoss, staticEvidence, liveEvidence, currentActivations, sharpnessPoint, sharpnessPointFrom, standardizedFit, curvatureFacts, auditFacts, diagnoseRng } from './gather';
 export { diagnoseExperiment, measurementSteps } from './diagnose';
 export { roundDown } from './proposals';
