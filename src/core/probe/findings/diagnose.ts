@@ -3,7 +3,7 @@
  * branch N times in a {@link Grove}, measure the sharpness against the stability limit at a
  * bounded number of evenly spaced steps (step 0 included), then gather the remaining evidence at
  * the end — activation health, a full curvature measurement, the gradient audit and the noise
- * scale at the final weights (skipped when they are not finite), and the stability limit of the
+ * scale at the final weights (skipped after a divergence), and the stability limit of the
  * standardized setup when the inputs are unscaled — and evaluate every rule.
  *
  * Costs: N updates; up to `curvaturePoints` top-1 Lanczos runs (≤ 100 Hessian-vector products
@@ -20,6 +20,7 @@ import type { Evidence, SharpnessPoint } from './evidence';
 import { evaluateFindings } from './engine';
 import { auditFacts, curvatureFacts, diagnoseRng, liveEvidence, sharpnessPoint, standardizedFit, staticEvidence } from './gather';
 import { inputsUnscaled } from './proposals';
+import { diverged } from './rules/stability';
 
 /** Options of {@link diagnoseExperiment}. */
 export interface DiagnoseOptions {
@@ -74,7 +75,10 @@ export function diagnoseExperiment(experiment: Experiment, options: DiagnoseOpti
   const evidence: Evidence = { ...staticEvidence(experiment), ...liveEvidence(session, grove.trajectory('main'), grove.checkpointSteps('main')), sharpness };
   const w = Float64Array.from(session.parameters);
   const finalLoss = evidence.trajectory[evidence.trajectory.length - 1].loss;
-  if (Number.isFinite(finalLoss) && w.every((x) => Number.isFinite(x))) {
+  // After a divergence the final weights are blown up: their readouts would describe nothing the
+  // user can act on (and the audit refuses them), so only the `diverged` finding speaks then.
+  const blownUp = diverged.evaluate(evidence).length > 0;
+  if (!blownUp && Number.isFinite(finalLoss) && w.every((x) => Number.isFinite(x))) {
     try {
       const report = measureSessionCurvature(session, rng.fork('curvature'), { k: 1, density: false, traceProbes: 0, denseLimit: options.denseLimit });
       evidence.curvature = curvatureFacts(report.summary, session.stepCount);
