@@ -63,7 +63,11 @@ export const updateRatioHigh: Rule = ratioRule('high');
 /** `update-ratio-low`: a layer's ‖ΔW‖/‖W‖ far below the band while the loss is far from a minimum or other layers move. Same proposal. */
 export const updateRatioLow: Rule = ratioRule('low');
 
-/** Sigmoid hidden layers switched to tanh at the fan-in scheme (tanh's slope at 0 is 1, the sigmoid's 1/4). */
+/**
+ * Sigmoid hidden layers switched to tanh at the fan-in scheme (tanh's slope at 0 is 1, the
+ * sigmoid's 1/4). The learning rate is kept: the new network's limit is not measured here (the
+ * step-size rules speak on the branch once it is stepped).
+ */
 function activationProposal(e: Evidence): Proposal | null {
   const layers = e.setup.layers;
   const set: Record<string, ProposalValue> = {};
