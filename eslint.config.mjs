@@ -56,7 +56,7 @@ const layerBlocks = [
   files,
   rules: {
     'no-restricted-imports': ['error', {
-      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
+      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-basic-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
     }]
   }
 }));
