@@ -1,6 +1,6 @@
 /**
  * The spec layer: reads the text of a stepwell cell (YAML or JSON), validates it against
- * `schema/spec.schema.json` and the cross-field rules, and produces the normalized
+ * `spec.schema.json` and the cross-field rules, and produces the normalized
  * {@link Experiment} with every default applied. Every problem is reported at once,
  * with the path it concerns and its line and column, sorted by position.
  *
@@ -16,6 +16,7 @@ import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
 
 export { TEMPLATE_SPEC } from './template';
+export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
 
