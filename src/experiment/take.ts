@@ -125,7 +125,7 @@ export function readArrayReply(role: TakeRole, name: string, reply: ExpressionRe
             : `holds ${dtype} values, not numbers — convert it to a float array`
       );
     case 'size':
-      return fail(`${shapeText(shape)} = ${body.size} numbers, above the limit of ${limit} (setting "Largest array taken from the kernel"); take a sample of rows`);
+      return fail(`${shape.length > 1 ? `${shapeText(shape)} = ` : ''}${body.size} numbers, above the limit of ${limit} (setting "Largest array taken from the kernel"); take a sample of rows`);
     case 'nonfinite':
       return fail(`${body.count} of its values are NaN or ±∞ (the first at flat index ${body.first}); drop or fill them first`);
     case undefined:
@@ -182,8 +182,15 @@ export function describeTaken(a: TakenArray): string {
 /** A number as YAML text that reads back as the same float64 (JavaScript's shortest round-trip form). */
 const num = (v: number): string => (Object.is(v, -0) ? '-0.0' : String(v));
 
+/** Values per line of a one-column list. */
+const PER_LINE = 6;
+
 function rowsYaml(a: TakenArray, indent: string): string {
-  if (a.shape.length === 1) return `[${Array.from(a.values, num).join(', ')}]`;
+  if (a.shape.length === 1) {
+    const parts: string[] = [];
+    for (let i = 0; i < a.values.length; i += PER_LINE) parts.push(Array.from(a.values.subarray(i, i + PER_LINE), num).join(', '));
+    return `[${parts.join(`,\n${indent}  `)}]`;
+  }
   const cols = a.shape[1];
   const lines: string[] = [];
   for (let r = 0; r < a.shape[0]; r++) lines.push(`${indent}- [${Array.from(a.values.subarray(r * cols, (r + 1) * cols), num).join(', ')}]`);

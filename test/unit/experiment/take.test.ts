@@ -133,6 +133,18 @@ describe('the spec of a new cell', () => {
     expect(Array.from(setup.data!.y)).toEqual([2, -0.5, 7]);
   });
 
+  it('wraps a long one-column list so that it still reads back exactly', () => {
+    const long = taken('y', 'y_long', [14], Array.from({ length: 14 }, (_, i) => i / 7));
+    const xs = taken('x', 'X_long', [14, 1], Array.from({ length: 14 }, (_, i) => -i));
+    const wrapped = takenSpecText([xs, long], '2026-12-03');
+    expect(wrapped).toMatch(/ {2}y: \[0, 0\.14285714285714285, .*,\n {6}0\.857142857142857/);
+    const r = parseSpec(wrapped);
+    expect(r.ok).toBe(true);
+    if (!r.ok) return;
+    expect(r.warnings).toEqual([]);
+    expect(Array.from(r.experiment.setup.data!.y)).toEqual(Array.from(long.values));
+  });
+
   it('records the names and the content hash, and warns once the values are edited', () => {
     expect(text).toContain('kernel: { "x": "X_train", "y": "y_train" }');
     expect(text).toContain(`sha256: ${takenHash([x.values, y.values])}`);
