@@ -100,6 +100,17 @@ export function copyDemos(workDir, source = DEMO_DIR) {
   return { copied, kept };
 }
 
+/**
+ * User settings of a fresh state folder: no news or update checks (they poll the internet,
+ * which a loopback server here does not have, and ask in a toast). Existing files are kept.
+ */
+function quietSettings(settingsDir) {
+  const file = path.join(settingsDir, '@jupyterlab', 'apputils-extension', 'notification.jupyterlab-settings');
+  if (fs.existsSync(file)) return;
+  fs.mkdirSync(path.dirname(file), { recursive: true });
+  fs.writeFileSync(file, JSON.stringify({ fetchNews: 'false', checkForUpdates: false }, null, 2));
+}
+
 /** URL path of a notebook in JupyterLab (`lab`) or Notebook 7 (`notebook`). */
 export function notebookPath(app, notebook) {
   const rel = notebook.split('/').map(encodeURIComponent).join('/');
@@ -125,9 +136,9 @@ async function waitReady(origin, token, child, output, timeoutMs) {
  * Start `jupyter lab` (or `jupyter notebook`) from .venv serving `root` on 127.0.0.1 and wait
  * until it answers. Settings and workspaces live in `state` (fresh per test, kept for
  * `start:lab`); the server's output is kept in memory (the last 100 kB or more) and, with
- * `logFile`, appended to that file. Resolves with the origin, the token, a URL builder and `stop()`.
+ * `logFile`, appended to that file; `exposeApp` sets `window.jupyterapp` for tests. Resolves with the origin, the token, a URL builder and `stop()`.
  */
-export async function startJupyter({ app = 'lab', root, state = path.join(JUPYTER_LOCAL, 'state'), port, token, env = {}, logFile, timeoutMs = 90_000 }) {
+export async function startJupyter({ app = 'lab', root, state = path.join(JUPYTER_LOCAL, 'state'), port, token, env = {}, logFile, exposeApp = false, timeoutMs = 90_000 }) {
   const actualPort = port ?? (await freePort());
   const secret = token ?? crypto.randomBytes(16).toString('hex');
   const args = [
@@ -147,8 +158,11 @@ export async function startJupyter({ app = 'lab', root, state = path.join(JUPYTE
     '--LabApp.news_url=',
     '--LabApp.check_for_updates_class=jupyterlab.NeverCheckForUpdate'
   ];
+  // The browser tests drive the app through window.jupyterapp, as they do in the embedded app.
+  if (exposeApp) args.push(app === 'notebook' ? '--JupyterNotebookApp.expose_app_in_browser=True' : '--LabApp.expose_app_in_browser=True');
   if (process.getuid && process.getuid() === 0) args.push('--allow-root');
   fs.mkdirSync(root, { recursive: true });
+  quietSettings(path.join(state, 'settings'));
   const child = spawn(venvBin('python'), args, { cwd: root, env: { ...jupyterEnv(), ...env }, stdio: ['ignore', 'pipe', 'pipe'] });
   let log = '';
   const file = logFile ? fs.createWriteStream(logFile, { flags: 'a' }) : null;
@@ -188,4 +202,56 @@ export async function startJupyter({ app = 'lab', root, state = path.join(JUPYTE
         child.kill('SIGTERM');
       })
   };
+}
+
+/** Value of `--name VALUE` or `--name=VALUE` in argv, else undefined. */
+function option(argv, name) {
+  const i = argv.findIndex(a => a === name || a.startsWith(`${name}=`));
+  if (i < 0) return undefined;
+  return argv[i].includes('=') ? argv[i].slice(name.length + 1) : argv[i + 1];
+}
+
+/**
+ * Command line for tests and scripts (the functions above are ES modules, which jest's
+ * CommonJS tests cannot import):
+ *   node src/package/lab-server.mjs serve --root DIR [--state DIR] [--app lab|notebook] [--expose]
+ *     starts a server, prints `Jupyter server at <origin>/?token=<token>` and runs until SIGTERM;
+ *   node src/package/lab-server.mjs install-wheel WHEEL | install-develop
+ *   node src/package/lab-server.mjs run COMMAND ARGS…   runs a command of .venv/bin with the project-local Jupyter folders.
+ */
+async function cli(argv) {
+  const [verb, ...rest] = argv;
+  if (verb === 'install-wheel') return installWheel(path.resolve(rest[0]));
+  if (verb === 'install-develop') return installDevelop();
+  if (verb === 'run') {
+    const r = spawnSync(venvBin(rest[0]), rest.slice(1), { stdio: 'inherit', env: jupyterEnv() });
+    if (r.error) throw new Error(`cannot run ${venvBin(rest[0])}: ${r.error.message}`);
+    process.exitCode = r.status ?? 1;
+    return undefined;
+  }
+  if (verb !== 'serve') throw new Error(`unknown command ${JSON.stringify(verb)}: use serve, install-wheel, install-develop or run`);
+  const root = option(rest, '--root');
+  if (!root) throw new Error('serve needs --root DIR (the folder the server shows)');
+  const state = option(rest, '--state');
+  const app = option(rest, '--app') ?? 'lab';
+  if (app !== 'lab' && app !== 'notebook') throw new Error(`--app must be lab or notebook, got ${JSON.stringify(app)}`);
+  const server = await startJupyter({
+    app,
+    root: path.resolve(root),
+    ...(state ? { state: path.resolve(state) } : {}),
+    exposeApp: rest.includes('--expose'),
+    logFile: option(rest, '--log')
+  });
+  console.log(`Jupyter server at ${server.origin}/?token=${server.token} (pid ${server.pid})`);
+  const stop = () => void server.stop().then(() => process.exit(0));
+  process.on('SIGINT', stop);
+  process.on('SIGTERM', stop);
+  return undefined;
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  cli(process.argv.slice(2)).catch(err => {
+    console.error(`stepwell: ${err.message}`);
+    process.exit(1);
+  });
 }

@@ -2,11 +2,14 @@
 // prebuilt extension (share/jupyter/labextensions/stepwell) and the `stepwell` Python package
 // (the %%stepwell IPython magic). Builds the prebuilt extension when stale, then runs the
 // hatchling backend of pyproject.toml from the project's .venv (no download at build time).
+// Usage: node src/package/wheel.mjs [--install]   (--install: also install it into .venv, as the
+// browser tests of the real server use it; it replaces a development-mode install)
 import fs from 'node:fs';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { ROOT, readPackageJson } from '../host/paths.mjs';
 import { buildLabextension } from './labextension.mjs';
+import { installWheel } from './lab-server.mjs';
 import { ensureVenv, pipEnv } from './venv.mjs';
 
 /** Folder of built wheels (gitignored). */
@@ -44,7 +47,11 @@ export function buildWheel({ quiet = false } = {}) {
 
 if (import.meta.url === `file://${process.argv[1]}`) {
   try {
-    buildWheel();
+    const wheel = buildWheel();
+    if (process.argv.includes('--install')) {
+      installWheel(wheel);
+      console.log(`stepwell: installed ${path.basename(wheel)} into .venv`);
+    }
   } catch (err) {
     console.error(`stepwell: ${err.message}`);
     process.exit(1);
