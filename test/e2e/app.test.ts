@@ -212,6 +212,36 @@ describe('prebuilt (federated) extensions', () => {
     }
   });
 
+  it("loads Stepwell's own prebuilt extension in place of the bundled plugins, and a cell steps in its worker", async () => {
+    // `npm run test:e2e` builds it (src/package/wheel.mjs); a lone jest run may not have.
+    const out = path.join(ROOT, 'stepwell', 'labextension');
+    expect(fs.existsSync(path.join(out, 'package.json'))).toBe(true);
+    const server = await startApp({ env: { STEPWELL_LABEXTENSIONS: out } });
+    const session = await launchBrowser();
+    try {
+      expect(server.output()).toContain('serving prebuilt extensions stepwell');
+      await openNotebook(session.page, server.url);
+      // The plugins came from the remote entry: the container registered itself, and all activated.
+      expect(await session.page.evaluate(() => typeof (window as unknown as { _JUPYTERLAB?: Record<string, unknown> })._JUPYTERLAB?.stepwell)).toBe('object');
+      const states = await pluginStates(session.page, 'stepwell:');
+      expect(Object.keys(states).length).toBeGreaterThan(0);
+      expect(Object.values(states).every(Boolean)).toBe(true);
+      const cell = session.page.locator('.sw-CellWidget').first();
+      await cell.waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Button-rewind').click();
+      await cell.locator('.sw-Form input').fill('3');
+      await cell.locator('.sw-Form button', { hasText: 'Rewind' }).click();
+      await cell.locator('.sw-Status', { hasText: /^step 3 ·/ }).waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Button-step').click();
+      await cell.locator('.sw-Status', { hasText: /^step 4 ·/ }).waitFor({ timeout: 30_000 });
+      await screenshot(session.page, 'app-own-prebuilt');
+      expect(ourErrors(session)).toEqual([]);
+    } finally {
+      await session.close();
+      await server.stop();
+    }
+  });
+
   it('refuses a folder that is not a prebuilt extension, naming it', async () => {
     await expect(startApp({ env: { STEPWELL_LABEXTENSIONS: path.join(ROOT, 'src') } })).rejects.toThrow(
       /STEPWELL_LABEXTENSIONS: .*src has no package.json/
