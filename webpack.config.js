@@ -52,7 +52,10 @@ module.exports = (env = {}) => ({
     filename: '[name].js',
     chunkFilename: '[name].[contenthash:8].js',
     assetModuleFilename: 'assets/[name].[contenthash:8][ext]',
-    publicPath: '/static/',
+    // 'auto': each script finds its folder from its own URL. The page's entry sets the public path
+    // from the page config anyway; a Web Worker cannot, and must load its chunks from where it was
+    // loaded itself (which is below a sub-path on the static site).
+    publicPath: 'auto',
     clean: true
   },
   cache: {
