@@ -86,7 +86,8 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
         checkpointCap: pick('checkpointCap'),
         auditSample: pick('auditSample'),
         denseHessianLimit: pick('denseHessianLimit'),
-        eigenCount: pick('eigenCount')
+        eigenCount: pick('eigenCount'),
+        kernelDataLimit: pick('kernelDataLimit')
       };
     };
     apply();
@@ -96,40 +97,19 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
   }
 }
 
-/** Default of the `kernelDataLimit` setting (values per array taken from a kernel). */
-const KERNEL_DATA_LIMIT = 20000;
-
 /** Stepwell cells beside a kernel: YAML editors, the %%stepwell magic loaded, data taken from the kernel. */
 const kernelPlugin: JupyterFrontEndPlugin<void> = {
   id: 'stepwell:kernel',
   description: 'Highlights stepwell cells as YAML, loads the %%stepwell magic into Python kernels and takes arrays from the kernel.',
   autoStart: true,
   requires: [INotebookTracker, IStepwellCells],
-  optional: [ICommandPalette, ISettingRegistry],
-  activate: (
-    app: JupyterFrontEnd,
-    tracker: INotebookTracker,
-    cells: IStepwellCells,
-    palette: ICommandPalette | null,
-    registry: ISettingRegistry | null
-  ): void => {
-    let limit = KERNEL_DATA_LIMIT;
-    registry
-      ?.load(SETTINGS_PLUGIN_ID)
-      .then(settings => {
-        const read = (): void => {
-          const v = settings.get('kernelDataLimit').composite;
-          limit = typeof v === 'number' && Number.isInteger(v) && v > 0 ? v : KERNEL_DATA_LIMIT;
-        };
-        read();
-        settings.changed.connect(read);
-      })
-      .catch((error: unknown) => console.warn(`Stepwell: kernelDataLimit could not be read, using ${KERNEL_DATA_LIMIT} (${String(error)})`));
+  optional: [ICommandPalette],
+  activate: (app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells, palette: ICommandPalette | null): void => {
     tracker.widgetAdded.connect((_, panel) => {
       followCellLanguage(panel, cells);
       loadMagicInKernel(panel, cells);
     });
-    addTakeDataCommand(app, tracker, cells, palette, () => limit);
+    addTakeDataCommand(app, tracker, cells, palette, () => cells.settings.kernelDataLimit);
   }
 };
 

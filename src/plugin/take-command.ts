@@ -27,7 +27,7 @@ function lines(items: string[], className: string): Widget {
 
 /**
  * Registers the command and its palette entry.
- * @param limit - largest number of values per array (setting `kernelDataLimit`), read at each use.
+ * @param limit - largest number of values per array (the setting `kernelDataLimit`), read at each use.
  */
 export function addTakeDataCommand(
   app: JupyterFrontEnd,
