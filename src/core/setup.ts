@@ -120,7 +120,7 @@ export type ScheduleSetup =
   | { kind: 'inverse-time'; decay: number }
   | { kind: 'cosine'; steps: number; floor: number };
 
-/** How the parameters are updated. Every field has a documented default in `schema/`. */
+/** How the parameters are updated. Every field has a documented default in `src/experiment/spec.schema.json`. */
 export interface Recipe {
   optimizer: OptimizerName;
   lr: number;

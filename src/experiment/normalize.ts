@@ -1,7 +1,7 @@
 /**
  * Turns a spec value that passed the schema and the cross-field checks into the
  * normalized {@link Experiment}: every default applied, data packed row-major into
- * Float64Arrays. Defaults here match the `description`s of `schema/spec.schema.json`.
+ * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
 import type {
   ActivationName, DataSetup, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
