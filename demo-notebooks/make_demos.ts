@@ -39,6 +39,23 @@ const lines = (text: string): string[] => text.split(/(?<=\n)/);
 
 const markdown = (id: string, text: string): NbCell => ({ cell_type: 'markdown', id, metadata: {}, source: lines(text) });
 
+/**
+ * The Python cell that loads the %%stepwell magic, so a Python kernel running the whole notebook
+ * without Stepwell's JupyterLab extension (nbconvert --execute, papermill) passes over the
+ * stepwell cells with a one-line notice each instead of failing on their YAML.
+ */
+const loadMagicCell = (id: string): NbCell => ({
+  cell_type: 'code',
+  id,
+  metadata: {},
+  source: lines(`# Only for a Python kernel that runs this notebook without Stepwell's JupyterLab extension
+# (nbconvert --execute, papermill): each stepwell cell below then prints a one-line notice.
+%load_ext stepwell
+`),
+  outputs: [],
+  execution_count: null
+});
+
 /** A pre-run stepwell cell and the record cell the product wrote below it. */
 function stepwellCells(r: PrerunResult, spec: string): NbCell[] {
   const cell: NbCell = { cell_type: 'code', id: r.id, metadata: r.metadata, source: lines(spec), outputs: r.outputs, execution_count: null };
@@ -167,6 +184,7 @@ and a second branch, **${fix.name}**, forked at step ${fork.atStep} with a small
 **without re-running**, because the whole state is stored in the notebook; **Verify** replays every branch
 from the seed and checks that the stored trajectories are reproduced bit for bit.
 `),
+    loadMagicCell('gh-kernel'),
     ...stepwellCells(r, spec),
     markdown('gh-diagnosis', `## What the readouts say
 
@@ -236,6 +254,7 @@ The cell below holds that experiment (branch **main**, step ${PS_STEPS}) and the
 again at step 0 with the initialization scale of the fan-in rule — both restored from the notebook without
 re-running.
 `),
+    loadMagicCell('ps-kernel'),
     ...stepwellCells(r, spec),
     markdown('ps-diagnosis', `## What the readouts say
 
@@ -254,9 +273,14 @@ re-running.
 function notebook(cells: NbCell[]): Json {
   return {
     cells,
-    // The empty kernelspec is what JupyterLab records for "No Kernel"; without it the notebook
-    // turns dirty the moment it opens. Stepwell cells never need a kernel.
-    metadata: { stepwell_demo: true, kernelspec: { name: '', display_name: '' }, language_info: { name: 'yaml' } },
+    // The Python kernel of ipykernel, as a real Jupyter server offers it, for the ordinary code
+    // cells; stepwell cells never need it. Without kernelspec and language_info JupyterLab writes
+    // them itself, so the notebook would turn dirty the moment it opens.
+    metadata: {
+      stepwell_demo: true,
+      kernelspec: { display_name: 'Python 3 (ipykernel)', language: 'python', name: 'python3' },
+      language_info: { name: 'python' }
+    },
     nbformat: 4,
     nbformat_minor: 5
   };

@@ -2,7 +2,8 @@
  * The thin plotly wrapper: renders a figure description (built by a pure function such as
  * `traceFigure`) into a node, with theme colours read from JupyterLab's CSS variables.
  */
-import Plotly from 'plotly.js-dist-min';
+import Plotly from 'plotly.js-basic-dist-min';
+import type { Data, Layout } from 'plotly.js';
 import type { Figure, FigureTheme } from './trace-figure';
 
 /** Reads the figure theme from the CSS variables in effect at `node`. */
@@ -33,8 +34,8 @@ export async function renderFigure(node: HTMLElement, figure: Figure): Promise<v
   try {
     await Plotly.react(
       node,
-      figure.data as unknown as Plotly.Data[],
-      figure.layout as unknown as Partial<Plotly.Layout>,
+      figure.data as unknown as Data[],
+      figure.layout as unknown as Partial<Layout>,
       // Not `responsive`: plotly's own window-resize handler throws for plots in hidden tabs or
       // removed nodes; the widget resizes displayed plots itself (see resizeFigure).
       { displaylogo: false, modeBarButtonsToRemove: ['select2d', 'lasso2d'] }
@@ -76,7 +77,7 @@ export interface FigureImage {
 export async function figureImage(figure: Figure, width = 720, height = 320): Promise<FigureImage | null> {
   try {
     const url = await Plotly.toImage(
-      { data: figure.data as unknown as Plotly.Data[], layout: { ...(figure.layout as unknown as Partial<Plotly.Layout>), width, height } },
+      { data: figure.data as unknown as Data[], layout: { ...(figure.layout as unknown as Partial<Layout>), width, height } },
       { format: 'png', width, height, scale: 2 }
     );
     const comma = url.indexOf(',');

@@ -61,7 +61,8 @@ describe('branches and the decision record in the browser (journey 1)', () => {
   it('branches from an earlier step, compares, records the decision, and saves only what changed', async () => {
     const page = browser.page;
     const original = JSON.parse(fs.readFileSync(path.join(ROOT, 'demo-notebooks', DEMO), 'utf8')) as { cells: NbCell[]; metadata: unknown; nbformat: number };
-    expect(original.cells.map(c => c.cell_type)).toEqual(['markdown', 'code', 'markdown', 'markdown']);
+    // intro, the Python cell that loads the magic, the stepwell cell, its decision record, the diagnosis
+    expect(original.cells.map(c => c.cell_type)).toEqual(['markdown', 'code', 'code', 'markdown', 'markdown']);
     await openNotebook(page, app.url);
     const cell = page.locator('.sw-CellWidget').first();
     await cell.waitFor();
@@ -160,13 +161,13 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     await page.waitForTimeout(1000);
     const saved = await savedNotebook(page);
     expect(saved.cells).toHaveLength(original.cells.length);
-    const ledger = saved.cells[1].metadata.stepwell as { branches: { name: string; head: { fingerprint: string; step: number } }[] };
+    const ledger = saved.cells[2].metadata.stepwell as { branches: { name: string; head: { fingerprint: string; step: number } }[] };
     expect(ledger.branches.map(b => b.name)).toEqual(['main', fixName, 'slower']);
-    const record = saved.cells[2];
+    const record = saved.cells[3];
     expect(record.cell_type).toBe('markdown');
-    expect(record.id).toBe(original.cells[2].id);
+    expect(record.id).toBe(original.cells[3].id);
     expect((record.metadata['stepwell-record'] as { chosen: string; cell: string }).chosen).toBe('slower');
-    expect((record.metadata['stepwell-record'] as { chosen: string; cell: string }).cell).toBe(original.cells[1].id);
+    expect((record.metadata['stepwell-record'] as { chosen: string; cell: string }).cell).toBe(original.cells[2].id);
     const png = record.attachments?.['stepwell-comparison.png']?.['image/png'] ?? '';
     expect(png.startsWith('iVBORw0KGgo')).toBe(true);
     expect(png.length).toBeGreaterThan(10_000);
@@ -174,8 +175,8 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     expect(source).toContain('](attachment:stepwell-comparison.png)');
     for (const b of ledger.branches) expect(source).toContain(`| ${b.name} | ${b.head.step} | \`${b.head.fingerprint}\` |`);
     // Nothing else changed: the other cells, the spec text and the notebook's metadata are as shipped.
-    for (const i of [0, 3]) expect(normal(saved.cells[i])).toEqual(normal(original.cells[i]));
-    expect(text(saved.cells[1].source)).toBe(text(original.cells[1].source));
+    for (const i of [0, 1, 4]) expect(normal(saved.cells[i])).toEqual(normal(original.cells[i]));
+    expect(text(saved.cells[2].source)).toBe(text(original.cells[2].source));
     expect(saved.metadata).toEqual(original.metadata);
     expect(saved.nbformat).toBe(original.nbformat);
 

@@ -213,8 +213,9 @@ describe('stepwell cell in the browser', () => {
     const page = browser.page;
     await openNotebook(page, app.url.replace('greenhouse-humidity-sensor', 'parcel-sorter-plateau'));
     const cells = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Notebook .jp-Cell');
-    // The plateau branch opens at step 100 from its ledger; Verify replays both branches bit for bit.
-    const sorter = cells.nth(1);
+    // The plateau branch (after the intro and the Python cell that loads the magic) opens at step
+    // 100 from its ledger; Verify replays both branches bit for bit.
+    const sorter = cells.nth(2);
     await sorter.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
     await waitForStep(sorter, 100);
     await sorter.locator('.sw-Button-verify').click();
@@ -222,7 +223,7 @@ describe('stepwell cell in the browser', () => {
     await verdict.waitFor({ timeout: 60_000 });
     expect(await verdict.innerText()).toContain('Branch main: replayed 100 steps from the seed: bit-identical');
     // The decision record the product wrote sits right below, with its figure.
-    const record = cells.nth(2);
+    const record = cells.nth(3);
     expect(await record.innerText()).toContain('Decision record');
     expect(await page.locator('.jp-Notebook').count()).toBeGreaterThan(0);
 
