@@ -66,7 +66,7 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     await openNotebook(page, app.url);
     const cell = page.locator('.sw-CellWidget').first();
     await cell.waitFor();
-    await waitForStatus(cell, /^step 20 · /);
+    await waitForStatus(cell, /^step 14 · /);
     const items = cell.locator('.sw-Branch');
     expect(await items.count()).toBe(2);
     expect(await items.nth(0).getAttribute('aria-selected')).toBe('true');
@@ -92,7 +92,7 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     await cell.locator('.sw-Branch').nth(1).focus();
     await page.keyboard.press('ArrowLeft');
     await page.keyboard.press('Enter');
-    await waitForStatus(cell, /^step 20 · .* · branch main ·/);
+    await waitForStatus(cell, /^step 14 · .* · branch main ·/);
 
     // The branch form: a bad value is shown at its line before anything is made.
     await cell.locator('.sw-Button-branch').click();

@@ -63,7 +63,7 @@ describe('stepwell cell in the browser', () => {
     await demoCell.locator('.sw-Tab[data-tab="curvature"]').click();
     await demoCell.locator('.sw-Button-curvature').click();
     // (The sharpness trace restored from the notebook has its own verdict line; wait for the measurement's.)
-    await demoCell.locator('.sw-CurvatureHead', { hasText: 'At step 20: λmax' }).waitFor({ timeout: 60_000 });
+    await demoCell.locator('.sw-CurvatureHead', { hasText: 'At step 14: λmax' }).waitFor({ timeout: 60_000 });
     await demoCell.locator('.sw-Stability.sw-mod-unstable', { hasText: 'UNSTABLE on the local quadratic model' }).waitFor({ timeout: 30_000 });
     await demoCell.locator('.sw-Progress').waitFor({ state: 'hidden', timeout: 30_000 });
     expect(await demoCell.locator('.sw-CurvaturePlot .scatterlayer .trace').count()).toBeGreaterThan(0);
@@ -74,14 +74,14 @@ describe('stepwell cell in the browser', () => {
     await demoCell.locator('.sw-Form input').fill('0');
     await demoCell.locator('.sw-Form button', { hasText: 'Go' }).click();
     await waitForStep(demoCell, 0);
-    expect(await status(demoCell)).toMatch(/^step 0 \(of 20\) · /);
+    expect(await status(demoCell)).toMatch(/^step 0 \(of 14\) · /);
     // The curvature measured at step 20 stays, and says it belongs to another step.
-    await demoCell.locator('.sw-Stale', { hasText: 'Measured at step 20; the branch is now at step 0.' }).waitFor({ timeout: 10_000 });
+    await demoCell.locator('.sw-Stale', { hasText: 'Measured at step 14; the branch is now at step 0.' }).waitFor({ timeout: 10_000 });
     await demoCell.locator('.sw-StepN').fill('20');
     // The tracking button follows the box's N.
     await demoCell.locator('.sw-Button-track', { hasText: 'Step ×20 tracking λmax' }).waitFor({ timeout: 5_000 });
     await demoCell.locator('.sw-Button-track').click();
-    // Tracking re-steps through the 20 kept steps, back to the tip.
+    // Tracking re-steps through the 14 kept steps, then on to step 20.
     await waitForStep(demoCell, 20);
     await demoCell.locator('.sw-Progress').waitFor({ state: 'hidden', timeout: 60_000 });
     const crossing = demoCell.locator('.sw-Stability', { hasText: 'crossed the stability limit at step 0' });
