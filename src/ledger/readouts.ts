@@ -68,10 +68,23 @@ export function decodeLoose(v: unknown, field: string): unknown {
   throw new LedgerError(field, `is ${typeof v}, which a readout cannot hold`);
 }
 
-/** SHA-256 hex over the three encoded readouts in a fixed order; reveals hand edits. */
+/**
+ * JSON text with every object's keys in sorted order: the same for the same values however a
+ * tool reorders keys on saving (nbformat writes notebooks with sorted keys).
+ */
+export function canonicalJson(v: unknown): string {
+  if (Array.isArray(v)) return `[${v.map(canonicalJson).join(',')}]`;
+  if (isObj(v)) {
+    const keys = Object.keys(v).filter((k) => v[k] !== undefined).sort();
+    return `{${keys.map((k) => `${JSON.stringify(k)}:${canonicalJson(v[k])}`).join(',')}}`;
+  }
+  return JSON.stringify(v) ?? 'null';
+}
+
+/** SHA-256 hex over the three encoded readouts in a fixed order, keys sorted; reveals hand edits. */
 export function readoutsDigest(r: Omit<LedgerReadouts, 'digest'> | Record<string, unknown>): string {
   const o = r as Record<string, unknown>;
-  return sha256Hex(`stepwell-readouts-v1;${JSON.stringify([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}`);
+  return sha256Hex(`stepwell-readouts-v1;${canonicalJson([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}`);
 }
 
 /**

@@ -37,6 +37,13 @@ describe('encodeReadouts / decodeReadouts', () => {
     expect(() => encodeReadouts({ audit: big })).toThrow(`readouts.audit: takes ${MAX_READOUT_BYTES + 20} bytes, more than the ${MAX_READOUT_BYTES} a ledger keeps per readout`);
   });
 
+  it('keeps its digest when a tool saves the notebook with sorted keys (nbformat does)', () => {
+    const r = encodeReadouts({ curvature: { step: 4, top: [3, 1], summary: { zeta: 1, alpha: { b: 2, a: 1 } } }, sharpness: [{ step: 1, sharpness: 2, limit: 3 }] });
+    const sorted = JSON.parse(JSON.stringify(r, (_k, v) => (v && typeof v === 'object' && !Array.isArray(v) ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => (a < b ? -1 : 1))) : v)));
+    expect(JSON.stringify(sorted)).not.toBe(JSON.stringify(r));
+    expect(() => decodeReadouts(sorted, 'x')).not.toThrow();
+  });
+
   it('decodes what it encoded and notices an edit', () => {
     const r = encodeReadouts({ curvature: { step: 4, top: [NaN] }, audit: { step: 2 } });
     const back = decodeReadouts(JSON.parse(JSON.stringify(r)), 'x');
