@@ -149,6 +149,8 @@ describe('branches and the decision record in the browser (journey 1)', () => {
     await cell.locator('.sw-Button-confirm').click();
     await cell.locator('.sw-Notice', { hasText: 'Decision record written below the cell (chosen: slower)' }).waitFor({ timeout: 30_000 });
     const recordCell = page.locator('.jp-MarkdownCell', { hasText: 'Which step size keeps the calibration stable?' });
+    // JupyterLab re-renders an edited markdown cell after a short quiet time: wait for the new text.
+    await recordCell.locator('.jp-MarkdownOutput', { hasText: 'slower: sharpness not tracked.' }).waitFor({ timeout: 20_000 });
     await recordCell.locator('img').waitFor({ timeout: 20_000 });
     await page.waitForFunction(() => [...document.querySelectorAll('.jp-MarkdownCell img')].some(i => (i as HTMLImageElement).naturalWidth > 0));
     await recordCell.scrollIntoViewIfNeeded();
