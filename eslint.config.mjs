@@ -3,8 +3,21 @@
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
-/** Packages the pure numeric core may import (hashing, erf, a dense matrix library). */
-const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix'];
+/**
+ * Packages the pure numeric core may import: hashing, a dense matrix library, and stdlib-js's
+ * plain-JavaScript fdlibm ports behind core/elementary (checked to call no engine Math function).
+ */
+const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', ...['cos', 'erf', 'exp', 'expm1', 'ln', 'log1p', 'pow', 'sin', 'tanh'].map((f) => `@stdlib/math-base-special-${f}`)];
+
+/**
+ * Math functions whose last bits ECMAScript leaves to the engine ("implementation-approximated"):
+ * V8, SpiderMonkey and QuickJS differ, so core uses its own (core/elementary) and a notebook
+ * stepped in one engine replays bit for bit in another. abs, min, max, floor, ceil, round,
+ * trunc, sign, sqrt, fround, imul and clz32 are exactly specified and stay allowed.
+ */
+const ENGINE_MATH = ['exp', 'expm1', 'log', 'log1p', 'log2', 'log10', 'pow', 'sin', 'cos', 'tan', 'asin', 'acos', 'atan', 'atan2',
+  'sinh', 'cosh', 'tanh', 'asinh', 'acosh', 'atanh', 'cbrt', 'hypot'];
+const RANDOM_RULE = { object: 'Math', property: 'random', message: 'Draw from the session’s seeded Rng.' };
 
 const escape = (s) => s.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&');
 
@@ -28,6 +41,12 @@ const coreBlocks = [0, 1, 2, 3, 4].map((depth) => ({
         { regex: `^(?!\\.|(${CORE_PACKAGES.map(escape).join('|')})(/|$))`, message: `core/ imports only ${CORE_PACKAGES.join(', ')} besides itself.` }
       ]
     }],
+    'no-restricted-properties': ['error', RANDOM_RULE, ...ENGINE_MATH.map((property) => ({
+      object: 'Math', property, message: `Math.${property} rounds differently per JavaScript engine: use ${property} from src/core/elementary (add it there if missing).`
+    }))],
+    'no-restricted-syntax': ['error',
+      { selector: "BinaryExpression[operator='**']", message: '`**` is Math.pow, which engines round differently: use powInt (integer exponents) or pow from src/core/elementary.' },
+      { selector: "AssignmentExpression[operator='**=']", message: '`**=` is Math.pow, which engines round differently: use powInt or pow from src/core/elementary.' }],
     'no-restricted-globals': ['error', ...['window', 'document', 'self', 'navigator', 'localStorage', 'fetch', 'XMLHttpRequest', 'postMessage'].map((name) => ({
       name, message: 'core/ runs in Node, a Worker and the tests alike: no browser globals.'
     }))]
@@ -86,7 +105,7 @@ export default tseslint.config(
       '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_', destructuredArrayIgnorePattern: '^_' }],
       '@typescript-eslint/consistent-type-imports': ['error', { fixStyle: 'inline-type-imports' }],
       '@typescript-eslint/no-namespace': 'off',
-      'no-restricted-properties': ['error', { object: 'Math', property: 'random', message: 'Draw from the session’s seeded Rng.' }],
+      'no-restricted-properties': ['error', RANDOM_RULE],
       eqeqeq: ['error', 'always']
     }
   },

@@ -11,11 +11,10 @@
  *                 fraction of lr, held after `steps` updates)
  *   warm-up:      warm = min(1, (t + 1) / warmup), so update `warmup − 1` is the first at full lr
  *                 and no update is wasted at lr 0 (common practice, Goyal et al. 2017).
- * Powers use {@link powInt} (same bits in every engine); the cosine schedule uses Math.cos,
- * which engines may round differently in the last bit (replays across engines then match only
- * within a tolerance).
+ * Powers use {@link powInt} and the cosine core's own {@link cos}: the same bits in every engine.
  */
 import type { Recipe, ScheduleSetup } from '../setup';
+import { cos } from '../elementary';
 import { powInt } from './powers';
 
 /** Multiplier of the schedule alone at update t (0-based). */
@@ -31,7 +30,7 @@ export function scheduleFactor(schedule: ScheduleSetup, t: number): number {
       return 1 / (1 + schedule.decay * t);
     case 'cosine': {
       const frac = Math.min(t, schedule.steps) / schedule.steps;
-      return schedule.floor + (1 - schedule.floor) * 0.5 * (1 + Math.cos(Math.PI * frac));
+      return schedule.floor + (1 - schedule.floor) * 0.5 * (1 + cos(Math.PI * frac));
     }
     default: {
       const never: never = schedule;

@@ -1,0 +1,49 @@
+/**
+ * The elementary functions whose algorithms come from fdlibm (Sun Microsystems' freely
+ * distributable libm, 1993, as carried on by FreeBSD's msun), through stdlib-js's plain
+ * JavaScript ports (`@stdlib/math-base-special-*`).
+ *
+ * Why not `Math.exp`, `Math.log`, …: ECMAScript leaves their results "implementation-
+ * approximated", and V8, SpiderMonkey and JavaScriptCore differ in the last bits (Node 20 and
+ * current Chromium already do), so a trajectory stepped in one engine would not replay in
+ * another. These ports use only IEEE-754 +, −, ×, ÷, integer operations on the words of a
+ * double (typed-array views) and the exactly specified `Math.floor`, `ceil`, `abs`, `round`
+ * and `sqrt`, so every conforming engine returns the same bits. That claim is checked three
+ * ways: by reading the ports (every `Math.` property they reach is one of those), by the test
+ * that scans the bundled replay script for engine-dependent calls, and by replaying the same
+ * experiments in four engines (`test/engines/`).
+ *
+ * Measured accuracy against decimal.js (`test/reference/elementary/`): see DEVELOPERS.md.
+ */
+import stdlibCos from '@stdlib/math-base-special-cos';
+import stdlibErf from '@stdlib/math-base-special-erf';
+import stdlibExp from '@stdlib/math-base-special-exp';
+import stdlibExpm1 from '@stdlib/math-base-special-expm1';
+import stdlibLn from '@stdlib/math-base-special-ln';
+import stdlibLog1p from '@stdlib/math-base-special-log1p';
+import stdlibPow from '@stdlib/math-base-special-pow';
+import stdlibSin from '@stdlib/math-base-special-sin';
+
+/** eˣ: fdlibm `e_exp.c` (reduction x = k·ln2 + r with ln2 in two parts, a Remez polynomial for r). */
+export const exp: (x: number) => number = stdlibExp;
+
+/** eˣ − 1 without cancellation near 0: fdlibm `s_expm1.c`. */
+export const expm1: (x: number) => number = stdlibExpm1;
+
+/** Natural logarithm: fdlibm `e_log.c` (x = 2ᵏ·(1 + f), log(1 + f) from s = f/(2 + f)). */
+export const log: (x: number) => number = stdlibLn;
+
+/** log(1 + x) without cancellation near 0: fdlibm `s_log1p.c`. */
+export const log1p: (x: number) => number = stdlibLog1p;
+
+/** Sine: fdlibm `s_sin.c` (Payne–Hanek / Cody–Waite reduction by π/2, kernels on [−π/4, π/4]). */
+export const sin: (x: number) => number = stdlibSin;
+
+/** Cosine: fdlibm `s_cos.c` (same reduction and kernels as {@link sin}). */
+export const cos: (x: number) => number = stdlibCos;
+
+/** xʸ: fdlibm `e_pow.c` (log₂x in extra precision, then 2^(y·log₂x)); special values as ECMAScript's `**`. */
+export const pow: (x: number, y: number) => number = stdlibPow;
+
+/** Error function (2/√π)∫₀ˣ e^(−t²) dt: fdlibm `s_erf.c` (rational fits on four intervals). */
+export const erf: (x: number) => number = stdlibErf;
