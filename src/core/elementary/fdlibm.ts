@@ -27,8 +27,14 @@ import stdlibSin from '@stdlib/math-base-special-sin';
 /** eˣ: fdlibm `e_exp.c` (reduction x = k·ln2 + r with ln2 in two parts, a Remez polynomial for r). */
 export const exp: (x: number) => number = stdlibExp;
 
-/** eˣ − 1 without cancellation near 0: fdlibm `s_expm1.c`. */
-export const expm1: (x: number) => number = stdlibExpm1;
+/**
+ * eˣ − 1 without cancellation near 0: fdlibm `s_expm1.c`. Above x = 709 it returns {@link exp}(x),
+ * which is eˣ − 1 correctly rounded there (an ulp of e⁷⁰⁹ is about 10²⁹⁰): the port overflows to
+ * ∞ at x = 709.782712893384 although eˣ − 1 is still finite.
+ */
+export function expm1(x: number): number {
+  return x > 709 ? stdlibExp(x) : stdlibExpm1(x);
+}
 
 /** Natural logarithm: fdlibm `e_log.c` (x = 2ᵏ·(1 + f), log(1 + f) from s = f/(2 + f)). */
 export const log: (x: number) => number = stdlibLn;
@@ -42,8 +48,16 @@ export const sin: (x: number) => number = stdlibSin;
 /** Cosine: fdlibm `s_cos.c` (same reduction and kernels as {@link sin}). */
 export const cos: (x: number) => number = stdlibCos;
 
-/** xʸ: fdlibm `e_pow.c` (log₂x in extra precision, then 2^(y·log₂x)); special values as ECMAScript's `**`. */
-export const pow: (x: number, y: number) => number = stdlibPow;
+/**
+ * xʸ: fdlibm `e_pow.c` (log₂x in extra precision, then 2^(y·log₂x)), with ECMAScript's special
+ * values (ECMA-262 §6.1.6.1.3) where they differ from C99's, which the port follows:
+ * x⁰ = 1 even for NaN x, and (±1)^(±∞) = NaN.
+ */
+export function pow(x: number, y: number): number {
+  if (y === 0) return 1;
+  if ((x === 1 || x === -1) && (y === Infinity || y === -Infinity)) return NaN;
+  return stdlibPow(x, y);
+}
 
 /** Error function (2/√π)∫₀ˣ e^(−t²) dt: fdlibm `s_erf.c` (rational fits on four intervals). */
 export const erf: (x: number) => number = stdlibErf;
