@@ -10,15 +10,16 @@
 const SPLIT = 134217729;
 
 /**
- * a / (sh + sl) with the quotient's residual folded back in (one Newton correction):
- * q = a/sh, r = a − q·sh computed exactly (Dekker's product), then q + (r − q·sl)/sh.
+ * (a + al) / (sh + sl) with the quotient's residual folded back in (one Newton correction):
+ * q = a/sh, r = a − q·sh computed exactly (Dekker's product), then q + (r + al − q·sl)/sh.
  * Accurate to about one rounding when |sl| ≤ ulp(sh) and no intermediate over- or underflows;
  * callers keep their arguments in ranges where that holds.
- * @param a - the numerator
+ * @param a - the numerator's high part
+ * @param al - the numerator's low part (0 when the numerator is one double)
  * @param sh - the high part of the denominator
  * @param sl - the low part of the denominator (the rounding error of forming it)
  */
-export function divideByPair(a: number, sh: number, sl: number): number {
+export function divideByPair(a: number, al: number, sh: number, sl: number): number {
   const q = a / sh;
   // Dekker's exact product q·sh = p + pe.
   const p = q * sh;
@@ -30,7 +31,7 @@ export function divideByPair(a: number, sh: number, sl: number): number {
   const sh2 = sh - sh1;
   const pe = ((qh * sh1 - p) + qh * sh2 + ql * sh1) + ql * sh2;
   // a − p is exact: p lies within a factor 2 of a (Sterbenz).
-  const r = (a - p) - pe - q * sl;
+  const r = (a - p) - pe + al - q * sl;
   return q + r / sh;
 }
 

@@ -5,5 +5,6 @@
  * (trajectories, initialization, fingerprints) calls these instead of `Math.exp`, `Math.log`,
  * …; `eslint.config.mjs` forbids the engine's versions in `src/core/`.
  */
-export { cos, erf, exp, expm1, log, log1p, pow, sin } from './fdlibm';
+export { exp, expm1 } from './exp';
+export { cos, erf, log, log1p, pow, sin } from './fdlibm';
 export { sigmoid, softplus, tanh } from './sigmoidal';

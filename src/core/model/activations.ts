@@ -5,8 +5,11 @@
  * Each entry evaluates a whole pre-activation slice in one loop, writing f, f′ and
  * (when asked) f″, so a layer costs one pass and no per-element dispatch.
  */
-import { erf, exp, expm1, sigmoid as sigmoidFn, softplus as softplusFn, tanh as tanhFn } from '../elementary';
+import * as elementary from '../elementary';
 import type { ActivationName } from '../setup';
+
+// Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
+const { erf, exp, expm1, sigmoid: sigmoidFn, softplus: softplusFn, tanh: tanhFn } = elementary;
 
 /** Vectorized activation: writes f(a), f′(a) and optionally f″(a) for a[0..n). */
 export interface Activation {

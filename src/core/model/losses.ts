@@ -12,7 +12,10 @@
  * indices for cross-entropy.
  */
 import type { LossName } from '../setup';
-import { exp, log, log1p, sigmoid } from '../elementary';
+import * as elementary from '../elementary';
+
+// Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
+const { exp, log, log1p, sigmoid } = elementary;
 
 /** A loss over a batch of outputs. All arrays are row-major n × K. */
 export interface Loss {
