@@ -7,7 +7,7 @@ import tseslint from 'typescript-eslint';
  * Packages the pure numeric core may import: hashing, a dense matrix library, and stdlib-js's
  * plain-JavaScript fdlibm ports behind core/elementary (checked to call no engine Math function).
  */
-const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', ...['cos', 'erf', 'ln', 'log1p', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
+const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
 
 /**
  * Math functions whose last bits ECMAScript leaves to the engine ("implementation-approximated"):

@@ -8,7 +8,7 @@
  *
  * Accuracy (measured against decimal.js in `test/reference/elementary/`): see DEVELOPERS.md.
  */
-import * as table from './exp-table';
+import * as table from './tables';
 
 // Module-local copies: an imported binding may be a getter in CommonJS builds (tsx, jest),
 // which the hot loops below should not pay for on every call.

@@ -11,24 +11,16 @@
  * and `sqrt`, so every conforming engine returns the same bits. That claim is checked three
  * ways: by reading the ports (every `Math.` property they reach is one of those), by the test
  * that scans the bundled replay script for engine-dependent calls, and by replaying the same
- * experiments in four engines (`test/reference/engines/`). (exp and expm1, on the hot path,
- * are our own table-driven versions in `exp.ts`: the ports rebuild doubles from their words and
- * were five to eight times slower than the engine's.)
+ * experiments in four engines (`test/reference/engines/`). (exp, expm1, log and log1p, on the
+ * hot path, are our own in `exp.ts` and `log.ts`: the ports reach a double's words through
+ * several small modules and were two to eight times slower than the engine's functions.)
  *
  * Measured accuracy against decimal.js (`test/reference/elementary/`): see DEVELOPERS.md.
  */
 import stdlibCos from '@stdlib/math-base-special-cos';
 import stdlibErf from '@stdlib/math-base-special-erf';
-import stdlibLn from '@stdlib/math-base-special-ln';
-import stdlibLog1p from '@stdlib/math-base-special-log1p';
 import stdlibPow from '@stdlib/math-base-special-pow';
 import stdlibSin from '@stdlib/math-base-special-sin';
-
-/** Natural logarithm: fdlibm `e_log.c` (x = 2ᵏ·(1 + f), log(1 + f) from s = f/(2 + f)). */
-export const log: (x: number) => number = stdlibLn;
-
-/** log(1 + x) without cancellation near 0: fdlibm `s_log1p.c`. */
-export const log1p: (x: number) => number = stdlibLog1p;
 
 /** Sine: fdlibm `s_sin.c` (Payne–Hanek / Cody–Waite reduction by π/2, kernels on [−π/4, π/4]). */
 export const sin: (x: number) => number = stdlibSin;

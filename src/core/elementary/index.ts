@@ -6,5 +6,6 @@
  * …; `eslint.config.mjs` forbids the engine's versions in `src/core/`.
  */
 export { exp, expm1 } from './exp';
-export { cos, erf, log, log1p, pow, sin } from './fdlibm';
+export { log, log1p } from './log';
+export { cos, erf, pow, sin } from './fdlibm';
 export { sigmoid, softplus, tanh } from './sigmoidal';

@@ -1,17 +1,17 @@
 /**
  * The S-shaped functions of the network core — tanh, the logistic sigmoid and softplus —
- * built on the engine-independent {@link exp} and {@link expm1} of `exp.ts` and {@link log1p} of `fdlibm.ts`,
+ * built on the engine-independent {@link exp} and {@link expm1} of `exp.ts` and {@link log1p} of `log.ts`,
  * with the final quotient rounded once (`compensated.ts`), so the result carries the error of
  * the inner exponential and one rounding, not three.
  */
 import * as compensated from './compensated';
 import * as exponential from './exp';
-import * as ported from './fdlibm';
+import * as logarithm from './log';
 
 // Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
 const { divideByPair, sumError } = compensated;
 const { expSplit, expm1Split, EXP_TAIL } = exponential;
-const { log1p } = ported;
+const { log1p } = logarithm;
 
 /** Below this |x|, tanh x rounds to x: x²/3 < 2⁻⁵⁵ (Taylor series x − x³/3 + …). */
 const TANH_LINEAR = 1 / 134217728; // 2⁻²⁷

@@ -1,8 +1,13 @@
 /**
- * Constants of the table-driven exp and expm1 (`exp.ts`), written by
- * `npx tsx test/reference/elementary/make_exp_table.ts` from decimal.js at 60 digits; checked
- * against decimal.js again by `test/reference/elementary/exp-table.test.ts`. Do not edit by hand.
+ * Constants of the table-driven exp and expm1 (`exp.ts`) and of log and log1p (`log.ts`),
+ * written by `npx tsx test/reference/elementary/make_tables.ts` from decimal.js at 80 digits;
+ * checked against decimal.js again by `test/reference/elementary/tables.test.ts`. Do not edit by hand.
  */
+
+/** ln 2 in two parts: LN2_HI has 42 significant bits, so k·LN2_HI is exact for |k| < 2¹¹. */
+export const LN2_HI = 0.6931471805598903;
+/** ln 2 − LN2_HI, rounded to double. */
+export const LN2_LO = 5.497923018708371e-14;
 
 /** Table size: x = (32m + j)·ln2/32 + r. */
 export const EXP_TABLE_SIZE = 32;

@@ -1,9 +1,10 @@
 /**
- * Writes src/core/elementary/exp-table.ts: the constants of core's table-driven exp and expm1,
+ * Writes src/core/elementary/tables.ts: the constants of core's table-driven exp and expm1 and of
+ * its log and log1p,
  * computed with decimal.js 10.6 at 80 significant digits and rounded to double by the exact
  * decimal → binary conversion of the JavaScript parser (ECMA-262 §7.1.4.1.1, correctly rounded).
  *
- * Run: `npx tsx test/reference/elementary/make_exp_table.ts`
+ * Run: `npx tsx test/reference/elementary/make_tables.ts`
  */
 import * as fs from 'fs';
 import * as path from 'path';
@@ -24,6 +25,11 @@ const stepD = dbl(step);
 const scale = 2 ** (Math.floor(Math.log2(stepD)) - 31);
 const L1 = Math.round(stepD / scale) * scale; // 32 significant bits
 const L2 = dbl(step.minus(ex(L1)));
+// ln 2 with its last 11 significand bits cleared, so k·LN2_HI is exact for |k| < 2¹¹.
+const ln2D = dbl(ln2);
+const ln2Scale = 2 ** (Math.floor(Math.log2(ln2D)) - 41);
+const LN2_HI = Math.round(ln2D / ln2Scale) * ln2Scale; // 42 significant bits
+const LN2_LO = dbl(ln2.minus(ex(LN2_HI)));
 const hi: number[] = [];
 const lo: number[] = [];
 for (let j = 0; j < N; j++) {
@@ -34,10 +40,15 @@ for (let j = 0; j < N; j++) {
 }
 const fmt = (xs: number[]): string => xs.map((x) => `  ${x === 0 ? '0' : x.toString()},`).join('\n');
 const text = `/**
- * Constants of the table-driven exp and expm1 (\`exp.ts\`), written by
- * \`npx tsx test/reference/elementary/make_exp_table.ts\` from decimal.js at 60 digits; checked
- * against decimal.js again by \`test/reference/elementary/exp-table.test.ts\`. Do not edit by hand.
+ * Constants of the table-driven exp and expm1 (\`exp.ts\`) and of log and log1p (\`log.ts\`),
+ * written by \`npx tsx test/reference/elementary/make_tables.ts\` from decimal.js at 80 digits;
+ * checked against decimal.js again by \`test/reference/elementary/tables.test.ts\`. Do not edit by hand.
  */
+
+/** ln 2 in two parts: LN2_HI has 42 significant bits, so k·LN2_HI is exact for |k| < 2¹¹. */
+export const LN2_HI = ${LN2_HI};
+/** ln 2 − LN2_HI, rounded to double. */
+export const LN2_LO = ${LN2_LO};
 
 /** Table size: x = (32m + j)·ln2/32 + r. */
 export const EXP_TABLE_SIZE = ${N};
@@ -56,5 +67,5 @@ export const POW2_LO = Float64Array.from([
 ${fmt(lo)}
 ]);
 `;
-fs.writeFileSync(path.resolve(__dirname, '..', '..', '..', 'src', 'core', 'elementary', 'exp-table.ts'), text);
-console.log('wrote src/core/elementary/exp-table.ts');
+fs.writeFileSync(path.resolve(__dirname, '..', '..', '..', 'src', 'core', 'elementary', 'tables.ts'), text);
+console.log('wrote src/core/elementary/tables.ts');
