@@ -11,7 +11,8 @@ const SPLIT = 134217729;
 
 /**
  * (a + al) / (sh + sl) with the quotient's residual folded back in (one Newton correction):
- * q = a/sh, r = a − q·sh computed exactly (Dekker's product), then q + (r + al − q·sl)/sh.
+ * q ≈ a/sh, r = a − q·sh computed exactly (Dekker's product), then q + (r + al − q·sl)/sh, both
+ * divisions done as products with one reciprocal 1/sh.
  * Accurate to about one rounding when |sl| ≤ ulp(sh) and no intermediate over- or underflows;
  * callers keep their arguments in ranges where that holds.
  * @param a - the numerator's high part
@@ -20,7 +21,9 @@ const SPLIT = 134217729;
  * @param sl - the low part of the denominator (the rounding error of forming it)
  */
 export function divideByPair(a: number, al: number, sh: number, sl: number): number {
-  const q = a / sh;
+  // One division: q need not be the rounded quotient, the correction below repairs it.
+  const inv = 1 / sh;
+  const q = a * inv;
   // Dekker's exact product q·sh = p + pe.
   const p = q * sh;
   let t = SPLIT * q;
@@ -32,7 +35,7 @@ export function divideByPair(a: number, al: number, sh: number, sl: number): num
   const pe = ((qh * sh1 - p) + qh * sh2 + ql * sh1) + ql * sh2;
   // a − p is exact: p lies within a factor 2 of a (Sterbenz).
   const r = (a - p) - pe + al - q * sl;
-  return q + r / sh;
+  return q + r * inv;
 }
 
 /**
