@@ -53,6 +53,16 @@ const coreBlocks = [0, 1, 2, 3, 4].map((depth) => ({
   }
 }));
 
+/**
+ * core/probe/ (readouts and findings, recomputed on request, never replayed) may use the
+ * engine's Math; DEVELOPERS.md says so. Everything else in core is on the stepping path or
+ * already engine-independent.
+ */
+const probeBlock = {
+  files: ['src/core/probe/**/*.ts'],
+  rules: { 'no-restricted-properties': ['error', RANDOM_RULE], 'no-restricted-syntax': 'off' }
+};
+
 /** Layers below plugin/ (and what each may not reach). */
 const layerBlocks = [
   {
@@ -75,7 +85,7 @@ const layerBlocks = [
   files,
   rules: {
     'no-restricted-imports': ['error', {
-      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
+      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-basic-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
     }]
   }
 }));
@@ -96,7 +106,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
@@ -109,7 +119,15 @@ export default tseslint.config(
       eqeqeq: ['error', 'always']
     }
   },
+  {
+    // Node scripts of the packaging: prebuilt extension, wheel, Python environment, real server, static site.
+    files: ['src/package/**/*.mjs'],
+    languageOptions: {
+      globals: Object.fromEntries(['process', 'console', 'fetch', 'setTimeout', 'clearTimeout', 'setInterval', 'clearInterval', 'URL', 'Buffer'].map(n => [n, 'readonly']))
+    }
+  },
   ...coreBlocks,
+  probeBlock,
   ...layerBlocks,
   uiBlock,
   {

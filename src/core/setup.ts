@@ -62,6 +62,16 @@ export interface RosenbrockModel {
 
 export type ModelSetup = NetworkModel | QuadraticModel | RosenbrockModel;
 
+/**
+ * The statistics `data.standardize` used: per input column the training rows' mean and population
+ * spread; columns listed in `constant` had one value throughout (spread 0) and were only centred.
+ */
+export interface Standardization {
+  mean: number[];
+  spread: number[];
+  constant: number[];
+}
+
 /** A data set held in memory: `x` is `rows × inputs` row-major; `y` is `rows × targets`. */
 export interface DataSetup {
   rows: number;
@@ -73,6 +83,11 @@ export interface DataSetup {
   y: Float64Array;
   /** Optional held-out split, same layout. */
   heldOut?: { rows: number; x: Float64Array; y: Float64Array };
+  /**
+   * Present when the spec asked for `data.standardize: true`: `x` (and the held-out `x`) hold
+   * the standardized values, and these are the numbers used (`core/data/standardize.ts`).
+   */
+  standardized?: Standardization;
 }
 
 /** What is optimized. `data` and `loss` are absent for analytic objectives. */
@@ -105,7 +120,7 @@ export type ScheduleSetup =
   | { kind: 'inverse-time'; decay: number }
   | { kind: 'cosine'; steps: number; floor: number };
 
-/** How the parameters are updated. Every field has a documented default in `schema/`. */
+/** How the parameters are updated. Every field has a documented default in `src/experiment/spec.schema.json`. */
 export interface Recipe {
   optimizer: OptimizerName;
   lr: number;

@@ -1,12 +1,13 @@
 /**
  * Turns a spec value that passed the schema and the cross-field checks into the
  * normalized {@link Experiment}: every default applied, data packed row-major into
- * Float64Arrays. Defaults here match the `description`s of `schema/spec.schema.json`.
+ * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
 import type {
   ActivationName, DataSetup, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
 } from '../core/setup';
+import { standardizeData } from '../core/data/standardize';
 
 type Obj = Record<string, unknown>;
 
@@ -57,7 +58,8 @@ function buildData(raw: Obj, inputs: number): DataSetup {
     const hx = h.x as number[][];
     data.heldOut = { rows: hx.length, x: pack(hx, inputs), y: pack(targets(h.y as unknown[]), width) };
   }
-  return data;
+  // Training statistics for both splits; the numbers used are kept in `data.standardized`.
+  return raw.standardize === true ? standardizeData(data) : data;
 }
 
 function buildModel(raw: Obj): ModelSetup {

@@ -1,10 +1,10 @@
 /**
- * Validates a spec value against `schema/spec.schema.json` with ajv and rewords ajv's
+ * Validates a spec value against `spec.schema.json` with ajv and rewords ajv's
  * errors into sentences a practitioner can act on, each with the path it concerns.
  */
 import Ajv from 'ajv';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import specSchema from '../../schema/spec.schema.json';
+import specSchema from './spec.schema.json';
 import { closest, describe, formatPath, placeOf, subject } from './path';
 import type { Path, PathSegment } from './path';
 
