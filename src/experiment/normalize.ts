@@ -4,7 +4,7 @@
  * Float64Arrays. Defaults here match the `description`s of `schema/spec.schema.json`.
  */
 import type {
-  ActivationName, DataSetup, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
+  ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
 } from '../core/setup';
 
@@ -17,10 +17,14 @@ const strOr = <T extends string>(v: unknown, d: T): T => (typeof v === 'string' 
 const vec = (v: unknown): number[] => (v as number[]).slice();
 const mat = (v: unknown): number[][] => (v as number[][]).map((r) => r.slice());
 
-/** Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw. */
+/**
+ * Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw; `maxIter`
+ * is 1 (one L-BFGS iteration per step; torch's default is 20) and `maxEval` ⌊maxIter·5/4⌋ as torch.
+ */
 export const RECIPE_DEFAULTS: Readonly<Omit<Recipe, 'layers' | 'schedule'>> = {
-  optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
-  centered: false, amsgrad: false, weightDecay: 0, batch: 'full', warmup: 0, clipNorm: 0, history: 10,
+  optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, dampening: 0, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
+  centered: false, amsgrad: false, lrDecay: 0, initialAccumulator: 0, weightDecay: 0, decayBiases: true, batch: 'full',
+  warmup: 0, clipNorm: 0, clipValue: 0, history: 10, maxIter: 1, maxEval: 1, toleranceGrad: 1e-7, toleranceChange: 1e-9,
   lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3, innerSteps: 10, curvatureBatch: 'same',
 };
 
@@ -73,10 +77,13 @@ function buildModel(raw: Obj): ModelSetup {
     };
   }
   if (objective === 'rosenbrock') return { kind: 'rosenbrock', start: raw.start !== undefined ? vec(raw.start) : [-1.2, 1] };
-  const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => ({
-    units: l.units as number,
-    activation: strOr<ActivationName>(l.activation, 'linear'),
-  }));
+  const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => {
+    const layer: LayerSetup = { units: l.units as number, activation: strOr<ActivationName>(l.activation, 'linear') };
+    const params: Partial<ActivationParams> = {};
+    for (const k of ['slope', 'alpha', 'beta', 'threshold'] as const) if (typeof l[k] === 'number') params[k] = l[k] as number;
+    if (Object.keys(params).length > 0) layer.params = params;
+    return layer;
+  });
   const model: ModelSetup = {
     kind: 'network',
     inputs: raw.inputs as number,
@@ -93,6 +100,26 @@ function buildSchedule(raw: unknown): ScheduleSetup {
   if (raw === undefined) return { kind: 'constant' };
   const s = obj(raw);
   switch (s.kind as ScheduleSetup['kind']) {
+    case 'multistep':
+      return { kind: 'multistep', milestones: vec(s.milestones), factor: numOr(s.factor, 0.1) };
+    case 'factor':
+      return { kind: 'factor', factor: s.factor as number, steps: s.steps as number };
+    case 'polynomial':
+      return { kind: 'polynomial', steps: s.steps as number, power: numOr(s.power, 1) };
+    case 'restarts':
+      return { kind: 'restarts', period: s.period as number, growth: numOr(s.growth, 1), floor: numOr(s.floor, 0) };
+    case 'onecycle':
+      return {
+        kind: 'onecycle', steps: s.steps as number, peak: numOr(s.peak, 0.3), anneal: strOr<'cos' | 'linear'>(s.anneal, 'cos'),
+        divisor: numOr(s.divisor, 25), finalDivisor: numOr(s.finalDivisor, 1e4), threePhase: boolOr(s.threePhase, false),
+      };
+    case 'plateau':
+      return {
+        kind: 'plateau', factor: numOr(s.factor, 0.1), patience: numOr(s.patience, 10), threshold: numOr(s.threshold, 1e-4),
+        thresholdMode: strOr<'rel' | 'abs'>(s.thresholdMode, 'rel'), cooldown: numOr(s.cooldown, 0), floor: numOr(s.floor, 0),
+      };
+    case 'sequence':
+      return { kind: 'sequence', phases: (s.phases as unknown[]).map((p) => buildSchedule(p) as PhaseSchedule), milestones: vec(s.milestones) };
     case 'constant':
       return { kind: 'constant' };
     case 'step':
@@ -110,6 +137,7 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
   const d = RECIPE_DEFAULTS;
   const optimizer = strOr<OptimizerName>(raw.optimizer, d.optimizer);
   const batch = raw.batch === undefined ? d.batch : (raw.batch as Recipe['batch']);
+  const maxIter = numOr(raw.maxIter, d.maxIter);
   const curvatureBatch = raw.curvatureBatch === undefined ? d.curvatureBatch : (raw.curvatureBatch as Recipe['curvatureBatch']);
   const layers = Array.isArray(raw.layers)
     ? (raw.layers as Obj[]).map((l) => ({ lrScale: l.lrScale as number }))
@@ -119,19 +147,28 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
     lr: numOr(raw.lr, defaultLr(optimizer)),
     momentum: numOr(raw.momentum, d.momentum),
     nesterov: boolOr(raw.nesterov, d.nesterov),
+    dampening: numOr(raw.dampening, d.dampening),
     beta1: numOr(raw.beta1, d.beta1),
     beta2: numOr(raw.beta2, d.beta2),
     eps: numOr(raw.eps, d.eps),
     alpha: numOr(raw.alpha, d.alpha),
     centered: boolOr(raw.centered, d.centered),
     amsgrad: boolOr(raw.amsgrad, d.amsgrad),
+    lrDecay: numOr(raw.lrDecay, d.lrDecay),
+    initialAccumulator: numOr(raw.initialAccumulator, d.initialAccumulator),
     weightDecay: numOr(raw.weightDecay, optimizer === 'adamw' ? 0.01 : d.weightDecay),
+    decayBiases: boolOr(raw.decayBiases, d.decayBiases),
     batch,
     schedule: buildSchedule(raw.schedule),
     warmup: numOr(raw.warmup, d.warmup),
     clipNorm: numOr(raw.clipNorm, d.clipNorm),
+    clipValue: numOr(raw.clipValue, d.clipValue),
     layers,
     history: numOr(raw.history, d.history),
+    maxIter,
+    maxEval: numOr(raw.maxEval, Math.floor((maxIter * 5) / 4)),
+    toleranceGrad: numOr(raw.toleranceGrad, d.toleranceGrad),
+    toleranceChange: numOr(raw.toleranceChange, d.toleranceChange),
     lineSearch: strOr<Recipe['lineSearch']>(raw.lineSearch, d.lineSearch),
     cgVariant: strOr<Recipe['cgVariant']>(raw.cgVariant, d.cgVariant),
     damping: numOr(raw.damping, d.damping),

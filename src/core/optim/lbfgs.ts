@@ -1,13 +1,20 @@
 /**
- * L-BFGS (Nocedal & Wright 2006, alg. 7.4 two-loop recursion and alg. 7.5), one iteration per
- * session step, laid out to match torch.optim.LBFGS(max_iter=1) (PyTorch 1.13) step by step:
+ * L-BFGS (Nocedal & Wright 2006, alg. 7.4 two-loop recursion and alg. 7.5), `maxIter`
+ * iterations per session step (default 1), laid out to match torch.optim.LBFGS (PyTorch 1.13) —
+ * one session step is one `LBFGS.step(closure)` with the same max_iter, max_eval,
+ * tolerance_grad and tolerance_change:
  *
  *  - history pairs s = t·d, y = g − g_prev are stored only when yᵀs > 1e-10; the oldest pair
  *    is dropped beyond `history` pairs; initial inverse Hessian H0 = (yᵀs / yᵀy)·I (N&W eq. 7.20);
  *  - the first trial step is min(1, 1/‖g‖₁)·lr on the first iteration and lr afterwards;
  *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most 25 trials), 'brent' (exact
  *    minimization along d, bracket from (0, trial)), or 'none' (fixed step = trial);
- *  - no update when max|g| ≤ 1e-7 (torch's tolerance_grad).
+ *  - no update when max|g| ≤ toleranceGrad (default 1e-7);
+ *  - with maxIter > 1, the iterations of one step stop, as torch's, after maxIter iterations,
+ *    when the evaluations reach maxEval, when max|g| ≤ toleranceGrad, when max|t·d| ≤
+ *    toleranceChange or when the loss changed by less than toleranceChange. The gradient at
+ *    the accepted point is recomputed (same bits as the line search's; not counted, as torch
+ *    takes it from the search).
  * Differences from torch: when d is not a descent direction (gᵀd > −1e-9), or the line search
  * along it finds no acceptable step, torch stays in place and would repeat the same direction
  * forever; here the history is cleared and the iteration retries along −g.
@@ -22,9 +29,6 @@ import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
 import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
-/** torch.optim.LBFGS's tolerance_grad and tolerance_change defaults. */
-const TOLERANCE_GRAD = 1e-7;
-const TOLERANCE_CHANGE = 1e-9;
 /** Curvature pairs with yᵀs at or below this are skipped (torch; keeps H positive definite). */
 const MIN_CURVATURE = 1e-10;
 
@@ -134,7 +138,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
       let dmax = 0;
       for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
       const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
-      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: TOLERANCE_CHANGE / dmax });
+      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: recipe.toleranceChange / dmax });
       return { step: r.step, evaluations: r.evaluations };
     }
     case 'brent': {
@@ -163,7 +167,7 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     g1 += a;
   }
   // converged (torch's tolerance_grad), or a non-finite value/gradient: stay in place
-  if (gmax <= TOLERANCE_GRAD || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
+  if (gmax <= recipe.toleranceGrad || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
   state.t += 1;
   const d = buffer(state, 'dir');
   if (state.t === 1) {
@@ -177,7 +181,7 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
   buffer(state, 'prevGrad').set(g);
   let t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
   let gtd = dot(g, d);
-  if (gtd > -TOLERANCE_CHANGE) {
+  if (gtd > -recipe.toleranceChange) {
     resetLbfgs(state);
     state.t = 1;
     for (let i = 0; i < p; i++) d[i] = -g[i];
@@ -208,6 +212,7 @@ export const lbfgs: OptimizerFamily = {
   decoupledDecay: false,
   init: (parameterCount: number, recipe: Recipe) => initLbfgs('lbfgs', parameterCount, recipe.history),
   update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
+    if (ctx.recipe.maxIter > 1) return severalIterations(grad, state, params, ctx, out);
     const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx);
     const d = buffer(state, 'dir');
     if (r.step === 0) out.fill(0);
@@ -216,3 +221,41 @@ export const lbfgs: OptimizerFamily = {
     return r.step;
   }
 };
+
+function maxAbs(v: Float64Array, scale = 1): number {
+  let m = 0;
+  for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(scale * v[i]));
+  return m;
+}
+
+/**
+ * Up to `maxIter` iterations from `params` on a scratch copy (torch's inner loop and stopping
+ * rules, module comment); writes u = w₀ − w_end and returns step size 1, so Δw = w_end − w₀.
+ */
+function severalIterations(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
+  const recipe = ctx.recipe;
+  const w = ctx.work.vector('lbfgs.w');
+  const g = ctx.work.vector('lbfgs.g');
+  w.set(params);
+  g.set(grad);
+  let f = ctx.loss;
+  let evaluations = 1;
+  for (let n = 1; n <= recipe.maxIter; n++) {
+    const r = lbfgsIteration(g, f, w, state, recipe, ctx.lr, ctx);
+    if (r.step === 0) break;
+    evaluations += r.evaluations;
+    const d = buffer(state, 'dir');
+    for (let i = 0; i < w.length; i++) w[i] += r.step * d[i];
+    if (n === recipe.maxIter) break;
+    const before = f;
+    f = ctx.objective.gradient(w, g, ctx.rows);
+    if (recipe.lineSearch === 'none') evaluations += 1;
+    if (evaluations >= recipe.maxEval) break;
+    if (maxAbs(g) <= recipe.toleranceGrad) break;
+    if (maxAbs(d, r.step) <= recipe.toleranceChange) break;
+    if (Math.abs(f - before) < recipe.toleranceChange) break;
+  }
+  ctx.extraEvaluations += evaluations - 1;
+  for (let i = 0; i < out.length; i++) out[i] = params[i] - w[i];
+  return 1;
+}
