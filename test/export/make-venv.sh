@@ -2,13 +2,13 @@
 # Creates .venv-torch/ at the repository root: PyPI torch 2.13.0 (CPU), numpy and safetensors,
 # pinned. The export round-trip test (test/export/roundtrip.test.ts) runs exported scripts with
 # it, and test/reference/data/make_fixtures.py / test/reference/weights/make_fixtures.py write
-# their fixtures with it. torch is installed from the CPU wheel index so pip never pulls a
+# their fixtures with it. torch is pinned to the CPU build so pip never pulls a
 # CUDA build: the CPU wheel these machines carry in /opt/wheels (torch 2.13.0+cpu) is required.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 VENV=.venv-torch
 TORCH=2.13.0
-NUMPY=2.5.5
+NUMPY=2.4.6
 SAFETENSORS=0.8.0
 export PIP_RETRIES=0 PIP_DISABLE_PIP_VERSION_CHECK=1
 if [ -x "$VENV/bin/python" ] && "$VENV/bin/python" -c "import torch, numpy, safetensors; assert torch.__version__.startswith('$TORCH')" 2>/dev/null; then

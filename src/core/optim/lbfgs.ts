@@ -15,9 +15,11 @@
  *    toleranceChange or when the loss changed by less than toleranceChange. The gradient at
  *    the accepted point is recomputed (same bits as the line search's; not counted, as torch
  *    takes it from the search).
- * Differences from torch: when d is not a descent direction (gᵀd > −1e-9), or the line search
- * along it finds no acceptable step, torch stays in place and would repeat the same direction
- * forever; here the history is cleared and the iteration retries along −g.
+ * When d is not a descent direction (gᵀd > −toleranceChange) the iteration stays in place, as
+ * torch's does (and, like torch, the next step computes the same direction again: the run has
+ * stalled, which the trajectory shows). Difference from torch: when the line search along a
+ * quasi-Newton direction finds no acceptable step, the history is cleared and the iteration
+ * retries along −g.
  *
  * State (all plain data): buffers `s`, `y` (history × P, ring buffer), `rho` (history),
  * `prevGrad`, `dir`; scalars `count`, `start` (ring head), `hDiag`, `stepLength`.
@@ -179,14 +181,11 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     twoLoop(g, state, m, p, ctx.work.vector('lbfgs.alpha', m));
   }
   buffer(state, 'prevGrad').set(g);
-  let t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
-  let gtd = dot(g, d);
+  const t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
+  const gtd = dot(g, d);
   if (gtd > -recipe.toleranceChange) {
-    resetLbfgs(state);
-    state.t = 1;
-    for (let i = 0; i < p; i++) d[i] = -g[i];
-    gtd = dot(g, d);
-    t0 = Math.min(1, 1 / g1) * lr;
+    state.scalars.stepLength = 0;
+    return { step: 0, evaluations: 0 };
   }
   let { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx);
   if (step === 0 && state.t > 1) {
