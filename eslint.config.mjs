@@ -3,8 +3,8 @@
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
-/** Packages the pure numeric core may import (hashing, erf, a dense matrix library). */
-const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix'];
+/** Packages the pure numeric core may import (hashing, erf, a dense matrix library, and the CSV and ZIP parsers the data readers use on bytes). */
+const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix', 'papaparse', 'fflate'];
 
 const escape = (s) => s.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&');
 
