@@ -154,8 +154,8 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
   const last = layers[layers.length - 1];
   const outUnits = isObj(last) && isPosInt(last.units) ? last.units : undefined;
   const loss = typeof spec.loss === 'string' ? spec.loss : 'mse';
-  if (Array.isArray(model.weights)) {
-    checkWeights(model.weights, layers, inputs, report);
+  if (Array.isArray(model.weights) || isObj(model.weights)) {
+    if (Array.isArray(model.weights)) checkWeights(model.weights, layers, inputs, report);
     for (const key of ['init', 'gain'])
       if (model[key] !== undefined)
         report.warnings.push({ path: ['model', key], atKey: true, message: `model.${key} is ignored because model.weights gives the initial parameters` });

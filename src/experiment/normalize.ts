@@ -7,6 +7,7 @@ import type {
   ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
 } from '../core/setup';
+import type { LoadedFiles } from './files';
 
 type Obj = Record<string, unknown>;
 
@@ -91,7 +92,7 @@ function buildModel(raw: Obj): ModelSetup {
     init: strOr<InitScheme>(raw.init, 'lecun-normal'),
     gain: numOr(raw.gain, 1),
   };
-  if (raw.weights !== undefined)
+  if (Array.isArray(raw.weights))
     model.weights = (raw.weights as Obj[]).map((w): LayerWeights => ({ weight: mat(w.weight), bias: vec(w.bias) }));
   return model;
 }
@@ -177,14 +178,18 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
   };
 }
 
-/** Builds the normalized experiment from a validated spec value. */
-export function buildExperiment(value: unknown): Experiment {
+/** Builds the normalized experiment from a validated spec value and the files it names (read by `files.ts`). */
+export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Experiment {
   const spec = obj(value);
   const model = buildModel(obj(spec.model));
+  if (model.kind === 'network' && loaded.weights !== undefined) {
+    model.weights = loaded.weights.layers;
+    model.weightsOrigin = loaded.weights.origin;
+  }
   const loss = strOr<LossName>(spec.loss, 'mse');
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
-  if (model.kind === 'network') setup.data = buildData(obj(spec.data), model.inputs);
+  if (model.kind === 'network') setup.data = loaded.data ?? buildData(obj(spec.data), model.inputs);
   return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
 }
