@@ -7,6 +7,7 @@ import { parseArgs } from 'node:util';
 import { CliError, type Sink } from './io';
 import { inspectCommand } from './inspect';
 import { runCommand } from './run';
+import { exportCommand } from './export';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -16,6 +17,12 @@ const USAGE = `usage:
     COND: loss<VALUE | grad<VALUE | diverged
     --branch forks a branch at STEP with changed recipe keys and runs it to the same step count
     --replay re-runs the trajectory from the seed and reports bit-identical / within tolerance / differs
+  stepwell export SPEC [--to pytorch] [--out train.py] [--set KEY=VALUE ...] [--branch 0:KEY=VALUE[,...]]
+    a self-contained PyTorch script (float64) of the recipe; \`python train.py --steps N --json\` prints
+    the full-batch losses \`stepwell run SPEC --steps N --json\` reports; data paths are relative to
+    the folder of --out (default: the current folder)
+  stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
+  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
 `;
 
 /** Runs the CLI with `argv` (without node and script); resolves to the exit code. */
@@ -37,6 +44,13 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
         out.write(runCommand(specPath(a.positionals), a.values));
+        return 0;
+      }
+      case 'export': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
+        } });
+        out.write(exportCommand(specPath(a.positionals), a.values));
         return 0;
       }
       case undefined:

@@ -14,7 +14,7 @@ here by NumPy / Python's float()).
 
 Run from the repository root with the export venv (it has numpy, torch and safetensors):
 
-    bash test/export/make-venv.sh && .venv-torch/bin/python test/reference/data/make_fixtures.py
+    bash test/reference/export/make-venv.sh && .venv-torch/bin/python test/reference/data/make_fixtures.py
 """
 import datetime
 import io

@@ -1,11 +1,11 @@
 #!/usr/bin/env bash
 # Creates .venv-torch/ at the repository root: PyPI torch 2.13.0 (CPU), numpy and safetensors,
-# pinned. The export round-trip test (test/export/roundtrip.test.ts) runs exported scripts with
+# pinned. The export round-trip test (test/reference/export/roundtrip.test.ts) runs exported scripts with
 # it, and test/reference/data/make_fixtures.py / test/reference/weights/make_fixtures.py write
 # their fixtures with it. torch is pinned to the CPU build so pip never pulls a
 # CUDA build: the CPU wheel these machines carry in /opt/wheels (torch 2.13.0+cpu) is required.
 set -euo pipefail
-cd "$(dirname "$0")/../.."
+cd "$(dirname "$0")/../../.."
 VENV=.venv-torch
 TORCH=2.13.0
 NUMPY=2.4.6
