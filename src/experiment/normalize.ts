@@ -20,12 +20,12 @@ const mat = (v: unknown): number[][] => (v as number[][]).map((r) => r.slice());
 
 /**
  * Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw; `maxIter`
- * is 1 (one L-BFGS iteration per step; torch's default is 20) and `maxEval` ⌊maxIter·5/4⌋ as torch.
+ * is 1 (one L-BFGS iteration per step; torch's default is 20) and `maxEval` {@link defaultMaxEval}.
  */
 export const RECIPE_DEFAULTS: Readonly<Omit<Recipe, 'layers' | 'schedule'>> = {
   optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, dampening: 0, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
   centered: false, amsgrad: false, lrDecay: 0, initialAccumulator: 0, weightDecay: 0, decayBiases: true, batch: 'full',
-  warmup: 0, clipNorm: 0, clipValue: 0, history: 10, maxIter: 1, maxEval: 1, toleranceGrad: 1e-7, toleranceChange: 1e-9,
+  warmup: 0, clipNorm: 0, clipValue: 0, history: 10, maxIter: 1, maxEval: 26, toleranceGrad: 1e-7, toleranceChange: 1e-9,
   lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3, innerSteps: 10, curvatureBatch: 'same',
 };
 
@@ -38,6 +38,15 @@ export const UNIT_STEP_OPTIMIZERS: readonly OptimizerName[] = ['lbfgs', 'cg', 'n
 /** The default `lr` of an optimizer: 1 for line-search and Newton families, else 0.01. */
 export function defaultLr(optimizer: OptimizerName): number {
   return UNIT_STEP_OPTIMIZERS.includes(optimizer) ? 1 : RECIPE_DEFAULTS.lr;
+}
+
+/**
+ * Default `maxEval`: torch's ⌊maxIter·5/4⌋, except 26 for a single iteration, so that its
+ * line search keeps 25 trials (torch ≥ 2.0 gives a search maxEval minus the evaluations made,
+ * which torch's own default leaves at 0 for max_iter 1; torch 1.13 gave 25).
+ */
+export function defaultMaxEval(maxIter: number): number {
+  return maxIter === 1 ? 26 : Math.floor((maxIter * 5) / 4);
 }
 
 /** Packs rows into one row-major Float64Array. */
@@ -167,7 +176,7 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
     layers,
     history: numOr(raw.history, d.history),
     maxIter,
-    maxEval: numOr(raw.maxEval, Math.floor((maxIter * 5) / 4)),
+    maxEval: numOr(raw.maxEval, defaultMaxEval(maxIter)),
     toleranceGrad: numOr(raw.toleranceGrad, d.toleranceGrad),
     toleranceChange: numOr(raw.toleranceChange, d.toleranceChange),
     lineSearch: strOr<Recipe['lineSearch']>(raw.lineSearch, d.lineSearch),

@@ -128,7 +128,7 @@ export function scheduleCode(recipe: Recipe, groupLrs: readonly number[]): Sched
       };
     }
     case 'sequence': {
-      if (warm) return { build: lambdaOf(`${warmExpr} * ${factorExpr(s)}`, 'warm-up × a sequence of schedules, written out (torch cannot chain a warm-up with SequentialLR exactly)'), advance: stepAll };
+      if (warm) return { build: lambdaOf(`${warmExpr} * (${factorExpr(s)})`, 'warm-up × a sequence of schedules, written out (torch cannot chain a warm-up with SequentialLR exactly)'), advance: stepAll };
       const phases = s.phases.map((p) => {
         const cls = p.kind === 'cosine' ? undefined : torchClass(p, recipe.lr, uniform);
         return cls ?? `S.LambdaLR(opt, lambda t: ${factorExpr(p)})`;
@@ -144,7 +144,7 @@ export function scheduleCode(recipe: Recipe, groupLrs: readonly number[]): Sched
       if (cls !== undefined && MULTIPLICATIVE.has(s.kind)) {
         return { build: ['# warm-up × schedule: ChainedScheduler multiplies the two rates', `schedulers = [S.ChainedScheduler([${warm}, ${cls}])]`], advance: stepAll };
       }
-      return { build: lambdaOf(`${warmExpr} * ${factorExpr(s)}`, 'warm-up × schedule written out (the torch classes would not multiply exactly here)'), advance: stepAll };
+      return { build: lambdaOf(`${warmExpr} * (${factorExpr(s)})`, 'warm-up × schedule written out (the torch classes would not multiply exactly here)'), advance: stepAll };
     }
   }
 }

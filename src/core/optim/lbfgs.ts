@@ -7,7 +7,8 @@
  *  - history pairs s = t·d, y = g − g_prev are stored only when yᵀs > 1e-10; the oldest pair
  *    is dropped beyond `history` pairs; initial inverse Hessian H0 = (yᵀs / yᵀy)·I (N&W eq. 7.20);
  *  - the first trial step is min(1, 1/‖g‖₁)·lr on the first iteration and lr afterwards;
- *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most 25 trials), 'brent' (exact
+ *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most maxEval minus the evaluations
+ *    the step already made trials — torch ≥ 2.0's budget; torch 1.13 allowed 25), 'brent' (exact
  *    minimization along d, bracket from (0, trial)), or 'none' (fixed step = trial);
  *  - no update when max|g| ≤ toleranceGrad (default 1e-7);
  *  - with maxIter > 1, the iterations of one step stop, as torch's, after maxIter iterations,
@@ -15,11 +16,11 @@
  *    toleranceChange or when the loss changed by less than toleranceChange. The gradient at
  *    the accepted point is recomputed (same bits as the line search's; not counted, as torch
  *    takes it from the search).
- * When d is not a descent direction (gᵀd > −toleranceChange) the iteration stays in place, as
- * torch's does (and, like torch, the next step computes the same direction again: the run has
- * stalled, which the trajectory shows). Difference from torch: when the line search along a
- * quasi-Newton direction finds no acceptable step, the history is cleared and the iteration
- * retries along −g.
+ * When d is not a descent direction (gᵀd > −toleranceChange), or the line search along it ends
+ * at step 0, the iteration stays in place, as torch's does — and, like torch, the next step
+ * computes the same direction again: the run has stalled for good, which its trajectory shows
+ * (flat from that step on). Clearing the history and retrying along −g would often get it going
+ * again, but would no longer be torch's L-BFGS.
  *
  * State (all plain data): buffers `s`, `y` (history × P, ring buffer), `rho` (history),
  * `prevGrad`, `dir`; scalars `count`, `start` (ring head), `hDiag`, `stepLength`.
@@ -131,7 +132,7 @@ export interface LbfgsStep {
 }
 
 /** The recipe's line search along d from w (value f, slope gtd < 0), first trial t0. */
-function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Array, gtd: number, t0: number, recipe: Recipe, ctx: OptimizerContext): LbfgsStep {
+function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Array, gtd: number, t0: number, recipe: Recipe, ctx: OptimizerContext, trials: number): LbfgsStep {
   const p = g.length;
   switch (recipe.lineSearch) {
     case 'none':
@@ -140,7 +141,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
       let dmax = 0;
       for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
       const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
-      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: recipe.toleranceChange / dmax });
+      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: trials, minWidth: recipe.toleranceChange / dmax });
       return { step: r.step, evaluations: r.evaluations };
     }
     case 'brent': {
@@ -158,7 +159,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
  * One L-BFGS iteration at w with gradient g and value f: updates the memory, writes the
  * direction into `state.buffers.dir` and returns the step length t (0 = no move).
  */
-export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext): LbfgsStep {
+export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext, trials = 25): LbfgsStep {
   const p = g.length;
   const m = recipe.history;
   let gmax = 0;
@@ -187,16 +188,7 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     state.scalars.stepLength = 0;
     return { step: 0, evaluations: 0 };
   }
-  let { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx);
-  if (step === 0 && state.t > 1) {
-    // the quasi-Newton direction gave no acceptable step: clear the history, retry along −g
-    resetLbfgs(state);
-    state.t = 1;
-    for (let i = 0; i < p; i++) d[i] = -g[i];
-    const retry = searchAlong(g, f, w, d, dot(g, d), Math.min(1, 1 / g1) * lr, recipe, ctx);
-    step = retry.step;
-    evaluations += retry.evaluations;
-  }
+  const { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx, trials);
   state.scalars.stepLength = step;
   return { step, evaluations };
 }
@@ -212,7 +204,7 @@ export const lbfgs: OptimizerFamily = {
   init: (parameterCount: number, recipe: Recipe) => initLbfgs('lbfgs', parameterCount, recipe.history),
   update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     if (ctx.recipe.maxIter > 1) return severalIterations(grad, state, params, ctx, out);
-    const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx);
+    const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx, ctx.recipe.maxEval - 1);
     const d = buffer(state, 'dir');
     if (r.step === 0) out.fill(0);
     else for (let i = 0; i < out.length; i++) out[i] = -d[i];
@@ -240,9 +232,9 @@ function severalIterations(grad: Float64Array, state: OptimizerState, params: Fl
   let f = ctx.loss;
   let evaluations = 1;
   for (let n = 1; n <= recipe.maxIter; n++) {
-    const r = lbfgsIteration(g, f, w, state, recipe, ctx.lr, ctx);
-    if (r.step === 0) break;
+    const r = lbfgsIteration(g, f, w, state, recipe, ctx.lr, ctx, recipe.maxEval - evaluations);
     evaluations += r.evaluations;
+    if (r.step === 0) break;
     const d = buffer(state, 'dir');
     for (let i = 0; i < w.length; i++) w[i] += r.step * d[i];
     if (n === recipe.maxIter) break;

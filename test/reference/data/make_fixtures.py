@@ -96,6 +96,10 @@ for name, conv in (("sequential-f64.safetensors", lambda t: t), ("sequential-f32
     expected[name] = {k: {"shape": list(v.shape), "values": conv(v).reshape(-1).tolist()} for k, v in sd.items()}
 np.savez(os.path.join(FIX, "state-dict.npz"), **{k: v.numpy() for k, v in sd.items()})
 expected["state-dict.npz"] = expected["sequential-f64.safetensors"]
+reg = torch.nn.Sequential(torch.nn.Linear(3, 6), torch.nn.Tanh(), torch.nn.Linear(6, 1)).double()
+sd2 = {k: v.contiguous() for k, v in reg.state_dict().items()}
+save_file(sd2, os.path.join(FIX, "regressor-f64.safetensors"))
+expected["regressor-f64.safetensors"] = {k: {"shape": list(v.shape), "values": v.reshape(-1).tolist()} for k, v in sd2.items()}
 
 expected["header"] = {
     "what": "fixtures for src/core/data readers",

@@ -1,4 +1,4 @@
-#!/usr/bin/python3
+#!/usr/bin/env python3
 """Golden trajectories for the recipe options and schedules that mirror PyTorch's: SGD dampening,
 Adagrad lr_decay and initial_accumulator_value, L-BFGS max_iter / max_eval / tolerance_grad /
 tolerance_change, clip_grad_value_ (alone and before clip_grad_norm_), weight decay without
@@ -7,10 +7,13 @@ schedulers MultiStepLR, ConstantLR, PolynomialLR, CosineAnnealingWarmRestarts, O
 ReduceLROnPlateau (stepped with the full-batch loss after each update), SequentialLR, and a
 cosine held at its floor past T_max (SequentialLR of CosineAnnealingLR and ConstantLR).
 
-Reference: PyTorch's torch.optim and torch.optim.lr_scheduler (Debian's /usr/bin/python3,
-torch 1.13). Regenerate from the repository root with
+Reference: PyTorch's torch.optim and torch.optim.lr_scheduler, PyPI torch 2.13.0 (CPU) from the
+export venv — torch >= 2.0 budgets each L-BFGS line search as max_eval minus the evaluations
+already made (1.13 always allowed 25), and the multi-iteration L-BFGS cases follow the current
+rule. Regenerate from the repository root with
 
-    /usr/bin/python3 test/reference/optim/make_options_golden.py
+    bash test/reference/export/make-venv.sh
+    .venv-torch/bin/python test/reference/optim/make_options_golden.py
 
 which rewrites test/reference/optim/options-golden.json. Networks, data and weights come from
 make_golden.py (fixed numpy seeds); the trajectories torch produces are the expected values.
@@ -213,7 +216,7 @@ def main():
             "what": "torch.optim options and lr_scheduler trajectories on small full-batch float64 networks",
             "reference": "PyTorch torch.optim and torch.optim.lr_scheduler, float64",
             "torch": torch.__version__, "numpy": np.__version__, "python": platform.python_version(),
-            "command": "/usr/bin/python3 test/reference/optim/make_options_golden.py",
+            "command": ".venv-torch/bin/python test/reference/optim/make_options_golden.py",
             "date": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d"),
         },
         "cases": cs,
