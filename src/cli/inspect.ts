@@ -1,10 +1,11 @@
 /** `stepwell inspect SPEC`: numbers at the initial point of an experiment. */
 import { buildObjective, initialParameters } from '../core/assemble';
 import { Rng } from '../core/rng';
-import { auditGradient } from '../core/probe/gradcheck';
+import { AuditDivergedError, auditGradient, type AuditResult } from '../core/probe/gradcheck';
+import { norm2 } from '../core/objective';
 import { spectralDensity } from '../core/linalg';
 import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
-import { loadExperiment, positiveInt, readVector } from './io';
+import { loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
@@ -18,8 +19,8 @@ export interface InspectFlags {
 }
 
 /** Runs the command and returns its output text. */
-export function inspectCommand(path: string, flags: InspectFlags): string {
-  const { experiment } = loadExperiment(path, flags.set);
+export function inspectCommand(path: string, flags: InspectFlags): CommandResult {
+  const { experiment, warnings } = loadExperiment(path, flags.set);
   const objective = buildObjective(experiment.setup);
   const w = initialParameters(experiment.setup, Rng.fromSeed(experiment.seed).fork('init'));
   const P = objective.parameterCount;
@@ -57,20 +58,30 @@ export function inspectCommand(path: string, flags: InspectFlags): string {
     const d = spectralDensity(curvatureOperator(objective, w).apply, P, probeRng.fork('density'));
     out.density = { grid: Array.from(d.grid), density: Array.from(d.density), sigma: d.sigma, mean: d.mean, probes: d.probes, method: 'stochastic Lanczos quadrature' };
   }
-  const audit = auditGradient(objective, w, { rng: Rng.fromSeed(experiment.seed).fork('audit') });
-  out.gradcheck = {
-    maxRelError: audit.maxRelError, verdict: audit.verdict, checked: audit.checked, sampled: audit.sampled, h: audit.h,
-    layers: audit.layers.map((l) => ({ layer: l.layer, maxRelError: l.maxRelError, medianRelError: l.medianRelError, worstIndex: l.worstIndex, verdict: l.verdict })),
-  };
-  if (flags.json) return JSON.stringify(out) + '\n';
+  let audit: AuditResult | null = null;
+  try {
+    audit = auditGradient(objective, w, { rng: Rng.fromSeed(experiment.seed).fork('audit') });
+    out.gradcheck = {
+      maxRelError: audit.maxRelError, verdict: audit.verdict, checked: audit.checked, sampled: audit.sampled, h: audit.h,
+      layers: audit.layers.map((l) => ({ layer: l.layer, maxRelError: l.maxRelError, medianRelError: l.medianRelError, worstIndex: l.worstIndex, worstBlock: l.worstBlock, worstAt: l.worstAt, verdict: l.verdict })),
+    };
+  } catch (e) {
+    if (!(e instanceof AuditDivergedError)) throw e;
+    out.gradcheck = { error: e.message };
+  }
+  if (flags.json) return { out: toJson(out) + '\n', warnings, code: 0 };
   const lines = [
-    `parameters ${P}, loss ${loss.toPrecision(10)}, |gradient| ${Math.hypot(...gradient).toExponential(4)}`,
-    `gradient audit: ${audit.verdict} (max relative error ${audit.maxRelError.toExponential(2)} over ${audit.checked}${audit.sampled ? ' sampled' : ''} parameters)`,
-    ...audit.layers.map((l) => `  layer ${l.layer}: max ${l.maxRelError.toExponential(2)}, median ${l.medianRelError.toExponential(2)}, ${l.verdict}`),
+    `parameters ${P}, loss ${loss.toPrecision(10)}, |gradient| ${norm2(gradient).toExponential(4)}`,
+    ...(audit === null
+      ? [`gradient audit: ${(out.gradcheck as { error: string }).error}`]
+      : [
+          `gradient audit: ${audit.verdict} (max relative error ${audit.maxRelError.toExponential(2)} over ${audit.checked}${audit.sampled ? ' sampled' : ''} parameters)`,
+          ...audit.layers.map((l) => `  layer ${l.layer}: max ${l.maxRelError.toExponential(2)}, median ${l.medianRelError.toExponential(2)}, ${l.verdict}`),
+        ]),
   ];
   if (out.eigenvalues) lines.push(`top eigenvalues (${String(out.eigenMethod)}): ${(out.eigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
   if (out.bottomEigenvalues) lines.push(`bottom eigenvalues: ${(out.bottomEigenvalues as number[]).map((x) => x.toPrecision(6)).join(', ')}`);
   if (out.trace) { const t = out.trace as { value: number; standardError: number; method: string }; lines.push(`trace: ${t.value.toPrecision(6)} ± ${t.standardError.toPrecision(2)} (${t.method})`); }
   if (out.stability) { const st = out.stability as { largestStableLr: number | null; margin: number | null; formula: string; caveat: string }; lines.push(`largest stable learning rate: ${st.largestStableLr === null ? 'no fixed limit' : st.largestStableLr.toPrecision(4)} (${st.formula}); stability margin ${st.margin === null ? '-' : st.margin.toPrecision(3)}`, st.caveat); }
-  return lines.join('\n') + '\n';
+  return { out: lines.join('\n') + '\n', warnings, code: 0 };
 }

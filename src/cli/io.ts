@@ -13,6 +13,18 @@ export class CliError extends Error {
   }
 }
 
+/** What a command produced: its standard output, warnings for standard error, and the exit code. */
+export interface CommandResult {
+  out: string;
+  warnings: string[];
+  code: number;
+}
+
+/** JSON text in which NaN and ±Infinity appear as the strings "NaN", "Infinity", "-Infinity" (JSON has no such numbers; null would hide them). */
+export function toJson(value: unknown): string {
+  return JSON.stringify(value, (_key, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? String(v) : v));
+}
+
 /** Minimal writable sink (process.stdout in use, a buffer in tests). */
 export interface Sink {
   write(chunk: string): unknown;
@@ -40,13 +52,14 @@ function specErrorLines(path: string, errors: readonly SpecError[]): string {
  *
  * @returns the experiment, the text, and the patch the overrides made (empty without any).
  */
-export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; files: SpecFiles } {
+export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; files: SpecFiles; warnings: string[] } {
   const text = readText(path, 'spec');
   const patch = readOverrides(overrides, '--set');
   const files = readSpecFiles(path, text, patch);
   const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch, { files }) : parseSpec(text, 'auto', { files });
   if (!r.ok) throw new CliError(specErrorLines(path, r.errors));
-  return { experiment: r.experiment, text, patch, files };
+  const warnings = r.warnings.length > 0 ? specErrorLines(path, r.warnings).split('\n').map((l) => `warning: ${l}`) : [];
+  return { experiment: r.experiment, text, patch, files, warnings };
 }
 
 /**
@@ -79,11 +92,16 @@ export function readOverrides(list: readonly string[], flag: string): SpecPatch 
   return parsed.patch;
 }
 
-/** Parses a positive integer flag, with an error naming the flag. */
-export function positiveInt(value: string | undefined, flag: string, fallback: number): number {
+/**
+ * Parses a non-negative integer flag written in decimal digits (no `0x10`, `1e3` or empty
+ * text), at most `max`, with an error naming the flag.
+ */
+export function positiveInt(value: string | undefined, flag: string, fallback: number, max = Number.MAX_SAFE_INTEGER): number {
   if (value === undefined) return fallback;
+  const shown = value.length > 40 ? `${value.slice(0, 40)}…` : value;
+  if (!/^\d+$/.test(value)) throw new CliError(`${flag} must be a non-negative integer in decimal digits, got '${shown}'`);
   const n = Number(value);
-  if (!Number.isInteger(n) || n < 0) throw new CliError(`${flag} must be a non-negative integer, got '${value}'`);
+  if (!(n <= max)) throw new CliError(`${flag} must be at most ${max}, got ${shown}`);
   return n;
 }
 

@@ -4,7 +4,7 @@
  * Every command prints JSON with `--json` and a readable summary otherwise.
  */
 import { parseArgs } from 'node:util';
-import { CliError, type Sink } from './io';
+import { CliError, type CommandResult, type Sink } from './io';
 import { inspectCommand } from './inspect';
 import { runCommand } from './run';
 import { exportCommand } from './export';
@@ -17,12 +17,15 @@ const USAGE = `usage:
     COND: loss<VALUE | grad<VALUE | diverged
     --branch forks a branch at STEP with changed recipe keys and runs it to the same step count
     --replay re-runs the trajectory from the seed and reports bit-identical / within tolerance / differs
+    every run stops at the first non-finite loss or weight; its final state is then the last finite one
   stepwell export SPEC [--to pytorch] [--out train.py] [--set KEY=VALUE ...] [--branch 0:KEY=VALUE[,...]]
     a self-contained PyTorch script (float64) of the recipe; \`python train.py --steps N --json\` prints
     the full-batch losses \`stepwell run SPEC --steps N --json\` reports; data paths are relative to
     the folder of --out (default: the current folder)
   stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
   stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
+  exit status: 0 done, 2 bad input, 3 the loss or the weights became non-finite (unless --until diverged)
+  JSON holds NaN and ±Infinity as the strings "NaN", "Infinity" and "-Infinity"
 `;
 
 /** Runs the CLI with `argv` (without node and script); resolves to the exit code. */
@@ -35,16 +38,14 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           json: { type: 'boolean' }, vector: { type: 'string' }, top: { type: 'string' }, bottom: { type: 'string' },
           trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true },
         } });
-        out.write(inspectCommand(specPath(a.positionals), a.values));
-        return 0;
+        return report(inspectCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'run': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true },
           branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
-        out.write(runCommand(specPath(a.positionals), a.values));
-        return 0;
+        return report(runCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'export': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
@@ -63,15 +64,25 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
     }
   } catch (e) {
     if (e instanceof CliError) {
-      err.write(e.message.split('\n').map((l) => (l.startsWith('usage') || l.startsWith(' ') ? l : `stepwell: ${l}`)).join('\n') + '\n');
+      const lines = e.message.split('\n').filter((l) => l.trim() !== '');
+      err.write(lines.map((l) => (l.startsWith('usage') || l.startsWith(' ') ? l : `stepwell: ${l}`)).join('\n') + '\n');
       return e.exitCode;
     }
-    if (e instanceof TypeError && 'code' in e && String((e as { code: unknown }).code).startsWith('ERR_PARSE_ARGS')) {
-      err.write(`stepwell: ${e.message}\n${USAGE}`);
+    // Duck-typed: node:util's parse errors may come from another realm (jest's vm), where instanceof fails.
+    const parse = e as { code?: unknown; message?: unknown } | null;
+    if (typeof parse === 'object' && parse !== null && String(parse.code).startsWith('ERR_PARSE_ARGS')) {
+      err.write(`stepwell: ${String(parse.message).split('\n')[0]}\n${USAGE}`);
       return 2;
     }
     throw e;
   }
+}
+
+/** Writes a command's output and warnings; returns its exit code. */
+function report(r: CommandResult, out: Sink, err: Sink): number {
+  for (const w of r.warnings) err.write(`stepwell: ${w}\n`);
+  out.write(r.out);
+  return r.code;
 }
 
 function specPath(positionals: string[]): string {

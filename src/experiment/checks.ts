@@ -72,6 +72,45 @@ function targetRows(y: unknown[], at: Path, report: CheckReport): number[][] | u
   return rows;
 }
 
+/**
+ * Row numbers as short ranges: `0–49`, `3, 7, 12–15`; past `limit` ranges the rest is counted
+ * ("and 120 more rows"), so a message stays one line however many rows share the problem.
+ */
+export function rowRanges(rows: readonly number[], limit = 4): string {
+  const ranges: [number, number][] = [];
+  for (const r of rows) {
+    const last = ranges[ranges.length - 1];
+    if (last !== undefined && r === last[1] + 1) last[1] = r;
+    else ranges.push([r, r]);
+  }
+  const shown = ranges.slice(0, limit).map(([a, z]) => (a === z ? String(a) : `${a}–${z}`));
+  const rest = ranges.slice(limit).reduce((n, [a, z]) => n + z - a + 1, 0);
+  return shown.join(', ') + (rest > 0 ? ` and ${rest} more` : '');
+}
+
+/**
+ * Reports rows that share one problem as one error at the first such row: "data.x rows 0–49 have
+ * 2 columns, but model.inputs is 3" instead of fifty identical lines. `groups` maps a group key
+ * (e.g. the column count) to its row numbers, ascending.
+ */
+function reportRows(report: CheckReport, at: Path, groups: Map<string, number[]>, say: (key: string, plural: boolean) => string): void {
+  for (const [key, rows] of groups) {
+    const plural = rows.length > 1;
+    const subject = plural ? `${formatPath(at)} rows ${rowRanges(rows)}` : formatPath([...at, rows[0]]);
+    report.errors.push({ path: [...at, rows[0]], message: `${subject} ${say(key, plural)}` });
+  }
+}
+
+/** `1 unit`, `3 units`. */
+const units = (n: number | undefined): string => `${n} unit${n === 1 ? '' : 's'}`;
+
+/** Adds row `i` to the group `key`. */
+function addTo(groups: Map<string, number[]>, key: string, i: number): void {
+  const list = groups.get(key);
+  if (list === undefined) groups.set(key, [i]);
+  else list.push(i);
+}
+
 /** Checks one x/y split (training or held-out) against the model's widths and the loss. */
 function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: number | undefined, loss: string, report: CheckReport): number | undefined {
   const x = split.x;
@@ -80,10 +119,11 @@ function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: 
   if (Array.isArray(x)) {
     xRows = x.length;
     if (inputs !== undefined) {
+      const widths = new Map<string, number[]>();
       x.forEach((row, i) => {
-        if (Array.isArray(row) && row.length !== inputs)
-          report.errors.push({ path: [...at, 'x', i], message: `${formatPath([...at, 'x', i])} has ${row.length} columns, but model.inputs is ${inputs}` });
+        if (Array.isArray(row) && row.length !== inputs) addTo(widths, String(row.length), i);
       });
+      reportRows(report, [...at, 'x'], widths, (w, plural) => `${plural ? 'have' : 'has'} ${w} column${w === '1' ? '' : 's'}, but model.inputs is ${inputs}`);
     }
   }
   if (!Array.isArray(y) || y.length === 0) return xRows;
@@ -94,9 +134,10 @@ function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: 
   const flat = typeof y[0] === 'number';
   const cell = (i: number, j: number): Path => (flat ? [...at, 'y', i] : [...at, 'y', i, j]);
   if (loss === 'cross-entropy') {
+    const counts = new Map<string, number[]>();
     rows.forEach((r, i) => {
       if (r.length !== 1) {
-        report.errors.push({ path: [...at, 'y', i], message: `${formatPath([...at, 'y', i])} must hold one class index for cross-entropy, got ${r.length} values` });
+        addTo(counts, String(r.length), i);
         return;
       }
       const c = r[0];
@@ -105,13 +146,12 @@ function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: 
       if (!Number.isInteger(c) || c < 0 || (outUnits !== undefined && c >= outUnits))
         report.errors.push({ path: cell(i, 0), message: `${formatPath(cell(i, 0))} must be a class index${range}, got ${c}` });
     });
+    reportRows(report, [...at, 'y'], counts, (n, plural) => `must hold one class index for cross-entropy, but ${plural ? 'hold' : 'holds'} ${n} values`);
     return xRows;
   }
+  const widths = new Map<string, number[]>();
   rows.forEach((r, i) => {
-    if (outUnits !== undefined && r.length !== outUnits) {
-      const what = flat ? 'is a single value' : `has ${r.length} columns`;
-      report.errors.push({ path: [...at, 'y', i], message: `${formatPath([...at, 'y', i])} ${what}, but the last layer has ${outUnits} units` });
-    }
+    if (outUnits !== undefined && r.length !== outUnits) addTo(widths, String(r.length), i);
     if (loss === 'binary-cross-entropy') {
       r.forEach((v, j) => {
         if (isNum(v) && (v < 0 || v > 1))
@@ -119,6 +159,8 @@ function checkSplit(split: Obj, at: Path, inputs: number | undefined, outUnits: 
       });
     }
   });
+  reportRows(report, [...at, 'y'], widths, (w, plural) =>
+    flat ? `${plural ? 'are single values' : 'is a single value'}, but the last layer has ${units(outUnits)}` : `${plural ? 'have' : 'has'} ${w} columns, but the last layer has ${units(outUnits)}`);
   return xRows;
 }
 

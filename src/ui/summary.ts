@@ -153,7 +153,7 @@ export interface AuditDisplayRow {
   name: string;
   max: string;
   median: string;
-  /** Block and flat index of the worst entry. */
+  /** Block and position of the worst entry inside it, e.g. `layers[1].weight[2, 0]`. */
   worst: string;
   /** `checked / total` entries. */
   checked: string;
@@ -166,7 +166,7 @@ export function auditRows(a: AuditResult): AuditDisplayRow[] {
     name: l.layer >= 0 ? `layer ${l.layer} (${l.blocks.join(', ')})` : l.blocks.join(', '),
     max: l.maxRelError.toExponential(2),
     median: l.medianRelError.toExponential(2),
-    worst: `${l.worstBlock} @ ${l.worstIndex}`,
+    worst: l.worstAt.length > 0 ? `${l.worstBlock}[${l.worstAt.join(', ')}]` : '—',
     checked: `${l.checked} / ${l.total}`,
     verdict: l.verdict
   }));

@@ -49,6 +49,8 @@ export interface AuditLayer {
   /** Flat index of the worst parameter, and its block's name. */
   worstIndex: number;
   worstBlock: string;
+  /** Position of the worst parameter inside its block: `[row, column]` of a weight matrix, `[i]` of a bias; empty when nothing was checked. */
+  worstAt: number[];
   verdict: AuditVerdict;
 }
 
@@ -101,6 +103,21 @@ function median(xs: number[]): number {
   return s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
 }
 
+/**
+ * A loss beyond this leaves central differences meaningless: f(w ± h·e_i) carry an absolute
+ * round-off of about 1e-16·|f|, and the floored denominator (1e-8·|f|) then turns every
+ * comparison into an impossible relative error far below machine precision.
+ */
+export const AUDIT_LOSS_LIMIT = 1e100;
+
+/** The gradient cannot be audited at these weights (non-finite or overflowing values: a diverged model). */
+export class AuditDivergedError extends Error {
+  constructor(detail: string) {
+    super(`cannot audit: the model has diverged (${detail}); rewind to a finite step or change the recipe first`);
+    this.name = 'AuditDivergedError';
+  }
+}
+
 /** Relative error with the floored denominator described in the module comment. */
 export function relativeError(a: number, n: number, floor: number): number {
   const d = Math.max(Math.abs(a), Math.abs(n), floor);
@@ -118,6 +135,10 @@ export function auditGradient(objective: Objective, w: Float64Array, options: Au
   const rows = options.rows;
   const grad = new Float64Array(P);
   const loss = objective.gradient(w, grad, rows);
+  if (!Number.isFinite(loss)) throw new AuditDivergedError(`the loss is ${loss} at these weights`);
+  if (Math.abs(loss) > AUDIT_LOSS_LIMIT) throw new AuditDivergedError(`the loss is ${loss.toExponential(2)}, beyond ${AUDIT_LOSS_LIMIT.toExponential(0)}`);
+  const badGrad = grad.findIndex((g) => !Number.isFinite(g));
+  if (badGrad >= 0) throw new AuditDivergedError(`gradient entry ${badGrad} is ${grad[badGrad]}`);
   const floor = 1e-8 * Math.max(1, Math.abs(loss));
   const work = Float64Array.from(w);
   const indices = chooseIndices(objective, sample, options.rng);
@@ -129,6 +150,7 @@ export function auditGradient(objective: Objective, w: Float64Array, options: Au
     work[i] = w[i] - hi;
     const fm = objective.value(work, rows);
     work[i] = w[i];
+    if (!Number.isFinite(fp) || !Number.isFinite(fm)) throw new AuditDivergedError(`the loss is not finite a step of ${hi.toExponential(1)} away along parameter ${i}`);
     return (fp - fm) / (2 * hi);
   };
 
@@ -172,21 +194,33 @@ function chooseIndices(objective: Objective, sample: number, rng: Rng | undefine
 }
 
 function summarizeLayers(objective: Objective, entries: AuditEntry[]): AuditLayer[] {
-  const byLayer = new Map<number, { blocks: string[]; total: number; list: { e: AuditEntry; block: string }[] }>();
+  type Hit = { e: AuditEntry; block: string; at: number[] };
+  const byLayer = new Map<number, { blocks: string[]; total: number; list: Hit[] }>();
   for (const b of objective.blocks) {
     const g = byLayer.get(b.layer) ?? { blocks: [], total: 0, list: [] };
     g.blocks.push(b.name);
     g.total += b.size;
-    for (const e of entries) if (e.index >= b.offset && e.index < b.offset + b.size) g.list.push({ e, block: b.name });
+    for (const e of entries) if (e.index >= b.offset && e.index < b.offset + b.size) g.list.push({ e, block: b.name, at: positionInBlock(e.index - b.offset, b.shape) });
     byLayer.set(b.layer, g);
   }
   return [...byLayer.entries()].map(([layer, g]) => {
-    const worst = g.list.reduce<{ e: AuditEntry; block: string } | undefined>((w, x) => (!w || x.e.relError > w.e.relError || Number.isNaN(x.e.relError) ? x : w), undefined);
+    const worst = g.list.reduce<Hit | undefined>((w, x) => (!w || x.e.relError > w.e.relError || Number.isNaN(x.e.relError) ? x : w), undefined);
     const maxRel = worst ? worst.e.relError : 0;
     return {
       layer, blocks: g.blocks, checked: g.list.length, total: g.total, maxRelError: maxRel,
       medianRelError: median(g.list.map((x) => x.e.relError)), worstIndex: worst ? worst.e.index : -1,
-      worstBlock: worst ? worst.block : '', verdict: auditVerdict(maxRel),
+      worstBlock: worst ? worst.block : '', worstAt: worst ? worst.at : [], verdict: auditVerdict(maxRel),
     };
   });
+}
+
+/** Row-major coordinates of the `local`-th entry of a block of `shape` (`[row, column]` of an `[out, in]` weight). */
+function positionInBlock(local: number, shape: readonly number[]): number[] {
+  const at = new Array<number>(shape.length);
+  let rest = local;
+  for (let d = shape.length - 1; d >= 0; d--) {
+    at[d] = rest % shape[d];
+    rest = Math.floor(rest / shape[d]);
+  }
+  return at;
 }

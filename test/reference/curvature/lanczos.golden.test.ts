@@ -12,6 +12,9 @@ describe('Lanczos extremes against torch.linalg.eigvalsh', () => {
       const ref = (golden.extreme as Record<string, ExtremeGolden>)[name];
       const r = lanczosExtremes(matvec(EXTREME_CASES[name](), ref.n), ref.n, Rng.fromSeed(seed), { k: 5, which: 'both' });
       expect(r.stop).toBe('converged');
+      expect(r.largest).toHaveLength(5);
+      expect(r.smallest).toHaveLength(5);
+      expect([ref.top5.length, ref.bottom5.length]).toEqual([5, 5]);
       r.largest.forEach((p, i) => expect(Math.abs(p.value - ref.top5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ref.top5[i])));
       r.smallest.forEach((p, i) => expect(Math.abs(p.value - ref.bottom5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ref.bottom5[i])));
     }

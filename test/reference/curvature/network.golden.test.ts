@@ -40,6 +40,8 @@ describe('curvature of a tanh MLP against torch', () => {
     const d = denseSpectrum(objective, w, undefined, kind);
     const scale = Math.max(...ref.map(Math.abs));
     expect(d.asymmetry).toBeLessThan(1e-12);
+    expect(d.eigenvalues).toHaveLength(objective.parameterCount);
+    expect(ref).toHaveLength(objective.parameterCount);
     d.eigenvalues.forEach((x, i) => expect(Math.abs(x - ref[i])).toBeLessThan(1e-12 * scale));
   });
 
@@ -62,6 +64,7 @@ describe('curvature of a tanh MLP against torch', () => {
     const r = lanczosExtremes(op.apply, objective.parameterCount, Rng.fromSeed(seed), { k: 5, which: 'both' });
     expect(r.stop).toBe('converged');
     expect(bottom5[0]).toBeLessThan(0); // the case is indefinite
+    expect([r.largest.length, r.smallest.length, top5.length, bottom5.length]).toEqual([5, 5, 5, 5]);
     r.largest.forEach((p, i) => expect(Math.abs(p.value - top5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(top5[i])));
     r.smallest.forEach((p, i) => expect(Math.abs(p.value - bottom5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(bottom5[i])));
   });
@@ -101,6 +104,8 @@ describe('curvature of a tanh MLP against torch', () => {
   it('line profile along the top eigenvector matches torch’s f(w + t·u)', () => {
     const u = Float64Array.from(net.topEigenvector);
     const prof = lineProfile(objective, w, u, { offsets: net.profile.t });
+    expect(prof.loss).toHaveLength(net.profile.loss.length);
+    expect(net.profile.loss.length).toBeGreaterThan(4);
     prof.loss.forEach((x, i) => expect(x).toBeCloseTo(net.profile.loss[i], 12));
     // the quadratic model's curvature along an eigenvector is its eigenvalue
     expect(prof.curvature).toBeCloseTo(top5[0], 10);
@@ -124,6 +129,8 @@ describe('curvature of a softmax cross-entropy MLP against torch (P = 891)', () 
   it('dense spectrum matches torch to 1e-12·max|λ| and the trace to 1e-10', () => {
     const d = denseSpectrum(obj, wc);
     const scale = Math.max(...ce.eigenvalues.map(Math.abs));
+    expect(d.eigenvalues).toHaveLength(ce.parameterCount);
+    expect(ce.eigenvalues).toHaveLength(ce.parameterCount);
     d.eigenvalues.forEach((x, i) => expect(Math.abs(x - ce.eigenvalues[i])).toBeLessThan(1e-12 * scale));
     expect(d.eigenvalues.reduce((s, x) => s + x, 0)).toBeCloseTo(ce.trace, 10);
   });
@@ -132,6 +139,7 @@ describe('curvature of a softmax cross-entropy MLP against torch (P = 891)', () 
     const r = lanczosExtremes(curvatureOperator(obj, wc).apply, obj.parameterCount, Rng.fromSeed(9), { k: 5, which: 'both' });
     expect(r.stop).toBe('converged');
     expect(ce.bottom5[0]).toBeLessThan(0);
+    expect([r.largest.length, r.smallest.length, ce.top5.length, ce.bottom5.length]).toEqual([5, 5, 5, 5]);
     r.largest.forEach((p, i) => expect(Math.abs(p.value - ce.top5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ce.top5[i])));
     r.smallest.forEach((p, i) => expect(Math.abs(p.value - ce.bottom5[i])).toBeLessThanOrEqual(1e-8 * Math.abs(ce.bottom5[i])));
   });

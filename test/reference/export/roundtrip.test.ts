@@ -173,7 +173,7 @@ describe('export round trip with PyPI torch 2.13.0 (CPU)', () => {
     if (!existsSync(PYTHON)) throw new Error('the export venv is missing; create it with: bash test/reference/export/make-venv.sh');
     const got = results[c.name];
     if (typeof got === 'string') throw new Error(`${c.name}: the exported script failed: ${got}`);
-    const want = losses(runCommand(c.spec, { steps: String(STEPS), json: true }));
+    const want = losses(runCommand(c.spec, { steps: String(STEPS), json: true }).out);
     expect(want.length).toBe(STEPS + 1);
     expect(got.length).toBe(STEPS + 1);
     const worst = Math.max(...want.map((w, k) => Math.abs(got[k] - w) / Math.abs(w)));

@@ -111,6 +111,10 @@ function build(c: NetCase): { f: Objective; w: Float64Array } {
 describe('golden file', () => {
   it('covers every activation, every loss and both l2 settings', () => {
     type Spec = { model: { layers: { activation: string }[] }; loss: string; regularization: { l2: number } };
+    // the committed file holds 24 network cases (6 with mini-batch rows, 7 row sets) and 9 analytic ones
+    expect(cases).toHaveLength(24);
+    expect(golden.analytic).toHaveLength(9);
+    expect(cases.flatMap((c) => c.batches ?? [])).toHaveLength(7);
     const specs = cases.map((c) => c.spec as Spec);
     const hidden = new Set(specs.flatMap((s) => s.model.layers.slice(0, -1).map((l) => l.activation)));
     expect([...hidden].sort()).toEqual(['elu', 'gelu', 'leaky-relu', 'linear', 'relu', 'sigmoid', 'softplus', 'tanh']);

@@ -122,6 +122,9 @@ const lbfgs = golden.cases.filter((c) => c.spec.recipe.optimizer === 'lbfgs');
 
 describe('golden file', () => {
   it('covers every first-order family and both L-BFGS line-search settings', () => {
+    expect(golden.cases).toHaveLength(44);
+    expect(firstOrder.length + clippedExactly.length + lbfgs.length).toBe(44);
+    expect(Math.min(firstOrder.length, clippedExactly.length, lbfgs.length)).toBeGreaterThan(0);
     const kinds = new Set(golden.cases.map((c) => c.torch.replace(/\{.*$/, '')));
     expect([...kinds].sort()).toEqual(['Adagrad', 'Adam', 'AdamW', 'LBFGS', 'RMSprop', 'SGD']);
     const schedulers = new Set(golden.cases.map((c) => c.scheduler).filter((x) => x !== undefined));

@@ -100,6 +100,108 @@ describe('stepwell run', () => {
   });
 });
 
+describe('flags and messages', () => {
+  it.each(['', '0x10', '1e3', '-1', '2.5', ' 7'])('refuses --steps %j with a message naming the flag', async (steps) => {
+    const r = await cli('run', spec, `--steps=${steps}`, '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--steps must be a non-negative integer in decimal digits/);
+  });
+
+  it('refuses an absurd --steps before doing any work', async () => {
+    const r = await cli('run', spec, '--steps', '1000000000000', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--steps must be at most 1000000, got 1000000000000/);
+  });
+
+  it('ends every error line with content: no dangling "stepwell: " line after the usage', async () => {
+    const r = await cli('frobnicate');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/unknown command 'frobnicate'/);
+    expect(r.err.split('\n').filter((l) => /^stepwell:\s*$/.test(l))).toEqual([]);
+  });
+
+  it('says when --until stopped at the step cap without meeting its condition', async () => {
+    const r = await cli('run', spec, '--steps', '3', '--until', 'loss<1e-12');
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/the condition --until loss<1e-12 was not met within 3 steps/);
+  });
+
+  it('sets model and data keys with --set and names a bad key', async () => {
+    const ok = JSON.parse((await cli('run', spec, '--steps', '2', '--json', '--set', 'model.init=he-normal', '--set', 'layers[0].lrScale=0.5')).out);
+    const base = JSON.parse((await cli('run', spec, '--steps', '2', '--json')).out);
+    expect(ok.trajectory[0].loss).not.toBe(base.trajectory[0].loss); // another init scheme, other starting weights
+    const bad = await cli('run', spec, '--steps', '2', '--set', '__proto__=1');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--set: "__proto__" names '__proto__', which is not a spec key/);
+    const nan = await cli('run', spec, '--steps', '2', '--set', 'lr=.nan');
+    expect(nan.err).toMatch(/patch 'lr': recipe\.lr/);
+    expect(nan.err).not.toMatch(/:\d+:\d+:/); // no position inside an internal copy of the text
+  });
+
+  it('refuses a setup change forked after step 0', async () => {
+    const r = await cli('run', spec, '--steps', '4', '--branch', '2:model.init=he-normal');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/changes the setup or the seed, so it must fork at step 0/);
+  });
+});
+
+describe('non-finite numbers and long runs', () => {
+  // source: gradient descent on c/2·w² multiplies w by (1 − ηc) per step (CHECKS.md); with c = 4 and
+  // η = 1e200 the weight overflows to ±Infinity within two steps, so the loss is no longer finite.
+  const blowUp = file('blow.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[4]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 1e200 }\n');
+
+  it('stops at the first non-finite loss without --until, reports it, and keeps the last finite state as final (exit 3)', async () => {
+    const r = await cli('run', blowUp, '--steps', '50', '--json');
+    expect(r.code).toBe(3);
+    const o = JSON.parse(r.out);
+    expect(o.stopped).toBe('diverged');
+    const bad = o.trajectory[o.trajectory.length - 1];
+    expect(o.divergedAt).toBe(bad.step);
+    expect(typeof bad.loss === 'string' && ['NaN', 'Infinity'].includes(bad.loss)).toBe(true); // not null
+    expect(o.final.step).toBe(bad.step - 1);
+    expect(Number.isFinite(o.final.loss)).toBe(true);
+    expect(o.final.parameters.every((x: unknown) => typeof x === 'number')).toBe(true);
+    const text = await cli('run', blowUp, '--steps', '50');
+    expect(text.out).toMatch(/became non-finite at step \d+; the final state is the last finite one/);
+  });
+
+  it('treats divergence asked for with --until diverged as success (exit 0)', async () => {
+    const r = await cli('run', blowUp, '--steps', '50', '--until', 'diverged', '--json');
+    expect(r.code).toBe(0);
+  });
+
+  it('refuses a spec whose loss is not finite before any update', async () => {
+    const huge = file('huge-gain.yaml', `seed: 7
+model:
+  inputs: 2
+  gain: 1e308
+  layers:
+    - { units: 3, activation: linear }
+    - { units: 1, activation: linear }
+data:
+  x: [[0.2, -0.1], [0.7, 0.4]]
+  y: [[0.1], [0.9]]
+`);
+    const r = await cli('run', huge, '--steps', '3', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/the loss is already (NaN|Infinity) at step 0/);
+  });
+
+  it('prints the spec warnings on standard error', async () => {
+    const w = file('warn.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001, batch: 4 }\n');
+    const r = await cli('run', w, '--steps', '1', '--json');
+    expect(r.code).toBe(0);
+    expect(r.err).toMatch(/^stepwell: warning: .*warn\.yaml:3:\d+: recipe\.batch picks data rows/m);
+  });
+
+  it('runs 150 000 steps without overflowing the stack when joining records', async () => {
+    const q = file('long.yaml', 'seed: 0\nmodel: { objective: quadratic, matrix: [[1]], center: [0], start: [1] }\nrecipe: { optimizer: sgd, lr: 0.001 }\n');
+    const r = await cli('run', q, '--steps', '150000', '--json');
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.out).trajectory).toHaveLength(150_001);
+  });
+});
+
 describe('the installed bin', () => {
   it('runs through npx without a build step', () => {
     const out = execFileSync('npx', ['stepwell', 'run', rosen, '--steps', '2', '--json'], { encoding: 'utf8' });

@@ -3,6 +3,7 @@
  * all errors are reported at once, sorted by position. Positions are counted by hand
  * from the fixtures (1-based lines and columns).
  */
+import { rowRanges } from '../../../src/experiment/checks';
 import { formatSpecError, parseSpec } from '../../../src/experiment';
 import type { SpecError } from '../../../src/experiment';
 
@@ -71,7 +72,7 @@ const NET = (extra = '', y = '[0.5, -0.5]', model = '{ inputs: 2, layers: [{ uni
 describe('parseSpec: cross-field errors', () => {
   it.each<[string, string, string, string, number?]>([
     ['row counts', NET('', '[1, 2, 3]'), 'data.y', 'data.y has 3 rows, but data.x has 2', 4],
-    ['target width (mse)', NET('', '[[1, 2], [3, 4]]'), 'data.y[0]', 'data.y[0] has 2 columns, but the last layer has 1 units', 4],
+    ['target width (mse)', NET('', '[[1, 2], [3, 4]]'), 'data.y[0]', 'data.y rows 0–1 have 2 columns, but the last layer has 1 unit', 4],
     ['mixed target rows', NET('', '[1, [2]]'), 'data.y[1]', 'data.y[1] is a list, but data.y[0] is a number; write every target row the same way', 4],
     ['class index out of range', NET('loss: cross-entropy\n', '[0, 3]', '{ inputs: 2, layers: [{ units: 3 }] }'), 'data.y[1]', 'data.y[1] must be a class index (an integer from 0 to 2), got 3', 4],
     ['class index not an integer', NET('loss: cross-entropy\n', '[[0.5], [1]]', '{ inputs: 2, layers: [{ units: 3 }] }'), 'data.y[0][0]', 'data.y[0][0] must be a class index (an integer from 0 to 2), got 0.5', 4],
@@ -209,5 +210,21 @@ describe('momentum keys on optimizers that ignore them', () => {
   it('a non-zero momentum on adam is an error', () => {
     const r = parseSpec('seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: adam, momentum: 0.9 }\n');
     expect(r.ok).toBe(false);
+  });
+});
+
+describe('rows that share one problem', () => {
+  it('are reported once, with their row ranges, at the first such row', () => {
+    const x = Array.from({ length: 50 }, (_, i) => `[${i}, 1]`).join(', ');
+    const y = Array.from({ length: 50 }, () => '0').join(', ');
+    const list = errors(`model: { inputs: 3, layers: [{ units: 1 }] }\ndata: { x: [${x}], y: [${y}] }\n`);
+    const wide = list.filter((e) => e.path.startsWith('data.x'));
+    expect(wide).toHaveLength(1);
+    expect(wide[0]).toMatchObject({ path: 'data.x[0]', message: 'data.x rows 0–49 have 2 columns, but model.inputs is 3', line: 2 });
+  });
+
+  it('shortens scattered rows to a few ranges and a count', () => {
+    expect(rowRanges([0, 1, 2, 5, 7, 8, 10, 12, 13, 14, 20])).toBe('0–2, 5, 7–8, 10 and 4 more') // 12, 13, 14 and 20 are left;
+    expect(rowRanges([4])).toBe('4');
   });
 });

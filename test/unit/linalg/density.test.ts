@@ -9,6 +9,31 @@ function trace(a: Float64Array, n: number): number {
   return t;
 }
 
+/** Σ_{i≠j} A_ij² and tr(A²) of a dense symmetric n×n matrix. */
+function squares(a: Float64Array, n: number): { offDiagonal: number; traceOfSquare: number } {
+  let off = 0;
+  let all = 0;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      const x = a[i * n + j] * a[i * n + j];
+      all += x;
+      if (i !== j) off += x;
+    }
+  }
+  return { offDiagonal: off, traceOfSquare: all };
+}
+
+/**
+ * Standard deviation of one probe vᵀAv, v uniform on the unit sphere: the squared coordinates
+ * are Dirichlet(½, …, ½), so Var = 2/(n+2)·(tr(A²)/n − (tr A/n)²).
+ * source: moments of the Dirichlet distribution (e.g. Kotz, Balakrishnan & Johnson,
+ * *Continuous Multivariate Distributions* vol. 1, 2nd ed., 2000, ch. 49); from memory.
+ */
+function sphereProbeSd(a: Float64Array, n: number): number {
+  const m = trace(a, n) / n;
+  return Math.sqrt((2 / (n + 2)) * (squares(a, n).traceOfSquare / n - m * m));
+}
+
 function trapezoid(x: Float64Array, y: Float64Array): number {
   let s = 0;
   for (let i = 1; i < x.length; i++) s += 0.5 * (x[i] - x[i - 1]) * (y[i] + y[i - 1]);
@@ -26,10 +51,13 @@ describe('spectralDensity (stochastic Lanczos quadrature)', () => {
     expect(trapezoid(d.grid, d.density)).toBeCloseTo(1, 6);
   });
 
-  it('has a mean within 3 standard errors of tr(A)/n (seed 42, 10 probes)', () => {
-    // source: E[vᵀAv] = tr(A)/n for v uniform on the unit sphere (Ubaru, Chen & Saad 2017, §2).
+  it('has a mean within 4 closed-form standard errors of tr(A)/n (seed 42, 10 probes)', () => {
+    // source: E[vᵀAv] = tr(A)/n for v uniform on the unit sphere (Ubaru, Chen & Saad 2017, §2);
+    // the spread of one probe is the closed form of sphereProbeSd, not the estimator's own error.
     const exact = trace(a, n) / n;
-    expect(Math.abs(d.mean - exact)).toBeLessThan(3 * d.meanStandardError);
+    const sd = sphereProbeSd(a, n) / Math.sqrt(d.probes);
+    expect(d.probes).toBe(10);
+    expect(Math.abs(d.mean - exact)).toBeLessThan(4 * sd);
     // The grid density's first moment equals the nodes' mean (the kernel is symmetric).
     let m1 = 0;
     const t = Float64Array.from(d.grid, (x, i) => x * d.density[i]);
@@ -55,6 +83,22 @@ describe('spectralDensity (stochastic Lanczos quadrature)', () => {
     expect(densityMassBelow(d, d.grid[d.grid.length - 1])).toBeCloseTo(1, 6);
   });
 
+  it('reports a standard error that matches the closed form over seeded repeat runs', () => {
+    // source: sphereProbeSd (Dirichlet moments). 40 seeded runs of 10 probes each: the spread of
+    // their means estimates the true standard error to about ±25 % (χ² with 39 degrees of freedom).
+    const runs = Array.from({ length: 40 }, (_, k) => spectralDensity(matvec(a, n), n, Rng.fromSeed(1000 + k), { probes: 10, steps: 2 }));
+    expect(runs).toHaveLength(40);
+    const means = runs.map((r) => r.mean);
+    const avg = means.reduce((s, x) => s + x, 0) / means.length;
+    const spread = Math.sqrt(means.reduce((s, x) => s + (x - avg) * (x - avg), 0) / (means.length - 1));
+    const closed = sphereProbeSd(a, n) / Math.sqrt(10);
+    expect(spread / closed).toBeGreaterThan(0.7);
+    expect(spread / closed).toBeLessThan(1.3);
+    const reported = runs.reduce((s, r) => s + r.meanStandardError, 0) / runs.length;
+    expect(reported / closed).toBeGreaterThan(0.8);
+    expect(reported / closed).toBeLessThan(1.2);
+  });
+
   it('stops after the probe whose progress callback returns false', () => {
     const r = spectralDensity(matvec(a, n), n, Rng.fromSeed(1), { probes: 5, steps: 20, onProgress: (p) => p.done < 2 });
     expect(r.probes).toBe(2);
@@ -67,13 +111,29 @@ describe('hutchinsonTrace', () => {
   it.each([
     ['spiked n=300, seed 3', () => spiked(300, 21), 300, 3],
     ['graded n=400, seed 4', () => graded(400, 22), 400, 4],
-  ] as const)('%s: within 3 standard errors of the exact trace', (_name, make, n, seed) => {
-    // source: Hutchinson 1989 — E[zᵀAz] = tr(A) for Rademacher z; the sample mean's standard error is s/√N.
+  ] as const)('%s: within 4 closed-form standard errors of the exact trace, and reports that error', (_name, make, n, seed) => {
+    // source: Hutchinson 1989 — E[zᵀAz] = tr(A) for Rademacher z, Var(zᵀAz) = 2 Σ_{i≠j} A_ij².
     const a = make();
     const t = hutchinsonTrace(matvec(a, n), n, Rng.fromSeed(seed), { probes: 64 });
     expect(t.probes).toBe(64);
-    expect(Math.abs(t.estimate - trace(a, n))).toBeLessThan(3 * t.standardError);
-    expect(t.standardError).toBeGreaterThan(0);
+    const closed = Math.sqrt((2 * squares(a, n).offDiagonal) / 64);
+    expect(Math.abs(t.estimate - trace(a, n))).toBeLessThan(4 * closed);
+    // The sample standard error of 64 probes is within ±35 % of the closed form (χ² with 63 degrees of freedom, heavy tails allowed).
+    expect(t.standardError / closed).toBeGreaterThan(0.65);
+    expect(t.standardError / closed).toBeLessThan(1.35);
+  });
+
+  it('spreads over seeded repeat runs as the closed-form variance says', () => {
+    // source: Hutchinson 1989 — Var(zᵀAz) = 2 Σ_{i≠j} A_ij²; 60 runs of 8 probes pin the spread to about ±20 %.
+    const n = 120;
+    const a = graded(n, 23);
+    const estimates = Array.from({ length: 60 }, (_, k) => hutchinsonTrace(matvec(a, n), n, Rng.fromSeed(500 + k), { probes: 8 }).estimate);
+    expect(estimates).toHaveLength(60);
+    const avg = estimates.reduce((s, x) => s + x, 0) / estimates.length;
+    const spread = Math.sqrt(estimates.reduce((s, x) => s + (x - avg) * (x - avg), 0) / (estimates.length - 1));
+    const closed = Math.sqrt((2 * squares(a, n).offDiagonal) / 8);
+    expect(spread / closed).toBeGreaterThan(0.7);
+    expect(spread / closed).toBeLessThan(1.3);
   });
 
   it('is exact for a diagonal matrix (zᵀDz = tr D for every Rademacher z)', () => {

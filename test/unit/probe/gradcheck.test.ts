@@ -1,4 +1,4 @@
-import { auditGradient, auditVerdict, SWEEP_STEPS } from '../../../src/core/probe/gradcheck';
+import { AuditDivergedError, auditGradient, auditVerdict, SWEEP_STEPS } from '../../../src/core/probe/gradcheck';
 import type { Activation } from '../../../src/core/model/activations';
 import { activation } from '../../../src/core/model/activations';
 import { Rng } from '../../../src/core/rng';
@@ -66,5 +66,50 @@ describe('gradient audit', () => {
     expect(a.layers.every((l) => l.checked >= 3)).toBe(true);
     expect(a.entries.map((e) => e.index)).toEqual(b.entries.map((e) => e.index));
     expect(() => auditGradient(net, w, { sample: 20 })).toThrow(/seeded generator/);
+  });
+
+  it('reports relative errors, medians and worst entries that a recomputation in the test reproduces', () => {
+    // source: the definition |a − n| / max(|a|, |n|, 1e-8·max(1, |f|)) with n the central difference
+    // (f(w + h·e_i) − f(w − h·e_i)) / 2h, h_i = 1e-5·max(1, |w_i|) — recomputed here from objective values.
+    const { net, w } = tinyNet('tanh', 'mse', 3, 0, { activationOf: (l) => (l === 1 ? brokenTanh : undefined) });
+    const r = auditGradient(net, w);
+    const g = new Float64Array(net.parameterCount);
+    const f = net.gradient(w, g);
+    const floor = 1e-8 * Math.max(1, Math.abs(f));
+    const rel = Array.from({ length: net.parameterCount }, (_, i) => {
+      const h = 1e-5 * Math.max(1, Math.abs(w[i]));
+      const x = Float64Array.from(w);
+      x[i] = w[i] + h;
+      const fp = net.value(x);
+      x[i] = w[i] - h;
+      const n = (fp - net.value(x)) / (2 * h);
+      return Math.abs(g[i] - n) / Math.max(Math.abs(g[i]), Math.abs(n), floor);
+    });
+    expect(r.entries).toHaveLength(net.parameterCount);
+    r.entries.forEach((e, i) => expect(e.relError).toBe(rel[i]));
+    expect(r.layers).toHaveLength(3);
+    for (const l of r.layers) {
+      const idx = net.blocks.filter((b) => b.layer === l.layer).flatMap((b) => Array.from({ length: b.size }, (_, k) => b.offset + k));
+      const errs = idx.map((i) => rel[i]).sort((a, b) => a - b);
+      const m = errs.length >> 1;
+      expect(l.maxRelError).toBe(errs[errs.length - 1]);
+      expect(l.medianRelError).toBe(errs.length % 2 ? errs[m] : 0.5 * (errs[m - 1] + errs[m]));
+      // the worst entry's position is given inside its block: row and column of the [out, in] weight
+      const block = net.blocks.find((b) => b.name === l.worstBlock)!;
+      const local = l.worstIndex - block.offset;
+      expect(l.worstAt).toEqual(block.kind === 'weight' ? [Math.floor(local / block.shape[1]), local % block.shape[1]] : [local]);
+      expect(rel[l.worstIndex]).toBe(l.maxRelError);
+    }
+  });
+
+  it('refuses to audit a diverged model instead of reporting impossible errors', () => {
+    const { net, w } = tinyNet('tanh', 'mse', 3);
+    const nan = Float64Array.from(w);
+    nan[0] = NaN;
+    expect(() => auditGradient(net, nan)).toThrow(AuditDivergedError);
+    expect(() => auditGradient(net, nan)).toThrow(/^cannot audit: the model has diverged \(the loss is NaN/);
+    // huge but finite weights: the loss overflows the range where central differences mean anything
+    const huge = Float64Array.from(w, (x) => x * 1e60);
+    expect(() => auditGradient(net, huge)).toThrow(/cannot audit: the model has diverged/);
   });
 });

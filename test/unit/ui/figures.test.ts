@@ -113,9 +113,9 @@ describe('summary texts', () => {
     const rows = auditRows({
       loss: 1, parameterCount: 26, checked: 26, sampled: false, h: 1e-5, maxRelError: 0.2, verdict: 'wrong', entries: [], sweep: [],
       bestOverSweep: { h: 1e-5, maxRelError: 0.2, medianRelError: 0.1 },
-      layers: [{ layer: 0, blocks: ['layers[0].weight', 'layers[0].bias'], checked: 20, total: 20, maxRelError: 0.2, medianRelError: 0.1, worstIndex: 3, worstBlock: 'layers[0].weight', verdict: 'wrong' }]
+      layers: [{ layer: 0, blocks: ['layers[0].weight', 'layers[0].bias'], checked: 20, total: 20, maxRelError: 0.2, medianRelError: 0.1, worstIndex: 3, worstBlock: 'layers[0].weight', worstAt: [0, 3], verdict: 'wrong' }]
     });
-    expect(rows).toEqual([{ name: 'layer 0 (layers[0].weight, layers[0].bias)', max: '2.00e-1', median: '1.00e-1', worst: 'layers[0].weight @ 3', checked: '20 / 20', verdict: 'wrong' }]);
+    expect(rows).toEqual([{ name: 'layer 0 (layers[0].weight, layers[0].bias)', max: '2.00e-1', median: '1.00e-1', worst: 'layers[0].weight[0, 3]', checked: '20 / 20', verdict: 'wrong' }]);
   });
 });
 
