@@ -4,7 +4,7 @@
  * inline rows embedded, and Stepwell's mini-batch order as a small Python port of its generator.
  */
 import type { DataSetup, LossName } from '../../core/setup';
-import { py, pyFloats, pyString } from './py-text';
+import { pyFloats, pyString } from './py-text';
 
 /** Lines defining `X` (float64, rows × inputs) and `Y` (targets; int64 class indices for cross-entropy). */
 export function dataCode(data: DataSetup, loss: LossName, dataDir: string): string[] {
@@ -150,4 +150,3 @@ export function batchOrderCode(state: readonly number[], rows: number, batch: nu
   ];
 }
 
-export { py };
