@@ -1,5 +1,6 @@
 /** Spec patches: key grammar, application to the spec value, validation like a spec (invariants only). */
 import { parseSpec } from '../../../src/experiment';
+import type { Recipe } from '../../../src/core/setup';
 import { applyPatch, parseAssignments, parsePatchText, patchExperiment, patchPath, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
 
 const SPEC = `seed: 3
@@ -104,7 +105,7 @@ describe('applying a patch', () => {
 });
 
 describe('the recipe options that mirror PyTorch go through patches', () => {
-  it.each<[string, string[], (r: import('../../../src/core/setup').Recipe) => unknown, unknown]>([
+  it.each<[string, string[], (r: Recipe) => unknown, unknown]>([
     ['dampening', ['momentum=0.9', 'dampening=0.1'], (r) => r.dampening, 0.1],
     ['clipValue', ['clipValue=0.5'], (r) => r.clipValue, 0.5],
     ['decayBiases', ['weightDecay=0.01', 'decayBiases=false'], (r) => r.decayBiases, false],
