@@ -77,7 +77,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', '.venv-torch/**', 'test-output/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
