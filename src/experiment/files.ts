@@ -81,7 +81,7 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded
     if (b === undefined) problems.push({ path: ref.path, message: `${ref.name} was not read: ${files === undefined ? 'this caller reads no files (inline the data, or use the CLI or the notebook app)' : 'the file is missing or could not be fetched'}` });
     return b;
   };
-  const guard = <T>(path: Path, read: () => T): T | undefined => {
+  function guard<T>(path: Path, read: () => T): T | undefined {
     try {
       return read();
     } catch (e) {
@@ -91,7 +91,7 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded
       }
       throw e;
     }
-  };
+  }
   const model = isObj(spec.model) ? spec.model : {};
   const units = Array.isArray(model.layers) ? model.layers.map((l) => (isObj(l) ? (l.units as number) : 0)) : [];
   const inputs = model.inputs as number;
