@@ -56,7 +56,7 @@ const layerBlocks = [
   files,
   rules: {
     'no-restricted-imports': ['error', {
-      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
+      patterns: [...patterns, toPackages([...JUPYTERLAB, '@lumino', 'plotly.js-basic-dist-min'], 'Only plugin/ and ui/ touch JupyterLab, Lumino or plotly.')]
     }]
   }
 }));
@@ -77,7 +77,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', '.venv-torch/**', 'test-output/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
@@ -88,6 +88,13 @@ export default tseslint.config(
       '@typescript-eslint/no-namespace': 'off',
       'no-restricted-properties': ['error', { object: 'Math', property: 'random', message: 'Draw from the session’s seeded Rng.' }],
       eqeqeq: ['error', 'always']
+    }
+  },
+  {
+    // Node scripts of the packaging: prebuilt extension, wheel, Python environment, real server, static site.
+    files: ['src/package/**/*.mjs'],
+    languageOptions: {
+      globals: Object.fromEntries(['process', 'console', 'fetch', 'setTimeout', 'clearTimeout', 'setInterval', 'clearInterval', 'URL', 'Buffer'].map(n => [n, 'readonly']))
     }
   },
   ...coreBlocks,

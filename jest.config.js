@@ -1,18 +1,22 @@
 /** Jest projects: `unit` (pure Node, no jsdom; numerics, spec, ledger, CLI) and `e2e` (browser). */
 const tsJest = ['ts-jest', { tsconfig: { module: 'commonjs', moduleResolution: 'node', target: 'ES2021', esModuleInterop: true, resolveJsonModule: true, strict: true, types: ['node', 'jest'], isolatedModules: true } }];
+/** Build output and the Python environment hold package.json files that must not be seen as modules. */
+const ignored = ['<rootDir>/.venv/', '<rootDir>/stepwell/labextension/', '<rootDir>/build/', '<rootDir>/lib/', '<rootDir>/dist/', '<rootDir>/.jupyter-local/', '<rootDir>/test-output/'];
 module.exports = {
   projects: [
     {
       displayName: 'unit',
       testEnvironment: 'node',
       testMatch: ['<rootDir>/test/unit/**/*.test.ts', '<rootDir>/test/reference/**/*.test.ts'],
-      transform: { '^.+\\.tsx?$': tsJest }
+      transform: { '^.+\\.tsx?$': tsJest },
+      modulePathIgnorePatterns: ignored
     },
     {
       displayName: 'e2e',
       testEnvironment: 'node',
       testMatch: ['<rootDir>/test/e2e/**/*.test.ts'],
-      transform: { '^.+\\.tsx?$': tsJest }
+      transform: { '^.+\\.tsx?$': tsJest },
+      modulePathIgnorePatterns: ignored
     }
   ]
 };

@@ -1,31 +1,43 @@
 // Webpack 5 configuration of the embedded Stepwell app (JupyterLab 4.6 front end + JupyterLite
 // in-browser services). Used through src/host/build.mjs, which first generates the plugin list
 // module (build/gen/extensions.js) and afterwards writes the static assets (src/host/assets.mjs).
+const fs = require('fs');
 const path = require('path');
 const webpack = require('webpack');
 
 const ROOT = __dirname;
 const BUILD = path.join(ROOT, 'build');
 
-/** JupyterLab core singletons plus the JupyterLite ones, shared with prebuilt extensions. */
-function sharedSingletons() {
+/** Version of an installed package, read from its folder (some packages do not export package.json). */
+function installedVersion(name) {
+  try {
+    return JSON.parse(fs.readFileSync(path.join(ROOT, 'node_modules', name, 'package.json'), 'utf8')).version;
+  } catch {
+    return undefined; // not bundled here (for example the debugger): nothing to share
+  }
+}
+
+/**
+ * The share scope offered to prebuilt extensions, as a JupyterLab app offers it: every core
+ * package of `@jupyterlab/core-meta` (a prebuilt extension is built with `import: false` for all
+ * of them, so it finds them here or nowhere), the core singletons as singletons, and the
+ * JupyterLite packages of the in-browser services.
+ */
+function sharedPackages() {
   const coreMeta = require('@jupyterlab/core-meta/core.package.json');
-  const names = new Set([
+  const singletons = new Set([
     ...coreMeta.jupyterlab.singletonPackages,
     '@jupyterlite/services',
     '@jupyterlite/localforage',
     '@jupyterlite/apputils',
     '@jupyterlite/application'
   ]);
+  const names = new Set([...Object.keys(coreMeta.dependencies), ...Object.keys(coreMeta.resolutions || {}), ...singletons]);
   const shared = {};
   for (const name of names) {
-    let version;
-    try {
-      version = require(`${name}/package.json`).version;
-    } catch {
-      continue; // not bundled here (for example the debugger): nothing to share
-    }
-    shared[name] = { singleton: true, requiredVersion: `^${version}`, version };
+    const version = installedVersion(name);
+    if (version === undefined) continue;
+    shared[name] = singletons.has(name) ? { singleton: true, requiredVersion: `^${version}`, version } : { requiredVersion: `^${version}`, version };
   }
   return shared;
 }
@@ -40,7 +52,10 @@ module.exports = (env = {}) => ({
     filename: '[name].js',
     chunkFilename: '[name].[contenthash:8].js',
     assetModuleFilename: 'assets/[name].[contenthash:8][ext]',
-    publicPath: '/static/',
+    // 'auto': each script finds its folder from its own URL. The page's entry sets the public path
+    // from the page config anyway; a Web Worker cannot, and must load its chunks from where it was
+    // loaded itself (which is below a sub-path on the static site).
+    publicPath: 'auto',
     clean: true
   },
   cache: {
@@ -52,6 +67,8 @@ module.exports = (env = {}) => ({
   performance: { hints: false },
   resolve: {
     extensions: ['.ts', '.tsx', '.js', '.mjs', '.json'],
+    // Our sources name compiled files (`./engine.worker.js`, as lib/ has them); here they are .ts.
+    extensionAlias: { '.js': ['.ts', '.js'] },
     alias: {
       'stepwell-host-extensions': path.join(BUILD, 'gen', 'extensions.js'),
       'stepwell-host-plugins': path.join(ROOT, 'src', 'host', 'plugins', 'index.ts')
@@ -98,7 +115,7 @@ module.exports = (env = {}) => ({
     new webpack.ProvidePlugin({ process: 'process/browser' }),
     new webpack.container.ModuleFederationPlugin({
       name: 'stepwell_host',
-      shared: sharedSingletons()
+      shared: sharedPackages()
     })
   ],
   stats: 'errors-warnings'

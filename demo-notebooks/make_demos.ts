@@ -42,6 +42,23 @@ const pending: PrerunRequest[] = [];
 /** Step each pre-run cell must end at for its prose to hold. */
 const expectedSteps = new Map<string, number>();
 
+/**
+ * The Python cell that loads the %%stepwell magic, so a Python kernel running the whole notebook
+ * without Stepwell's JupyterLab extension (nbconvert --execute, papermill) passes over the
+ * stepwell cells with a one-line notice each instead of failing on their YAML.
+ */
+const loadMagicCell = (id: string): NbCell => ({
+  cell_type: 'code',
+  id,
+  metadata: {},
+  source: lines(`# Only for a Python kernel that runs this notebook without Stepwell's JupyterLab extension
+# (nbconvert --execute, papermill): each stepwell cell below then prints a one-line notice.
+%load_ext stepwell
+`),
+  outputs: [],
+  execution_count: null
+});
+
 /** A stepwell cell; a non-zero action pre-runs it (in Chromium, see prerun.ts). */
 function stepwellCell(id: string, spec: string, action: number | 'diverge'): NbCell {
   if (action !== 0) pending.push({ id, spec, action });
@@ -150,6 +167,7 @@ it opens at step ${blow} **without re-running**,
 because its whole state is stored in the notebook. Press **Verify** to replay it from the seed and check
 that the stored trajectory is reproduced bit for bit.
 `),
+    loadMagicCell('gh-kernel'),
     (expectedSteps.set('gh-diverging', blow), stepwellCell('gh-diverging', badSpec, 'diverge')),
     markdown('gh-diagnosis', `## What the readouts say
 
@@ -217,6 +235,7 @@ chutes, no better than a guess.
 
 The cell below holds that experiment at step 100, restored from the notebook without re-running.
 `),
+    loadMagicCell('ps-kernel'),
     stepwellCell('ps-plateau', badSpec, 100),
     markdown('ps-diagnosis', `## What the readouts say
 
@@ -251,9 +270,14 @@ network of this depth; it is not a guarantee about the production model.*
 function notebook(cells: NbCell[]): Json {
   return {
     cells,
-    // The empty kernelspec is what JupyterLab records for "No Kernel"; without it the notebook
-    // turns dirty the moment it opens. Stepwell cells never need a kernel.
-    metadata: { stepwell_demo: true, kernelspec: { name: '', display_name: '' }, language_info: { name: 'yaml' } },
+    // The Python kernel of ipykernel, as a real Jupyter server offers it, for the ordinary code
+    // cells; stepwell cells never need it. Without kernelspec and language_info JupyterLab writes
+    // them itself, so the notebook would turn dirty the moment it opens.
+    metadata: {
+      stepwell_demo: true,
+      kernelspec: { display_name: 'Python 3 (ipykernel)', language: 'python', name: 'python3' },
+      language_info: { name: 'python' }
+    },
     nbformat: 4,
     nbformat_minor: 5
   };

@@ -72,7 +72,8 @@ export function yamlTargets(y: number[], indent: string, digits: number): string
 
 /** Spec of the humidity-sensor calibration with a given step size. */
 export function greenhouseSpec(lr: number, train: Rows, held: Rows, note: string): string {
-  return `# stepwell — greenhouse humidity-sensor calibration (invented data)
+  return `%%stepwell
+# stepwell — greenhouse humidity-sensor calibration (invented data)
 # ${note}
 seed: 11
 model:
@@ -97,7 +98,8 @@ recipe:
 
 /** Spec of the parcel sorter with a given initialization gain. */
 export function parcelSpec(gain: number, train: Rows, held: Rows, note: string): string {
-  return `# stepwell — depot parcel sorter (invented data)
+  return `%%stepwell
+# stepwell — depot parcel sorter (invented data)
 # ${note}
 seed: 5
 model:

@@ -1,6 +1,7 @@
 /**
  * `stepwell` command line over core + spec: `inspect` (loss, gradient, Hessian products,
- * eigenvalues, gradient audit at the initial point) and `run` (a trajectory from spec + seed).
+ * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed) and
+ * `diagnose` (findings with proposals).
  * Every command prints JSON with `--json` and a readable summary otherwise.
  */
 import { parseArgs } from 'node:util';
@@ -8,6 +9,7 @@ import { CliError, type CommandResult, type Sink } from './io';
 import { inspectCommand } from './inspect';
 import { runCommand } from './run';
 import { exportCommand } from './export';
+import { diagnoseCommand } from './diagnose';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -15,8 +17,10 @@ const USAGE = `usage:
     --trace: tr(H), exact when dense, Hutchinson with its standard error otherwise; --density: SLQ spectral density
   stepwell run SPEC --steps N [--json] [--until COND] [--set KEY=VALUE ...] [--branch STEP:KEY=VALUE[,...]] [--replay]
     COND: loss<VALUE | grad<VALUE | diverged
-    --branch forks a branch at STEP with changed recipe keys and runs it to the same step count
+    --branch forks a branch at STEP with changed keys (as --set takes them) and runs it to the same step count
     --replay re-runs the trajectory from the seed and reports bit-identical / within tolerance / differs
+    KEY: a recipe key (lr, momentum, ...), layers[i].lrScale, or a path from the top (model.init, model.gain,
+    data.standardize, ...); setup keys change what is optimized, so their branch must fork at step 0
     every run stops at the first non-finite loss or weight; its final state is then the last finite one
   stepwell export SPEC [--to pytorch] [--out train.py] [--set KEY=VALUE ...] [--branch 0:KEY=VALUE[,...]]
     a self-contained PyTorch script (float64) of the recipe; \`python train.py --steps N --json\` prints
@@ -24,7 +28,11 @@ const USAGE = `usage:
     the folder of --out (default: the current folder)
   stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
   stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
-  exit status: 0 done, 2 bad input, 3 the loss or the weights became non-finite (unless --until diverged)
+  stepwell diagnose SPEC [--json] [--steps N] [--set KEY=VALUE ...]
+    steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
+    the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
+    that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
+  exit status: 0 done, 2 bad input, 3 run: the loss or the weights became non-finite (unless --until diverged)
   JSON holds NaN and ±Infinity as the strings "NaN", "Infinity" and "-Infinity"
 `;
 
@@ -53,6 +61,12 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
         } });
         out.write(exportCommand(specPath(a.positionals), a.values));
         return 0;
+      }
+      case 'diagnose': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          json: { type: 'boolean' }, steps: { type: 'string' }, set: { type: 'string', multiple: true },
+        } });
+        return report(diagnoseCommand(specPath(a.positionals), a.values), out, err);
       }
       case undefined:
       case '--help':

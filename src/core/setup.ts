@@ -116,6 +116,16 @@ export interface RosenbrockModel {
 
 export type ModelSetup = NetworkModel | QuadraticModel | RosenbrockModel;
 
+/**
+ * The statistics `data.standardize` used: per input column the training rows' mean and population
+ * spread; columns listed in `constant` had one value throughout (spread 0) and were only centred.
+ */
+export interface Standardization {
+  mean: number[];
+  spread: number[];
+  constant: number[];
+}
+
 /** A data set held in memory: `x` is `rows × inputs` row-major; `y` is `rows × targets`. */
 export interface DataSetup {
   rows: number;
@@ -129,6 +139,11 @@ export interface DataSetup {
   heldOut?: { rows: number; x: Float64Array; y: Float64Array };
   /** Present when the data were read from files named in the spec. */
   origin?: DataOrigin;
+  /**
+   * Present when the spec asked for `data.standardize: true`: `x` (and the held-out `x`) hold
+   * the standardized values, and these are the numbers used (`core/data/standardize.ts`).
+   */
+  standardized?: Standardization;
 }
 
 /** What is optimized. `data` and `loss` are absent for analytic objectives. */
@@ -185,7 +200,7 @@ export interface PlateauSchedule {
 /** The schedules a `sequence` may hold: every kind but plateau, onecycle and sequence itself. */
 export type PhaseSchedule = Exclude<ScheduleSetup, { kind: 'plateau' } | { kind: 'onecycle' } | { kind: 'sequence' }>;
 
-/** How the parameters are updated. Every field has a documented default in `schema/`. */
+/** How the parameters are updated. Every field has a documented default in `src/experiment/spec.schema.json`. */
 export interface Recipe {
   optimizer: OptimizerName;
   lr: number;

@@ -1,6 +1,6 @@
 /**
  * The spec layer: reads the text of a stepwell cell (YAML or JSON), validates it against
- * `schema/spec.schema.json` and the cross-field rules, and produces the normalized
+ * `spec.schema.json` and the cross-field rules, and produces the normalized
  * {@link Experiment} with every default applied. Every problem is reported at once,
  * with the path it concerns and its line and column, sorted by position.
  *
@@ -15,8 +15,10 @@ import { readSource } from './source';
 import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
 import { loadSpecFiles, type SpecFiles } from './files';
+import { checkTakenData } from './take';
 
 export { TEMPLATE_SPEC } from './template';
+export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
 export { specFileNames, specFileRefs, type SpecFiles } from './files';
@@ -119,7 +121,8 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
     // A gap between the checks and the builder is a bug of ours; say so instead of throwing.
     return { ok: false, errors: [{ path: '', message: `internal error while building the experiment (please report): ${err instanceof Error ? err.message : String(err)}` }] };
   }
-  return { ok: true, experiment, placedWarnings: cross.warnings.map(where) };
+  const taken = checkTakenData(value);
+  return { ok: true, experiment, placedWarnings: [...cross.warnings, ...(taken ? [taken] : [])].map(where) };
 }
 
 /**

@@ -1,13 +1,14 @@
 /**
  * Turns a spec value that passed the schema and the cross-field checks into the
  * normalized {@link Experiment}: every default applied, data packed row-major into
- * Float64Arrays. Defaults here match the `description`s of `schema/spec.schema.json`.
+ * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
 import type {
   ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
 } from '../core/setup';
 import type { LoadedFiles } from './files';
+import { standardizeData } from '../core/data/standardize';
 
 type Obj = Record<string, unknown>;
 
@@ -71,7 +72,8 @@ function buildData(raw: Obj, inputs: number): DataSetup {
     const hx = h.x as number[][];
     data.heldOut = { rows: hx.length, x: pack(hx, inputs), y: pack(targets(h.y as unknown[]), width) };
   }
-  return data;
+  // Training statistics for both splits; the numbers used are kept in `data.standardized`.
+  return raw.standardize === true ? standardizeData(data) : data;
 }
 
 function buildModel(raw: Obj): ModelSetup {
@@ -187,6 +189,14 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
   };
 }
 
+/** Data read from files, standardized when the spec asks, keeping where they came from. */
+function fileData(data: DataSetup, standardize: boolean): DataSetup {
+  if (!standardize) return data;
+  const out = standardizeData(data);
+  if (data.origin) out.origin = data.origin;
+  return out;
+}
+
 /** Builds the normalized experiment from a validated spec value and the files it names (read by `files.ts`). */
 export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Experiment {
   const spec = obj(value);
@@ -199,6 +209,6 @@ export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Exper
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
-  if (model.kind === 'network') setup.data = loaded.data ?? buildData(obj(spec.data), model.inputs);
+  if (model.kind === 'network') setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);
   return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
 }

@@ -12,7 +12,7 @@
  * patch starts afresh at step 0 instead of carrying the parent's weights ({@link touchesSetup}).
  */
 import { parse as parseYaml, parseDocument, isMap, isScalar } from 'yaml';
-import specSchema from '../../schema/spec.schema.json';
+import specSchema from './spec.schema.json';
 import { closest, formatPath, type Path, type PathSegment } from './path';
 import { parseSpecValue, readSpecValue, type SpecError, type SpecOptions, type SpecResult } from './index';
 import { positionAt } from './source';

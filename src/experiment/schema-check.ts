@@ -1,10 +1,10 @@
 /**
- * Validates a spec value against `schema/spec.schema.json` with ajv and rewords ajv's
+ * Validates a spec value against `spec.schema.json` with ajv and rewords ajv's
  * errors into sentences a practitioner can act on, each with the path it concerns.
  */
 import Ajv from 'ajv';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import specSchema from '../../schema/spec.schema.json';
+import specSchema from './spec.schema.json';
 import { closest, describe, formatPath, placeOf, subject } from './path';
 import type { Path, PathSegment } from './path';
 
@@ -130,7 +130,8 @@ function reword(e: ErrorObject): SchemaProblem | undefined {
     case 'oneOf':
       return { path, message: `${subject(path)} must be ${phrase(parent)}, got ${got}`, atKey: false };
     case 'pattern':
-      // the schema's only patterns are file paths
+      // the schema's patterns: SHA-256 hex digests and relative file paths
+      if ((e.params as { pattern: string }).pattern === '^[0-9a-f]{64}$') return { path, message: `${subject(path)} must be 64 lowercase hex digits (a SHA-256), got ${got}`, atKey: false };
       return { path, message: `${subject(path)} must be a path relative to the spec's folder (no leading /, drive letter or URL), got ${got}`, atKey: false };
     case 'minItems': {
       const n = (e.params as { limit: number }).limit;

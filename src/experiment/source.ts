@@ -35,6 +35,23 @@ export type ReadResult =
   | { ok: true; source: SourceText; warnings: ReadProblem[] }
   | { ok: false; problems: ReadProblem[] };
 
+/**
+ * The first line a stepwell cell may carry so that a Python kernel runs it as the `%%stepwell`
+ * cell magic (which only prints a notice) instead of failing on YAML: `%%stepwell` plus
+ * anything after it on that line. It is not part of the spec.
+ */
+export const MAGIC_LINE = /^%%stepwell(?![\w-])[^\n]*/;
+
+/**
+ * The text with a leading magic line blanked out to spaces of the same length, so every
+ * offset, line and column of the rest is still that of the cell's text (a YAML parser would
+ * otherwise read `%` as the start of a directive).
+ */
+export function maskMagicLine(text: string): string {
+  const m = MAGIC_LINE.exec(text);
+  return m === null ? text : ' '.repeat(m[0].length) + text.slice(m[0].length);
+}
+
 /** Maps 0-based offsets to 1-based line and column. */
 export function positionAt(text: string, offset: number): SourcePosition {
   const clamped = Math.max(0, Math.min(offset, text.length));
@@ -78,10 +95,12 @@ function jsonProblem(text: string): ReadProblem | undefined {
 }
 
 /**
- * Parses `text` as YAML (or strict JSON when `format` is `json`), keeping node ranges.
+ * Parses `cellText` as YAML (or strict JSON when `format` is `json`), keeping node ranges.
+ * A leading `%%stepwell` line is ignored ({@link maskMagicLine}); positions count it.
  * Never throws; syntax problems come back with their positions.
  */
-export function readSource(text: string, format: 'yaml' | 'json'): ReadResult {
+export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResult {
+  const text = maskMagicLine(cellText);
   if (format === 'json') {
     const problem = jsonProblem(text);
     if (problem) return { ok: false, problems: [problem] };

@@ -1,10 +1,13 @@
 /**
  * The text a new stepwell cell starts with: a small, working regression experiment
- * (an invented scenario) whose comments explain each key.
+ * (an invented scenario) whose comments explain each key. Its first line is the
+ * `%%stepwell` magic line, so a Python kernel that runs the cell prints a notice
+ * instead of failing on YAML.
  */
 
 /** YAML of the starting experiment; parses without errors or warnings. */
-export const TEMPLATE_SPEC = `# A stepwell experiment: one small model, its data, a loss and an optimizer recipe.
+export const TEMPLATE_SPEC = `%%stepwell
+# A stepwell experiment: one small model, its data, a loss and an optimizer recipe.
 # Step it one update at a time and read curvature, layer balance and gradient checks.
 # What a small model shows here is evidence about this model, not a guarantee at scale.
 seed: 7                     # every random draw (initial weights, batch order) derives from it

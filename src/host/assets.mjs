@@ -24,7 +24,7 @@ function schemasOf(name) {
   if (!schemaDir || !fs.existsSync(path.join(dir, schemaDir))) return [];
   return fs
     .readdirSync(path.join(dir, schemaDir))
-    .filter(f => f.endsWith('.json') && !f.endsWith('.schema.json'))
+    .filter(f => f.endsWith('.json'))
     .sort()
     .map(f => {
       const file = path.join(dir, schemaDir, f);

@@ -1,12 +1,12 @@
 /**
  * The ledger's one door in: migrate to the current version, validate against
- * `schema/ledger.schema.json`, then check what a schema cannot (base64 decodes to the right
+ * `ledger.schema.json`, then check what a schema cannot (base64 decodes to the right
  * lengths, steps increase, fingerprints match their states, branch names resolve).
  * Every problem is reported as `"<field>: <detail>"`.
  */
 import Ajv from 'ajv';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import ledgerSchema from '../../schema/ledger.schema.json';
+import ledgerSchema from './ledger.schema.json';
 import { fingerprintState } from '../core/session/state-data';
 import { decodeSessionState, decodeTrajectory } from './codec';
 import { migrateLedger } from './migrate';

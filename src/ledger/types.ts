@@ -1,7 +1,7 @@
 /**
  * The ledger: the one value a stepwell cell keeps in notebook metadata. Plain JSON;
  * typed arrays are base64 of little-endian bytes so every number restores bit for bit.
- * The layout is described field by field in `schema/ledger.schema.json`.
+ * The layout is described field by field in `ledger.schema.json`.
  */
 import type { OptimizerName } from '../core/setup';
 

@@ -17,6 +17,9 @@ import { createExecutor } from './executor';
 import { StepwellCells } from './registry';
 import { rendererFactory } from './renderer';
 import { IStepwellCells } from './tokens';
+import { followCellLanguage } from './cell-language';
+import { loadMagicInKernel } from './kernel';
+import { addTakeDataCommand } from './take-command';
 
 /** The id of the plugin that owns schema/plugin.json (settings, toolbar, shortcuts). */
 export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
@@ -83,7 +86,8 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
         checkpointCap: pick('checkpointCap'),
         auditSample: pick('auditSample'),
         denseHessianLimit: pick('denseHessianLimit'),
-        eigenCount: pick('eigenCount')
+        eigenCount: pick('eigenCount'),
+        kernelDataLimit: pick('kernelDataLimit')
       };
     };
     apply();
@@ -93,5 +97,21 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
   }
 }
 
-const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin];
+/** Stepwell cells beside a kernel: YAML editors, the %%stepwell magic loaded, data taken from the kernel. */
+const kernelPlugin: JupyterFrontEndPlugin<void> = {
+  id: 'stepwell:kernel',
+  description: 'Highlights stepwell cells as YAML, loads the %%stepwell magic into Python kernels and takes arrays from the kernel.',
+  autoStart: true,
+  requires: [INotebookTracker, IStepwellCells],
+  optional: [ICommandPalette],
+  activate: (app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells, palette: ICommandPalette | null): void => {
+    tracker.widgetAdded.connect((_, panel) => {
+      followCellLanguage(panel, cells);
+      loadMagicInKernel(panel, cells);
+    });
+    addTakeDataCommand(app, tracker, cells, palette, () => cells.settings.kernelDataLimit);
+  }
+};
+
+const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin];
 export default plugins;

@@ -4,7 +4,7 @@
  * (debounced live spec check) and end with it.
  */
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
-import { parseSpec } from '../experiment';
+import { MAGIC_LINE, parseSpec } from '../experiment';
 import { CellController } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
@@ -16,12 +16,14 @@ import type { IStepwellCells } from './tokens';
 /**
  * The marker line: a code cell whose first line is a YAML comment starting with
  * "stepwell" (or "a stepwell …"), e.g. `# stepwell` or `# A stepwell experiment…`, is a
- * stepwell cell even before it has a ledger.
+ * stepwell cell even before it has a ledger. So is a cell whose first line is the
+ * `%%stepwell` magic line ({@link MAGIC_LINE}).
  */
 export const MARKER = /^#\s*(a\s+)?stepwell\b/i;
 
-/** True when the first line of `source` is the marker line. */
+/** True when the first line of `source` is the marker line or the magic line. */
 export function hasMarker(source: string): boolean {
+  if (MAGIC_LINE.test(source)) return true;
   const first = source.split('\n', 1)[0] ?? '';
   return MARKER.test(first.trim());
 }

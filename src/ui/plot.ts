@@ -2,7 +2,8 @@
  * The thin plotly wrapper: renders a figure description (built by a pure function such as
  * `traceFigure`) into a node, with theme colours read from JupyterLab's CSS variables.
  */
-import Plotly from 'plotly.js-dist-min';
+import Plotly from 'plotly.js-basic-dist-min';
+import type { Data, Layout } from 'plotly.js';
 import type { Figure, FigureTheme } from './trace-figure';
 
 /** Reads the figure theme from the CSS variables in effect at `node`. */
@@ -25,8 +26,8 @@ export async function renderFigure(node: HTMLElement, figure: Figure): Promise<v
   try {
     await Plotly.react(
       node,
-      figure.data as unknown as Plotly.Data[],
-      figure.layout as unknown as Partial<Plotly.Layout>,
+      figure.data as unknown as Data[],
+      figure.layout as unknown as Partial<Layout>,
       { displaylogo: false, responsive: true, modeBarButtonsToRemove: ['select2d', 'lasso2d'] }
     );
   } catch (error) {

@@ -65,6 +65,8 @@ export interface CellSettings {
   denseHessianLimit: number;
   /** Eigenvalues computed by the curvature readout. Default 10. */
   eigenCount: number;
+  /** Most numbers one array taken from the kernel may hold. Default 20000. */
+  kernelDataLimit: number;
 }
 
 /** Defaults of {@link CellSettings} (the same as schema/plugin.json). */
@@ -74,7 +76,8 @@ export const DEFAULT_SETTINGS: CellSettings = {
   checkpointCap: 20,
   auditSample: 200,
   denseHessianLimit: 2000,
-  eigenCount: 10
+  eigenCount: 10,
+  kernelDataLimit: 20000
 };
 
 /** Checks the editor's text live; returns its errors (empty when it parses). */

@@ -1,13 +1,15 @@
 /**
  * Starts an engine in a Web Worker and returns its client. Kept apart from the rest of the
  * worker folder because `import.meta.url` is for the bundler only (unit tests never load it).
+ * The URL names the compiled `.js`: the prebuilt extension bundles `lib/`, and the embedded
+ * app's webpack maps `.js` back to the `.ts` source (`resolve.extensionAlias`).
  */
 import { EngineClient } from './client';
 import type { EngineReply } from './protocol';
 
 /** Starts a new engine worker (one per stepwell cell). */
 export function spawnEngine(): EngineClient {
-  const worker = new Worker(new URL('./engine.worker.ts', import.meta.url));
+  const worker = new Worker(new URL('./engine.worker.js', import.meta.url));
   return new EngineClient({
     postMessage: message => worker.postMessage(message),
     listen: listener => {

@@ -64,7 +64,7 @@ describe('embedded app', () => {
   it('activates the host plugins and every Stepwell plugin, with Stepwell running the cells', async () => {
     expect(await pluginStates(browser.page, '@stepwell/host:')).toEqual({ '@stepwell/host:session-dialogs': true });
     // The app is Stepwell's: a build without its plugins must fail here, not pass quietly.
-    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
+    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:kernel': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
     // The host falls back to JupyterLab's executor (with this warning) only if nobody provides one.
     expect(browser.consoleWarnings.filter(w => /no plugin provides/.test(w))).toEqual([]);
   });
@@ -198,6 +198,36 @@ describe('prebuilt (federated) extensions', () => {
       expect(await pluginStates(browser.page, '@jupyterlab/help-extension:jupyter-forum')).toEqual({
         '@jupyterlab/help-extension:jupyter-forum': true
       });
+      expect(ourErrors(session)).toEqual([]);
+    } finally {
+      await session.close();
+      await server.stop();
+    }
+  });
+
+  it("loads Stepwell's own prebuilt extension in place of the bundled plugins, and a cell steps in its worker", async () => {
+    // `npm run test:e2e` builds it (src/package/wheel.mjs); a lone jest run may not have.
+    const out = path.join(ROOT, 'stepwell', 'labextension');
+    expect(fs.existsSync(path.join(out, 'package.json'))).toBe(true);
+    const server = await startApp({ env: { STEPWELL_LABEXTENSIONS: out } });
+    const session = await launchBrowser();
+    try {
+      expect(server.output()).toContain('serving prebuilt extensions stepwell');
+      await openNotebook(session.page, server.url);
+      // The plugins came from the remote entry: the container registered itself, and all activated.
+      expect(await session.page.evaluate(() => typeof (window as unknown as { _JUPYTERLAB?: Record<string, unknown> })._JUPYTERLAB?.stepwell)).toBe('object');
+      const states = await pluginStates(session.page, 'stepwell:');
+      expect(Object.keys(states).length).toBeGreaterThan(0);
+      expect(Object.values(states).every(Boolean)).toBe(true);
+      const cell = session.page.locator('.sw-CellWidget').first();
+      await cell.waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Button-rewind').click();
+      await cell.locator('.sw-Form input').fill('3');
+      await cell.locator('.sw-Form button', { hasText: 'Rewind' }).click();
+      await cell.locator('.sw-Status', { hasText: /^step 3 ·/ }).waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Button-step').click();
+      await cell.locator('.sw-Status', { hasText: /^step 4 ·/ }).waitFor({ timeout: 30_000 });
+      await screenshot(session.page, 'app-own-prebuilt');
       expect(ourErrors(session)).toEqual([]);
     } finally {
       await session.close();

@@ -196,15 +196,16 @@ describe('stepwell cell in the browser', () => {
     const page = browser.page;
     await openNotebook(page, app.url.replace('greenhouse-humidity-sensor', 'parcel-sorter-plateau'));
     const cells = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .jp-Notebook .jp-Cell');
-    // The plateau cell opens at step 100 from its ledger, and replays bit for bit.
-    const plateau = cells.nth(1);
+    // The plateau cell (after the intro and the Python cell that loads the magic) opens at step
+    // 100 from its ledger, and replays bit for bit.
+    const plateau = cells.nth(2);
     await plateau.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
     await waitForStep(plateau, 100);
     await plateau.locator('.sw-Button-verify').click();
     await plateau.locator('.sw-Notice', { hasText: 'Replayed 100 steps from the seed: bit-identical' }).waitFor({ timeout: 60_000 });
 
     // The fixed recipe has no session yet: Shift+Enter starts it (no kernel involved).
-    const fixed = cells.nth(3);
+    const fixed = cells.nth(4);
     await fixed.scrollIntoViewIfNeeded();
     await fixed.locator('.jp-InputArea-editor').click();
     await page.keyboard.press('Shift+Enter');

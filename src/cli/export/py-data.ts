@@ -12,7 +12,7 @@ export function dataCode(data: DataSetup, loss: LossName, dataDir: string): stri
   const origin = data.origin;
   if (origin === undefined) {
     return [
-      '# the spec\'s inline rows',
+      `# the spec's inline rows${data.standardized ? ' (standardized as data.standardize asked)' : ''}`,
       `X = torch.tensor(${pyFloats(data.x, '')}).reshape(${data.rows}, ${data.inputs})`,
       `Y = torch.tensor(${pyFloats(data.y, '')}).reshape(${data.rows}, ${data.targets})`,
       ...(yCast ? [yCast] : []),
@@ -55,6 +55,15 @@ export function dataCode(data: DataSetup, loss: LossName, dataDir: string): stri
     }
   }
   if (yCast) lines.push(yCast);
+  const st = data.standardized;
+  if (st !== undefined) {
+    lines.push(
+      '# data.standardize: the training rows\' mean and population spread Stepwell computed (a constant column is only centred)',
+      `MEAN = torch.tensor(${pyFloats(st.mean, '')})`,
+      `DIVISOR = torch.tensor(${pyFloats(st.spread.map((s) => (s > 0 ? s : 1)), '')})`,
+      'X = (X - MEAN) / DIVISOR'
+    );
+  }
   lines.push(`assert X.shape == (${data.rows}, ${data.inputs}), f"expected ${data.rows} x ${data.inputs} features, read {tuple(X.shape)}"`);
   return lines;
 }

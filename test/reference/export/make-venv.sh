@@ -16,7 +16,10 @@ if [ -x "$VENV/bin/python" ] && "$VENV/bin/python" -c "import torch, numpy, safe
   exit 0
 fi
 rm -rf "$VENV"
-/usr/bin/python3 -m venv "$VENV"
+# a Python 3.11 with venv and ensurepip (the wheel is cp311): Debian's, else the first on PATH
+PY=/usr/bin/python3
+"$PY" -c 'import venv, ensurepip' 2>/dev/null || PY=python3
+"$PY" -m venv "$VENV"
 if ! ls /opt/wheels/torch-$TORCH+cpu-*.whl >/dev/null 2>&1; then
   echo "export venv: /opt/wheels/torch-$TORCH+cpu-*.whl is missing; without it pip would fetch a multi-GB CUDA build" >&2
   exit 1

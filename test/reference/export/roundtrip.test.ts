@@ -88,6 +88,7 @@ const CASES: Case[] = [
   ['clip-value-then-norm', GELU_CE, '{ optimizer: adam, lr: 0.02, clipValue: 0.05, clipNorm: 0.3 }'],
   ['layer-rates-no-bias-decay', LEAKY, '{ optimizer: adamw, lr: 0.02, weightDecay: 0.1, decayBiases: false, layers: [{ lrScale: 1.5 }, { lrScale: 1 }, { lrScale: 0.25 }] }'],
   ['minibatch-sgd', TANH, '{ optimizer: sgd, lr: 0.1, momentum: 0.9, batch: 5 }'],
+  ['standardized-inline', net('[{ units: 6, activation: tanh }, { units: 2 }]', { ...REG, standardize: true } as never), '{ optimizer: sgd, lr: 0.2, momentum: 0.5 }'],
   ['minibatch-adam-onecycle-layers', GELU_CE, '{ optimizer: adam, lr: 0.02, batch: 8, schedule: { kind: onecycle, steps: 24, peak: 0.25, anneal: linear, threePhase: true }, layers: [{ lrScale: 1 }, { lrScale: 0.5 }, { lrScale: 2 }] }'],
 ];
 
@@ -102,6 +103,11 @@ const FILE_CASES: [string, string, string[]][] = [
     'npz-data-state-dict-weights',
     'seed: 2\nmodel: { inputs: 3, layers: [{ units: 6, activation: tanh }, { units: 1 }], weights: { file: regressor-f64.safetensors } }\ndata: { file: m-f8-be-F.npy, features: [0, 1, 2], target: [3] }\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01, momentum: 0.9 }\nregularization: { l2: 0.001 }\n',
     ['m-f8-be-F.npy', 'regressor-f64.safetensors'],
+  ],
+  [
+    'csv-standardized',
+    'seed: 2\nmodel: { inputs: 2, layers: [{ units: 4, activation: tanh }, { units: 3 }] }\ndata: { file: header.csv, features: [temp, humidity], target: label, standardize: true }\nloss: cross-entropy\nrecipe: { optimizer: sgd, lr: 0.5 }\n',
+    ['header.csv'],
   ],
 ];
 
@@ -161,7 +167,7 @@ describe('export round trip with PyPI torch 2.13.0 (CPU)', () => {
   }, 300_000);
 
   it('runs every optimizer family, schedule and option the brief lists', () => {
-    expect(all.length).toBe(31);
+    expect(all.length).toBe(33);
     const text = all.map((c) => readFileSync(c.spec, 'utf8')).join('\n');
     for (const needle of ['optimizer: sgd', 'nesterov: true', 'optimizer: adam,', 'optimizer: adamw', 'centered: true', 'optimizer: adagrad', 'optimizer: lbfgs', 'clipNorm', 'clipValue', 'lrScale', 'batch: 5', 'kind: step', 'kind: multistep', 'kind: factor', 'kind: exponential', 'kind: inverse-time', 'kind: polynomial', 'kind: cosine', 'kind: restarts', 'kind: onecycle', 'kind: plateau', 'kind: sequence', 'warmup:']) {
       expect(text).toContain(needle);

@@ -1,6 +1,6 @@
 /** The starting text of a new cell parses cleanly; warnings flag legal but suspicious specs; schema defaults agree with the parser. */
 import { parseSpec, RECIPE_DEFAULTS, TEMPLATE_SPEC } from '../../../src/experiment';
-import schema from '../../../schema/spec.schema.json';
+import schema from '../../../src/experiment/spec.schema.json';
 
 describe('TEMPLATE_SPEC', () => {
   it('parses without errors or warnings into a small regression experiment', () => {
