@@ -14,7 +14,7 @@ import { writeNpy, writeSafetensors } from '../core/data';
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { describePatch, patchExperiment, type SpecPatch } from '../experiment/patch';
-import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles } from './io';
+import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, type CommandResult } from './io';
 import { parseBranch } from './run';
 import { NotExportable, pytorchScript } from './export/pytorch';
 import pkg from '../../package.json';
@@ -35,12 +35,14 @@ interface Source {
   label: string;
   patch: SpecPatch;
   specPath: string;
+  /** The spec's warnings, one line each. */
+  warnings: string[];
 }
 
 /** Resolves SOURCE (a spec file) and the --set / --branch patches into one experiment. */
 function resolveSource(path: string, flags: ExportFlags): Source {
-  const { experiment, text, patch } = loadExperiment(path, flags.set);
-  if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path };
+  const { experiment, text, patch, warnings } = loadExperiment(path, flags.set);
+  if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path, warnings };
   const fork = parseBranch(flags.branch);
   if (fork.at !== 0) {
     throw new CliError(`--branch ${flags.branch}: export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is not exported yet (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
@@ -48,7 +50,7 @@ function resolveSource(path: string, flags: ExportFlags): Source {
   const both = { ...patch, ...readOverrides(fork.overrides, '--branch') };
   const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both) });
   if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
-  return { experiment: r.experiment, label: path, patch: both, specPath: path };
+  return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings };
 }
 
 /** Runs `steps` updates and returns the records (record 0 first) and the session. */
@@ -97,10 +99,14 @@ function write(out: string, bytes: Uint8Array | string): void {
   }
 }
 
-/** Runs the command; returns text for stdout ('' when everything went to --out). */
-export function exportCommand(path: string, flags: ExportFlags): string {
-  const to = flags.to ?? 'pytorch';
+/** Runs the command: text for stdout ('' when everything went to --out), the spec's warnings, exit code 0. */
+export function exportCommand(path: string, flags: ExportFlags): CommandResult {
   const src = resolveSource(path, flags);
+  return { out: writeExport(path, flags, src), warnings: src.warnings, code: 0 };
+}
+
+function writeExport(path: string, flags: ExportFlags, src: Source): string {
+  const to = flags.to ?? 'pytorch';
   const e = src.experiment;
   switch (to) {
     case 'pytorch': {

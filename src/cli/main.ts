@@ -59,8 +59,7 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
         } });
-        out.write(exportCommand(specPath(a.positionals), a.values));
-        return 0;
+        return report(exportCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {

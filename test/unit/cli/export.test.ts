@@ -49,13 +49,13 @@ describe('stepwell export --to weights / trajectory', () => {
     expect(lines.length).toBe(8);
     expect(lines.slice(1).map((l) => Number(l.split(',')[1]))).toEqual(run.trajectory.map((r) => r.loss));
     const npy = join(dir, 't.npy');
-    expect(exportCommand(SPEC, { to: 'trajectory', steps: '6', out: npy })).toBe('columns: step, loss, batchLoss, gradNorm, updateNorm, lr, evaluations\n');
+    expect(exportCommand(SPEC, { to: 'trajectory', steps: '6', out: npy }).out).toBe('columns: step, loss, batchLoss, gradNorm, updateNorm, lr, evaluations\n');
     expect(readNpy(new Uint8Array(readFileSync(npy))).shape).toEqual([7, 7]);
   });
   it('refuses what PyTorch cannot express, saying why', () => {
     expect(() => exportCommand(SPEC, { set: ['optimizer=cg'] })).toThrow(new CliError(`${SPEC}: recipe.optimizer 'cg' has no torch.optim counterpart, so it cannot be exported; sgd, adagrad, rmsprop, adam, adamw and lbfgs can`));
     expect(() => exportCommand(SPEC, { branch: '3:lr=0.01' })).toThrow(/a branch forked at step 3 continues the parent's optimizer state, which is not exported yet/);
     expect(() => exportCommand(SPEC, { to: 'weights', steps: '2', out: join(dir, 'w.bin') })).toThrow(/weights are written as .safetensors/);
-    expect(exportCommand(SPEC, { branch: '0:lr=0.01' })).toContain('lr=0.01');
+    expect(exportCommand(SPEC, { branch: '0:lr=0.01' }).out).toContain('lr=0.01');
   });
 });
