@@ -3,8 +3,8 @@
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
-/** Packages the pure numeric core may import (hashing, erf, a dense matrix library). */
-const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix'];
+/** Packages the pure numeric core may import (hashing, erf, a dense matrix library, and the CSV and ZIP parsers the data readers use on bytes). */
+const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix', 'papaparse', 'fflate'];
 
 const escape = (s) => s.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&');
 
@@ -77,7 +77,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
