@@ -4,10 +4,11 @@ import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
 /**
- * Packages the pure numeric core may import: hashing, a dense matrix library, and stdlib-js's
- * plain-JavaScript fdlibm ports behind core/elementary (checked to call no engine Math function).
+ * Packages the pure numeric core may import: hashing, a dense matrix library, the CSV and ZIP
+ * parsers the data readers use on bytes, and stdlib-js's plain-JavaScript fdlibm ports behind
+ * core/elementary (checked to call no engine Math function).
  */
-const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
+const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', 'papaparse', 'fflate', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
 
 /**
  * Math functions whose last bits ECMAScript leaves to the engine ("implementation-approximated"):
@@ -106,7 +107,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {

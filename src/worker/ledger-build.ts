@@ -41,7 +41,9 @@ export function buildCellLedger(input: CellLedgerInput): { value: object; bytes:
     parameterCount: input.parameterCount,
     branches: [{ name: MAIN_BRANCH, trajectory: input.trajectory, checkpoints: [...byStep.values()], head: input.head }],
     activeBranch: MAIN_BRANCH,
-    limits: { maxCheckpoints: Math.max(2, input.checkpointCap) }
+    limits: { maxCheckpoints: Math.max(2, input.checkpointCap) },
+    // the hash of the numbers read from data files (absent for inline data)
+    ...(input.experiment.setup.data?.origin ? { dataHash: input.experiment.setup.data.origin.hash } : {})
   });
   return { value: ledger, bytes: ledgerSize(ledger).bytes };
 }

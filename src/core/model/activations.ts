@@ -6,7 +6,7 @@
  * (when asked) f″, so a layer costs one pass and no per-element dispatch.
  */
 import * as elementary from '../elementary';
-import type { ActivationName } from '../setup';
+import type { ActivationName, ActivationParams } from '../setup';
 
 // Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
 const { erf, exp, expm1, sigmoid: sigmoidFn, softplus: softplusFn, tanh: tanhFn } = elementary;
@@ -23,6 +23,9 @@ export interface Activation {
 
 /** Negative-side slope of `leaky-relu` (PyTorch's default negative_slope). */
 export const LEAKY_SLOPE = 0.01;
+
+/** PyTorch's defaults for the parametrized activations (torch.nn.LeakyReLU, ELU, Softplus). */
+export const ACTIVATION_DEFAULTS: Readonly<ActivationParams> = { slope: LEAKY_SLOPE, alpha: 1, beta: 1, threshold: 20 };
 const INV_SQRT2 = Math.SQRT1_2;
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 
@@ -75,46 +78,56 @@ const relu: Activation = {
   },
 };
 
-const leakyRelu: Activation = {
-  // f = a for a > 0, 0.01·a otherwise; f″ = 0
-  name: 'leaky-relu', identity: false, piecewiseLinear: true,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = LEAKY_SLOPE * x; d1[i] = LEAKY_SLOPE; }
-    }
-    if (d2) d2.fill(0, 0, n);
-  },
-};
-
-const softplus: Activation = {
-  // f = log(1 + e^a) = max(a, 0) + log1p(e^−|a|), f′ = σ(a), f″ = σ(1 − σ).
-  // Unlike PyTorch (threshold 20) it never switches to the identity; the difference is < 3e-9.
-  name: 'softplus', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      const s = logistic(x);
-      f[i] = softplusFn(x);
-      d1[i] = s;
-      if (d2) d2[i] = s * (1 - s);
-    }
-  },
-};
-
-const elu: Activation = {
-  // α = 1: f = a (a > 0) or e^a − 1; f′ = 1 or e^a; f″ = 0 or e^a
-  name: 'elu', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
-        const e = exp(x);
-        f[i] = expm1(x); d1[i] = e; if (d2) d2[i] = e;
+/** Leaky ReLU with negative slope k (torch.nn.LeakyReLU): f = a for a > 0, k·a otherwise; f″ = 0. */
+function leakyRelu(k: number): Activation {
+  return {
+    name: 'leaky-relu', identity: false, piecewiseLinear: true,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = k * x; d1[i] = k; }
       }
-    }
-  },
-};
+      if (d2) d2.fill(0, 0, n);
+    },
+  };
+}
+
+/**
+ * Softplus with β and threshold τ, as torch.nn.Softplus: f = log(1 + e^{βa})/β, computed as
+ * (max(βa, 0) + log1p(e^−|βa|))/β, f′ = σ(βa), f″ = β·σ(1 − σ); where βa > τ, f = a (f′ = 1, f″ = 0).
+ */
+function softplus(beta: number, threshold: number): Activation {
+  return {
+    name: 'softplus', identity: false, piecewiseLinear: false,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        const z = beta * x;
+        if (z > threshold) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; continue; }
+        const s = logistic(z);
+        f[i] = softplusFn(z) / beta; // max(z, 0) + log1p(e^−|z|), core/elementary
+        d1[i] = s;
+        if (d2) d2[i] = beta * s * (1 - s);
+      }
+    },
+  };
+}
+
+/** ELU with α (torch.nn.ELU): f = a (a > 0) or α(e^a − 1); f′ = 1 or α·e^a; f″ = 0 or α·e^a. */
+function elu(alpha: number): Activation {
+  return {
+    name: 'elu', identity: false, piecewiseLinear: false,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
+          const e = alpha * exp(x);
+          f[i] = alpha * expm1(x); d1[i] = e; if (d2) d2[i] = e;
+        }
+      }
+    },
+  };
+}
 
 const gelu: Activation = {
   // Exact (erf) form, PyTorch's default: f = a Φ(a), f′ = Φ + a φ, f″ = φ (2 − a²)
@@ -131,16 +144,20 @@ const gelu: Activation = {
   },
 };
 
-/** Returns the activation for a name; exhaustive over {@link ActivationName}. */
-export function activation(name: ActivationName): Activation {
+/**
+ * Returns the activation for a name; exhaustive over {@link ActivationName}. `params` set the
+ * slope of leaky-relu, α of elu, β and threshold of softplus (PyTorch's defaults otherwise).
+ */
+export function activation(name: ActivationName, params: Partial<ActivationParams> = {}): Activation {
+  const p = { ...ACTIVATION_DEFAULTS, ...params };
   switch (name) {
     case 'linear': return linear;
     case 'tanh': return tanh;
     case 'sigmoid': return sigmoid;
     case 'relu': return relu;
-    case 'leaky-relu': return leakyRelu;
-    case 'softplus': return softplus;
-    case 'elu': return elu;
+    case 'leaky-relu': return leakyRelu(p.slope);
+    case 'softplus': return softplus(p.beta, p.threshold);
+    case 'elu': return elu(p.alpha);
     case 'gelu': return gelu;
     default: {
       const never: never = name;
