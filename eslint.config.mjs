@@ -50,7 +50,7 @@ const coreBlocks = [0, 1, 2, 3, 4].map((depth) => ({
       { selector: "AssignmentExpression[operator='**=']", message: '`**=` is Math.pow, which engines round differently: use powInt or pow from src/core/elementary.' }],
     'no-restricted-globals': ['error', ...['window', 'document', 'self', 'navigator', 'localStorage', 'fetch', 'XMLHttpRequest', 'postMessage'].map((name) => ({
       name, message: 'core/ runs in Node, a Worker and the tests alike: no browser globals.'
-    }))]
+    })), { name: 'structuredClone', message: 'structuredClone is a host API (absent in SpiderMonkey\'s shell and QuickJS): use copyPlain from src/core/plain.ts.' }]
   }
 }));
 

@@ -83,6 +83,9 @@ export const ENGINE_CASES: readonly EngineCase[] = [
   network({ name: 'gelu · cross-entropy · minibatch-lbfgs · batch 12', act: 'gelu', loss: 'cross-entropy', init: 'he-uniform', recipe: { optimizer: 'minibatch-lbfgs', lr: 1, batch: 12, innerSteps: 3 }, steps: 10 }, 10),
   network({ name: 'elu · mse · sgd, weight decay, per-layer rates, batch 5', act: 'elu', loss: 'mse', init: 'he-normal', recipe: { optimizer: 'sgd', lr: 0.05, momentum: 0.5, weightDecay: 1e-3, batch: 5, layers: [{ lrScale: 1 }, { lrScale: 0.5 }, { lrScale: 2 }] } }, 11),
   network({ name: 'linear + tanh · mse · adam · curvature batch', act: 'tanh', loss: 'mse', init: 'orthogonal', hidden: [7], recipe: { optimizer: 'adam', lr: 0.03, batch: 6, curvatureBatch: 9 } }, 12),
+  network({ name: 'tanh · mse · sgd · polynomial schedule, power 0.7', act: 'tanh', loss: 'mse', init: 'glorot-uniform', hidden: [5], recipe: { optimizer: 'sgd', lr: 0.2, schedule: { kind: 'polynomial', steps: 20, power: 0.7 } } }, 14),
+  network({ name: 'softplus · cross-entropy · sgd momentum · warm restarts · batch 8', act: 'softplus', loss: 'cross-entropy', init: 'lecun-normal', hidden: [6], recipe: { optimizer: 'sgd', lr: 0.3, momentum: 0.9, batch: 8, schedule: { kind: 'restarts', period: 6, growth: 2, floor: 0.05 } } }, 15),
+  network({ name: 'sigmoid · mse · adam · one-cycle', act: 'sigmoid', loss: 'mse', init: 'he-normal', hidden: [6], recipe: { optimizer: 'adam', lr: 0.05, schedule: { kind: 'onecycle', steps: 25 } } }, 16),
   { name: 'rosenbrock · adam', steps: 30, spec: { seed: 13, model: { objective: 'rosenbrock' }, recipe: { optimizer: 'adam', lr: 0.05 } } },
 ];
 
