@@ -2,7 +2,8 @@
  * Writes the demo notebooks from our own invented scenarios (seeded, so the output is the
  * same on every run). Pre-run cells are stepped by the same cell controller and engine
  * host the extension uses, inside headless Chromium (prerun.ts), so their ledgers and
- * outputs are exactly what a user would get and replay bit for bit in the browser.
+ * outputs are exactly what a user would get; they replay bit for bit in Node as well
+ * (core's arithmetic is engine-independent; `test/unit/demo/replay.test.ts` checks it).
  *
  * Run: `npx tsx demo-notebooks/make_demos.ts`
  *
@@ -87,7 +88,7 @@ async function prerunInChromium(cells: NbCell[]): Promise<void> {
       if (cell === undefined) throw new Error(`no cell ${r.id}`);
       const head = (r.metadata.stepwell as { branches: { head: { step: number } }[] }).branches[0].head.step;
       const expected = expectedSteps.get(r.id);
-      // The prose was computed in Node; the browser's Math functions differ in the last bits, so check it still holds.
+      // The prose was computed in Node; check that the browser-made ledger tells the same story.
       if (expected !== undefined && head !== expected) throw new Error(`cell ${r.id}: Chromium stopped at step ${head}, the prose says ${expected}`);
       cell.metadata = r.metadata;
       cell.outputs = r.outputs;

@@ -1,8 +1,8 @@
 /**
  * Browser entry of the demo generator: steps stepwell cells through the same controller
- * and engine host as the extension, inside headless Chromium, so the stored ledgers replay
- * bit for bit in the browser (JavaScript engines differ in their Math functions; see
- * DEVELOPERS.md, "Replays and JavaScript engines"). Bundled by make_demos.ts with esbuild; exposes `stepwellPrerun`.
+ * and engine host as the extension, inside headless Chromium, so the notebooks hold exactly
+ * what a user of the browser app would save (and `test/unit/demo/replay.test.ts` shows they
+ * replay bit for bit in Node). Bundled by make_demos.ts with esbuild; exposes `stepwellPrerun`.
  */
 import { CellController } from '../src/ui/controller';
 import { DEFAULT_SETTINGS } from '../src/ui/ports';
@@ -13,8 +13,6 @@ import { checkSpec } from '../src/plugin/registry';
 import { EngineClient } from '../src/worker/client';
 import { inProcessPort } from '../src/worker/in-process';
 import { realCore } from '../src/worker/core-adapter';
-import type { EngineCore, EngineSession } from '../src/worker/engine-core';
-import type { StepRecord } from '../src/core/state';
 
 /** What to do with one cell. */
 export interface PrerunRequest {
@@ -31,20 +29,6 @@ export interface PrerunResult {
   outputs: unknown[];
 }
 
-/** The real core with wall times zeroed, so regenerating gives byte-identical notebooks. */
-const timelessCore: EngineCore = {
-  ...realCore,
-  create: e => timeless(realCore.create(e)),
-  restore: (e, st) => timeless(realCore.restore(e, st))
-};
-
-function timeless(s: EngineSession): EngineSession {
-  return Object.assign(Object.create(s) as EngineSession, {
-    stepOnce: (): StepRecord => ({ ...s.stepOnce(), ms: 0 }),
-    initialRecord: (): StepRecord => ({ ...s.initialRecord(), ms: 0 })
-  });
-}
-
 async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
   const out: PrerunResult = { id: r.id, metadata: {}, outputs: [] };
   const host: CellHost = {
@@ -59,7 +43,7 @@ async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
   };
   const controller = new CellController({
     host,
-    engine: () => new EngineClient(inProcessPort(timelessCore)),
+    engine: () => new EngineClient(inProcessPort(realCore)),
     ledger: ledgerGlue,
     checkSpec,
     settings: () => DEFAULT_SETTINGS
@@ -73,11 +57,21 @@ async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
   return out;
 }
 
-/** Pre-runs every request in order. */
+/**
+ * Pre-runs every request in order, with the page's clock stopped: the step records' wall
+ * times are then 0, so regenerating gives byte-identical notebooks (and the engine host, which
+ * cuts work into slices by the clock, runs each request in one slice).
+ */
 export async function stepwellPrerun(requests: PrerunRequest[]): Promise<PrerunResult[]> {
-  const results: PrerunResult[] = [];
-  for (const r of requests) results.push(await prerunOne(r));
-  return results;
+  const clock = performance.now;
+  performance.now = () => 0;
+  try {
+    const results: PrerunResult[] = [];
+    for (const r of requests) results.push(await prerunOne(r));
+    return results;
+  } finally {
+    performance.now = clock;
+  }
 }
 
 (globalThis as unknown as { stepwellPrerun: typeof stepwellPrerun }).stepwellPrerun = stepwellPrerun;

@@ -11,6 +11,7 @@
  */
 import { DataFileError, inFile } from './errors';
 import { DEFAULT_LIMITS, type DataLimits } from './limits';
+import { powInt } from '../optim/powers';
 
 /** A decoded array: float64 values in C order and the shape. */
 export interface NumericArray {
@@ -61,14 +62,17 @@ function dtype(descr: string, file: string | undefined): { little: boolean; kind
   return { little: order !== '>', kind: (m as RegExpExecArray)[2] as Kind, size: Number((m as RegExpExecArray)[3]) };
 }
 
+/** 2ᵏ for an integer k, exactly (by multiplications, not `**`, whose rounding is the engine's). */
+const pow2 = (k: number): number => (k >= 0 ? powInt(2, k) : 1 / powInt(2, -k));
+
 /** IEEE 754 half precision to double (exact). */
 export function halfToDouble(h: number): number {
   const sign = h & 0x8000 ? -1 : 1;
   const exp = (h >> 10) & 0x1f;
   const frac = h & 0x3ff;
-  if (exp === 0) return sign * frac * 2 ** -24;
+  if (exp === 0) return sign * frac * pow2(-24);
   if (exp === 31) return frac === 0 ? sign * Infinity : NaN;
-  return sign * (1 + frac / 1024) * 2 ** (exp - 15);
+  return sign * (1 + frac / 1024) * pow2(exp - 15);
 }
 
 /** Reads one element at byte offset `at`. */

@@ -5,8 +5,11 @@
  * Each entry evaluates a whole pre-activation slice in one loop, writing f, f′ and
  * (when asked) f″, so a layer costs one pass and no per-element dispatch.
  */
-import erf from '@stdlib/math-base-special-erf';
+import * as elementary from '../elementary';
 import type { ActivationName, ActivationParams } from '../setup';
+
+// Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
+const { erf, exp, expm1, sigmoid: sigmoidFn, softplus: softplusFn, tanh: tanhFn } = elementary;
 
 /** Vectorized activation: writes f(a), f′(a) and optionally f″(a) for a[0..n). */
 export interface Activation {
@@ -26,12 +29,8 @@ export const ACTIVATION_DEFAULTS: Readonly<ActivationParams> = { slope: LEAKY_SL
 const INV_SQRT2 = Math.SQRT1_2;
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 
-/** Logistic function 1/(1+e^−x), evaluated without overflow for either sign. */
-export function logistic(x: number): number {
-  if (x >= 0) return 1 / (1 + Math.exp(-x));
-  const e = Math.exp(x);
-  return e / (1 + e);
-}
+/** Logistic function 1/(1+e^−x) without overflow for either sign (core's engine-independent sigmoid). */
+export const logistic: (x: number) => number = sigmoidFn;
 
 const linear: Activation = {
   name: 'linear', identity: true, piecewiseLinear: true,
@@ -46,7 +45,7 @@ const tanh: Activation = {
   name: 'tanh', identity: false, piecewiseLinear: false,
   eval(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
-      const t = Math.tanh(a[i]);
+      const t = tanhFn(a[i]);
       const g = 1 - t * t;
       f[i] = t; d1[i] = g;
       if (d2) d2[i] = -2 * t * g;
@@ -106,7 +105,7 @@ function softplus(beta: number, threshold: number): Activation {
         const z = beta * x;
         if (z > threshold) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; continue; }
         const s = logistic(z);
-        f[i] = (Math.max(z, 0) + Math.log1p(Math.exp(-Math.abs(z)))) / beta;
+        f[i] = softplusFn(z) / beta; // max(z, 0) + log1p(e^−|z|), core/elementary
         d1[i] = s;
         if (d2) d2[i] = beta * s * (1 - s);
       }
@@ -122,8 +121,8 @@ function elu(alpha: number): Activation {
       for (let i = 0; i < n; i++) {
         const x = a[i];
         if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
-          const e = alpha * Math.exp(x);
-          f[i] = alpha * Math.expm1(x); d1[i] = e; if (d2) d2[i] = e;
+          const e = alpha * exp(x);
+          f[i] = alpha * expm1(x); d1[i] = e; if (d2) d2[i] = e;
         }
       }
     },
@@ -137,7 +136,7 @@ const gelu: Activation = {
     for (let i = 0; i < n; i++) {
       const x = a[i];
       const cdf = 0.5 * (1 + erf(x * INV_SQRT2));
-      const pdf = INV_SQRT_2PI * Math.exp(-0.5 * x * x);
+      const pdf = INV_SQRT_2PI * exp(-0.5 * x * x);
       f[i] = x * cdf;
       d1[i] = cdf + x * pdf;
       if (d2) d2[i] = pdf * (2 - x * x);

@@ -25,17 +25,18 @@
  *   warm-up:      warm = min(1, (t + 1) / warmup), so update `warmup − 1` is the first at full lr
  *                 and no update is wasted at lr 0 (common practice, Goyal et al. 2017); torch's
  *                 LinearLR(start_factor = 1/warmup, total_iters = warmup − 1)
- * Integer powers use {@link powInt} (same bits in every engine); cos and non-integer powers use
- * Math, which engines may round differently in the last bit.
+ * Integer powers use {@link powInt}; cos and non-integer powers core's own `cos` and `pow`
+ * (core/elementary): the same bits in every engine.
  */
 import type { PhaseSchedule, Recipe, ScheduleSetup } from '../setup';
+import { cos, pow } from '../elementary';
 import { powInt } from './powers';
 
 type OneCycle = Extract<ScheduleSetup, { kind: 'onecycle' }>;
 
 /** ½(1 + cos(π·x)) between `from` (x = 0) and `to` (x = 1), as torch's cosine annealing. */
 function cosineBetween(from: number, to: number, x: number): number {
-  return to + ((from - to) / 2) * (Math.cos(Math.PI * x) + 1);
+  return to + ((from - to) / 2) * (cos(Math.PI * x) + 1);
 }
 
 /** OneCycleLR's multiplier of the peak lr at update t (torch 1.13 `OneCycleLR.get_lr`, divided by max_lr). */
@@ -91,11 +92,11 @@ function phaseFactor(schedule: PhaseSchedule | OneCycle, t: number): number {
       return 1 / (1 + schedule.decay * t);
     case 'polynomial': {
       const base = 1 - Math.min(t, schedule.steps) / schedule.steps;
-      return Number.isInteger(schedule.power) ? powInt(base, schedule.power) : Math.pow(base, schedule.power);
+      return Number.isInteger(schedule.power) ? powInt(base, schedule.power) : pow(base, schedule.power);
     }
     case 'cosine': {
       const frac = Math.min(t, schedule.steps) / schedule.steps;
-      return schedule.floor + (1 - schedule.floor) * 0.5 * (1 + Math.cos(Math.PI * frac));
+      return schedule.floor + (1 - schedule.floor) * 0.5 * (1 + cos(Math.PI * frac));
     }
     case 'restarts': {
       const [cur, len] = restartPosition(schedule.period, schedule.growth, t);

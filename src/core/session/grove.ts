@@ -32,6 +32,7 @@ import { planReplay, type ReplayLink } from './replay-legs';
 import { LegTask, runToEnd, type GroveTask, type Leg } from './task';
 import { boundTrajectory, checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
 import { copyCheckpoint, copyExperiment, copyOrigin, copyRecord, sameSetup, type Branch, type BranchOrigin, type BranchPatch, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
+import { copyPlain } from '../plain';
 
 export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
 
@@ -272,7 +273,7 @@ export class Grove {
       trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
       if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
     }
-    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: structuredClone(patch) as BranchPatch, restart }, session, trajectory, checkpoints: [], every: this.every };
+    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: copyPlain(patch), restart }, session, trajectory, checkpoints: [], every: this.every };
     this.branches.set(name, b);
     this.addCheckpoint(b, false);
     return session;

@@ -31,6 +31,7 @@ import { drawOrder, drawSubset, nextBatch, type BatchBuffers, type BatchPosition
 import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';
 import { effectiveBatch } from './adapt';
 import { evaluateStop, type StopCondition } from './stop';
+import { copyPlain } from '../plain';
 
 /** Callbacks for long runs; `shouldStop` is checked between updates. */
 export interface StepHooks {
@@ -334,7 +335,7 @@ function checkState(state: SessionState, fresh: OptimizerState, p: number, n: nu
 }
 
 function copyRecipe(r: Experiment['recipe']): Experiment['recipe'] {
-  return { ...r, schedule: structuredClone(r.schedule), layers: r.layers.map((l) => ({ ...l })) };
+  return { ...r, schedule: copyPlain(r.schedule), layers: r.layers.map((l) => ({ ...l })) };
 }
 
 function now(): number {
