@@ -3,8 +3,22 @@
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
-/** Packages the pure numeric core may import (hashing, erf, a dense matrix library). */
-const CORE_PACKAGES = ['@noble/hashes', '@stdlib/math-base-special-erf', 'ml-matrix'];
+/**
+ * Packages the pure numeric core may import: hashing, a dense matrix library, the CSV and ZIP
+ * parsers the data readers use on bytes, and stdlib-js's plain-JavaScript fdlibm ports behind
+ * core/elementary (checked to call no engine Math function).
+ */
+const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', 'papaparse', 'fflate', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
+
+/**
+ * Math functions whose last bits ECMAScript leaves to the engine ("implementation-approximated"):
+ * V8, SpiderMonkey and QuickJS differ, so core uses its own (core/elementary) and a notebook
+ * stepped in one engine replays bit for bit in another. abs, min, max, floor, ceil, round,
+ * trunc, sign, sqrt, fround, imul and clz32 are exactly specified and stay allowed.
+ */
+const ENGINE_MATH = ['exp', 'expm1', 'log', 'log1p', 'log2', 'log10', 'pow', 'sin', 'cos', 'tan', 'asin', 'acos', 'atan', 'atan2',
+  'sinh', 'cosh', 'tanh', 'asinh', 'acosh', 'atanh', 'cbrt', 'hypot'];
+const RANDOM_RULE = { object: 'Math', property: 'random', message: 'Draw from the session’s seeded Rng.' };
 
 const escape = (s) => s.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&');
 
@@ -28,11 +42,27 @@ const coreBlocks = [0, 1, 2, 3, 4].map((depth) => ({
         { regex: `^(?!\\.|(${CORE_PACKAGES.map(escape).join('|')})(/|$))`, message: `core/ imports only ${CORE_PACKAGES.join(', ')} besides itself.` }
       ]
     }],
+    'no-restricted-properties': ['error', RANDOM_RULE, ...ENGINE_MATH.map((property) => ({
+      object: 'Math', property, message: `Math.${property} rounds differently per JavaScript engine: use ${property} from src/core/elementary (add it there if missing).`
+    }))],
+    'no-restricted-syntax': ['error',
+      { selector: "BinaryExpression[operator='**']", message: '`**` is Math.pow, which engines round differently: use powInt (integer exponents) or pow from src/core/elementary.' },
+      { selector: "AssignmentExpression[operator='**=']", message: '`**=` is Math.pow, which engines round differently: use powInt or pow from src/core/elementary.' }],
     'no-restricted-globals': ['error', ...['window', 'document', 'self', 'navigator', 'localStorage', 'fetch', 'XMLHttpRequest', 'postMessage'].map((name) => ({
       name, message: 'core/ runs in Node, a Worker and the tests alike: no browser globals.'
-    }))]
+    })), { name: 'structuredClone', message: 'structuredClone is a host API (absent in SpiderMonkey\'s shell and QuickJS): use copyPlain from src/core/plain.ts.' }]
   }
 }));
+
+/**
+ * core/probe/ (readouts and findings, recomputed on request, never replayed) may use the
+ * engine's Math; DEVELOPERS.md says so. Everything else in core is on the stepping path or
+ * already engine-independent.
+ */
+const probeBlock = {
+  files: ['src/core/probe/**/*.ts'],
+  rules: { 'no-restricted-properties': ['error', RANDOM_RULE], 'no-restricted-syntax': 'off' }
+};
 
 /** Layers below plugin/ (and what each may not reach). */
 const layerBlocks = [
@@ -77,7 +107,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
@@ -86,7 +116,7 @@ export default tseslint.config(
       '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_', destructuredArrayIgnorePattern: '^_' }],
       '@typescript-eslint/consistent-type-imports': ['error', { fixStyle: 'inline-type-imports' }],
       '@typescript-eslint/no-namespace': 'off',
-      'no-restricted-properties': ['error', { object: 'Math', property: 'random', message: 'Draw from the session’s seeded Rng.' }],
+      'no-restricted-properties': ['error', RANDOM_RULE],
       eqeqeq: ['error', 'always']
     }
   },
@@ -98,6 +128,7 @@ export default tseslint.config(
     }
   },
   ...coreBlocks,
+  probeBlock,
   ...layerBlocks,
   uiBlock,
   {

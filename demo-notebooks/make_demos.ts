@@ -4,8 +4,9 @@
  * with the fix, and the decision record the product wrote below it. The cells are stepped by a
  * script of product actions (step, track the sharpness, fork with a patch, write the record)
  * through the same cell controller and engine host the extension uses, inside headless Chromium
- * (prerun.ts), so their ledgers, outputs and records are exactly what a user would get and
- * replay bit for bit in the browser.
+ * (prerun.ts), so their ledgers, outputs and records are exactly what a user would get; they
+ * replay bit for bit in Node as well (core's arithmetic is engine-independent;
+ * `test/unit/demo/replay.test.ts` checks it).
  *
  * Run: `npx tsx demo-notebooks/make_demos.ts`
  *

@@ -1,8 +1,8 @@
 /**
  * Browser entry of the demo generator: steps stepwell cells through the same controller and
- * engine host as the extension, inside headless Chromium, so the stored ledgers replay bit for
- * bit in the browser (JavaScript engines differ in their Math functions; see DEVELOPERS.md,
- * "Replays and JavaScript engines"). Each cell follows a small script of product actions —
+ * engine host as the extension, inside headless Chromium, so the notebooks hold exactly what a
+ * user of the browser app would save (and `test/unit/demo/replay.test.ts` shows they replay bit
+ * for bit in Node too). Each cell follows a small script of product actions —
  * step, track the sharpness, fork a branch with a patch, write the decision record — and the
  * decision record cell is the one the product writes. Bundled by make_demos.ts with esbuild;
  * exposes `stepwellPrerun`.

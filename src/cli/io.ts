@@ -1,7 +1,9 @@
 /** Shared helpers of the command line: reading specs, reporting errors in one line each. */
 import { readFileSync } from 'node:fs';
-import { parseSpec, type SpecError } from '../experiment';
-import { parseAssignments, patchExperiment, type SpecPatch } from '../experiment/patch';
+import { dirname, resolve } from 'node:path';
+import { parseSpec, readSpecValue, specFileRefs, type SpecError, type SpecFiles } from '../experiment';
+import { formatPath } from '../experiment/path';
+import { applyPatch, parseAssignments, patchExperiment, type SpecPatch } from '../experiment/patch';
 import type { Experiment } from '../core/setup';
 
 /** A failure the CLI reports as `stepwell: …` lines and a non-zero exit code. */
@@ -50,13 +52,37 @@ function specErrorLines(path: string, errors: readonly SpecError[]): string {
  *
  * @returns the experiment, the text, and the patch the overrides made (empty without any).
  */
-export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; warnings: string[] } {
+export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; files: SpecFiles; warnings: string[] } {
   const text = readText(path, 'spec');
   const patch = readOverrides(overrides, '--set');
-  const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch) : parseSpec(text);
+  const files = readSpecFiles(path, text, patch);
+  const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch, { files }) : parseSpec(text, 'auto', { files });
   if (!r.ok) throw new CliError(specErrorLines(path, r.errors));
   const warnings = r.warnings.length > 0 ? specErrorLines(path, r.warnings).split('\n').map((l) => `warning: ${l}`) : [];
-  return { experiment: r.experiment, text, patch, warnings };
+  return { experiment: r.experiment, text, patch, files, warnings };
+}
+
+/**
+ * Reads the files the spec (with `patch` applied) names — data and initial weights — from disk,
+ * relative to the spec file's folder. A file that cannot be read stops the command with the spec
+ * key, the name and the resolved path.
+ */
+export function readSpecFiles(specPath: string, text: string, patch: SpecPatch = {}): Map<string, Uint8Array> {
+  const files = new Map<string, Uint8Array>();
+  const read = readSpecValue(text);
+  if (!read.ok) return files; // the parse that follows reports the syntax errors
+  const applied = Object.keys(patch).length > 0 ? applyPatch(read.value, patch) : { ok: true as const, value: read.value };
+  if (!applied.ok) return files;
+  for (const ref of specFileRefs(applied.value)) {
+    if (files.has(ref.name)) continue;
+    const full = resolve(dirname(specPath), ref.name);
+    try {
+      files.set(ref.name, new Uint8Array(readFileSync(full)));
+    } catch (e) {
+      throw new CliError(`${specPath}: ${formatPath(ref.path)}: cannot read '${ref.name}' (${full}): ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+    }
+  }
+  return files;
 }
 
 /** `KEY=VALUE` strings as a patch, with an error naming `flag` and each bad assignment. */

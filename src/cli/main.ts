@@ -8,6 +8,7 @@ import { parseArgs } from 'node:util';
 import { CliError, type CommandResult, type Sink } from './io';
 import { inspectCommand } from './inspect';
 import { runCommand } from './run';
+import { exportCommand } from './export';
 import { diagnoseCommand } from './diagnose';
 
 const USAGE = `usage:
@@ -21,6 +22,12 @@ const USAGE = `usage:
     KEY: a recipe key (lr, momentum, ...), layers[i].lrScale, or a path from the top (model.init, model.gain,
     data.standardize, ...); setup keys change what is optimized, so their branch must fork at step 0
     every run stops at the first non-finite loss or weight; its final state is then the last finite one
+  stepwell export SPEC [--to pytorch] [--out train.py] [--set KEY=VALUE ...] [--branch 0:KEY=VALUE[,...]]
+    a self-contained PyTorch script (float64) of the recipe; \`python train.py --steps N --json\` prints
+    the full-batch losses \`stepwell run SPEC --steps N --json\` reports; data paths are relative to
+    the folder of --out (default: the current folder)
+  stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
+  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
   stepwell diagnose SPEC [--json] [--steps N] [--set KEY=VALUE ...]
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
@@ -47,6 +54,12 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
         return report(runCommand(specPath(a.positionals), a.values), out, err);
+      }
+      case 'export': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
+        } });
+        return report(exportCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {

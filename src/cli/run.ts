@@ -3,7 +3,7 @@ import { Grove, type StopCondition } from '../core/session';
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { describePatch, patchExperiment, splitAssignments, touchesSetup } from '../experiment/patch';
-import { CliError, loadExperiment, positiveInt, readOverrides, toJson, type CommandResult } from './io';
+import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, toJson, type CommandResult } from './io';
 
 /** Flags of `run`. */
 export interface RunFlags {
@@ -87,7 +87,7 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   const branchPatch = fork ? readOverrides(fork.overrides, '--branch') : undefined;
   let patched: Experiment | undefined;
   if (branchPatch) {
-    const r = patchExperiment(text, { ...patch, ...branchPatch });
+    const r = patchExperiment(text, { ...patch, ...branchPatch }, { files: readSpecFiles(path, text, { ...patch, ...branchPatch }) });
     if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
     patched = r.experiment;
   }
@@ -121,6 +121,8 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   if (flags.json) {
     const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: mainFinal };
     if (main.divergedAt !== undefined) out.divergedAt = main.divergedAt;
+    const origin = experiment.setup.data?.origin;
+    if (origin) out.data = { hash: origin.hash, files: origin.files, ...(origin.classes ? { classes: origin.classes } : {}) };
     if (branch && fork) {
       out.branch = { at: branch.at, set: fork.overrides, trajectory: compact(branch.records), stopped: branch.stopped, final: branchFinal, ...(branch.divergedAt !== undefined ? { divergedAt: branch.divergedAt } : {}) };
     }
@@ -144,6 +146,8 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
     ...divergence(main),
     `fingerprint ${mainFinal.fingerprint}`,
   ];
+  const origin = experiment.setup.data?.origin;
+  if (origin) lines.push(`data ${origin.files.map((f) => f.name).join(', ')}: hash ${origin.hash}${origin.classes ? `; classes ${origin.classes.map((c, i) => `${i}=${c}`).join(', ')}` : ''}`);
   if (branch && fork && branchFinal) {
     lines.push('', `branch at step ${branch.at} with ${fork.overrides.join(', ')}:`, ...table(branch.records),
       `stopped: ${branch.stopped} after ${branchFinal.step} steps; final loss ${branchFinal.loss.toPrecision(8)}`, ...divergence(branch));

@@ -5,11 +5,14 @@
  * generators", ACM TOMS 2021) over four 32-bit words, seeded by SplitMix32 from a
  * non-negative integer seed. Uniform doubles take 53 random bits from two outputs.
  * Normal draws use the Box–Muller transform (one cosine branch per pair; the sine
- * partner is cached in the state so the state stays a plain, serializable record).
+ * partner is cached in the state so the state stays a plain, serializable record), with
+ * core's engine-independent log, sin and cos, so a seed draws the same bits in every engine.
  *
  * `Math.random` never appears in core: the state is data, so a session that
  * serializes its generator and restores it continues the identical stream.
  */
+
+import { cos, log, sin } from './elementary';
 
 /** Serializable generator state: four 32-bit words plus a cached normal deviate. */
 export interface RngState {
@@ -123,10 +126,10 @@ export class Rng {
     let u = 0;
     while (u === 0) u = this.uniform();
     const v = this.uniform();
-    const r = Math.sqrt(-2 * Math.log(u));
+    const r = Math.sqrt(-2 * log(u));
     const theta = 2 * Math.PI * v;
-    this.st.spare = r * Math.sin(theta);
-    return r * Math.cos(theta);
+    this.st.spare = r * sin(theta);
+    return r * cos(theta);
   }
 
   /** In-place Fisher–Yates shuffle of `a` (Durstenfeld's variant). */

@@ -22,10 +22,24 @@ export type InitScheme =
 /** Loss functions (conventions match the major frameworks' mean reductions). */
 export type LossName = 'mse' | 'cross-entropy' | 'binary-cross-entropy';
 
+/**
+ * Parameters of the parametrized activations, PyTorch's names and defaults:
+ * leaky-relu `slope` (negative_slope, 0.01), elu `alpha` (1), softplus `beta` (1) and
+ * `threshold` (20: above β·a > threshold softplus is the identity, as torch.nn.Softplus).
+ */
+export interface ActivationParams {
+  slope: number;
+  alpha: number;
+  beta: number;
+  threshold: number;
+}
+
 /** One dense layer: `units` outputs followed by `activation`. */
 export interface LayerSetup {
   units: number;
   activation: ActivationName;
+  /** Parameters of leaky-relu, elu and softplus; absent means PyTorch's defaults. */
+  params?: Partial<ActivationParams>;
 }
 
 /** Explicit initial parameters of one layer: `weight` is `[units][fanIn]`, `bias` is `[units]`. */
@@ -44,6 +58,46 @@ export interface NetworkModel {
   gain: number;
   /** Explicit initial parameters (override `init`), one entry per layer. */
   weights?: LayerWeights[];
+  /** The file the explicit weights were read from, when they came from one. */
+  weightsOrigin?: FileOrigin;
+}
+
+/** A file an experiment read: its name as the spec wrote it, size and SHA-256 (hex) of its bytes. */
+export interface FileOrigin {
+  name: string;
+  bytes: number;
+  sha256: string;
+}
+
+/**
+ * Where a data set came from when the spec named files (absent for inline data), so a run
+ * can say which data it used and a replay can notice a changed file.
+ */
+export interface DataOrigin {
+  /** Every file read, in order (training, its targets, held-out), with its own hash. */
+  files: FileOrigin[];
+  /** SHA-256 over the numbers actually used (`core/data/hash.ts`): what the ledger's `dataHash` records. */
+  hash: string;
+  /** Class labels in index order, when the target column held text (index i ↔ classes[i]). */
+  classes?: string[];
+  /** How each file was read, for the exported script: the resolved columns and options. */
+  reading: DataReading;
+}
+
+/**
+ * The resolved reading of a data source (after header detection and column lookup):
+ * what an exporter needs to load the same numbers elsewhere.
+ */
+export interface DataReading {
+  format: 'csv' | 'npy' | 'npz';
+  /** CSV: whether the first row was a header; column indices (0-based) of features and targets. */
+  header?: boolean;
+  delimiter?: string;
+  featureColumns?: number[];
+  targetColumns?: number[];
+  /** npz: the member arrays used. */
+  featureArray?: string;
+  targetArray?: string;
 }
 
 /** f(w) = ½ (w − c)ᵀ A (w − c) for a symmetric A. Start defaults to all ones. */
@@ -83,6 +137,8 @@ export interface DataSetup {
   y: Float64Array;
   /** Optional held-out split, same layout. */
   heldOut?: { rows: number; x: Float64Array; y: Float64Array };
+  /** Present when the data were read from files named in the spec. */
+  origin?: DataOrigin;
   /**
    * Present when the spec asked for `data.standardize: true`: `x` (and the held-out `x`) hold
    * the standardized values, and these are the numbers used (`core/data/standardize.ts`).
@@ -112,13 +168,37 @@ export type OptimizerName =
   | 'gauss-newton'
   | 'minibatch-lbfgs';
 
-/** Learning-rate schedules; the multiplier applies to `lr`. */
+/**
+ * Learning-rate schedules; the multiplier applies to `lr` (formulas and PyTorch equivalents in
+ * `core/optim/schedule.ts`). `floor` is always a fraction of lr.
+ */
 export type ScheduleSetup =
   | { kind: 'constant' }
   | { kind: 'step'; every: number; factor: number }
+  | { kind: 'multistep'; milestones: number[]; factor: number }
+  | { kind: 'factor'; factor: number; steps: number }
   | { kind: 'exponential'; gamma: number }
   | { kind: 'inverse-time'; decay: number }
-  | { kind: 'cosine'; steps: number; floor: number };
+  | { kind: 'polynomial'; steps: number; power: number }
+  | { kind: 'cosine'; steps: number; floor: number }
+  | { kind: 'restarts'; period: number; growth: number; floor: number }
+  | { kind: 'onecycle'; steps: number; peak: number; anneal: 'cos' | 'linear'; divisor: number; finalDivisor: number; threePhase: boolean }
+  | PlateauSchedule
+  | { kind: 'sequence'; phases: PhaseSchedule[]; milestones: number[] };
+
+/** Reduce-on-plateau: watches the full-batch loss after every update (state in the optimizer state). */
+export interface PlateauSchedule {
+  kind: 'plateau';
+  factor: number;
+  patience: number;
+  threshold: number;
+  thresholdMode: 'rel' | 'abs';
+  cooldown: number;
+  floor: number;
+}
+
+/** The schedules a `sequence` may hold: every kind but plateau, onecycle and sequence itself. */
+export type PhaseSchedule = Exclude<ScheduleSetup, { kind: 'plateau' } | { kind: 'onecycle' } | { kind: 'sequence' }>;
 
 /** How the parameters are updated. Every field has a documented default in `src/experiment/spec.schema.json`. */
 export interface Recipe {
@@ -128,6 +208,8 @@ export interface Recipe {
   momentum: number;
   /** SGD Nesterov momentum (PyTorch formulation). Default false. */
   nesterov: boolean;
+  /** SGD dampening d: v ← μv + (1 − d)g after the first update (torch.optim.SGD). Default 0. */
+  dampening: number;
   /** Adam family first/second moment decay. Defaults 0.9 / 0.999. */
   beta1: number;
   beta2: number;
@@ -139,20 +221,36 @@ export interface Recipe {
   centered: boolean;
   /** Adam AMSGrad variant. Default false. */
   amsgrad: boolean;
+  /** Adagrad step decay: η / (1 + (t − 1)·lrDecay) at update t ≥ 1 (torch lr_decay). Default 0. */
+  lrDecay: number;
+  /** Adagrad's starting sum of squares (torch initial_accumulator_value). Default 0. */
+  initialAccumulator: number;
   /** L2 penalty added to the gradient (sgd/adam/…), or decoupled decay for adamw. Default 0 (adamw: 0.01). */
   weightDecay: number;
+  /** Whether `weightDecay` also applies to biases (torch applies it to every parameter of a group). Default true. */
+  decayBiases: boolean;
   /** `full` or a mini-batch size (rows per step), reshuffled by the seed every epoch. */
   batch: 'full' | number;
   /** Learning-rate schedule. Default constant. */
   schedule: ScheduleSetup;
   /** Linear warm-up steps from 0 to lr. Default 0. */
   warmup: number;
-  /** Clip the gradient's global norm to this value; 0 disables. Default 0. */
+  /** Clip the gradient's global norm to this value (torch clip_grad_norm_: scale max/(‖g‖ + 1e-6)); 0 disables. Default 0. */
   clipNorm: number;
+  /** Clamp every gradient entry to [−clipValue, clipValue] (torch clip_grad_value_), before clipNorm; 0 disables. Default 0. */
+  clipValue: number;
   /** Per-layer learning-rate multipliers (index = layer), default 1 each. */
   layers: { lrScale: number }[];
   /** L-BFGS history length m. Default 10. */
   history: number;
+  /** L-BFGS iterations per step (torch max_iter). Default 1 (torch's default is 20). */
+  maxIter: number;
+  /** L-BFGS objective evaluations per step before it stops iterating (torch max_eval). Default ⌊maxIter·5/4⌋. */
+  maxEval: number;
+  /** L-BFGS stops when max|g| ≤ this (torch tolerance_grad). Default 1e-7. */
+  toleranceGrad: number;
+  /** L-BFGS stops when a step or loss change is below this (torch tolerance_change). Default 1e-9. */
+  toleranceChange: number;
   /** Line search for L-BFGS / CG: strong Wolfe (default), Brent exact, or none. */
   lineSearch: 'strong-wolfe' | 'brent' | 'none';
   /** Nonlinear CG variant. Default `polak-ribiere`. */

@@ -30,6 +30,13 @@ const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFin
 export const KEY_USERS: Readonly<Record<string, readonly string[]>> = {
   momentum: ['sgd', 'rmsprop'],
   nesterov: ['sgd'],
+  dampening: ['sgd'],
+  lrDecay: ['adagrad'],
+  initialAccumulator: ['adagrad'],
+  maxIter: ['lbfgs'],
+  maxEval: ['lbfgs'],
+  toleranceGrad: ['lbfgs', 'minibatch-lbfgs'],
+  toleranceChange: ['lbfgs', 'minibatch-lbfgs'],
   beta1: ['adam', 'adamw'],
   beta2: ['adam', 'adamw'],
   amsgrad: ['adam', 'adamw'],
@@ -189,12 +196,20 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
   const last = layers[layers.length - 1];
   const outUnits = isObj(last) && isPosInt(last.units) ? last.units : undefined;
   const loss = typeof spec.loss === 'string' ? spec.loss : 'mse';
-  if (Array.isArray(model.weights)) {
-    checkWeights(model.weights, layers, inputs, report);
+  if (Array.isArray(model.weights) || isObj(model.weights)) {
+    if (Array.isArray(model.weights)) checkWeights(model.weights, layers, inputs, report);
     for (const key of ['init', 'gain'])
       if (model[key] !== undefined)
         report.warnings.push({ path: ['model', key], atKey: true, message: `model.${key} is ignored because model.weights gives the initial parameters` });
   }
+  const PARAM_OF: Record<string, string> = { slope: 'leaky-relu', alpha: 'elu', beta: 'softplus', threshold: 'softplus' };
+  layers.forEach((layer, k) => {
+    if (!isObj(layer)) return;
+    const act = typeof layer.activation === 'string' ? layer.activation : 'linear';
+    for (const [key, owner] of Object.entries(PARAM_OF))
+      if (layer[key] !== undefined && act !== owner)
+        report.warnings.push({ path: ['model', 'layers', k, key], atKey: true, message: `model.layers[${k}].${key} applies to ${owner}, not to ${act}, so it has no effect` });
+  });
   if (loss === 'cross-entropy' && isObj(last)) {
     if (outUnits === 1)
       report.errors.push({ path: ['model', 'layers', layers.length - 1, 'units'], message: `cross-entropy needs at least 2 units in the last layer (one logit per class), got 1; use binary-cross-entropy for two classes with one unit` });
@@ -280,6 +295,32 @@ function checkRecipe(recipe: Obj, report: CheckReport): void {
   }
   if (opt === 'sgd' && recipe.nesterov === true && !(isNum(recipe.momentum) && recipe.momentum > 0))
     report.errors.push({ path: ['recipe', 'nesterov'], message: 'recipe.nesterov needs recipe.momentum > 0 (Nesterov momentum with zero momentum is undefined, as in PyTorch)' });
+  if (opt === 'sgd' && recipe.nesterov === true && isNum(recipe.dampening) && recipe.dampening !== 0)
+    report.errors.push({ path: ['recipe', 'dampening'], message: 'recipe.dampening must be 0 with Nesterov momentum (torch.optim.SGD refuses the combination)' });
+  if (opt === 'lbfgs' && isPosInt(recipe.maxIter) && isPosInt(recipe.maxEval) && recipe.maxEval < recipe.maxIter)
+    report.warnings.push({ path: ['recipe', 'maxEval'], message: `recipe.maxEval (${recipe.maxEval}) is below recipe.maxIter (${recipe.maxIter}), so the evaluation budget ends a step first` });
+  const sched = isObj(recipe.schedule) ? recipe.schedule : undefined;
+  if (sched?.kind === 'onecycle' && isPosInt(recipe.warmup))
+    report.errors.push({ path: ['recipe', 'warmup'], message: 'recipe.warmup cannot be combined with a onecycle schedule, which rises to lr itself (its peak); remove warmup or set schedule.peak' });
+  if (sched?.kind === 'sequence' && Array.isArray(sched.phases)) {
+    sched.phases.forEach((p, i) => {
+      const kind = isObj(p) ? p.kind : undefined;
+      if (kind === 'plateau' || kind === 'onecycle' || kind === 'sequence')
+        report.errors.push({ path: ['recipe', 'schedule', 'phases', i, 'kind'], message: `recipe.schedule.phases[${i}] cannot be ${String(kind)}: a sequence holds schedules that are functions of the step alone (as torch's SequentialLR)` });
+    });
+    if (Array.isArray(sched.milestones) && sched.milestones.length !== sched.phases.length - 1)
+      report.errors.push({ path: ['recipe', 'schedule', 'milestones'], message: `recipe.schedule.milestones has ${sched.milestones.length} entries, but ${sched.phases.length} phases need ${sched.phases.length - 1}` });
+    if (increasingFails(sched.milestones))
+      report.errors.push({ path: ['recipe', 'schedule', 'milestones'], message: 'recipe.schedule.milestones must increase' });
+  }
+  if (sched?.kind === 'multistep' && increasingFails(sched.milestones))
+    report.errors.push({ path: ['recipe', 'schedule', 'milestones'], message: 'recipe.schedule.milestones must increase' });
+  if (sched?.kind === 'onecycle' && isPosInt(sched.steps)) {
+    const peak = isNum(sched.peak) ? sched.peak : 0.3;
+    const three = sched.threePhase === true;
+    if (!(peak * sched.steps - 1 > 0 && (three ? 2 * peak * sched.steps - 2 : peak * sched.steps - 1) < sched.steps - 1))
+      report.errors.push({ path: ['recipe', 'schedule', 'peak'], message: `recipe.schedule.peak ${peak} leaves a phase of the ${sched.steps}-step cycle without a step; raise steps or move the peak` });
+  }
   if ((opt === 'sgd' || opt === 'rmsprop') && isNum(recipe.momentum) && recipe.momentum >= 1)
     report.warnings.push({ path: ['recipe', 'momentum'], message: `recipe.momentum is ${recipe.momentum}; with μ ≥ 1 the velocity never decays and the iteration cannot settle` });
 }
@@ -301,4 +342,9 @@ export function crossCheck(spec: unknown): CheckReport {
   }
   if (isObj(spec.recipe)) checkRecipe(spec.recipe, report);
   return report;
+}
+
+/** True when `list` is a list of numbers that fails to increase somewhere. */
+function increasingFails(list: unknown): boolean {
+  return Array.isArray(list) && list.some((m, i) => i > 0 && isNum(m) && isNum(list[i - 1]) && m <= (list[i - 1] as number));
 }

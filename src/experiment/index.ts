@@ -14,12 +14,20 @@ import { formatPath } from './path';
 import { readSource } from './source';
 import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
+import { loadSpecFiles, type SpecFiles } from './files';
 import { checkTakenData } from './take';
 
 export { TEMPLATE_SPEC } from './template';
 export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
+export { specFileNames, specFileRefs, type SpecFiles } from './files';
+
+/** Options of {@link parseSpec}. */
+export interface SpecOptions {
+  /** Bytes of the files the spec names (data, weights), keyed by the name as written; see `files.ts`. */
+  files?: SpecFiles;
+}
 
 /**
  * One problem with a spec. `message` is a complete sentence that already names the
@@ -81,7 +89,7 @@ function finish(list: Placed[]): SpecError[] {
  * @param format - `auto` (default) reads YAML, which includes JSON; `json` insists on strict JSON syntax.
  * @returns the normalized experiment with warnings, or all errors sorted by position. Never throws on bad input.
  */
-export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto'): SpecResult {
+export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto', options: SpecOptions = {}): SpecResult {
   if (typeof text !== 'string') return { ok: false, errors: [{ path: '', message: `the spec must be text, got ${typeof text}` }] };
   const read = readSource(text, format === 'json' ? 'json' : 'yaml');
   if (!read.ok) return { ok: false, errors: finish(read.problems.map(fromRead)) };
@@ -93,20 +101,22 @@ export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto
     const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value)}` });
     return { ok: false, errors: finish([e]) };
   }
-  const checked = checkValue(value, (p) => place(source, p));
+  const checked = checkValue(value, (p) => place(source, p), options);
   if (!checked.ok) return checked;
   return { ok: true, experiment: checked.experiment, warnings: finish([...read.warnings.map(fromRead), ...checked.placedWarnings]) };
 }
 
 /** Schema and cross-field checks of a plain spec value, then the build; problems placed by `where`. */
-function checkValue(value: object, where: (p: CheckProblem) => Placed): { ok: false; errors: SpecError[] } | { ok: true; experiment: Experiment; placedWarnings: Placed[] } {
+function checkValue(value: object, where: (p: CheckProblem) => Placed, options: SpecOptions): { ok: false; errors: SpecError[] } | { ok: true; experiment: Experiment; placedWarnings: Placed[] } {
   const schemaProblems = checkSchema(value);
   const cross = crossCheck(value);
   const errors = [...schemaProblems.map(where), ...cross.errors.map(where)];
   if (errors.length > 0) return { ok: false, errors: finish(errors) };
+  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files);
+  if (problems.length > 0) return { ok: false, errors: finish(problems.map(where)) };
   let experiment: Experiment;
   try {
-    experiment = buildExperiment(value);
+    experiment = buildExperiment(value, loaded);
   } catch (err) {
     // A gap between the checks and the builder is a bug of ours; say so instead of throwing.
     return { ok: false, errors: [{ path: '', message: `internal error while building the experiment (please report): ${err instanceof Error ? err.message : String(err)}` }] };
@@ -119,12 +129,12 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed): { ok: fa
  * Validates a plain spec value (already read from text, e.g. with a patch applied) into an
  * experiment. Problems carry their path but no line or column: the value has no text.
  */
-export function parseSpecValue(value: unknown): SpecResult {
+export function parseSpecValue(value: unknown, options: SpecOptions = {}): SpecResult {
   if (typeof value !== 'object' || value === null || Array.isArray(value)) {
     return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value) ?? 'nothing'}` }] };
   }
   const unplaced = (p: CheckProblem): Placed => ({ path: formatPath(p.path), message: p.message, offset: Number.MAX_SAFE_INTEGER });
-  const checked = checkValue(value, unplaced);
+  const checked = checkValue(value, unplaced, options);
   return checked.ok ? { ok: true, experiment: checked.experiment, warnings: finish(checked.placedWarnings) } : checked;
 }
 

@@ -4,9 +4,10 @@
  * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
 import type {
-  ActivationName, DataSetup, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
+  ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
 } from '../core/setup';
+import type { LoadedFiles } from './files';
 import { standardizeData } from '../core/data/standardize';
 
 type Obj = Record<string, unknown>;
@@ -18,10 +19,14 @@ const strOr = <T extends string>(v: unknown, d: T): T => (typeof v === 'string' 
 const vec = (v: unknown): number[] => (v as number[]).slice();
 const mat = (v: unknown): number[][] => (v as number[][]).map((r) => r.slice());
 
-/** Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw. */
+/**
+ * Recipe defaults (PyTorch's where it has one). `weightDecay` is 0, or 0.01 for adamw; `maxIter`
+ * is 1 (one L-BFGS iteration per step; torch's default is 20) and `maxEval` {@link defaultMaxEval}.
+ */
 export const RECIPE_DEFAULTS: Readonly<Omit<Recipe, 'layers' | 'schedule'>> = {
-  optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
-  centered: false, amsgrad: false, weightDecay: 0, batch: 'full', warmup: 0, clipNorm: 0, history: 10,
+  optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, dampening: 0, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
+  centered: false, amsgrad: false, lrDecay: 0, initialAccumulator: 0, weightDecay: 0, decayBiases: true, batch: 'full',
+  warmup: 0, clipNorm: 0, clipValue: 0, history: 10, maxIter: 1, maxEval: 26, toleranceGrad: 1e-7, toleranceChange: 1e-9,
   lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3, innerSteps: 10, curvatureBatch: 'same',
 };
 
@@ -34,6 +39,15 @@ export const UNIT_STEP_OPTIMIZERS: readonly OptimizerName[] = ['lbfgs', 'cg', 'n
 /** The default `lr` of an optimizer: 1 for line-search and Newton families, else 0.01. */
 export function defaultLr(optimizer: OptimizerName): number {
   return UNIT_STEP_OPTIMIZERS.includes(optimizer) ? 1 : RECIPE_DEFAULTS.lr;
+}
+
+/**
+ * Default `maxEval`: torch's ⌊maxIter·5/4⌋, except 26 for a single iteration, so that its
+ * line search keeps 25 trials (torch ≥ 2.0 gives a search maxEval minus the evaluations made,
+ * which torch's own default leaves at 0 for max_iter 1; torch 1.13 gave 25).
+ */
+export function defaultMaxEval(maxIter: number): number {
+  return maxIter === 1 ? 26 : Math.floor((maxIter * 5) / 4);
 }
 
 /** Packs rows into one row-major Float64Array. */
@@ -75,10 +89,13 @@ function buildModel(raw: Obj): ModelSetup {
     };
   }
   if (objective === 'rosenbrock') return { kind: 'rosenbrock', start: raw.start !== undefined ? vec(raw.start) : [-1.2, 1] };
-  const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => ({
-    units: l.units as number,
-    activation: strOr<ActivationName>(l.activation, 'linear'),
-  }));
+  const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => {
+    const layer: LayerSetup = { units: l.units as number, activation: strOr<ActivationName>(l.activation, 'linear') };
+    const params: Partial<ActivationParams> = {};
+    for (const k of ['slope', 'alpha', 'beta', 'threshold'] as const) if (typeof l[k] === 'number') params[k] = l[k] as number;
+    if (Object.keys(params).length > 0) layer.params = params;
+    return layer;
+  });
   const model: ModelSetup = {
     kind: 'network',
     inputs: raw.inputs as number,
@@ -86,7 +103,7 @@ function buildModel(raw: Obj): ModelSetup {
     init: strOr<InitScheme>(raw.init, 'lecun-normal'),
     gain: numOr(raw.gain, 1),
   };
-  if (raw.weights !== undefined)
+  if (Array.isArray(raw.weights))
     model.weights = (raw.weights as Obj[]).map((w): LayerWeights => ({ weight: mat(w.weight), bias: vec(w.bias) }));
   return model;
 }
@@ -95,6 +112,26 @@ function buildSchedule(raw: unknown): ScheduleSetup {
   if (raw === undefined) return { kind: 'constant' };
   const s = obj(raw);
   switch (s.kind as ScheduleSetup['kind']) {
+    case 'multistep':
+      return { kind: 'multistep', milestones: vec(s.milestones), factor: numOr(s.factor, 0.1) };
+    case 'factor':
+      return { kind: 'factor', factor: s.factor as number, steps: s.steps as number };
+    case 'polynomial':
+      return { kind: 'polynomial', steps: s.steps as number, power: numOr(s.power, 1) };
+    case 'restarts':
+      return { kind: 'restarts', period: s.period as number, growth: numOr(s.growth, 1), floor: numOr(s.floor, 0) };
+    case 'onecycle':
+      return {
+        kind: 'onecycle', steps: s.steps as number, peak: numOr(s.peak, 0.3), anneal: strOr<'cos' | 'linear'>(s.anneal, 'cos'),
+        divisor: numOr(s.divisor, 25), finalDivisor: numOr(s.finalDivisor, 1e4), threePhase: boolOr(s.threePhase, false),
+      };
+    case 'plateau':
+      return {
+        kind: 'plateau', factor: numOr(s.factor, 0.1), patience: numOr(s.patience, 10), threshold: numOr(s.threshold, 1e-4),
+        thresholdMode: strOr<'rel' | 'abs'>(s.thresholdMode, 'rel'), cooldown: numOr(s.cooldown, 0), floor: numOr(s.floor, 0),
+      };
+    case 'sequence':
+      return { kind: 'sequence', phases: (s.phases as unknown[]).map((p) => buildSchedule(p) as PhaseSchedule), milestones: vec(s.milestones) };
     case 'constant':
       return { kind: 'constant' };
     case 'step':
@@ -112,6 +149,7 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
   const d = RECIPE_DEFAULTS;
   const optimizer = strOr<OptimizerName>(raw.optimizer, d.optimizer);
   const batch = raw.batch === undefined ? d.batch : (raw.batch as Recipe['batch']);
+  const maxIter = numOr(raw.maxIter, d.maxIter);
   const curvatureBatch = raw.curvatureBatch === undefined ? d.curvatureBatch : (raw.curvatureBatch as Recipe['curvatureBatch']);
   const layers = Array.isArray(raw.layers)
     ? (raw.layers as Obj[]).map((l) => ({ lrScale: l.lrScale as number }))
@@ -121,19 +159,28 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
     lr: numOr(raw.lr, defaultLr(optimizer)),
     momentum: numOr(raw.momentum, d.momentum),
     nesterov: boolOr(raw.nesterov, d.nesterov),
+    dampening: numOr(raw.dampening, d.dampening),
     beta1: numOr(raw.beta1, d.beta1),
     beta2: numOr(raw.beta2, d.beta2),
     eps: numOr(raw.eps, d.eps),
     alpha: numOr(raw.alpha, d.alpha),
     centered: boolOr(raw.centered, d.centered),
     amsgrad: boolOr(raw.amsgrad, d.amsgrad),
+    lrDecay: numOr(raw.lrDecay, d.lrDecay),
+    initialAccumulator: numOr(raw.initialAccumulator, d.initialAccumulator),
     weightDecay: numOr(raw.weightDecay, optimizer === 'adamw' ? 0.01 : d.weightDecay),
+    decayBiases: boolOr(raw.decayBiases, d.decayBiases),
     batch,
     schedule: buildSchedule(raw.schedule),
     warmup: numOr(raw.warmup, d.warmup),
     clipNorm: numOr(raw.clipNorm, d.clipNorm),
+    clipValue: numOr(raw.clipValue, d.clipValue),
     layers,
     history: numOr(raw.history, d.history),
+    maxIter,
+    maxEval: numOr(raw.maxEval, defaultMaxEval(maxIter)),
+    toleranceGrad: numOr(raw.toleranceGrad, d.toleranceGrad),
+    toleranceChange: numOr(raw.toleranceChange, d.toleranceChange),
     lineSearch: strOr<Recipe['lineSearch']>(raw.lineSearch, d.lineSearch),
     cgVariant: strOr<Recipe['cgVariant']>(raw.cgVariant, d.cgVariant),
     damping: numOr(raw.damping, d.damping),
@@ -142,14 +189,26 @@ function buildRecipe(raw: Obj, layerCount: number): Recipe {
   };
 }
 
-/** Builds the normalized experiment from a validated spec value. */
-export function buildExperiment(value: unknown): Experiment {
+/** Data read from files, standardized when the spec asks, keeping where they came from. */
+function fileData(data: DataSetup, standardize: boolean): DataSetup {
+  if (!standardize) return data;
+  const out = standardizeData(data);
+  if (data.origin) out.origin = data.origin;
+  return out;
+}
+
+/** Builds the normalized experiment from a validated spec value and the files it names (read by `files.ts`). */
+export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Experiment {
   const spec = obj(value);
   const model = buildModel(obj(spec.model));
+  if (model.kind === 'network' && loaded.weights !== undefined) {
+    model.weights = loaded.weights.layers;
+    model.weightsOrigin = loaded.weights.origin;
+  }
   const loss = strOr<LossName>(spec.loss, 'mse');
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
-  if (model.kind === 'network') setup.data = buildData(obj(spec.data), model.inputs);
+  if (model.kind === 'network') setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);
   return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
 }

@@ -14,7 +14,7 @@
 import { parse as parseYaml, parseDocument, isMap, isScalar, stringify as stringifyYaml } from 'yaml';
 import specSchema from './spec.schema.json';
 import { closest, formatPath, type Path, type PathSegment } from './path';
-import { parseSpecValue, readSpecValue, type SpecError, type SpecResult } from './index';
+import { parseSpecValue, readSpecValue, type SpecError, type SpecOptions, type SpecResult } from './index';
 import { positionAt } from './source';
 
 /** A JSON value a patch may set. */
@@ -237,12 +237,12 @@ export function applyPatch(spec: unknown, patch: SpecPatch): { ok: true; value: 
  * The experiment of `specText` with `patch` applied, validated like a spec. Problems of the text
  * itself keep their line and column; problems the patch introduces name the patched key.
  */
-export function patchExperiment(specText: string, patch: SpecPatch): SpecResult {
+export function patchExperiment(specText: string, patch: SpecPatch, options: SpecOptions = {}): SpecResult {
   const read = readSpecValue(specText);
   if (!read.ok) return read;
   const applied = applyPatch(read.value, patch);
   if (!applied.ok) return applied;
-  const result = parseSpecValue(applied.value);
+  const result = parseSpecValue(applied.value, options);
   if (result.ok) return result;
   const keys = Object.keys(patch).map((k) => {
     const p = patchPath(k);

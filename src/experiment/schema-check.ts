@@ -129,6 +129,10 @@ function reword(e: ErrorObject): SchemaProblem | undefined {
     case 'anyOf':
     case 'oneOf':
       return { path, message: `${subject(path)} must be ${phrase(parent)}, got ${got}`, atKey: false };
+    case 'pattern':
+      // the schema's patterns: SHA-256 hex digests and relative file paths
+      if ((e.params as { pattern: string }).pattern === '^[0-9a-f]{64}$') return { path, message: `${subject(path)} must be 64 lowercase hex digits (a SHA-256), got ${got}`, atKey: false };
+      return { path, message: `${subject(path)} must be a path relative to the spec's folder (no leading /, drive letter or URL), got ${got}`, atKey: false };
     case 'minItems': {
       const n = (e.params as { limit: number }).limit;
       return { path, message: `${subject(path)} must have at least ${n} ${n === 1 ? 'entry' : 'entries'}, got ${got}`, atKey: false };

@@ -1,9 +1,10 @@
 // Makes the README's two commands work on a fresh clone: installs the npm dependencies when
-// node_modules is missing or does not match package-lock.json, and (with --chromium) installs
-// Debian's chromium for the browser tests when it is missing. Uses Node built-ins only, since it
-// runs before anything is installed.
+// node_modules is missing or does not match package-lock.json, with --chromium Debian's chromium
+// (browser tests, four-engine replay) and with --js-shell Debian's libmozjs-102-dev (its `js102`
+// SpiderMonkey shell runs the four-engine replay) when they are missing. Uses Node built-ins
+// only, since it runs before anything is installed.
 //
-//   node src/host/ensure-deps.mjs [--chromium]
+//   node src/host/ensure-deps.mjs [--chromium] [--js-shell]
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
@@ -54,24 +55,38 @@ export function ensureDependencies() {
   fs.writeFileSync(STAMP, hash + '\n');
 }
 
-/** Installs Debian's chromium (and a font for readable screenshots) when the browser tests would not find it. */
-export function ensureChromium() {
-  const wanted = process.env.STEPWELL_CHROMIUM || '/usr/bin/chromium';
+/**
+ * Installs Debian packages with apt-get (as root, or through `sudo -n`) unless `binary` exists;
+ * `envName` names the variable that points at another binary instead.
+ */
+function ensureDebian(binary, envName, packages, why) {
+  const wanted = process.env[envName] || binary;
   if (fs.existsSync(wanted)) return;
-  if (process.env.STEPWELL_CHROMIUM) throw new Error(`STEPWELL_CHROMIUM names ${wanted}, which does not exist`);
+  if (process.env[envName]) throw new Error(`${envName} names ${wanted}, which does not exist`);
   const root = typeof process.getuid === 'function' && process.getuid() === 0;
   const run = (args) => spawnSync(root ? args[0] : 'sudo', root ? args.slice(1) : ['-n', ...args], { stdio: 'inherit', env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' } });
-  say('the browser tests need Debian chromium: installing it with apt-get');
-  const ok = run(['apt-get', 'update']).status === 0 && run(['apt-get', 'install', '-y', '--no-install-recommends', 'chromium', 'fonts-dejavu-core']).status === 0;
+  say(`${why} need Debian ${packages[0]}: installing it with apt-get`);
+  const ok = run(['apt-get', 'update']).status === 0 && run(['apt-get', 'install', '-y', '--no-install-recommends', ...packages]).status === 0;
   if (!ok || !fs.existsSync(wanted)) {
-    throw new Error('could not install chromium; install it with `sudo apt-get install chromium` (Debian) or set STEPWELL_CHROMIUM to a Chromium binary');
+    throw new Error(`could not install ${packages[0]}; install it with \`sudo apt-get install ${packages[0]}\` (Debian) or set ${envName} to the binary`);
   }
+}
+
+/** Installs Debian's chromium (and a font for readable screenshots) when the browser tests would not find it. */
+export function ensureChromium() {
+  ensureDebian('/usr/bin/chromium', 'STEPWELL_CHROMIUM', ['chromium', 'fonts-dejavu-core'], 'the browser tests and the four-engine replay');
+}
+
+/** Installs Debian's libmozjs-102-dev (the `js102` SpiderMonkey shell) when the four-engine replay would not find it. */
+export function ensureSpiderMonkey() {
+  ensureDebian('/usr/bin/js102', 'STEPWELL_JS_SHELL', ['libmozjs-102-dev'], 'the four-engine replay test (SpiderMonkey shell js102)');
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
   try {
     ensureDependencies();
     if (process.argv.includes('--chromium')) ensureChromium();
+    if (process.argv.includes('--js-shell')) ensureSpiderMonkey();
   } catch (err) {
     say(err.message);
     process.exit(1);

@@ -3,6 +3,7 @@
  * and which step records.
  */
 import type { StepRecord } from '../core/state';
+import { pow } from '../core/elementary';
 import { strideSelection } from '../core/session/trajectory';
 
 /**
@@ -34,7 +35,7 @@ export function thinCheckpoints(steps: readonly number[], maxCount: number, keep
   const span = head - first;
   for (let i = budget; i >= 1; i--) {
     // Rungs from the farthest back to the nearest; each takes the closest step still free.
-    const target = head - Math.pow(span, i / (budget + 1));
+    const target = head - pow(span, i / (budget + 1)); // core's pow: the same checkpoints kept in every engine
     let best = -1;
     let bestD = Infinity;
     for (let j = 0; j < free.length; j++) {

@@ -179,8 +179,8 @@ export function problemLine(p: SpecProblem): string {
 
 /** Why a replay can differ before the first update. */
 export const STEP0_HINT =
-  'The starting point already differs: the spec or its data changed, or this browser computes Math functions ' +
-  '(exp, tanh, log, cos) differently in the last bits from the JavaScript engine that wrote the ledger.';
+  'The starting point already differs: the spec or its data changed, or the ledger was written by Stepwell 0.1, ' +
+  'whose arithmetic (exp, tanh, log, cos) depended on the JavaScript engine; later versions compute the same bits in every engine.';
 
 /** The verify outcome as one sentence (`named`: say which branch). */
 export function verifyLine(v: VerifyResult, named = false): string {

@@ -284,7 +284,9 @@ export class CellGrove {
       }),
       activeBranch: this.activeName,
       findings: this.findingsList,
-      limits: { maxCheckpoints: Math.max(2, checkpointCap) }
+      limits: { maxCheckpoints: Math.max(2, checkpointCap) },
+      // the hash of the numbers read from data files (absent for inline data)
+      ...(g.experiment(g.root()).setup.data?.origin ? { dataHash: g.experiment(g.root()).setup.data?.origin?.hash } : {})
     });
     return { value: ledger, bytes: ledgerSize(ledger).bytes };
   }

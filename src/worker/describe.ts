@@ -21,6 +21,20 @@ function schedule(s: ScheduleSetup): string {
       return `, inverse-time decay ${num(s.decay)}`;
     case 'cosine':
       return `, cosine over ${s.steps} steps to ${num(s.floor)}`;
+    case 'multistep':
+      return `, ×${num(s.factor)} at steps ${s.milestones.join(', ')}`;
+    case 'factor':
+      return `, ×${num(s.factor)} for ${s.steps} steps`;
+    case 'polynomial':
+      return `, polynomial power ${num(s.power)} over ${s.steps} steps`;
+    case 'restarts':
+      return `, cosine restarts every ${s.period}${s.growth !== 1 ? `×${s.growth}` : ''} steps to ${num(s.floor)}`;
+    case 'onecycle':
+      return `, one cycle over ${s.steps} steps`;
+    case 'plateau':
+      return `, ×${num(s.factor)} after ${s.patience} steps without progress`;
+    case 'sequence':
+      return `, ${s.phases.map((p, i) => `${i === 0 ? 'from 0' : `from ${s.milestones[i - 1]}`}${schedule(p) || ', constant'}`).join(';')}`;
   }
 }
 

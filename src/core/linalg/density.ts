@@ -9,7 +9,7 @@
  * E[v vᵀ] = I/n, the average of these measures estimates the spectral density
  * φ(t) = (1/n) Σ_i δ(t − λ_i); we draw it with Gaussian kernels of width σ on a grid.
  */
-import erf from '@stdlib/math-base-special-erf';
+import { erf, exp } from '../elementary';
 import type { Rng } from '../rng';
 import { dot } from '../objective';
 import type { IterationControl, LinearOperator, StopReason } from './operator';
@@ -19,7 +19,7 @@ import { tridiagonalQL } from './tridiagonal';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
-const { ceil, exp, floor, max, min } = Math;
+const { ceil, floor, max, min } = Math;
 
 /** Options of {@link spectralDensity}. */
 export interface DensityOptions extends IterationControl {

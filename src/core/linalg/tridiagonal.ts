@@ -9,10 +9,11 @@
  */
 import type { Tridiagonal } from './householder';
 import { simdKernel, simdMemory } from './simd';
+import { sin } from '../elementary';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
-const { abs, max, min, sin, sqrt } = Math;
+const { abs, max, min, sqrt } = Math;
 
 /** Eigen-decomposition of a tridiagonal matrix: ascending values, optional vectors as rows. */
 export interface TridiagonalEigen {

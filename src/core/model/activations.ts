@@ -5,8 +5,11 @@
  * Each entry evaluates a whole pre-activation slice in one loop, writing f, f′ and
  * (when asked) f″, so a layer costs one pass and no per-element dispatch.
  */
-import erf from '@stdlib/math-base-special-erf';
-import type { ActivationName } from '../setup';
+import * as elementary from '../elementary';
+import type { ActivationName, ActivationParams } from '../setup';
+
+// Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
+const { erf, exp, expm1, sigmoid: sigmoidFn, softplus: softplusFn, tanh: tanhFn } = elementary;
 
 /** Vectorized activation: writes f(a), f′(a) and optionally f″(a) for a[0..n). */
 export interface Activation {
@@ -20,15 +23,14 @@ export interface Activation {
 
 /** Negative-side slope of `leaky-relu` (PyTorch's default negative_slope). */
 export const LEAKY_SLOPE = 0.01;
+
+/** PyTorch's defaults for the parametrized activations (torch.nn.LeakyReLU, ELU, Softplus). */
+export const ACTIVATION_DEFAULTS: Readonly<ActivationParams> = { slope: LEAKY_SLOPE, alpha: 1, beta: 1, threshold: 20 };
 const INV_SQRT2 = Math.SQRT1_2;
 const INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
 
-/** Logistic function 1/(1+e^−x), evaluated without overflow for either sign. */
-export function logistic(x: number): number {
-  if (x >= 0) return 1 / (1 + Math.exp(-x));
-  const e = Math.exp(x);
-  return e / (1 + e);
-}
+/** Logistic function 1/(1+e^−x) without overflow for either sign (core's engine-independent sigmoid). */
+export const logistic: (x: number) => number = sigmoidFn;
 
 const linear: Activation = {
   name: 'linear', identity: true, piecewiseLinear: true,
@@ -43,7 +45,7 @@ const tanh: Activation = {
   name: 'tanh', identity: false, piecewiseLinear: false,
   eval(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
-      const t = Math.tanh(a[i]);
+      const t = tanhFn(a[i]);
       const g = 1 - t * t;
       f[i] = t; d1[i] = g;
       if (d2) d2[i] = -2 * t * g;
@@ -76,46 +78,56 @@ const relu: Activation = {
   },
 };
 
-const leakyRelu: Activation = {
-  // f = a for a > 0, 0.01·a otherwise; f″ = 0
-  name: 'leaky-relu', identity: false, piecewiseLinear: true,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = LEAKY_SLOPE * x; d1[i] = LEAKY_SLOPE; }
-    }
-    if (d2) d2.fill(0, 0, n);
-  },
-};
-
-const softplus: Activation = {
-  // f = log(1 + e^a) = max(a, 0) + log1p(e^−|a|), f′ = σ(a), f″ = σ(1 − σ).
-  // Unlike PyTorch (threshold 20) it never switches to the identity; the difference is < 3e-9.
-  name: 'softplus', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      const s = logistic(x);
-      f[i] = Math.max(x, 0) + Math.log1p(Math.exp(-Math.abs(x)));
-      d1[i] = s;
-      if (d2) d2[i] = s * (1 - s);
-    }
-  },
-};
-
-const elu: Activation = {
-  // α = 1: f = a (a > 0) or e^a − 1; f′ = 1 or e^a; f″ = 0 or e^a
-  name: 'elu', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
-    for (let i = 0; i < n; i++) {
-      const x = a[i];
-      if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
-        const e = Math.exp(x);
-        f[i] = Math.expm1(x); d1[i] = e; if (d2) d2[i] = e;
+/** Leaky ReLU with negative slope k (torch.nn.LeakyReLU): f = a for a > 0, k·a otherwise; f″ = 0. */
+function leakyRelu(k: number): Activation {
+  return {
+    name: 'leaky-relu', identity: false, piecewiseLinear: true,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = k * x; d1[i] = k; }
       }
-    }
-  },
-};
+      if (d2) d2.fill(0, 0, n);
+    },
+  };
+}
+
+/**
+ * Softplus with β and threshold τ, as torch.nn.Softplus: f = log(1 + e^{βa})/β, computed as
+ * (max(βa, 0) + log1p(e^−|βa|))/β, f′ = σ(βa), f″ = β·σ(1 − σ); where βa > τ, f = a (f′ = 1, f″ = 0).
+ */
+function softplus(beta: number, threshold: number): Activation {
+  return {
+    name: 'softplus', identity: false, piecewiseLinear: false,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        const z = beta * x;
+        if (z > threshold) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; continue; }
+        const s = logistic(z);
+        f[i] = softplusFn(z) / beta; // max(z, 0) + log1p(e^−|z|), core/elementary
+        d1[i] = s;
+        if (d2) d2[i] = beta * s * (1 - s);
+      }
+    },
+  };
+}
+
+/** ELU with α (torch.nn.ELU): f = a (a > 0) or α(e^a − 1); f′ = 1 or α·e^a; f″ = 0 or α·e^a. */
+function elu(alpha: number): Activation {
+  return {
+    name: 'elu', identity: false, piecewiseLinear: false,
+    eval(a, f, d1, d2, n) {
+      for (let i = 0; i < n; i++) {
+        const x = a[i];
+        if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
+          const e = alpha * exp(x);
+          f[i] = alpha * expm1(x); d1[i] = e; if (d2) d2[i] = e;
+        }
+      }
+    },
+  };
+}
 
 const gelu: Activation = {
   // Exact (erf) form, PyTorch's default: f = a Φ(a), f′ = Φ + a φ, f″ = φ (2 − a²)
@@ -124,7 +136,7 @@ const gelu: Activation = {
     for (let i = 0; i < n; i++) {
       const x = a[i];
       const cdf = 0.5 * (1 + erf(x * INV_SQRT2));
-      const pdf = INV_SQRT_2PI * Math.exp(-0.5 * x * x);
+      const pdf = INV_SQRT_2PI * exp(-0.5 * x * x);
       f[i] = x * cdf;
       d1[i] = cdf + x * pdf;
       if (d2) d2[i] = pdf * (2 - x * x);
@@ -132,16 +144,20 @@ const gelu: Activation = {
   },
 };
 
-/** Returns the activation for a name; exhaustive over {@link ActivationName}. */
-export function activation(name: ActivationName): Activation {
+/**
+ * Returns the activation for a name; exhaustive over {@link ActivationName}. `params` set the
+ * slope of leaky-relu, α of elu, β and threshold of softplus (PyTorch's defaults otherwise).
+ */
+export function activation(name: ActivationName, params: Partial<ActivationParams> = {}): Activation {
+  const p = { ...ACTIVATION_DEFAULTS, ...params };
   switch (name) {
     case 'linear': return linear;
     case 'tanh': return tanh;
     case 'sigmoid': return sigmoid;
     case 'relu': return relu;
-    case 'leaky-relu': return leakyRelu;
-    case 'softplus': return softplus;
-    case 'elu': return elu;
+    case 'leaky-relu': return leakyRelu(p.slope);
+    case 'softplus': return softplus(p.beta, p.threshold);
+    case 'elu': return elu(p.alpha);
     case 'gelu': return gelu;
     default: {
       const never: never = name;

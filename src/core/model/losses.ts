@@ -12,7 +12,10 @@
  * indices for cross-entropy.
  */
 import type { LossName } from '../setup';
-import { logistic } from './activations';
+import * as elementary from '../elementary';
+
+// Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
+const { exp, log, log1p, sigmoid } = elementary;
 
 /** A loss over a batch of outputs. All arrays are row-major n × K. */
 export interface Loss {
@@ -55,8 +58,8 @@ function logSumExp(z: Float64Array, off: number, k: number): number {
   let mx = -Infinity;
   for (let j = 0; j < k; j++) if (z[off + j] > mx) mx = z[off + j];
   let s = 0;
-  for (let j = 0; j < k; j++) s += Math.exp(z[off + j] - mx);
-  return mx + Math.log(s);
+  for (let j = 0; j < k; j++) s += exp(z[off + j] - mx);
+  return mx + log(s);
 }
 
 const crossEntropy: Loss = {
@@ -75,7 +78,7 @@ const crossEntropy: Loss = {
       const off = i * k;
       const lse = logSumExp(out, off, k);
       s += lse - out[off + y[i]];
-      for (let j = 0; j < k; j++) g[off + j] = Math.exp(out[off + j] - lse) * inv;
+      for (let j = 0; j < k; j++) g[off + j] = exp(out[off + j] - lse) * inv;
       g[off + y[i]] -= inv;
     }
     return s / n;
@@ -87,7 +90,7 @@ const crossEntropy: Loss = {
       const off = i * k;
       const lse = logSumExp(out, off, k);
       let pu = 0;
-      for (let j = 0; j < k; j++) { const p = Math.exp(out[off + j] - lse); r[off + j] = p; pu += p * u[off + j]; }
+      for (let j = 0; j < k; j++) { const p = exp(out[off + j] - lse); r[off + j] = p; pu += p * u[off + j]; }
       for (let j = 0; j < k; j++) { const p = r[off + j]; r[off + j] = p * (u[off + j] - pu) * inv; }
     }
   },
@@ -99,7 +102,7 @@ const binaryCrossEntropy: Loss = {
   value(out, y, n, k) {
     const m = n * k;
     let s = 0;
-    for (let i = 0; i < m; i++) { const z = out[i]; s += Math.max(z, 0) - z * y[i] + Math.log1p(Math.exp(-Math.abs(z))); }
+    for (let i = 0; i < m; i++) { const z = out[i]; s += Math.max(z, 0) - z * y[i] + log1p(exp(-Math.abs(z))); }
     return s / m;
   },
   gradient(out, y, n, k, g) {
@@ -108,14 +111,14 @@ const binaryCrossEntropy: Loss = {
     let s = 0;
     for (let i = 0; i < m; i++) {
       const z = out[i];
-      s += Math.max(z, 0) - z * y[i] + Math.log1p(Math.exp(-Math.abs(z)));
-      g[i] = (logistic(z) - y[i]) / m;
+      s += Math.max(z, 0) - z * y[i] + log1p(exp(-Math.abs(z)));
+      g[i] = (sigmoid(z) - y[i]) / m;
     }
     return s / m;
   },
   outputHvp(out, _y, n, k, u, r) {
     const m = n * k;
-    for (let i = 0; i < m; i++) { const p = logistic(out[i]); r[i] = (p * (1 - p) * u[i]) / m; }
+    for (let i = 0; i < m; i++) { const p = sigmoid(out[i]); r[i] = (p * (1 - p) * u[i]) / m; }
   },
 };
 

@@ -101,7 +101,7 @@ export class Network implements Objective {
     this.plan = model.layers.map((layer, l) => ({
       fanIn: this.blocks[2 * l].shape[1],
       units: layer.units,
-      act: options.activationOf?.(l) ?? activation(layer.activation),
+      act: options.activationOf?.(l) ?? activation(layer.activation, layer.params),
       wOff: this.blocks[2 * l].offset,
       bOff: this.blocks[2 * l + 1].offset,
     }));

@@ -1,7 +1,9 @@
 /**
- * Adagrad as torch.optim.Adagrad (lr_decay 0, initial accumulator 0):
- * s ← s + g²;  w ← w − η·g / (√s + ε)  (Duchi, Hazan & Singer, JMLR 2011).
+ * Adagrad as torch.optim.Adagrad (Duchi, Hazan & Singer, JMLR 2011):
+ *   s₀ = initialAccumulator;  s ← s + g²;  w ← w − η_t·g / (√s + ε),  η_t = η / (1 + (t − 1)·lrDecay)
+ * at update t = 1, 2, … (torch's lr_decay and initial_accumulator_value).
  */
+import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
@@ -9,8 +11,10 @@ import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 export const adagrad: OptimizerFamily = {
   firstOrder: true,
   decoupledDecay: false,
-  init(parameterCount: number): OptimizerState {
-    return { kind: 'adagrad', t: 0, buffers: { sum: new Float64Array(parameterCount) }, scalars: {} };
+  init(parameterCount: number, recipe: Recipe): OptimizerState {
+    const sum = new Float64Array(parameterCount);
+    if (recipe.initialAccumulator !== 0) sum.fill(recipe.initialAccumulator);
+    return { kind: 'adagrad', t: 0, buffers: { sum }, scalars: {} };
   },
   update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const s = buffer(state, 'sum');
@@ -20,6 +24,7 @@ export const adagrad: OptimizerFamily = {
       out[i] = grad[i] / (Math.sqrt(s[i]) + eps);
     }
     state.t += 1;
-    return ctx.lr;
+    const decay = ctx.recipe.lrDecay;
+    return decay === 0 ? ctx.lr : ctx.lr / (1 + (state.t - 1) * decay);
   }
 };

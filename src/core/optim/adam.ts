@@ -20,6 +20,7 @@ function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): 
 
 function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
   const { beta1, beta2, eps, amsgrad, weightDecay } = ctx.recipe;
+  const mask = ctx.decayMask;
   const m = buffer(state, 'm');
   const v = buffer(state, 'v');
   const vMax = amsgrad ? buffer(state, 'vMax') : null;
@@ -38,7 +39,7 @@ function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerStat
       second = vMax[i];
     }
     const u = m[i] / (Math.sqrt(second) / c2Sqrt + eps);
-    out[i] = decay === 0 ? u : u + decay * params[i];
+    out[i] = decay === 0 || (mask !== null && mask[i] === 0) ? u : u + decay * params[i];
   }
   return ctx.lr / c1;
 }

@@ -1,15 +1,23 @@
 /**
  * An objective plus the recipe's coupled weight decay as a penalty: f(w) + ½·λ‖w‖² over every
- * parameter (biases included, as torch's `weight_decay` applies to every parameter it is given).
+ * parameter (biases included, as torch's `weight_decay` applies to every parameter it is given),
+ * or over the entries a decay mask selects (`decayBiases: false`).
  * Batch families (L-BFGS, CG, Newton) minimize this function, so their line searches and
  * curvature see the same gradient the first-order families get from g + λw.
  */
 import type { Objective, ParamBlock, Rows } from '../objective';
 
-/** f(w) + ½λ‖w‖²; returns `objective` itself when λ = 0. */
-export function withWeightDecay(objective: Objective, lambda: number): Objective {
+/** f(w) + ½λ‖m ⊙ w‖² (m the mask, all ones when null); returns `objective` itself when λ = 0. */
+export function withWeightDecay(objective: Objective, lambda: number, mask: Uint8Array | null = null): Objective {
   if (lambda === 0) return objective;
-  return new DecayedObjective(objective, lambda);
+  return new DecayedObjective(objective, lambda, mask);
+}
+
+/** ½λ‖m ⊙ w‖² (m all ones when null). */
+export function decayPenalty(w: Float64Array, lambda: number, mask: Uint8Array | null): number {
+  let s = 0;
+  for (let i = 0; i < w.length; i++) if (mask === null || mask[i] === 1) s += w[i] * w[i];
+  return 0.5 * lambda * s;
 }
 
 class DecayedObjective implements Objective {
@@ -17,16 +25,19 @@ class DecayedObjective implements Objective {
   readonly blocks: readonly ParamBlock[];
   readonly rowCount: number;
 
-  constructor(private readonly inner: Objective, private readonly lambda: number) {
+  constructor(private readonly inner: Objective, private readonly lambda: number, private readonly mask: Uint8Array | null) {
     this.parameterCount = inner.parameterCount;
     this.blocks = inner.blocks;
     this.rowCount = inner.rowCount;
   }
 
   private penalty(w: Float64Array): number {
-    let s = 0;
-    for (let i = 0; i < w.length; i++) s += w[i] * w[i];
-    return 0.5 * this.lambda * s;
+    return decayPenalty(w, this.lambda, this.mask);
+  }
+
+  private addTo(out: Float64Array, v: Float64Array): void {
+    const m = this.mask;
+    for (let i = 0; i < v.length; i++) if (m === null || m[i] === 1) out[i] += this.lambda * v[i];
   }
 
   value(w: Float64Array, rows?: Rows): number {
@@ -35,17 +46,17 @@ class DecayedObjective implements Objective {
 
   gradient(w: Float64Array, out: Float64Array, rows?: Rows): number {
     const f = this.inner.gradient(w, out, rows);
-    for (let i = 0; i < w.length; i++) out[i] += this.lambda * w[i];
+    this.addTo(out, w);
     return f + this.penalty(w);
   }
 
   hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
     this.inner.hvp(w, v, out, rows);
-    for (let i = 0; i < v.length; i++) out[i] += this.lambda * v[i];
+    this.addTo(out, v);
   }
 
   gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
     this.inner.gnvp(w, v, out, rows);
-    for (let i = 0; i < v.length; i++) out[i] += this.lambda * v[i];
+    this.addTo(out, v);
   }
 }

@@ -1,16 +1,26 @@
 /**
- * L-BFGS (Nocedal & Wright 2006, alg. 7.4 two-loop recursion and alg. 7.5), one iteration per
- * session step, laid out to match torch.optim.LBFGS(max_iter=1) (PyTorch 1.13) step by step:
+ * L-BFGS (Nocedal & Wright 2006, alg. 7.4 two-loop recursion and alg. 7.5), `maxIter`
+ * iterations per session step (default 1), laid out to match torch.optim.LBFGS (PyTorch 1.13) —
+ * one session step is one `LBFGS.step(closure)` with the same max_iter, max_eval,
+ * tolerance_grad and tolerance_change:
  *
  *  - history pairs s = t·d, y = g − g_prev are stored only when yᵀs > 1e-10; the oldest pair
  *    is dropped beyond `history` pairs; initial inverse Hessian H0 = (yᵀs / yᵀy)·I (N&W eq. 7.20);
  *  - the first trial step is min(1, 1/‖g‖₁)·lr on the first iteration and lr afterwards;
- *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most 25 trials), 'brent' (exact
+ *  - `lineSearch`: 'strong-wolfe' (c1 = 1e-4, c2 = 0.9, at most maxEval minus the evaluations
+ *    the step already made trials — torch ≥ 2.0's budget; torch 1.13 allowed 25), 'brent' (exact
  *    minimization along d, bracket from (0, trial)), or 'none' (fixed step = trial);
- *  - no update when max|g| ≤ 1e-7 (torch's tolerance_grad).
- * Differences from torch: when d is not a descent direction (gᵀd > −1e-9), or the line search
- * along it finds no acceptable step, torch stays in place and would repeat the same direction
- * forever; here the history is cleared and the iteration retries along −g.
+ *  - no update when max|g| ≤ toleranceGrad (default 1e-7);
+ *  - with maxIter > 1, the iterations of one step stop, as torch's, after maxIter iterations,
+ *    when the evaluations reach maxEval, when max|g| ≤ toleranceGrad, when max|t·d| ≤
+ *    toleranceChange or when the loss changed by less than toleranceChange. The gradient at
+ *    the accepted point is recomputed (same bits as the line search's; not counted, as torch
+ *    takes it from the search).
+ * When d is not a descent direction (gᵀd > −toleranceChange), or the line search along it ends
+ * at step 0, the iteration stays in place, as torch's does — and, like torch, the next step
+ * computes the same direction again: the run has stalled for good, which its trajectory shows
+ * (flat from that step on). Clearing the history and retrying along −g would often get it going
+ * again, but would no longer be torch's L-BFGS.
  *
  * State (all plain data): buffers `s`, `y` (history × P, ring buffer), `rho` (history),
  * `prevGrad`, `dir`; scalars `count`, `start` (ring head), `hDiag`, `stepLength`.
@@ -22,9 +32,6 @@ import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
 import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
 
-/** torch.optim.LBFGS's tolerance_grad and tolerance_change defaults. */
-const TOLERANCE_GRAD = 1e-7;
-const TOLERANCE_CHANGE = 1e-9;
 /** Curvature pairs with yᵀs at or below this are skipped (torch; keeps H positive definite). */
 const MIN_CURVATURE = 1e-10;
 
@@ -125,7 +132,7 @@ export interface LbfgsStep {
 }
 
 /** The recipe's line search along d from w (value f, slope gtd < 0), first trial t0. */
-function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Array, gtd: number, t0: number, recipe: Recipe, ctx: OptimizerContext): LbfgsStep {
+function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Array, gtd: number, t0: number, recipe: Recipe, ctx: OptimizerContext, trials: number): LbfgsStep {
   const p = g.length;
   switch (recipe.lineSearch) {
     case 'none':
@@ -134,7 +141,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
       let dmax = 0;
       for (let i = 0; i < p; i++) dmax = Math.max(dmax, Math.abs(d[i]));
       const phi = lineFunctionWithSlope(ctx.objective, w, d, ctx.work.vector('ls.point'), ctx.work.vector('ls.grad'), ctx.rows);
-      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: 25, minWidth: TOLERANCE_CHANGE / dmax });
+      const r = strongWolfe(phi, f, gtd, t0, { c1: 1e-4, c2: 0.9, maxEvaluations: trials, minWidth: recipe.toleranceChange / dmax });
       return { step: r.step, evaluations: r.evaluations };
     }
     case 'brent': {
@@ -152,7 +159,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
  * One L-BFGS iteration at w with gradient g and value f: updates the memory, writes the
  * direction into `state.buffers.dir` and returns the step length t (0 = no move).
  */
-export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext): LbfgsStep {
+export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext, trials = 25): LbfgsStep {
   const p = g.length;
   const m = recipe.history;
   let gmax = 0;
@@ -163,7 +170,7 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     g1 += a;
   }
   // converged (torch's tolerance_grad), or a non-finite value/gradient: stay in place
-  if (gmax <= TOLERANCE_GRAD || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
+  if (gmax <= recipe.toleranceGrad || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
   state.t += 1;
   const d = buffer(state, 'dir');
   if (state.t === 1) {
@@ -175,25 +182,13 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     twoLoop(g, state, m, p, ctx.work.vector('lbfgs.alpha', m));
   }
   buffer(state, 'prevGrad').set(g);
-  let t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
-  let gtd = dot(g, d);
-  if (gtd > -TOLERANCE_CHANGE) {
-    resetLbfgs(state);
-    state.t = 1;
-    for (let i = 0; i < p; i++) d[i] = -g[i];
-    gtd = dot(g, d);
-    t0 = Math.min(1, 1 / g1) * lr;
+  const t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
+  const gtd = dot(g, d);
+  if (gtd > -recipe.toleranceChange) {
+    state.scalars.stepLength = 0;
+    return { step: 0, evaluations: 0 };
   }
-  let { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx);
-  if (step === 0 && state.t > 1) {
-    // the quasi-Newton direction gave no acceptable step: clear the history, retry along −g
-    resetLbfgs(state);
-    state.t = 1;
-    for (let i = 0; i < p; i++) d[i] = -g[i];
-    const retry = searchAlong(g, f, w, d, dot(g, d), Math.min(1, 1 / g1) * lr, recipe, ctx);
-    step = retry.step;
-    evaluations += retry.evaluations;
-  }
+  const { step, evaluations } = searchAlong(g, f, w, d, gtd, t0, recipe, ctx, trials);
   state.scalars.stepLength = step;
   return { step, evaluations };
 }
@@ -208,7 +203,8 @@ export const lbfgs: OptimizerFamily = {
   decoupledDecay: false,
   init: (parameterCount: number, recipe: Recipe) => initLbfgs('lbfgs', parameterCount, recipe.history),
   update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
-    const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx);
+    if (ctx.recipe.maxIter > 1) return severalIterations(grad, state, params, ctx, out);
+    const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx, ctx.recipe.maxEval - 1);
     const d = buffer(state, 'dir');
     if (r.step === 0) out.fill(0);
     else for (let i = 0; i < out.length; i++) out[i] = -d[i];
@@ -216,3 +212,41 @@ export const lbfgs: OptimizerFamily = {
     return r.step;
   }
 };
+
+function maxAbs(v: Float64Array, scale = 1): number {
+  let m = 0;
+  for (let i = 0; i < v.length; i++) m = Math.max(m, Math.abs(scale * v[i]));
+  return m;
+}
+
+/**
+ * Up to `maxIter` iterations from `params` on a scratch copy (torch's inner loop and stopping
+ * rules, module comment); writes u = w₀ − w_end and returns step size 1, so Δw = w_end − w₀.
+ */
+function severalIterations(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
+  const recipe = ctx.recipe;
+  const w = ctx.work.vector('lbfgs.w');
+  const g = ctx.work.vector('lbfgs.g');
+  w.set(params);
+  g.set(grad);
+  let f = ctx.loss;
+  let evaluations = 1;
+  for (let n = 1; n <= recipe.maxIter; n++) {
+    const r = lbfgsIteration(g, f, w, state, recipe, ctx.lr, ctx, recipe.maxEval - evaluations);
+    evaluations += r.evaluations;
+    if (r.step === 0) break;
+    const d = buffer(state, 'dir');
+    for (let i = 0; i < w.length; i++) w[i] += r.step * d[i];
+    if (n === recipe.maxIter) break;
+    const before = f;
+    f = ctx.objective.gradient(w, g, ctx.rows);
+    if (recipe.lineSearch === 'none') evaluations += 1;
+    if (evaluations >= recipe.maxEval) break;
+    if (maxAbs(g) <= recipe.toleranceGrad) break;
+    if (maxAbs(d, r.step) <= recipe.toleranceChange) break;
+    if (Math.abs(f - before) < recipe.toleranceChange) break;
+  }
+  ctx.extraEvaluations += evaluations - 1;
+  for (let i = 0; i < out.length; i++) out[i] = params[i] - w[i];
+  return 1;
+}

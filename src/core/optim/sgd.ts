@@ -1,8 +1,13 @@
 /**
  * Stochastic gradient descent with optional heavy-ball or Nesterov momentum, in PyTorch's
- * formulation (torch.optim.SGD, dampening 0):
+ * formulation (torch.optim.SGD):
  *
- *   v ← μ·v + g;   plain momentum: w ← w − η·v;   Nesterov: w ← w − η·(g + μ·v).
+ *   first update v ← g, later v ← μ·v + (1 − d)·g (dampening d);
+ *   plain momentum: w ← w − η·v;   Nesterov: w ← w − η·(g + μ·v).
+ *
+ * "First update" is t = 0 of the optimizer state, which is when torch's buffer is empty; a
+ * branch that turns momentum on later starts from a zero buffer, so with d > 0 its first
+ * velocity is (1 − d)·g where torch, starting afresh, would take g.
  *
  * Relation to the look-ahead form of Sutskever et al. (ICML 2013),
  * v′ ← μv′ − η∇f(w′ + μv′), w′ ← w′ + v′: with a constant η and v′ = −η·v, the PyTorch
@@ -29,7 +34,16 @@ export const sgd: OptimizerFamily = {
       out.set(grad);
     } else {
       const v = buffer(state, 'velocity');
-      if (ctx.recipe.nesterov) {
+      const damp = ctx.recipe.dampening;
+      if (damp !== 0) {
+        // torch: buf = g on the first update, then buf·μ + (1 − d)·g
+        const keep = state.t === 0 ? 0 : mu;
+        const take = state.t === 0 ? 1 : 1 - damp;
+        for (let i = 0; i < grad.length; i++) {
+          v[i] = keep * v[i] + take * grad[i];
+          out[i] = ctx.recipe.nesterov ? grad[i] + mu * v[i] : v[i];
+        }
+      } else if (ctx.recipe.nesterov) {
         for (let i = 0; i < grad.length; i++) {
           v[i] = mu * v[i] + grad[i];
           out[i] = grad[i] + mu * v[i];

@@ -49,6 +49,8 @@ export interface OptimizerContext {
   readonly loss: number;
   /** Scratch vectors of length P. */
   readonly work: Workspace;
+  /** Entries weight decay applies to (1) or not (0); null = all (see `gradient.ts`, decayMask). */
+  readonly decayMask: Uint8Array | null;
   /**
    * Objective evaluations the update used beyond the gradient the session computed; the
    * session sets it to 0 before each update and families add to it (line searches, products).

@@ -6,6 +6,8 @@
  *   step counter t (so Adam's bias correction continues) and the scalars the fresh state
  *   defines. Buffers the new recipe does not need are dropped, new ones start at zero (e.g.
  *   turning SGD momentum on starts with v = 0; changing L-BFGS `history` clears the history).
+ *   A reduce-on-plateau schedule keeps its multiplier and counters when the branch keeps it, and
+ *   starts afresh (multiplier 1) when the branch introduces it.
  * - Batches: the generator state is kept. Going to full batch drops the row order; going to
  *   mini-batches from full batch draws a fresh permutation from the kept generator; a changed
  *   batch size continues the epoch in progress from its cursor.
@@ -15,7 +17,7 @@ import type { Objective } from '../objective';
 import { Rng } from '../rng';
 import type { Recipe } from '../setup';
 import type { OptimizerState, SessionState } from '../state';
-import { familyFor } from '../optim/registry';
+import { initOptimizerState } from '../optim/chain';
 import { drawOrder } from './batches';
 import { copySessionState } from './state-data';
 
@@ -26,7 +28,7 @@ export function effectiveBatch(recipe: Recipe, rowCount: number): number {
 
 /** The optimizer state for `to`, carried over from `from` as described in the module comment. */
 export function adaptOptimizerState(old: OptimizerState, to: Recipe, parameterCount: number): OptimizerState {
-  const fresh = familyFor(to.optimizer).init(parameterCount, to);
+  const fresh = initOptimizerState(to, parameterCount);
   if (old.kind !== to.optimizer) return fresh;
   for (const k of Object.keys(fresh.buffers)) {
     const b = old.buffers[k];

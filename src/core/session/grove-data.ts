@@ -3,6 +3,7 @@ import type { Experiment, Setup } from '../setup';
 import type { SessionState, StepRecord } from '../state';
 import type { Session, SessionParts } from './live';
 import { copySessionState } from './state-data';
+import { copyPlain } from '../plain';
 
 /** A saved state at one step with its fingerprint. */
 export interface Checkpoint {
@@ -129,7 +130,7 @@ export function copyCheckpoint(c: Checkpoint): Checkpoint {
 
 /** A copy of a branch origin (the patch's values are plain JSON, copied deeply). */
 export function copyOrigin(o: BranchOrigin | null): BranchOrigin | null {
-  return o === null ? null : { parent: o.parent, step: o.step, patch: structuredClone(o.patch) as BranchPatch, restart: o.restart };
+  return o === null ? null : { parent: o.parent, step: o.step, patch: copyPlain(o.patch), restart: o.restart };
 }
 
 /**

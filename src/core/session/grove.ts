@@ -38,6 +38,7 @@ import { LegTask, runToEnd, type GroveTask, type Leg } from './task';
 import { checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
 import { branchNameProblem, copyCheckpoint, copyExperiment, copyOrigin, copyRecord, sameSetup, type Branch, type BranchOrigin, type BranchPatch, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
 import { afterUpdate, dropAfter, insertCheckpoint, insertRecord, tipStep } from './grove-book';
+import { copyPlain } from '../plain';
 
 export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
 export { branchNameProblem, MAX_BRANCH_NAME } from './grove-data';
@@ -362,7 +363,7 @@ export class Grove {
       trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
       if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
     }
-    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: structuredClone(patch) as BranchPatch, restart }, session, trajectory, checkpoints: [], every: this.every, tip: null };
+    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: copyPlain(patch), restart }, session, trajectory, checkpoints: [], every: this.every, tip: null };
     this.branches.set(name, b);
     this.addCheckpoint(b, false);
     return session;

@@ -5,11 +5,13 @@
  * One update (`step`) does, in order:
  *  1. take this step's rows (full batch, or the next slice of the epoch's seeded permutation);
  *  2. g = ∇f(w) on those rows (batch loss comes with it); record ‖g‖ and per-layer ‖∇W‖;
- *  3. clip g to the global norm `clipNorm`, then add coupled weight decay λw (not for AdamW);
+ *  3. the gradient transforms (`optim/gradient.ts`): clamp to `clipValue`, clip the global norm
+ *     to `clipNorm` (first-order families), add coupled weight decay λw (not for AdamW);
  *  4. the optimizer family writes an ascent-form direction u and a step size s;
  *  5. Δw = −s·(lrScale per layer)·u ({@link descend}), w ← w + Δw ({@link applyUpdates});
  *  6. full-batch loss (and held-out loss) at the new w go into the step record; at full batch
- *     the gradient computed with that loss is kept for the next update (same bits as recomputing).
+ *     the gradient computed with that loss is kept for the next update (same bits as recomputing);
+ *  7. a reduce-on-plateau schedule observes that loss (`optim/plateau.ts`).
  * All buffers are allocated once; an update allocates only the record it returns.
  */
 import { buildHeldOutObjective, buildObjective, initialParameters } from '../assemble';
@@ -17,8 +19,10 @@ import { norm2, type Objective, type Rows } from '../objective';
 import { Rng } from '../rng';
 import type { Experiment } from '../setup';
 import type { LayerRecord, OptimizerState, SessionState, StepRecord } from '../state';
-import { withWeightDecay } from '../optim/decayed';
-import { addWeightDecay, clipByGlobalNorm, layerScales } from '../optim/gradient';
+import { decayPenalty, withWeightDecay } from '../optim/decayed';
+import { decayMask, gradientChain, layerScales, type GradientTransform } from '../optim/gradient';
+import { initOptimizerState } from '../optim/chain';
+import { observePlateau, plateauFactor } from '../optim/plateau';
 import { familyFor } from '../optim/registry';
 import { learningRate } from '../optim/schedule';
 import { checkRecipe } from '../optim/recipe-check';
@@ -27,6 +31,7 @@ import { drawOrder, drawSubset, nextBatch, type BatchBuffers, type BatchPosition
 import { copyOptimizerState, copySessionState, fingerprintState } from './state-data';
 import { effectiveBatch } from './adapt';
 import { evaluateStop, type StopCondition } from './stop';
+import { copyPlain } from '../plain';
 
 /** Callbacks for long runs; `shouldStop` is checked between updates. */
 export interface StepHooks {
@@ -65,7 +70,7 @@ class StepContext implements OptimizerContext {
   curvatureRows: Rows = undefined;
   loss = 0;
   extraEvaluations = 0;
-  constructor(readonly recipe: Experiment['recipe'], readonly objective: Objective, readonly work: Workspace) {}
+  constructor(readonly recipe: Experiment['recipe'], readonly objective: Objective, readonly work: Workspace, readonly decayMask: Uint8Array | null) {}
 }
 
 /** Weight blocks, one per layer, for the per-layer record. */
@@ -95,6 +100,7 @@ export class Session {
   private nextLoss = 0;
   private readonly upd: Float64Array;
   private readonly scales: Float64Array | null;
+  private readonly transforms: GradientTransform[];
   private readonly ctx: StepContext;
   private readonly layers: LayerSlice[];
   private readonly layerGrad: Float64Array;
@@ -119,12 +125,12 @@ export class Session {
       const init = parts.initial ?? initialParameters(setup, Rng.fromSeed(seed).fork('init'));
       if (init.length !== p) throw new Error(`initial parameters have length ${init.length}, the objective expects ${p}`);
       this.params = Float64Array.from(init);
-      this.optState = this.family.init(p, recipe);
+      this.optState = initOptimizerState(recipe, p);
       this.rng = Rng.fromSeed(seed).fork('batches');
       this.pos = { epoch: 0, cursor: 0, order: this.batchSize > 0 ? drawOrder(this.rng, n, null) : null };
       this.steps = 0;
     } else {
-      checkState(state, this.family.init(p, recipe), p, n, this.batchSize);
+      checkState(state, initOptimizerState(recipe, p), p, n, this.batchSize);
       const s = copySessionState(state);
       this.params = s.params;
       this.optState = s.optimizer;
@@ -137,7 +143,9 @@ export class Session {
     this.upd = new Float64Array(p);
     this.scales = layerScales(this.objective.blocks, p, recipe.layers);
     const work = new Workspace(p);
-    this.ctx = new StepContext(recipe, this.family.firstOrder ? this.objective : withWeightDecay(this.objective, recipe.weightDecay), work);
+    const mask = decayMask(this.objective.blocks, p, recipe);
+    this.transforms = gradientChain(recipe, this.objective.blocks, p, this.family);
+    this.ctx = new StepContext(recipe, this.family.firstOrder ? this.objective : withWeightDecay(this.objective, recipe.weightDecay, mask), work, mask);
     this.layers = this.objective.blocks.filter((b) => b.kind === 'weight').map((b) => ({ layer: b.layer, offset: b.offset, size: b.size }));
     this.layerGrad = new Float64Array(this.layers.length);
   }
@@ -185,7 +193,7 @@ export class Session {
   initialRecord(): StepRecord {
     const loss = this.objective.gradient(this.params, this.grad);
     const layers = this.layers.map((l) => ({ layer: l.layer, weightNorm: norm2(this.params, l.offset, l.size), gradNorm: norm2(this.grad, l.offset, l.size), updateRatio: 0 }));
-    const rec: StepRecord = { step: this.steps, loss, batchLoss: NaN, gradNorm: norm2(this.grad), updateNorm: 0, lr: learningRate(this.experiment.recipe, this.steps), evaluations: 1, layers, ms: 0 };
+    const rec: StepRecord = { step: this.steps, loss, batchLoss: NaN, gradNorm: norm2(this.grad), updateNorm: 0, lr: learningRate(this.experiment.recipe, this.steps, plateauFactor(this.optState)), evaluations: 1, layers, ms: 0 };
     const h = this.heldOutLoss();
     if (h !== undefined) rec.heldOutLoss = h;
     return rec;
@@ -248,7 +256,7 @@ export class Session {
     const recipe = this.experiment.recipe;
     const rows = this.batchSize > 0 ? nextBatch(this.rng, this.pos, this.batchSize, this.rowBuffers as BatchBuffers) : undefined;
     if (this.batchSize === 0 && this.objective.rowCount > 0) this.pos.epoch += 1;
-    const lr = learningRate(recipe, this.steps);
+    const lr = learningRate(recipe, this.steps, plateauFactor(this.optState));
     const g = this.grad;
     let batchLoss: number;
     if (rows === undefined && this.nextValid) {
@@ -259,13 +267,13 @@ export class Session {
     }
     this.nextValid = false;
     for (let k = 0; k < this.layers.length; k++) this.layerGrad[k] = norm2(g, this.layers[k].offset, this.layers[k].size);
-    const gradNorm = clipByGlobalNorm(g, this.family.firstOrder ? recipe.clipNorm : 0);
-    if (!this.family.decoupledDecay) addWeightDecay(g, this.params, recipe.weightDecay);
+    const gradNorm = norm2(g);
+    for (const t of this.transforms) t.apply(g, this.params);
     const ctx = this.ctx;
     ctx.lr = lr;
     ctx.rows = rows;
     ctx.curvatureRows = recipe.curvatureBatch === 'same' ? rows : this.curvature;
-    ctx.loss = this.family.firstOrder || recipe.weightDecay === 0 ? batchLoss : batchLoss + 0.5 * recipe.weightDecay * sumSquares(this.params);
+    ctx.loss = this.family.firstOrder || recipe.weightDecay === 0 ? batchLoss : batchLoss + decayPenalty(this.params, recipe.weightDecay, ctx.decayMask);
     ctx.extraEvaluations = 0;
     const stepSize = this.family.update(g, this.optState, this.params, ctx, this.upd);
     descend(this.upd, stepSize, this.family.firstOrder ? this.scales : null);
@@ -290,6 +298,7 @@ export class Session {
     } else {
       loss = this.objective.value(this.params);
     }
+    if (recipe.schedule.kind === 'plateau') observePlateau(recipe.schedule, this.optState, loss);
     const rec: StepRecord = { step: this.steps, loss, batchLoss, gradNorm, updateNorm, lr, evaluations: 1 + ctx.extraEvaluations, layers, ms: 0 };
     const h = this.heldOut?.value(this.params);
     if (h !== undefined) rec.heldOutLoss = h;
@@ -326,13 +335,7 @@ function checkState(state: SessionState, fresh: OptimizerState, p: number, n: nu
 }
 
 function copyRecipe(r: Experiment['recipe']): Experiment['recipe'] {
-  return { ...r, schedule: { ...r.schedule }, layers: r.layers.map((l) => ({ ...l })) };
-}
-
-function sumSquares(w: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < w.length; i++) s += w[i] * w[i];
-  return s;
+  return { ...r, schedule: copyPlain(r.schedule), layers: r.layers.map((l) => ({ ...l })) };
 }
 
 function now(): number {

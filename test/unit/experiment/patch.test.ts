@@ -1,5 +1,6 @@
 /** Spec patches: key grammar, application to the spec value, validation like a spec (invariants only). */
 import { parseSpec } from '../../../src/experiment';
+import type { Recipe } from '../../../src/core/setup';
 import { applyPatch, applyPatches, checkPatchText, parseAssignments, parsePatchText, patchChainExperiment, patchExperiment, patchPath, recipeExcerpt, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
 
 const SPEC = `seed: 3
@@ -134,5 +135,25 @@ describe('the branch form', () => {
     expect(r.ok ? '' : r.errors[0].message).toMatch(/^patch 'lr': recipe\.lr/);
     const syntax = checkPatchText(SPEC, [], 'lr: [0.1\n');
     expect(syntax.ok ? [] : syntax.errors[0].line).toBeDefined();
+  });
+});
+
+describe('the recipe options that mirror PyTorch go through patches', () => {
+  it.each<[string, string[], (r: Recipe) => unknown, unknown]>([
+    ['dampening', ['momentum=0.9', 'dampening=0.1'], (r) => r.dampening, 0.1],
+    ['clipValue', ['clipValue=0.5'], (r) => r.clipValue, 0.5],
+    ['decayBiases', ['weightDecay=0.01', 'decayBiases=false'], (r) => r.decayBiases, false],
+    ['plateau schedule', ['schedule={kind: plateau, patience: 3}'], (r) => r.schedule, { kind: 'plateau', factor: 0.1, patience: 3, threshold: 1e-4, thresholdMode: 'rel', cooldown: 0, floor: 0 }],
+    ['sequence schedule', ['schedule={kind: sequence, phases: [{kind: factor, factor: 0.5, steps: 2}, {kind: exponential, gamma: 0.9}], milestones: [3]}'], (r) => r.schedule.kind, 'sequence'],
+  ])('%s', (_n, assignments, pick, want) => {
+    const p = parseAssignments(assignments);
+    if (!p.ok) throw new Error(p.errors.join('; '));
+    const r = patchExperiment(SPEC, p.patch);
+    if (!r.ok) throw new Error(JSON.stringify(r.errors));
+    expect(pick(r.experiment.recipe)).toEqual(want);
+  });
+  it('a bad value names the patched key', () => {
+    const r = patchExperiment(SPEC, { maxIter: 0 });
+    expect(!r.ok && r.errors[0].message).toBe("patch 'maxIter': recipe.maxIter must be a positive integer, got 0");
   });
 });

@@ -10,9 +10,10 @@ import type { Experiment, Recipe } from '../../../src/core/setup';
 /** Defaults as documented in src/core/setup.ts. */
 export function recipe(patch: Partial<Recipe> = {}): Recipe {
   return {
-    optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
-    centered: false, amsgrad: false, weightDecay: 0, batch: 'full', schedule: { kind: 'constant' }, warmup: 0,
-    clipNorm: 0, layers: [], history: 10, lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3,
+    optimizer: 'sgd', lr: 0.01, momentum: 0, nesterov: false, dampening: 0, beta1: 0.9, beta2: 0.999, eps: 1e-8, alpha: 0.99,
+    centered: false, amsgrad: false, lrDecay: 0, initialAccumulator: 0, weightDecay: 0, decayBiases: true, batch: 'full',
+    schedule: { kind: 'constant' }, warmup: 0, clipNorm: 0, clipValue: 0, layers: [], history: 10, maxIter: 1, maxEval: 26,
+    toleranceGrad: 1e-7, toleranceChange: 1e-9, lineSearch: 'strong-wolfe', cgVariant: 'polak-ribiere', damping: 1e-3,
     innerSteps: 10, curvatureBatch: 'same', ...patch
   };
 }

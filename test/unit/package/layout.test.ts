@@ -57,7 +57,7 @@ describe('the extension package', () => {
   });
 
   it('does not share the engine worker’s packages (a Web Worker has no share scope)', () => {
-    for (const name of ['ajv', 'yaml', 'ml-matrix', '@noble/hashes', '@stdlib/math-base-special-erf']) {
+    for (const name of ['ajv', 'yaml', 'ml-matrix', '@noble/hashes', '@stdlib/math-base-special-erf', 'papaparse', 'fflate']) {
       expect(pkg.jupyterlab.sharedPackages[name]).toBe(false);
     }
   });

@@ -8,6 +8,7 @@ import type { Rng } from '../../rng';
 import type { Recipe } from '../../setup';
 import type { OptimizerState } from '../../state';
 import { learningRate } from '../../optim/schedule';
+import { plateauFactor } from '../../optim/plateau';
 import type { MeasureOptions, CurvatureReport } from './summary';
 import { measureCurvature } from './summary';
 import { preconditionerDiagonal, stabilityFactor, stepMetric } from './stability';
@@ -34,5 +35,5 @@ export function measureSessionCurvature(session: CurvatureSession, rng: Rng, opt
   const rows = options.rows ?? session.curvatureRows();
   const precond = stabilityFactor(recipe).preconditioned ? preconditionerDiagonal(recipe, session.optimizerState()) : null;
   const metric = stabilityFactor(recipe).preconditioned && precond === null ? undefined : stepMetric(recipe, session.objective.blocks, precond);
-  return measureCurvature(session.objective, w, recipe, rng, { ...options, rows, metric, lr: learningRate(recipe, session.stepCount) });
+  return measureCurvature(session.objective, w, recipe, rng, { ...options, rows, metric, lr: learningRate(recipe, session.stepCount, plateauFactor(session.optimizerState())) });
 }

@@ -25,6 +25,7 @@
 import type { ParamBlock } from '../../objective';
 import type { OptimizerName, Recipe } from '../../setup';
 import type { OptimizerState } from '../../state';
+import { powInt } from '../../optim/powers';
 
 /** Which scalar recursion the bound comes from. */
 export type StabilityRule = 'gradient-descent' | 'heavy-ball' | 'nesterov' | 'adam-frozen' | 'preconditioned-frozen' | 'preconditioned-heavy-ball-frozen' | 'not-applicable';
@@ -130,7 +131,7 @@ export function preconditionerDiagonal(recipe: Recipe, state: OptimizerState): F
     case 'adam':
     case 'adamw': {
       const v = recipe.amsgrad ? get('vMax') : get('v');
-      const c2 = 1 - Math.pow(recipe.beta2, state.t);
+      const c2 = 1 - powInt(recipe.beta2, state.t);
       return Float64Array.from(v, (x) => Math.sqrt(x / c2) + eps);
     }
     case 'rmsprop': {

@@ -1,0 +1,161 @@
+/**
+ * The data part of an exported PyTorch script: loading the same files the spec named (checked by
+ * their SHA-256, so a changed file stops the script instead of giving other numbers), or the
+ * inline rows embedded, and Stepwell's mini-batch order as a small Python port of its generator.
+ */
+import type { DataSetup, LossName } from '../../core/setup';
+import { pyFloats, pyString } from './py-text';
+
+/** Lines defining `X` (float64, rows × inputs) and `Y` (targets; int64 class indices for cross-entropy). */
+export function dataCode(data: DataSetup, loss: LossName, dataDir: string): string[] {
+  const yCast = loss === 'cross-entropy' ? 'Y = Y[:, 0].long()' : undefined;
+  const origin = data.origin;
+  if (origin === undefined) {
+    return [
+      `# the spec's inline rows${data.standardized ? ' (standardized as data.standardize asked)' : ''}`,
+      `X = torch.tensor(${pyFloats(data.x, '')}).reshape(${data.rows}, ${data.inputs})`,
+      `Y = torch.tensor(${pyFloats(data.y, '')}).reshape(${data.rows}, ${data.targets})`,
+      ...(yCast ? [yCast] : []),
+    ];
+  }
+  const r = origin.reading;
+  const [main, second] = origin.files;
+  const lines = [
+    `# data files, relative to DATA_DIR (--data-dir; default: ${pyString(dataDir)} beside this script)`,
+    `DATA_FILES = {${origin.files.map((f) => `${pyString(f.name)}: ${pyString(f.sha256)}`).join(', ')}}`,
+  ];
+  switch (r.format) {
+    case 'csv':
+      lines.push(
+        `CLASSES = ${origin.classes ? JSON.stringify(origin.classes) : 'None'}  # text label -> index (label CLASSES[i] is class i)`,
+        `X, Y = read_csv(${pyString(main.name)}, header=${r.header ? 'True' : 'False'}, delimiter=${pyString(r.delimiter ?? ',')}, features=${JSON.stringify(r.featureColumns)}, targets=${JSON.stringify(r.targetColumns)}, classes=CLASSES)`
+      );
+      break;
+    case 'npy':
+      lines.push(
+        `A = np.load(data_file(${pyString(main.name)})).astype(np.float64)`,
+        'A = A.reshape(-1, 1) if A.ndim == 1 else A',
+        `X = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.featureColumns)}]))`,
+        r.targetColumns !== undefined
+          ? `Y = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.targetColumns)}]))`
+          : `B = np.load(data_file(${pyString(second.name)})).astype(np.float64)\nY = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))`
+      );
+      break;
+    case 'npz':
+      lines.push(
+        `with np.load(data_file(${pyString(main.name)})) as archive:`,
+        `    A, B = archive[${pyString(r.featureArray ?? 'x')}].astype(np.float64), archive[${pyString(r.targetArray ?? 'y')}].astype(np.float64)`,
+        'X = torch.from_numpy(np.ascontiguousarray(A.reshape(-1, 1) if A.ndim == 1 else A))',
+        'Y = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))'
+      );
+      break;
+    default: {
+      const never: never = r.format;
+      throw new Error(`unknown data format ${String(never)}`);
+    }
+  }
+  if (yCast) lines.push(yCast);
+  const st = data.standardized;
+  if (st !== undefined) {
+    lines.push(
+      '# data.standardize: the training rows\' mean and population spread Stepwell computed (a constant column is only centred)',
+      `MEAN = torch.tensor(${pyFloats(st.mean, '')})`,
+      `DIVISOR = torch.tensor(${pyFloats(st.spread.map((s) => (s > 0 ? s : 1)), '')})`,
+      'X = (X - MEAN) / DIVISOR'
+    );
+  }
+  lines.push(`assert X.shape == (${data.rows}, ${data.inputs}), f"expected ${data.rows} x ${data.inputs} features, read {tuple(X.shape)}"`);
+  return lines;
+}
+
+/** Helpers the file-loading lines use (emitted only when the data come from files). */
+export function dataHelpers(usesCsv: boolean): string[] {
+  const lines = [
+    'def data_file(name):',
+    '    """Path of a data file, checked against the SHA-256 the recipe was made with."""',
+    '    path = os.path.join(DATA_DIR, name)',
+    '    with open(path, "rb") as fh:',
+    '        digest = hashlib.sha256(fh.read()).hexdigest()',
+    '    if digest != DATA_FILES[name]:',
+    '        sys.exit(f"{path}: SHA-256 {digest} differs from {DATA_FILES[name]}, the file the recipe was exported with; the losses would not match")',
+    '    return path',
+  ];
+  if (!usesCsv) return lines;
+  return lines.concat([
+    '',
+    '',
+    'def read_csv(name, header, delimiter, features, targets, classes):',
+    '    """The chosen columns of a CSV file as float64 tensors; text labels become class indices."""',
+    '    with open(data_file(name), "rb") as fh:',
+    '        text = fh.read().decode("utf-8-sig")',
+    '    rows = [r for r in csv.reader(io.StringIO(text, newline=""), delimiter=delimiter) if len(r) > 0]',
+    '    rows = rows[1:] if header else rows',
+    '    x = [[float(r[j]) for j in features] for r in rows]',
+    '    if classes is None:',
+    '        y = [[float(r[j]) for j in targets] for r in rows]',
+    '    else:',
+    '        index = {c: i for i, c in enumerate(classes)}',
+    '        y = [[float(index[r[j].strip()]) for j in targets] for r in rows]',
+    '    return torch.tensor(x, dtype=torch.float64), torch.tensor(y, dtype=torch.float64)',
+  ]);
+}
+
+/** Python port of Stepwell's mini-batch order (`core/rng.ts`, `core/session/batches.ts`). */
+export function batchOrderCode(state: readonly number[], rows: number, batch: number): string[] {
+  return [
+    'class BatchOrder:',
+    '    """Stepwell\'s mini-batch order: each epoch a Fisher-Yates permutation of the rows drawn from',
+    '    xoshiro128** (Blackman & Vigna, ACM TOMS 2021) with rejection sampling; batches are consecutive',
+    '    slices of it, the last one of an epoch holding the remainder. STATE is the generator state',
+    '    Stepwell derives from the seed for batches."""',
+    '',
+    '    M = 0xFFFFFFFF',
+    '',
+    '    def __init__(self, state, rows, batch):',
+    '        self.s, self.rows, self.batch, self.cursor = list(state), rows, batch, 0',
+    '        self.order = self.permutation()',
+    '',
+    '    @staticmethod',
+    '    def rotl(x, k):',
+    '        return ((x << k) | (x >> (32 - k))) & BatchOrder.M',
+    '',
+    '    def next_uint32(self):',
+    '        s, M = self.s, BatchOrder.M',
+    '        result = (BatchOrder.rotl((s[1] * 5) & M, 7) * 9) & M',
+    '        t = (s[1] << 9) & M',
+    '        s[2] ^= s[0]',
+    '        s[3] ^= s[1]',
+    '        s[1] ^= s[2]',
+    '        s[0] ^= s[3]',
+    '        s[2] ^= t',
+    '        s[3] = BatchOrder.rotl(s[3], 11)',
+    '        return result',
+    '',
+    '    def below(self, n):',
+    '        limit = 2**32 - (2**32 % n)',
+    '        while True:',
+    '            x = self.next_uint32()',
+    '            if x < limit:',
+    '                return x % n',
+    '',
+    '    def permutation(self):',
+    '        order = list(range(self.rows))',
+    '        for i in range(self.rows - 1, 0, -1):',
+    '            j = self.below(i + 1)',
+    '            order[i], order[j] = order[j], order[i]',
+    '        return order',
+    '',
+    '    def next(self):',
+    '        take = min(self.batch, self.rows - self.cursor)',
+    '        batch = self.order[self.cursor:self.cursor + take]',
+    '        self.cursor += take',
+    '        if self.cursor >= self.rows:',
+    '            self.cursor = 0',
+    '            self.order = self.permutation()',
+    '        return torch.tensor(batch, dtype=torch.long)',
+    '',
+    '',
+    `BATCHES = BatchOrder([${state.join(', ')}], rows=${rows}, batch=${batch})`,
+  ];
+}
+
