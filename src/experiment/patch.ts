@@ -11,7 +11,7 @@
  * Keys outside `recipe` change the setup (what is optimized) or the seed; a branch with such a
  * patch starts afresh at step 0 instead of carrying the parent's weights ({@link touchesSetup}).
  */
-import { parse as parseYaml, parseDocument, isMap, isScalar } from 'yaml';
+import { parse as parseYaml, parseDocument, isMap, isScalar, stringify as stringifyYaml } from 'yaml';
 import specSchema from './spec.schema.json';
 import { closest, formatPath, type Path, type PathSegment } from './path';
 import { parseSpecValue, readSpecValue, type SpecError, type SpecOptions, type SpecResult } from './index';
@@ -253,6 +253,115 @@ export function patchExperiment(specText: string, patch: SpecPatch, options: Spe
     errors: result.errors.map((e) => {
       const by = keys.find((k) => e.path === k.at || e.path.startsWith(`${k.at}.`) || e.path.startsWith(`${k.at}[`));
       return by ? { ...e, message: `patch '${by.key}': ${e.message}` } : e;
+    })
+  };
+}
+
+/**
+ * Applies patches one after another (a branch's ancestry: the root's first, the branch's own
+ * last), so a later key wins over an earlier one for the same spec path.
+ */
+export function applyPatches(spec: unknown, patches: readonly SpecPatch[]): { ok: true; value: Record<string, unknown> } | { ok: false; errors: SpecError[] } {
+  let value: unknown = spec;
+  for (const p of patches) {
+    const r = applyPatch(value, p);
+    if (!r.ok) return r;
+    value = r.value;
+  }
+  if (patches.length > 0) return { ok: true, value: value as Record<string, unknown> };
+  return isMapping(spec) ? { ok: true, value: structuredClone(spec) } : { ok: false, errors: [{ path: '', message: 'the spec must be a mapping before a patch can be applied' }] };
+}
+
+/**
+ * The experiment of a branch: `specText` with its ancestry's patches applied in order, validated
+ * like a spec (problems a patch introduces name the patched key, as {@link patchExperiment} does).
+ */
+export function patchChainExperiment(specText: string, patches: readonly SpecPatch[]): SpecResult {
+  if (patches.length === 0) return patchExperiment(specText, {});
+  const read = readSpecValue(specText);
+  if (!read.ok) return read;
+  const before = applyPatches(read.value, patches.slice(0, -1));
+  if (!before.ok) return before;
+  // The last patch is checked by patchExperiment's rules against the earlier ones already applied.
+  const applied = applyPatch(before.value, patches[patches.length - 1]);
+  if (!applied.ok) return applied;
+  const result = parseSpecValue(applied.value);
+  if (result.ok) return result;
+  const merged: Record<string, PatchValue> = {};
+  for (const p of patches) Object.assign(merged, p);
+  return { ok: false, errors: result.errors.map((e) => namePatchedKey(e, merged)) };
+}
+
+/** A spec problem whose path a patch key set, with the key named (`patch 'lr': …`). */
+function namePatchedKey(e: SpecError, patch: SpecPatch): SpecError {
+  for (const k of Object.keys(patch)) {
+    const p = patchPath(k);
+    const at = p.ok ? formatPath(p.path) : k;
+    if (e.path === at || e.path.startsWith(`${at}.`) || e.path.startsWith(`${at}[`)) return { ...e, message: `patch '${k}': ${e.message}` };
+  }
+  return e;
+}
+
+/**
+ * The part of a branch's spec a colleague needs to reproduce its recipe: `seed`, the whole
+ * `recipe` mapping as the patched spec has it, and every other spec path the patches set
+ * (e.g. `model.init`), as YAML text. Values the spec leaves to defaults stay unwritten.
+ */
+export function recipeExcerpt(specText: string, patches: readonly SpecPatch[]): { ok: true; yaml: string } | { ok: false; errors: SpecError[] } {
+  const read = readSpecValue(specText);
+  if (!read.ok) return read;
+  const applied = applyPatches(read.value, patches);
+  if (!applied.ok) return applied;
+  const spec = applied.value;
+  const out: Record<string, unknown> = {};
+  if (spec.seed !== undefined) out.seed = spec.seed;
+  for (const p of patches) {
+    for (const k of Object.keys(p)) {
+      const path = patchPath(k);
+      if (!path.ok || path.path[0] === 'recipe' || path.path[0] === 'seed') continue;
+      // Copy the patched leaf, or the whole list when the path goes through one (model.layers[1]…).
+      const cut = path.path.findIndex((seg) => typeof seg === 'number');
+      const keys = (cut < 0 ? path.path : path.path.slice(0, cut)) as string[];
+      let src: unknown = spec;
+      let dst = out;
+      keys.forEach((seg, i) => {
+        src = isMapping(src) ? src[seg] : undefined;
+        if (i === keys.length - 1) dst[seg] = structuredClone(src);
+        else {
+          if (!isMapping(dst[seg])) dst[seg] = {};
+          dst = dst[seg] as Record<string, unknown>;
+        }
+      });
+    }
+  }
+  out.recipe = spec.recipe ?? {};
+  return { ok: true, yaml: stringifyYaml(out, { lineWidth: 0 }) };
+}
+
+/**
+ * Checks the text of the cell's branch form: a YAML mapping of keys (see {@link parsePatchText})
+ * applied after the branch's ancestry and validated like a spec. Every problem carries the line
+ * and column of its key in the patch text (the spec's own problems, which a patch cannot fix,
+ * are reported without a position).
+ */
+export function checkPatchText(specText: string, ancestry: readonly SpecPatch[], text: string): { ok: true; patch: SpecPatch } | { ok: false; errors: SpecError[] } {
+  const parsed = parsePatchText(text);
+  if (!parsed.ok) return parsed;
+  const result = patchChainExperiment(specText, [...ancestry, parsed.patch]);
+  if (result.ok) return { ok: true, patch: parsed.patch };
+  const doc = parseDocument(text);
+  const where = new Map<string, { line: number; col: number }>();
+  if (isMap(doc.contents)) {
+    for (const pair of doc.contents.items) {
+      if (isScalar(pair.key) && pair.key.range) where.set(String(pair.key.value), positionAt(text, pair.key.range[0]));
+    }
+  }
+  return {
+    ok: false,
+    errors: result.errors.map((e) => {
+      const key = /^patch '([^']+)': /.exec(e.message)?.[1];
+      const pos = key === undefined ? undefined : where.get(key);
+      return pos ? { path: key as string, message: e.message, line: pos.line, col: pos.col } : { path: e.path, message: e.message };
     })
   };
 }

@@ -10,6 +10,8 @@ import ledgerSchema from './ledger.schema.json';
 import { fingerprintState } from '../core/session/state-data';
 import { decodeSessionState, decodeTrajectory } from './codec';
 import { migrateLedger } from './migrate';
+import { decodeReadouts } from './readouts';
+import { patchPath } from '../experiment/patch';
 import { sha256Hex } from './hash';
 import { LedgerError } from './types';
 import type { Ledger, LedgerCheckpoint } from './types';
@@ -115,13 +117,32 @@ function semanticProblems(l: Ledger, verify: boolean): string[] {
     });
     checkpointProblems(b.head, `${at}.head`, l.parameterCount, verify, errors);
     if (b.parent && b.head.step < b.parent.step) errors.push(`${at}.head.step: is ${b.head.step}, before the fork step ${b.parent.step}`);
+    if (b.restart && !b.parent) errors.push(`${at}.restart: only a forked branch can restart`);
+    if (b.restart && b.parent && b.parent.step !== 0) errors.push(`${at}.restart: a branch that restarts forks at step 0, not step ${b.parent.step}`);
+    if (b.patch && !b.parent) errors.push(`${at}.patch: the root branch runs the spec as written and has no patch`);
+    for (const key of Object.keys(b.patch ?? {})) {
+      const p = patchPath(key);
+      if (!p.ok) errors.push(`${at}.patch: ${p.message}`);
+    }
+    if (b.cursor !== undefined) {
+      if (b.cursor >= b.head.step) errors.push(`${at}.cursor: is ${b.cursor}, not before the head (step ${b.head.step}); leave it out when the branch is at its head`);
+      else if (!b.checkpoints.some((c) => c.step === b.cursor)) errors.push(`${at}.cursor: no checkpoint is stored at step ${b.cursor}`);
+      if (b.parent && b.cursor < b.parent.step) errors.push(`${at}.cursor: is ${b.cursor}, before the fork step ${b.parent.step}`);
+    }
     try {
       const records = decodeTrajectory(b.trajectory, `${at}.trajectory`);
       const lastRec = records[records.length - 1];
       if (lastRec && lastRec.step > b.head.step)
         errors.push(`${at}.trajectory.step: the last record is step ${lastRec.step}, beyond the head (step ${b.head.step})`);
+      if (b.parent && records.length > 0 && records[0].step > b.parent.step)
+        errors.push(`${at}.trajectory.step: the first record is step ${records[0].step}, after the fork step ${b.parent.step} (a forked branch keeps its records from its fork step on)`);
     } catch (err) {
       errors.push(err instanceof LedgerError ? err.message : `${at}.trajectory: ${String(err)}`);
+    }
+    try {
+      decodeReadouts(b.readouts, `${at}.readouts`);
+    } catch (err) {
+      errors.push(err instanceof LedgerError ? err.message : `${at}.readouts: ${String(err)}`);
     }
   });
   return errors;

@@ -12,6 +12,8 @@ import { capTrajectory, thinCheckpoints } from './caps';
 import { LEDGER_FORMAT, LEDGER_VERSION, LedgerError } from './types';
 import type { Ledger, LedgerBranch, LedgerCheckpoint } from './types';
 import { validateLedger } from './check';
+import { decodeReadouts, encodeReadouts } from './readouts';
+import type { DecodedReadouts, ReadoutsInput } from './readouts';
 
 /** Size limits applied while building. */
 export interface LedgerLimits {
@@ -28,13 +30,20 @@ export const DEFAULT_LEDGER_LIMITS: Readonly<LedgerLimits> = { maxCheckpoints: 2
 export interface BranchInput {
   name: string;
   parent?: { branch: string; step: number };
-  recipePatch?: Record<string, unknown>;
-  /** All step records, steps increasing. */
+  /** Flat spec keys changed against the parent (see `experiment/patch.ts`). */
+  patch?: Record<string, unknown>;
+  /** True when the patch changed the setup or seed (the branch started at step 0 afresh). */
+  restart?: boolean;
+  /** Step records to the tip, steps increasing (a forked branch's records before its fork step are dropped here). */
   trajectory: readonly StepRecord[];
   /** Saved states before the head (any subset; thinned here). */
   checkpoints: readonly SessionState[];
-  /** The latest state. */
+  /** The state at the tip. */
   head: SessionState;
+  /** The state at the cursor, when the branch is shown before its tip (always kept). */
+  cursor?: SessionState;
+  /** Latest curvature, sharpness trace and latest audit (plain data; see `readouts.ts`). */
+  readouts?: ReadoutsInput;
   /** Checkpoint steps the user pinned; never thinned away. */
   pinned?: readonly number[];
   /** Record steps that findings refer to; never thinned away. */
@@ -90,22 +99,33 @@ function checkpoint(s: SessionState): LedgerCheckpoint {
 
 function buildBranch(b: BranchInput, extraPins: readonly number[], limits: LedgerLimits): LedgerBranch {
   const byStep = new Map<number, SessionState>();
+  const pins = [...(b.pinned ?? []), ...extraPins];
+  if (b.cursor !== undefined && b.cursor.step < b.head.step) {
+    byStep.set(b.cursor.step, b.cursor);
+    pins.push(b.cursor.step);
+  }
   b.checkpoints.forEach((s, k) => {
     if (s.step > b.head.step) throw new LedgerError(`checkpoints[${k}]`, `is at step ${s.step}, after the head (step ${b.head.step})`);
     if (s.step === b.head.step) return; // the head itself
-    if (byStep.has(s.step)) throw new LedgerError(`checkpoints[${k}]`, `is a second checkpoint at step ${s.step}`);
-    byStep.set(s.step, s);
+    if (byStep.has(s.step) && s.step !== b.cursor?.step) throw new LedgerError(`checkpoints[${k}]`, `is a second checkpoint at step ${s.step}`);
+    if (!byStep.has(s.step)) byStep.set(s.step, s);
   });
-  const kept = thinCheckpoints([...byStep.keys(), b.head.step], limits.maxCheckpoints, [...(b.pinned ?? []), ...extraPins]);
+  const kept = thinCheckpoints([...byStep.keys(), b.head.step], limits.maxCheckpoints, pins);
+  // A forked branch stores its own records only: from its fork step on (the earlier ones are its parent's).
+  const own = b.parent ? b.trajectory.filter((r) => r.step >= (b.parent as { step: number }).step) : b.trajectory;
   const checkpoints = kept.filter((step) => step !== b.head.step).map((step) => within(`checkpoints(step ${step})`, () => checkpoint(byStep.get(step) as SessionState)));
   const branch: LedgerBranch = {
     name: b.name,
-    trajectory: within('trajectory', () => encodeTrajectory(capTrajectory(b.trajectory, limits.maxRecords, b.keepRecords ?? []))),
+    trajectory: within('trajectory', () => encodeTrajectory(capTrajectory(own, limits.maxRecords, b.keepRecords ?? []))),
     checkpoints,
     head: within('head', () => checkpoint(b.head)),
   };
   if (b.parent) branch.parent = { branch: b.parent.branch, step: b.parent.step };
-  if (b.recipePatch) branch.recipePatch = jsonCopy(b.recipePatch, 'recipePatch') as Record<string, unknown>;
+  if (b.patch) branch.patch = jsonCopy(b.patch, 'patch') as Record<string, unknown>;
+  if (b.restart) branch.restart = true;
+  if (b.cursor !== undefined && b.cursor.step < b.head.step) branch.cursor = b.cursor.step;
+  const readouts = within('readouts', () => encodeReadouts(b.readouts));
+  if (readouts !== undefined) branch.readouts = readouts;
   return branch;
 }
 
@@ -158,29 +178,58 @@ export function ledgerSize(l: Ledger): { bytes: number; checkpoints: number; rec
 export interface DecodedBranch {
   name: string;
   parent?: { branch: string; step: number };
-  recipePatch?: Record<string, unknown>;
+  /** Flat spec keys changed against the parent (empty for the root). */
+  patch: Record<string, unknown>;
+  restart: boolean;
+  /** Step records from step 0 (the parent's before this branch's first stored one) to the tip. */
   trajectory: StepRecord[];
   checkpoints: { step: number; fingerprint: string; state: SessionState }[];
+  /** The tip. */
   head: { step: number; fingerprint: string; state: SessionState };
+  /** The step the branch is shown at (the head's, unless the ledger keeps steps after it). */
+  cursor: number;
+  readouts: DecodedReadouts;
 }
 
 /**
- * Decodes the branch called `name` of a validated ledger.
+ * Decodes every branch of a validated ledger, in ledger order (parents first).
+ * @throws LedgerError when a field fails to decode.
+ */
+export function decodeBranches(l: Ledger): DecodedBranch[] {
+  const done = new Map<string, DecodedBranch>();
+  const cp = (c: LedgerCheckpoint, field: string) => ({ step: c.step, fingerprint: c.fingerprint, state: decodeSessionState(c.state, `${field}.state`, l.parameterCount) });
+  l.branches.forEach((b, i) => {
+    const at = `branches[${i}]`;
+    const own = decodeTrajectory(b.trajectory, `${at}.trajectory`);
+    let trajectory = own;
+    if (b.parent) {
+      const parent = done.get(b.parent.branch);
+      if (parent === undefined) throw new LedgerError(`${at}.parent.branch`, `'${b.parent.branch}' must come before '${b.name}' in the ledger`);
+      const first = own.length > 0 ? own[0].step : b.head.step;
+      trajectory = [...parent.trajectory.filter((r) => r.step < first), ...own];
+    }
+    const out: DecodedBranch = {
+      name: b.name,
+      patch: b.patch ?? {},
+      restart: b.restart === true,
+      trajectory,
+      checkpoints: b.checkpoints.map((c, k) => cp(c, `${at}.checkpoints[${k}]`)),
+      head: cp(b.head, `${at}.head`),
+      cursor: b.cursor ?? b.head.step,
+      readouts: decodeReadouts(b.readouts, `${at}.readouts`),
+    };
+    if (b.parent) out.parent = { ...b.parent };
+    done.set(b.name, out);
+  });
+  return [...done.values()];
+}
+
+/**
+ * Decodes the branch called `name` of a validated ledger (its ancestors are decoded too, for
+ * the records it shares with them).
  * @throws LedgerError when there is no such branch or a field fails to decode.
  */
 export function decodeBranch(l: Ledger, name: string): DecodedBranch {
-  const i = l.branches.findIndex((b) => b.name === name);
-  if (i < 0) throw new LedgerError('branches', `no branch is named '${name}'`);
-  const b = l.branches[i];
-  const at = `branches[${i}]`;
-  const cp = (c: LedgerCheckpoint, field: string) => ({ step: c.step, fingerprint: c.fingerprint, state: decodeSessionState(c.state, `${field}.state`, l.parameterCount) });
-  const out: DecodedBranch = {
-    name: b.name,
-    trajectory: decodeTrajectory(b.trajectory, `${at}.trajectory`),
-    checkpoints: b.checkpoints.map((c, k) => cp(c, `${at}.checkpoints[${k}]`)),
-    head: cp(b.head, `${at}.head`),
-  };
-  if (b.parent) out.parent = { ...b.parent };
-  if (b.recipePatch) out.recipePatch = b.recipePatch;
-  return out;
+  if (!l.branches.some((b) => b.name === name)) throw new LedgerError('branches', `no branch is named '${name}'`);
+  return decodeBranches(l).find((b) => b.name === name) as DecodedBranch;
 }

@@ -1,8 +1,14 @@
 /**
  * Version chain of the ledger format. Each entry of {@link MIGRATIONS} lifts a ledger of
  * version n to n + 1 as a pure function of plain JSON; reading applies them in order up to
- * {@link LEDGER_VERSION}. Version 1 is the first format, so the chain is empty today; a
- * version 2 adds `MIGRATIONS[1] = (v1) => v2` and bumps `LEDGER_VERSION`.
+ * {@link LEDGER_VERSION}.
+ *
+ * - 1 → 2: a branch's `recipePatch` (recipe keys against the spec; only ever written for
+ *   branches forked from the root, where "against the spec" and "against the parent" agree)
+ *   becomes `patch`; version 1 patched the recipe only, so no branch restarted. Version 1
+ *   branches kept their whole trajectory, which version 2 still reads (a forked branch's
+ *   records before its first stored one come from its parent, and there are none before).
+ *   Readouts did not exist: none are added.
  */
 import { LEDGER_FORMAT, LEDGER_VERSION } from './types';
 
@@ -12,8 +18,22 @@ export type LedgerJson = Record<string, unknown>;
 /** Lifts version `n` to `n + 1`; must not modify its input. */
 export type Migration = (value: LedgerJson) => LedgerJson;
 
+/** Version 1 → 2 (see the module comment). */
+export function migrateV1(value: LedgerJson): LedgerJson {
+  const branches = Array.isArray(value.branches) ? value.branches : [];
+  return {
+    ...value,
+    version: 2,
+    branches: branches.map((b: unknown) => {
+      if (!isObj(b) || !('recipePatch' in b)) return b;
+      const { recipePatch, ...rest } = b;
+      return { ...rest, patch: recipePatch };
+    })
+  };
+}
+
 /** Migrations keyed by the version they read. */
-export const MIGRATIONS: Readonly<Record<number, Migration>> = {};
+export const MIGRATIONS: Readonly<Record<number, Migration>> = { 1: migrateV1 };
 
 /** The oldest version this code can read. */
 export const OLDEST_READABLE_VERSION = 1;

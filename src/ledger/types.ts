@@ -10,7 +10,7 @@ export const LEDGER_KEY = 'stepwell';
 /** Value of {@link Ledger.format}. */
 export const LEDGER_FORMAT = 'stepwell-ledger';
 /** The version this code writes (and the newest it reads). */
-export const LEDGER_VERSION = 1;
+export const LEDGER_VERSION = 2;
 
 /**
  * A scalar that JSON can carry exactly: a finite number other than -0 as itself, anything
@@ -68,21 +68,51 @@ export interface EncodedTrajectory {
   layerUpdateRatio: string;
 }
 
-/** A trajectory forked from a checkpoint, possibly with a changed recipe. */
+/**
+ * Readouts of one branch (see `readouts.ts`): plain JSON values with exact numbers, and a
+ * digest over them.
+ */
+export interface LedgerReadouts {
+  /** SHA-256 hex over the encoded readouts (see `readoutsDigest`); exposes hand edits. */
+  digest: string;
+  /** The latest curvature measurement (must carry an integer `step`). */
+  curvature?: Record<string, unknown>;
+  /** The sharpness trace, steps increasing (each point carries an integer `step`). */
+  sharpness?: Record<string, unknown>[];
+  /** The latest gradient audit (`{step, result}`). */
+  audit?: Record<string, unknown>;
+}
+
+/**
+ * One branch of the grove: the root (the spec as written) or a branch forked from a step of its
+ * parent with a patch.
+ */
 export interface LedgerBranch {
   name: string;
-  /** Where it was forked from; absent for the main branch. */
+  /** Where it was forked from; absent for the root. */
   parent?: { branch: string; step: number };
-  /** Recipe keys changed against the spec. */
-  recipePatch?: Record<string, unknown>;
+  /** Flat spec keys (`lr`, `layers[1].lrScale`, `model.init`, …) changed against the parent. */
+  patch?: Record<string, unknown>;
+  /** True when the patch changes the setup or seed: the branch started afresh at step 0. */
+  restart?: boolean;
+  /**
+   * Step records, steps increasing. A forked branch keeps its records from at most its fork step
+   * on; the records before its first one are its parent's.
+   */
   trajectory: EncodedTrajectory;
   /** States before the head, steps strictly increasing. */
   checkpoints: LedgerCheckpoint[];
-  /** The latest state. */
+  /** The state at the branch's tip (the furthest step it reached). */
   head: LedgerCheckpoint;
+  /**
+   * The step the branch is shown at, when it lies before the head (the steps after it are kept
+   * until discarded); a checkpoint at that step is always stored. Absent: at the head.
+   */
+  cursor?: number;
+  readouts?: LedgerReadouts;
 }
 
-/** The whole metadata value, format version 1. */
+/** The whole metadata value, format version 2. */
 export interface Ledger {
   format: typeof LEDGER_FORMAT;
   version: typeof LEDGER_VERSION;

@@ -3,9 +3,11 @@
  * Stepwell reads and writes a cell (source, our metadata key, outputs).
  */
 import type { ICodeCellModel } from '@jupyterlab/cells';
-import type { IDisplayData } from '@jupyterlab/nbformat';
-import type { PartialJSONObject } from '@lumino/coreutils';
-import type { CellHost } from '../ui/ports';
+import type { IAttachments, IDisplayData } from '@jupyterlab/nbformat';
+import type { ISharedMarkdownCell, ISharedNotebook } from '@jupyter/ydoc';
+import type { PartialJSONObject, PartialJSONValue } from '@lumino/coreutils';
+import type { CellHost, RecordCell } from '../ui/ports';
+import { RECORD_KEY } from '../ui/decision-record';
 import { LEDGER_KEY } from '../ui/ledger-glue';
 import type { CellSummary } from '../ui/summary';
 import { STEPWELL_MIME } from '../ui/summary';
@@ -14,7 +16,7 @@ import { STEPWELL_MIME } from '../ui/summary';
 export function stepwellOutput(summary: CellSummary | null, markdown: string): IDisplayData {
   return {
     output_type: 'display_data',
-    data: { [STEPWELL_MIME]: { version: 1, summary } as unknown as PartialJSONObject, 'text/markdown': markdown },
+    data: { [STEPWELL_MIME]: { version: 2, summary } as unknown as PartialJSONObject, 'text/markdown': markdown },
     metadata: {}
   };
 }
@@ -24,9 +26,55 @@ export function isStepwellOutput(data: Readonly<Record<string, unknown>>): boole
   return STEPWELL_MIME in data;
 }
 
+/** Index of the decision record of the cell with id `cellId` in `notebook`, or −1. */
+export function recordIndex(notebook: ISharedNotebook, cellId: string): number {
+  return notebook.cells.findIndex(c => {
+    const meta = c.getMetadata(RECORD_KEY) as { cell?: unknown } | undefined;
+    return c.cell_type === 'markdown' && typeof meta === 'object' && meta !== null && meta.cell === cellId;
+  });
+}
+
+/**
+ * Writes a decision record into `notebook` for the cell `cellId`: in place of its existing
+ * record, or as a new markdown cell directly below it, in one transaction. No other cell changes.
+ */
+export function writeRecordCell(notebook: ISharedNotebook, cellId: string, record: RecordCell): void {
+  const at = recordIndex(notebook, cellId);
+  const attachments = record.attachments as unknown as IAttachments;
+  notebook.transact(() => {
+    if (at >= 0) {
+      const cell = notebook.getCell(at) as ISharedMarkdownCell;
+      cell.setSource(record.source);
+      cell.setAttachments(Object.keys(attachments).length > 0 ? attachments : undefined);
+      for (const [k, v] of Object.entries(record.metadata)) cell.setMetadata(k, v as PartialJSONValue);
+      return;
+    }
+    const me = notebook.cells.findIndex(c => c.getId() === cellId);
+    if (me < 0) throw new Error('the stepwell cell is no longer in the notebook; the decision record was not written');
+    notebook.insertCell(me + 1, {
+      cell_type: 'markdown',
+      source: record.source,
+      metadata: record.metadata as PartialJSONObject,
+      ...(Object.keys(attachments).length > 0 ? { attachments } : {})
+    });
+  });
+}
+
 /** Builds the cell host of a code-cell model. */
 export function cellHost(model: ICodeCellModel): CellHost {
+  const notebook = (): ISharedNotebook => {
+    const nb = model.sharedModel.notebook;
+    if (nb === null) throw new Error('the stepwell cell is not in a notebook');
+    return nb;
+  };
   return {
+    cellId: () => model.sharedModel.getId() || null,
+    findRecord: () => {
+      const nb = model.sharedModel.notebook;
+      const i = nb === null ? -1 : recordIndex(nb, model.sharedModel.getId());
+      return i < 0 ? null : i;
+    },
+    writeRecord: record => writeRecordCell(notebook(), model.sharedModel.getId(), record),
     readSource: () => model.sharedModel.getSource(),
     readLedger: (): unknown => model.getMetadata(LEDGER_KEY),
     writeLedger: (value: object) => model.setMetadata(LEDGER_KEY, value),

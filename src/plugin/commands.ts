@@ -23,6 +23,10 @@ export namespace CommandIDs {
   export const verify = 'stepwell:verify';
   export const audit = 'stepwell:audit';
   export const curvature = 'stepwell:curvature';
+  export const newBranch = 'stepwell:new-branch';
+  export const compare = 'stepwell:compare';
+  export const decisionRecord = 'stepwell:decision-record';
+  export const discardLater = 'stepwell:discard-later';
 }
 
 /** The text of a new stepwell cell (the template, with the marker line guaranteed). */
@@ -71,8 +75,8 @@ export function addCommands(
     execute: () => active()?.step(1)
   });
   commands.addCommand(CommandIDs.stepN, {
-    label: () => `Step ×${cells.settings.defaultN}`,
-    caption: 'Apply N optimizer updates (N from the settings) in the active stepwell cell',
+    label: () => `Step ×${active()?.defaultN ?? cells.settings.defaultN}`,
+    caption: 'Apply N optimizer updates (N from the cell’s Step ×N box, else the settings) in the active stepwell cell',
     ...idle,
     execute: () => active()?.step()
   });
@@ -90,14 +94,14 @@ export function addCommands(
     execute: () => active()?.stop()
   });
   commands.addCommand(CommandIDs.reset, {
-    label: 'Reset to Step 0',
-    caption: 'Start the active stepwell cell again at step 0 from its spec text',
+    label: 'Reset to Step 0…',
+    caption: 'Start the active stepwell cell again at step 0 from its spec text (asks before discarding steps or branches)',
     ...onStepwell,
     execute: () => active()?.reset()
   });
   commands.addCommand(CommandIDs.rewind, {
-    label: 'Rewind…',
-    caption: 'Open the rewind form (checkpoints or an earlier step) of the active stepwell cell',
+    label: 'Go to Step…',
+    caption: 'Open the go-to-step form (checkpoints or any recorded step; later steps are kept) of the active stepwell cell',
     ...idle,
     execute: () => active()?.setForm('rewind')
   });
@@ -118,6 +122,34 @@ export function addCommands(
     caption: 'Compute the extreme Hessian eigenvalues and the step-size stability limit in the active stepwell cell',
     ...idle,
     execute: () => active()?.measureCurvature()
+  });
+  commands.addCommand(CommandIDs.newBranch, {
+    label: 'New Branch…',
+    caption: 'Fork a branch of the active stepwell cell at a step with a changed recipe',
+    ...idle,
+    execute: () => active()?.setForm('branch')
+  });
+  commands.addCommand(CommandIDs.compare, {
+    label: 'Compare Branches',
+    caption: 'Overlay the branches of the active stepwell cell and compare them at matched steps',
+    ...idle,
+    execute: () => active()?.setTab('compare')
+  });
+  commands.addCommand(CommandIDs.decisionRecord, {
+    label: 'Write Decision Record…',
+    caption: 'Write a markdown cell below the active stepwell cell with the question, the evidence and the chosen recipe',
+    ...idle,
+    execute: () => active()?.setForm('record')
+  });
+  commands.addCommand(CommandIDs.discardLater, {
+    label: 'Discard Later Steps…',
+    caption: 'Drop the steps the shown branch keeps after its current step (asks first)',
+    isEnabled: () => {
+      const s = active()?.state;
+      return s !== undefined && s.busy === null && s.summary !== null && s.summary.step < s.summary.tip;
+    },
+    isVisible: onStepwell.isVisible,
+    execute: () => active()?.discardLater()
   });
   if (palette !== null) {
     for (const command of Object.values(CommandIDs)) palette.addItem({ command, category: 'Stepwell' });

@@ -11,6 +11,7 @@ import { ISettingRegistry } from '@jupyterlab/settingregistry';
 import type { CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
 import { spawnEngine } from '../worker/spawn';
+import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
 import { addCommands } from './commands';
 import { createExecutor } from './executor';
@@ -30,7 +31,7 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   description: 'Keeps one controller per stepwell cell and the user settings.',
   autoStart: true,
   provides: IStepwellCells,
-  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost)
+  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost, figureImage)
 };
 
 /** Runs stepwell cells in our engine and every other cell as JupyterLab would. */
@@ -57,7 +58,7 @@ const rendererPlugin: JupyterFrontEndPlugin<void> = {
 /** Commands, palette entries and settings. */
 const commandsPlugin: JupyterFrontEndPlugin<void> = {
   id: SETTINGS_PLUGIN_ID,
-  description: 'Stepwell commands (insert, step, run until, rewind, verify) and settings.',
+  description: 'Stepwell commands (insert, step, run until, go to step, branches, compare, decision record, verify) and settings.',
   autoStart: true,
   requires: [INotebookTracker, IStepwellCells],
   optional: [ICommandPalette, ISettingRegistry],

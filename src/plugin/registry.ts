@@ -5,7 +5,7 @@
  */
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
 import { MAGIC_LINE, parseSpec } from '../experiment';
-import { CellController } from '../ui/controller';
+import { CellController, type ControllerDeps } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
 import { LEDGER_KEY, ledgerGlue } from '../ui/ledger-glue';
@@ -45,13 +45,17 @@ export class StepwellCells implements IStepwellCells {
   /** The current settings (replaced when the user changes them). */
   settings: CellSettings = { ...DEFAULT_SETTINGS };
 
+  private readonly imageOf: ControllerDeps['imageOf'];
+
   /**
    * @param engine - starts an engine for a new controller.
    * @param host - the cell door over a model (see `cell-host.ts`).
+   * @param imageOf - turns a figure into an image for decision records (absent: records without image).
    */
-  constructor(engine: () => EngineClient, host: (model: ICodeCellModel) => CellHost) {
+  constructor(engine: () => EngineClient, host: (model: ICodeCellModel) => CellHost, imageOf?: ControllerDeps['imageOf']) {
     this.engine = engine;
     this.host = host;
+    this.imageOf = imageOf;
   }
 
   /** True for code cells with our metadata key or the marker line. */
@@ -84,7 +88,8 @@ export class StepwellCells implements IStepwellCells {
       engine: this.engine,
       ledger: ledgerGlue,
       checkSpec,
-      settings: () => this.settings
+      settings: () => this.settings,
+      imageOf: this.imageOf
     });
     let timer: ReturnType<typeof setTimeout> | null = null;
     const onContent = (): void => {

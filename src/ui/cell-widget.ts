@@ -1,18 +1,25 @@
 /**
- * The live widget of a stepwell cell: controls, status line, problems, progress with Stop,
- * readout tabs and the proxy-model note. A view over a {@link CellController}: it renders
- * the controller's state and forwards clicks; it never computes numbers.
+ * The live widget of a stepwell cell: status line, problems, notice and confirmation, the branch
+ * bar, controls, inline forms, progress with Stop, readout tabs and the proxy-model note. A view
+ * over a {@link CellController}: it renders the controller's state and forwards clicks; it never
+ * computes numbers.
  */
 import { Widget } from '@lumino/widgets';
 import type { CellController } from './controller';
 import { button, el, replaceChildren, show } from './dom';
-import { runUntilForm, rewindForm, readNumber } from './forms';
+import { chipSteps, readNumber, rewindForm, runUntilForm } from './forms';
+import { branchForm, confirmBar, recordForm, renameForm } from './branch-forms';
+import { branchBar } from './branch-bar';
+import { comparePanel } from './compare-panel';
+import { comparisonFigure, sharpnessOverlayFigure } from './compare-figure';
 import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
 import { auditPanel, curvaturePanel, layersPanel } from './readouts';
 import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
-import { traceFigure } from './trace-figure';
+import { traceFigure, traceText } from './trace-figure';
+import { rovingFocus } from './keyboard';
 import type { CellViewState, ReadoutTab } from './view-state';
+import { READOUT_TABS } from './view-state';
 
 /** CSS classes of the cell widget. */
 export namespace CellWidgetClass {
@@ -25,13 +32,6 @@ export namespace CellWidgetClass {
   export const tabs = 'sw-Tabs';
   export const plot = 'sw-TracePlot';
 }
-
-const TABS: [ReadoutTab, string][] = [
-  ['trace', 'Trace'],
-  ['curvature', 'Curvature'],
-  ['layers', 'Layers'],
-  ['audit', 'Audit']
-];
 
 /**
  * Least milliseconds between plot redraws while work is running. A plotly redraw costs tens
@@ -46,6 +46,8 @@ export class StepwellCellWidget extends Widget {
   private readonly statusNode = el('div', CellWidgetClass.status);
   private readonly problemsNode = el('ul', CellWidgetClass.problems);
   private readonly noticeNode = el('div', CellWidgetClass.notice);
+  private readonly confirmNode = el('div', 'sw-ConfirmSlot');
+  private readonly branchNode = el('div', 'sw-BranchSlot');
   private readonly controlsNode = el('div', CellWidgetClass.controls);
   private readonly formNode = el('div', 'sw-FormSlot');
   private readonly progressNode = el('div', CellWidgetClass.progress);
@@ -56,12 +58,18 @@ export class StepwellCellWidget extends Widget {
   private readonly plotNode = el('div', CellWidgetClass.plot);
   private readonly curvaturePlot = el('div', 'sw-CurvaturePlot');
   private readonly sharpnessPlot = el('div', 'sw-CurvaturePlot sw-SharpnessPlot');
+  private readonly comparePlot = el('div', 'sw-ComparePlot');
+  private readonly compareSharpnessPlot = el('div', 'sw-ComparePlot sw-CompareSharpnessPlot');
   private readonly nInput = el('input', 'sw-Input sw-StepN');
   private readonly buttons: Record<string, HTMLButtonElement> = {};
+  private readonly tabButtons: HTMLButtonElement[] = [];
+  private setBranchProblems: ((p: CellViewState['branchProblems']) => void) | null = null;
   private lastPlot = 0;
   private plotTimer: number | null = null;
   private renderedPanel: string | null = null;
   private renderedForm: string | null = null;
+  private renderedBar: string | null = null;
+  private renderedConfirm: string | null = null;
   private themeObserver: MutationObserver | null = null;
 
   /** @param options - the controller whose state this widget shows. */
@@ -81,41 +89,42 @@ export class StepwellCellWidget extends Widget {
     this.problemsNode.setAttribute('role', 'alert');
     this.noticeNode.setAttribute('role', 'status');
     this.nInput.setAttribute('aria-label', 'steps per Step ×N');
-    this.nInput.value = '';
-    this.nInput.placeholder = String(c.defaultN);
-    this.nInput.addEventListener('input', () => this.labelStepN());
+    this.nInput.value = c.state.stepN;
+    this.nInput.placeholder = String(c.settings.defaultN);
+    this.nInput.addEventListener('input', () => c.setStepN(this.nInput.value));
     const add = (key: string, label: string, title: string, onClick: () => void): void => {
       this.buttons[key] = button(label, title, onClick, `sw-Button-${key}`);
     };
     add('step', 'Step', 'Apply one optimizer update', () => void c.step(1));
     add('stepN', 'Step ×N', 'Apply N optimizer updates (N from the box, default from settings)', () => {
       const text = this.nInput.value;
-      if (text.trim() === '') return void c.step();
-      const n = readNumber(text, 'N', true, 1);
+      const n = text.trim() === '' ? c.defaultN : readNumber(text, 'N', true, 1);
       if (typeof n === 'string') c.say('error', `Step ×N: ${n}.`);
       else void c.step(n);
     });
     add('until', 'Run until…', 'Step until a condition holds', () => c.setForm(c.state.form === 'run-until' ? null : 'run-until'));
-    add('rewind', 'Rewind…', 'Go back to a checkpoint or an earlier step', () => c.setForm(c.state.form === 'rewind' ? null : 'rewind'));
-    add('reset', 'Reset', 'Start again at step 0 from the spec text', () => void c.reset());
-    add('verify', 'Verify', 'Replay from the seed and compare bit for bit', () => void c.verify());
+    add('rewind', 'Go to step…', 'Go back (or forward) to a checkpoint or any recorded step; later steps are kept', () => c.setForm(c.state.form === 'rewind' ? null : 'rewind'));
+    add('reset', 'Reset…', 'Start again at step 0 from the spec text (asks before discarding steps or branches)', () => void c.reset());
+    add('verify', 'Verify', 'Replay every branch from the seed and compare bit for bit', () => void c.verify());
     add('start', 'Start over', 'Replace the unreadable ledger with a new session from the spec', () => void c.run(true));
-    this.labelStepN();
     this.controlsNode.append(
       this.buttons.step, this.buttons.stepN, this.nInput, this.buttons.until, this.buttons.rewind,
       this.buttons.reset, this.buttons.verify, this.buttons.start
     );
     this.progressNode.append(this.progressText, this.progressBar,
       button('Stop', 'End the running work after the current update', () => c.stop(), 'sw-Button-stop'));
-    for (const [tab, label] of TABS) {
+    READOUT_TABS.forEach(([tab, label]) => {
       const b = button(label, `Show the ${label.toLowerCase()} readout`, () => c.setTab(tab), 'sw-Tab');
       b.dataset.tab = tab;
       b.setAttribute('role', 'tab');
+      this.tabButtons.push(b);
       this.tabsNode.appendChild(b);
-    }
+    });
     this.tabsNode.setAttribute('role', 'tablist');
-    this.node.append(head, this.problemsNode, this.noticeNode, this.controlsNode, this.formNode, this.progressNode,
-      this.tabsNode, this.panelNode, el('p', 'sw-ProxyNote', PROXY_NOTE));
+    this.tabsNode.setAttribute('aria-label', 'Readouts (arrow keys switch)');
+    this.panelNode.setAttribute('role', 'tabpanel');
+    this.node.append(head, this.problemsNode, this.noticeNode, this.confirmNode, this.branchNode, this.controlsNode, this.formNode,
+      this.progressNode, this.tabsNode, this.panelNode, el('p', 'sw-ProxyNote', PROXY_NOTE));
   }
 
   private onState(_: CellController, state: CellViewState): void {
@@ -123,26 +132,37 @@ export class StepwellCellWidget extends Widget {
   }
 
   private render(s: CellViewState): void {
-    const last = s.trajectory[s.trajectory.length - 1];
+    const step = shownStep(s);
+    const atCursor = s.summary === null ? undefined : s.trajectory.find(r => r.step === step);
+    const many = (s.summary?.branches.length ?? 0) > 1;
     this.statusNode.textContent =
       s.summary === null
         ? s.ledger === 'corrupt' ? 'unreadable ledger' : 'no session yet: run the cell (Shift+Enter)'
-        : `${statusLine({ step: last?.step ?? s.summary.step, last, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
-          ` · ${s.summary.recipe}`;
+        : `${statusLine({ step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
+          `${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
+          (s.specEdited ? ' · previous spec' : '');
     replaceChildren(this.problemsNode, s.problems.map(p => el('li', 'sw-Problem', problemLine(p))));
     show(this.problemsNode, s.problems.length > 0);
-    const notice = s.specEdited
-      ? { level: 'warn', text: 'Spec edited: run the cell (Shift+Enter) or Reset to start a session from the new text.' }
+    const notice = s.specEdited && s.notice === null
+      ? {
+          level: 'warn',
+          text: s.problems.length > 0
+            ? 'The spec is edited and has problems (listed above): fix them, then run the cell (Shift+Enter) to start from the new text. The readouts still show the session of the previous text.'
+            : 'Spec edited: run the cell (Shift+Enter) to start a new session from it (you are asked before steps are discarded), or undo the edit to go on.'
+        }
       : s.notice;
     this.noticeNode.textContent = notice?.text ?? '';
     this.noticeNode.dataset.level = notice?.level ?? '';
     show(this.noticeNode, notice !== null);
+    this.renderConfirm(s);
     const busy = s.busy !== null;
     const hasSession = s.summary !== null;
     for (const key of ['step', 'stepN', 'until', 'rewind', 'verify']) this.buttons[key].disabled = busy || !hasSession || s.specEdited;
     this.buttons.reset.disabled = busy || s.problems.length > 0;
     show(this.buttons.start, s.ledger === 'corrupt');
     this.buttons.reset.hidden = s.ledger === 'corrupt';
+    this.buttons.stepN.textContent = `Step ×${this.controller.defaultN}`;
+    if (this.nInput.value !== s.stepN) this.nInput.value = s.stepN;
     show(this.progressNode, busy);
     if (s.busy !== null) {
       this.progressBar.max = Math.max(1, s.busy.total);
@@ -150,23 +170,76 @@ export class StepwellCellWidget extends Widget {
       else this.progressBar.removeAttribute('value');
       this.progressText.textContent = s.busy.total > 0 ? `${s.busy.action}: ${s.busy.done} / ${s.busy.total}` : `${s.busy.action}…`;
     }
+    this.renderBranchBar(s);
     this.renderForm(s);
-    for (const b of Array.from(this.tabsNode.children) as HTMLElement[]) {
-      b.setAttribute('aria-selected', String(b.dataset.tab === s.tab));
-    }
+    this.setBranchProblems?.(s.branchProblems);
+    const selected = READOUT_TABS.findIndex(([t]) => t === s.tab);
+    this.tabButtons.forEach((b, i) => b.setAttribute('aria-selected', String(i === selected)));
+    rovingFocus(this.tabsNode, this.tabButtons, selected, i => this.controller.setTab(READOUT_TABS[i][0]));
     this.renderPanel(s);
   }
 
+  private renderConfirm(s: CellViewState): void {
+    const key = s.confirm === null ? null : `${s.confirm.kind}:${s.confirm.text}`;
+    if (key === this.renderedConfirm) return;
+    this.renderedConfirm = key;
+    const c = this.controller;
+    if (s.confirm === null) return replaceChildren(this.confirmNode, []);
+    const bar = confirmBar(s.confirm, () => void c.confirm(), () => c.cancelConfirm());
+    replaceChildren(this.confirmNode, [bar]);
+    bar.querySelector<HTMLButtonElement>('.sw-Button-keep')?.focus();
+  }
+
+  private renderBranchBar(s: CellViewState): void {
+    const branches = s.summary?.branches ?? [];
+    const key = JSON.stringify([branches, s.summary?.branch, s.busy !== null, s.specEdited]);
+    if (key === this.renderedBar) return;
+    this.renderedBar = key;
+    if (s.summary === null) return replaceChildren(this.branchNode, []);
+    const c = this.controller;
+    replaceChildren(this.branchNode, [branchBar(branches, s.summary.branch, s.busy !== null, {
+      switchTo: name => void c.switchBranch(name),
+      newBranch: () => c.setForm(c.state.form === 'branch' ? null : 'branch'),
+      rename: () => c.setForm(c.state.form === 'rename' ? null : 'rename'),
+      remove: name => void c.deleteBranch(name),
+      discard: () => void c.discardLater(),
+      compare: () => c.setTab('compare')
+    }, s.specEdited)]);
+  }
+
   private renderForm(s: CellViewState): void {
-    const key = s.form === null ? null : `${s.form}:${s.summary?.step}`;
+    const key = s.form === null || s.summary === null ? null : `${s.form}:${s.summary.branch}:${s.summary.step}:${s.summary.tip}`;
     if (key === this.renderedForm) return;
     this.renderedForm = key;
+    this.setBranchProblems = null;
     const c = this.controller;
     const close = (): void => c.setForm(null);
-    if (s.form === 'run-until') replaceChildren(this.formNode, [runUntilForm(s.runUntil, (k, m) => void c.runUntil(k, m), close)]);
-    else if (s.form === 'rewind' && s.summary !== null)
-      replaceChildren(this.formNode, [rewindForm(s.summary.checkpointSteps, s.summary.step, step => void c.rewind(step), close)]);
-    else replaceChildren(this.formNode, []);
+    const sum = s.summary;
+    if (s.form === null || sum === null) return replaceChildren(this.formNode, []);
+    const chips = chipSteps(sum.checkpointSteps, sum.step, sum.tip, c.settings.checkpointCap);
+    switch (s.form) {
+      case 'run-until':
+        return replaceChildren(this.formNode, [runUntilForm(s.runUntil, (k, m) => void c.runUntil(k, m), close)]);
+      case 'rewind':
+        return replaceChildren(this.formNode, [rewindForm(chips, sum.step, sum.tip, step => void c.rewind(step), close)]);
+      case 'branch': {
+        const info = sum.branches.find(b => b.name === sum.branch);
+        const form = branchForm({
+          from: sum.branch, step: sum.step, tip: sum.tip, first: info?.forkStep ?? 0, checkpoints: chips,
+          onInput: text => c.checkBranchForm(text),
+          onSubmit: (text, step, name) => void c.submitBranchForm(text, step, name),
+          onCancel: close
+        });
+        this.setBranchProblems = form.setProblems;
+        replaceChildren(this.formNode, [form.node]);
+        form.node.querySelector('textarea')?.focus();
+        return;
+      }
+      case 'rename':
+        return replaceChildren(this.formNode, [renameForm(sum.branch, to => void c.renameBranch(sum.branch, to), close)]);
+      case 'record':
+        return replaceChildren(this.formNode, [recordForm(sum.branches, sum.branch, (q, chosen) => void c.writeDecisionRecord(q, chosen), close)]);
+    }
   }
 
   private renderPanel(s: CellViewState): void {
@@ -177,48 +250,56 @@ export class StepwellCellWidget extends Widget {
       return;
     }
     const last = s.trajectory[s.trajectory.length - 1];
+    const step = s.summary?.step ?? 0;
     const key =
-      `${s.tab}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}:` +
-      `${s.sharpness.length}:${s.sharpness[s.sharpness.length - 1]?.step}`;
+      `${s.tab}:${s.summary?.branch}:${step}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}:` +
+      `${s.sharpness.length}:${s.sharpness[s.sharpness.length - 1]?.step}:${s.stepN}:` +
+      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
     if (key === this.renderedPanel) return;
     this.renderedPanel = key;
     // The plot nodes are reused across panel rebuilds (plotly updates them in place); they are
     // released in dispose() only, since purging one with a redraw pending breaks plotly.
+    const c = this.controller;
+    const atCursor = s.trajectory.find(r => r.step === step) ?? last;
     let panel: HTMLElement;
     switch (s.tab) {
       case 'layers':
-        panel = layersPanel(last);
+        panel = layersPanel(atCursor);
         break;
       case 'audit':
-        panel = auditPanel(s.audit, () => void this.controller.audit(), s.busy !== null);
+        panel = auditPanel(s.audit, () => void c.audit(), s.busy !== null, step);
         break;
       case 'curvature':
         panel = curvaturePanel(
           s.curvature,
           s.sharpness,
-          { measure: () => void this.controller.measureCurvature(), track: () => void this.controller.trackSharpness(this.stepsFromBox()), trackSteps: this.stepsFromBox() },
+          { measure: () => void c.measureCurvature(), track: () => void c.trackSharpness(), trackSteps: c.defaultN },
           s.busy !== null,
-          { spectrum: this.curvaturePlot, history: this.sharpnessPlot }
+          { spectrum: this.curvaturePlot, history: this.sharpnessPlot },
+          step
         );
+        break;
+      case 'compare':
+        panel = comparePanel(s.comparison, s.summary?.branches ?? [], s.busy !== null, {
+          choose: names => void c.setCompared(names),
+          axis: axis => c.setCompareAxis(axis),
+          refresh: () => void c.compare(),
+          record: () => c.setForm('record')
+        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot });
         break;
     }
     replaceChildren(this.panelNode, [panel]);
-    if (s.tab === 'curvature' && this.isAttached) {
-      const theme = readTheme(this.node);
+    if (!this.isAttached) return;
+    const theme = readTheme(this.node);
+    if (s.tab === 'curvature') {
       if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
       if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
     }
-  }
-
-  /** Shows the N that Step ×N will use on its button. */
-  private labelStepN(): void {
-    this.buttons.stepN.textContent = `Step ×${this.stepsFromBox()}`;
-  }
-
-  /** N of the Step ×N box, or the default when it is empty or invalid. */
-  private stepsFromBox(): number {
-    const n = readNumber(this.nInput.value, 'N', true, 1);
-    return typeof n === 'number' ? n : this.controller.defaultN;
+    if (s.tab === 'compare' && s.comparison.data !== null) {
+      const traces = s.comparison.data.traces;
+      void renderFigure(this.comparePlot, comparisonFigure(traces, s.comparison.axis, theme));
+      if (traces.some(t => t.sharpness.length > 0)) void renderFigure(this.compareSharpnessPlot, sharpnessOverlayFigure(traces, theme));
+    }
   }
 
   private schedulePlot(throttle: boolean): void {
@@ -233,8 +314,12 @@ export class StepwellCellWidget extends Widget {
     this.plotTimer = null;
     this.lastPlot = performance.now();
     const s = this.controller.state;
-    if (s.trajectory.length === 0 || s.tab !== 'trace' || this.isDisposed) return;
-    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node)));
+    if (s.trajectory.length === 0 || s.tab !== 'trace' || this.isDisposed || !this.isAttached) return;
+    // While stepping, the records arriving are past the summary's step: no cursor to mark then.
+    const cursor = s.busy === null ? s.summary?.step : undefined;
+    this.plotNode.setAttribute('role', 'img');
+    this.plotNode.setAttribute('aria-label', traceText(s.trajectory, cursor));
+    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node), { cursor }));
   }
 
   /** Draws the plot once the node is in the page, and follows theme changes. */
@@ -254,21 +339,29 @@ export class StepwellCellWidget extends Widget {
     this.themeObserver = null;
   }
 
-  /** Re-lays out the plot after a resize. */
+  /** Re-lays out the displayed plots after a resize (hidden ones are laid out when shown). */
   protected onResize(): void {
-    resizeFigure(this.plotNode);
+    for (const node of [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot]) resizeFigure(node);
   }
 
-  /** Disconnects from the controller and frees the plot. Idempotent. */
+  /** Disconnects from the controller and frees the plots. Idempotent. */
   dispose(): void {
     if (this.isDisposed) return;
     this.controller.changed.disconnect(this.onState, this);
     if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
-    releaseFigure(this.plotNode);
-    releaseFigure(this.curvaturePlot);
-    releaseFigure(this.sharpnessPlot);
+    for (const node of [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot]) releaseFigure(node);
     super.dispose();
   }
+}
+
+/**
+ * The step the status line shows: the branch's cursor, or, while stepping, the newest record
+ * that has arrived (the summary is refreshed when the request ends).
+ */
+function shownStep(s: CellViewState): number {
+  const step = s.summary?.step ?? 0;
+  const last = s.trajectory[s.trajectory.length - 1];
+  return s.busy !== null && last !== undefined && last.step > step ? last.step : step;
 }
 
 /** Options of {@link StepwellCellWidget}. */
@@ -278,3 +371,6 @@ export namespace StepwellCellWidget {
     controller: CellController;
   }
 }
+
+/** The tab a readout lives on (for commands that open one). */
+export type { ReadoutTab };

@@ -1,124 +1,50 @@
 /**
- * The controller of one stepwell cell: reads the ledger, drives the engine, keeps the
- * view state, and writes the whole ledger back after each completed action. No DOM and no
- * JupyterLab imports; views subscribe to {@link CellController.changed}.
+ * The controller of one stepwell cell: reads the ledger, drives the engine, keeps the view
+ * state, and writes the whole ledger back after each completed action. No DOM and no JupyterLab
+ * imports; views subscribe to {@link CellController.changed}. Branch actions (fork, switch,
+ * rename, delete, compare) and the decision record are in {@link BranchController}, which this
+ * class extends.
+ *
+ * Running the cell (Shift+Enter) is deterministic: with problems in the text nothing runs and
+ * the session shown stays; with the text the session belongs to, the session goes on unchanged;
+ * with any other text a new session starts at step 0 — after a confirmation when steps or
+ * branches would be lost.
  */
-import { Signal } from '@lumino/signaling';
-import type { ISignal } from '@lumino/signaling';
 import type { StepRecord } from '../core/state';
-import type { EngineClient, FinalReply, ProgressReply, RequestBody } from '../worker/client';
+import type { RequestBody } from '../worker/client';
 import type { StopCondition } from '../worker/protocol';
-import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, errorMarkdown, markdownSummary, meanMs, problemLine, verifyLine } from './summary';
-import type { CellViewState, Notice, ReadoutTab } from './view-state';
-import { initialViewState, mergeSharpness, viewFromLedger } from './view-state';
 import { RECENT_RECORDS, thinInPlace } from '../worker/sampling';
+import { BranchController, type ControllerDeps } from './branch-controller';
+import { readNumber } from './forms';
+import { errorMarkdown, meanMs, problemLine, requestMs, verifyLines } from './summary';
+import type { Notice } from './view-state';
+import { mergeSharpness } from './view-state';
 
-/** Collaborators of a {@link CellController}. */
-export interface ControllerDeps {
-  host: CellHost;
-  /** Starts an engine (a Worker in the browser, an in-process host in tests). */
-  engine: () => EngineClient;
-  ledger: LedgerGlue;
-  checkSpec: SpecChecker;
-  settings: () => CellSettings;
-}
+export type { ControllerDeps } from './branch-controller';
 
 /** Drives one stepwell cell. */
-export class CellController {
-  private readonly deps: ControllerDeps;
-  private st: CellViewState = initialViewState();
-  private readonly changedSignal = new Signal<this, CellViewState>(this);
-  private engine: EngineClient | null = null;
-  /** True when the engine holds the session shown in the state. */
-  private engineInSync = false;
-  /** The ledger content last read or written: what a lazily started engine resumes from. */
-  private content: LedgerContent | null = null;
-  private disposedFlag = false;
-
-  /** @param deps - the cell, engine factory, ledger glue, spec checker and settings. */
+export class CellController extends BranchController {
+  /** @param deps - the cell, engine factory, ledger glue, spec checker, settings and image maker. */
   constructor(deps: ControllerDeps) {
-    this.deps = deps;
+    super(deps);
     this.readLedger();
   }
 
-  /** Fires with the new state after every change. */
-  get changed(): ISignal<this, CellViewState> {
-    return this.changedSignal;
-  }
-
-  /** The current view state (replace-only; do not mutate). */
-  get state(): CellViewState {
-    return this.st;
-  }
-
-  /** Steps of "Step ×N" from the settings. */
+  /** Steps of "Step ×N": the box's N when it holds a whole number ≥ 1, else the settings' default. */
   get defaultN(): number {
-    return this.deps.settings().defaultN;
+    const n = readNumber(this.st.stepN, 'N', true, 1);
+    return typeof n === 'number' ? n : this.deps.settings().defaultN;
   }
 
-  /** True after {@link dispose}. */
-  get isDisposed(): boolean {
-    return this.disposedFlag;
-  }
-
-  /** Ends the engine and disconnects views. Idempotent. */
-  dispose(): void {
-    if (this.disposedFlag) return;
-    this.disposedFlag = true;
-    this.engine?.dispose();
-    this.engine = null;
-    Signal.clearData(this);
-  }
-
-  private set(patch: Partial<CellViewState>): void {
-    if (this.disposedFlag) return;
-    this.st = { ...this.st, ...patch };
-    this.changedSignal.emit(this.st);
-  }
-
-  private notice(level: Notice['level'], text: string): void {
-    this.set({ notice: { level, text } });
-  }
-
-  /** Shows a message in the cell (e.g. a bad value typed into a control). */
-  say(level: Notice['level'], text: string): void {
-    this.notice(level, text);
-  }
-
-  /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
-  readLedger(): void {
-    const raw = this.deps.host.readLedger();
-    const read = this.deps.ledger.read(raw);
-    this.content = read.kind === 'ok' ? read.content : null;
-    this.engineInSync = false;
-    this.set(viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec));
-  }
-
-  /** Re-checks the editor's text (call on source changes, debounced). */
-  sourceChanged(): void {
-    const source = this.deps.host.readSource();
-    this.set({
-      problems: this.deps.checkSpec(source),
-      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
-    });
-  }
-
-  /** Switches the readout tab. */
-  setTab(tab: ReadoutTab): void {
-    this.set({ tab });
-  }
-
-  /** Opens or closes an inline form. */
-  setForm(form: CellViewState['form']): void {
-    this.set({ form });
+  /** Sets the text of the Step ×N box (the button, the tracking button and Alt+Shift+S all use it). */
+  setStepN(text: string): void {
+    this.set({ stepN: text });
   }
 
   /**
-   * Runs the cell (Shift+Enter): starts a new session from the editor's text when it
-   * changed (or none exists), else keeps the session and refreshes the outputs.
+   * Runs the cell (Shift+Enter); see the module comment for the rule.
    *
-   * @param force - also replace an unreadable ledger.
+   * @param force - start over without asking (after a confirmation), or replace an unreadable ledger.
    * @returns true when the cell now holds a session for its text.
    */
   async run(force = false): Promise<boolean> {
@@ -128,10 +54,13 @@ export class CellController {
     }
     const source = this.deps.host.readSource();
     const problems = this.deps.checkSpec(source);
-    this.set({ problems });
+    this.set({ problems, specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec });
     if (problems.length > 0) {
       if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(problems.map(problemLine)));
-      this.notice('error', `The spec has ${problems.length} problem${problems.length > 1 ? 's' : ''}; nothing was run.`);
+      const count = `${problems.length} problem${problems.length > 1 ? 's' : ''}`;
+      this.notice('error', this.st.summary === null
+        ? `The spec has ${count} (listed above); nothing was run.`
+        : `The spec has ${count} (listed above); nothing was run. The readouts still show the session of the previous text, at step ${this.st.summary.step}.`);
       return false;
     }
     if (this.st.ledger === 'corrupt' && !force) {
@@ -142,11 +71,15 @@ export class CellController {
       this.writeOutputs();
       return true;
     }
+    if (!force && this.askBeforeLosingWork('The spec changed. Running it starts a new session at step 0 from the new text')) return false;
     return this.loadFresh(source);
   }
 
-  /** Discards the session and starts again at step 0 from the editor's current text. */
-  async reset(): Promise<boolean> {
+  /**
+   * Discards every branch and starts again at step 0 from the editor's current text; asks first
+   * (see {@link CellViewState.confirm}) when steps or branches would be lost, unless `force`.
+   */
+  async reset(force = false): Promise<boolean> {
     if (this.st.busy !== null) return false;
     const source = this.deps.host.readSource();
     const problems = this.deps.checkSpec(source);
@@ -154,77 +87,17 @@ export class CellController {
       this.set({ problems, notice: { level: 'error', text: 'Fix the spec before resetting; nothing was changed.' } });
       return false;
     }
+    if (!force && this.askBeforeLosingWork('Reset starts a new session at step 0 from the spec text')) return false;
     return this.loadFresh(source);
   }
 
-  private async loadFresh(source: string): Promise<boolean> {
-    const engine = this.ensureEngine();
-    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, audit: null, curvature: null, sharpness: [], verify: null });
-    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
-    this.set({ busy: null });
-    if (reply.kind === 'spec-errors') {
-      this.set({ problems: reply.errors });
-      this.notice('error', 'The engine rejected the spec; see the problems above.');
-      return false;
-    }
-    if (reply.kind !== 'ready') return this.failed(reply);
-    this.engineInSync = true;
-    this.set({
-      ledger: 'ok',
-      ledgerMessage: undefined,
-      sessionSpec: source,
-      specEdited: false,
-      summary: reply.summary,
-      trajectory: reply.trajectory,
-      warnings: reply.warnings,
-      msPerStep: undefined,
-      notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
-    });
-    return this.persist();
-  }
-
-  private ensureEngine(): EngineClient {
-    if (this.engine === null) {
-      this.engine = this.deps.engine();
-      this.engineInSync = false;
-    }
-    return this.engine;
-  }
-
-  /** Makes sure the engine holds the session in the state (resuming from the ledger). */
-  private async syncEngine(): Promise<EngineClient | null> {
-    const engine = this.ensureEngine();
-    if (this.engineInSync) return engine;
-    const c = this.content;
-    if (c === null) {
-      this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
-      return null;
-    }
-    const reply = await engine.request({
-      kind: 'load',
-      specText: c.specText,
-      checkpointEvery: this.deps.settings().checkpointEvery,
-      resume: { state: c.state, trajectory: c.trajectory, checkpoints: c.checkpoints }
-    });
-    if (reply.kind === 'spec-errors') {
-      this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
-      return null;
-    }
-    if (reply.kind !== 'ready') {
-      this.failed(reply);
-      return null;
-    }
-    this.engineInSync = true;
-    return engine;
-  }
-
-  /** Advances `n` optimizer steps (default: the "Step ×N" setting). */
-  step(n = this.deps.settings().defaultN): Promise<boolean> {
+  /** Advances `n` optimizer steps on the active branch (default: {@link defaultN}). */
+  step(n = this.defaultN): Promise<boolean> {
     return this.stepping(`Step ×${n}`, { kind: 'step', n }, n);
   }
 
   /** Advances `n` steps measuring the sharpness about 50 times along the way (and at the start). */
-  trackSharpness(n = this.deps.settings().defaultN): Promise<boolean> {
+  trackSharpness(n = this.defaultN): Promise<boolean> {
     const every = Math.max(1, Math.round(n / 50));
     return this.stepping(`Step ×${n} tracking λmax`, { kind: 'step', n, sharpnessEvery: every }, n);
   }
@@ -238,24 +111,23 @@ export class CellController {
   private async stepping(action: string, body: RequestBody, total: number): Promise<boolean> {
     if (this.st.busy !== null) return false;
     if (this.st.specEdited) {
-      this.notice('warn', 'The spec was edited since this session started: run the cell or Reset to apply it, or undo the edit to continue.');
+      this.notice('warn', 'The spec was edited since this session started: run the cell to start from the new text, or undo the edit to continue.');
       return false;
     }
     const engine = await this.syncEngine();
     if (engine === null) return false;
     // Only the newest records are kept for the timing; a long run would otherwise hold all of them.
     const produced: StepRecord[] = [];
-    this.set({ busy: { action, done: 0, total }, notice: null, verify: null });
-    const onProgress = (p: ProgressReply): void => {
+    this.set({ busy: { action, done: 0, total }, notice: null, verify: null, confirm: null });
+    const reply = await engine.request(body, p => {
       for (const r of p.records.slice(-RECENT_RECORDS)) produced.push(r);
       if (produced.length > 2 * RECENT_RECORDS) produced.splice(0, produced.length - RECENT_RECORDS);
       this.set({
         busy: { action, done: p.done, total },
-        trajectory: thinInPlace(this.st.trajectory.concat(p.records)),
+        trajectory: thinInPlace(this.st.trajectory.concat(p.records.filter(r => r.step > this.lastStep()))),
         sharpness: mergeSharpness(this.st.sharpness, p.sharpness)
       });
-    };
-    const reply = await engine.request(body, onProgress);
+    });
     if (reply.kind !== 'stepped') {
       this.set({ busy: null });
       return this.failed(reply);
@@ -270,7 +142,7 @@ export class CellController {
       case 'non-finite':
         notice = {
           level: 'error',
-          text: `The loss became non-finite at step ${last?.step ?? reply.summary.step}: the recipe diverged. Rewind or change the recipe.`
+          text: `The loss became non-finite at step ${last?.step ?? reply.summary.step}: the recipe diverged. Rewind, or make a branch with a changed recipe.`
         };
         break;
       case 'condition':
@@ -282,74 +154,65 @@ export class CellController {
     this.set({
       busy: null,
       summary: reply.summary,
-      trajectory: thinInPlace(this.st.trajectory.concat(reply.records)),
+      trajectory: thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep()))),
       sharpness: mergeSharpness(this.st.sharpness, reply.sharpness),
-      msPerStep: meanMs(produced.slice(-RECENT_RECORDS)),
+      msPerStep: requestMs(reply.updates, reply.elapsedMs) ?? meanMs(produced.slice(-RECENT_RECORDS)) ?? this.st.msPerStep,
       notice
     });
     return this.persist();
   }
 
-  /**
-   * One request with the busy state shown (progress included) and the engine synced first.
-   *
-   * @returns the final reply, or null when busy or no session exists (a notice says why).
-   */
-  private async exchange(action: string, body: RequestBody, total = 0): Promise<FinalReply | null> {
-    if (this.st.busy !== null) return null;
-    const engine = await this.syncEngine();
-    if (engine === null) return null;
-    this.set({ busy: { action, done: 0, total } });
-    const reply = await engine.request(body, p => this.set({ busy: { action, done: p.done, total: p.total } }));
-    this.set({ busy: null });
-    return reply;
+  /** The last step of the displayed trace (re-stepped kept steps are already in it). */
+  private lastStep(): number {
+    const t = this.st.trajectory;
+    return t.length > 0 ? t[t.length - 1].step : -1;
   }
 
-  /** Rewinds to `step` (≤ the current step), replaying from the nearest checkpoint. */
+  /**
+   * Moves the active branch to `step` (any step up to its furthest), replaying from the nearest
+   * saved state. The later steps are kept: stepping on with the same recipe walks through them
+   * again; {@link discardLater} drops them.
+   */
   async rewind(step: number): Promise<boolean> {
     this.set({ form: null });
-    const reply = await this.exchange(`Rewind to ${step}`, { kind: 'rewind', step });
+    const reply = await this.exchange(`Go to step ${step}`, { kind: 'rewind', step });
     if (reply === null) return false;
     if (reply.kind !== 'rewound') return this.failed(reply);
-    this.set({
-      summary: reply.summary,
-      trajectory: reply.trajectory,
-      audit: null,
-      curvature: null,
-      verify: null,
-      notice: null,
-      sharpness: this.st.sharpness.filter(p => p.step <= reply.summary.step)
-    });
+    this.applyView(reply);
+    const s = reply.summary;
+    this.set({ notice: s.step < s.tip ? { level: 'info', text: `At step ${s.step}; the steps up to ${s.tip} are kept. Stepping on replays them; "Discard later steps" drops them.` } : null });
     return this.persist();
   }
 
-  /** Runs the gradient audit at the current parameters. */
+  /** Runs the gradient audit at the current parameters of the active branch. */
   async audit(): Promise<boolean> {
     const reply = await this.exchange('Gradient audit', { kind: 'gradcheck', sample: this.deps.settings().auditSample });
     if (reply === null) return false;
     if (reply.kind !== 'audit') return this.failed(reply);
     this.set({ audit: { step: reply.step, result: reply.result }, tab: 'audit' });
-    return true;
+    return this.persist();
   }
 
-  /** Measures the Hessian spectrum and the recipe's stability limit at the current step. */
+  /** Measures the Hessian spectrum and the recipe's stability limit at the active branch's step. */
   async measureCurvature(): Promise<boolean> {
     const { eigenCount, denseHessianLimit } = this.deps.settings();
     const reply = await this.exchange('Measuring curvature', { kind: 'curvature', k: eigenCount, denseLimit: denseHessianLimit });
     if (reply === null) return false;
     if (reply.kind !== 'curvature') return this.failed(reply);
     this.set({ curvature: reply.result, tab: 'curvature' });
-    return true;
+    return this.persist();
   }
 
-  /** Replays from the seed and compares with the current session. */
+  /** Replays every branch from the seed and compares each bit for bit. */
   async verify(): Promise<boolean> {
     this.set({ verify: null });
-    const reply = await this.exchange('Verify', { kind: 'verify' }, this.st.summary?.step ?? 0);
+    const names = this.st.summary?.branches.map(b => b.name) ?? [];
+    const total = this.st.summary?.branches.reduce((a, b) => a + b.tip, 0) ?? 0;
+    const reply = await this.exchange('Verify', { kind: 'verify', branches: names }, total);
     if (reply === null) return false;
     if (reply.kind !== 'verified') return this.failed(reply);
-    const ok = reply.result.match === 'bit-identical';
-    this.set({ verify: reply.result, notice: { level: ok ? 'info' : 'error', text: verifyLine(reply.result) } });
+    const ok = reply.results.every(r => r.match === 'bit-identical');
+    this.set({ verify: reply.results, notice: { level: ok ? 'info' : 'error', text: verifyLines(reply.results) } });
     return ok;
   }
 
@@ -358,33 +221,7 @@ export class CellController {
     this.engine?.stop();
   }
 
-  private failed(reply: FinalReply): false {
-    const text = reply.kind === 'failed' ? reply.message : `unexpected engine reply '${reply.kind}'`;
-    this.notice('error', `Stepwell engine: ${text}`);
-    return false;
-  }
-
-  /** Has the worker build the whole ledger, then writes it and the outputs in one go each. */
-  private async persist(): Promise<boolean> {
-    const engine = this.engine;
-    const specText = this.st.sessionSpec;
-    if (engine === null || specText === null) return false;
-    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap });
-    if (reply.kind === 'failed') {
-      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
-      return false;
-    }
-    if (reply.kind !== 'ledger') return this.failed(reply);
-    this.deps.host.writeLedger(reply.value);
-    this.set({ ledgerBytes: reply.bytes, summary: reply.summary, trajectory: reply.trajectory });
-    this.writeOutputs();
-    return true;
-  }
-
-  private writeOutputs(): void {
-    const s = this.st.summary;
-    if (s === null) return;
-    const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
-    this.deps.host.writeOutputs(summary, markdownSummary(summary));
+  protected resetConfirmed(): Promise<boolean> {
+    return this.reset(true);
   }
 }

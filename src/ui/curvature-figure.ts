@@ -5,7 +5,7 @@
  */
 import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
 import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
-import { chooseScale, themedAxis, themedLayout } from './trace-figure';
+import { chooseScale, stepAxis, themedAxis, themedLayout } from './trace-figure';
 
 /**
  * Builds the spectrum-ends figure.
@@ -51,7 +51,7 @@ export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure 
     data.push({
       type: 'scatter',
       mode: 'lines',
-      name: `stability limit ${c.summary.stability.formula}`,
+      name: `stability limit ${limitFormula(c.summary.stability.formula)}`,
       x: [lo, hi],
       y: [limit, limit],
       line: { color: theme.heldOut, width: 2, dash: 'dash' },
@@ -68,6 +68,14 @@ export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure 
       showlegend: true
     })
   };
+}
+
+/**
+ * The formula of the limit line on λ: the largest stable η's formula (`2/λmax`, `2(1+μ)/λmax`)
+ * solved for λ instead (`λ = 2/η`, `λ = 2(1+μ)/η`).
+ */
+export function limitFormula(etaFormula: string): string {
+  return `λ = ${etaFormula.replace('λmax', 'η')}`;
 }
 
 /**
@@ -130,7 +138,7 @@ export function sharpnessFigure(points: readonly SharpnessPoint[], theme: Figure
     data,
     layout: themedLayout(theme, {
       height: 240,
-      xaxis: { ...themedAxis(theme, 'step'), rangemode: 'tozero' },
+      xaxis: stepAxis(theme, points.length > 0 ? points[points.length - 1].step : 0),
       yaxis: themedAxis(
         theme,
         pre ? 'sharpness of the preconditioned Hessian' : 'λmax',

@@ -3,7 +3,19 @@
  * node; values are read from the inputs on submit and checked with exact messages.
  */
 import type { StopCondition } from '../worker/protocol';
+import { thinCheckpoints } from '../ledger/caps';
 import { button, el } from './dom';
+
+/**
+ * The checkpoint steps offered as chips: the ones the notebook keeps — the ledger's thinning
+ * (`thinCheckpoints`) of the branch's checkpoints and its tip to `cap`, the setting "Checkpoints
+ * kept in the notebook" — so the form never offers more than the notebook keeps.
+ */
+export function chipSteps(checkpointSteps: readonly number[], cursor: number, tip: number, cap: number): number[] {
+  // The ledger always keeps the state at the cursor (when before the tip) besides first and tip.
+  const keep = cursor < tip ? [cursor] : [];
+  return thinCheckpoints([...checkpointSteps.filter(s => s <= tip), ...keep, tip], Math.max(2, cap), keep);
+}
 
 /** Parses a positive finite number from an input, or returns an error message naming the field. */
 export function readNumber(text: string, field: string, integer: boolean, min: number): number | string {
@@ -61,36 +73,42 @@ export function runUntilForm(
   return form;
 }
 
-/** Builds the rewind form: a checkpoint list plus a free step number. */
+/**
+ * Builds the rewind form: the kept checkpoints as chips plus a free step number up to the
+ * branch's furthest step (the steps after the target are kept, not dropped).
+ */
 export function rewindForm(
-  checkpointSteps: number[],
+  chips: readonly number[],
   current: number,
+  tip: number,
   onRewind: (step: number) => void,
   onCancel: () => void
 ): HTMLElement {
   const form = el('div', 'sw-Form');
   const input = el('input', 'sw-Input');
-  input.setAttribute('aria-label', 'rewind to step');
-  const below = checkpointSteps.filter(s => s < current);
+  input.setAttribute('aria-label', `go to step (0 to ${tip})`);
+  const below = chips.filter(s => s < current);
   input.value = String(below.length > 0 ? below[below.length - 1] : 0);
   const list = el('span', 'sw-Chips');
-  for (const s of checkpointSteps) {
-    if (s > current) continue;
-    list.appendChild(button(String(s), `Rewind to the checkpoint at step ${s}`, () => onRewind(s), 'sw-Chip'));
+  for (const s of chips) {
+    if (s > tip) continue;
+    const chip = button(String(s), `Go to the checkpoint at step ${s}`, () => onRewind(s), 'sw-Chip');
+    if (s === current) chip.setAttribute('aria-current', 'step');
+    list.appendChild(chip);
   }
   const error = el('span', 'sw-FormError');
-  const go = button('Rewind', 'Go back to this step (replayed from the nearest checkpoint)', () => {
+  const go = button('Go', 'Go to this step (replayed from the nearest checkpoint); later steps are kept', () => {
     const step = readNumber(input.value, 'the step', true, 0);
     if (typeof step === 'string') {
       error.textContent = step;
       return;
     }
-    if (step > current) {
-      error.textContent = `the step must be at most the current step ${current}, got ${step}`;
+    if (step > tip) {
+      error.textContent = `the step must be at most the furthest step ${tip}, got ${step}`;
       return;
     }
     onRewind(step);
-  });
+  }, 'sw-Button-go');
   form.append(el('span', 'sw-Label', 'Checkpoints:'), list, el('span', 'sw-Label', 'or step'), input, go,
     button('Cancel', 'Close this form', onCancel), error);
   return form;

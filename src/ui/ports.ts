@@ -4,8 +4,8 @@
  * adapter file, `ledger-glue.ts`) and the settings. Keeping these narrow lets the
  * controller run under Node in unit tests with the real engine host in-process.
  */
-import type { SessionState, StepRecord } from '../core/state';
-import type { CheckpointData, SessionSummary, SpecProblem } from '../worker/protocol';
+import type { SpecProblem } from '../worker/protocol';
+import type { LedgerView } from '../worker/ledger-view';
 import type { CellSummary } from './summary';
 
 /** The notebook cell a controller works on. */
@@ -21,18 +21,28 @@ export interface CellHost {
    * fallback. `summary` is null when no session exists yet (spec errors).
    */
   writeOutputs(summary: CellSummary | null, markdown: string): void;
+  /** The cell's id in the notebook (nbformat 4.5), or null when it has none. */
+  cellId(): string | null;
+  /** Index of this cell's decision record in the notebook (a cell whose metadata names this cell), or null. */
+  findRecord(): number | null;
+  /**
+   * Writes the decision record: replaces this cell's existing record in place, or inserts a new
+   * markdown cell directly below this one. Never changes any other cell.
+   */
+  writeRecord(record: RecordCell): void;
 }
 
-/** What a ledger holds, as the controller sees it. */
-export interface LedgerContent {
-  /** Spec text the session belongs to. */
-  specText: string;
-  summary: SessionSummary;
-  /** State at the current step. */
-  state: SessionState;
-  /** Record 0 to the current step. */
-  trajectory: StepRecord[];
-  checkpoints: CheckpointData[];
+/** A decision record as a markdown cell: source, attachments (name → mime → base64) and metadata. */
+export interface RecordCell {
+  source: string;
+  attachments: Record<string, Record<string, string>>;
+  metadata: Record<string, unknown>;
+}
+
+/** What a ledger holds, as the controller sees it (see `worker/ledger-view.ts`). */
+export interface LedgerContent extends LedgerView {
+  /** The stored value itself: what an engine resumes every branch from. */
+  raw: object;
 }
 
 /** Outcome of reading the metadata value. */
@@ -44,7 +54,7 @@ export type LedgerRead =
 
 /**
  * The ledger layer as the controller uses it on the page: reading only. Ledgers are built
- * in the worker (`worker/ledger-build.ts`), which holds the full session.
+ * in the worker (`worker/cell-grove.ts`), which holds every branch.
  */
 export interface LedgerGlue {
   /** Validates and decodes a metadata value; never throws. */

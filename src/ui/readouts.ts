@@ -42,8 +42,17 @@ export function layersPanel(last: StepRecord | undefined): HTMLElement {
   return box;
 }
 
+/**
+ * The note that a readout describes another step than the one the branch is at (after
+ * stepping, going to another step or switching branch), or null when it is current.
+ */
+export function staleNote(measuredAt: number, currentStep: number, again: string): HTMLElement | null {
+  if (measuredAt === currentStep) return null;
+  return el('p', 'sw-Stale', `Measured at step ${measuredAt}; the branch is now at step ${currentStep}. ${again} to measure here.`);
+}
+
 /** The gradient-audit table: one row per parameter block, then the step-size sweep. */
-export function auditPanel(audit: { step: number; result: AuditResult } | null, onRun: () => void, busy: boolean): HTMLElement {
+export function auditPanel(audit: { step: number; result: AuditResult } | null, onRun: () => void, busy: boolean, currentStep: number): HTMLElement {
   const box = el('div', 'sw-Readout');
   const run = el('button', 'jp-Button sw-Button', audit === null ? 'Run gradient audit' : 'Run again');
   run.type = 'button';
@@ -59,6 +68,8 @@ export function auditPanel(audit: { step: number; result: AuditResult } | null, 
   }
   const r = audit.result;
   const rows = auditRows(r);
+  const stale = staleNote(audit.step, currentStep, 'Run again');
+  if (stale !== null) box.appendChild(stale);
   box.appendChild(
     el(
       'p',
@@ -111,7 +122,8 @@ export function curvaturePanel(
   sharpness: readonly SharpnessPoint[],
   actions: { measure: () => void; track: () => void; trackSteps: number },
   busy: boolean,
-  plots: { spectrum: HTMLElement; history: HTMLElement }
+  plots: { spectrum: HTMLElement; history: HTMLElement },
+  currentStep: number
 ): HTMLElement {
   const box = el('div', 'sw-Readout');
   const buttons = el('div', 'sw-Controls');
@@ -138,6 +150,8 @@ export function curvaturePanel(
           : `Over ${sharpness.length} measurements (steps ${sharpness[0].step}–${sharpness[sharpness.length - 1].step}) the sharpness stayed below the stability limit.`
       )
     );
+    plots.history.setAttribute('role', 'img');
+    plots.history.setAttribute('aria-label', `Sharpness at ${sharpness.length} measured steps against the stability limit of the learning rate in effect (dashed line).`);
     box.appendChild(plots.history);
   }
   if (c === null) {
@@ -153,6 +167,8 @@ export function curvaturePanel(
   }
   const s = c.summary;
   const st = s.stability;
+  const stale = staleNote(c.step, currentStep, 'Measure again');
+  if (stale !== null) box.appendChild(stale);
   box.appendChild(
     el(
       'p',
@@ -177,6 +193,8 @@ export function curvaturePanel(
   );
   box.appendChild(stability);
   if (st.note) box.appendChild(el('p', ReadoutClass.note, `${st.note} (operator: ${s.stepMetric}).`));
+  plots.spectrum.setAttribute('role', 'img');
+  plots.spectrum.setAttribute('aria-label', `The ${c.top.length} largest and ${c.bottom.length} smallest Hessian eigenvalues at step ${c.step}, with the stability limit on λ as a dashed line.`);
   box.appendChild(plots.spectrum);
   const rows: string[][] = [];
   c.top.forEach((v, i) => rows.push([`top ${i + 1}`, fmt(v), c.topBounds[i]?.toExponential(1) ?? '—']));

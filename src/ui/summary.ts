@@ -5,7 +5,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { AuditResult, AuditVerdict } from '../core/probe/gradcheck';
-import type { SessionSummary, SpecProblem, VerifyResult } from '../worker/protocol';
+import type { BranchInfo, SessionSummary, SpecProblem, VerifyResult } from '../worker/protocol';
 
 /** Our mime type: its renderer is the live cell widget. */
 export const STEPWELL_MIME = 'application/vnd.stepwell.cell+json';
@@ -15,10 +15,24 @@ export const PROXY_NOTE =
   'Readouts come from a small proxy experiment run in the browser. They are evidence about this ' +
   'setup and recipe, not a guarantee of how the full-scale model and data will behave.';
 
+/** One branch in the mime bundle's summary (JSON-safe). */
+export interface BranchLine {
+  name: string;
+  parent: string | null;
+  forkStep: number | null;
+  patchText: string;
+  step: number;
+  tip: number;
+  loss: number | null;
+}
+
 /** Summary carried by our mime bundle (JSON-safe: non-finite numbers become null). */
 export interface CellSummary {
-  /** Format version of this payload. */
-  version: 1;
+  /** Format version of this payload (2 adds the branches; 1 had none). */
+  version: 2;
+  /** The active branch. */
+  branch: string;
+  branches: BranchLine[];
   step: number;
   loss: number | null;
   heldOutLoss: number | null;
@@ -47,7 +61,9 @@ export function shortPrint(fingerprint: string): string {
 /** Builds the mime-bundle summary from the session summary and the trajectory's last record. */
 export function cellSummary(summary: SessionSummary, last: StepRecord | undefined): CellSummary {
   return {
-    version: 1,
+    version: 2,
+    branch: summary.branch,
+    branches: summary.branches.map((b: BranchInfo) => ({ name: b.name, parent: b.parent, forkStep: b.forkStep, patchText: b.patchText, step: b.step, tip: b.tip, loss: jsonNumber(b.loss) })),
     step: summary.step,
     loss: jsonNumber(last?.loss),
     heldOutLoss: jsonNumber(last?.heldOutLoss),
@@ -68,7 +84,7 @@ export function escapeMarkdown(text: string): string {
  */
 export function markdownSummary(s: CellSummary): string {
   const lines = [
-    `**Stepwell experiment** at step ${s.step}`,
+    `**Stepwell experiment** at step ${s.step}${s.branches.length > 1 ? ` of branch ${escapeMarkdown(s.branch)}` : ''}`,
     '',
     `| | |`,
     `| --- | --- |`,
@@ -79,7 +95,18 @@ export function markdownSummary(s: CellSummary): string {
     `| setup | ${escapeMarkdown(s.setup)} (${s.parameterCount} parameters) |`,
     `| recipe | ${escapeMarkdown(s.recipe)} |`,
     `| fingerprint | \`${s.fingerprint.replace(/[^0-9a-f]/g, '')}\` |`,
-    '',
+    ''
+  );
+  if (s.branches.length > 1) {
+    lines.push(`**Branches** (${s.branches.length}):`, '', '| branch | forked from | change | step | training loss |', '| --- | --- | --- | ---: | ---: |');
+    for (const b of s.branches) {
+      const from = b.parent === null ? '—' : `${escapeMarkdown(b.parent)} at step ${b.forkStep}`;
+      const step = b.step < b.tip ? `${b.step} (of ${b.tip})` : `${b.step}`;
+      lines.push(`| ${escapeMarkdown(b.name)}${b.name === s.branch ? ' (shown)' : ''} | ${from} | ${b.parent === null ? 'the spec as written' : escapeMarkdown(b.patchText)} | ${step} | ${escapeMarkdown(fmt(b.loss))} |`);
+    }
+    lines.push('');
+  }
+  lines.push(
     `*${escapeMarkdown(PROXY_NOTE)}*`,
     '',
     '*Open this notebook in JupyterLab with the Stepwell extension to step, audit and verify the experiment.*'
@@ -90,6 +117,8 @@ export function markdownSummary(s: CellSummary): string {
 /** Inputs of the status line. */
 export interface StatusInputs {
   step: number;
+  /** The furthest step of the branch, when later steps are kept after `step`. */
+  tip?: number;
   last: StepRecord | undefined;
   /** Mean wall time per step of the last stepping action, ms. */
   msPerStep?: number;
@@ -106,7 +135,7 @@ export function bytes(n: number): string {
 
 /** The status line: `step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB`. */
 export function statusLine(s: StatusInputs): string {
-  const parts = [`step ${s.step}`, `loss ${fmt(s.last?.loss)}`];
+  const parts = [`step ${s.step}${s.tip !== undefined && s.tip > s.step ? ` (of ${s.tip})` : ''}`, `loss ${fmt(s.last?.loss)}`];
   if (s.last?.heldOutLoss !== undefined) parts.push(`held-out ${fmt(s.last.heldOutLoss)}`);
   if (s.msPerStep !== undefined && Number.isFinite(s.msPerStep)) {
     const ms = s.msPerStep;
@@ -116,11 +145,29 @@ export function statusLine(s: StatusInputs): string {
   return parts.join(' · ');
 }
 
-/** Mean wall time per step over records (ms), or undefined when there are none. */
+/**
+ * Mean wall time per update of one stepping request, or undefined when its total is below
+ * 1 ms (ten times the ~0.1 ms resolution of the browser's timer, so the mean is good to 10 %).
+ */
+export function requestMs(updates: number, elapsedMs: number): number | undefined {
+  return updates > 0 && elapsedMs >= 1 ? elapsedMs / updates : undefined;
+}
+
+/**
+ * Least total wall time (ms) a timing is computed from: browsers round `performance.now()` to
+ * about 0.1 ms, so one fast update reads 0 or 0.1 ms and its "mean" says nothing.
+ */
+export const MIN_TIMED_MS = 5;
+
+/**
+ * Mean wall time per step (ms) over the records after step 0, or undefined when their total
+ * time is below {@link MIN_TIMED_MS} (too short to measure with the browser's timer).
+ */
 export function meanMs(records: readonly StepRecord[]): number | undefined {
-  const timed = records.filter(r => r.step > 0);
-  if (timed.length === 0) return undefined;
-  return timed.reduce((a, r) => a + r.ms, 0) / timed.length;
+  const timed = records.filter(r => r.step > 0 && Number.isFinite(r.ms));
+  const total = timed.reduce((a, r) => a + r.ms, 0);
+  if (timed.length === 0 || total < MIN_TIMED_MS) return undefined;
+  return total / timed.length;
 }
 
 /** One spec problem as `line N: message` (or `path: message` when the line is unknown). */
@@ -135,16 +182,22 @@ export const STEP0_HINT =
   'The starting point already differs: the spec or its data changed, or the ledger was written by Stepwell 0.1, ' +
   'whose arithmetic (exp, tanh, log, cos) depended on the JavaScript engine; later versions compute the same bits in every engine.';
 
-/** The verify outcome as one sentence. */
-export function verifyLine(v: VerifyResult): string {
+/** The verify outcome as one sentence (`named`: say which branch). */
+export function verifyLine(v: VerifyResult, named = false): string {
+  const who = named ? `Branch ${v.branch}: replayed` : 'Replayed';
   if (v.match === 'bit-identical') {
-    return `Replayed ${v.steps} steps from the seed: bit-identical (fingerprint ${shortPrint(v.actual)}).`;
+    return `${who} ${v.steps} steps from the seed: bit-identical (fingerprint ${shortPrint(v.actual)}).`;
   }
   const at = v.firstDifferingStep ?? v.steps;
   const text =
-    `Replayed ${v.steps} steps from the seed: differs at step ${at} ` +
+    `${who} ${v.steps} steps from the seed: differs at step ${at} ` +
     `(expected ${shortPrint(v.expected)}, replay reached ${shortPrint(v.actual)}).`;
   return at === 0 ? `${text} ${STEP0_HINT}` : text;
+}
+
+/** The outcome of verifying several branches: one sentence each, the branch named when there are several. */
+export function verifyLines(results: readonly VerifyResult[]): string {
+  return results.map(v => verifyLine(v, results.length > 1)).join(' ');
 }
 
 /** A display row of the gradient-audit table. */

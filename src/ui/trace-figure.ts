@@ -21,7 +21,21 @@ export interface FigureTheme {
   alert: string;
   /** CSS font family. */
   font: string;
+  /** Colours of branches in comparisons, in order. */
+  series: string[];
 }
+
+/** A fixed light theme for figures saved as images (a decision record reads the same in any viewer). */
+export const IMAGE_THEME: Readonly<FigureTheme> = {
+  foreground: '#212121',
+  grid: '#e0e0e0',
+  background: '#ffffff',
+  train: '#1565c0',
+  heldOut: '#ef6c00',
+  alert: '#c62828',
+  font: 'Helvetica, Arial, sans-serif',
+  series: ['#1565c0', '#ef6c00', '#2e7d32', '#6a1b9a', '#c62828', '#00838f']
+};
 
 /** One line series in plotly's data shape. */
 export interface LineSeries {
@@ -34,6 +48,8 @@ export interface LineSeries {
   line: { color: string; width: number; dash?: 'solid' | 'dot' | 'dash' };
   marker?: { color: string; size: number; symbol?: string };
   hovertemplate: string;
+  /** False keeps a helper series (fork markers) out of the legend. */
+  showlegend?: boolean;
 }
 
 /** A text note anchored in data coordinates. */
@@ -59,6 +75,10 @@ export interface AxisLayout {
   automargin: boolean;
   /** How tick labels write powers of ten (`power`: 10⁻⁶, never SI prefixes such as µ). */
   exponentformat: 'power' | 'e' | 'none';
+  /** Tick placement: `linear` with `dtick` for whole-step ticks. */
+  tickmode?: 'auto' | 'linear';
+  tick0?: number;
+  dtick?: number;
 }
 
 /** The figure description handed to plotly. */
@@ -72,10 +92,24 @@ export interface Figure {
     font: { family: string; color: string; size: number };
     xaxis: AxisLayout;
     yaxis: AxisLayout;
-    legend: { orientation: 'h'; x: number; y: number; xanchor: 'right'; yanchor: 'bottom' };
+    legend: { orientation: 'h'; x: number; y: number; xanchor: 'left' | 'right'; yanchor: 'bottom' };
     annotations: FigureNote[];
     showlegend: boolean;
+    /** Pixel width (images only; in the cell the figure follows its container). */
+    width?: number;
+    title?: { text: string; font: { size: number } };
   };
+}
+
+/**
+ * A step axis with whole-number ticks: a spacing of 1, 2 or 5 × 10^k giving at most about 8
+ * ticks over 0…maxStep (plotly's automatic ticks put fractional steps on short traces).
+ */
+export function stepAxis(theme: FigureTheme, maxStep: number): AxisLayout {
+  const target = Math.max(1, maxStep) / 8;
+  const decade = Math.pow(10, Math.floor(Math.log10(target)));
+  const dtick = Math.max(1, [1, 2, 5, 10].map((m) => m * decade).find((d) => d >= target) ?? 10 * decade);
+  return { ...themedAxis(theme, 'step'), rangemode: 'tozero', tickmode: 'linear', tick0: 0, dtick };
 }
 
 /** A themed axis: grid, zero line and tick colours from the JupyterLab theme, powers of ten as 10⁻⁶. */
@@ -89,11 +123,12 @@ export function themedLayout(
   parts: Pick<Figure['layout'], 'height' | 'xaxis' | 'yaxis' | 'annotations' | 'showlegend'>
 ): Figure['layout'] {
   return {
-    margin: { l: 56, r: 16, t: 24, b: 40 },
+    margin: { l: 56, r: 16, t: 32, b: 40 },
     paper_bgcolor: theme.background,
     plot_bgcolor: theme.background,
     font: { family: theme.font, color: theme.foreground, size: 12 },
-    legend: { orientation: 'h', x: 1, y: 1.02, xanchor: 'right', yanchor: 'bottom' },
+    // Top left, clear of plotly's toolbar at the top right.
+    legend: { orientation: 'h', x: 0, y: 1.02, xanchor: 'left', yanchor: 'bottom' },
     ...parts
   };
 }
@@ -104,6 +139,8 @@ export interface TraceOptions {
   height?: number;
   /** Force a scale; default `auto` (log when all finite losses are positive and span > 2 decades). */
   scale?: 'auto' | 'linear' | 'log';
+  /** The branch's current step when later steps are kept after it: those are drawn dotted. */
+  cursor?: number;
 }
 
 const finite = (v: number | undefined): v is number => v !== undefined && Number.isFinite(v);
@@ -171,10 +208,27 @@ export function chooseScale(values: readonly number[]): 'linear' | 'log' {
  * @returns the plotly figure description.
  */
 export function traceFigure(trajectory: readonly StepRecord[], theme: FigureTheme, options: TraceOptions = {}): Figure {
+  const cursor = options.cursor;
+  const split = cursor !== undefined && trajectory.length > 0 && trajectory[trajectory.length - 1].step > cursor;
+  const shown = split ? trajectory.filter(r => r.step <= (cursor as number)) : trajectory;
   const train = decimate(
-    trajectory.map(r => r.step),
-    trajectory.map(r => (Number.isFinite(r.loss) ? r.loss : null))
+    shown.map(r => r.step),
+    shown.map(r => (Number.isFinite(r.loss) ? r.loss : null))
   );
+  const kept: LineSeries[] = [];
+  if (split) {
+    const later = trajectory.filter(r => r.step >= (cursor as number));
+    const k = decimate(later.map(r => r.step), later.map(r => (Number.isFinite(r.loss) ? r.loss : null)));
+    kept.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: `kept steps after ${cursor}`,
+      x: k.x,
+      y: k.y,
+      line: { color: theme.train, width: 1.5, dash: 'dot' },
+      hovertemplate: 'step %{x} (kept)<br>training loss %{y:.6g}<extra></extra>'
+    });
+  }
   const data: LineSeries[] = [
     {
       type: 'scatter',
@@ -185,9 +239,11 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
       line: { color: theme.train, width: 2 },
       marker: { color: theme.train, size: 4 },
       hovertemplate: 'step %{x}<br>training loss %{y:.6g}<extra></extra>'
-    }
+    },
+    ...kept
   ];
-  const held = trajectory.filter(r => r.heldOutLoss !== undefined);
+  // The held-out loss of kept steps after the cursor is left out, like their training loss's solid line.
+  const held = shown.filter(r => r.heldOutLoss !== undefined);
   if (held.length > 0) {
     const h = decimate(
       held.map(r => r.step),
@@ -224,10 +280,27 @@ export function traceFigure(trajectory: readonly StepRecord[], theme: FigureThem
     data,
     layout: themedLayout(theme, {
       height: options.height ?? 260,
-      xaxis: { ...themedAxis(theme, 'step'), rangemode: 'tozero' },
+      xaxis: stepAxis(theme, trajectory.length > 0 ? trajectory[trajectory.length - 1].step : 0),
       yaxis: themedAxis(theme, scale === 'log' ? 'loss (log scale)' : 'loss', scale),
       annotations,
-      showlegend: held.length > 0
+      showlegend: held.length > 0 || split
     })
   };
+}
+
+/** The text alternative of the loss trace: where it starts, where the branch is, and where the loss stops being finite. */
+export function traceText(trajectory: readonly StepRecord[], cursor?: number): string {
+  if (trajectory.length === 0) return 'No steps yet.';
+  const first = trajectory[0];
+  const last = trajectory[trajectory.length - 1];
+  const at = trajectory.find(r => r.step === cursor) ?? last;
+  const bad = trajectory.find(r => !Number.isFinite(r.loss));
+  const kept = at.step < last.step ? ` Steps ${at.step + 1}–${last.step} are kept after it.` : '';
+  return `Training loss per step: ${fmtLoss(first.loss)} at step ${first.step}, ${fmtLoss(at.loss)} at step ${at.step}.${kept}` +
+    (bad !== undefined ? ` The loss is not finite from step ${bad.step}.` : '');
+}
+
+/** A loss with 4 significant digits for the text alternative. */
+function fmtLoss(v: number): string {
+  return Number.isFinite(v) ? String(Number(v.toPrecision(4))) : String(v);
 }

@@ -5,10 +5,38 @@
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
 import type { LedgerRead, SpecChecker } from './ports';
-import type { CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+import type { BranchComparison, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+import type { CompareAxis } from './compare-figure';
 
 /** Readout tabs of the cell widget. */
-export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit';
+export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit' | 'compare';
+
+/** The cell widget's tabs in order, with their labels. */
+export const READOUT_TABS: readonly (readonly [ReadoutTab, string])[] = [
+  ['trace', 'Trace'],
+  ['curvature', 'Curvature'],
+  ['layers', 'Layers'],
+  ['audit', 'Audit'],
+  ['compare', 'Compare']
+];
+
+/** Inline forms of the cell widget. */
+export type FormKind = 'run-until' | 'rewind' | 'branch' | 'rename' | 'record';
+
+/** An action that would lose work, waiting for the user's yes. */
+export type Confirmation =
+  | { kind: 'reset'; text: string }
+  | { kind: 'delete'; branch: string; text: string }
+  | { kind: 'discard'; text: string }
+  | { kind: 'replace-record'; question: string; chosen: string; text: string };
+
+/** The comparison tab: which branches, which axis, and the worker's numbers. */
+export interface ComparisonView {
+  /** Branches to compare, the reference first. */
+  names: string[];
+  axis: CompareAxis;
+  data: { comparison: BranchComparison; traces: BranchTrace[] } | null;
+}
 
 /** A message for the user above the readouts. */
 export interface Notice {
@@ -46,16 +74,26 @@ export interface CellViewState {
   msPerStep?: number;
   /** Size of the last written ledger, bytes. */
   ledgerBytes?: number;
-  /** The latest gradient audit and the step it ran at. */
+  /** The latest gradient audit of the active branch and the step it ran at. */
   audit: { step: number; result: AuditResult } | null;
-  verify: VerifyResult | null;
-  /** The latest curvature measurement. */
+  /** Outcome of the last Verify, one per branch replayed. */
+  verify: VerifyResult[] | null;
+  /** The latest curvature measurement of the active branch. */
   curvature: CurvatureResult | null;
-  /** Sharpness measured while stepping with tracking on (this page session only), step order. */
+  /** The active branch's sharpness trace (measured while stepping with tracking on), step order. */
   sharpness: SharpnessPoint[];
+  /** Findings carried in the ledger (shapes belong to the findings rules). */
+  findings: Record<string, unknown>[];
   notice: Notice | null;
   /** An open inline form. */
-  form: 'run-until' | 'rewind' | null;
+  form: FormKind | null;
+  /** Problems of the branch form's patch text (live, with lines in the patch text). */
+  branchProblems: SpecProblem[];
+  /** An action that waits for the user's confirmation. */
+  confirm: Confirmation | null;
+  comparison: ComparisonView;
+  /** Text of the Step ×N box (empty: the default N of the settings). */
+  stepN: string;
   tab: ReadoutTab;
   /** Defaults of the run-until form (last used). */
   runUntil: { condition: StopCondition; maxSteps: number };
@@ -76,8 +114,13 @@ export function initialViewState(): CellViewState {
     verify: null,
     curvature: null,
     sharpness: [],
+    findings: [],
     notice: null,
     form: null,
+    branchProblems: [],
+    confirm: null,
+    comparison: { names: [], axis: 'step', data: null },
+    stepN: '',
     tab: 'trace',
     runUntil: { condition: { kind: 'loss-below', value: 1e-3 }, maxSteps: 1000 }
   };
@@ -100,7 +143,10 @@ export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | 
  * @param checkSpec - the live spec check.
  */
 export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, checkSpec: SpecChecker): Partial<CellViewState> {
-  const cleared: Partial<CellViewState> = { audit: null, curvature: null, sharpness: [], verify: null, problems: checkSpec(source) };
+  const cleared: Partial<CellViewState> = {
+    audit: null, curvature: null, sharpness: [], findings: [], verify: null, problems: checkSpec(source), confirm: null,
+    comparison: { names: [], axis: 'step', data: null }
+  };
   switch (read.kind) {
     case 'absent':
       return { ...cleared, ledger: 'absent', ledgerMessage: undefined, sessionSpec: null, specEdited: false, summary: null, trajectory: [] };
@@ -129,7 +175,11 @@ export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, c
         sessionSpec: read.content.specText,
         specEdited: source !== read.content.specText,
         summary: read.content.summary,
-        trajectory: read.content.trajectory
+        trajectory: read.content.trajectory,
+        curvature: read.content.readouts.curvature,
+        sharpness: read.content.readouts.sharpness,
+        audit: read.content.readouts.audit,
+        findings: read.content.findings
       };
   }
 }

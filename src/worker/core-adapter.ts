@@ -6,6 +6,7 @@ import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature } from '../core/probe/curvature';
 import { parseSpec } from '../experiment';
+import { patchChainExperiment } from '../experiment/patch';
 import type { EngineCore, ParseOutcome } from './engine-core';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
 
@@ -13,6 +14,9 @@ import type { CurvatureResult, SharpnessPoint } from './protocol';
 export const realCore: EngineCore = {
   parse(specText: string): ParseOutcome {
     return parseSpec(specText);
+  },
+  parsePatched(specText, patches): ParseOutcome {
+    return patchChainExperiment(specText, patches);
   },
   audit(experiment, session, sample) {
     // The subset is drawn from the seed and the step, so an audit is itself reproducible.

@@ -5,6 +5,7 @@
  */
 import type { Experiment } from '../core/setup';
 import type { Session } from '../core/session';
+import type { SpecPatch } from '../experiment/patch';
 import type { AuditResult, CurvatureResult, SharpnessPoint, SpecProblem } from './protocol';
 
 /** Result of parsing spec text. */
@@ -16,6 +17,8 @@ export type ParseOutcome =
 export interface EngineCore {
   /** Parses and validates spec text. Never throws for bad text: returns the errors. */
   parse(specText: string): ParseOutcome;
+  /** The experiment of a branch: the spec with its ancestry's patches applied in order, validated like a spec. */
+  parsePatched(specText: string, patches: readonly SpecPatch[]): ParseOutcome;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
   /** Hessian spectrum and stability summary at the session's current weights. */

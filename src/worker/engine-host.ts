@@ -2,22 +2,22 @@
  * The engine host: the worker's whole behaviour as a plain class. The worker entry only
  * forwards messages to {@link EngineHost.receive}; unit tests call it directly in Node.
  *
- * The session lives in a core {@link Grove} (one branch, `main`): stepping, checkpoints,
- * trajectory bounds, rewind and replay verdicts are the grove's. The host adds what only a
- * worker needs: requests in arrival order, time slices of about
- * {@link EngineHost.Options.chunkMs} milliseconds with a `progress` reply and a yield to the
- * event loop between them (so a `stop` request can arrive and be honoured between updates),
- * samples of records instead of whole trajectories, and the protocol's reply shapes.
+ * A cell's branches live in a {@link CellGrove} over core's {@link Grove}: stepping,
+ * checkpoints, trajectory bounds, rewind and replay verdicts are the grove's; the branch list,
+ * comparisons and the ledger are the cell grove's. The host adds what only a worker needs:
+ * requests in arrival order, time slices of about {@link EngineHost.Options.chunkMs}
+ * milliseconds with a `progress` reply and a yield to the event loop between them (so a
+ * `stop` request can arrive and be honoured between updates), samples of records instead of
+ * whole trajectories, and the protocol's reply shapes. Requests act on the active branch.
  */
-import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
-import { Grove, type GroveOptions, type GroveTask, type RunReason, type StepHooks } from '../core/session';
+import type { GroveTask, RunReason, StepHooks } from '../core/session';
+import type { SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
-import type { CheckpointData, EngineReply, EngineRequest, SessionSummary, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
+import type { EngineReply, EngineRequest, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
-import { describeRecipe, describeSetup } from './describe';
-import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECORDS, REPLY_SAMPLE, sampleRecords } from './sampling';
-import { buildCellLedger, MAIN_BRANCH } from './ledger-build';
+import { REPLY_SAMPLE, sampleRecords } from './sampling';
+import { CellGrove } from './cell-grove';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -25,10 +25,9 @@ export type ReplySink = (reply: EngineReply) => void;
 /** Why a stepping request ended (the protocol's `reason`). */
 type StepEnd = 'done' | 'stopped' | 'condition' | 'non-finite';
 
-/** The loaded experiment and its grove. */
+/** The loaded cell. */
 interface Loaded {
-  experiment: Experiment;
-  grove: Grove;
+  cell: CellGrove;
   checkpointEvery: number;
 }
 
@@ -103,44 +102,70 @@ export class EngineHost {
         return this.stepMany(id, request.maxSteps, request.condition, 0);
       case 'reset': {
         const l = this.need();
-        this.loaded = { ...l, grove: Grove.create(l.experiment, groveOptions(l.checkpointEvery), MAIN_BRANCH) };
-        this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: this.display() });
+        const e = l.cell.grove.experiment(l.cell.grove.root());
+        this.loaded = { ...l, cell: CellGrove.fresh(this.core, l.cell.specText, e, l.checkpointEvery) };
+        this.post({ id, kind: 'rewound', ...this.view() });
         return;
       }
       case 'rewind':
         return this.rewind(id, request.step);
+      case 'discard': {
+        const dropped = this.need().cell.discard();
+        this.post({ id, kind: 'branched', ...this.view(), dropped });
+        return;
+      }
+      case 'fork': {
+        const cell = this.need().cell;
+        const out = cell.fork(request.from ?? cell.active, request.step, request.patch as SpecPatch, request.name);
+        if (!out.ok) this.post({ id, kind: 'patch-errors', errors: out.errors });
+        else this.post({ id, kind: 'branched', ...this.view() });
+        return;
+      }
+      case 'switch':
+        this.need().cell.switchTo(request.branch);
+        this.post({ id, kind: 'branched', ...this.view() });
+        return;
+      case 'rename':
+        this.need().cell.rename(request.branch, request.to);
+        this.post({ id, kind: 'branched', ...this.view() });
+        return;
+      case 'delete': {
+        const removed = this.need().cell.remove(request.branch);
+        this.post({ id, kind: 'branched', ...this.view(), removed });
+        return;
+      }
+      case 'compare':
+        this.post({ id, kind: 'comparison', ...this.need().cell.compare(request.branches, request.reference) });
+        return;
       case 'gradcheck': {
-        const l = this.need();
-        const session = l.grove.session(MAIN_BRANCH);
-        this.post({ id, kind: 'audit', step: session.stepCount, result: this.core.audit(l.experiment, session, request.sample) });
+        const cell = this.need().cell;
+        const name = cell.active;
+        const session = cell.grove.session(name);
+        const audit = { step: session.stepCount, result: this.core.audit(cell.grove.experiment(name), session, request.sample) };
+        cell.readoutsOf(name).audit = audit;
+        this.post({ id, kind: 'audit', ...audit });
         return;
       }
       case 'curvature': {
-        const l = this.need();
-        this.post({ id, kind: 'curvature', result: this.core.curvature(l.experiment, l.grove.session(MAIN_BRANCH), request.k, request.denseLimit) });
+        const cell = this.need().cell;
+        const name = cell.active;
+        const result = this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit);
+        cell.readoutsOf(name).curvature = result;
+        this.post({ id, kind: 'curvature', result });
         return;
       }
       case 'snapshot': {
-        const g = this.need().grove;
-        this.post({ id, kind: 'snapshot', summary: this.summary(), state: g.session(MAIN_BRANCH).state(), trajectory: g.trajectory(MAIN_BRANCH), checkpoints: checkpointData(g) });
+        const cell = this.need().cell;
+        const g = cell.grove;
+        this.post({ id, kind: 'snapshot', summary: cell.summary(), state: g.session(cell.active).state(), trajectory: g.trajectory(cell.active), checkpoints: cell.checkpointData() });
         return;
       }
       case 'verify':
-        return this.verify(id);
+        return this.verify(id, request.branches);
       case 'ledger': {
-        const l = this.need();
-        const session = l.grove.session(MAIN_BRANCH);
-        const trajectory = l.grove.trajectory(MAIN_BRANCH);
-        const built = buildCellLedger({
-          specText: request.specText,
-          experiment: l.experiment,
-          parameterCount: session.objective.parameterCount,
-          head: session.state(),
-          trajectory,
-          checkpoints: checkpointData(l.grove),
-          checkpointCap: request.checkpointCap
-        });
-        this.post({ id, kind: 'ledger', summary: this.summary(), value: built.value, bytes: built.bytes, trajectory: sampleRecords(trajectory, DISPLAY_RECORDS) });
+        const cell = this.need().cell;
+        const built = cell.ledger(request.specText, request.checkpointCap);
+        this.post({ id, kind: 'ledger', summary: cell.summary(), value: built.value, bytes: built.bytes, trajectory: cell.display() });
         return;
       }
     }
@@ -151,34 +176,25 @@ export class EngineHost {
     return this.loaded;
   }
 
+  /** Summary, display trajectory and readouts of the active branch. */
+  private view(): { summary: ReturnType<CellGrove['summary']>; trajectory: StepRecord[]; readouts: ReturnType<CellGrove['readoutsOf']> } {
+    const cell = this.need().cell;
+    const r = cell.readoutsOf();
+    return { summary: cell.summary(), trajectory: cell.display(), readouts: { curvature: r.curvature, sharpness: r.sharpness.slice(), audit: r.audit } };
+  }
+
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
     const parsed = this.core.parse(request.specText);
     if (!parsed.ok) {
       this.post({ id: request.id, kind: 'spec-errors', errors: parsed.errors });
       return;
     }
-    const opts = groveOptions(request.checkpointEvery);
-    const grove = request.resume === undefined ? Grove.create(parsed.experiment, opts, MAIN_BRANCH) : Grove.resume(parsed.experiment, request.resume, opts, MAIN_BRANCH);
-    this.loaded = { experiment: parsed.experiment, grove, checkpointEvery: request.checkpointEvery };
-    this.post({ id: request.id, kind: 'ready', summary: this.summary(), trajectory: this.display(), warnings: parsed.warnings });
-  }
-
-  private summary(): SessionSummary {
-    const l = this.need();
-    const session = l.grove.session(MAIN_BRANCH);
-    return {
-      step: session.stepCount,
-      fingerprint: session.fingerprint(),
-      parameterCount: session.objective.parameterCount,
-      checkpointSteps: l.grove.checkpointSteps(MAIN_BRANCH),
-      recipe: describeRecipe(l.experiment.recipe),
-      setup: describeSetup(l.experiment.setup)
-    };
-  }
-
-  /** An even sample of the trajectory for display. */
-  private display(): StepRecord[] {
-    return sampleRecords(this.need().grove.trajectory(MAIN_BRANCH), DISPLAY_RECORDS);
+    const cell =
+      request.resume === undefined
+        ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery)
+        : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery);
+    this.loaded = { cell, checkpointEvery: request.checkpointEvery };
+    this.post({ id: request.id, kind: 'ready', ...this.view(), findings: cell.findings, warnings: parsed.warnings });
   }
 
   /**
@@ -212,19 +228,29 @@ export class EngineHost {
   }
 
   private async stepMany(id: number, total: number, condition: StopCondition | null, sharpnessEvery: number): Promise<void> {
-    const l = this.need();
-    const grove = l.grove;
-    const session = grove.session(MAIN_BRANCH);
+    const cell = this.need().cell;
+    const grove = cell.grove;
+    const name = cell.active;
+    const session = grove.session(name);
+    const experiment = grove.experiment(name);
+    const readouts = cell.readoutsOf(name);
     // A plain step runs `total` updates; it still ends early when the loss becomes non-finite.
     const cond: StopCondition = condition ?? { kind: 'steps', count: total };
     const carry = { startLoss: cond.kind === 'diverged' ? session.fullLoss() : NaN, done: 0 };
     const points: SharpnessPoint[] = [];
+    // Wall time of the updates alone: sharpness measurements and the yields between slices excluded.
+    let elapsed = 0;
+    let measuring = 0;
     const measure = (): void => {
+      const t0 = performance.now();
       try {
-        points.push(this.core.sharpness(l.experiment, session));
+        const p = this.core.sharpness(experiment, session);
+        points.push(p);
+        readouts.sharpness = [...readouts.sharpness.filter(q => q.step !== p.step), p].sort((a, b) => a.step - b.step);
       } catch {
         // Diverged weights make the products non-finite: the trace simply ends there.
       }
+      measuring += performance.now() - t0;
     };
     if (sharpnessEvery > 0) measure();
     let pending: StepRecord[] = [];
@@ -232,12 +258,15 @@ export class EngineHost {
     const end = await this.sliced(
       id,
       hooks => {
-        const res = grove.runUntil(MAIN_BRANCH, cond, total - carry.done, {
+        const t0 = performance.now();
+        const m0 = measuring;
+        const res = grove.runUntil(name, cond, total - carry.done, {
           ...hooks,
           onRecord: r => {
             if (sharpnessEvery > 0 && r.step % sharpnessEvery === 0 && Number.isFinite(r.loss)) measure();
           }
         }, carry);
+        elapsed += performance.now() - t0 - (measuring - m0);
         carry.done += res.records.length;
         for (const r of res.records) pending.push(r);
         reason = res.reason;
@@ -254,11 +283,13 @@ export class EngineHost {
     this.post({
       id,
       kind: 'stepped',
-      summary: this.summary(),
+      summary: cell.summary(),
       records: sampleRecords(pending, REPLY_SAMPLE),
       sharpness: points,
       stopped: outcome === 'stopped',
-      reason: outcome
+      reason: outcome,
+      updates: carry.done,
+      elapsedMs: elapsed
     });
   }
 
@@ -268,34 +299,40 @@ export class EngineHost {
   }
 
   private async rewind(id: number, target: number): Promise<void> {
-    const grove = this.need().grove;
-    const at = grove.session(MAIN_BRANCH).stepCount;
-    if (target > at) throw new Error(`cannot rewind to step ${target}: the session is at step ${at}`);
-    const end = await this.runTask(id, grove.rewindTask(MAIN_BRANCH, target));
+    const cell = this.need().cell;
+    const name = cell.active;
+    const tip = cell.grove.tip(name);
+    if (target > tip) throw new Error(`cannot move branch '${name}' to step ${target}: its furthest step is ${tip}`);
+    const end = await this.runTask(id, cell.grove.rewindTask(name, target));
     if (end === 'stopped') {
       this.post({ id, kind: 'failed', message: `rewind to step ${target} was stopped; the session is unchanged` });
       return;
     }
-    this.post({ id, kind: 'rewound', summary: this.summary(), trajectory: this.display() });
+    this.post({ id, kind: 'rewound', ...this.view() });
   }
 
-  private async verify(id: number): Promise<void> {
-    const grove = this.need().grove;
-    const steps = grove.session(MAIN_BRANCH).stepCount;
-    const task = grove.replayTask(MAIN_BRANCH);
-    if ((await this.runTask(id, task)) === 'stopped') {
-      this.post({ id, kind: 'failed', message: `verify was stopped after a partial replay; nothing was compared` });
-      return;
+  private async verify(id: number, names: string[] | undefined): Promise<void> {
+    const cell = this.need().cell;
+    const results: VerifyResult[] = [];
+    for (const name of names !== undefined && names.length > 0 ? names : [cell.active]) {
+      const grove = cell.grove;
+      const steps = grove.tip(name);
+      const task = grove.replayTask(name);
+      if ((await this.runTask(id, task)) === 'stopped') {
+        this.post({ id, kind: 'failed', message: `verify was stopped during a partial replay of branch '${name}'; ${results.length > 0 ? `${results.length} branch(es) before it were compared` : 'nothing was compared'}` });
+        return;
+      }
+      const report = task.result();
+      const expected = report.recordedFingerprint;
+      const actual = report.replayedFingerprint;
+      // Only bits count here: a replay within the grove's tolerance still differs.
+      results.push(
+        report.match === 'bit-identical'
+          ? { branch: name, match: 'bit-identical', steps, expected, actual }
+          : { branch: name, match: 'differs', steps, firstDifferingStep: report.firstDifferingStep ?? steps, expected, actual }
+      );
     }
-    const report = task.result();
-    const expected = report.recordedFingerprint;
-    const actual = report.replayedFingerprint;
-    // Only bits count here: a replay within the grove's tolerance still differs.
-    const result: VerifyResult =
-      report.match === 'bit-identical'
-        ? { match: 'bit-identical', steps, expected, actual }
-        : { match: 'differs', steps, firstDifferingStep: report.firstDifferingStep ?? steps, expected, actual };
-    this.post({ id, kind: 'verified', result });
+    this.post({ id, kind: 'verified', result: results[0], results });
   }
 }
 
@@ -306,16 +343,6 @@ export namespace EngineHost {
     /** Milliseconds of work between progress messages and yields. Default 50. */
     chunkMs?: number;
   }
-}
-
-/** The grove options the host uses: the cell's checkpoint spacing, the worker's memory bounds. */
-function groveOptions(checkpointEvery: number): GroveOptions {
-  return { checkpointEvery, maxAutomatic: MEMORY_CHECKPOINT_CAP, maxRecords: MEMORY_RECORD_CAP, recentRecords: RECENT_RECORDS };
-}
-
-/** The branch's checkpoints as protocol data. */
-function checkpointData(grove: Grove): CheckpointData[] {
-  return grove.checkpoints(MAIN_BRANCH).map(c => ({ step: c.step, fingerprint: c.fingerprint, state: c.state }));
 }
 
 /** The protocol's reason for a finished run: the grove's reason, and whether the loss is still finite. */

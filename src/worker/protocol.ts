@@ -11,11 +11,11 @@
  * worker boundary by structured clone without loss.
  */
 import type { SessionState, StepRecord } from '../core/state';
-import type { StopCondition } from '../core/session';
+import type { BranchComparison, StopCondition } from '../core/session';
 import type { AuditResult } from '../core/probe/gradcheck';
 import type { CurvatureSummary } from '../core/probe/curvature';
 
-export type { StopCondition, AuditResult, CurvatureSummary };
+export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison };
 
 /** A curvature measurement at one step (the spectrum's ends and its summary). */
 export interface CurvatureResult {
@@ -71,11 +71,73 @@ export interface CheckpointData {
   state: SessionState;
 }
 
+/** One branch of the cell's grove, as the branch bar shows it (computed in the worker). */
+export interface BranchInfo {
+  name: string;
+  /** The branch it was forked from (null for the root). */
+  parent: string | null;
+  /** Step of the parent it was forked at (null for the root). */
+  forkStep: number | null;
+  /** Flat spec keys changed against the parent, e.g. `{ lr: 0.05 }` (empty for the root). */
+  patch: Record<string, unknown>;
+  /** The patch as `lr=0.05, model.init=he-normal` (empty for the root). */
+  patchText: string;
+  /** True when the patch changes the setup or seed: the branch started afresh at step 0. */
+  restart: boolean;
+  /** The branch's cursor (the step its session is at). */
+  step: number;
+  /** The furthest step it reached (> step when later steps are kept after a rewind). */
+  tip: number;
+  /** Training loss at the cursor (NaN when the record is not kept). */
+  loss: number;
+  /** Fingerprint of the state at the cursor. */
+  fingerprint: string;
+  /** One-line recipe, e.g. `sgd η=0.05, full batch`. */
+  recipe: string;
+}
+
+/** The readouts a branch keeps (and the ledger stores): latest curvature, sharpness trace, latest audit. */
+export interface BranchReadouts {
+  curvature: CurvatureResult | null;
+  /** Sharpness measured while stepping with tracking on, step order. */
+  sharpness: SharpnessPoint[];
+  audit: { step: number; result: AuditResult } | null;
+}
+
+/** One branch's data for the comparison figures and the decision record. */
+export interface BranchTrace {
+  name: string;
+  parent: string | null;
+  forkStep: number | null;
+  patchText: string;
+  restart: boolean;
+  /** One-line recipe. */
+  recipe: string;
+  /** An even sample (≤ {@link COMPARE_POINTS}) of the trajectory from step 0 to the tip: steps, examples drawn (null without data rows), losses. */
+  steps: number[];
+  examples: number[] | null;
+  loss: number[];
+  heldOut: number[] | null;
+  sharpness: SharpnessPoint[];
+  /** Cursor and tip with the fingerprints of their states. */
+  step: number;
+  fingerprint: string;
+  tip: number;
+  tipFingerprint: string;
+  /** `seed`, the patched `recipe` mapping and any setup keys the patches set, as YAML. */
+  recipeYaml: string;
+}
+
+/** Most points per branch a comparison trace carries. */
+export const COMPARE_POINTS = 2000;
+
 /** The outcome of replaying the trajectory from the seed. */
 export interface VerifyResult {
+  /** The branch replayed. */
+  branch: string;
   /** `bit-identical`: every compared value equal bit for bit; `differs`: see `firstDifferingStep`. */
   match: 'bit-identical' | 'differs';
-  /** Steps replayed. */
+  /** Steps replayed (to the branch's tip). */
   steps: number;
   /** First step whose record or checkpoint fingerprint differed (only when `match` is `differs`). */
   firstDifferingStep?: number;
@@ -92,12 +154,8 @@ export type EngineRequest =
       kind: 'load';
       /** The cell's spec text. */
       specText: string;
-      /** Saved state to resume from (from the ledger); absent = fresh session at step 0. */
-      resume?: {
-        state: SessionState;
-        trajectory: StepRecord[];
-        checkpoints: CheckpointData[];
-      };
+      /** The cell's stored ledger (any readable version) to resume every branch from; absent = a fresh grove at step 0. */
+      resume?: object;
       /** Auto-checkpoint interval in steps (0 = only step 0). */
       checkpointEvery: number;
     }
@@ -105,23 +163,41 @@ export type EngineRequest =
   | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
   | { id: number; kind: 'reset' }
+  /** Move the active branch's cursor to `step` (≤ its tip); later steps are kept. */
   | { id: number; kind: 'rewind'; step: number }
+  /** Drop the steps the active branch keeps after its cursor. */
+  | { id: number; kind: 'discard' }
+  /** Fork a branch from `from` (default: the active branch) at `step` with `patch` (flat spec keys); it becomes active. */
+  | { id: number; kind: 'fork'; step: number; patch: Record<string, unknown>; name?: string; from?: string }
+  | { id: number; kind: 'switch'; branch: string }
+  | { id: number; kind: 'rename'; branch: string; to: string }
+  /** Delete a branch and the branches forked from it (never the root). */
+  | { id: number; kind: 'delete'; branch: string }
+  /** Compare branches at matched steps (the first is the reference unless `reference` says otherwise). */
+  | { id: number; kind: 'compare'; branches: string[]; reference?: string }
   | { id: number; kind: 'gradcheck'; sample: number }
   /** Measure the Hessian spectrum at the current weights: `k` eigenvalues per end, dense up to `denseLimit` parameters. */
   | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
   /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
   | { id: number; kind: 'ledger'; specText: string; checkpointCap: number }
-  | { id: number; kind: 'verify' }
+  /** Replay branches from the seed (default: the active one) and compare bit for bit. */
+  | { id: number; kind: 'verify'; branches?: string[] }
   | { id: number; kind: 'stop'; target: number };
 
 /** Kinds of {@link EngineRequest}. */
 export type EngineRequestKind = EngineRequest['kind'];
 
-/** Summary of the live session sent with most replies. */
+/** Summary of the active branch (and the list of all branches) sent with most replies. */
 export interface SessionSummary {
-  /** Updates applied. */
+  /** The active branch. */
+  branch: string;
+  /** Updates applied (the active branch's cursor). */
   step: number;
+  /** The furthest step the active branch reached. */
+  tip: number;
+  /** Every branch of the grove, parents before children. */
+  branches: BranchInfo[];
   /** Fingerprint of the current state (hex). */
   fingerprint: string;
   /** Number of parameters. */
@@ -140,8 +216,11 @@ export type EngineReply =
       id: number;
       kind: 'ready';
       summary: SessionSummary;
-      /** An even sample (≤ 5000, first and last included) of the trajectory. */
+      /** An even sample (≤ 5000, first and last included) of the active branch's trajectory. */
       trajectory: StepRecord[];
+      readouts: BranchReadouts;
+      /** Findings carried in the ledger (shapes belong to the findings rules). */
+      findings: Record<string, unknown>[];
       warnings: SpecProblem[];
     }
   | { id: number; kind: 'spec-errors'; errors: SpecProblem[] }
@@ -169,14 +248,35 @@ export type EngineReply =
       stopped: boolean;
       /** Why the work ended. */
       reason: 'done' | 'stopped' | 'condition' | 'non-finite';
+      /** Updates applied by this request. */
+      updates: number;
+      /** Wall time of those updates in ms (sharpness measurements and yields excluded). */
+      elapsedMs: number;
     }
   | {
       id: number;
       kind: 'rewound';
       summary: SessionSummary;
-      /** An even sample (≤ 5000) of the trajectory after the rewind. */
+      /** An even sample (≤ 5000) of the trajectory to the tip after the rewind. */
       trajectory: StepRecord[];
+      readouts: BranchReadouts;
     }
+  | {
+      id: number;
+      /** After fork, switch, rename, delete and discard. */
+      kind: 'branched';
+      summary: SessionSummary;
+      /** An even sample (≤ 5000) of the active branch's trajectory. */
+      trajectory: StepRecord[];
+      readouts: BranchReadouts;
+      /** Branches deleted (delete only). */
+      removed?: string[];
+      /** Kept steps dropped (discard only). */
+      dropped?: number;
+    }
+  /** A patch that does not validate against the spec (line:column within the patch text is the page's business). */
+  | { id: number; kind: 'patch-errors'; errors: SpecProblem[] }
+  | { id: number; kind: 'comparison'; comparison: BranchComparison; traces: BranchTrace[] }
   | {
       id: number;
       kind: 'audit';
@@ -204,7 +304,8 @@ export type EngineReply =
       trajectory: StepRecord[];
     }
   | { id: number; kind: 'curvature'; result: CurvatureResult }
-  | { id: number; kind: 'verified'; result: VerifyResult }
+  /** `result` is the first branch's; `results` has one per branch replayed. */
+  | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   | { id: number; kind: 'failed'; message: string };
 
 /** Kinds of {@link EngineReply}. */
@@ -216,6 +317,9 @@ export const FINAL_REPLIES: readonly EngineReplyKind[] = [
   'spec-errors',
   'stepped',
   'rewound',
+  'branched',
+  'patch-errors',
+  'comparison',
   'audit',
   'curvature',
   'snapshot',
@@ -235,6 +339,12 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'run-until',
   'reset',
   'rewind',
+  'discard',
+  'fork',
+  'switch',
+  'rename',
+  'delete',
+  'compare',
   'gradcheck',
   'curvature',
   'snapshot',
@@ -280,9 +390,23 @@ export function checkRequest(value: unknown): string | null {
     case 'ledger':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
       return positiveInt('checkpointCap');
-    case 'reset':
-    case 'snapshot':
+    case 'fork':
+      if (typeof r.patch !== 'object' || r.patch === null || Array.isArray(r.patch)) return 'request.patch must be a mapping of spec keys to values';
+      if (r.name !== undefined && typeof r.name !== 'string') return 'request.name must be a string';
+      if (r.from !== undefined && typeof r.from !== 'string') return 'request.from must be a string';
+      return positiveInt('step');
+    case 'switch':
+    case 'delete':
+      return typeof r.branch === 'string' ? null : 'request.branch must be a string';
+    case 'rename':
+      return typeof r.branch !== 'string' ? 'request.branch must be a string' : typeof r.to === 'string' ? null : 'request.to must be a string';
+    case 'compare':
+      return Array.isArray(r.branches) && r.branches.length > 0 && r.branches.every(b => typeof b === 'string') ? null : 'request.branches must be a non-empty list of branch names';
     case 'verify':
+      return r.branches === undefined || (Array.isArray(r.branches) && r.branches.every(b => typeof b === 'string')) ? null : 'request.branches must be a list of branch names';
+    case 'reset':
+    case 'discard':
+    case 'snapshot':
       return null;
   }
 }

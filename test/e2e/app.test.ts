@@ -223,10 +223,10 @@ describe('prebuilt (federated) extensions', () => {
       await cell.waitFor({ timeout: 30_000 });
       await cell.locator('.sw-Button-rewind').click();
       await cell.locator('.sw-Form input').fill('3');
-      await cell.locator('.sw-Form button', { hasText: 'Rewind' }).click();
-      await cell.locator('.sw-Status', { hasText: /^step 3 ·/ }).waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Form button', { hasText: 'Go' }).click();
+      await cell.locator('.sw-Status', { hasText: /^step 3 \(of 14\) ·/ }).waitFor({ timeout: 30_000 });
       await cell.locator('.sw-Button-step').click();
-      await cell.locator('.sw-Status', { hasText: /^step 4 ·/ }).waitFor({ timeout: 30_000 });
+      await cell.locator('.sw-Status', { hasText: /^step 4 \(of 14\) ·/ }).waitFor({ timeout: 30_000 });
       await screenshot(session.page, 'app-own-prebuilt');
       expect(ourErrors(session)).toEqual([]);
     } finally {

@@ -167,14 +167,27 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
 }
 
 /**
+ * JupyterLab renders a markdown cell's HTML first and swaps `attachment:` image URLs for data URLs
+ * afterwards, so the browser always tries (and fails) to load `attachment:…` once. Any markdown
+ * cell with an attachment does that (a decision record's image among them); it is no fault.
+ */
+export const ATTACHMENT_PROBE = /ERR_UNKNOWN_URL_SCHEME \(attachment:|^failed attachment:\S+ net::ERR_UNKNOWN_URL_SCHEME/;
+
+/** Failed requests other than the attachment probe above. */
+export function failedRequests(session: IBrowserSession): string[] {
+  return session.failedRequests.filter(r => !ATTACHMENT_PROBE.test(r));
+}
+
+/**
  * Errors that must fail a test: every uncaught page error, and console errors that name Stepwell
  * or report a plugin that failed to activate.
  */
 export function ourErrors(session: IBrowserSession): string[] {
   const mine = /stepwell|failed to activate|could not start/i;
+  const attachmentProbe = ATTACHMENT_PROBE;
   return [
     ...session.pageErrors.map(e => `page error: ${e.stack ?? e.message}`),
-    ...session.consoleErrors.filter(t => mine.test(t)).map(t => `console error: ${t}`)
+    ...session.consoleErrors.filter(t => mine.test(t) && !attachmentProbe.test(t)).map(t => `console error: ${t}`)
   ];
 }
 

@@ -90,29 +90,29 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
       const app = (window as unknown as { jupyterapp: { shell: { currentWidget: { content: { widgets: { model: { type: string; mimeType: string } }[] } } } } }).jupyterapp;
       return app.shell.currentWidget.content.widgets.map(w => `${w.model.type}:${w.model.mimeType}`);
     });
-    expect(mimes).toEqual(['markdown:text/x-ipythongfm', 'code:text/x-ipython', 'code:text/x-yaml', 'markdown:text/x-ipythongfm', 'code:text/x-yaml', 'markdown:text/x-ipythongfm']);
+    expect(mimes).toEqual(['markdown:text/x-ipythongfm', 'code:text/x-ipython', 'code:text/x-yaml', 'markdown:text/x-ipythongfm', 'markdown:text/x-ipythongfm']);
     expect(await diverging.locator('.cm-line.sw-mod-magicLine').innerText()).toBe('%%stepwell');
 
-    // The fixed recipe: run it (no kernel involved), then step once.
-    const fixed = cells.nth(4);
-    await fixed.scrollIntoViewIfNeeded();
-    await fixed.locator('.jp-InputArea-editor').click();
-    await page.keyboard.press('Shift+Enter');
-    await waitForStep(fixed, 0);
-    await fixed.locator('.sw-Button-step').click();
-    await waitForStep(fixed, 1);
-    await fixed.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    // The fix branch: show it (no kernel involved), then step once.
+    const fix = diverging.locator('.sw-Branch').nth(1);
+    const fixName = (await fix.getAttribute('data-branch')) as string;
+    await fix.click();
+    await diverging.locator('.sw-Status', { hasText: `branch ${fixName}` }).waitFor({ timeout: 60_000 });
+    await diverging.locator('.sw-Button-step').click();
+    await waitForStep(diverging, 61);
+    await diverging.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
     await screenshot(page, 'lab-1-stepped');
     await save(page);
 
     const saved = readNotebook(file);
     expect(saved.cells.length).toBe(original.cells.length);
-    const ledger = saved.cells[4].metadata.stepwell as { branches: { head: { step: number } }[] };
-    expect(ledger.branches[0].head.step).toBe(1);
-    expect(sourceOf(saved.cells[4])).toBe(sourceOf(original.cells[4]));
+    const ledger = saved.cells[2].metadata.stepwell as { activeBranch: string; branches: { name: string; head: { step: number } }[] };
+    expect(ledger.activeBranch).toBe(fixName);
+    expect(ledger.branches.map(b => b.head.step)).toEqual([14, 61]);
+    expect(sourceOf(saved.cells[2])).toBe(sourceOf(original.cells[2]));
     // Every other cell is exactly as it was on disk, and so is the notebook's own metadata
     // (JupyterLab only completes language_info from the running kernel, as it does for any notebook).
-    for (const i of [0, 1, 2, 3, 5]) expect(saved.cells[i]).toEqual(original.cells[i]);
+    for (const i of [0, 1, 3, 4]) expect(saved.cells[i]).toEqual(original.cells[i]);
     const { language_info: savedLanguage, ...savedMeta } = saved.metadata;
     const { language_info: originalLanguage, ...originalMeta } = original.metadata;
     expect(savedMeta).toEqual(originalMeta);
@@ -228,8 +228,7 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     const page = browser.page;
     await open(page, server.url(DEMO));
     const cells = cellsOf(page);
-    await waitForStep(cells.nth(2), 14);
-    await waitForStep(cells.nth(4), 1);
+    await waitForStep(cells.nth(2), 61);
     const taken = cells.last();
     await taken.scrollIntoViewIfNeeded();
     await waitForStep(taken, 1);
@@ -237,7 +236,7 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     await taken.locator('.sw-Notice', { hasText: 'Replayed 1 steps from the seed: bit-identical' }).waitFor({ timeout: 60_000 });
     await screenshot(page, 'lab-6-restarted');
     const saved = readNotebook(file);
-    expect(saved.cells.filter(c => c.metadata.stepwell !== undefined).length).toBe(3);
+    expect(saved.cells.filter(c => c.metadata.stepwell !== undefined).length).toBe(2);
     expect(ourErrors(browser)).toEqual([]);
   });
 });
@@ -252,7 +251,7 @@ describe('a demo through jupyter nbconvert --execute with a Python kernel', () =
     const after = readNotebook(path.join(folder.work, 'executed-parcels.ipynb'));
     expect(after.cells.length).toBe(before.cells.length);
     const stepwellCells = after.cells.map((c, i) => ({ c, i })).filter(({ c }) => sourceOf(c).startsWith('%%stepwell'));
-    expect(stepwellCells.map(({ i }) => i)).toEqual([2, 4]);
+    expect(stepwellCells.map(({ i }) => i)).toEqual([2]);
     for (const { c, i } of stepwellCells) {
       // The ledger is untouched; the one output is the magic's notice with Stepwell's own type.
       expect(c.metadata.stepwell).toEqual(before.cells[i].metadata.stepwell);

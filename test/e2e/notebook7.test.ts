@@ -35,20 +35,23 @@ describe('Stepwell in Notebook 7', () => {
     await page.goto(server.url(DEMO), { waitUntil: 'domcontentloaded', timeout: 90_000 });
     const cells = page.locator('.jp-NotebookPanel .jp-Notebook .jp-Cell');
     await cells.first().waitFor({ timeout: 90_000 });
-    await waitForStep(cells.nth(2), 14);
-    const fixed = cells.nth(4);
-    await fixed.scrollIntoViewIfNeeded();
-    await fixed.locator('.jp-InputArea-editor').click();
-    await page.keyboard.press('Shift+Enter');
-    await waitForStep(fixed, 0);
-    await fixed.locator('.sw-Button-stepN').click();
-    await waitForStep(fixed, 10);
-    await fixed.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    const cell = cells.nth(2);
+    await waitForStep(cell, 14);
+    // Show the fix branch (forked from main) and step it ten times.
+    const fix = cell.locator('.sw-Branch').nth(1);
+    const fixName = (await fix.getAttribute('data-branch')) as string;
+    await fix.click();
+    await cell.locator('.sw-Status', { hasText: `branch ${fixName}` }).waitFor({ timeout: 60_000 });
+    await cell.locator('.sw-Button-stepN').click();
+    await waitForStep(cell, 70);
+    await cell.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
     await screenshot(page, 'notebook7-stepped');
     await executeCommand(page, 'docmanager:save');
     await page.waitForFunction(() => !document.querySelector('.jp-mod-dirty'), undefined, { timeout: 20_000 });
     const saved = readNotebook(path.join(folder.work, DEMO));
-    expect((saved.cells[4].metadata.stepwell as { branches: { head: { step: number } }[] }).branches[0].head.step).toBe(10);
+    const ledger = saved.cells[2].metadata.stepwell as { activeBranch: string; branches: { name: string; head: { step: number } }[] };
+    expect(ledger.activeBranch).toBe(fixName);
+    expect(ledger.branches.find(b => b.name === fixName)?.head.step).toBe(70);
     // Notebook 7.6.5's shortcuts plugin throws this on load with or without Stepwell installed
     // (seen with the extension disabled, same server and notebook); it is not ours.
     const notebookOwn = /TypeError: Cannot read properties of undefined \(reading 'schema'\)\s+at \S+\/static\/notebook\/notebook_core\./;

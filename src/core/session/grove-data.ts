@@ -58,8 +58,13 @@ export interface BranchSnapshot {
   checkpoints: Checkpoint[];
   /** Current spacing of automatic checkpoints (after thinning). */
   every: number;
-  /** The live session's state. */
+  /** The live session's state (at the branch's cursor). */
   current: SessionState;
+  /**
+   * The state at the tip when the cursor lies before it (steps kept after a rewind); the
+   * trajectory then ends at the tip's step. Absent or null when the cursor is at the tip.
+   */
+  tip?: SessionState | null;
 }
 
 /** What a one-branch grove is resumed from (e.g. a decoded ledger branch). */
@@ -86,6 +91,24 @@ export interface Branch {
   trajectory: StepRecord[];
   checkpoints: Checkpoint[];
   every: number;
+  /** State at the tip while the session is behind it (see `grove-book.ts`), else null. */
+  tip: SessionState | null;
+}
+
+/** Longest branch name. */
+export const MAX_BRANCH_NAME = 40;
+
+/**
+ * Why `name` cannot name a branch, or null when it can: 1 to {@link MAX_BRANCH_NAME}
+ * characters, no control characters, no leading or trailing space.
+ */
+export function branchNameProblem(name: string): string | null {
+  if (name.trim() === '') return 'a branch name must not be empty';
+  if (name !== name.trim()) return `a branch name must not start or end with a space, got ${JSON.stringify(name)}`;
+  if ([...name].length > MAX_BRANCH_NAME) return `a branch name has at most ${MAX_BRANCH_NAME} characters, got ${[...name].length}`;
+  // eslint-disable-next-line no-control-regex
+  if (/[\u0000-\u001f\u007f]/.test(name)) return `a branch name must not contain control characters, got ${JSON.stringify(name)}`;
+  return null;
 }
 
 /** A deep copy of a step record. */

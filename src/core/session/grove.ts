@@ -4,17 +4,22 @@
  * branches (every state handed in or out is a deep copy).
  *
  * Checkpoints (trade term): the initial state of a branch, automatic ones every k steps, and
- * manual ones on request. Thinning rule for the automatic ones: when more than
- * `maxAutomatic` are held, k doubles and automatic checkpoints whose step is not a multiple of
- * the new k are dropped (the branch's first checkpoint and manual ones are always kept), so
+ * manual ones on request, thinned by doubling k past `maxAutomatic` (see `grove-book.ts`), so
  * memory stays bounded and checkpoints stay evenly spread over a long run. The trajectory is
  * bounded too (see {@link boundTrajectory}): past `maxRecords` the far past is thinned, keeping
  * record 0, the newest records and the records at checkpoint steps.
  *
+ * Cursor and tip: a branch's session sits at its cursor; the tip is the furthest step it
+ * reached. {@link Grove.rewind} moves the cursor to any step from the branch's first checkpoint
+ * to its tip *without dropping anything*: stepping on with the same recipe re-steps through the
+ * kept steps (compared bit for bit) until the tip; {@link Grove.discard} drops the kept steps
+ * explicitly. Going back and stepping on with a different recipe is a new branch
+ * ({@link Grove.fork}).
+ *
  * Rewind and replay can take many updates; {@link Grove.rewindTask} and {@link Grove.replayTask}
  * return them as {@link GroveTask}s that run in slices (the synchronous methods run them whole).
  *
- * Branching at step s of branch A with a changed recipe: the state of A at s (rewound from A's
+ * Branching at step s of branch A with a changed recipe: the state of A at s (rebuilt from A's
  * checkpoints without disturbing A) is carried over to the new recipe by
  * {@link adaptSessionState}: optimizer state re-initialized when the optimizer kind changes,
  * kept where compatible otherwise; weights, step count and batch generator kept. A branch that
@@ -25,16 +30,18 @@ import type { Experiment, Recipe } from '../setup';
 import type { SessionState, StepRecord } from '../state';
 import { adaptSessionState } from './adapt';
 import { Session, type RunCarry, type SessionParts, type StepHooks } from './live';
-import { fingerprintState } from './state-data';
+import { copySessionState, fingerprintState } from './state-data';
 import type { StopCondition } from './stop';
 import { compareReplay, type ReplayReport } from './replay';
 import { planReplay, type ReplayLink } from './replay-legs';
 import { LegTask, runToEnd, type GroveTask, type Leg } from './task';
-import { boundTrajectory, checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
-import { copyCheckpoint, copyExperiment, copyOrigin, copyRecord, sameSetup, type Branch, type BranchOrigin, type BranchPatch, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
+import { checkTrajectoryBound, indexOfStep, recordsUpTo, type TrajectoryBound } from './trajectory';
+import { branchNameProblem, copyCheckpoint, copyExperiment, copyOrigin, copyRecord, sameSetup, type Branch, type BranchOrigin, type BranchPatch, type Checkpoint, type GroveOptions, type GroveSnapshot, type ResumeData } from './grove-data';
+import { afterUpdate, dropAfter, insertCheckpoint, insertRecord, tipStep } from './grove-book';
 import { copyPlain } from '../plain';
 
 export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
+export { branchNameProblem, MAX_BRANCH_NAME } from './grove-data';
 
 /** A session re-stepped to a step, with the record of that step when the re-stepping made it. */
 interface Reached {
@@ -67,7 +74,7 @@ export class Grove {
   static create(experiment: Experiment, opts: GroveOptions = {}, root = 'main'): Grove {
     const g = new Grove(opts);
     const session = g.newSession(experiment, null);
-    g.branches.set(root, { name: root, experiment, origin: null, session, trajectory: [session.initialRecord()], checkpoints: [], every: g.every });
+    g.branches.set(root, { name: root, experiment, origin: null, session, trajectory: [session.initialRecord()], checkpoints: [], every: g.every, tip: null });
     g.addCheckpoint(g.get(root), false);
     return g;
   }
@@ -108,7 +115,8 @@ export class Grove {
         trajectory: b.trajectory.map(copyRecord),
         checkpoints: b.checkpoints.map(copyCheckpoint),
         every: b.every,
-        current: b.session.state()
+        current: b.session.state(),
+        tip: b.tip === null ? null : copyState(b.tip)
       }))
     };
   }
@@ -122,9 +130,12 @@ export class Grove {
       if (b.origin !== null && !g.branches.has(b.origin.parent)) throw new Error(`branch '${b.name}' names parent '${b.origin.parent}', which does not come before it in the snapshot`);
       if (b.checkpoints.length === 0) throw new Error(`branch '${b.name}' has no checkpoint (its first state is needed for rewind and replay)`);
       const t = b.trajectory;
-      if (t.length === 0 || t[t.length - 1].step !== b.current.step) {
-        throw new Error(`branch '${b.name}' has a trajectory ending at step ${t[t.length - 1]?.step ?? 'none'} for its state at step ${b.current.step} (expected the same step)`);
+      const tip = b.tip ?? null;
+      const end = tip?.step ?? b.current.step;
+      if (t.length === 0 || t[t.length - 1].step !== end) {
+        throw new Error(`branch '${b.name}' has a trajectory ending at step ${t[t.length - 1]?.step ?? 'none'} for its ${tip ? 'tip' : 'state'} at step ${end} (expected the same step)`);
       }
+      if (tip !== null && !(b.current.step < tip.step)) throw new Error(`branch '${b.name}' has its cursor at step ${b.current.step}, not before its tip (step ${tip.step})`);
       for (let i = 1; i < t.length; i++) if (!(t[i].step > t[i - 1].step)) throw new Error(`branch '${b.name}' has trajectory records out of step order (step ${t[i].step} after ${t[i - 1].step})`);
       g.branches.set(b.name, {
         name: b.name,
@@ -133,15 +144,38 @@ export class Grove {
         session: g.newSession(b.experiment, b.current),
         trajectory: t.map(copyRecord),
         checkpoints: b.checkpoints.map(copyCheckpoint).sort((x, y) => x.step - y.step),
-        every: b.every
+        every: b.every,
+        tip: tip === null ? null : copyState(tip)
       });
     }
     return g;
   }
 
-  /** Branch names in creation order. */
+  /** Branch names in creation order (a parent always before its children). */
   names(): string[] {
     return [...this.branches.keys()];
+  }
+
+  /** Name of the root branch (the experiment as the spec states it). */
+  root(): string {
+    for (const b of this.branches.values()) if (b.origin === null) return b.name;
+    throw new Error('the grove has no root branch');
+  }
+
+  /** True when a branch of that name exists. */
+  has(name: string): boolean {
+    return this.branches.has(name);
+  }
+
+  /** The branches forked from `name` directly, in creation order. */
+  children(name: string): string[] {
+    this.get(name);
+    return [...this.branches.values()].filter((b) => b.origin?.parent === name).map((b) => b.name);
+  }
+
+  /** The furthest step a branch reached (its cursor, unless steps are kept ahead of it after a rewind). */
+  tip(name: string): number {
+    return tipStep(this.get(name));
   }
 
   /** The experiment (with its recipe) a branch runs. */
@@ -164,7 +198,7 @@ export class Grove {
     return this.get(name).trajectory.map(copyRecord);
   }
 
-  /** Copies of the branch's checkpoints, in step order. */
+  /** Copies of the branch's checkpoints, in step order (the tip's state is not among them unless saved). */
   checkpoints(name: string): Checkpoint[] {
     return this.get(name).checkpoints.map(copyCheckpoint);
   }
@@ -192,26 +226,80 @@ export class Grove {
 
   /** Saves a manual checkpoint of the branch's current state and returns a copy of it. */
   checkpoint(name: string): Checkpoint {
-    const b = this.get(name);
-    const existing = b.checkpoints.find((c) => c.step === b.session.stepCount);
-    if (existing) {
-      existing.manual = true;
-      return copyCheckpoint(existing);
-    }
-    return copyCheckpoint(this.addCheckpoint(b, true));
+    return copyCheckpoint(this.addCheckpoint(this.get(name), true));
   }
 
-  /** The state of a branch at `step` (≤ its current step), without changing the branch. */
+  /** The state at the branch's tip (a copy). */
+  tipState(name: string): SessionState {
+    const b = this.get(name);
+    return b.tip === null ? b.session.state() : copyState(b.tip);
+  }
+
+  /** The state of a branch at `step` (≤ its tip), without changing the branch. */
   stateAt(name: string, step: number): SessionState {
     return runToEnd(this.reach(this.get(name), step)).session.state();
   }
 
   /**
-   * Moves a branch back to `step`: restores the nearest checkpoint at or before it and
-   * re-steps to exactly `step`; trajectory records and checkpoints after `step` are dropped.
+   * Moves a branch's cursor to `step` (any step from its first checkpoint to its tip): restores
+   * the nearest saved state at or before it and re-steps to exactly `step`. Nothing is dropped:
+   * the steps after `step` stay until {@link Grove.discard} (see the module comment).
    */
   rewind(name: string, step: number): Session {
     return runToEnd(this.rewindTask(name, step));
+  }
+
+  /**
+   * Drops the steps a branch keeps after its cursor (records, checkpoints and the tip state).
+   *
+   * @returns how many kept steps were dropped (0 when the cursor is at the tip).
+   * @throws when a branch forks from one of those steps (delete it first).
+   */
+  discard(name: string): number {
+    const b = this.get(name);
+    const at = b.session.stepCount;
+    const tip = tipStep(b);
+    if (tip === at) return 0;
+    const later = [...this.branches.values()].filter((c) => c.origin?.parent === name && c.origin.step > at);
+    if (later.length > 0) {
+      throw new Error(`branch${later.length > 1 ? 'es' : ''} ${later.map((c) => `'${c.name}' (from step ${c.origin?.step})`).join(', ')} fork${later.length > 1 ? '' : 's'} from the steps after step ${at} of '${name}': delete ${later.length > 1 ? 'them' : 'it'} first`);
+    }
+    dropAfter(b, at);
+    return tip - at;
+  }
+
+  /**
+   * Deletes a branch and every branch forked from it (directly or not). The root cannot be
+   * deleted: it is the experiment the spec states, and every other branch is a patch on it.
+   *
+   * @returns the deleted names, the branch first.
+   */
+  remove(name: string): string[] {
+    const b = this.get(name);
+    if (b.origin === null) throw new Error(`'${name}' is the root branch (the spec's own recipe): it cannot be deleted; Reset starts the whole cell over`);
+    const gone = [name];
+    for (const n of this.names()) {
+      const o = this.branches.get(n)?.origin;
+      if (o && gone.includes(o.parent) && !gone.includes(n)) gone.push(n);
+    }
+    for (const n of gone) this.branches.delete(n);
+    return gone;
+  }
+
+  /** Renames a branch (its children follow); the order of branches is kept. */
+  rename(name: string, to: string): void {
+    this.get(name);
+    if (to === name) return;
+    const problem = branchNameProblem(to);
+    if (problem !== null) throw new Error(problem);
+    if (this.branches.has(to)) throw new Error(`a branch named '${to}' already exists`);
+    const entries = [...this.branches.entries()];
+    this.branches.clear();
+    for (const [n, b] of entries) {
+      if (n === name) b.name = to;
+      if (b.origin?.parent === name) b.origin.parent = to;
+      this.branches.set(b.name, b);
+    }
   }
 
   /**
@@ -225,11 +313,12 @@ export class Grove {
     const live = b.session;
     const at = live.stepCount;
     return this.reach(b, step, (reached) => {
-      if (b.session !== live || live.stepCount !== at) throw new Error(`branch '${name}' changed while the rewind to step ${step} ran; nothing was rewound`);
+      if (b.session !== live || live.stepCount !== at || this.branches.get(b.name) !== b) throw new Error(`branch '${name}' changed while the rewind to step ${step} ran; nothing was rewound`);
+      const tip = tipStep(b);
+      if (b.tip === null && at === tip && step < tip) b.tip = live.state();
       b.session = reached.session;
-      b.trajectory = recordsUpTo(b.trajectory, step);
-      if (reached.record !== null && indexOfStep(b.trajectory, step) < 0) b.trajectory.push(copyRecord(reached.record));
-      b.checkpoints = b.checkpoints.filter((c) => c.step <= step);
+      if (step === tip) b.tip = null;
+      if (reached.record !== null) insertRecord(b, reached.record);
       return reached.session;
     });
   }
@@ -254,7 +343,8 @@ export class Grove {
    */
   fork(from: string, step: number, name: string, experiment: Experiment, patch: BranchPatch): Session {
     if (this.branches.has(name)) throw new Error(`a branch named '${name}' already exists`);
-    if (name.trim() === '') throw new Error('a branch name must not be empty');
+    const problem = branchNameProblem(name);
+    if (problem !== null) throw new Error(problem);
     const parent = this.get(from);
     const restart = experiment.seed !== parent.experiment.seed || !sameSetup(experiment.setup, parent.experiment.setup);
     if (restart && step !== 0) {
@@ -273,7 +363,7 @@ export class Grove {
       trajectory = recordsUpTo(parent.trajectory, step).map(copyRecord);
       if (reached.record !== null && indexOfStep(trajectory, step) < 0) trajectory.push(copyRecord(reached.record));
     }
-    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: copyPlain(patch), restart }, session, trajectory, checkpoints: [], every: this.every };
+    const b: Branch = { name, experiment: copyExperiment(experiment), origin: { parent: from, step, patch: copyPlain(patch), restart }, session, trajectory, checkpoints: [], every: this.every, tip: null };
     this.branches.set(name, b);
     this.addCheckpoint(b, false);
     return session;
@@ -281,7 +371,7 @@ export class Grove {
 
   /**
    * Re-runs a branch from spec and seed (a forked branch from its parent's replayed state at
-   * the fork) up to `toStep` (default: its current step) and compares: every recorded step
+   * the fork) up to `toStep` (default: its tip) and compares: every recorded step
    * record bit for bit (step, loss, ‖g‖, ‖Δw‖, η), the fingerprint at every checkpoint, and
    * the parameters at checkpoints and at `toStep`. 'bit-identical' when all match exactly;
    * otherwise 'within-tolerance' when the largest relative parameter difference ‖Δw‖∞/‖w‖∞ is
@@ -294,9 +384,10 @@ export class Grove {
   /** {@link Grove.replay} as a task run in slices (the branch is never changed). */
   replayTask(name: string, toStep?: number): GroveTask<ReplayReport> {
     const b = this.get(name);
-    const target = toStep ?? b.session.stepCount;
-    if (!Number.isInteger(target) || target < 0 || target > b.session.stepCount) {
-      throw new Error(`replay step must be an integer in [0, ${b.session.stepCount}] for branch '${name}', got ${target}`);
+    const tip = tipStep(b);
+    const target = toStep ?? tip;
+    if (!Number.isInteger(target) || target < 0 || target > tip) {
+      throw new Error(`replay step must be an integer in [0, ${tip}] for branch '${name}', got ${target}`);
     }
     const chain: ReplayLink[] = [];
     for (let c: Branch | null = b; c !== null; c = c.origin === null ? null : this.get(c.origin.parent)) {
@@ -305,15 +396,16 @@ export class Grove {
     const checkpoints = b.checkpoints.filter((c) => c.step <= target);
     const plan = planReplay(chain, target, new Set(checkpoints.map((c) => c.step)), new Set(b.trajectory.map((r) => r.step)), (e, s) => this.newSession(e, s));
     const live = b.session;
-    // At the current step the live session is the recorded state; earlier ones are rebuilt.
-    const recorded = target === live.stepCount ? null : this.reachPlan(b, target);
+    // At the cursor the live session is the recorded state, at the tip the kept tip state; other steps are rebuilt.
+    const saved = target === live.stepCount ? live : b.tip !== null && target === b.tip.step ? this.newSession(b.experiment, b.tip) : null;
+    const recorded = saved === null ? this.reachPlan(b, target) : null;
     const legs = recorded === null ? plan.legs : [...plan.legs, ...recorded.legs];
     return new LegTask(legs, () =>
       compareReplay({
         trajectory: b.trajectory,
         checkpoints,
         replayed: plan.steps,
-        finalRecorded: recorded === null ? live : recorded.reached().session,
+        finalRecorded: recorded === null ? (saved as Session) : recorded.reached().session,
         finalReplayed: plan.final(),
         tolerance: this.tolerance
       })
@@ -338,17 +430,22 @@ export class Grove {
   }
 
   /**
-   * The leg rebuilding branch b at `step`: from the nearest checkpoint at or before it, or
-   * before it when the trajectory lacks the record of `step` (so re-stepping makes it).
+   * The leg rebuilding branch b at `step`: from the nearest saved state at or before it (a
+   * checkpoint, the live session, the tip state), or before it when the trajectory lacks the
+   * record of `step` (so re-stepping makes it).
    */
   private reachPlan(b: Branch, step: number): { legs: Leg[]; reached(): Reached } {
     const first = b.checkpoints[0].step;
-    if (!Number.isInteger(step) || step < first || step > b.session.stepCount) {
-      throw new Error(`step must be an integer in [${first}, ${b.session.stepCount}] for branch '${b.name}', got ${step}` + (step < first && b.origin ? ` (the branch starts at step ${first}; use its parent '${b.origin.parent}' for earlier steps)` : ''));
+    const tip = tipStep(b);
+    if (!Number.isInteger(step) || step < first || step > tip) {
+      throw new Error(`step must be an integer in [${first}, ${tip}] for branch '${b.name}', got ${step}` + (step < first && b.origin ? ` (the branch starts at step ${first}; use its parent '${b.origin.parent}' for earlier steps)` : ''));
     }
     const strict = indexOfStep(b.trajectory, step) < 0;
-    let base = b.checkpoints[0];
-    for (const c of b.checkpoints) if ((strict ? c.step < step : c.step <= step) && c.step >= base.step) base = c;
+    const saved: { step: number; state: SessionState }[] = [...b.checkpoints];
+    if (b.session.stepCount !== first) saved.push({ step: b.session.stepCount, state: b.session.state() });
+    if (b.tip !== null) saved.push({ step: b.tip.step, state: b.tip });
+    let base = saved[0];
+    for (const c of saved) if ((strict ? c.step < step : c.step <= step) && c.step > base.step) base = c;
     let out: Reached | null = null;
     let record: StepRecord | null = null;
     const legs: Leg[] = [
@@ -386,31 +483,15 @@ export class Grove {
   }
 
   private after(b: Branch, r: StepRecord): void {
-    b.trajectory.push(copyRecord(r));
-    if (b.every > 0 && r.step % b.every === 0) this.addCheckpoint(b, false);
-    if (b.trajectory.length > this.bound.maxRecords) boundTrajectory(b.trajectory, this.bound, new Set(b.checkpoints.map((c) => c.step)));
+    afterUpdate(b, r, this.bound, () => this.addCheckpoint(b, false));
   }
 
   private addCheckpoint(b: Branch, manual: boolean): Checkpoint {
-    const c: Checkpoint = { step: b.session.stepCount, fingerprint: b.session.fingerprint(), state: b.session.state(), manual };
-    b.checkpoints.push(c);
-    this.thin(b);
-    return c;
+    return insertCheckpoint(b, { step: b.session.stepCount, fingerprint: b.session.fingerprint(), state: b.session.state(), manual }, this.maxAutomatic);
   }
+}
 
-  private thin(b: Branch): void {
-    const first = b.checkpoints[0];
-    const automatic = (c: Checkpoint): boolean => !c.manual && c !== first;
-    if (b.every === 0) {
-      // No automatic spacing to double (a resumed branch's saved checkpoints): keep the newest.
-      const auto = b.checkpoints.filter(automatic);
-      const drop = new Set(auto.slice(0, Math.max(0, auto.length - this.maxAutomatic)));
-      if (drop.size > 0) b.checkpoints = b.checkpoints.filter((c) => !drop.has(c));
-      return;
-    }
-    while (b.checkpoints.filter(automatic).length > this.maxAutomatic) {
-      b.every *= 2;
-      b.checkpoints = b.checkpoints.filter((c) => !automatic(c) || c.step % b.every === 0);
-    }
-  }
+/** A deep copy of a session state. */
+function copyState(s: SessionState): SessionState {
+  return copySessionState(s);
 }

@@ -1,7 +1,7 @@
 /** Spec patches: key grammar, application to the spec value, validation like a spec (invariants only). */
 import { parseSpec } from '../../../src/experiment';
 import type { Recipe } from '../../../src/core/setup';
-import { applyPatch, parseAssignments, parsePatchText, patchExperiment, patchPath, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
+import { applyPatch, applyPatches, checkPatchText, parseAssignments, parsePatchText, patchChainExperiment, patchExperiment, patchPath, recipeExcerpt, splitAssignments, touchesSetup } from '../../../src/experiment/patch';
 
 const SPEC = `seed: 3
 model:
@@ -101,6 +101,40 @@ describe('applying a patch', () => {
     const r = applyPatch(value, { 'layers[5].lrScale': 2 });
     expect(r.ok ? '' : r.errors[0].message).toMatch(/has 2 entries, so index 5 does not exist/);
     expect(value).toEqual({ model: { layers: [{}, {}] }, recipe: {} });
+  });
+});
+
+describe('a branch’s ancestry of patches', () => {
+  it('applies patches in order: a later key wins, the first patch is kept where not overridden', () => {
+    const r = patchChainExperiment(SPEC, [{ lr: 0.05, momentum: 0.9 }, { lr: 0.01 }]);
+    expect(r.ok && [r.experiment.recipe.lr, r.experiment.recipe.momentum]).toEqual([0.01, 0.9]);
+    const none = patchChainExperiment(SPEC, []);
+    expect(none.ok && none.experiment.recipe.lr).toBe(0.1);
+    const alias = applyPatches({ recipe: { lr: 1 } }, [{ lr: 2 }, { 'recipe.lr': 3 }]);
+    expect(alias.ok && alias.value).toEqual({ recipe: { lr: 3 } });
+  });
+
+  it('names the patched key when a later patch breaks the spec', () => {
+    const r = patchChainExperiment(SPEC, [{ lr: 0.05 }, { momentum: -1 }]);
+    expect(r.ok ? '' : r.errors.map((e) => e.message).join('\n')).toMatch(/^patch 'momentum': recipe\.momentum/);
+  });
+
+  it('writes the recipe excerpt a colleague needs: seed, the patched recipe, and setup keys a patch set', () => {
+    const r = recipeExcerpt(SPEC, [{ 'model.init': 'he-normal' }, { lr: 0.02 }]);
+    expect(r).toEqual({ ok: true, yaml: 'seed: 3\nmodel:\n  init: he-normal\nrecipe:\n  optimizer: sgd\n  lr: 0.02\n' });
+    const listed = recipeExcerpt(SPEC, [{ 'model.layers[0].activation': 'relu' }]);
+    expect(listed.ok && listed.yaml).toContain('layers:\n    - units: 4\n      activation: relu\n');
+  });
+});
+
+describe('the branch form', () => {
+  it('accepts a valid patch and places a bad value at its key’s line', () => {
+    expect(checkPatchText(SPEC, [{ lr: 0.05 }], 'momentum: 0.9\n')).toEqual({ ok: true, patch: { momentum: 0.9 } });
+    const r = checkPatchText(SPEC, [], '# smaller step\nmomentum: 0.5\nlr: -2\n');
+    expect(r.ok ? [] : r.errors).toEqual([expect.objectContaining({ path: 'lr', line: 3, col: 1 })]);
+    expect(r.ok ? '' : r.errors[0].message).toMatch(/^patch 'lr': recipe\.lr/);
+    const syntax = checkPatchText(SPEC, [], 'lr: [0.1\n');
+    expect(syntax.ok ? [] : syntax.errors[0].line).toBeDefined();
   });
 });
 

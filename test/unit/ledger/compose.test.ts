@@ -7,7 +7,7 @@ import { Session } from '../../../src/core/session';
 import { parseSpec } from '../../../src/experiment';
 import type { Experiment } from '../../../src/core/setup';
 import type { SessionState, StepRecord } from '../../../src/core/state';
-import { buildLedger, decodeBranch, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';
+import { buildLedger, decodeBranch, decodeBranches, decodeTrajectory, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';
 import { input, P, state } from './fixtures';
 
 const SPEC = `seed: 11
@@ -83,7 +83,16 @@ describe('buildLedger: structure and atomicity', () => {
     const l = buildLedger({ ...input(), limits: { maxCheckpoints: 3 } });
     expect(l.branches[0].checkpoints.map((c) => c.step)).toContain(4);
     expect(l.branches[1].parent).toEqual({ branch: 'main', step: 4 });
-    expect(l.branches[1].recipePatch).toEqual({ lr: 0.01 });
+    expect(l.branches[1].patch).toEqual({ lr: 0.01 });
+  });
+
+  it('stores a forked branch’s own records only, and decodes it with its parent’s records before the fork', () => {
+    const l = buildLedger(input());
+    expect(decodeTrajectory(l.branches[1].trajectory).map((r) => r.step)).toEqual([4, 5, 6, 7]);
+    const [main, fork] = decodeBranches(JSON.parse(serializeLedger(l)));
+    expect(fork.trajectory.map((r) => r.step)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+    expect(fork.trajectory.slice(0, 4)).toEqual(main.trajectory.slice(0, 4));
+    expect([fork.patch, fork.restart, fork.cursor]).toEqual([{ lr: 0.01 }, false, 7]);
   });
 
   it('is deterministic for the same input', () => {
@@ -99,10 +108,10 @@ describe('buildLedger: structure and atomicity', () => {
   it.each<[string, () => unknown, string]>([
     ['a wrong parameter count', () => buildLedger({ ...input(), parameterCount: P + 1 }), 'branches[0].checkpoints[0].state.params: holds 5 numbers, expected 6'],
     ['a NaN inside a finding', () => buildLedger({ ...input(), findings: [{ rule: 'r', value: NaN }] }), 'findings[0].value: is NaN, which JSON cannot hold'],
-    ['a typed array inside a recipe patch', () => {
+    ['a typed array inside a patch', () => {
       const i = input();
-      return buildLedger({ ...i, branches: [i.branches[0], { ...i.branches[1], recipePatch: { w: new Float64Array(2) } }] });
-    }, 'branches[1].recipePatch.w: is a class instance or typed array, which is not plain JSON'],
+      return buildLedger({ ...i, branches: [i.branches[0], { ...i.branches[1], patch: { w: new Float64Array(2) } }] });
+    }, 'branches[1].patch.w: is a class instance or typed array, which is not plain JSON'],
     ['a checkpoint after the head', () => {
       const i = input();
       return buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(0), state(12)] }, i.branches[1]] });

@@ -67,9 +67,16 @@ export function input(): LedgerInput {
     seed: 3,
     parameterCount: P,
     branches: [
-      { name: 'main', trajectory: steps(0, 10).map((s) => record(s)), checkpoints: steps(0, 9).map((s) => state(s)), head: state(10) },
       {
-        name: 'lower-lr', parent: { branch: 'main', step: 4 }, recipePatch: { lr: 0.01 },
+        name: 'main', trajectory: steps(0, 10).map((s) => record(s)), checkpoints: steps(0, 9).map((s) => state(s)), head: state(10),
+        readouts: {
+          curvature: { step: 10, top: [3, Infinity], note: 'f64:looks like a scalar', method: '~tilde' },
+          sharpness: [{ step: 0, sharpness: 1, limit: 2 }, { step: 5, sharpness: NaN, limit: null }],
+          audit: { step: 9, result: { maxRelError: -0, layers: [] } },
+        },
+      },
+      {
+        name: 'lower-lr', parent: { branch: 'main', step: 4 }, patch: { lr: 0.01 },
         trajectory: steps(4, 7).map((s) => record(s)), checkpoints: [state(4), state(5, { order: false })], head: state(7),
       },
     ],

@@ -56,13 +56,21 @@ describe('validateLedger', () => {
     ['unknown parent', (l) => (l.branches[1].parent.branch = 'ghost'), "branches[1].parent.branch: no branch is named 'ghost'"],
     ['fork beyond the parent head', (l) => (l.branches[1].parent.step = 50), "branches[1].parent.step: is 50, beyond the head (step 10) of branch 'main'"],
     ['no root branch', (l) => (l.branches[0].parent = { branch: 'lower-lr', step: 4 }), 'branches: no branch is a root'],
+    ['a cursor without its checkpoint', (l) => (l.branches[1].cursor = 6), 'branches[1].cursor: no checkpoint is stored at step 6'],
+    ['a cursor at the head', (l) => (l.branches[0].cursor = 10), 'branches[0].cursor: is 10, not before the head (step 10)'],
+    ['a restart after step 0', (l) => (l.branches[1].restart = true), 'branches[1].restart: a branch that restarts forks at step 0, not step 4'],
+    ['a patch on the root', (l) => (l.branches[0].patch = { lr: 1 }), 'branches[0].patch: the root branch runs the spec as written and has no patch'],
+    ['a patch key that is no spec key', (l) => (l.branches[1].patch = { lrr: 1 }), "branches[1].patch: unknown key \"lrr\""],
+    ['a forked trajectory that starts after the fork', (l) => (l.branches[1].parent.step = 3), 'branches[1].trajectory.step: the first record is step 4, after the fork step 3'],
+    ['edited readouts', (l) => (l.branches[0].readouts.curvature.step = 9), 'branches[0].readouts.digest: does not match the readouts (they were edited or damaged)'],
+    ['readouts without a step', (l) => delete l.branches[0].readouts.audit.step, "branches[0].readouts.audit: missing required field 'step'"],
   ])('%s', (_name, mutate, message) => {
     const errors = errorsOf(mutate);
     expect(errors.some((e) => e.includes(message))).toBe(true);
   });
 
   it.each<[string, unknown, string]>([
-    ['a newer version', { ...ledgerJson(), version: 2 }, 'version: ledger version 2 is newer than this Stepwell, which reads versions 1 to 1; update the extension to open it'],
+    ['a newer version', { ...ledgerJson(), version: 3 }, 'version: ledger version 3 is newer than this Stepwell, which reads versions 1 to 2; update the extension to open it'],
     ['version zero', { ...ledgerJson(), version: 0 }, 'version: expected a positive integer, got 0'],
     ['a version that is not a number', { ...ledgerJson(), version: '1' }, 'version: expected a positive integer, got "1"'],
     ['another format', { ...ledgerJson(), format: 'something-else' }, "format: expected 'stepwell-ledger', got \"something-else\" (this metadata was not written by Stepwell)"],
@@ -96,8 +104,8 @@ describe('recoverSpec', () => {
 describe('migrateLedger: the version chain', () => {
   const v1 = () => ({ format: 'stepwell-ledger', version: 1, note: 'a' });
   it('returns a current ledger unchanged', () => {
-    const v = v1();
-    expect(migrateLedger(v)).toEqual({ ok: true, value: v, fromVersion: 1 });
+    const v = { format: 'stepwell-ledger', version: 2, note: 'a' };
+    expect(migrateLedger(v)).toEqual({ ok: true, value: v, fromVersion: 2 });
   });
   it('applies migrations in order when a newer version slots in', () => {
     const chain: Record<number, Migration> = {

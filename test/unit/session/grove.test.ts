@@ -86,10 +86,12 @@ describe('checkpoints and rewind', () => {
     const s = g.rewind('main', 23);
     expect(s.stepCount).toBe(23);
     expect(s.fingerprint()).toBe(at23);
-    expect(g.trajectory('main').length).toBe(24);
-    expect(g.checkpoints('main').every((c) => c.step <= 23)).toBe(true);
+    // Nothing is dropped by the rewind: the 27 later steps stay until discarded.
+    expect(g.trajectory('main').length).toBe(51);
+    expect(g.tip('main')).toBe(50);
     g.step('main', 27);
     expect(g.session('main').fingerprint()).toBe(fp50);
+    expect(g.trajectory('main').length).toBe(51);
   });
 
   it('manual checkpoints are kept; automatic ones thin out by doubling the spacing', () => {

@@ -3,7 +3,7 @@
  * in-process: run, step, persist, restore from the written ledger, corrupt ledgers, edits.
  */
 import { CellController } from '../../../src/ui/controller';
-import type { CellHost } from '../../../src/ui/ports';
+import type { CellHost, RecordCell } from '../../../src/ui/ports';
 import { DEFAULT_SETTINGS } from '../../../src/ui/ports';
 import { ledgerGlue } from '../../../src/ui/ledger-glue';
 import { EngineClient } from '../../../src/worker/client';
@@ -18,6 +18,8 @@ interface FakeCell extends CellHost {
   metadata: unknown;
   outputs: { summary: CellSummary | null; markdown: string } | null;
   writes: number;
+  /** Decision records written (the fake notebook keeps one per cell). */
+  records: RecordCell[];
 }
 
 function fakeCell(source = TEMPLATE_SPEC, metadata?: unknown): FakeCell {
@@ -26,6 +28,12 @@ function fakeCell(source = TEMPLATE_SPEC, metadata?: unknown): FakeCell {
     metadata,
     outputs: null,
     writes: 0,
+    records: [],
+    cellId: () => 'cell-1',
+    findRecord: () => (cell.records.length > 0 ? 1 : null),
+    writeRecord: r => {
+      cell.records = [JSON.parse(JSON.stringify(r))];
+    },
     readSource: () => cell.source,
     // The notebook stores JSON: mimic it so nothing non-JSON survives a save.
     readLedger: () => (cell.metadata === undefined ? undefined : JSON.parse(JSON.stringify(cell.metadata))),
@@ -89,7 +97,7 @@ describe('CellController', () => {
     expect(reopened.state.summary?.fingerprint).toBe(fingerprint);
     expect(reopened.state.trajectory.map(r => r.loss)).toEqual(c.state.trajectory.map(r => r.loss));
     expect(await reopened.verify()).toBe(true);
-    expect(reopened.state.verify?.match).toBe('bit-identical');
+    expect(reopened.state.verify?.map(v => v.match)).toEqual(['bit-identical']);
     expect(await reopened.step(2)).toBe(true);
     expect(reopened.state.summary?.step).toBe(12);
     expect(engines).toBe(1);
@@ -105,7 +113,11 @@ describe('CellController', () => {
     expect(stored.branches[0].checkpoints.length).toBeLessThanOrEqual(4);
     expect(await c.rewind(13)).toBe(true);
     expect(c.state.summary?.step).toBe(13);
-    expect(c.state.trajectory).toHaveLength(14);
+    // Going back keeps the later steps: the trace still runs to step 40.
+    expect(c.state.summary?.tip).toBe(40);
+    expect(c.state.trajectory).toHaveLength(41);
+    const saved = (cell.metadata as { branches: { cursor?: number; head: { step: number } }[] }).branches[0];
+    expect([saved.cursor, saved.head.step]).toEqual([13, 40]);
   });
 
   it('shows spec problems with line numbers and runs nothing', async () => {
@@ -129,9 +141,48 @@ describe('CellController', () => {
     expect(c.state.specEdited).toBe(true);
     expect(await c.step(1)).toBe(false);
     expect(c.state.summary?.step).toBe(5);
-    expect(await c.run()).toBe(true);
+    // Running the edited text would discard 5 steps: the controller asks first and changes nothing.
+    expect(await c.run()).toBe(false);
+    expect(c.state.confirm?.kind).toBe('reset');
+    expect(c.state.confirm?.text).toContain('discards 5 steps');
+    expect(c.state.summary?.step).toBe(5);
+    c.cancelConfirm();
+    expect(await c.run()).toBe(false);
+    expect(await c.confirm()).toBe(true);
     expect(c.state.summary?.step).toBe(0);
     expect(c.state.summary?.recipe).toContain('η=0.05');
+  });
+
+  it('re-running is deterministic: the same text keeps the session, text with problems runs nothing and says the old session is shown', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    expect(await c.run()).toBe(true);
+    await c.step(4);
+    const print = c.state.summary?.fingerprint;
+    for (let i = 0; i < 3; i++) {
+      expect(await c.run()).toBe(true);
+      expect([c.state.summary?.step, c.state.summary?.fingerprint]).toEqual([4, print]);
+    }
+    cell.source = TEMPLATE_SPEC.replace('units: 5', 'units: 0');
+    expect(await c.run()).toBe(false);
+    expect(c.state.notice?.text).toMatch(/^The spec has 1 problem \(listed above\); nothing was run\. The readouts still show the session of the previous text, at step 4\.$/);
+    expect(c.state.summary?.step).toBe(4);
+    cell.source = TEMPLATE_SPEC;
+    expect(await c.run()).toBe(true);
+    expect(c.state.summary?.step).toBe(4);
+  });
+
+  it('Reset asks before discarding steps; an empty session resets at once', async () => {
+    const cell = fakeCell();
+    const c = controller(cell);
+    await c.run();
+    expect(await c.reset()).toBe(true);
+    await c.step(3);
+    expect(await c.reset()).toBe(false);
+    expect(c.state.confirm).toEqual({ kind: 'reset', text: 'Reset starts a new session at step 0 from the spec text and discards 3 steps. Start over?' });
+    expect(c.state.summary?.step).toBe(3);
+    expect(await c.confirm()).toBe(true);
+    expect(c.state.summary?.step).toBe(0);
   });
 
   it('reports a corrupt ledger, leaves the spec untouched, and starts over only when asked', async () => {

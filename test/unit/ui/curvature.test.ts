@@ -9,7 +9,7 @@ import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/u
 import { mergeSharpness } from '../../../src/ui/view-state';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
 
-const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
+const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans', series: ['#00f', '#f80', '#0a0'] };
 
 async function measure(spec: string, steps: number): Promise<CurvatureResult> {
   const replies: EngineReply[] = [];
@@ -45,6 +45,8 @@ describe('curvature readout', () => {
     expect(unstable?.y.length ?? 0).toBe(expectedAbove);
     const line = f.data.find(d => d.name.startsWith('stability limit'));
     expect(line?.y).toEqual([0.4, 0.4]);
+    // The dashed line is at λ = 2/η (its legend says so), not at the largest stable η 2/λmax.
+    expect(line?.name).toBe('stability limit λ = 2/η');
   });
 
   it('draws no limit for an optimizer the rule does not cover', async () => {

@@ -1,13 +1,13 @@
 /**
  * Pure figure and text builders of the cell widget, tested without a browser.
  */
-import { chooseScale, decimate, traceFigure } from '../../../src/ui/trace-figure';
+import { chooseScale, decimate, traceFigure, traceText } from '../../../src/ui/trace-figure';
 import type { FigureTheme } from '../../../src/ui/trace-figure';
-import { auditRows, escapeMarkdown, fmt, markdownSummary, problemLine, statusLine, verifyLine } from '../../../src/ui/summary';
+import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
 import type { StepRecord } from '../../../src/core/state';
 
-const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans' };
+const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans', series: ['#00f', '#f80', '#0a0'] };
 
 const rec = (step: number, loss: number, heldOutLoss?: number): StepRecord => ({
   step, loss, batchLoss: loss, gradNorm: 1, updateNorm: 0.1, lr: 0.1, evaluations: 1, layers: [], ms: 0.5, ...(heldOutLoss === undefined ? {} : { heldOutLoss })
@@ -23,6 +23,24 @@ describe('traceFigure', () => {
     expect(f.layout.paper_bgcolor).toBe('#fff');
     expect(f.layout.yaxis.type).toBe('linear');
     expect(f.layout.showlegend).toBe(false);
+  });
+
+  it('ticks whole steps and keeps the legend at the top left, clear of the plot toolbar', () => {
+    const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2), rec(3, 1)], theme);
+    expect(f.layout.xaxis).toMatchObject({ tickmode: 'linear', tick0: 0, dtick: 1 });
+    expect(f.layout.legend).toMatchObject({ x: 0, xanchor: 'left' });
+  });
+
+  it('says in words what the trace shows', () => {
+    expect(traceText([rec(0, 2), rec(1, 1.5), rec(2, Infinity), rec(3, NaN)], 1)).toBe('Training loss per step: 2 at step 0, 1.5 at step 1. Steps 2–3 are kept after it. The loss is not finite from step 2.');
+    expect(traceText([])).toBe('No steps yet.');
+  });
+
+  it('draws the steps kept after the cursor dotted and leaves their held-out loss out', () => {
+    const f = traceFigure([rec(0, 2, 2.5), rec(1, 1.5, 2), rec(2, 1.2, 1.8), rec(3, 1, 1.7)], theme, { cursor: 1 });
+    expect(f.data.map(d => [d.name, d.x])).toEqual([['training loss', [0, 1]], ['kept steps after 1', [1, 2, 3]], ['held-out loss', [0, 1]]]);
+    expect(f.data[1].line.dash).toBe('dot');
+    expect(f.layout.showlegend).toBe(true);
   });
 
   it('adds the held-out series and a legend when the setup has a split', () => {
@@ -87,6 +105,18 @@ describe('summary texts', () => {
     expect(statusLine({ step: 9, last: rec(9, 1), msPerStep: 0.0042 })).toBe('step 9 · loss 1 · 4.2 µs/step');
   });
 
+  it('gives a timing only when the measured time is well above the browser timer’s ~0.1 ms resolution', () => {
+    // one fast update reads 0 or 0.1 ms in a browser: no "0.0 µs/step"
+    expect(requestMs(1, 0.1)).toBeUndefined();
+    expect(requestMs(1, 0)).toBeUndefined();
+    expect(requestMs(40, 2)).toBe(0.05);
+    expect(meanMs([rec(0, 1), { ...rec(1, 1), ms: 0.1 }])).toBeUndefined();
+    const many = Array.from({ length: 100 }, (_, i) => ({ ...rec(i + 1, 1), ms: 0.1 }));
+    expect(meanMs(many)).toBeCloseTo(0.1, 12);
+    expect(MIN_TIMED_MS).toBe(5);
+    expect(statusLine({ step: 1, last: rec(1, 1), msPerStep: undefined })).toBe('step 1 · loss 1');
+  });
+
   it('places spec problems at their line', () => {
     expect(problemLine({ path: 'recipe.lr', message: 'recipe.lr must be positive', line: 31, col: 7 }))
       .toBe('line 31:7 (recipe.lr): recipe.lr must be positive');
@@ -94,7 +124,7 @@ describe('summary texts', () => {
   });
 
   it('escapes user text in the markdown fallback and carries the proxy note', () => {
-    const md = markdownSummary({ version: 1, step: 3, loss: 0.5, heldOutLoss: null, recipe: 'sgd η=0.1, full batch', setup: 'net <b>x</b>', fingerprint: 'ab12<script>', parameterCount: 26 });
+    const md = markdownSummary({ version: 2, branch: 'main', branches: [], step: 3, loss: 0.5, heldOutLoss: null, recipe: 'sgd η=0.1, full batch', setup: 'net <b>x</b>', fingerprint: 'ab12<script>', parameterCount: 26 });
     expect(md).toContain('step 3');
     expect(md).not.toContain('<b>');
     expect(md).toContain('\\<b\\>');
@@ -103,10 +133,21 @@ describe('summary texts', () => {
     expect(escapeMarkdown('a*b_c')).toBe('a\\*b\\_c');
   });
 
+  it('lists the branches in the markdown fallback, each with its origin, change, step and loss', () => {
+    const line = (name: string, parent: string | null, forkStep: number | null, patchText: string, step: number, tip: number, loss: number | null) => ({ name, parent, forkStep, patchText, step, tip, loss });
+    const md = markdownSummary({
+      version: 2, branch: 'lr=0.4', step: 30, loss: 0.01, heldOutLoss: null, recipe: 'sgd η=0.4, full batch', setup: 'net', fingerprint: 'ab', parameterCount: 9,
+      branches: [line('main', null, null, '', 12, 40, null), line('lr=0.4', 'main', 10, 'lr=0.4', 30, 30, 0.01)]
+    });
+    expect(md).toContain('**Branches** (2):');
+    expect(md).toContain('| main | — | the spec as written | 12 (of 40) | — |');
+    expect(md).toContain('| lr=0.4 (shown) | main at step 10 | lr=0.4 | 30 | 0.01 |');
+  });
+
   it('states verify outcomes in one sentence', () => {
-    expect(verifyLine({ match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
-    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
-    expect(verifyLine({ match: 'differs', steps: 10, firstDifferingStep: 0, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('starting point already differs');
+    expect(verifyLine({ branch: 'main', match: 'bit-identical', steps: 10, expected: 'a'.repeat(64), actual: 'a'.repeat(64) })).toContain('bit-identical');
+    expect(verifyLine({ branch: 'main', match: 'differs', steps: 10, firstDifferingStep: 4, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('differs at step 4');
+    expect(verifyLine({ branch: 'main', match: 'differs', steps: 10, firstDifferingStep: 0, expected: 'a'.repeat(64), actual: 'b'.repeat(64) })).toContain('starting point already differs');
   });
 
   it('formats audit layers without recomputing verdicts', () => {

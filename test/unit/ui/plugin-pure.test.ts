@@ -41,7 +41,7 @@ describe('stepwell output bundle', () => {
     const out = stepwellOutput(null, '**Stepwell experiment**');
     expect(out.output_type).toBe('display_data');
     expect(isStepwellOutput(out.data)).toBe(true);
-    expect(out.data[STEPWELL_MIME]).toEqual({ version: 1, summary: null });
+    expect(out.data[STEPWELL_MIME]).toEqual({ version: 2, summary: null });
     expect(out.data['text/markdown']).toBe('**Stepwell experiment**');
     expect(isStepwellOutput({ 'text/plain': 'x' })).toBe(false);
   });

@@ -8,6 +8,7 @@ import { realCore } from '../../../src/worker/core-adapter';
 import type { EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC, parseSpec } from '../../../src/experiment';
 import { Session } from '../../../src/core/session';
+import { ledgerOf } from './ledger-of';
 
 function directPrint(n: number): string {
   const parsed = parseSpec(TEMPLATE_SPEC);
@@ -35,7 +36,7 @@ async function slowHostAt(n: number) {
   const snap = a.last();
   if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
   const b = collect({ chunkMs: 0 });
-  await b.host.receive({ ...load(1, 0), resume: { state: snap.state, trajectory: snap.trajectory, checkpoints: snap.checkpoints } });
+  await b.host.receive({ ...load(1, 0), resume: ledgerOf(snap) });
   expect(b.last()).toMatchObject({ kind: 'ready', summary: { step: n, checkpointSteps: [0, n] } });
   return b;
 }
@@ -55,7 +56,8 @@ describe('EngineHost long work in slices', () => {
     // one update per slice: a progress reply after each of the first 39
     const progress = replies.slice(mark).filter(r => r.kind === 'progress');
     expect(progress.map(p => (p.kind === 'progress' ? `${p.done}/${p.total}` : ''))).toEqual(Array.from({ length: 39 }, (_, i) => `${i + 1}/40`));
-    expect(last()).toMatchObject({ kind: 'rewound', summary: { step: 40, fingerprint: directPrint(40), checkpointSteps: [0] } });
+    // The steps after 40 are kept (the tip stays at 6000) until discarded.
+    expect(last()).toMatchObject({ kind: 'rewound', summary: { step: 40, tip: 6000, fingerprint: directPrint(40), checkpointSteps: [0, 6000] } });
   });
 
   it('a stopped verify fails without a verdict; the session is unchanged', async () => {
@@ -64,7 +66,7 @@ describe('EngineHost long work in slices', () => {
     await pause(5);
     await host.receive({ id: 4, kind: 'stop', target: 3 });
     await verifying;
-    expect(last()).toMatchObject({ id: 3, kind: 'failed', message: 'verify was stopped after a partial replay; nothing was compared' });
+    expect(last()).toMatchObject({ id: 3, kind: 'failed', message: "verify was stopped during a partial replay of branch 'main'; nothing was compared" });
     await host.receive({ id: 5, kind: 'snapshot' });
     expect(last()).toMatchObject({ kind: 'snapshot', summary: { step: 6000, fingerprint: directPrint(6000) } });
   });
@@ -79,7 +81,7 @@ describe('EngineHost long work in slices', () => {
     const b = collect();
     const trajectory = snap.trajectory.filter(r => r.step % 4 === 0 || r.step === 30);
     const checkpoints = snap.checkpoints.filter(c => c.step === 0 || c.step === 15 || c.step === 30);
-    await b.host.receive({ ...load(1, 5), resume: { state: snap.state, trajectory, checkpoints } });
+    await b.host.receive({ ...load(1, 5), resume: ledgerOf(snap, { trajectory, checkpoints: checkpoints.map(c => c.step) }) });
     expect(b.last()).toMatchObject({ kind: 'ready', summary: { step: 30, checkpointSteps: [0, 15, 30] } });
     await b.host.receive({ id: 2, kind: 'verify' });
     expect(b.last()).toMatchObject({ kind: 'verified', result: { match: 'bit-identical', steps: 30, expected: directPrint(30), actual: directPrint(30) } });
@@ -87,9 +89,10 @@ describe('EngineHost long work in slices', () => {
     const r = b.last();
     expect(r).toMatchObject({ kind: 'rewound', summary: { step: 15, fingerprint: directPrint(15) } });
     if (r.kind !== 'rewound') return;
-    // record 15 was thinned away; the rewind re-stepped into it from checkpoint 0
+    // record 15 was thinned away; the rewind re-stepped into it from checkpoint 0 and put it back in its place
     const full = snap.trajectory.find(x => x.step === 15);
-    expect(r.trajectory[r.trajectory.length - 1]).toMatchObject({ step: 15, loss: full?.loss, gradNorm: full?.gradNorm });
+    expect(r.trajectory.find(x => x.step === 15)).toMatchObject({ step: 15, loss: full?.loss, gradNorm: full?.gradNorm });
+    expect(r.trajectory[r.trajectory.length - 1].step).toBe(30);
   });
 
   it('refuses a resume whose trajectory does not end at the saved state', async () => {
@@ -99,7 +102,7 @@ describe('EngineHost long work in slices', () => {
     await a.host.receive({ id: 3, kind: 'snapshot' });
     const snap = a.last();
     if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
-    await a.host.receive({ ...load(4, 5), resume: { state: snap.state, trajectory: snap.trajectory.slice(0, 4), checkpoints: snap.checkpoints } });
-    expect(a.last()).toMatchObject({ id: 4, kind: 'failed', message: 'saved trajectory ends at step 3 but the saved state is at step 6' });
+    await a.host.receive({ ...load(4, 5), resume: ledgerOf(snap, { trajectory: snap.trajectory.slice(0, 4) }) });
+    expect(a.last()).toMatchObject({ id: 4, kind: 'failed', message: "branch 'main' has a trajectory ending at step 3 for its state at step 6 (expected the same step)" });
   });
 });

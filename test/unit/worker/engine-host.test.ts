@@ -11,6 +11,7 @@ import { realCore } from '../../../src/worker/core-adapter';
 import type { EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC, parseSpec } from '../../../src/experiment';
 import { Session } from '../../../src/core/session';
+import { ledgerOf } from './ledger-of';
 import { thinInPlace, MEMORY_RECORD_CAP, MEMORY_CHECKPOINT_CAP, REPLY_SAMPLE, DISPLAY_RECORDS } from '../../../src/worker/sampling';
 
 function experiment() {
@@ -108,11 +109,16 @@ describe('EngineHost', () => {
     expect(r.kind).toBe('rewound');
     if (r.kind !== 'rewound') return;
     expect(r.summary.step).toBe(7);
-    expect(r.trajectory).toHaveLength(8);
+    // Later steps are kept: the trajectory still runs to step 12.
+    expect([r.summary.tip, r.trajectory.length]).toEqual([12, 13]);
     expect(r.summary.fingerprint).toBe(directPrint(7));
-    expect(r.summary.checkpointSteps).toEqual([0, 5]);
+    expect(r.summary.checkpointSteps).toEqual([0, 5, 10]);
     await host.receive({ id: 4, kind: 'rewind', step: 9 });
-    expect(last()).toMatchObject({ kind: 'failed', message: expect.stringContaining('session is at step 7') });
+    expect(last()).toMatchObject({ kind: 'rewound', summary: { step: 9, tip: 12, fingerprint: directPrint(9) } });
+    await host.receive({ id: 5, kind: 'rewind', step: 13 });
+    expect(last()).toMatchObject({ kind: 'failed', message: "cannot move branch 'main' to step 13: its furthest step is 12" });
+    await host.receive({ id: 6, kind: 'discard' });
+    expect(last()).toMatchObject({ kind: 'branched', dropped: 3, summary: { step: 9, tip: 9 } });
   });
 
   it('resumes from a snapshot and continues bit for bit', async () => {
@@ -123,10 +129,7 @@ describe('EngineHost', () => {
     const snap = a.last();
     if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
     const b = collect();
-    await b.host.receive({
-      ...load(1),
-      resume: { state: snap.state, trajectory: snap.trajectory, checkpoints: snap.checkpoints }
-    });
+    await b.host.receive({ ...load(1), resume: ledgerOf(snap) });
     expect(b.last()).toMatchObject({ kind: 'ready', summary: { step: 8 } });
     await b.host.receive({ id: 2, kind: 'step', n: 4 });
     const r = b.last();
@@ -138,13 +141,13 @@ describe('EngineHost', () => {
     await a.host.receive(load(1, 5));
     await a.host.receive({ id: 2, kind: 'step', n: 9 });
     await a.host.receive({ id: 3, kind: 'verify' });
-    expect(a.last()).toMatchObject({ kind: 'verified', result: { match: 'bit-identical', steps: 9 } });
+    expect(a.last()).toMatchObject({ kind: 'verified', result: { branch: 'main', match: 'bit-identical', steps: 9 } });
     await a.host.receive({ id: 4, kind: 'snapshot' });
     const snap = a.last();
     if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
     const tampered = snap.trajectory.map(r => (r.step === 3 ? { ...r, loss: r.loss * (1 + 1e-15) + 1e-300 } : r));
     const b = collect();
-    await b.host.receive({ ...load(1, 5), resume: { state: snap.state, trajectory: tampered, checkpoints: snap.checkpoints } });
+    await b.host.receive({ ...load(1, 5), resume: ledgerOf(snap, { trajectory: tampered }) });
     await b.host.receive({ id: 2, kind: 'verify' });
     expect(b.last()).toMatchObject({ kind: 'verified', result: { match: 'differs', firstDifferingStep: 3 } });
   });

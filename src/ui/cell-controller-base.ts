@@ -1,0 +1,253 @@
+/**
+ * The plumbing every action of a cell controller shares: the view state and its signal, the
+ * engine (started lazily and resumed from the ledger), one-request exchanges with the busy state
+ * shown, confirmations before work is lost, and writing the ledger and outputs after an action.
+ * No DOM, no JupyterLab.
+ */
+import { Signal } from '@lumino/signaling';
+import type { ISignal } from '@lumino/signaling';
+import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
+import type { BranchReadouts, SessionSummary } from '../worker/protocol';
+import type { Figure } from './trace-figure';
+import type { FigureImage } from './plot';
+import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
+import { cellSummary, markdownSummary, meanMs, problemLine } from './summary';
+import type { CellViewState, Confirmation, Notice } from './view-state';
+import { initialViewState, viewFromLedger } from './view-state';
+
+/** Collaborators of a cell controller. */
+export interface ControllerDeps {
+  host: CellHost;
+  /** Starts an engine (a Worker in the browser, an in-process host in tests). */
+  engine: () => EngineClient;
+  ledger: LedgerGlue;
+  checkSpec: SpecChecker;
+  settings: () => CellSettings;
+  /** Turns a figure into an image for the decision record (plotly in the browser); absent: records carry no image. */
+  imageOf?: (figure: Figure) => Promise<FigureImage | null>;
+}
+
+/** State, engine and persistence of one cell (see the module comment). */
+export abstract class ControllerBase {
+  protected readonly deps: ControllerDeps;
+  protected st: CellViewState = initialViewState();
+  private readonly changedSignal = new Signal<this, CellViewState>(this);
+  protected engine: EngineClient | null = null;
+  /** True when the engine holds the session shown in the state. */
+  private engineInSync = false;
+  /** The ledger content last read: what a lazily started engine resumes from. */
+  private content: LedgerContent | null = null;
+  private disposedFlag = false;
+
+  protected constructor(deps: ControllerDeps) {
+    this.deps = deps;
+  }
+
+  /** Fires with the new state after every change. */
+  get changed(): ISignal<this, CellViewState> {
+    return this.changedSignal;
+  }
+
+  /** The current view state (replace-only; do not mutate). */
+  get state(): CellViewState {
+    return this.st;
+  }
+
+  /** The settings in effect. */
+  get settings(): CellSettings {
+    return this.deps.settings();
+  }
+
+  /** True after {@link dispose}. */
+  get isDisposed(): boolean {
+    return this.disposedFlag;
+  }
+
+  /** Ends the engine and disconnects views. Idempotent. */
+  dispose(): void {
+    if (this.disposedFlag) return;
+    this.disposedFlag = true;
+    this.engine?.dispose();
+    this.engine = null;
+    Signal.clearData(this);
+  }
+
+  protected set(patch: Partial<CellViewState>): void {
+    if (this.disposedFlag) return;
+    this.st = { ...this.st, ...patch };
+    this.changedSignal.emit(this.st);
+  }
+
+  protected notice(level: Notice['level'], text: string): void {
+    this.set({ notice: { level, text } });
+  }
+
+  /** Shows a message in the cell (e.g. a bad value typed into a control). */
+  say(level: Notice['level'], text: string): void {
+    this.notice(level, text);
+  }
+
+  /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
+  readLedger(): void {
+    const raw = this.deps.host.readLedger();
+    const read = this.deps.ledger.read(raw);
+    this.content = read.kind === 'ok' ? read.content : null;
+    this.engineInSync = false;
+    const view = viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec);
+    // A restored session has no fresh timing: the stored records' wall times give one.
+    this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
+  }
+
+  /** Re-checks the editor's text (call on source changes, debounced). */
+  sourceChanged(): void {
+    const source = this.deps.host.readSource();
+    this.set({
+      problems: this.deps.checkSpec(source),
+      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
+    });
+  }
+
+  /** Opens or closes an inline form. */
+  setForm(form: CellViewState['form']): void {
+    this.set({ form, branchProblems: [] });
+  }
+
+  /** Drops the pending confirmation (the user said no). */
+  cancelConfirm(): void {
+    this.set({ confirm: null });
+  }
+
+  /**
+   * When steps or branches would be lost, asks first: sets {@link CellViewState.confirm} and
+   * returns true (the caller stops; the confirmation repeats the action with force).
+   */
+  protected askBeforeLosingWork(what: string): boolean {
+    const s = this.st.summary;
+    if (s === null) return false;
+    const own = s.branches.reduce((a, b) => a + (b.tip - (b.forkStep ?? 0)), 0);
+    if (own === 0 && s.branches.length <= 1) return false;
+    const branches = s.branches.length > 1 ? ` on ${s.branches.length} branches` : '';
+    this.askConfirm({ kind: 'reset', text: `${what} and discards ${own} step${own === 1 ? '' : 's'}${branches}. Start over?` });
+    return true;
+  }
+
+  protected askConfirm(c: Confirmation): void {
+    this.set({ confirm: c });
+  }
+
+  protected async loadFresh(source: string): Promise<boolean> {
+    const engine = this.ensureEngine();
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], findings: [], verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
+    this.set({ busy: null });
+    if (reply.kind === 'spec-errors') {
+      this.set({ problems: reply.errors });
+      this.notice('error', 'The engine rejected the spec; see the problems above.');
+      return false;
+    }
+    if (reply.kind !== 'ready') return this.failed(reply);
+    this.engineInSync = true;
+    this.set({
+      ledger: 'ok',
+      ledgerMessage: undefined,
+      sessionSpec: source,
+      specEdited: false,
+      summary: reply.summary,
+      trajectory: reply.trajectory,
+      warnings: reply.warnings,
+      msPerStep: undefined,
+      notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
+    });
+    return this.persist();
+  }
+
+  protected ensureEngine(): EngineClient {
+    if (this.engine === null) {
+      this.engine = this.deps.engine();
+      this.engineInSync = false;
+    }
+    return this.engine;
+  }
+
+  /** Makes sure the engine holds the session in the state (resuming every branch from the ledger). */
+  protected async syncEngine(): Promise<EngineClient | null> {
+    const engine = this.ensureEngine();
+    if (this.engineInSync) return engine;
+    const c = this.content;
+    if (c === null) {
+      this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
+      return null;
+    }
+    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw });
+    if (reply.kind === 'spec-errors') {
+      this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
+      return null;
+    }
+    if (reply.kind !== 'ready') {
+      this.failed(reply);
+      return null;
+    }
+    this.engineInSync = true;
+    return engine;
+  }
+
+  /**
+   * One request with the busy state shown (progress included) and the engine synced first.
+   *
+   * @returns the final reply, or null when busy or no session exists (a notice says why).
+   */
+  protected async exchange(action: string, body: RequestBody, total = 0): Promise<FinalReply | null> {
+    if (this.st.busy !== null) return null;
+    const engine = await this.syncEngine();
+    if (engine === null) return null;
+    this.set({ busy: { action, done: 0, total }, confirm: null });
+    const reply = await engine.request(body, p => this.set({ busy: { action, done: p.done, total: p.total } }));
+    this.set({ busy: null });
+    return reply;
+  }
+
+  /** Shows a branch as a reply describes it: summary, trace and its readouts. */
+  protected applyView(reply: { summary: SessionSummary; trajectory: FinalReplyTrajectory; readouts: BranchReadouts }): void {
+    this.set({
+      summary: reply.summary,
+      trajectory: reply.trajectory,
+      curvature: reply.readouts.curvature,
+      sharpness: reply.readouts.sharpness,
+      audit: reply.readouts.audit,
+      verify: null
+    });
+  }
+
+  protected failed(reply: FinalReply): false {
+    const text = reply.kind === 'failed' ? reply.message : `unexpected engine reply '${reply.kind}'`;
+    this.notice('error', `Stepwell engine: ${text}`);
+    return false;
+  }
+
+  /** Has the worker build the whole ledger, then writes it and the outputs in one go each. */
+  protected async persist(): Promise<boolean> {
+    const engine = this.engine;
+    const specText = this.st.sessionSpec;
+    if (engine === null || specText === null) return false;
+    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap });
+    if (reply.kind === 'failed') {
+      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
+      return false;
+    }
+    if (reply.kind !== 'ledger') return this.failed(reply);
+    this.deps.host.writeLedger(reply.value);
+    this.set({ ledgerBytes: reply.bytes, summary: reply.summary, trajectory: reply.trajectory });
+    this.writeOutputs();
+    return true;
+  }
+
+  protected writeOutputs(): void {
+    const s = this.st.summary;
+    if (s === null) return;
+    const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
+    this.deps.host.writeOutputs(summary, markdownSummary(summary));
+  }
+}
+
+/** Step records as replies carry them. */
+type FinalReplyTrajectory = Extract<FinalReply, { kind: 'rewound' }>['trajectory'];

@@ -1,0 +1,89 @@
+/**
+ * What a stored ledger shows before any engine runs: the summary of its active branch with the
+ * list of every branch, the active branch's trajectory and readouts, and the findings. The page
+ * reads it on notebook open; the numbers come from the ledger, nothing is recomputed.
+ */
+import type { StepRecord } from '../core/state';
+import { decodeBranches, validateLedger, type Ledger } from '../ledger';
+import { describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
+import type { BranchInfo, BranchReadouts, SessionSummary } from './protocol';
+import { describeRecipe, describeSetup } from './describe';
+import { DISPLAY_RECORDS, sampleRecords } from './sampling';
+import { readoutsFromLedger } from './readouts-data';
+
+/** A stored ledger as the cell shows it. */
+export interface LedgerView {
+  specText: string;
+  summary: SessionSummary;
+  /** An even sample of the active branch's trajectory. */
+  trajectory: StepRecord[];
+  readouts: BranchReadouts;
+  findings: Record<string, unknown>[];
+}
+
+/** Outcome of {@link viewLedger}. */
+export type LedgerViewResult = { ok: true; view: LedgerView } | { ok: false; message: string; specText?: string };
+
+/** Validates, decodes and describes a stored ledger; never throws. */
+export function viewLedger(value: unknown): LedgerViewResult {
+  const checked = validateLedger(value);
+  if (!checked.ok) {
+    const shown = checked.errors.slice(0, 3).join('; ') + (checked.errors.length > 3 ? ` (and ${checked.errors.length - 3} more)` : '');
+    const spec = (value as { spec?: unknown } | null)?.spec;
+    return { ok: false, message: shown, specText: typeof spec === 'string' ? spec : undefined };
+  }
+  try {
+    return { ok: true, view: describeLedger(checked.ledger) };
+  } catch (error) {
+    return { ok: false, message: (error as Error).message, specText: checked.ledger.spec };
+  }
+}
+
+/** The view of a validated ledger. @throws when a branch's patched spec no longer parses. */
+export function describeLedger(ledger: Ledger): LedgerView {
+  const decoded = decodeBranches(ledger);
+  const chains = new Map<string, SpecPatch[]>();
+  const branches: BranchInfo[] = decoded.map(b => {
+    const chain = b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : [];
+    chains.set(b.name, chain);
+    const parsed = patchChainExperiment(ledger.spec, chain);
+    if (!parsed.ok) throw new Error(b.parent ? `branch '${b.name}' no longer validates against the spec (${parsed.errors[0].message})` : `the saved spec no longer parses (${parsed.errors[0].message})`);
+    const atCursor = [...b.checkpoints, b.head].find(c => c.step === b.cursor);
+    const record = b.trajectory.find(r => r.step === b.cursor);
+    return {
+      name: b.name,
+      parent: b.parent?.branch ?? null,
+      forkStep: b.parent?.step ?? null,
+      patch: { ...b.patch },
+      patchText: b.parent ? describePatch(b.patch as SpecPatch) : '',
+      restart: b.restart,
+      step: b.cursor,
+      tip: b.head.step,
+      loss: record?.loss ?? NaN,
+      fingerprint: atCursor?.fingerprint ?? '',
+      recipe: describeRecipe(parsed.experiment.recipe)
+    };
+  });
+  const active = decoded.find(b => b.name === ledger.activeBranch) ?? decoded[0];
+  const info = branches.find(b => b.name === active.name) as BranchInfo;
+  const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? []);
+  if (!root.ok) throw new Error(`the saved spec no longer parses (${root.errors[0].message})`);
+  const checkpointSteps = [...active.checkpoints.map(c => c.step), active.head.step];
+  return {
+    specText: ledger.spec,
+    summary: {
+      branch: active.name,
+      step: active.cursor,
+      tip: active.head.step,
+      branches,
+      fingerprint: info.fingerprint,
+      parameterCount: ledger.parameterCount,
+      checkpointSteps,
+      recipe: info.recipe,
+      setup: describeSetup(root.experiment.setup)
+    },
+    trajectory: sampleRecords(active.trajectory, DISPLAY_RECORDS),
+    readouts: readoutsFromLedger(active.readouts),
+    findings: ledger.findings.map(f => ({ ...f }))
+  };
+}
