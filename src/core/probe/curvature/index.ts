@@ -19,3 +19,5 @@ export type { LineProfile, LineProfileOptions } from './profile';
 export { lineProfile } from './profile';
 export type { CurvatureSession } from './measure-session';
 export { measureSessionCurvature } from './measure-session';
+export type { StabilityVerdict, TracePoint, TraceVerdict } from './verdicts';
+export { stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from './verdicts';
