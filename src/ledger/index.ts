@@ -7,7 +7,7 @@ export { LEDGER_FORMAT, LEDGER_KEY, LEDGER_VERSION, LedgerError } from './types'
 export type { EncodedOptimizerState, EncodedScalar, EncodedSessionState, EncodedTrajectory, Ledger, LedgerBranch, LedgerCheckpoint, LedgerReadouts } from './types';
 export { base64FromBytes, base64FromFloat64, base64FromInt32, bytesFromBase64, float64FromBase64, int32FromBase64 } from './base64';
 export { decodeScalar, decodeSessionState, decodeTrajectory, encodeScalar, encodeSessionState, encodeTrajectory, trajectoryDigest } from './codec';
-export { migrateLedger, migrateV1, MIGRATIONS, OLDEST_READABLE_VERSION, recoverSpec } from './migrate';
+export { migrateLedger, migrateV1, migrateV2, MIGRATIONS, OLDEST_READABLE_VERSION, recoverSpec } from './migrate';
 export type { LedgerJson, MigrateResult, Migration } from './migrate';
 export { validateLedger } from './check';
 export type { LedgerResult, ValidateOptions } from './check';
@@ -15,5 +15,5 @@ export { capTrajectory, thinCheckpoints } from './caps';
 export { buildLedger, decodeBranch, decodeBranches, DEFAULT_LEDGER_LIMITS, ledgerSize, serializeLedger } from './compose';
 export type { BranchInput, DecodedBranch, LedgerInput, LedgerLimits } from './compose';
 export { sha256Hex } from './hash';
-export { capSharpness, decodeLoose, decodeReadouts, encodeLoose, encodeReadouts, MAX_READOUT_BYTES, MAX_SHARPNESS_POINTS, readoutsDigest } from './readouts';
+export { capSharpness, decodeFindings, decodeLoose, decodeReadouts, encodeFindings, encodeLoose, encodeReadouts, MAX_FINDINGS_PER_BRANCH, MAX_READOUT_BYTES, MAX_SHARPNESS_POINTS, readoutsDigest } from './readouts';
 export type { DecodedReadouts, ReadoutsInput } from './readouts';
