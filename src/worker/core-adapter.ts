@@ -5,10 +5,13 @@
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature } from '../core/probe/curvature';
+import { gradientNoiseScale } from '../core/probe/noise-scale';
+import { effectiveBatch } from '../core/session';
 import { parseSpec } from '../experiment';
 import { patchChainExperiment } from '../experiment/patch';
 import type { EngineCore, ParseOutcome } from './engine-core';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
+import { curvatureVerdict } from './diagnosis';
 
 /** The real numerics behind the engine host. */
 export const realCore: EngineCore = {
@@ -36,8 +39,16 @@ export const realCore: EngineCore = {
       bottomBounds: [...spectrum.bottomBounds],
       products: spectrum.products,
       stop: spectrum.stop,
-      summary
+      summary,
+      ...curvatureVerdict(summary)
     };
+  },
+  noise(experiment, session, sample) {
+    // Like the audit: the rows sampled come from the seed and the step.
+    const rng = Rng.fromSeed(experiment.seed).fork(`noise-${session.stepCount}`);
+    const rows = session.objective.rowCount;
+    const batch = effectiveBatch(experiment.recipe, rows) || rows;
+    return gradientNoiseScale(session.objective, Float64Array.from(session.parameters), rng, { sample, batch, step: session.stepCount });
   },
   sharpness(experiment, session): SharpnessPoint {
     const rng = Rng.fromSeed(experiment.seed).fork(`sharpness-${session.stepCount}`);
@@ -48,7 +59,8 @@ export const realCore: EngineCore = {
       lambdaMax: summary.lambdaMax,
       sharpness: st.sharpness,
       limit: st.sharpnessLimit,
-      preconditioned: st.preconditioned
+      preconditioned: st.preconditioned,
+      lr: st.lr
     };
   }
 };
