@@ -1,0 +1,89 @@
+/**
+ * The findings strip above the readouts: one row per finding of the shown branch — severity (as a
+ * word, not only a colour), the statement, the measured number against its threshold, the source
+ * (on hover, and in a disclosure that keyboards and screen readers reach) and, where the finding
+ * proposes a change, a "Try as branch" button (or "Show branch X" once a branch tried it). The
+ * words come from the findings rules in core and the formatting here is the cell's; nothing is
+ * judged here.
+ */
+import type { Finding } from '../worker/protocol';
+import { button, el } from './dom';
+import { fmt } from './summary';
+
+/** CSS classes of the strip. */
+export namespace FindingsClass {
+  export const strip = 'sw-Findings';
+  export const item = 'sw-Finding';
+  export const severity = 'sw-FindingSeverity';
+  export const source = 'sw-FindingSource';
+}
+
+/** The caveat every proposal carries in the strip. */
+export const PROPOSAL_CAVEAT =
+  'Proposals are measured on this small proxy experiment: a guess to try here and confirm at full scale, not a prescription.';
+
+/** A proposal's keys as `lr=0.0123, model.gain=1`. */
+export function proposalText(set: Readonly<Record<string, unknown>>): string {
+  return Object.entries(set).map(([k, v]) => `${k}=${String(v)}`).join(', ');
+}
+
+/** The "measured against threshold" line of a finding, e.g. `measured 0.9 · threshold 0.831`. */
+export function measuredLine(f: Finding): string {
+  return `measured ${fmt(f.measured)} · threshold ${fmt(f.threshold)}`;
+}
+
+/** Where a finding was measured: `step 14, layer 2`, `the whole model`, `the data`. */
+export function whereLine(f: Finding): string {
+  const parts = [f.step !== null ? `step ${f.step}` : null, f.layer !== null ? `layer ${f.layer}` : null].filter((x): x is string => x !== null);
+  return parts.length > 0 ? parts.join(', ') : 'the data';
+}
+
+/** Actions of the strip. */
+export interface StripActions {
+  /** "Try as branch" (or "Show branch") on finding `index`. */
+  tryFinding: (index: number) => void;
+}
+
+/** Builds the strip (an empty strip when there are no findings; the caller hides it). */
+export function findingsStrip(findings: readonly Finding[], tried: readonly (string | null)[], busy: boolean, actions: StripActions, stale: string | null): HTMLElement {
+  const box = el('section', FindingsClass.strip);
+  box.setAttribute('aria-label', `Findings (${findings.length})`);
+  if (findings.length === 0) return box;
+  const head = el('p', 'sw-FindingsHead', `${findings.length} finding${findings.length === 1 ? '' : 's'} on this branch${stale !== null ? ` (${stale})` : ''}:`);
+  const list = el('ul', 'sw-FindingsList');
+  findings.forEach((f, i) => {
+    const item = el('li', `${FindingsClass.item} sw-mod-${f.severity}`);
+    item.dataset.finding = f.id;
+    const sev = el('span', FindingsClass.severity, f.severity);
+    const id = el('code', 'sw-FindingId', f.id);
+    const where = el('span', 'sw-FindingWhere', whereLine(f));
+    const statement = el('span', 'sw-FindingStatement', f.statement);
+    const measured = el('span', 'sw-FindingMeasured', measuredLine(f));
+    measured.title = `Source of the threshold: ${f.source}`;
+    // The source on hover (title) and, for keyboards and screen readers, in a disclosure.
+    const source = el('details', FindingsClass.source);
+    source.append(el('summary', undefined, 'source'), el('span', undefined, f.source));
+    const line = el('div', 'sw-FindingLine');
+    line.append(sev, id, where, statement);
+    const meta = el('div', 'sw-FindingMeta');
+    meta.append(measured, source);
+    item.append(line, meta);
+    if (f.proposal !== null) {
+      const p = f.proposal;
+      const t = tried[i] ?? null;
+      const prop = el('div', 'sw-FindingProposal');
+      prop.append(el('span', 'sw-Label', `Proposal: from step ${p.atStep}, ${proposalText(p.set)}`));
+      const b = t === null
+        ? button('Try as branch', `Fork a branch at step ${p.atStep} with ${proposalText(p.set)} and show it`, () => actions.tryFinding(i), 'sw-Button-try')
+        : button(`Show branch ${t}`, `Branch ${t} already tries this proposal: show it`, () => actions.tryFinding(i), 'sw-Button-try sw-mod-tried');
+      b.disabled = busy;
+      b.setAttribute('aria-label', t === null ? `Try the proposal of ${f.id} as a branch: from step ${p.atStep}, ${proposalText(p.set)}` : `Show branch ${t}, which tries the proposal of ${f.id}`);
+      prop.append(b);
+      item.append(prop);
+    }
+    list.appendChild(item);
+  });
+  box.append(head, list);
+  if (findings.some(f => f.proposal !== null)) box.append(el('p', 'sw-FindingsCaveat', PROPOSAL_CAVEAT));
+  return box;
+}
