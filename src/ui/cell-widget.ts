@@ -50,6 +50,8 @@ export class StepwellCellWidget extends Widget {
   private readonly tabButtons: HTMLButtonElement[] = [];
   private setBranchProblems: ((p: CellViewState['branchProblems']) => void) | null = null;
   private renderedFindings: string | null = null;
+  /** Whether the folded findings are shown (kept across rebuilds of the strip). */
+  private findingsMore = false;
   private renderedForm: string | null = null;
   private renderedBar: string | null = null;
   private renderedConfirm: string | null = null;
@@ -170,8 +172,12 @@ export class StepwellCellWidget extends Widget {
     if (key === this.renderedFindings) return;
     this.renderedFindings = key;
     const stepping = s.busy !== null && s.busy.total > 0;
-    const strip = findingsStrip(d.findings, d.derived.tried, s.busy !== null || s.specEdited, { tryFinding: i => void this.controller.tryFinding(i) },
-      stepping ? 'refreshed about once a second while it steps' : null);
+    const strip = findingsStrip(d.findings, d.derived.tried, s.busy !== null || s.specEdited, {
+      tryFinding: i => void this.controller.tryFinding(i),
+      toggleMore: open => {
+        this.findingsMore = open;
+      }
+    }, stepping ? 'refreshed about once a second while it steps' : null, this.findingsMore);
     replaceChildren(this.findingsNode, [strip]);
     show(this.findingsNode, d.findings.length > 0);
   }

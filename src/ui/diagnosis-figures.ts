@@ -85,11 +85,12 @@ const sci = (x: number): string => x.toExponential(0);
 /** The zone of one log10 ratio against the balance's band (center ± half-width) and far thresholds. */
 export function heatZone(log10Ratio: number | null, band: LayerBalance['band']): HeatZone {
   if (log10Ratio === null) return 'none';
-  const r = Math.pow(10, log10Ratio);
-  if (r > band.farHigh) return 'far-high';
-  if (r > band.high) return 'high';
-  if (r >= band.low) return 'band';
-  if (r >= band.farLow) return 'low';
+  // Compared in decades, where the cell's value lives (10^-4 is not exactly 1e-4 in floating point).
+  const at = (edge: number): number => Math.log10(edge);
+  if (log10Ratio > at(band.farHigh)) return 'far-high';
+  if (log10Ratio > at(band.high)) return 'high';
+  if (log10Ratio >= at(band.low)) return 'band';
+  if (log10Ratio >= at(band.farLow)) return 'low';
   return 'far-low';
 }
 

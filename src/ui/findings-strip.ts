@@ -22,6 +22,14 @@ export namespace FindingsClass {
 export const PROPOSAL_CAVEAT =
   'Proposals are measured on this small proxy experiment: a guess to try here and confirm at full scale, not a prescription.';
 
+/**
+ * A threshold's source as one phrase: `Nocedal & Wright …` for a published source (its `source: `
+ * tag dropped), `common practice (no single source): …` and `… from memory` as written.
+ */
+export function sourceText(source: string): string {
+  return source.startsWith('source: ') ? source.slice('source: '.length) : source;
+}
+
 /** A proposal's keys as `lr=0.0123, model.gain=1`. */
 export function proposalText(set: Readonly<Record<string, unknown>>): string {
   return Object.entries(set).map(([k, v]) => `${k}=${String(v)}`).join(', ');
@@ -42,15 +50,37 @@ export function whereLine(f: Finding): string {
 export interface StripActions {
   /** "Try as branch" (or "Show branch") on finding `index`. */
   tryFinding: (index: number) => void;
+  /** The "more findings" disclosure was opened or closed (the widget keeps it across rebuilds). */
+  toggleMore: (open: boolean) => void;
+}
+
+/** Findings listed before the rest fold into "more findings" (every problem is always listed). */
+export const FINDINGS_SHOWN = 3;
+
+/** How many of `findings` (most severe first) are listed open: every problem, and at least {@link FINDINGS_SHOWN}. */
+export function shownCount(findings: readonly Finding[]): number {
+  return Math.min(findings.length, Math.max(FINDINGS_SHOWN, findings.filter(f => f.severity === 'problem').length));
+}
+
+/** `2 warnings, 1 info` for the folded findings. */
+export function foldedText(findings: readonly Finding[]): string {
+  const n = (sev: Finding['severity']): number => findings.filter(f => f.severity === sev).length;
+  return ([['problem', 'problems'], ['warning', 'warnings'], ['info', 'info']] as const)
+    .map(([sev, many]) => [n(sev), sev, many] as const)
+    .filter(([k]) => k > 0)
+    .map(([k, one, many]) => `${k} ${k === 1 ? one : many}`)
+    .join(', ');
 }
 
 /** Builds the strip (an empty strip when there are no findings; the caller hides it). */
-export function findingsStrip(findings: readonly Finding[], tried: readonly (string | null)[], busy: boolean, actions: StripActions, stale: string | null): HTMLElement {
+export function findingsStrip(findings: readonly Finding[], tried: readonly (string | null)[], busy: boolean, actions: StripActions, stale: string | null, moreOpen = false): HTMLElement {
   const box = el('section', FindingsClass.strip);
   box.setAttribute('aria-label', `Findings (${findings.length})`);
   if (findings.length === 0) return box;
   const head = el('p', 'sw-FindingsHead', `${findings.length} finding${findings.length === 1 ? '' : 's'} on this branch${stale !== null ? ` (${stale})` : ''}:`);
   const list = el('ul', 'sw-FindingsList');
+  const more = el('ul', 'sw-FindingsList');
+  const open = shownCount(findings);
   findings.forEach((f, i) => {
     const item = el('li', `${FindingsClass.item} sw-mod-${f.severity}`);
     item.dataset.finding = f.id;
@@ -59,10 +89,10 @@ export function findingsStrip(findings: readonly Finding[], tried: readonly (str
     const where = el('span', 'sw-FindingWhere', whereLine(f));
     const statement = el('span', 'sw-FindingStatement', f.statement);
     const measured = el('span', 'sw-FindingMeasured', measuredLine(f));
-    measured.title = `Source of the threshold: ${f.source}`;
+    measured.title = `Source of the threshold: ${sourceText(f.source)}`;
     // The source on hover (title) and, for keyboards and screen readers, in a disclosure.
     const source = el('details', FindingsClass.source);
-    source.append(el('summary', undefined, 'source'), el('span', undefined, f.source));
+    source.append(el('summary', undefined, 'source'), el('span', undefined, sourceText(f.source)));
     const line = el('div', 'sw-FindingLine');
     line.append(sev, id, where, statement);
     const meta = el('div', 'sw-FindingMeta');
@@ -81,9 +111,16 @@ export function findingsStrip(findings: readonly Finding[], tried: readonly (str
       prop.append(b);
       item.append(prop);
     }
-    list.appendChild(item);
+    (i < open ? list : more).appendChild(item);
   });
   box.append(head, list);
+  if (open < findings.length) {
+    const folded = el('details', 'sw-FindingsMore');
+    folded.open = moreOpen;
+    folded.append(el('summary', undefined, `${findings.length - open} more: ${foldedText(findings.slice(open))}`), more);
+    folded.addEventListener('toggle', () => actions.toggleMore(folded.open));
+    box.append(folded);
+  }
   if (findings.some(f => f.proposal !== null)) box.append(el('p', 'sw-FindingsCaveat', PROPOSAL_CAVEAT));
   return box;
 }

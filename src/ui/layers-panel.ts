@@ -129,16 +129,20 @@ function initTable(init: InitCheck | null): HTMLElement {
 /** The heat map as a table with coloured cells, its legend and its text alternative. */
 function heatMapNode(h: HeatMap): HTMLElement {
   const box = el('div', 'sw-HeatMapBox');
-  const table = el('table', 'sw-HeatMap');
+  // Few steps get wider cells; many get narrow ones (the table scrolls beyond the panel's width).
+  const table = el('table', `sw-HeatMap${h.steps.length <= 30 ? ' sw-mod-wide' : ''}`);
   const caption = el('caption', 'sw-sr', h.text);
   table.appendChild(caption);
   const head = el('tr');
   head.appendChild(el('th', 'sw-HeatCorner', 'layer \\ step'));
-  const every = Math.max(1, Math.ceil(h.steps.length / 6));
+  // About six step labels: every n-th column and the last, none crowding the last.
+  const n = h.steps.length;
+  const every = Math.max(1, Math.ceil(n / 6));
   h.steps.forEach((s, i) => {
     const th = el('th', 'sw-HeatStep');
     th.setAttribute('scope', 'col');
-    th.appendChild(el('span', i % every === 0 || i === h.steps.length - 1 ? 'sw-HeatTick' : 'sw-sr', String(s)));
+    const tick = i === n - 1 || (i % every === 0 && n - 1 - i >= Math.max(2, every / 2));
+    th.appendChild(el('span', tick ? 'sw-HeatTick' : 'sw-sr', String(s)));
     head.appendChild(th);
   });
   table.appendChild(el('thead')).appendChild(head);

@@ -106,7 +106,7 @@ function derivedNumbers(s: CurvatureResult['summary']): HTMLElement {
  */
 export function generalizationNote(g: Generalization | null): HTMLElement | null {
   if (g === null) return null;
-  const rise = Number.isFinite(g.riseSinceBest) ? `${(100 * g.riseSinceBest).toFixed(1)} %` : fmt(g.riseSinceBest);
+  const rise = Number.isFinite(g.riseSinceBest) ? `${fmt(100 * g.riseSinceBest)} %` : fmt(g.riseSinceBest);
   const rows = [
     ['lowest held-out loss', `step ${g.best.step}`, fmt(g.best.heldOut), fmt(g.best.train)],
     ['now', `step ${g.last.step}`, fmt(g.last.heldOut), fmt(g.last.train)]
