@@ -10,7 +10,7 @@
 import type { BranchComparison, BranchTrace } from '../worker/protocol';
 import type { LossVerdict, MatchedCell } from '../core/session';
 import { escapeMarkdown, fmt, PROXY_NOTE } from './summary';
-import { sourceText } from './findings-strip';
+import { measuredLine, sourceText } from './findings-strip';
 
 /** Cell-metadata key that marks a decision record (and names the stepwell cell it belongs to). */
 export const RECORD_KEY = 'stepwell-record';
@@ -85,7 +85,7 @@ function findingLines(traces: readonly BranchTrace[]): string[] {
       const proposal = f.proposal === null ? ''
         : ` Proposal: from step ${f.proposal.atStep}, ${escapeMarkdown(proposalText(f.proposal.set))}${tried !== null ? ` — tried as branch ${escapeMarkdown(tried)}` : ''}.`;
       lines.push(`- **${escapeMarkdown(f.severity)} \`${f.id.replace(/`/g, '')}\`** (${escapeMarkdown(where)}): ${escapeMarkdown(f.statement)} ` +
-        `Measured ${escapeMarkdown(fmt(f.measured))} against the threshold ${escapeMarkdown(fmt(f.threshold))}. Source: ${escapeMarkdown(sourceText(f.source))}.${proposal}`);
+        `Measured: ${escapeMarkdown(measuredLine(f))}. Source: ${escapeMarkdown(sourceText(f.source))}.${proposal}`);
     });
   }
   return lines.length > 0 ? lines : ['The compared branches have no findings.'];

@@ -35,9 +35,51 @@ export function proposalText(set: Readonly<Record<string, unknown>>): string {
   return Object.entries(set).map(([k, v]) => `${k}=${String(v)}`).join(', ');
 }
 
-/** The "measured against threshold" line of a finding, e.g. `measured 0.9 · threshold 0.831`. */
+/** How a finding's measured number and threshold read: a share in %, a factor with ×, or a plain number. */
+type QuantityUnit = 'plain' | 'percent' | 'times';
+
+/**
+ * What each rule's measured number is (the `measures` of the rules in core/probe/findings/rules,
+ * shortened for the strip) and how it reads. A record over every id, so a new rule is a compile
+ * error until it is named here.
+ */
+export const FINDING_QUANTITY: Readonly<Record<Finding['id'], { name: string; unit: QuantityUnit }>> = {
+  'step-size-unstable': { name: 'learning rate', unit: 'plain' },
+  diverged: { name: 'loss against its start', unit: 'times' },
+  plateau: { name: 'loss decrease over the window', unit: 'percent' },
+  'saturated-units': { name: 'saturated share', unit: 'percent' },
+  'dead-units': { name: 'dead share', unit: 'percent' },
+  'init-scale': { name: 'initial spread against the fan-in rule', unit: 'times' },
+  'inputs-unscaled': { name: 'feature spread or offset ratio', unit: 'times' },
+  'duplicate-rows': { name: 'repeated rows', unit: 'percent' },
+  'update-ratio-high': { name: '‖ΔW‖/‖W‖', unit: 'plain' },
+  'update-ratio-low': { name: '‖ΔW‖/‖W‖', unit: 'plain' },
+  'vanishing-gradient': { name: 'gradient norm against the last layer\'s', unit: 'times' },
+  'negative-curvature': { name: '|λmin| / λmax', unit: 'plain' },
+  'ill-conditioned': { name: 'condition number', unit: 'plain' },
+  overfitting: { name: 'held-out loss above its minimum', unit: 'percent' },
+  'gradient-mismatch': { name: 'largest relative error', unit: 'plain' }
+};
+
+/** A measured number or threshold in its unit: `94.6 %`, `12200×`, `0.736`. */
+function inUnit(x: number, unit: QuantityUnit): string {
+  switch (unit) {
+    case 'plain':
+      return fmt(x);
+    case 'percent':
+      return Number.isFinite(x) ? `${fmt(Number((100 * x).toPrecision(3)))} %` : fmt(x);
+    case 'times':
+      return Number.isFinite(x) ? `${fmt(Number(x.toPrecision(3)))}×` : fmt(x);
+  }
+}
+
+/**
+ * The "measured against threshold" line of a finding with what was measured and its unit, e.g.
+ * `learning rate 0.9 · threshold 0.736015` or `saturated share 94.6 % · threshold 30 %`.
+ */
 export function measuredLine(f: Finding): string {
-  return `measured ${fmt(f.measured)} · threshold ${fmt(f.threshold)}`;
+  const q = FINDING_QUANTITY[f.id];
+  return `${q.name} ${inUnit(f.measured, q.unit)} · threshold ${inUnit(f.threshold, q.unit)}`;
 }
 
 /** Where a finding was measured: `step 14, layer 2`, `the whole model`, `the data`. */

@@ -108,7 +108,7 @@ describe('decision record', () => {
   });
 
   it('lists findings with their sources, the recipe as YAML, the fingerprints in full and the figure', () => {
-    expect(md).toContain('- **problem `step-size-unstable`** (branch main, step 27): λmax 2.4 exceeds 2/η = 2.2 at step 27. Measured 2.4 against the threshold 2.2. Source: Nocedal & Wright 2006, ch. 3. Proposal: from step 26, lr=0.4 — tried as branch lr=0.4.');
+    expect(md).toContain('- **problem `step-size-unstable`** (branch main, step 27): λmax 2.4 exceeds 2/η = 2.2 at step 27. Measured: learning rate 2.4 · threshold 2.2. Source: Nocedal & Wright 2006, ch. 3. Proposal: from step 26, lr=0.4 — tried as branch lr=0.4.');
     expect(md).toContain('*Proposals are measured on this small proxy experiment: a guess to confirm at full scale, not a prescription.*');
     expect(md).toContain('```yaml\nseed: 11\nrecipe:\n  optimizer: sgd\n  lr: 0.4\n```');
     expect(md).toContain(`| main | 40 | \`${'b'.repeat(64)}\` |`);

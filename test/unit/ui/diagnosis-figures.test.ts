@@ -73,7 +73,11 @@ describe('findings strip wording', () => {
   });
 
   it('writes the measured number against its threshold, where it was measured, and the source without its tag', () => {
-    expect(measuredLine(finding('warning'))).toBe('measured 0.5 · threshold 0.25');
+    expect(measuredLine(finding('warning'))).toBe('loss decrease over the window 50 % · threshold 25 %');
+    expect(measuredLine({ ...finding('problem', 'step-size-unstable'), measured: 0.9, threshold: 0.736015 })).toBe('learning rate 0.9 · threshold 0.736015');
+    expect(measuredLine({ ...finding('problem', 'diverged'), measured: 12153.3, threshold: 1000 })).toBe('loss against its start 12200× · threshold 1000×');
+    expect(measuredLine({ ...finding('problem', 'diverged'), measured: Infinity, threshold: 1000 })).toBe('loss against its start ∞ · threshold 1000×');
+    expect(measuredLine({ ...finding('warning', 'saturated-units'), measured: 0.945833, threshold: 0.3 })).toBe('saturated share 94.6 % · threshold 30 %');
     expect(whereLine({ ...finding('warning'), layer: 2 })).toBe('step 3, layer 2');
     expect(whereLine({ ...finding('warning'), step: null })).toBe('the data');
     expect(sourceText('source: a paper, 2001')).toBe('a paper, 2001');
