@@ -6,7 +6,7 @@
  */
 import type { BranchTrace } from '../worker/protocol';
 import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
-import { chooseScale, decimate, stepAxis, themedAxis, themedLayout } from './trace-figure';
+import { chooseScale, decimate, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from './trace-figure';
 import { fmt } from './summary';
 
 /** What the loss overlay puts on its x axis. */
@@ -139,12 +139,13 @@ export function sharpnessOverlayFigure(traces: readonly BranchTrace[], theme: Fi
     for (const p of limited) values.push(p.limit as number);
   });
   const maxX = Math.max(0, ...data.flatMap((d) => d.x));
+  const scale = chooseScale(values, SHARPNESS_LOG_SPAN);
   return {
     data,
     layout: themedLayout(theme, {
       height: 240,
       xaxis: stepAxis(theme, maxX),
-      yaxis: themedAxis(theme, 'sharpness', chooseScale(values)),
+      yaxis: { ...themedAxis(theme, scale === 'log' ? 'sharpness (log scale)' : 'sharpness', scale), ...logTicks(values, scale) },
       annotations: [],
       showlegend: true
     })

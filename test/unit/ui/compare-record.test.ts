@@ -65,6 +65,14 @@ describe('comparison figure', () => {
     const withSharp = { ...main, sharpness: [{ step: 0, lambdaMax: 1, sharpness: 1, limit: 2.2, preconditioned: false }, { step: 10, lambdaMax: 3, sharpness: 3, limit: 2.2, preconditioned: false }] };
     const f = sharpnessOverlayFigure([withSharp, fix], theme);
     expect(f.data.map(d => [d.name, d.line.color, d.line.dash ?? 'solid'])).toEqual([['main: λmax', '#a00', 'solid'], ['main: limit', '#a00', 'dash']]);
+    // 1 to 3: linear; a λmax that grows past 10× its limit turns the axis logarithmic (and says so).
+    expect(f.layout.yaxis.type).toBe('linear');
+    const grown = { ...withSharp, sharpness: [...withSharp.sharpness, { step: 20, lambdaMax: 30, sharpness: 30, limit: 2.2, preconditioned: false }] };
+    const g = sharpnessOverlayFigure([grown, fix], theme);
+    expect([g.layout.yaxis.type, g.layout.yaxis.title.text]).toEqual(['log', 'sharpness (log scale)']);
+    // 1 to 30 is 1.5 decades: ticks at every doubling, written in full.
+    expect([g.layout.yaxis.tickmode, g.layout.yaxis.dtick, g.layout.yaxis.exponentformat]).toEqual(['linear', Math.log10(2), 'none']);
+    expect(f.layout.yaxis.dtick).toBeUndefined();
   });
 
   it('has a text alternative naming every branch and where its trace ends', () => {
