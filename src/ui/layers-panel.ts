@@ -79,7 +79,8 @@ function healthTable(start: ActivationHealth | null, now: ActivationHealth | nul
     const tr = el('tr');
     const sat = l.saturatedShare === null ? '—' : `${share(l.saturatedShare)} beyond |a| = ${l.saturationThreshold}`;
     const dead = l.deadShare === null ? '—' : `${share(l.deadShare)} (${Math.round(l.deadShare * l.units)} of ${l.units})`;
-    for (const v of [String(l.layer), l.activation, fmt(l.preMean), fmt(l.preSpread), sat, dead]) tr.appendChild(el('td', undefined, v));
+    // The saturated share keeps its threshold on one line ("|" allows a break after it).
+    [String(l.layer), l.activation, fmt(l.preMean), fmt(l.preSpread), sat, dead].forEach((v, c) => tr.appendChild(el('td', c === 4 ? 'sw-NoWrap' : undefined, v)));
     tr.appendChild(histogramCell(start?.layers[i]));
     tr.appendChild(histogramCell(now?.layers[i]));
     body.appendChild(tr);
@@ -112,17 +113,22 @@ function initTable(init: InitCheck | null): HTMLElement {
   ]);
   box.appendChild(textTable('sw-Table sw-InitTable', ['layer', 'activation', 'fan-in', `weight spread, ${candidateName(chosen)}`, 'fan-in rule', 'ratio'], rows,
     i => (chosen.layers[i].ratio > 2 || chosen.layers[i].ratio < 0.5 ? 'sw-mod-off' : '')));
-  const all = [chosen, ...init.alternatives];
+  // The same scheme at the same gain is the chosen one drawn again from another stream: showing it
+  // twice with different numbers reads as a contradiction, so the chosen draw stands for it.
+  const all = [chosen, ...init.alternatives.filter(c => !(c.scheme === chosen.scheme && c.gain === chosen.gain))];
   const header = ['layer', ...all.map(c => `${candidateName(c)}${c.chosen ? ' (chosen)' : ''}`)];
   const cell = (c: InitCandidate, l: number): string => {
     const x = c.layers[l];
-    const extra = x.saturatedShare !== null ? `, ${share(x.saturatedShare)} saturated` : x.deadShare !== null ? `, ${share(x.deadShare)} dead` : '';
-    return `spread ${fmt(x.preSpread)}${extra}`;
+    // Non-breaking spaces keep "12.8 % saturated" on one line when the column is narrow.
+    const nb = (t: string): string => t.replace(/ /g, '\u00a0');
+    const extra = x.saturatedShare !== null ? ` · ${nb(`${share(x.saturatedShare)} saturated`)}` : x.deadShare !== null ? ` · ${nb(`${share(x.deadShare)} dead`)}` : '';
+    return `${fmt(x.preSpread)}${extra}`;
   };
   box.appendChild(textTable('sw-Table sw-InitCompare', header, chosen.layers.map((_, l) => [String(l), ...all.map(c => cell(c, l))])));
   box.appendChild(el('p', 'sw-Note',
-    `Pre-activation spread of each layer at step 0 on all ${init.rows} training rows, under the chosen initialization and under each scheme at gain 1 ` +
-    '(weights drawn from their own seeded stream). Rows marked off differ from the fan-in rule by more than 2×.'));
+    `Second table: the pre-activation spread of each layer at step 0 (· the share saturated or dead) on all ${init.rows} training rows, under the chosen initialization and under each other scheme at gain 1 ` +
+    '(weights drawn from their own seeded stream: one draw each, so a layer with few weights varies from draw to draw). ' +
+    'Rows marked off differ from the fan-in rule by more than 2×.'));
   return box;
 }
 
@@ -181,7 +187,7 @@ function balanceSection(b: LayerBalance | null): HTMLElement {
     return box;
   }
   box.appendChild(heatMapNode(balanceHeatMap(b)));
-  const span = (w: LayerBalance['window']): string => (w === null ? '—' : `steps ${w.from}–${w.to}`);
+  const span = (w: LayerBalance['window']): string => (w === null ? '—' : `steps\u00a0${w.from}–\u2060${w.to}`);
   const rows = b.recent.map(r => [
     String(r.layer), r.medianRatio === null ? '—' : r.medianRatio.toExponential(2), r.verdict, fmt(r.earlyDepthRatio), fmt(r.medianDepthRatio)
   ]);
