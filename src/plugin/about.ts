@@ -4,7 +4,6 @@
  */
 import type { JupyterFrontEnd } from '@jupyterlab/application';
 import { Dialog, showDialog, type ICommandPalette } from '@jupyterlab/apputils';
-import type { IMainMenu } from '@jupyterlab/mainmenu';
 import { PageConfig, URLExt } from '@jupyterlab/coreutils';
 import { Widget } from '@lumino/widgets';
 import { aboutBody } from '../ui/about';
@@ -21,8 +20,12 @@ export function docsUrl(): string {
   return URLExt.join(PageConfig.getOption('fullLabextensionsUrl') || '/lab/extensions', 'stepwell', 'static', 'docs') + '/';
 }
 
-/** Registers the command, its palette entry and its place in the Help menu. */
-export function addAboutCommand(app: JupyterFrontEnd, palette: ICommandPalette | null, menu: IMainMenu | null): void {
+/**
+ * Registers the command and its palette entry. Its place in the Help menu is declared in
+ * `schema/plugin.json` (`jupyter.lab.menus`), so Stepwell needs no import of the main menu's
+ * package (whose version the host application fixes).
+ */
+export function addAboutCommand(app: JupyterFrontEnd, palette: ICommandPalette | null): void {
   app.commands.addCommand(ABOUT_COMMAND, {
     label: 'About Stepwell',
     caption: 'Stepwell’s version, what it does, the small-proxy caveat and its documentation',
@@ -32,5 +35,4 @@ export function addAboutCommand(app: JupyterFrontEnd, palette: ICommandPalette |
     }
   });
   palette?.addItem({ command: ABOUT_COMMAND, category: 'Help' });
-  menu?.helpMenu.addGroup([{ command: ABOUT_COMMAND }], 0);
 }

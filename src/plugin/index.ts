@@ -8,7 +8,6 @@ import { ICommandPalette } from '@jupyterlab/apputils';
 import { INotebookCellExecutor, INotebookTracker } from '@jupyterlab/notebook';
 import { IRenderMimeRegistry } from '@jupyterlab/rendermime';
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
-import { IMainMenu } from '@jupyterlab/mainmenu';
 import type { CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
 import { spawnEngine } from '../worker/spawn';
@@ -122,8 +121,8 @@ const aboutPlugin: JupyterFrontEndPlugin<void> = {
   id: 'stepwell:about',
   description: 'Adds "About Stepwell" (version, what it is, the small-proxy caveat, its documentation) to the Help menu.',
   autoStart: true,
-  optional: [ICommandPalette, IMainMenu],
-  activate: (app: JupyterFrontEnd, palette: ICommandPalette | null, menu: IMainMenu | null): void => addAboutCommand(app, palette, menu)
+  optional: [ICommandPalette],
+  activate: (app: JupyterFrontEnd, palette: ICommandPalette | null): void => addAboutCommand(app, palette)
 };
 
 const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, aboutPlugin];
