@@ -21,6 +21,8 @@ import pkg from '../../package.json';
 
 /** Flags of `export`. */
 export interface ExportFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   to?: string;
   out?: string;
   steps?: string;
@@ -41,14 +43,14 @@ interface Source {
 
 /** Resolves SOURCE (a spec file) and the --set / --branch patches into one experiment. */
 function resolveSource(path: string, flags: ExportFlags): Source {
-  const { experiment, text, patch, warnings } = loadExperiment(path, flags.set);
+  const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path, warnings };
   const fork = parseBranch(flags.branch);
   if (fork.at !== 0) {
     throw new CliError(`--branch ${flags.branch}: export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is not exported yet (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
   }
   const both = { ...patch, ...readOverrides(fork.overrides, '--branch') };
-  const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both) });
+  const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both, limits.maxFileBytes), limits });
   if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
   return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings };
 }

@@ -9,6 +9,8 @@ import { loadExperiment, positiveInt, readVector, toJson, type CommandResult } f
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   json?: boolean;
   vector?: string;
   top?: string;
@@ -20,7 +22,7 @@ export interface InspectFlags {
 
 /** Runs the command and returns its output text. */
 export function inspectCommand(path: string, flags: InspectFlags): CommandResult {
-  const { experiment, warnings } = loadExperiment(path, flags.set);
+  const { experiment, warnings } = loadExperiment(path, flags.set, flags.limit);
   const objective = buildObjective(experiment.setup);
   const w = initialParameters(experiment.setup, Rng.fromSeed(experiment.seed).fork('init'));
   const P = objective.parameterCount;

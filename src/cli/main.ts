@@ -32,6 +32,8 @@ const USAGE = `usage:
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
     that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
+  every command takes --limit NAME=VALUE (repeatable) to raise a size limit checked before anything is allocated:
+    maxSpecChars, maxParameters, maxRows, maxColumns, maxActivations, maxFileBytes (defaults in DEVELOPERS.md)
   exit status: 0 done, 2 bad input, 3 run: the loss or the weights became non-finite (unless --until diverged)
   JSON holds NaN and ±Infinity as the strings "NaN", "Infinity" and "-Infinity"
 `;
@@ -44,26 +46,26 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
       case 'inspect': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           json: { type: 'boolean' }, vector: { type: 'string' }, top: { type: 'string' }, bottom: { type: 'string' },
-          trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true },
+          trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
         } });
         return report(inspectCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'run': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true },
+          json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
           branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
         return report(runCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'export': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
+          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true }, branch: { type: 'string' },
         } });
         return report(exportCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          json: { type: 'boolean' }, steps: { type: 'string' }, set: { type: 'string', multiple: true },
+          json: { type: 'boolean' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
         } });
         return report(diagnoseCommand(specPath(a.positionals), a.values), out, err);
       }

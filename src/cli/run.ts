@@ -7,6 +7,8 @@ import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, to
 
 /** Flags of `run`. */
 export interface RunFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   json?: boolean;
   steps?: string;
   until?: string;
@@ -79,7 +81,7 @@ function compact(records: StepRecord[]): { step: number; loss: number; gradNorm:
 export function runCommand(path: string, flags: RunFlags): CommandResult {
   if (flags.steps === undefined) throw new CliError('run needs --steps N (the number of optimizer updates, or the cap with --until)');
   const steps = positiveInt(flags.steps, '--steps', 0, MAX_STEPS);
-  const { experiment, text, patch, warnings } = loadExperiment(path, flags.set);
+  const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   const until = flags.until === undefined ? undefined : parseUntil(flags.until);
   const fork = flags.branch === undefined ? undefined : parseBranch(flags.branch);
   if (fork && fork.at > steps) throw new CliError(`--branch forks at step ${fork.at}, after the last step ${steps}`);
@@ -87,7 +89,7 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   const branchPatch = fork ? readOverrides(fork.overrides, '--branch') : undefined;
   let patched: Experiment | undefined;
   if (branchPatch) {
-    const r = patchExperiment(text, { ...patch, ...branchPatch }, { files: readSpecFiles(path, text, { ...patch, ...branchPatch }) });
+    const r = patchExperiment(text, { ...patch, ...branchPatch }, { files: readSpecFiles(path, text, { ...patch, ...branchPatch }, limits.maxFileBytes), limits });
     if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
     patched = r.experiment;
   }

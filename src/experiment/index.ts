@@ -9,6 +9,7 @@
 import type { Experiment } from '../core/setup';
 import { buildExperiment } from './normalize';
 import { crossCheck } from './checks';
+import { DEFAULT_SPEC_LIMITS, grouped, limitProblems, type SpecLimits } from './limits';
 import type { CheckProblem } from './checks';
 import { formatPath } from './path';
 import { readSource } from './source';
@@ -18,6 +19,7 @@ import { loadSpecFiles, type SpecFiles } from './files';
 import { checkTakenData } from './take';
 
 export { TEMPLATE_SPEC } from './template';
+export { DEFAULT_SPEC_LIMITS, parseLimits, type SpecLimits } from './limits';
 export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
@@ -27,6 +29,8 @@ export { specFileNames, specFileRefs, type SpecFiles } from './files';
 export interface SpecOptions {
   /** Bytes of the files the spec names (data, weights), keyed by the name as written; see `files.ts`. */
   files?: SpecFiles;
+  /** Size limits checked before allocation (default {@link DEFAULT_SPEC_LIMITS}). */
+  limits?: SpecLimits;
 }
 
 /**
@@ -71,7 +75,7 @@ function fromRead(p: ReadProblem): Placed {
 /** Sorts by position and strips the internal offset; drops exact duplicates. */
 function finish(list: Placed[]): SpecError[] {
   const seen = new Set<string>();
-  return list
+  const all = list
     .slice()
     .sort((a, b) => a.offset - b.offset || (a.message < b.message ? -1 : a.message > b.message ? 1 : 0))
     .filter((e) => {
@@ -81,7 +85,13 @@ function finish(list: Placed[]): SpecError[] {
       return true;
     })
     .map(({ offset: _offset, ...rest }) => rest);
+  if (all.length <= MAX_PROBLEMS) return all;
+  const rest = all.length - MAX_PROBLEMS;
+  return [...all.slice(0, MAX_PROBLEMS), { path: '', message: `… and ${rest} more problem${rest === 1 ? '' : 's'} after these (fix the first ones; many share one cause)` }];
 }
+
+/** Most problems reported for one spec (sorted by position; a count of the rest follows). */
+export const MAX_PROBLEMS = 50;
 
 /**
  * Parses and validates spec text.
@@ -91,6 +101,10 @@ function finish(list: Placed[]): SpecError[] {
  */
 export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto', options: SpecOptions = {}): SpecResult {
   if (typeof text !== 'string') return { ok: false, errors: [{ path: '', message: `the spec must be text, got ${typeof text}` }] };
+  const maxChars = (options.limits ?? DEFAULT_SPEC_LIMITS).maxSpecChars;
+  if (text.length > maxChars) {
+    return { ok: false, errors: [{ path: '', message: `the spec is ${grouped(text.length)} characters long, above the limit of ${grouped(maxChars)} (limit maxSpecChars): keep large data in a file (data.file) instead of inline` }] };
+  }
   const read = readSource(text, format === 'json' ? 'json' : 'yaml');
   if (!read.ok) return { ok: false, errors: finish(read.problems.map(fromRead)) };
   const { source } = read;
@@ -112,7 +126,10 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
   const cross = crossCheck(value);
   const errors = [...schemaProblems.map(where), ...cross.errors.map(where)];
   if (errors.length > 0) return { ok: false, errors: finish(errors) };
-  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files);
+  const limits = options.limits ?? DEFAULT_SPEC_LIMITS;
+  const tooBig = limitProblems(value as Record<string, unknown>, limits);
+  if (tooBig.length > 0) return { ok: false, errors: finish(tooBig.map(where)) };
+  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files, limits);
   if (problems.length > 0) return { ok: false, errors: finish(problems.map(where)) };
   let experiment: Experiment;
   try {

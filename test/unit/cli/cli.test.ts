@@ -202,6 +202,24 @@ data:
   });
 });
 
+describe('size limits', () => {
+  const wide = file('wide.yaml', 'model: { inputs: 2, layers: [{ units: 3000000 }, { units: 1 }] }\ndata: { x: [[1, 2]], y: [[1]] }\n');
+
+  it('refuses an absurd layer before allocating it, naming the limit and how to raise it', async () => {
+    const r = await cli('run', wide, '--steps', '1', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/wide\.yaml:1:\d+: the network would have 12 000 001 parameters \(model\.layers\[0\]\.units is 3 000 000\), above the limit of 2 000 000 \(limit maxParameters\)/);
+  });
+
+  it('takes --limit NAME=VALUE and refuses unknown limits', async () => {
+    const tight = await cli('run', spec, '--steps', '1', '--json', '--limit', 'maxParameters=5');
+    expect(tight.err).toMatch(/above the limit of 5 \(limit maxParameters\)/);
+    const bad = await cli('run', spec, '--steps', '1', '--limit', 'speed=9');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--limit: expected NAME=VALUE with NAME one of maxSpecChars, maxParameters/);
+  });
+});
+
 describe('the installed bin', () => {
   it('runs through npx without a build step', () => {
     const out = execFileSync('npx', ['stepwell', 'run', rosen, '--steps', '2', '--json'], { encoding: 'utf8' });
