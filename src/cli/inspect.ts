@@ -5,7 +5,7 @@ import { AuditDivergedError, auditGradient, type AuditResult } from '../core/pro
 import { norm2 } from '../core/objective';
 import { spectralDensity } from '../core/linalg';
 import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
-import { loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
+import { CliError, loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
@@ -28,6 +28,9 @@ export function inspectCommand(path: string, flags: InspectFlags): CommandResult
   const P = objective.parameterCount;
   const gradient = new Float64Array(P);
   const loss = objective.gradient(w, gradient);
+  if (!Number.isFinite(loss)) {
+    throw new CliError(`${path}: the loss is already ${loss} at the initial weights: check model.gain, model.init, explicit weights and the data (no readout means anything there)`);
+  }
   const out: Record<string, unknown> = { parameterCount: P, loss, gradient: Array.from(gradient) };
   if (flags.vector !== undefined) {
     const v = readVector(flags.vector, P);

@@ -7,6 +7,7 @@
  */
 import type { DataLimits } from '../core/data';
 import { DEFAULT_LIMITS as DATA_DEFAULTS } from '../core/data';
+import { DENSE_LIMIT as NEWTON_DENSE_LIMIT } from '../core/optim/newton';
 import type { CheckProblem } from './checks';
 import type { Path } from './path';
 
@@ -81,6 +82,13 @@ export function limitProblems(spec: Obj, limits: SpecLimits): CheckProblem[] {
     problems.push({
       path: ['model', 'layers', largest, 'units'],
       message: `the network would have ${grouped(parameters)} parameters (model.layers[${largest}].units is ${grouped(layers[largest])}), above the limit of ${grouped(limits.maxParameters)} (limit maxParameters)`
+    });
+  }
+  const optimizer = obj(spec.recipe)?.optimizer;
+  if ((optimizer === 'newton' || optimizer === 'gauss-newton') && parameters > NEWTON_DENSE_LIMIT) {
+    problems.push({
+      path: ['recipe', 'optimizer'],
+      message: `recipe.optimizer '${optimizer}' builds the dense ${grouped(parameters)} × ${grouped(parameters)} curvature matrix; it allows at most ${grouped(NEWTON_DENSE_LIMIT)} parameters, this network has ${grouped(parameters)}: use lbfgs or cg`
     });
   }
   const data = obj(spec.data);

@@ -187,6 +187,13 @@ data:
     expect(r.err).toMatch(/the loss is already (NaN|Infinity) at step 0/);
   });
 
+  it('inspect refuses a non-finite starting point with a message instead of a crash', async () => {
+    const huge = file('huge-gain-inspect.yaml', 'seed: 1\nmodel: { inputs: 2, gain: 1e200, layers: [{ units: 4, activation: tanh }, { units: 1 }] }\ndata: { x: [[1, 2], [0.5, -1]], y: [[1], [0]] }\n');
+    const r = await cli('inspect', huge, '--top', '2');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/the loss is already (Infinity|NaN) at the initial weights/);
+  });
+
   it('prints the spec warnings on standard error', async () => {
     const w = file('warn.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001, batch: 4 }\n');
     const r = await cli('run', w, '--steps', '1', '--json');

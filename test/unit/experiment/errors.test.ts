@@ -281,6 +281,14 @@ describe('size limits, checked before allocation', () => {
     expect(parseSpec(net(2), 'auto', { limits: tight }).ok).toBe(true);
   });
 
+  it('refuses Newton methods above their dense limit at parse time, not at the first step', () => {
+    const list = errors('model: { inputs: 10, layers: [{ units: 200 }, { units: 1 }] }\ndata: { x: [[1,2,3,4,5,6,7,8,9,10]], y: [[1]] }\nrecipe: { optimizer: gauss-newton }\n');
+    // (10 + 1)·200 + (200 + 1)·1 = 2 401 parameters
+    expect(list).toHaveLength(1);
+    expect(list[0]).toMatchObject({ path: 'recipe.optimizer', line: 3 });
+    expect(list[0].message).toMatch(/dense 2 401 × 2 401 curvature matrix; it allows at most 2 000 parameters/);
+  });
+
   it('reads limit overrides and refuses bad ones', () => {
     expect(parseLimits(['maxParameters=5', 'maxRows=7'])).toEqual({ ok: true, limits: { ...DEFAULT_SPEC_LIMITS, maxParameters: 5, maxRows: 7 } });
     const bad = parseLimits(['maxParameters=0', 'speed=3', 'maxRows=1e3']);
