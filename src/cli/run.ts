@@ -2,6 +2,7 @@
 import { Grove, type StopCondition } from '../core/session';
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
+import { trailingStall } from '../core/probe/stall';
 import { describePatch, patchExperiment, splitAssignments, touchesSetup } from '../experiment/patch';
 import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, toJson, type CommandResult } from './io';
 
@@ -123,6 +124,8 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   if (flags.json) {
     const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: mainFinal };
     if (main.divergedAt !== undefined) out.divergedAt = main.divergedAt;
+    const stalled = trailingStall(main.records);
+    if (stalled !== null) out.stalled = stalled;
     const origin = experiment.setup.data?.origin;
     if (origin) out.data = { hash: origin.hash, files: origin.files, ...(origin.classes ? { classes: origin.classes } : {}) };
     if (branch && fork) {
@@ -133,6 +136,13 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   }
   const divergence = (l: Leg): string[] =>
     l.divergedAt === undefined ? [] : [`the loss or the weights became non-finite at step ${l.divergedAt}; the final state is the last finite one (step ${l.divergedAt - 1})`];
+  const stall = (l: Leg, lr: number): string[] => {
+    const s = trailingStall(l.records);
+    if (s === null) return [];
+    const searches = ['lbfgs', 'cg', 'minibatch-lbfgs'].includes(experiment.recipe.optimizer);
+    return [`no progress from step ${s.from} to ${s.to}: every update was zero although the gradient was not` +
+      (searches ? ` — the line search found no lower loss from its first trial step lr = ${lr} and stayed in place; lr: 1 is the usual first trial step` : ` (lr = ${lr})`)];
+  };
   const table = (records: StepRecord[]) => {
     const every = Math.max(1, Math.ceil(records.length / 20));
     return records.filter((r, i) => i % every === 0 || i === records.length - 1)
@@ -146,6 +156,7 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
     `stopped: ${main.stopped} after ${mainFinal.step} steps; final loss ${mainFinal.loss.toPrecision(8)}`,
     ...(until !== undefined && main.stopped === 'max-steps' ? [`the condition --until ${flags.until} was not met within ${steps} steps`] : []),
     ...divergence(main),
+    ...stall(main, experiment.recipe.lr),
     `fingerprint ${mainFinal.fingerprint}`,
   ];
   const origin = experiment.setup.data?.origin;

@@ -194,6 +194,14 @@ data:
     expect(r.err).toMatch(/the loss is already (Infinity|NaN) at the initial weights/);
   });
 
+  it('says when a line search stalls instead of going on silently', async () => {
+    const net = file('stall.yaml', 'seed: 1\nmodel: { inputs: 2, layers: [{ units: 4, activation: tanh }, { units: 1 }] }\ndata: { x: [[1, 2], [0.5, -1], [2, 0.1]], y: [[1], [0], [0.5]] }\nrecipe: { optimizer: lbfgs, lr: 1e300 }\n');
+    const r = await cli('run', net, '--steps', '4');
+    expect(r.out).toMatch(/no progress from step 1 to 4: every update was zero although the gradient was not — the line search found no lower loss/);
+    const j = JSON.parse((await cli('run', net, '--steps', '4', '--json')).out);
+    expect(j.stalled).toEqual({ from: 1, to: 4, updates: 4 });
+  });
+
   it('prints the spec warnings on standard error', async () => {
     const w = file('warn.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001, batch: 4 }\n');
     const r = await cli('run', w, '--steps', '1', '--json');
