@@ -4,9 +4,8 @@
  * lengths, steps increase, fingerprints match their states, branch names resolve).
  * Every problem is reported as `"<field>: <detail>"`.
  */
-import Ajv from 'ajv';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import ledgerSchema from './ledger.schema.json';
+import validateLedgerSchema from './ledger-validator.generated';
 import { fingerprintState } from '../core/session/state-data';
 import { decodeSessionState, decodeTrajectory } from './codec';
 import { migrateLedger } from './migrate';
@@ -25,10 +24,9 @@ export interface ValidateOptions {
   verifyFingerprints?: boolean;
 }
 
-let compiled: ValidateFunction | undefined;
+/** The schema validator, precompiled from `ledger.schema.json` (`src/validators/generate.mjs`): no code generated at run time. */
 function validator(): ValidateFunction {
-  if (!compiled) compiled = new Ajv({ allErrors: true, verbose: true, strictTypes: false }).compile(ledgerSchema);
-  return compiled;
+  return validateLedgerSchema as unknown as ValidateFunction;
 }
 
 /** Turns a JSON pointer into `branches[0].head.state`; the root is `ledger`. */

@@ -234,7 +234,7 @@ export class Network implements Objective {
       const wk = this.work[l];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
       dense(w, p, inp, n, wk.a, true, false);
-      p.act.eval(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, n * p.units);
+      p.act.evaluate(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, n * p.units);
     }
   }
 
