@@ -11,7 +11,7 @@ import { buildExperiment } from './normalize';
 import { crossCheck } from './checks';
 import { DEFAULT_SPEC_LIMITS, grouped, limitProblems, type SpecLimits } from './limits';
 import type { CheckProblem } from './checks';
-import { formatPath } from './path';
+import { describe, formatPath } from './path';
 import { readSource } from './source';
 import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
@@ -84,10 +84,17 @@ function finish(list: Placed[]): SpecError[] {
       seen.add(k);
       return true;
     })
-    .map(({ offset: _offset, ...rest }) => rest);
+    .map(({ offset: _offset, ...rest }) => ({ ...rest, message: shortened(rest.message) }));
   if (all.length <= MAX_PROBLEMS) return all;
   const rest = all.length - MAX_PROBLEMS;
   return [...all.slice(0, MAX_PROBLEMS), { path: '', message: `… and ${rest} more problem${rest === 1 ? '' : 's'} after these (fix the first ones; many share one cause)` }];
+}
+
+/** Longest message kept whole; longer ones (a parser quoting a line of garbage) are cut. */
+const MAX_MESSAGE = 400;
+
+function shortened(message: string): string {
+  return message.length <= MAX_MESSAGE ? message : `${message.slice(0, MAX_MESSAGE - 1)}… (${message.length} characters)`;
 }
 
 /** Most problems reported for one spec (sorted by position; a count of the rest follows). */
@@ -112,7 +119,7 @@ export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto
   if (value === undefined || value === null)
     return { ok: false, errors: [{ path: '', message: 'the spec is empty: it needs at least a model (start from the template)' }] };
   if (typeof value !== 'object' || Array.isArray(value)) {
-    const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value)}` });
+    const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${describe(value)}` });
     return { ok: false, errors: finish([e]) };
   }
   const checked = checkValue(value, (p) => place(source, p), options);
@@ -148,7 +155,7 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
  */
 export function parseSpecValue(value: unknown, options: SpecOptions = {}): SpecResult {
   if (typeof value !== 'object' || value === null || Array.isArray(value)) {
-    return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value) ?? 'nothing'}` }] };
+    return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${describe(value)}` }] };
   }
   const unplaced = (p: CheckProblem): Placed => ({ path: formatPath(p.path), message: p.message, offset: Number.MAX_SAFE_INTEGER });
   const checked = checkValue(value, unplaced, options);

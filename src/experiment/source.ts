@@ -184,7 +184,10 @@ export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResul
   try {
     value = doc.toJS(); // yaml's default alias limit guards against expansion bombs
   } catch (err) {
-    return { ok: false, problems: [{ message: `could not read the spec: ${err instanceof Error ? err.message : String(err)}` }] };
+    // the only failure here is an alias expansion beyond yaml's limit: point at the first alias
+    let first: number | undefined;
+    visit(doc, { Alias(_k, node) { first ??= node.range?.[0]; } });
+    return { ok: false, problems: [{ message: `could not read the spec: ${err instanceof Error ? err.message.split('\n')[0] : String(err)} (aliases may not expand a spec into a huge value)`, position: at(first ?? 0) }] };
   }
   const pairsOf = new WeakMap<object, Map<string, Pair>>();
   const pairIn = (map: YAMLMap, key: string): Pair | undefined => {

@@ -78,7 +78,7 @@ describe('parseSpec: cross-field errors', () => {
     ['class index not an integer', NET('loss: cross-entropy\n', '[[0.5], [1]]', '{ inputs: 2, layers: [{ units: 3 }] }'), 'data.y[0][0]', 'data.y[0][0] must be a class index (an integer from 0 to 2), got 0.5', 4],
     ['cross-entropy with one unit', NET('loss: cross-entropy\n', '[0, 0]'), 'model.layers[1].units', 'cross-entropy needs at least 2 units in the last layer (one logit per class), got 1; use binary-cross-entropy for two classes with one unit', 1],
     ['binary targets outside [0, 1]', NET('loss: binary-cross-entropy\n', '[1, 2]'), 'data.y[1]', 'data.y[1] must be in [0, 1] for binary-cross-entropy, got 2', 4],
-    ['no data for a network', 'model: { inputs: 1, layers: [{ units: 1 }] }\n', 'model', 'data is required for a network model: give data.x and data.y', 1],
+    ['no data for a network', 'model: { inputs: 1, layers: [{ units: 1 }] }\n', 'data', 'data is required for a network model: give data.x and data.y, or data.file', 1],
     ['empty data rows', NET().replace('x: [[0, 1], [1, 0]]', 'x: []').replace('[0.5, -0.5]', '[]'), 'data.x', 'data.x must have at least 1 entry, got an empty list', 3],
     ['batch above rows', NET('recipe: { batch: 5 }\n'), 'recipe.batch', 'recipe.batch is 5, but the data has only 2 rows', 5],
     ['recipe.layers length', NET('recipe: { layers: [{ lrScale: 1 }] }\n'), 'recipe.layers', 'recipe.layers has 1 entries, but model.layers has 2; give one { lrScale } per layer', 5],
