@@ -1,7 +1,8 @@
 /**
- * `stepwell` command line over core + spec: `inspect` (loss, gradient, Hessian products,
- * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed) and
- * `diagnose` (findings with proposals).
+ * `stepwell` command line over core + spec + ledger: `inspect` (loss, gradient, Hessian products,
+ * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed),
+ * `diagnose` (findings with proposals), `export` (PyTorch script, weights, trajectories), and on
+ * notebooks `verify` (replay every cell's ledger) and `report` (a standalone report).
  * Every command prints JSON with `--json` and a readable summary otherwise.
  */
 import { parseArgs } from 'node:util';
@@ -10,6 +11,7 @@ import { inspectCommand } from './inspect';
 import { runCommand } from './run';
 import { exportCommand } from './export';
 import { diagnoseCommand } from './diagnose';
+import { verifyCommand, EXIT_DIFFERS, EXIT_WITHIN } from './verify';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -32,7 +34,14 @@ const USAGE = `usage:
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
     that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
-  exit status: 0 done, 2 bad input, 3 run: the loss or the weights became non-finite (unless --until diverged)
+  stepwell verify NOTEBOOK.ipynb [--json] [--cell N] [--max-updates N]
+    replays every stepwell cell of the notebook, every branch, from spec and seed to every stored checkpoint and its
+    tip, and says per branch: bit-identical, within tolerance (which quantity, how far) or differs from step k (which
+    quantity, which record); also whether the spec text, the data files (read relative to the notebook) or the engine
+    changed since the ledger was written. --cell N: only cell N (counting from 0)
+  exit status: 0 done (verify: all bit-identical, nothing changed), 2 bad input, 3 run: the loss or the weights became
+    non-finite (unless --until diverged), ${EXIT_DIFFERS} verify: a replay differs, the spec or data changed, a ledger was edited or
+    cannot be read, ${EXIT_WITHIN} verify: not bit-identical, but every difference within the tolerance
   JSON holds NaN and ±Infinity as the strings "NaN", "Infinity" and "-Infinity"
 `;
 
@@ -60,6 +69,12 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
         } });
         return report(exportCommand(specPath(a.positionals), a.values), out, err);
+      }
+      case 'verify': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          json: { type: 'boolean' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
+        } });
+        return report(verifyCommand(notebookPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
@@ -96,6 +111,11 @@ function report(r: CommandResult, out: Sink, err: Sink): number {
   for (const w of r.warnings) err.write(`stepwell: ${w}\n`);
   out.write(r.out);
   return r.code;
+}
+
+function notebookPath(positionals: string[]): string {
+  if (positionals.length !== 1) throw new CliError(`expected exactly one NOTEBOOK file, got ${positionals.length}\n${USAGE}`);
+  return positionals[0];
 }
 
 function specPath(positionals: string[]): string {

@@ -8,7 +8,7 @@ import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
 import type { BranchReadouts, SessionSummary } from '../worker/protocol';
-import type { Figure } from './trace-figure';
+import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
 import { cellSummary, markdownSummary, meanMs, problemLine } from './summary';

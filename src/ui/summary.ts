@@ -6,6 +6,7 @@
 import type { StepRecord } from '../core/state';
 import type { AuditResult, AuditVerdict } from '../core/probe/gradcheck';
 import type { BranchInfo, SessionSummary, SpecProblem, VerifyResult } from '../worker/protocol';
+import { fmt } from '../figures/format';
 
 /** Our mime type: its renderer is the live cell widget. */
 export const STEPWELL_MIME = 'application/vnd.stepwell.cell+json';
@@ -44,14 +45,7 @@ export interface CellSummary {
 
 const jsonNumber = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
 
-/** Formats a loss or norm for display: 6 significant digits, `NaN`/`∞` spelled out. */
-export function fmt(v: number | null | undefined): string {
-  if (v === null || v === undefined) return '—';
-  if (Number.isNaN(v)) return 'NaN';
-  if (!Number.isFinite(v)) return v > 0 ? '∞' : '−∞';
-  if (v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6)) return v.toExponential(3);
-  return String(Number(v.toPrecision(6)));
-}
+export { fmt };
 
 /** Short fingerprint for display (first 12 hex digits). */
 export function shortPrint(fingerprint: string): string {
