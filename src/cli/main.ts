@@ -12,6 +12,7 @@ import { runCommand } from './run';
 import { exportCommand } from './export';
 import { diagnoseCommand } from './diagnose';
 import { verifyCommand, EXIT_DIFFERS, EXIT_WITHIN } from './verify';
+import { reportCommand } from './report';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -39,6 +40,10 @@ const USAGE = `usage:
     tip, and says per branch: bit-identical, within tolerance (which quantity, how far) or differs from step k (which
     quantity, which record); also whether the spec text, the data files (read relative to the notebook) or the engine
     changed since the ledger was written. --cell N: only cell N (counting from 0)
+  stepwell report NOTEBOOK.ipynb --out FILE.html|FILE.md [--cell N] [--max-updates N]
+    a standalone report per stepwell cell: verification, figures (SVG), branches and their changes, findings with
+    sources, recipes, spec, fingerprints; .html is one file that needs no server or network, .md writes its figures
+    into FILE_files/ beside it; exits 0 once written (use verify as the gate)
   exit status: 0 done (verify: all bit-identical, nothing changed), 2 bad input, 3 run: the loss or the weights became
     non-finite (unless --until diverged), ${EXIT_DIFFERS} verify: a replay differs, the spec or data changed, a ledger was edited or
     cannot be read, ${EXIT_WITHIN} verify: not bit-identical, but every difference within the tolerance
@@ -75,6 +80,12 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           json: { type: 'boolean' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
         } });
         return report(verifyCommand(notebookPath(a.positionals), a.values), out, err);
+      }
+      case 'report': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          out: { type: 'string' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
+        } });
+        return report(reportCommand(notebookPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {

@@ -9,6 +9,9 @@ import { MAGIC_LINE } from '../experiment';
 import { LEDGER_KEY } from '../ledger';
 import { CliError, readText } from './io';
 
+/** Cell-metadata key of a decision record (the markdown cell the app writes below a stepwell cell). */
+export const RECORD_KEY = 'stepwell-record';
+
 /** Largest notebook file read (checked before reading): far above what a ledger cap allows. */
 export const MAX_NOTEBOOK_BYTES = 256 * 1024 * 1024;
 
@@ -23,6 +26,8 @@ export interface NotebookCell {
   source: string;
   /** The raw value under the ledger key, when there is one. */
   ledger: unknown;
+  /** The raw value under the decision-record key (`stepwell-record`), when there is one. */
+  record: unknown;
 }
 
 /** A notebook read from disk. */
@@ -69,7 +74,7 @@ export function readNotebook(path: string): Notebook {
     const id = typeof c.id === 'string' ? c.id : null;
     const type = typeof c.cell_type === 'string' ? c.cell_type : '';
     const meta = isObj(c.metadata) ? c.metadata : {};
-    return { index, id, type, source: sourceText(c.source ?? '', where, path), ledger: meta[LEDGER_KEY] };
+    return { index, id, type, source: sourceText(c.source ?? '', where, path), ledger: meta[LEDGER_KEY], record: meta[RECORD_KEY] };
   });
   return { path, cells };
 }

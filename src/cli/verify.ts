@@ -14,7 +14,7 @@ import { ENGINE_NAME } from '../core/engine';
 import type { ReplayDifference } from '../core/session';
 import { fmt } from '../figures/format';
 import { positiveInt, toJson, type CommandResult } from './io';
-import { readNotebook, selectCells, unsteppedCells } from './notebook';
+import { readNotebook, selectCells, unsteppedCells, type Notebook, type NotebookCell } from './notebook';
 import { verifyCell, worstVerdict, type BranchCheck, type CellCheck, type CellWork, type Verdict } from './verify-cell';
 
 /** Exit status when something differs or changed, or a cell cannot be verified. */
@@ -42,7 +42,7 @@ export interface NotebookCheck {
 }
 
 /** Verifies the cells of a notebook (all with a ledger, or `--cell N`); the works keep what a report draws. */
-export function verifyNotebook(path: string, flags: Pick<VerifyFlags, 'cell' | 'max-updates'>): { result: NotebookCheck; works: CellWork[] } {
+export function verifyNotebook(path: string, flags: Pick<VerifyFlags, 'cell' | 'max-updates'>): { result: NotebookCheck; works: CellWork[]; notebook: Notebook; cells: NotebookCell[] } {
   const nb = readNotebook(path);
   const cells = selectCells(nb, flags.cell);
   const maxUpdates = positiveInt(flags['max-updates'], '--max-updates', MAX_REPLAY_UPDATES);
@@ -54,7 +54,7 @@ export function verifyNotebook(path: string, flags: Pick<VerifyFlags, 'cell' | '
     cells: works.map((w) => w.check),
     unstepped: flags.cell === undefined ? unsteppedCells(nb).map((c) => c.index) : []
   };
-  return { result, works };
+  return { result, works, notebook: nb, cells };
 }
 
 /** The exit status of a verdict. */
