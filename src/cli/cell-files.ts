@@ -10,6 +10,7 @@ import { readSpecValue, specFileRefs } from '../experiment';
 import { formatPath } from '../experiment/path';
 import { applyPatches, type SpecPatch } from '../experiment/patch';
 import { DEFAULT_LIMITS } from '../core/data';
+import type { Ledger } from '../ledger';
 
 /** One file a cell names, as found on disk. */
 export interface CellFile {
@@ -55,4 +56,11 @@ export function readCellFiles(notebookPath: string, where: string, specText: str
     }
   }
   return out;
+}
+
+/** Each forked branch's patch chain (root first), from a ledger's parent links. */
+export function ledgerChains(ledger: Ledger): SpecPatch[][] {
+  const chains = new Map<string, SpecPatch[]>();
+  for (const b of ledger.branches) chains.set(b.name, b.parent ? [...(chains.get(b.parent.branch) ?? []), (b.patch ?? {}) as SpecPatch] : []);
+  return [...chains.values()].filter((c) => c.length > 0);
 }

@@ -30,7 +30,11 @@ const USAGE = `usage:
     the full-batch losses \`stepwell run SPEC --steps N --json\` reports; data paths are relative to
     the folder of --out (default: the current folder)
   stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
-  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
+  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors   (--csv: CSV, printed without --out)
+  stepwell export NOTEBOOK.ipynb [--cell N] [--branch NAME] [--to pytorch|weights|trajectory | --csv] [--steps N] [--out FILE]
+    what the cell's ledger recorded for the branch (default: the one shown when saved): its recipe as a script (branches
+    forked at step 0), the weights of its tip (or of step N, rebuilt from the nearest stored checkpoint), its stored
+    records; --cell may be left out when one cell has a ledger
   stepwell diagnose SPEC [--json] [--steps N] [--set KEY=VALUE ...]
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
@@ -72,6 +76,7 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
       case 'export': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
+          cell: { type: 'string' }, csv: { type: 'boolean' },
         } });
         return report(exportCommand(specPath(a.positionals), a.values), out, err);
       }

@@ -15,10 +15,10 @@ import { ENGINE_NAME } from '../core/engine';
 import type { Experiment } from '../core/setup';
 import type { ReplayDifference } from '../core/session';
 import { formatSpecError } from '../experiment';
-import { patchChainExperiment, type SpecPatch } from '../experiment/patch';
+import { patchChainExperiment } from '../experiment/patch';
 import { buildObjective } from '../core/assemble';
 import { groveFromLedger, sha256Hex, validateLedger, type Ledger, type RestoredGrove } from '../ledger';
-import { readCellFiles, type CellFile } from './cell-files';
+import { ledgerChains, readCellFiles, type CellFile } from './cell-files';
 import { cellLabel, type NotebookCell } from './notebook';
 import { specChanges, type LineChange } from './spec-diff';
 
@@ -220,11 +220,4 @@ function checkedSize(e: Experiment, ledger: Ledger, branch: string): Experiment 
     throw new Error(`branch '${branch}': the spec's model has ${count} parameters, the ledger's states ${ledger.parameterCount} (the model was changed after the ledger was written)`);
   }
   return e;
-}
-
-/** Each forked branch's patch chain (root first), from the ledger's parent links. */
-function ledgerChains(ledger: Ledger): SpecPatch[][] {
-  const chains = new Map<string, SpecPatch[]>();
-  for (const b of ledger.branches) chains.set(b.name, b.parent ? [...(chains.get(b.parent.branch) ?? []), (b.patch ?? {}) as SpecPatch] : []);
-  return [...chains.values()].filter((c) => c.length > 0);
 }

@@ -8,7 +8,7 @@
  * names from an untrusted notebook cannot inject markup. Pure: string in, string out.
  */
 import { dataRange, makeScale, tickLabel, tickStep, type Scale } from './axis';
-import type { Figure, LineSeries } from './trace';
+import { decimate, type Figure, type LineSeries } from './trace';
 
 /** Options of {@link renderSvg}. */
 export interface SvgOptions {
@@ -199,4 +199,16 @@ export function svgDataUrl(svg: string): string {
   let bin = '';
   for (let i = 0; i < bytes.length; i += 0x8000) bin += String.fromCharCode(...bytes.subarray(i, i + 0x8000));
   return `data:image/svg+xml;base64,${btoa(bin)}`;
+}
+
+/** Most points per series in a small standalone image (a saved output's fallback). */
+export const IMAGE_POINTS = 300;
+
+/**
+ * A figure with every series reduced to at most `maxPoints` points by {@link decimate} (which
+ * keeps each bucket's extremes, so spikes and divergences stay visible): for small images
+ * embedded in a notebook, where every byte is saved with it.
+ */
+export function thinned(fig: Figure, maxPoints = IMAGE_POINTS): Figure {
+  return { ...fig, data: fig.data.map((s) => ({ ...s, ...decimate(s.x, s.y, maxPoints) })) };
 }
