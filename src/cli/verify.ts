@@ -81,11 +81,13 @@ const QUANTITY: Record<ReplayDifference['quantity'], string> = {
   gradNorm: 'the gradient norm',
   updateNorm: 'the update norm',
   lr: 'the learning rate',
-  fingerprint: 'the state fingerprint'
+  fingerprint: 'the state fingerprint',
+  weights: 'the weights'
 };
 
 /** One sentence for the first difference: which quantity, which record or state, both values. */
 export function differenceText(d: ReplayDifference): string {
+  if (d.quantity === 'weights') return `the weights stored at step ${d.step} are not the replay's (relative difference ${short(d.relative ?? NaN)}) although their stored fingerprint is`;
   const what = d.where === 'record' ? `${QUANTITY[d.quantity]} of stored record ${d.step}` : d.where === 'checkpoint' ? `${QUANTITY[d.quantity]} of the checkpoint at step ${d.step}` : `${QUANTITY[d.quantity]} at the tip (step ${d.step})`;
   const rel = d.relative !== undefined ? ` (relative difference ${short(d.relative)})` : '';
   return `${what} is ${shown(d.recorded)} in the ledger, ${shown(d.replayed)} replayed${rel}`;

@@ -8,8 +8,12 @@ export const COMPARED_FIELDS = ['step', 'loss', 'gradNorm', 'updateNorm', 'lr'] 
 /** The first difference a replay found: what differed, where, and both values. */
 export interface ReplayDifference {
   step: number;
-  /** A compared field of a step record, or the state's fingerprint. */
-  quantity: (typeof COMPARED_FIELDS)[number] | 'fingerprint';
+  /**
+   * A compared field of a step record, the state's fingerprint, or the weights (a stored state
+   * whose weights differ from the replay's while its stored fingerprint matches: the state was
+   * edited after it was fingerprinted).
+   */
+  quantity: (typeof COMPARED_FIELDS)[number] | 'fingerprint' | 'weights';
   /** A stored step record, a checkpoint's state, or the state the replay ends at. */
   where: 'record' | 'checkpoint' | 'final';
   recorded: number | string;
@@ -89,6 +93,13 @@ export function relativeDifference(a: Float64Array, b: Float64Array): number {
   return den === 0 ? Infinity : num / den;
 }
 
+/** True when two vectors hold the same bits (NaN payloads aside), element by element. */
+function sameBits(a: Float64Array, b: Float64Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (!Object.is(a[i], b[i])) return false;
+  return true;
+}
+
 /**
  * Compares recorded and replayed data step by step (see `Grove.replay`): every recorded step
  * record the replay recomputed ({@link sameRecord}), the fingerprint and parameters at every
@@ -117,8 +128,10 @@ export function compareReplay(x: ReplayInputs): ReplayReport {
     const r = byStep.get(c.step);
     if (r === undefined || r.fingerprint === null || r.params === null) continue;
     compared.push(c.step);
+    const rel = relativeDifference(r.params, c.state.params);
     if (r.fingerprint !== c.fingerprint) note({ step: c.step, quantity: 'fingerprint', where: 'checkpoint', recorded: c.fingerprint, replayed: r.fingerprint });
-    maxRel = Math.max(maxRel, relativeDifference(r.params, c.state.params));
+    else if (!sameBits(r.params, c.state.params)) note({ step: c.step, quantity: 'weights', where: 'checkpoint', recorded: 'stored weights', replayed: 'replayed weights', relative: rel });
+    maxRel = Math.max(maxRel, rel);
   }
   const finalStep = x.finalRecorded.stepCount;
   if (!compared.includes(finalStep)) compared.push(finalStep);
