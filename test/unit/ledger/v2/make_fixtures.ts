@@ -10,6 +10,9 @@ import { EngineHost } from '../../../../src/worker/engine-host';
 import { realCore } from '../../../../src/worker/core-adapter';
 import type { EngineReply, EngineRequest } from '../../../../src/worker/protocol';
 
+/** A request without its id (distributed over the union). */
+type Ask = EngineRequest extends infer R ? (R extends { id: number } ? Omit<R, 'id'> : never) : never;
+
 /** The spec (an invented scenario: dough proofing time from temperature, humidity and yeast share). */
 const SPEC = `%%stepwell
 # stepwell — dough proofing time (invented data), for the version-2 ledger fixtures
@@ -34,7 +37,7 @@ async function main(): Promise<void> {
   const replies: EngineReply[] = [];
   const host = new EngineHost(realCore, (r) => replies.push(structuredClone(r)));
   let id = 0;
-  const ask = async (req: Omit<EngineRequest, 'id'>): Promise<EngineReply> => {
+  const ask = async (req: Ask): Promise<EngineReply> => {
     const n = ++id;
     await host.receive({ ...req, id: n } as EngineRequest);
     const r = replies.filter((x) => x.id === n && x.kind !== 'progress').pop();
@@ -44,7 +47,7 @@ async function main(): Promise<void> {
   const save = async (file: string): Promise<void> => {
     const r = await ask({ kind: 'ledger', specText: SPEC, checkpointCap: 6 });
     if (r.kind !== 'ledger') throw new Error('no ledger');
-    const value = { ...(r.value as Record<string, unknown>), savedAt: '2026-12-03T00:00:00.000Z' };
+    const value: Record<string, unknown> = { ...(r.value as Record<string, unknown>), savedAt: '2026-12-03T00:00:00.000Z' };
     writeFileSync(join(__dirname, file), JSON.stringify(value, null, 1) + '\n');
     const b = (value.branches as { name: string; head: { step: number; fingerprint: string }; cursor?: number }[]).map((x) => `${x.name}@${x.head.step}${x.cursor !== undefined ? ` (cursor ${x.cursor})` : ''} ${x.head.fingerprint}`);
     process.stdout.write(`${file}: ${b.join('; ')}\n`);
