@@ -79,6 +79,10 @@ const layerBlocks = [
     patterns: [toLayers(['ui', 'plugin', 'cli', 'host'], 'worker/ runs below the UI: it may import core, experiment and ledger.')]
   },
   {
+    files: ['src/figures/**/*.ts'],
+    patterns: [toLayers(['ui', 'plugin', 'worker', 'ledger', 'experiment', 'cli', 'host'], 'figures/ turns plain data into figure descriptions and SVG: it may import core (types) only.')]
+  },
+  {
     files: ['src/cli/**/*.ts'],
     patterns: [toLayers(['ui', 'plugin', 'worker', 'host'], 'cli/ works over core, experiment and ledger (no browser layers).')]
   }
