@@ -6,7 +6,7 @@
  * equality is the check: the two paths must add the same products in the same order
  * (common practice (no single source): IEEE-754 addition is deterministic but not associative).
  */
-import { matrixKernels, scalarKernels, type LayerShape } from '../../../src/core/model/kernels';
+import { matrixKernels, type LayerShape, type MatrixKernels } from '../../../src/core/model/kernels';
 import { Rng } from '../../../src/core/rng';
 
 const SIZES = [1, 2, 3, 4, 5, 6, 7, 11, 13, 17];
@@ -28,7 +28,7 @@ interface Operands {
 }
 
 /** Parameters (with a spare block before and after the layer), input, coefficients and an output, filled from `seed`. */
-function operands(n: number, fanIn: number, units: number, seed: number, simd: boolean, special = false): Operands & { kernels: typeof scalarKernels } {
+function operands(n: number, fanIn: number, units: number, seed: number, simd: boolean, special = false): Operands & { kernels: MatrixKernels } {
   const wOff = 5;
   const P = wOff + units * fanIn + units + 3;
   const lengths = [P, n * fanIn, n * units, n * Math.max(fanIn, units), P];
