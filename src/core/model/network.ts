@@ -248,6 +248,14 @@ export class Network implements Objective {
   }
 
   /**
+   * Drops the kept forward pass, so the next Hessian or Gauss-Newton product starts afresh
+   * (what a product from scratch costs: benchmarks time it this way).
+   */
+  forgetPass(): void {
+    this.kept = 'none';
+  }
+
+  /**
    * Runs the forward pass on `rows` and hands each layer's pre-activations and outputs
    * (views valid only during the call, `n × units` row-major) to `visit`.
    */

@@ -37,7 +37,9 @@
   ;;   I[t, j] = f64 at $i + t·$iRow + 8·j         (the starting value of each sum)
   ;;   C[t, j] = f64 at $c + t·$cRow + 8·j         (only t < $rows, j < $cols are written)
   ;; Nine accumulators of two lanes each stay in registers for the whole k loop.
-  (func $tile
+  ;; (Exported so the benchmark can time this very tile on operands in the L1 cache: the
+  ;; engine's attainable rate for this mix of f64x2 loads, multiplies and adds.)
+  (func $tile (export "tile")
     (param $a i32) (param $aRow i32) (param $aStep i32)
     (param $b i32) (param $bStep i32) (param $k i32)
     (param $i i32) (param $iRow i32)
