@@ -113,11 +113,13 @@ export async function browserFigures(): Promise<{ rows: BrowserRow[]; chromium: 
       await app.commands.execute('notebook:run-cell');
     }, text);
     const big = page.locator('.sw-CellWidget').last();
-    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ timeout: 120_000 });
-    await big.locator('.sw-Tab[data-tab="curvature"]').click();
+    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 120_000 });
+    // DOM clicks in the page: the notebook may keep a long cell's output out of view.
     const ms = await page.evaluate(async () => {
       const cells = document.querySelectorAll('.sw-CellWidget');
       const cell = cells[cells.length - 1] as HTMLElement;
+      (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
+      while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
       const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
       const t0 = performance.now();
       await new Promise<void>((resolve) => {

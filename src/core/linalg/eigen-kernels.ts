@@ -16,7 +16,10 @@ export interface EigenKernels {
   subtractRows(dst: number, src: number, stride: number, coef: number, count: number, len: number): void;
   /** out[k] = src[k·stride + ·]·v over len entries, k < count. */
   dots(out: number, src: number, stride: number, count: number, v: number, len: number): void;
-  /** A[r, j] −= Σ_{k<count} (X[k, r]·Y[k, j] + Y[k, r]·X[k, j]) for j ≤ r < m, A's lower triangle packed as for `symv`. */
+  /**
+   * A[r, j] −= Σ_{k<count} X[k, r]·Y[k, j] for j ≤ r < m, A's lower triangle packed as for `symv`
+   * (X = [U; Q], Y = [Q; U] stacked make it the rank-2k update A − U Qᵀ − Q Uᵀ).
+   */
   syr2k(a: number, m: number, x: number, y: number, vStride: number, count: number): void;
   /** v −= u·(uᵀv)/h over len entries. */
   reflect(u: number, v: number, len: number, h: number): void;
@@ -115,11 +118,7 @@ export function scalarEigenKernels(m: Float64Array): EigenKernels {
         const row = a + (r * (r + 1)) / 2;
         for (let j = 0; j <= r; j++) {
           let s = 0;
-          for (let k = 0; k < count; k++) {
-            const xo = x + k * vStride;
-            const yo = y + k * vStride;
-            s += m[xo + r] * m[yo + j] + m[yo + r] * m[xo + j];
-          }
+          for (let k = 0; k < count; k++) s += m[x + k * vStride + r] * m[y + k * vStride + j];
           m[row + j] -= s;
         }
       }

@@ -73,10 +73,13 @@ export function tridiagonalize(a: Float64Array, n: number, options: Tridiagonali
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
   const nb = options.block ?? PANEL;
   if (!Number.isInteger(nb) || nb < 1) throw new RangeError(`block must be a positive integer, got ${options.block}`);
-  // Space: [A's lower triangle packed, row i at i(i+1)/2 | Uᵀ (nb rows of n) | Qᵀ (nb rows) | p |
-  // coefficients (2·nb) | dots (2·nb)]. Packed rows make the leading block one sequential stream.
+  // Space: [A's lower triangle packed, row i at i(i+1)/2 | Uᵀ (nb rows of n) | Qᵀ (nb rows) | Uᵀ
+  // again | p | coefficients (2·nb) | dots (2·nb)]. Packed rows make the leading block one
+  // sequential stream; [Uᵀ; Qᵀ] and [Qᵀ; Uᵀ] are then both contiguous, so the end-of-panel
+  // update is one product of 2·nb terms per entry.
   const tri = (n * (n + 1)) / 2;
-  const lay = { a: 0, ut: tri, qt: tri + nb * n, p: tri + 2 * nb * n, coef: tri + 2 * nb * n + n, dots: tri + 2 * nb * n + n + 2 * nb };
+  const after = tri + 3 * nb * n;
+  const lay = { a: 0, ut: tri, qt: tri + nb * n, ut2: tri + 2 * nb * n, p: after, coef: after + n, dots: after + n + 2 * nb };
   const space = eigenSpace(lay.dots + 2 * nb, max(n, 1), options.simd !== false);
   const m = space.m;
   for (let i = 0; i < n; i++) m.set(a.subarray(i * n, i * n + i + 1), (i * (i + 1)) / 2);
@@ -89,6 +92,7 @@ interface Layout {
   a: number;
   ut: number;
   qt: number;
+  ut2: number;
   p: number;
   coef: number;
   dots: number;
@@ -98,7 +102,7 @@ function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: La
   const d = new Float64Array(n);
   const e = new Float64Array(n);
   const h = new Float64Array(n);
-  const { ut, qt, p, coef, dots } = lay;
+  const { ut, qt, ut2, p, coef, dots } = lay;
   let c = 0; // reflectors in the current panel
   for (let i = n - 1; i >= 0; i--) {
     const row = (i * (i + 1)) / 2;
@@ -150,9 +154,11 @@ function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: La
       const kk = up / (2 * hi);
       const uo = ut + c * n;
       const qo = qt + c * n;
+      const u2 = ut2 + c * n;
       for (let j = 0; j < i; j++) {
         const u = m[row + j];
         m[uo + j] = u;
+        m[u2 + j] = u;
         m[qo + j] = m[p + j] - kk * u;
       }
       c++;
@@ -160,7 +166,7 @@ function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: La
     // 4. End of a panel: one rank-2k update of the rows still to come (0..i−1). A last, partial
     //    panel needs none: step 1 brings each remaining row up to date.
     if (c === nb) {
-      k.syr2k(0, i, ut, qt, n, c);
+      k.syr2k(0, i, ut, qt, n, 2 * c); // [Uᵀ; Qᵀ] against [Qᵀ; Uᵀ]
       c = 0;
     }
   }

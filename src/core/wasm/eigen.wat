@@ -151,9 +151,11 @@
   ;; (its own p entry) and an axpy (the entries of p left of the diagonal), and the pair shares
   ;; one pass over p.
   (func (export "symv") (param $a i32) (param $m i32) (param $u i32) (param $p i32)
-    (local $r i32) (local $j i32) (local $row0 i32) (local $row1 i32) (local $end i32)
-    (local $u0 v128) (local $u1 v128) (local $s0 v128) (local $s1 v128) (local $x0 v128) (local $x1 v128) (local $uj v128)
-    (local $f0 f64) (local $f1 f64) (local $t0 f64) (local $t1 f64) (local $a10 f64)
+    (local $r i32) (local $j i32) (local $row0 i32) (local $row1 i32) (local $row2 i32) (local $row3 i32) (local $end i32)
+    (local $q i32) (local $t i32) (local $c i32) (local $rowt i32)
+    (local $u0 v128) (local $u1 v128) (local $u2 v128) (local $u3 v128) (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128)
+    (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128) (local $uj v128)
+    (local $f0 f64) (local $f1 f64) (local $t0 f64) (local $t1 f64) (local $a10 f64) (local $b f64) (local $ft f64)
     ;; p ← 0
     (local.set $j (i32.const 0))
     (block $zeroed
@@ -163,6 +165,75 @@
         (local.set $j (i32.add (local.get $j) (i32.const 1)))
         (br $zero)))
     (local.set $r (i32.const 0))
+    ;; four rows at a time: four streams of the matrix in flight, p and u read once for four rows
+    (block $quads_done
+      (loop $quads
+        (br_if $quads_done (i32.gt_s (i32.add (local.get $r) (i32.const 4)) (local.get $m)))
+        (local.set $row0 (i32.add (local.get $a) (i32.shl (i32.mul (local.get $r) (i32.add (local.get $r) (i32.const 1))) (i32.const 2))))
+        (local.set $row1 (i32.add (local.get $row0) (i32.shl (i32.add (local.get $r) (i32.const 1)) (i32.const 3))))
+        (local.set $row2 (i32.add (local.get $row1) (i32.shl (i32.add (local.get $r) (i32.const 2)) (i32.const 3))))
+        (local.set $row3 (i32.add (local.get $row2) (i32.shl (i32.add (local.get $r) (i32.const 3)) (i32.const 3))))
+        (local.set $u0 (v128.load64_splat offset=0 (i32.add (local.get $u) (i32.shl (local.get $r) (i32.const 3)))))
+        (local.set $u1 (v128.load64_splat offset=8 (i32.add (local.get $u) (i32.shl (local.get $r) (i32.const 3)))))
+        (local.set $u2 (v128.load64_splat offset=16 (i32.add (local.get $u) (i32.shl (local.get $r) (i32.const 3)))))
+        (local.set $u3 (v128.load64_splat offset=24 (i32.add (local.get $u) (i32.shl (local.get $r) (i32.const 3)))))
+        (local.set $s0 (v128.const f64x2 0 0))
+        (local.set $s1 (v128.const f64x2 0 0))
+        (local.set $s2 (v128.const f64x2 0 0))
+        (local.set $s3 (v128.const f64x2 0 0))
+        (local.set $j (i32.const 0))
+        (local.set $end (i32.shl (i32.and (local.get $r) (i32.const -2)) (i32.const 3)))
+        (block $qcols_done
+          (loop $qcols
+            (br_if $qcols_done (i32.ge_u (local.get $j) (local.get $end)))
+            (local.set $x0 (v128.load (i32.add (local.get $row0) (local.get $j))))
+            (local.set $x1 (v128.load (i32.add (local.get $row1) (local.get $j))))
+            (local.set $x2 (v128.load (i32.add (local.get $row2) (local.get $j))))
+            (local.set $x3 (v128.load (i32.add (local.get $row3) (local.get $j))))
+            (local.set $uj (v128.load (i32.add (local.get $u) (local.get $j))))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (local.get $x0) (local.get $uj))))
+            (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (local.get $x1) (local.get $uj))))
+            (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (local.get $x2) (local.get $uj))))
+            (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (local.get $x3) (local.get $uj))))
+            (v128.store (i32.add (local.get $p) (local.get $j))
+              (f64x2.add (v128.load (i32.add (local.get $p) (local.get $j)))
+                (f64x2.add
+                  (f64x2.add (f64x2.mul (local.get $x0) (local.get $u0)) (f64x2.mul (local.get $x1) (local.get $u1)))
+                  (f64x2.add (f64x2.mul (local.get $x2) (local.get $u2)) (f64x2.mul (local.get $x3) (local.get $u3))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 16)))
+            (br $qcols)))
+        ;; the four dot products into p[r..r+3] (stored first, the block below adds to them)
+        (local.set $q (i32.add (local.get $p) (i32.shl (local.get $r) (i32.const 3))))
+        (f64.store offset=0 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $s0)) (f64x2.extract_lane 1 (local.get $s0))))
+        (f64.store offset=8 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $s1)) (f64x2.extract_lane 1 (local.get $s1))))
+        (f64.store offset=16 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $s2)) (f64x2.extract_lane 1 (local.get $s2))))
+        (f64.store offset=24 (local.get $q) (f64.add (f64x2.extract_lane 0 (local.get $s3)) (f64x2.extract_lane 1 (local.get $s3))))
+        ;; the rest, one entry at a time: column r − 1 when r is odd, then the 4×4 diagonal block
+        (local.set $t (i32.const 0))
+        (loop $block_rows
+          (local.set $rowt (i32.add (local.get $row0)
+            (i32.shl (i32.add (i32.mul (local.get $t) (local.get $r)) (i32.shr_u (i32.mul (local.get $t) (i32.add (local.get $t) (i32.const 1))) (i32.const 1))) (i32.const 3))))
+          (local.set $ft (f64.load (i32.add (local.get $u) (i32.shl (i32.add (local.get $r) (local.get $t)) (i32.const 3)))))
+          (local.set $c (i32.shr_u (local.get $end) (i32.const 3)))
+          (block $entries_done
+            (loop $entries
+              (br_if $entries_done (i32.gt_s (local.get $c) (i32.add (local.get $r) (local.get $t))))
+              (local.set $b (f64.load (i32.add (local.get $rowt) (i32.shl (local.get $c) (i32.const 3)))))
+              ;; row part: p[r + t] += B[r + t, c]·u[c]
+              (f64.store (i32.add (local.get $q) (i32.shl (local.get $t) (i32.const 3)))
+                (f64.add (f64.load (i32.add (local.get $q) (i32.shl (local.get $t) (i32.const 3))))
+                  (f64.mul (local.get $b) (f64.load (i32.add (local.get $u) (i32.shl (local.get $c) (i32.const 3)))))))
+              ;; column part: p[c] += B[r + t, c]·u[r + t] below the diagonal
+              (if (i32.lt_s (local.get $c) (i32.add (local.get $r) (local.get $t)))
+                (then
+                  (f64.store (i32.add (local.get $p) (i32.shl (local.get $c) (i32.const 3)))
+                    (f64.add (f64.load (i32.add (local.get $p) (i32.shl (local.get $c) (i32.const 3))))
+                      (f64.mul (local.get $b) (local.get $ft))))))
+              (local.set $c (i32.add (local.get $c) (i32.const 1)))
+              (br $entries)))
+          (br_if $block_rows (i32.lt_s (local.tee $t (i32.add (local.get $t) (i32.const 1))) (i32.const 4))))
+        (local.set $r (i32.add (local.get $r) (i32.const 4)))
+        (br $quads)))
     (block $pairs_done
       (loop $pairs
         (br_if $pairs_done (i32.gt_s (i32.add (local.get $r) (i32.const 2)) (local.get $m)))
@@ -300,9 +371,10 @@
               (local.set $j (i32.add (local.get $j) (i32.const 1)))
               (br $cols_loop))))))
 
-  ;; Rank-2k update of the lower triangle of the leading m×m block of A (packed as in symv):
-  ;; A[r, j] ← A[r, j] − Σ_{k<count} (X[k, r]·Y[k, j] + Y[k, r]·X[k, j]) for j ≤ r < m, where X
-  ;; and Y hold `count` vectors as rows of stride $vStride bytes. Tiles of 3 rows × 6 columns
+  ;; Low-rank update of the lower triangle of the leading m×m block of A (packed as in symv):
+  ;; A[r, j] ← A[r, j] − Σ_{k<count} X[k, r]·Y[k, j] for j ≤ r < m, where X and Y hold `count`
+  ;; vectors as rows of stride $vStride bytes. With X = [U; Q] and Y = [Q; U] stacked this is
+  ;; the rank-2k update A − U Qᵀ − Q Uᵀ in one pass of 2k terms per entry. Tiles of 3 rows × 6 columns
   ;; cover the lower triangle (diagonal tiles also write a few entries above it, which the
   ;; solver never reads).
   (func (export "syr2k") (param $a i32) (param $m i32) (param $x i32) (param $y i32) (param $vStride i32) (param $count i32)
@@ -323,14 +395,6 @@
             (call $tile
               (i32.add (local.get $x) (i32.shl (local.get $r) (i32.const 3))) (local.get $vStride)
               (i32.add (local.get $y) (i32.shl (local.get $j) (i32.const 3))) (local.get $vStride)
-              (local.get $count)
-              (i32.add (local.get $row0) (i32.shl (local.get $j) (i32.const 3)))
-              (i32.add (local.get $row1) (i32.shl (local.get $j) (i32.const 3)))
-              (i32.add (local.get $row2) (i32.shl (local.get $j) (i32.const 3)))
-              (local.get $rows) (local.get $cols))
-            (call $tile
-              (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (local.get $vStride)
-              (i32.add (local.get $x) (i32.shl (local.get $j) (i32.const 3))) (local.get $vStride)
               (local.get $count)
               (i32.add (local.get $row0) (i32.shl (local.get $j) (i32.const 3)))
               (i32.add (local.get $row1) (i32.shl (local.get $j) (i32.const 3)))
