@@ -117,7 +117,7 @@ export class EngineHost {
       }
       case 'curvature': {
         const l = this.need();
-        this.post({ id, kind: 'curvature', result: this.core.curvature(l.experiment, l.grove.session(MAIN_BRANCH), request.k, request.denseLimit) });
+        this.post({ id, kind: 'curvature', result: await this.core.curvature(l.experiment, l.grove.session(MAIN_BRANCH), request.k, request.denseLimit) });
         return;
       }
       case 'snapshot': {
