@@ -12,8 +12,9 @@ import type { Experiment } from '../core/setup';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
 
 /** The curvature reply's shape from a report. */
-function curvatureResult(session: Session, { spectrum, summary }: CurvatureReport): CurvatureResult {
+function curvatureResult(session: Session, { spectrum, summary, threads }: CurvatureReport): CurvatureResult {
   return {
+    ...(threads === undefined ? {} : { threads }),
     step: session.stepCount,
     method: spectrum.method,
     parameterCount: spectrum.parameterCount,

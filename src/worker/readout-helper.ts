@@ -29,7 +29,7 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
       const p = pending.get(r.id);
       pending.delete(r.id);
       if (p === undefined) return;
-      if (r.ok) p.resolve(r.result);
+      if (r.ok) p.resolve({ ...r.result, elsewhere: true });
       else p.reject(new Error(`readout helper: ${r.message}`));
     };
     worker.onerror = (event: ErrorEvent) => {
@@ -42,7 +42,7 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
   };
   return (experiment) => (task) => {
     const w = start();
-    if (w === null) return Promise.resolve(runDensityTrace(buildObjective(experiment.setup), task));
+    if (w === null) return Promise.resolve({ ...runDensityTrace(buildObjective(experiment.setup), task), elsewhere: false });
     const id = next++;
     const request: ReadoutRequest = { id, setup: experiment.setup, task };
     return new Promise<DensityTrace>((resolve, reject) => {

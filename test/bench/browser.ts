@@ -113,7 +113,7 @@ export async function browserFigures(): Promise<{ rows: BrowserRow[]; chromium: 
       await app.commands.execute('notebook:run-cell');
     }, text);
     const big = page.locator('.sw-CellWidget').last();
-    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 120_000 });
+    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
     // DOM clicks in the page: the notebook may keep a long cell's output out of view.
     const ms = await page.evaluate(async () => {
       const cells = document.querySelectorAll('.sw-CellWidget');

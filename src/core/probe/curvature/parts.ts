@@ -29,6 +29,8 @@ export interface DensityTraceTask {
 export interface DensityTrace {
   readonly density: SpectralDensity | null;
   readonly trace: TraceEstimate | null;
+  /** Set by a runner: true when another thread computed it. */
+  readonly elsewhere?: boolean;
 }
 
 /** Runs a task somewhere (another thread) and resolves with its result. */

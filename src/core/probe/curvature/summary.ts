@@ -233,6 +233,8 @@ export const CANCELLED = 'curvature measurement was cancelled before any eigenva
 export interface CurvatureReport {
   readonly spectrum: CurvatureSpectrum;
   readonly summary: CurvatureSummary;
+  /** Threads that computed it (2 when a runner computed the density and trace in another thread). */
+  readonly threads?: number;
 }
 
 /**
@@ -272,7 +274,8 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
   const parts = await pending;
   const density = l.stop === 'cancelled' ? null : parts.density;
   const trace = l.stop === 'cancelled' ? null : parts.trace;
-  return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+  return parts.elsewhere === true ? { ...report, threads: 2 } : report;
 }
 
 function planParts(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): { dense: boolean; task: DensityTraceTask } {
