@@ -129,8 +129,9 @@ export default tseslint.config(
     }
   },
   {
-    // Node scripts of the packaging (prebuilt extension, wheel, Python environment, real server, static site) and the validator generator.
-    files: ['src/package/**/*.mjs', 'src/validators/**/*.mjs'],
+    // Node scripts of the packaging (prebuilt extension, wheel, Python environment, real server,
+    // static site), the validator generator and the WebAssembly assembler of core/wasm (run at build time, never imported).
+    files: ['src/package/**/*.mjs', 'src/validators/**/*.mjs', 'src/core/wasm/assemble.mjs'],
     languageOptions: {
       globals: Object.fromEntries(['process', 'console', 'fetch', 'setTimeout', 'clearTimeout', 'setInterval', 'clearInterval', 'URL', 'Buffer'].map(n => [n, 'readonly']))
     }

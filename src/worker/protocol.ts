@@ -34,6 +34,8 @@ export interface CurvatureResult {
   /** `converged`, or why the eigen-solve stopped early. */
   stop: string;
   summary: CurvatureSummary;
+  /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
+  threads?: number;
 }
 
 /** One problem in the spec text, at a path and (when known) a 1-based line and column. */
