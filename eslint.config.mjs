@@ -79,6 +79,10 @@ const layerBlocks = [
     patterns: [toLayers(['ui', 'plugin', 'cli', 'host'], 'worker/ runs below the UI: it may import core, experiment and ledger.')]
   },
   {
+    files: ['src/figures/**/*.ts'],
+    patterns: [toLayers(['ui', 'plugin', 'worker', 'ledger', 'experiment', 'cli', 'host'], 'figures/ turns plain data into figure descriptions and SVG: it may import core (types) only.')]
+  },
+  {
     files: ['src/cli/**/*.ts'],
     patterns: [toLayers(['ui', 'plugin', 'worker', 'host'], 'cli/ works over core, experiment and ledger (no browser layers).')]
   }
@@ -107,7 +111,7 @@ const uiBlock = {
 };
 
 export default tseslint.config(
-  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', '**/*.cjs', '**/*.js'] },
+  { ignores: ['build/**', 'lib/**', 'node_modules/**', '.cache/**', 'test-output/**', '.venv/**', '.venv-torch/**', 'dist/**', 'stepwell/**', '.jupyter-local/**', 'src/host/**/*.mjs', 'src/host/federated-check/**', 'src/**/*.generated.ts', '**/*.cjs', '**/*.js'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
@@ -117,12 +121,17 @@ export default tseslint.config(
       '@typescript-eslint/consistent-type-imports': ['error', { fixStyle: 'inline-type-imports' }],
       '@typescript-eslint/no-namespace': 'off',
       'no-restricted-properties': ['error', RANDOM_RULE],
+      // no code from strings: a strict Content-Security-Policy forbids it, and specs are untrusted
+      'no-eval': 'error',
+      'no-implied-eval': 'error',
+      'no-new-func': 'error',
       eqeqeq: ['error', 'always']
     }
   },
   {
-    // Node scripts of the packaging: prebuilt extension, wheel, Python environment, real server, static site.
-    files: ['src/package/**/*.mjs'],
+    // Node scripts of the packaging (prebuilt extension, wheel, Python environment, real server,
+    // static site), the validator generator and the WebAssembly assembler of core/wasm (run at build time, never imported).
+    files: ['src/package/**/*.mjs', 'src/validators/**/*.mjs', 'src/core/wasm/assemble.mjs'],
     languageOptions: {
       globals: Object.fromEntries(['process', 'console', 'fetch', 'setTimeout', 'clearTimeout', 'setInterval', 'clearInterval', 'URL', 'Buffer'].map(n => [n, 'readonly']))
     }
@@ -133,6 +142,7 @@ export default tseslint.config(
   uiBlock,
   {
     files: ['test/**/*.ts', 'demo-notebooks/**/*.ts'],
-    rules: { '@typescript-eslint/no-explicit-any': 'off', '@typescript-eslint/no-non-null-assertion': 'off' }
+    // tests may load a bundled reference library (tfjs) from its text; product code never may
+    rules: { '@typescript-eslint/no-explicit-any': 'off', '@typescript-eslint/no-non-null-assertion': 'off', 'no-new-func': 'off' }
   }
 );

@@ -5,6 +5,8 @@ import { MAX_STEPS } from './run';
 
 /** Flags of `diagnose`. */
 export interface DiagnoseFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   json?: boolean;
   steps?: string;
   set?: string[];
@@ -34,7 +36,7 @@ function number(x: number): string {
  */
 export function diagnoseCommand(path: string, flags: DiagnoseFlags): CommandResult {
   const steps = positiveInt(flags.steps, '--steps', 100, MAX_STEPS);
-  const { experiment, warnings } = loadExperiment(path, flags.set);
+  const { experiment, warnings } = loadExperiment(path, flags.set, flags.limit);
   const r = diagnoseExperiment(experiment, { steps });
   if (flags.json) {
     return { out: toJson({ steps: r.steps, final: { loss: r.final.loss }, findings: r.findings.map(findingJson) }) + '\n', warnings, code: 0 };

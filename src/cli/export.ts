@@ -1,15 +1,17 @@
 /**
- * `stepwell export SOURCE --to pytorch|weights|trajectory`: a spec's recipe as a PyTorch script,
- * its final weights (.safetensors, .npy) or its trajectory (.csv, .npy, .safetensors).
+ * `stepwell export SOURCE --to pytorch|weights|trajectory`: a recipe as a PyTorch script, final
+ * weights (.safetensors, .npy) or a trajectory (.csv, .npy, .safetensors; `--csv` for CSV).
  *
- * SOURCE is a spec file today; the command resolves it to (experiment, spec text, files) in one
- * place ({@link resolveSource}) so a notebook source (`NOTEBOOK --cell N`, reading the cell's
- * spec and ledger) can be added there without touching the writers.
+ * SOURCE is a spec file (the recipe is run here for `--steps N`) or a notebook (`NOTEBOOK.ipynb
+ * --cell N [--branch NAME]`: what the cell's ledger recorded for that branch — its stored records,
+ * the weights of its tip or of step `--steps`, its recipe). {@link resolveSource} turns either into
+ * one {@link Source}; the writers do not know which it was.
  */
 import { writeFileSync } from 'node:fs';
 import { dirname, relative, resolve } from 'node:path';
 import { Rng } from '../core/rng';
 import { Session } from '../core/session/live';
+import { fingerprintState } from '../core/session/state-data';
 import { writeNpy, writeSafetensors } from '../core/data';
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
@@ -17,47 +19,81 @@ import { describePatch, patchExperiment, type SpecPatch } from '../experiment/pa
 import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, type CommandResult } from './io';
 import { parseBranch } from './run';
 import { NotExportable, pytorchScript } from './export/pytorch';
+import { notebookBranch, type NotebookBranch } from './export-notebook';
 import pkg from '../../package.json';
 
 /** Flags of `export`. */
 export interface ExportFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   to?: string;
   out?: string;
   steps?: string;
   set?: string[];
+  /** A spec: `STEP:KEY=VALUE,…` (a branch to export); a notebook: the name of a branch of the cell. */
   branch?: string;
+  /** The cell of a notebook source (its index, counting from 0). */
+  cell?: string;
+  /** Shorthand for `--to trajectory` as CSV (on standard output without `--out`). */
+  csv?: boolean;
 }
 
 /** What an export works from. */
 interface Source {
   experiment: Experiment;
-  /** How the header names it: the spec path as given. */
+  /** How the header names it: the spec path as given, or `NOTEBOOK cell N branch B`. */
   label: string;
   patch: SpecPatch;
+  /** The spec file, or the notebook: data paths of a script are relative to its folder. */
   specPath: string;
   /** The spec's warnings, one line each. */
   warnings: string[];
+  /** For a notebook source: what the ledger recorded (records, states at steps), exported instead of a new run. */
+  recorded?: NotebookBranch;
 }
 
-/** Resolves SOURCE (a spec file) and the --set / --branch patches into one experiment. */
+/** True when SOURCE names a notebook. */
+function isNotebook(path: string): boolean {
+  return /\.ipynb$/i.test(path);
+}
+
+/** Resolves SOURCE (a spec file with --set / --branch patches, or a notebook cell's branch) into one experiment. */
 function resolveSource(path: string, flags: ExportFlags): Source {
-  const { experiment, text, patch, warnings } = loadExperiment(path, flags.set);
+  if (isNotebook(path)) {
+    if (flags.set !== undefined) throw new CliError(`--set applies to a spec file; a notebook's branches are exported as their ledger recorded them (choose one with --branch NAME)`);
+    const b = notebookBranch(path, flags.cell, flags.branch);
+    if (b.forkSteps.some((s) => s !== 0) && (flags.to ?? 'pytorch') === 'pytorch' && !flags.csv) {
+      throw new CliError(`${b.label}: forked at step ${b.forkSteps.find((s) => s !== 0)} of its lineage; a script starts from step 0, and a branch forked later continues its parent's optimizer state, which is not exported yet`);
+    }
+    return { experiment: b.experiment, label: b.label, patch: {}, specPath: path, warnings: b.warnings, recorded: b };
+  }
+  if (flags.cell !== undefined) throw new CliError(`--cell applies to a notebook source (NOTEBOOK.ipynb), not to the spec file '${path}'`);
+  const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path, warnings };
   const fork = parseBranch(flags.branch);
   if (fork.at !== 0) {
     throw new CliError(`--branch ${flags.branch}: export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is not exported yet (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
   }
   const both = { ...patch, ...readOverrides(fork.overrides, '--branch') };
-  const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both) });
+  const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both, limits.maxFileBytes), limits });
   if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
   return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings };
 }
 
-/** Runs `steps` updates and returns the records (record 0 first) and the session. */
-function runFor(e: Experiment, steps: number): { records: StepRecord[]; session: Session } {
-  const session = Session.create(e);
-  const records = [session.initialRecord(), ...session.step(steps)];
-  return { records, session };
+/** The records (record 0 first), final weights, step and fingerprint to export: a run of `steps` updates, or what a notebook recorded. */
+function trajectoryOf(src: Source, steps: number | undefined): { records: StepRecord[]; weights: Float64Array; step: number; fingerprint: string; warnings: string[] } {
+  const r = src.recorded;
+  if (r === undefined) {
+    const session = Session.create(src.experiment);
+    const records = [session.initialRecord(), ...session.step(steps ?? 0)];
+    return { records, weights: Float64Array.from(session.parameters), step: session.stepCount, fingerprint: session.fingerprint(), warnings: [] };
+  }
+  const at = steps ?? r.tip;
+  if (at > r.tip) throw new CliError(`${r.label}: --steps ${at} is beyond the branch's tip (step ${r.tip}); step the cell further, or export a spec file to run longer`);
+  const state = r.stateAt(at);
+  const records = r.records.filter((x) => x.step <= at);
+  const warnings = records.length < at + 1 ? [`${r.label}: the ledger keeps ${records.length} of the ${at + 1} records up to step ${at} (thinned when saved); all of them are written`] : [];
+  return { records, weights: state.params, step: at, fingerprint: fingerprintState(state), warnings };
 }
 
 const TRAJECTORY_COLUMNS = ['step', 'loss', 'batchLoss', 'heldOutLoss', 'gradNorm', 'updateNorm', 'lr', 'evaluations'] as const;
@@ -86,6 +122,18 @@ function namedTensors(e: Experiment, w: Float64Array): { name: string; shape: nu
   return out;
 }
 
+/**
+ * A number in a CSV cell: as JavaScript prints it (the shortest text that reads back to the same
+ * double, so the CSV round-trips bit for bit). A value not measured — the held-out loss of a
+ * record without one, the batch loss of record 0 (no update yet) — is an empty cell; other
+ * non-finite values are written `NaN`, `inf`, `-inf` (what NumPy and pandas read).
+ */
+function csvNumber(column: string, v: number, step: number): string {
+  if (Number.isNaN(v)) return column === 'heldOutLoss' || (column === 'batchLoss' && step === 0) ? '' : 'NaN';
+  if (!Number.isFinite(v)) return v > 0 ? 'inf' : '-inf';
+  return String(v);
+}
+
 function extension(out: string): string {
   const m = /\.([a-z]+)$/i.exec(out);
   return m ? m[1].toLowerCase() : '';
@@ -101,12 +149,15 @@ function write(out: string, bytes: Uint8Array | string): void {
 
 /** Runs the command: text for stdout ('' when everything went to --out), the spec's warnings, exit code 0. */
 export function exportCommand(path: string, flags: ExportFlags): CommandResult {
+  if (flags.csv && flags.to !== undefined && flags.to !== 'trajectory') throw new CliError(`--csv writes the trajectory; it cannot be combined with --to ${flags.to}`);
+  if (flags.csv && flags.out !== undefined && extension(flags.out) !== 'csv') throw new CliError(`--csv writes CSV; --out ${flags.out} must end in .csv (or leave --out out to print it)`);
   const src = resolveSource(path, flags);
-  return { out: writeExport(path, flags, src), warnings: src.warnings, code: 0 };
+  const warnings = [...src.warnings];
+  return { out: writeExport(path, flags, src, warnings), warnings, code: 0 };
 }
 
-function writeExport(path: string, flags: ExportFlags, src: Source): string {
-  const to = flags.to ?? 'pytorch';
+function writeExport(path: string, flags: ExportFlags, src: Source, warnings: string[]): string {
+  const to = flags.csv ? 'trajectory' : (flags.to ?? 'pytorch');
   const e = src.experiment;
   switch (to) {
     case 'pytorch': {
@@ -134,23 +185,30 @@ function writeExport(path: string, flags: ExportFlags, src: Source): string {
     }
     case 'weights':
     case 'trajectory': {
-      if (flags.steps === undefined) throw new CliError(`export --to ${to} needs --steps N (the updates to run first)`);
-      if (flags.out === undefined) throw new CliError(`export --to ${to} needs --out FILE (.${to === 'weights' ? 'safetensors or .npy' : 'csv, .npy or .safetensors'})`);
-      const steps = positiveInt(flags.steps, '--steps', 0);
-      const { records, session } = runFor(e, steps);
-      const ext = extension(flags.out);
-      const meta = { stepwell: pkg.version, spec: src.label, steps: String(session.stepCount), fingerprint: session.fingerprint() };
+      if (flags.steps === undefined && src.recorded === undefined) throw new CliError(`export --to ${to} needs --steps N (the updates to run first)`);
+      if (flags.out === undefined && !flags.csv) throw new CliError(`export --to ${to} needs --out FILE (.${to === 'weights' ? 'safetensors or .npy' : 'csv, .npy or .safetensors'})`);
+      const steps = flags.steps === undefined ? undefined : positiveInt(flags.steps, '--steps', 0);
+      const got = trajectoryOf(src, steps);
+      warnings.push(...got.warnings);
+      const records = got.records;
+      const ext = flags.out === undefined ? 'csv' : extension(flags.out);
+      const meta = { stepwell: pkg.version, spec: src.label, steps: String(got.step), fingerprint: got.fingerprint };
       if (to === 'weights') {
-        const w = Float64Array.from(session.parameters);
-        if (ext === 'safetensors') write(flags.out, writeSafetensors(namedTensors(e, w), meta));
-        else if (ext === 'npy') write(flags.out, writeNpy(w, [w.length]));
-        else throw new CliError(`--out ${flags.out}: weights are written as .safetensors (named like the exported nn.Sequential's state_dict) or .npy (one flat vector in Stepwell's layout)`);
+        const out = flags.out as string;
+        const w = got.weights;
+        if (ext === 'safetensors') write(out, writeSafetensors(namedTensors(e, w), meta));
+        else if (ext === 'npy') write(out, writeNpy(w, [w.length]));
+        else throw new CliError(`--out ${out}: weights are written as .safetensors (named like the exported nn.Sequential's state_dict) or .npy (one flat vector in Stepwell's layout)`);
         return '';
       }
       const cols = trajectoryColumns(records);
       if (ext === 'csv') {
-        const lines = [cols.map((c) => c.name).join(','), ...records.map((_, i) => cols.map((c) => (Number.isNaN(c.values[i]) ? '' : String(c.values[i]))).join(','))];
-        write(flags.out, lines.join('\n') + '\n');
+        const lines = [cols.map((c) => c.name).join(','), ...records.map((_, i) => cols.map((c) => csvNumber(c.name, c.values[i], records[i].step)).join(','))];
+        const text = lines.join('\n') + '\n';
+        if (flags.out === undefined) return text;
+        write(flags.out, text);
+      } else if (flags.out === undefined) {
+        throw new CliError('export --to trajectory needs --out FILE (.csv, .npy or .safetensors), or --csv to print CSV');
       } else if (ext === 'npy') {
         const n = records.length;
         const m = new Float64Array(n * cols.length);

@@ -5,10 +5,12 @@ import { AuditDivergedError, auditGradient, type AuditResult } from '../core/pro
 import { norm2 } from '../core/objective';
 import { spectralDensity } from '../core/linalg';
 import { curvatureOperator, measureCurvature } from '../core/probe/curvature';
-import { loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
+import { CliError, loadExperiment, positiveInt, readVector, toJson, type CommandResult } from './io';
 
 /** Flags of `inspect`. */
 export interface InspectFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   json?: boolean;
   vector?: string;
   top?: string;
@@ -20,12 +22,15 @@ export interface InspectFlags {
 
 /** Runs the command and returns its output text. */
 export function inspectCommand(path: string, flags: InspectFlags): CommandResult {
-  const { experiment, warnings } = loadExperiment(path, flags.set);
+  const { experiment, warnings } = loadExperiment(path, flags.set, flags.limit);
   const objective = buildObjective(experiment.setup);
   const w = initialParameters(experiment.setup, Rng.fromSeed(experiment.seed).fork('init'));
   const P = objective.parameterCount;
   const gradient = new Float64Array(P);
   const loss = objective.gradient(w, gradient);
+  if (!Number.isFinite(loss)) {
+    throw new CliError(`${path}: the loss is already ${loss} at the initial weights: check model.gain, model.init, explicit weights and the data (no readout means anything there)`);
+  }
   const out: Record<string, unknown> = { parameterCount: P, loss, gradient: Array.from(gradient) };
   if (flags.vector !== undefined) {
     const v = readVector(flags.vector, P);

@@ -1,7 +1,7 @@
 /** Shared helpers of the command line: reading specs, reporting errors in one line each. */
-import { readFileSync } from 'node:fs';
+import { readFileSync, statSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
-import { parseSpec, readSpecValue, specFileRefs, type SpecError, type SpecFiles } from '../experiment';
+import { DEFAULT_SPEC_LIMITS, parseLimits, parseSpec, readSpecValue, specFileRefs, type SpecError, type SpecFiles, type SpecLimits } from '../experiment';
 import { formatPath } from '../experiment/path';
 import { applyPatch, parseAssignments, patchExperiment, type SpecPatch } from '../experiment/patch';
 import type { Experiment } from '../core/setup';
@@ -31,10 +31,14 @@ export interface Sink {
 }
 
 /** Reads a file as UTF-8 text, with an error that names the file. */
-export function readText(path: string, what: string): string {
+export function readText(path: string, what: string, maxChars = Number.MAX_SAFE_INTEGER): string {
   try {
+    // a UTF-8 character takes at least one byte, so the size in bytes bounds the length in characters from above
+    const size = statSync(path).size;
+    if (size > 4 * maxChars) throw new CliError(`${what} '${path}' is ${size} bytes, far above the limit of ${maxChars} characters (--limit maxSpecChars=N)`);
     return readFileSync(path, 'utf8');
   } catch (e) {
+    if (e instanceof CliError) throw e;
     throw new CliError(`cannot read ${what} '${path}': ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
   }
 }
@@ -52,14 +56,22 @@ function specErrorLines(path: string, errors: readonly SpecError[]): string {
  *
  * @returns the experiment, the text, and the patch the overrides made (empty without any).
  */
-export function loadExperiment(path: string, overrides: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; files: SpecFiles; warnings: string[] } {
-  const text = readText(path, 'spec');
+export function loadExperiment(path: string, overrides: readonly string[] = [], limitList: readonly string[] = []): { experiment: Experiment; text: string; patch: SpecPatch; files: SpecFiles; limits: SpecLimits; warnings: string[] } {
+  const limits = readLimits(limitList);
+  const text = readText(path, 'spec', limits.maxSpecChars);
   const patch = readOverrides(overrides, '--set');
-  const files = readSpecFiles(path, text, patch);
-  const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch, { files }) : parseSpec(text, 'auto', { files });
+  const files = readSpecFiles(path, text, patch, limits.maxFileBytes);
+  const r = Object.keys(patch).length > 0 ? patchExperiment(text, patch, { files, limits }) : parseSpec(text, 'auto', { files, limits });
   if (!r.ok) throw new CliError(specErrorLines(path, r.errors));
   const warnings = r.warnings.length > 0 ? specErrorLines(path, r.warnings).split('\n').map((l) => `warning: ${l}`) : [];
-  return { experiment: r.experiment, text, patch, files, warnings };
+  return { experiment: r.experiment, text, patch, files, limits, warnings };
+}
+
+/** The limits `--limit NAME=VALUE` sets over the defaults. */
+export function readLimits(list: readonly string[]): SpecLimits {
+  const parsed = parseLimits(list);
+  if (!parsed.ok) throw new CliError(parsed.errors.map((e) => `--limit: ${e}`).join('\n'));
+  return parsed.limits;
 }
 
 /**
@@ -67,7 +79,7 @@ export function loadExperiment(path: string, overrides: readonly string[] = []):
  * relative to the spec file's folder. A file that cannot be read stops the command with the spec
  * key, the name and the resolved path.
  */
-export function readSpecFiles(specPath: string, text: string, patch: SpecPatch = {}): Map<string, Uint8Array> {
+export function readSpecFiles(specPath: string, text: string, patch: SpecPatch = {}, maxBytes = DEFAULT_SPEC_LIMITS.maxFileBytes): Map<string, Uint8Array> {
   const files = new Map<string, Uint8Array>();
   const read = readSpecValue(text);
   if (!read.ok) return files; // the parse that follows reports the syntax errors
@@ -77,8 +89,11 @@ export function readSpecFiles(specPath: string, text: string, patch: SpecPatch =
     if (files.has(ref.name)) continue;
     const full = resolve(dirname(specPath), ref.name);
     try {
+      const size = statSync(full).size;
+      if (size > maxBytes) throw new CliError(`${specPath}: ${formatPath(ref.path)}: '${ref.name}' is ${size} bytes, above the limit of ${maxBytes} (--limit maxFileBytes=N)`);
       files.set(ref.name, new Uint8Array(readFileSync(full)));
     } catch (e) {
+      if (e instanceof CliError) throw e;
       throw new CliError(`${specPath}: ${formatPath(ref.path)}: cannot read '${ref.name}' (${full}): ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
     }
   }

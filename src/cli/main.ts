@@ -1,7 +1,8 @@
 /**
- * `stepwell` command line over core + spec: `inspect` (loss, gradient, Hessian products,
- * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed) and
- * `diagnose` (findings with proposals).
+ * `stepwell` command line over core + spec + ledger: `inspect` (loss, gradient, Hessian products,
+ * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed),
+ * `diagnose` (findings with proposals), `export` (PyTorch script, weights, trajectories), and on
+ * notebooks `verify` (replay every cell's ledger) and `report` (a standalone report).
  * Every command prints JSON with `--json` and a readable summary otherwise.
  */
 import { parseArgs } from 'node:util';
@@ -10,6 +11,8 @@ import { inspectCommand } from './inspect';
 import { runCommand } from './run';
 import { exportCommand } from './export';
 import { diagnoseCommand } from './diagnose';
+import { verifyCommand, EXIT_DIFFERS, EXIT_WITHIN } from './verify';
+import { reportCommand } from './report';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -27,12 +30,29 @@ const USAGE = `usage:
     the full-batch losses \`stepwell run SPEC --steps N --json\` reports; data paths are relative to
     the folder of --out (default: the current folder)
   stepwell export SPEC --to weights --steps N --out FILE.safetensors|FILE.npy   final weights after N updates
-  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors
+  stepwell export SPEC --to trajectory --steps N --out FILE.csv|FILE.npy|FILE.safetensors   (--csv: CSV, printed without --out)
+  stepwell export NOTEBOOK.ipynb [--cell N] [--branch NAME] [--to pytorch|weights|trajectory | --csv] [--steps N] [--out FILE]
+    what the cell's ledger recorded for the branch (default: the one shown when saved): its recipe as a script (branches
+    forked at step 0), the weights of its tip (or of step N, rebuilt from the nearest stored checkpoint), its stored
+    records; --cell may be left out when one cell has a ledger
   stepwell diagnose SPEC [--json] [--steps N] [--set KEY=VALUE ...]
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
     that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
-  exit status: 0 done, 2 bad input, 3 run: the loss or the weights became non-finite (unless --until diverged)
+  stepwell verify NOTEBOOK.ipynb [--json] [--cell N] [--max-updates N]
+    replays every stepwell cell of the notebook, every branch, from spec and seed to every stored checkpoint and its
+    tip, and says per branch: bit-identical, within tolerance (which quantity, how far) or differs from step k (which
+    quantity, which record); also whether the spec text, the data files (read relative to the notebook) or the engine
+    changed since the ledger was written. --cell N: only cell N (counting from 0)
+  stepwell report NOTEBOOK.ipynb --out FILE.html|FILE.md [--cell N] [--max-updates N]
+    a standalone report per stepwell cell: verification, figures (SVG), branches and their changes, findings with
+    sources, recipes, spec, fingerprints; .html is one file that needs no server or network, .md writes its figures
+    into FILE_files/ beside it; exits 0 once written (use verify as the gate)
+  inspect, run, diagnose and export take --limit NAME=VALUE (repeatable) to raise a size limit checked before anything is allocated:
+    maxSpecChars, maxParameters, maxRows, maxColumns, maxActivations, maxFileBytes (defaults in DEVELOPERS.md)
+  exit status: 0 done (verify: all bit-identical, nothing changed), 2 bad input, 3 run: the loss or the weights became
+    non-finite (unless --until diverged), ${EXIT_DIFFERS} verify: a replay differs, the spec or data changed, a ledger was edited or
+    cannot be read, ${EXIT_WITHIN} verify: not bit-identical, but every difference within the tolerance
   JSON holds NaN and ±Infinity as the strings "NaN", "Infinity" and "-Infinity"
 `;
 
@@ -44,26 +64,39 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
       case 'inspect': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           json: { type: 'boolean' }, vector: { type: 'string' }, top: { type: 'string' }, bottom: { type: 'string' },
-          trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true },
+          trace: { type: 'boolean' }, density: { type: 'boolean' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
         } });
         return report(inspectCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'run': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true },
+          json: { type: 'boolean' }, steps: { type: 'string' }, until: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
           branch: { type: 'string' }, replay: { type: 'boolean' },
         } });
         return report(runCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'export': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, branch: { type: 'string' },
+          to: { type: 'string' }, out: { type: 'string' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true }, branch: { type: 'string' },
+          cell: { type: 'string' }, csv: { type: 'boolean' },
         } });
         return report(exportCommand(specPath(a.positionals), a.values), out, err);
       }
+      case 'verify': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          json: { type: 'boolean' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
+        } });
+        return report(verifyCommand(notebookPath(a.positionals), a.values), out, err);
+      }
+      case 'report': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          out: { type: 'string' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
+        } });
+        return report(reportCommand(notebookPath(a.positionals), a.values), out, err);
+      }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
-          json: { type: 'boolean' }, steps: { type: 'string' }, set: { type: 'string', multiple: true },
+          json: { type: 'boolean' }, steps: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
         } });
         return report(diagnoseCommand(specPath(a.positionals), a.values), out, err);
       }
@@ -96,6 +129,11 @@ function report(r: CommandResult, out: Sink, err: Sink): number {
   for (const w of r.warnings) err.write(`stepwell: ${w}\n`);
   out.write(r.out);
   return r.code;
+}
+
+function notebookPath(positionals: string[]): string {
+  if (positionals.length !== 1) throw new CliError(`expected exactly one NOTEBOOK file, got ${positionals.length}\n${USAGE}`);
+  return positionals[0];
 }
 
 function specPath(positionals: string[]): string {

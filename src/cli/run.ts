@@ -2,11 +2,14 @@
 import { Grove, type StopCondition } from '../core/session';
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
+import { trailingStall } from '../core/probe/stall';
 import { describePatch, patchExperiment, splitAssignments, touchesSetup } from '../experiment/patch';
 import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, toJson, type CommandResult } from './io';
 
 /** Flags of `run`. */
 export interface RunFlags {
+  /** `NAME=VALUE` size limits over the defaults (`experiment/limits.ts`). */
+  limit?: string[];
   json?: boolean;
   steps?: string;
   until?: string;
@@ -79,7 +82,7 @@ function compact(records: StepRecord[]): { step: number; loss: number; gradNorm:
 export function runCommand(path: string, flags: RunFlags): CommandResult {
   if (flags.steps === undefined) throw new CliError('run needs --steps N (the number of optimizer updates, or the cap with --until)');
   const steps = positiveInt(flags.steps, '--steps', 0, MAX_STEPS);
-  const { experiment, text, patch, warnings } = loadExperiment(path, flags.set);
+  const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   const until = flags.until === undefined ? undefined : parseUntil(flags.until);
   const fork = flags.branch === undefined ? undefined : parseBranch(flags.branch);
   if (fork && fork.at > steps) throw new CliError(`--branch forks at step ${fork.at}, after the last step ${steps}`);
@@ -87,7 +90,7 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   const branchPatch = fork ? readOverrides(fork.overrides, '--branch') : undefined;
   let patched: Experiment | undefined;
   if (branchPatch) {
-    const r = patchExperiment(text, { ...patch, ...branchPatch }, { files: readSpecFiles(path, text, { ...patch, ...branchPatch }) });
+    const r = patchExperiment(text, { ...patch, ...branchPatch }, { files: readSpecFiles(path, text, { ...patch, ...branchPatch }, limits.maxFileBytes), limits });
     if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
     patched = r.experiment;
   }
@@ -121,6 +124,8 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   if (flags.json) {
     const out: Record<string, unknown> = { trajectory: compact(main.records), stopped: main.stopped, final: mainFinal };
     if (main.divergedAt !== undefined) out.divergedAt = main.divergedAt;
+    const stalled = trailingStall(main.records);
+    if (stalled !== null) out.stalled = stalled;
     const origin = experiment.setup.data?.origin;
     if (origin) out.data = { hash: origin.hash, files: origin.files, ...(origin.classes ? { classes: origin.classes } : {}) };
     if (branch && fork) {
@@ -131,6 +136,13 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
   }
   const divergence = (l: Leg): string[] =>
     l.divergedAt === undefined ? [] : [`the loss or the weights became non-finite at step ${l.divergedAt}; the final state is the last finite one (step ${l.divergedAt - 1})`];
+  const stall = (l: Leg, lr: number): string[] => {
+    const s = trailingStall(l.records);
+    if (s === null) return [];
+    const searches = ['lbfgs', 'cg', 'minibatch-lbfgs'].includes(experiment.recipe.optimizer);
+    return [`no progress from step ${s.from} to ${s.to}: every update was zero although the gradient was not` +
+      (searches ? ` — the line search found no lower loss from its first trial step lr = ${lr} and stayed in place; lr: 1 is the usual first trial step` : ` (lr = ${lr})`)];
+  };
   const table = (records: StepRecord[]) => {
     const every = Math.max(1, Math.ceil(records.length / 20));
     return records.filter((r, i) => i % every === 0 || i === records.length - 1)
@@ -144,6 +156,7 @@ export function runCommand(path: string, flags: RunFlags): CommandResult {
     `stopped: ${main.stopped} after ${mainFinal.step} steps; final loss ${mainFinal.loss.toPrecision(8)}`,
     ...(until !== undefined && main.stopped === 'max-steps' ? [`the condition --until ${flags.until} was not met within ${steps} steps`] : []),
     ...divergence(main),
+    ...stall(main, experiment.recipe.lr),
     `fingerprint ${mainFinal.fingerprint}`,
   ];
   const origin = experiment.setup.data?.origin;

@@ -221,7 +221,7 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
     report.warnings.push({ path: ['model', 'layers', layers.length - 1, 'activation'], message: `binary-cross-entropy takes logits and applies the sigmoid itself; a final ${last.activation} squashes the logits` });
   let rows: number | undefined;
   if (spec.data === undefined) {
-    report.errors.push({ path: ['model'], atKey: true, message: 'data is required for a network model: give data.x and data.y' });
+    report.errors.push({ path: ['data'], atKey: true, message: 'data is required for a network model: give data.x and data.y, or data.file' });
   } else if (isObj(spec.data)) {
     rows = checkSplit(spec.data, ['data'], inputs, outUnits, loss, report);
     if (isObj(spec.data.heldOut)) checkSplit(spec.data.heldOut, ['data', 'heldOut'], inputs, outUnits, loss, report);

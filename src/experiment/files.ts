@@ -8,6 +8,7 @@
  * Every reader problem becomes a spec error at the key that named the file, with the reader's
  * message (file, row, column, layer, shapes).
  */
+import { activationProblem, dataLimits, DEFAULT_SPEC_LIMITS, type SpecLimits } from './limits';
 import { dataHash, readTable, readWeights, sha256Hex, DataFileError, type TableData, type TableRequest, type TargetKind } from '../core/data';
 import type { DataOrigin, DataSetup, FileOrigin, LayerWeights, LossName } from '../core/setup';
 import type { CheckProblem } from './checks';
@@ -71,7 +72,8 @@ function origin(name: string, bytes: Uint8Array): FileOrigin {
  * Reads the files of a spec value that already passed the schema and the cross-field checks.
  * @returns what was read, and one problem per file that could not be read or does not fit the model
  */
-export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded: LoadedFiles; problems: CheckProblem[] } {
+export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined, limits: SpecLimits = DEFAULT_SPEC_LIMITS): { loaded: LoadedFiles; problems: CheckProblem[] } {
+  const readLimits = dataLimits(limits);
   const problems: CheckProblem[] = [];
   const loaded: LoadedFiles = {};
   const refs = specFileRefs(spec);
@@ -113,7 +115,7 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded
       const tref: FileRef | undefined = tname !== undefined ? { path: [...at, 'targetFile'], name: tname } : undefined;
       const tbytes = tref !== undefined ? bytesOf(tref) : undefined;
       if (bytes === undefined || (tref !== undefined && tbytes === undefined)) return undefined;
-      const table = guard(main.path, () => readTable(bytes, main.name, request, tref && tbytes ? { bytes: tbytes, file: tref.name } : undefined));
+      const table = guard(main.path, () => readTable(bytes, main.name, request, tref && tbytes ? { bytes: tbytes, file: tref.name } : undefined, readLimits));
       if (table === undefined) return undefined;
       return { table, files: [origin(main.name, bytes), ...(tref && tbytes ? [origin(tref.name, tbytes)] : [])] };
     };
@@ -122,6 +124,8 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded
     if (train !== undefined) {
       const t = train.table;
       fitModel(t, ['data', 'file'], inputs, units[units.length - 1], loss, problems);
+      const crowded = activationProblem(Math.max(t.rows, held?.table.rows ?? 0), units, limits, ['data', 'file']);
+      if (crowded !== undefined) problems.push(crowded);
       if (held !== undefined) {
         fitModel(held.table, ['data', 'heldOut', 'file'], inputs, units[units.length - 1], loss, problems);
         if (held.table.targets !== t.targets) problems.push({ path: ['data', 'heldOut', 'file'], message: `${held.files[0].name} has ${held.table.targets} target columns, the training data ${t.targets}` });
@@ -143,7 +147,7 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined): { loaded
     const ref: FileRef = { path: ['model', 'weights', 'file'], name: model.weights.file as string };
     const bytes = bytesOf(ref);
     if (bytes !== undefined) {
-      const layers = guard(ref.path, () => readWeights(bytes, ref.name, { inputs, units }));
+      const layers = guard(ref.path, () => readWeights(bytes, ref.name, { inputs, units }, readLimits));
       if (layers !== undefined) loaded.weights = { layers, origin: origin(ref.name, bytes) };
     }
   }

@@ -9,8 +9,9 @@
 import type { Experiment } from '../core/setup';
 import { buildExperiment } from './normalize';
 import { crossCheck } from './checks';
+import { DEFAULT_SPEC_LIMITS, grouped, limitProblems, type SpecLimits } from './limits';
 import type { CheckProblem } from './checks';
-import { formatPath } from './path';
+import { describe, formatPath } from './path';
 import { readSource } from './source';
 import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
@@ -18,6 +19,7 @@ import { loadSpecFiles, type SpecFiles } from './files';
 import { checkTakenData } from './take';
 
 export { TEMPLATE_SPEC } from './template';
+export { DEFAULT_SPEC_LIMITS, parseLimits, type SpecLimits } from './limits';
 export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
 export { KEY_USERS } from './checks';
@@ -27,6 +29,8 @@ export { specFileNames, specFileRefs, type SpecFiles } from './files';
 export interface SpecOptions {
   /** Bytes of the files the spec names (data, weights), keyed by the name as written; see `files.ts`. */
   files?: SpecFiles;
+  /** Size limits checked before allocation (default {@link DEFAULT_SPEC_LIMITS}). */
+  limits?: SpecLimits;
 }
 
 /**
@@ -71,7 +75,7 @@ function fromRead(p: ReadProblem): Placed {
 /** Sorts by position and strips the internal offset; drops exact duplicates. */
 function finish(list: Placed[]): SpecError[] {
   const seen = new Set<string>();
-  return list
+  const all = list
     .slice()
     .sort((a, b) => a.offset - b.offset || (a.message < b.message ? -1 : a.message > b.message ? 1 : 0))
     .filter((e) => {
@@ -80,8 +84,21 @@ function finish(list: Placed[]): SpecError[] {
       seen.add(k);
       return true;
     })
-    .map(({ offset: _offset, ...rest }) => rest);
+    .map(({ offset: _offset, ...rest }) => ({ ...rest, message: shortened(rest.message) }));
+  if (all.length <= MAX_PROBLEMS) return all;
+  const rest = all.length - MAX_PROBLEMS;
+  return [...all.slice(0, MAX_PROBLEMS), { path: '', message: `… and ${rest} more problem${rest === 1 ? '' : 's'} after these (fix the first ones; many share one cause)` }];
 }
+
+/** Longest message kept whole; longer ones (a parser quoting a line of garbage) are cut. */
+const MAX_MESSAGE = 400;
+
+function shortened(message: string): string {
+  return message.length <= MAX_MESSAGE ? message : `${message.slice(0, MAX_MESSAGE - 1)}… (${message.length} characters)`;
+}
+
+/** Most problems reported for one spec (sorted by position; a count of the rest follows). */
+export const MAX_PROBLEMS = 50;
 
 /**
  * Parses and validates spec text.
@@ -91,6 +108,10 @@ function finish(list: Placed[]): SpecError[] {
  */
 export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto', options: SpecOptions = {}): SpecResult {
   if (typeof text !== 'string') return { ok: false, errors: [{ path: '', message: `the spec must be text, got ${typeof text}` }] };
+  const maxChars = (options.limits ?? DEFAULT_SPEC_LIMITS).maxSpecChars;
+  if (text.length > maxChars) {
+    return { ok: false, errors: [{ path: '', message: `the spec is ${grouped(text.length)} characters long, above the limit of ${grouped(maxChars)} (limit maxSpecChars): keep large data in a file (data.file) instead of inline` }] };
+  }
   const read = readSource(text, format === 'json' ? 'json' : 'yaml');
   if (!read.ok) return { ok: false, errors: finish(read.problems.map(fromRead)) };
   const { source } = read;
@@ -98,7 +119,7 @@ export function parseSpec(text: string, format: 'auto' | 'yaml' | 'json' = 'auto
   if (value === undefined || value === null)
     return { ok: false, errors: [{ path: '', message: 'the spec is empty: it needs at least a model (start from the template)' }] };
   if (typeof value !== 'object' || Array.isArray(value)) {
-    const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value)}` });
+    const e = place(source, { path: [], message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${describe(value)}` });
     return { ok: false, errors: finish([e]) };
   }
   const checked = checkValue(value, (p) => place(source, p), options);
@@ -112,7 +133,10 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
   const cross = crossCheck(value);
   const errors = [...schemaProblems.map(where), ...cross.errors.map(where)];
   if (errors.length > 0) return { ok: false, errors: finish(errors) };
-  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files);
+  const limits = options.limits ?? DEFAULT_SPEC_LIMITS;
+  const tooBig = limitProblems(value as Record<string, unknown>, limits);
+  if (tooBig.length > 0) return { ok: false, errors: finish(tooBig.map(where)) };
+  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files, limits);
   if (problems.length > 0) return { ok: false, errors: finish(problems.map(where)) };
   let experiment: Experiment;
   try {
@@ -131,7 +155,7 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
  */
 export function parseSpecValue(value: unknown, options: SpecOptions = {}): SpecResult {
   if (typeof value !== 'object' || value === null || Array.isArray(value)) {
-    return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${Array.isArray(value) ? 'a list' : JSON.stringify(value) ?? 'nothing'}` }] };
+    return { ok: false, errors: [{ path: '', message: `the spec must be a mapping of keys (seed, model, data, loss, regularization, recipe), got ${describe(value)}` }] };
   }
   const unplaced = (p: CheckProblem): Placed => ({ path: formatPath(p.path), message: p.message, offset: Number.MAX_SAFE_INTEGER });
   const checked = checkValue(value, unplaced, options);

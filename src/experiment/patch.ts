@@ -275,9 +275,10 @@ export function applyPatches(spec: unknown, patches: readonly SpecPatch[]): { ok
 /**
  * The experiment of a branch: `specText` with its ancestry's patches applied in order, validated
  * like a spec (problems a patch introduces name the patched key, as {@link patchExperiment} does).
+ * `options.files` holds the bytes of the files the patched spec names.
  */
-export function patchChainExperiment(specText: string, patches: readonly SpecPatch[]): SpecResult {
-  if (patches.length === 0) return patchExperiment(specText, {});
+export function patchChainExperiment(specText: string, patches: readonly SpecPatch[], options: SpecOptions = {}): SpecResult {
+  if (patches.length === 0) return patchExperiment(specText, {}, options);
   const read = readSpecValue(specText);
   if (!read.ok) return read;
   const before = applyPatches(read.value, patches.slice(0, -1));
@@ -285,7 +286,7 @@ export function patchChainExperiment(specText: string, patches: readonly SpecPat
   // The last patch is checked by patchExperiment's rules against the earlier ones already applied.
   const applied = applyPatch(before.value, patches[patches.length - 1]);
   if (!applied.ok) return applied;
-  const result = parseSpecValue(applied.value);
+  const result = parseSpecValue(applied.value, options);
   if (result.ok) return result;
   const merged: Record<string, PatchValue> = {};
   for (const p of patches) Object.assign(merged, p);

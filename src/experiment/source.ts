@@ -2,8 +2,8 @@
  * Reads spec text (YAML, or JSON — which is YAML too) into a plain value while keeping
  * the source ranges, so every later error can point at a line and column.
  */
-import { isAlias, isMap, isPair, isScalar, isSeq, parseDocument } from 'yaml';
-import type { Document, Node as YamlNode } from 'yaml';
+import { isAlias, isMap, isPair, isScalar, isSeq, parseDocument, visit } from 'yaml';
+import type { Document, Node as YamlNode, Pair, YAMLMap } from 'yaml';
 import type { Path } from './path';
 
 /** A 1-based line and column plus the 0-based character offset. */
@@ -52,18 +52,76 @@ export function maskMagicLine(text: string): string {
   return m === null ? text : ' '.repeat(m[0].length) + text.slice(m[0].length);
 }
 
-/** Maps 0-based offsets to 1-based line and column. */
+/** Maps 0-based offsets to 1-based line and column (a linear scan; see {@link lineIndex} for many lookups). */
 export function positionAt(text: string, offset: number): SourcePosition {
-  const clamped = Math.max(0, Math.min(offset, text.length));
-  let line = 1;
-  let start = 0;
-  for (let i = 0; i < clamped; i++) {
-    if (text.charCodeAt(i) === 10) {
-      line++;
-      start = i + 1;
+  return lineIndex(text)(offset);
+}
+
+/**
+ * A function from 0-based offsets to positions in `text`, answering each lookup by binary search
+ * over the line starts found once — a spec with thousands of problems is placed in linear time.
+ */
+export function lineIndex(text: string): (offset: number) => SourcePosition {
+  const starts = [0];
+  for (let i = text.indexOf('\n'); i >= 0; i = text.indexOf('\n', i + 1)) starts.push(i + 1);
+  return (offset: number): SourcePosition => {
+    const clamped = Math.max(0, Math.min(offset, text.length));
+    let lo = 0;
+    let hi = starts.length - 1;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (starts[mid] <= clamped) lo = mid;
+      else hi = mid - 1;
     }
+    return { offset: clamped, line: lo + 1, col: clamped - starts[lo] + 1 };
+  };
+}
+
+/** Deepest nesting of lists and mappings a spec may use (a real spec needs about six). */
+export const MAX_NESTING = 64;
+
+/**
+ * The first place where flow collections (`[`, `{`) or block indentation nest deeper than
+ * {@link MAX_NESTING}, found in one pass over the text before any parser recurses into it (a
+ * 10 000-deep list would otherwise overflow the call stack, a 100 000-deep one exhaust memory).
+ * Quoted strings and comments are skipped.
+ */
+export function nestingProblem(text: string): ReadProblem | undefined {
+  const at = lineIndex(text);
+  let depth = 0;
+  let quote: string | null = null;
+  let lineStart = true;
+  let indents: number[] = [];
+  for (let i = 0; i < text.length; i++) {
+    const c = text[i];
+    if (quote !== null) {
+      if (c === '\\' && quote === '"') i++;
+      else if (c === quote) quote = null;
+      continue;
+    }
+    if (lineStart) {
+      let j = i;
+      while (text[j] === ' ') j++;
+      const blank = text[j] === '\n' || text[j] === '#' || j >= text.length;
+      if (!blank && depth === 0) {
+        const indent = j - i;
+        indents = indents.filter((k) => k < indent);
+        indents.push(indent);
+        if (indents.length > MAX_NESTING) return { message: `the spec nests mappings or lists more than ${MAX_NESTING} levels deep by indentation`, position: at(j) };
+      }
+      lineStart = false;
+    }
+    if (c === '\n') lineStart = true;
+    else if (c === '#' && (i === 0 || /\s/.test(text[i - 1]))) {
+      const end = text.indexOf('\n', i);
+      i = (end < 0 ? text.length : end) - 1;
+    } else if (c === '"' || c === "'") quote = c;
+    else if (c === '[' || c === '{') {
+      depth++;
+      if (depth > MAX_NESTING) return { message: `the spec nests lists or mappings more than ${MAX_NESTING} levels deep`, position: at(i) };
+    } else if (c === ']' || c === '}') depth = Math.max(0, depth - 1);
   }
-  return { offset: clamped, line, col: clamped - start + 1 };
+  return undefined;
 }
 
 /** The first line of a yaml error message, without its own "at line …" suffix. */
@@ -105,35 +163,53 @@ export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResul
     const problem = jsonProblem(text);
     if (problem) return { ok: false, problems: [problem] };
   }
+  const deep = nestingProblem(text);
+  if (deep !== undefined) return { ok: false, problems: [deep] };
+  const at = lineIndex(text);
   let doc: Document.Parsed;
   try {
-    doc = parseDocument(text, { prettyErrors: false, uniqueKeys: true, strict: true });
+    // Duplicate keys are found below in linear time; yaml's own check compares every pair.
+    doc = parseDocument(text, { prettyErrors: false, uniqueKeys: false, strict: true });
   } catch (err) {
     return { ok: false, problems: [{ message: `could not read the spec: ${err instanceof Error ? err.message : String(err)}` }] };
   }
   const toProblem = (e: { message: string; pos: [number, number] }): ReadProblem => ({
     message: cleanMessage(e.message),
-    position: positionAt(text, e.pos[0]),
+    position: at(e.pos[0]),
   });
   if (doc.errors.length > 0) return { ok: false, problems: doc.errors.map(toProblem) };
+  const duplicates = duplicateKeys(doc.contents, at);
+  if (duplicates.length > 0) return { ok: false, problems: duplicates };
   let value: unknown;
   try {
     value = doc.toJS(); // yaml's default alias limit guards against expansion bombs
   } catch (err) {
-    return { ok: false, problems: [{ message: `could not read the spec: ${err instanceof Error ? err.message : String(err)}` }] };
+    // the only failure here is an alias expansion beyond yaml's limit: point at the first alias
+    let first: number | undefined;
+    visit(doc, { Alias(_k, node) { first ??= node.range?.[0]; } });
+    return { ok: false, problems: [{ message: `could not read the spec: ${err instanceof Error ? err.message.split('\n')[0] : String(err)} (aliases may not expand a spec into a huge value)`, position: at(first ?? 0) }] };
   }
+  const pairsOf = new WeakMap<object, Map<string, Pair>>();
+  const pairIn = (map: YAMLMap, key: string): Pair | undefined => {
+    let index = pairsOf.get(map);
+    if (index === undefined) {
+      index = new Map();
+      for (const p of map.items) if (isPair(p) && isScalar(p.key) && !index.has(String(p.key.value))) index.set(String(p.key.value), p as Pair);
+      pairsOf.set(map, index);
+    }
+    return index.get(key);
+  };
   const locate = (path: Path, anchor: Anchor = 'value'): SourcePosition | undefined => {
-    const at = (n: YamlNode | null | undefined): SourcePosition | undefined =>
-      n && n.range ? positionAt(text, n.range[0]) : undefined;
+    const pos = (n: YamlNode | null | undefined): SourcePosition | undefined => (n && n.range ? at(n.range[0]) : undefined);
     let node: unknown = doc.contents;
-    let best = at(doc.contents as YamlNode | null);
+    let best = pos(doc.contents as YamlNode | null);
     for (let i = 0; i < path.length; i++) {
       if (isAlias(node)) node = node.resolve(doc);
       const seg = path[i];
       let next: unknown;
       let keyNode: unknown;
       if (isMap(node)) {
-        const pair = node.items.find((p) => isPair(p) && isScalar(p.key) && String(p.key.value) === String(seg));
+        const pair = pairIn(node, String(seg));
         if (pair) {
           next = pair.value;
           keyNode = pair.key;
@@ -143,11 +219,28 @@ export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResul
       }
       if (next === undefined && keyNode === undefined) return best;
       const last = i === path.length - 1;
-      const pos = last && anchor === 'key' && keyNode ? at(keyNode as YamlNode) : at(next as YamlNode) ?? at(keyNode as YamlNode);
-      if (pos) best = pos;
+      const here = last && anchor === 'key' && keyNode ? pos(keyNode as YamlNode) : pos(next as YamlNode) ?? pos(keyNode as YamlNode);
+      if (here) best = here;
       node = next;
     }
     return best;
   };
   return { ok: true, source: { value, locate }, warnings: doc.warnings.map(toProblem) };
+}
+
+/** Keys that appear twice in one mapping, found with one set per mapping (linear in the text). */
+function duplicateKeys(root: unknown, at: (offset: number) => SourcePosition): ReadProblem[] {
+  const problems: ReadProblem[] = [];
+  visit(root as YamlNode, {
+    Map(_key, map) {
+      const seen = new Set<string>();
+      for (const p of map.items) {
+        if (!isScalar(p.key)) continue;
+        const k = String(p.key.value);
+        if (seen.has(k)) problems.push({ message: `Map keys must be unique; '${k}' appears more than once`, position: p.key.range ? at(p.key.range[0]) : undefined });
+        seen.add(k);
+      }
+    }
+  });
+  return problems;
 }

@@ -186,7 +186,7 @@ export function pageConfig(app) {
     federated_extensions: [],
     disabledExtensions: disabledPlugins(app),
     deferredExtensions: [],
-    exposeAppInBrowser: 'true',
+    exposeAppInBrowser: 'false',
     terminalsAvailable: 'false',
     collaborative: 'false',
     devMode: 'false',

@@ -53,12 +53,19 @@ export function readLabextensions(env = process.env) {
  * switch off (`jupyterlab.disabledExtensions` of their package.json) added to `disabledExtensions`.
  */
 export function withFederated(html, entries, disabled = []) {
+  return withPageConfig(html, config => {
+    config.federated_extensions = entries;
+    config.disabledExtensions = [...new Set([...(config.disabledExtensions || []), ...disabled])];
+  });
+}
+
+/** The app page with its page config changed by `edit` (which modifies the parsed object). */
+export function withPageConfig(html, edit) {
   return html.replace(
     /(<script id="jupyter-config-data" type="application\/json">)([\s\S]*?)(<\/script>)/,
     (_m, open, json, close) => {
       const config = JSON.parse(json);
-      config.federated_extensions = entries;
-      config.disabledExtensions = [...new Set([...(config.disabledExtensions || []), ...disabled])];
+      edit(config);
       return open + JSON.stringify(config, null, 2).replace(/</g, '\\u003c') + close;
     }
   );

@@ -5,7 +5,7 @@ import fs from 'node:fs';
 import http from 'node:http';
 import path from 'node:path';
 import { BUILD } from './paths.mjs';
-import { readLabextensions, withFederated } from './labextensions.mjs';
+import { readLabextensions, withFederated, withPageConfig } from './labextensions.mjs';
 
 export const DEFAULT_PORT = 8890;
 const HOST = '127.0.0.1';
@@ -86,7 +86,7 @@ function extensionFile(urlPath, labextensions) {
   return null;
 }
 
-function handler(root, labextensions) {
+function handler(root, labextensions, exposeApp) {
   const appPage = path.join(root, 'lab', 'index.html');
   return (req, res) => {
     if (req.method !== 'GET' && req.method !== 'HEAD') {
@@ -100,12 +100,11 @@ function handler(root, labextensions) {
       return;
     }
     const file = extensionFile(urlPath, labextensions) ?? resolveFile(req.url || '/', root);
-    if (labextensions.length && file === appPage && fs.existsSync(appPage)) {
-      const body = withFederated(
-        fs.readFileSync(appPage, 'utf8'),
-        labextensions.map(e => e.entry),
-        labextensions.flatMap(e => e.disabled)
-      );
+    if ((labextensions.length || exposeApp) && file === appPage && fs.existsSync(appPage)) {
+      let body = fs.readFileSync(appPage, 'utf8');
+      if (labextensions.length) body = withFederated(body, labextensions.map(e => e.entry), labextensions.flatMap(e => e.disabled));
+      // window.jupyterapp lets the browser tests drive the app; users' pages do not expose it
+      if (exposeApp) body = withPageConfig(body, config => { config.exposeAppInBrowser = 'true'; });
       res.writeHead(200, { 'Content-Type': TYPES['.html'], 'Cache-Control': 'no-store' }).end(body);
       return;
     }
@@ -153,12 +152,12 @@ function listen(server, port) {
  * Serve build/ on 127.0.0.1. With `strict` the port must be free; otherwise a taken port falls
  * back to any free one. Resolves with the server, its port and the URL of the first notebook.
  */
-export async function startServer({ port = DEFAULT_PORT, strict = false, root = BUILD } = {}) {
+export async function startServer({ port = DEFAULT_PORT, strict = false, root = BUILD, exposeApp = process.env.STEPWELL_EXPOSE_APP === '1' } = {}) {
   if (!fs.existsSync(path.join(root, 'lab', 'index.html'))) {
     throw new Error(`no built app in ${root}: run \`npm run build\` first`);
   }
   const labextensions = readLabextensions();
-  const server = http.createServer(handler(root, labextensions));
+  const server = http.createServer(handler(root, labextensions, exposeApp));
   let actual;
   try {
     actual = await listen(server, port);

@@ -4,9 +4,8 @@
  * lengths, steps increase, fingerprints match their states, branch names resolve).
  * Every problem is reported as `"<field>: <detail>"`.
  */
-import Ajv from 'ajv';
 import type { ErrorObject, ValidateFunction } from 'ajv';
-import ledgerSchema from './ledger.schema.json';
+import validateLedgerSchema from './ledger-validator.generated';
 import { fingerprintState } from '../core/session/state-data';
 import { decodeSessionState, decodeTrajectory } from './codec';
 import { migrateLedger } from './migrate';
@@ -23,12 +22,22 @@ export type LedgerResult = { ok: true; ledger: Ledger } | { ok: false; errors: s
 export interface ValidateOptions {
   /** Recompute each checkpoint's fingerprint from its decoded state (default true). */
   verifyFingerprints?: boolean;
+  /** Check the trajectory and readout digests (default true). */
+  verifyDigests?: boolean;
+  /** Check `specHash` against `spec` (default true). */
+  verifySpecHash?: boolean;
 }
 
-let compiled: ValidateFunction | undefined;
+/** Which integrity checks {@link semanticProblems} makes. */
+interface Checks {
+  fingerprints: boolean;
+  digests: boolean;
+  specHash: boolean;
+}
+
+/** The schema validator, precompiled from `ledger.schema.json` (`src/validators/generate.mjs`): no code generated at run time. */
 function validator(): ValidateFunction {
-  if (!compiled) compiled = new Ajv({ allErrors: true, verbose: true, strictTypes: false }).compile(ledgerSchema);
-  return compiled;
+  return validateLedgerSchema as unknown as ValidateFunction;
 }
 
 /** Turns a JSON pointer into `branches[0].head.state`; the root is `ledger`. */
@@ -73,9 +82,10 @@ function checkpointProblems(c: LedgerCheckpoint, field: string, parameterCount: 
 }
 
 /** Checks of one valid-by-schema ledger that the schema cannot express. */
-function semanticProblems(l: Ledger, verify: boolean): string[] {
+function semanticProblems(l: Ledger, checks: Checks): string[] {
   const errors: string[] = [];
-  if (sha256Hex(l.spec) !== l.specHash) errors.push('specHash: does not match the SHA-256 of spec (the spec text was changed after it was hashed)');
+  const verify = checks.fingerprints;
+  if (checks.specHash && sha256Hex(l.spec) !== l.specHash) errors.push('specHash: does not match the SHA-256 of spec (the spec text was changed after it was hashed)');
   const names = new Map<string, number>();
   l.branches.forEach((b, i) => {
     const prev = names.get(b.name);
@@ -130,7 +140,7 @@ function semanticProblems(l: Ledger, verify: boolean): string[] {
       if (b.parent && b.cursor < b.parent.step) errors.push(`${at}.cursor: is ${b.cursor}, before the fork step ${b.parent.step}`);
     }
     try {
-      const records = decodeTrajectory(b.trajectory, `${at}.trajectory`);
+      const records = decodeTrajectory(b.trajectory, `${at}.trajectory`, checks.digests);
       const lastRec = records[records.length - 1];
       if (lastRec && lastRec.step > b.head.step)
         errors.push(`${at}.trajectory.step: the last record is step ${lastRec.step}, beyond the head (step ${b.head.step})`);
@@ -140,7 +150,7 @@ function semanticProblems(l: Ledger, verify: boolean): string[] {
       errors.push(err instanceof LedgerError ? err.message : `${at}.trajectory: ${String(err)}`);
     }
     try {
-      decodeReadouts(b.readouts, `${at}.readouts`);
+      decodeReadouts(b.readouts, `${at}.readouts`, checks.digests);
     } catch (err) {
       errors.push(err instanceof LedgerError ? err.message : `${at}.readouts: ${String(err)}`);
     }
@@ -170,6 +180,6 @@ export function validateLedger(value: unknown, options: ValidateOptions = {}): L
     return { ok: false, errors: Array.from(new Set(errors)) };
   }
   const ledger = migrated.value as unknown as Ledger;
-  const errors = semanticProblems(ledger, options.verifyFingerprints !== false);
+  const errors = semanticProblems(ledger, { fingerprints: options.verifyFingerprints !== false, digests: options.verifyDigests !== false, specHash: options.verifySpecHash !== false });
   return errors.length > 0 ? { ok: false, errors } : { ok: true, ledger };
 }

@@ -192,16 +192,23 @@ export interface DecodedBranch {
   readouts: DecodedReadouts;
 }
 
+/** Options of {@link decodeBranches}. */
+export interface DecodeOptions {
+  /** Check the trajectory and readout digests (default true; a verification that reports edits reads on without). */
+  verifyDigests?: boolean;
+}
+
 /**
  * Decodes every branch of a validated ledger, in ledger order (parents first).
  * @throws LedgerError when a field fails to decode.
  */
-export function decodeBranches(l: Ledger): DecodedBranch[] {
+export function decodeBranches(l: Ledger, options: DecodeOptions = {}): DecodedBranch[] {
+  const digests = options.verifyDigests !== false;
   const done = new Map<string, DecodedBranch>();
   const cp = (c: LedgerCheckpoint, field: string) => ({ step: c.step, fingerprint: c.fingerprint, state: decodeSessionState(c.state, `${field}.state`, l.parameterCount) });
   l.branches.forEach((b, i) => {
     const at = `branches[${i}]`;
-    const own = decodeTrajectory(b.trajectory, `${at}.trajectory`);
+    const own = decodeTrajectory(b.trajectory, `${at}.trajectory`, digests);
     let trajectory = own;
     if (b.parent) {
       const parent = done.get(b.parent.branch);
@@ -217,7 +224,7 @@ export function decodeBranches(l: Ledger): DecodedBranch[] {
       checkpoints: b.checkpoints.map((c, k) => cp(c, `${at}.checkpoints[${k}]`)),
       head: cp(b.head, `${at}.head`),
       cursor: b.cursor ?? b.head.step,
-      readouts: decodeReadouts(b.readouts, `${at}.readouts`),
+      readouts: decodeReadouts(b.readouts, `${at}.readouts`, digests),
     };
     if (b.parent) out.parent = { ...b.parent };
     done.set(b.name, out);

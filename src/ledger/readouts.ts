@@ -153,13 +153,14 @@ export function encodeReadouts(r: ReadoutsInput | undefined): LedgerReadouts | u
 }
 
 /**
- * Decodes stored readouts, checking the digest first.
+ * Decodes stored readouts, checking the digest first (unless `verifyDigest` is false: a
+ * verification that reports the edit and reads on).
  * @throws LedgerError naming the field.
  */
-export function decodeReadouts(r: LedgerReadouts | undefined, field: string): DecodedReadouts {
+export function decodeReadouts(r: LedgerReadouts | undefined, field: string, verifyDigest = true): DecodedReadouts {
   const one = (k: 'curvature' | 'audit' | DiagnosisKey): Record<string, unknown> | null =>
     r?.[k] === undefined ? null : (decodeLoose(r[k], `${field}.${k}`) as Record<string, unknown>);
-  if (r !== undefined && r.digest !== readoutsDigest(r)) throw new LedgerError(`${field}.digest`, 'does not match the readouts (they were edited or damaged)');
+  if (r !== undefined && verifyDigest && r.digest !== readoutsDigest(r)) throw new LedgerError(`${field}.digest`, 'does not match the readouts (they were edited or damaged)');
   return {
     curvature: one('curvature'),
     sharpness: r?.sharpness === undefined ? [] : (decodeLoose(r.sharpness, `${field}.sharpness`) as Record<string, unknown>[]),

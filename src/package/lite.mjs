@@ -20,12 +20,13 @@ const escapeForScript = json => json.replace(/</g, '\\u003c');
 export const liteNotebookUrl = notebook => `lab/index.html?path=${encodeURIComponent(notebook)}`;
 
 /** Build the site; returns `{ dir, notebooks, bytes }`. */
-export async function buildLite({ quiet = false } = {}) {
+export async function buildLite({ quiet = false, exposeApp = false } = {}) {
   const { notebooks } = await build({ ifStale: true, quiet });
   fs.rmSync(LITE, { recursive: true, force: true });
   fs.mkdirSync(path.join(LITE, 'lab'), { recursive: true });
   for (const part of PARTS) fs.cpSync(path.join(BUILD, part), path.join(LITE, part), { recursive: true });
-  const config = { ...pageConfig(readAppConfig()), siteRelative: 'true', exposeAppInBrowser: 'true' };
+  // window.jupyterapp only in a site built for the browser tests (--expose-app)
+  const config = { ...pageConfig(readAppConfig()), siteRelative: 'true', exposeAppInBrowser: exposeApp ? 'true' : 'false' };
   fs.writeFileSync(
     path.join(LITE, 'lab', 'index.html'),
     `<!doctype html>
@@ -65,7 +66,7 @@ export async function buildLite({ quiet = false } = {}) {
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  buildLite().catch(err => {
+  buildLite({ exposeApp: process.argv.includes('--expose-app') }).catch(err => {
     console.error(`stepwell: ${err.message}`);
     process.exit(1);
   });

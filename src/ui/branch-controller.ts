@@ -8,9 +8,9 @@
 import { checkPatchText, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo } from '../worker/protocol';
 import { ControllerBase, type ControllerDeps } from './cell-controller-base';
-import { comparisonFigure, comparisonText, type CompareAxis } from './compare-figure';
+import { comparisonFigure, comparisonText, type CompareAxis } from '../figures/compare';
 import { decisionRecord, RECORD_IMAGE, RECORD_KEY, recordMeta } from './decision-record';
-import { IMAGE_THEME } from './trace-figure';
+import { IMAGE_THEME } from '../figures/trace';
 import type { ReadoutTab } from './view-state';
 
 export type { ControllerDeps } from './cell-controller-base';

@@ -8,10 +8,10 @@ import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
 import type { BranchReadouts, SessionSummary } from '../worker/protocol';
-import type { Figure } from './trace-figure';
+import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, markdownSummary, meanMs, problemLine } from './summary';
+import { cellSummary, lossImage, markdownSummary, meanMs, problemLine } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -252,7 +252,7 @@ export abstract class ControllerBase {
     const s = this.st.summary;
     if (s === null) return;
     const summary = cellSummary(s, this.st.trajectory[this.st.trajectory.length - 1]);
-    this.deps.host.writeOutputs(summary, markdownSummary(summary));
+    this.deps.host.writeOutputs(summary, markdownSummary(summary, lossImage(this.st.trajectory, s.step < s.tip ? s.step : undefined)));
   }
 }
 

@@ -7,7 +7,7 @@
 import type { BranchInfo } from '../worker/protocol';
 import type { LossVerdict } from '../core/session';
 import { button, el, textTable } from './dom';
-import { comparisonText, type CompareAxis } from './compare-figure';
+import { comparisonText, type CompareAxis } from '../figures/compare';
 import { fmt } from './summary';
 import type { ComparisonView } from './view-state';
 

@@ -4,8 +4,8 @@
  * eigen-directions above it grow instead of shrink). Pure; rendered by `plot.ts`.
  */
 import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
-import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
-import { chooseScale, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from './trace-figure';
+import type { Figure, FigureNote, FigureTheme, LineSeries } from '../figures/trace';
+import { chooseScale, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from '../figures/trace';
 
 /**
  * Builds the spectrum-ends figure.

@@ -8,13 +8,13 @@
 import type { CellController } from './controller';
 import { el, replaceChildren } from './dom';
 import { comparePanel } from './compare-panel';
-import { comparisonFigure, sharpnessOverlayFigure } from './compare-figure';
+import { comparisonFigure, sharpnessOverlayFigure } from '../figures/compare';
 import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
 import { auditPanel, curvaturePanel, generalizationNote } from './readouts';
 import { layersPanel } from './layers-panel';
 import { dataPanel } from './data-panel';
 import { curvatureFigure, sharpnessFigure } from './curvature-figure';
-import { traceFigure, traceText } from './trace-figure';
+import { traceFigure, traceText } from '../figures/trace';
 import type { CellViewState } from './view-state';
 
 /** Least milliseconds between trace redraws while work is running. */

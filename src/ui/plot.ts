@@ -4,7 +4,7 @@
  */
 import Plotly from 'plotly.js-basic-dist-min';
 import type { Data, Layout } from 'plotly.js';
-import type { Figure, FigureTheme } from './trace-figure';
+import type { Figure, FigureTheme } from '../figures/trace';
 
 /** Reads the figure theme from the CSS variables in effect at `node`. */
 export function readTheme(node: HTMLElement): FigureTheme {

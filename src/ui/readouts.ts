@@ -175,6 +175,7 @@ export function curvaturePanel(
       `At step ${c.step}: λmax = ${fmt(s.lambdaMax)} (± ${s.lambdaMaxBound.toExponential(1)})` +
         (s.lambdaMin !== null ? `, λmin = ${fmt(s.lambdaMin)}` : '') +
         ` — ${c.method === 'dense' ? 'full Hessian' : 'Lanczos'} over ${c.parameterCount} parameters, ${c.products} Hessian-vector products` +
+        (c.threads !== undefined && c.threads > 1 ? ` on ${c.threads} threads` : '') +
         (c.stop !== 'converged' ? ` (stopped: ${c.stop})` : '') + '.'
     )
   );

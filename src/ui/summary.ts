@@ -6,6 +6,9 @@
 import type { StepRecord } from '../core/state';
 import type { AuditResult, AuditVerdict } from '../core/probe/gradcheck';
 import type { BranchInfo, SessionSummary, SpecProblem, VerifyResult } from '../worker/protocol';
+import { fmt } from '../figures/format';
+import { IMAGE_THEME, traceFigure, traceText } from '../figures/trace';
+import { renderSvg, svgDataUrl, thinned } from '../figures/svg';
 
 /** Our mime type: its renderer is the live cell widget. */
 export const STEPWELL_MIME = 'application/vnd.stepwell.cell+json';
@@ -44,14 +47,7 @@ export interface CellSummary {
 
 const jsonNumber = (v: number | undefined): number | null => (v !== undefined && Number.isFinite(v) ? v : null);
 
-/** Formats a loss or norm for display: 6 significant digits, `NaN`/`∞` spelled out. */
-export function fmt(v: number | null | undefined): string {
-  if (v === null || v === undefined) return '—';
-  if (Number.isNaN(v)) return 'NaN';
-  if (!Number.isFinite(v)) return v > 0 ? '∞' : '−∞';
-  if (v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6)) return v.toExponential(3);
-  return String(Number(v.toPrecision(6)));
-}
+export { fmt };
 
 /** Short fingerprint for display (first 12 hex digits). */
 export function shortPrint(fingerprint: string): string {
@@ -80,9 +76,23 @@ export function escapeMarkdown(text: string): string {
 }
 
 /**
- * The `text/markdown` fallback: a static summary readable in any notebook viewer.
+ * The loss trace of the shown branch as an SVG image for the markdown fallback (drawn from the
+ * same figure description as the cell's plotly trace, in the fixed light theme), with its text
+ * alternative; null without records.
  */
-export function markdownSummary(s: CellSummary): string {
+export function lossImage(trajectory: readonly StepRecord[], cursor?: number): { svg: string; alt: string } | null {
+  if (trajectory.length === 0) return null;
+  const alt = traceText(trajectory, cursor);
+  const fig = thinned(traceFigure(trajectory, IMAGE_THEME, { height: 220, cursor }));
+  return { svg: renderSvg(fig, { width: 560, id: 'stepwell-loss', title: 'Training loss per step', description: alt }), alt };
+}
+
+/**
+ * The `text/markdown` fallback: a static summary readable in any notebook viewer; `image` (the
+ * loss trace, {@link lossImage}) is embedded as a `data:` URL, which JupyterLab's markdown
+ * renderer, nbconvert's HTML export and GitHub's notebook view show without Stepwell.
+ */
+export function markdownSummary(s: CellSummary, image: { svg: string; alt: string } | null = null): string {
   const lines = [
     `**Stepwell experiment** at step ${s.step}${s.branches.length > 1 ? ` of branch ${escapeMarkdown(s.branch)}` : ''}`,
     '',
@@ -97,6 +107,7 @@ export function markdownSummary(s: CellSummary): string {
     `| fingerprint | \`${s.fingerprint.replace(/[^0-9a-f]/g, '')}\` |`,
     ''
   );
+  if (image !== null) lines.push(`![${escapeMarkdown(image.alt)}](${svgDataUrl(image.svg)})`, '');
   if (s.branches.length > 1) {
     lines.push(`**Branches** (${s.branches.length}):`, '', '| branch | forked from | change | step | training loss |', '| --- | --- | --- | ---: | ---: |');
     for (const b of s.branches) {

@@ -6,7 +6,7 @@ import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
 import type { LedgerRead, SpecChecker } from './ports';
 import type { BranchComparison, BranchReadouts, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
-import type { CompareAxis } from './compare-figure';
+import type { CompareAxis } from '../figures/compare';
 
 /** Readout tabs of the cell widget. */
 export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'data' | 'audit' | 'compare';

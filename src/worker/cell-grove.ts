@@ -6,10 +6,10 @@
  * comparisons at matched steps, and the ledger.
  */
 import type { Experiment } from '../core/setup';
-import type { SessionState, StepRecord } from '../core/state';
-import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, type BatchSegment, type BranchSnapshot, type GroveOptions, type GroveSnapshot } from '../core/session';
-import { buildLedger, decodeBranches, decodeFindings, ledgerSize, validateLedger } from '../ledger';
-import type { DecodedBranch } from '../ledger';
+import type { StepRecord } from '../core/state';
+import { ENGINE_NAME } from '../core/engine';
+import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, type BatchSegment, type GroveOptions } from '../core/session';
+import { buildLedger, decodeFindings, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
@@ -19,8 +19,8 @@ import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECOR
 import { findingsOf, readoutsFromLedger, readoutsForLedger } from './readouts-data';
 import { BranchBook } from './branch-book';
 
-/** Engine name written into each ledger. */
-export const ENGINE_NAME = 'stepwell 0.2.0';
+/** Engine name written into each ledger (kept in core, beside the arithmetic it names). */
+export { ENGINE_NAME };
 
 /** Name of the root branch of a new cell. */
 export const ROOT_BRANCH = 'main';
@@ -67,20 +67,15 @@ export class CellGrove {
     const checked = validateLedger(raw);
     if (!checked.ok) throw new Error(`the saved ledger cannot be read: ${checked.errors.slice(0, 3).join('; ')}`);
     const ledger = checked.ledger;
-    const decoded = decodeBranches(ledger);
-    const patches = new Map<string, SpecPatch[]>();
-    const branches: BranchSnapshot[] = decoded.map((b) => {
-      const chain = b.parent ? [...(patches.get(b.parent.branch) ?? []), b.patch as SpecPatch] : [];
-      patches.set(b.name, chain);
+    const restored = groveFromLedger(ledger, (b, chain) => {
       const parsed = core.parsePatched(specText, chain);
       if (!parsed.ok) throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
-      return snapshotOf(b, parsed.experiment, checkpointEvery);
-    });
-    const snap: GroveSnapshot = { branches };
-    const cell = new CellGrove(core, specText, Grove.restore(snap, groveOptions(checkpointEvery)), ledger.activeBranch);
+      return parsed.experiment;
+    }, checkpointEvery, groveOptions(checkpointEvery));
+    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch);
     const findings = decodeFindings(ledger.findings);
-    for (const b of decoded) cell.book.set(b.name, readoutsFromLedger(b.readouts, findingsOf(findings, b.name)));
-    for (const b of decoded) if (!cell.book.diagnosed(b.name)) cell.book.diagnose(b.name);
+    for (const b of restored.branches) cell.book.set(b.name, readoutsFromLedger(b.readouts, findingsOf(findings, b.name)));
+    for (const b of restored.branches) if (!cell.book.diagnosed(b.name)) cell.book.diagnose(b.name);
     return cell;
   }
 
@@ -334,22 +329,4 @@ export class CellGrove {
 /** Fingerprint of a branch's tip state. */
 function fingerprintOf(grove: Grove, name: string): string {
   return grove.tip(name) === grove.session(name).stepCount ? grove.session(name).fingerprint() : fingerprintState(grove.tipState(name));
-}
-
-/** A grove snapshot of one decoded ledger branch (cursor from its checkpoint; the head as the tip). */
-function snapshotOf(b: DecodedBranch, experiment: Experiment, checkpointEvery: number): BranchSnapshot {
-  const saved = [...b.checkpoints, b.head];
-  const atCursor = saved.find((c) => c.step === b.cursor);
-  if (atCursor === undefined) throw new Error(`branch '${b.name}' has no saved state at its cursor (step ${b.cursor})`);
-  const current: SessionState = atCursor.state;
-  return {
-    name: b.name,
-    experiment,
-    origin: b.parent ? { parent: b.parent.branch, step: b.parent.step, patch: b.patch, restart: b.restart } : null,
-    trajectory: b.trajectory,
-    checkpoints: saved.map((c) => ({ step: c.step, fingerprint: c.fingerprint, state: c.state, manual: false })),
-    every: checkpointEvery,
-    current,
-    tip: b.cursor < b.head.step ? b.head.state : null
-  };
 }

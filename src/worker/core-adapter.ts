@@ -4,16 +4,50 @@
  */
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
-import { measureSessionCurvature } from '../core/probe/curvature';
+import { measureSessionCurvature, measureSessionCurvatureWith, type CurvatureReport, type DensityTraceRunner } from '../core/probe/curvature';
 import { gradientNoiseScale } from '../core/probe/noise-scale';
-import { effectiveBatch } from '../core/session';
+import { effectiveBatch, type Session } from '../core/session';
 import { parseSpec } from '../experiment';
 import { patchChainExperiment } from '../experiment/patch';
 import type { EngineCore, ParseOutcome } from './engine-core';
+import type { Experiment } from '../core/setup';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
 import { curvatureVerdict } from './diagnosis';
 
-/** The real numerics behind the engine host. */
+/** The curvature reply's shape from a report. */
+function curvatureResult(session: Session, { spectrum, summary, threads }: CurvatureReport): CurvatureResult {
+  return {
+    ...(threads === undefined ? {} : { threads }),
+    step: session.stepCount,
+    method: spectrum.method,
+    parameterCount: spectrum.parameterCount,
+    top: [...spectrum.top],
+    topBounds: [...spectrum.topBounds],
+    bottom: [...spectrum.bottom],
+    bottomBounds: [...spectrum.bottomBounds],
+    products: spectrum.products,
+    stop: spectrum.stop,
+    summary,
+    ...curvatureVerdict(summary)
+  };
+}
+
+/**
+ * The real numerics; with `helper`, the curvature readout's density and trace run there (a
+ * second thread) while Lanczos runs in the engine's own.
+ */
+export function coreWith(helper?: (experiment: Experiment) => DensityTraceRunner): EngineCore {
+  return {
+    ...realCore,
+    curvature(experiment, session, k, denseLimit) {
+      if (helper === undefined) return realCore.curvature(experiment, session, k, denseLimit);
+      const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
+      return measureSessionCurvatureWith(helper(experiment), session, rng, { k, denseLimit }).then(r => curvatureResult(session, r));
+    }
+  };
+}
+
+/** The real numerics behind the engine host, in one thread. */
 export const realCore: EngineCore = {
   parse(specText: string): ParseOutcome {
     return parseSpec(specText);
@@ -28,20 +62,7 @@ export const realCore: EngineCore = {
   },
   curvature(experiment, session, k, denseLimit): CurvatureResult {
     const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
-    const { spectrum, summary } = measureSessionCurvature(session, rng, { k, denseLimit });
-    return {
-      step: session.stepCount,
-      method: spectrum.method,
-      parameterCount: spectrum.parameterCount,
-      top: [...spectrum.top],
-      topBounds: [...spectrum.topBounds],
-      bottom: [...spectrum.bottom],
-      bottomBounds: [...spectrum.bottomBounds],
-      products: spectrum.products,
-      stop: spectrum.stop,
-      summary,
-      ...curvatureVerdict(summary)
-    };
+    return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit }));
   },
   noise(experiment, session, sample) {
     // Like the audit: the rows sampled come from the seed and the step.

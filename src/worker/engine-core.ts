@@ -22,8 +22,11 @@ export interface EngineCore {
   parsePatched(specText: string, patches: readonly SpecPatch[]): ParseOutcome;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
-  /** Hessian spectrum and stability summary at the session's current weights. */
-  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number): CurvatureResult;
+  /**
+   * Hessian spectrum and stability summary at the session's current weights (a promise when a
+   * second thread computes part of it).
+   */
+  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number): CurvatureResult | Promise<CurvatureResult>;
   /** The gradient noise scale at the session's weights from `sample` rows' gradients (throws without data rows). */
   noise(experiment: Experiment, session: Session, sample: number): NoiseScale;
   /** The sharpness the recipe's stability rule uses, by a short Lanczos run (cheap enough to track). */

@@ -161,7 +161,7 @@ export class EngineHost {
       case 'curvature': {
         const cell = this.need().cell;
         const name = cell.active;
-        const result = this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit);
+        const result = await this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit);
         cell.readoutsOf(name).curvature = result;
         cell.diagnose(name);
         this.post({ id, kind: 'curvature', result, readouts: cell.readoutsView(name) });

@@ -3,7 +3,8 @@
  * core and posts its replies back. All behaviour lives in the host.
  */
 import { EngineHost } from './engine-host';
-import { realCore } from './core-adapter';
+import { coreWith } from './core-adapter';
+import { readoutHelper } from './readout-helper';
 
 interface WorkerScope {
   postMessage(message: unknown): void;
@@ -11,7 +12,8 @@ interface WorkerScope {
 }
 
 const scope = self as unknown as WorkerScope;
-const host = new EngineHost(realCore, reply => scope.postMessage(reply));
+// The curvature readout's density and trace run in a helper thread (the second core) when one starts.
+const host = new EngineHost(coreWith(readoutHelper()), reply => scope.postMessage(reply));
 scope.onmessage = (event: MessageEvent) => {
   void host.receive(event.data);
 };

@@ -45,6 +45,8 @@ export interface CurvatureResult {
   /** The verdict on the learning rate in effect and the sentence that says it (`core/probe/curvature/verdicts.ts`). */
   verdict: StabilityVerdict;
   sentence: string;
+  /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
+  threads?: number;
 }
 
 /** One problem in the spec text, at a path and (when known) a 1-based line and column. */

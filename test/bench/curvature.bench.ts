@@ -1,15 +1,16 @@
 /**
- * Curvature timings: the dense symmetric eigen-solver on random matrices, and the curvature
- * readouts (top-10 Lanczos, dense spectrum) on seeded random MLPs of three sizes.
- * Reference figures (PyTorch 1.13 + SciPy, one thread, float64) are the ones stated in the issue.
+ * Curvature timings of Stepwell alone (the side-by-side figures against NumPy and SciPy are in
+ * `compare.ts`): the dense solver with eigenvectors, the whole curvature readout (Lanczos at both
+ * ends, spectral density, trace) and the dense Hessian spectrum of the small network.
  */
 import { Rng } from '../../src/core/rng';
 import { buildMlp, type MlpShape } from './networks';
 import { randomSymmetric } from '../reference/curvature/fixtures';
 import { symmetricEigen } from '../../src/core/linalg/symmetric-eigen';
-import { lanczosExtremes } from '../../src/core/linalg/lanczos';
-import { curvatureOperator, denseSpectrum } from '../../src/core/probe/curvature';
-import { timeIt, type BenchResult } from './types';
+import { denseSpectrum, measureCurvature } from '../../src/core/probe/curvature';
+import { RECIPE_DEFAULTS } from '../../src/experiment';
+import type { Recipe } from '../../src/core/setup';
+import type { BenchResult } from './types';
 
 export const title = 'Curvature: dense eigen-solver, Lanczos and dense spectra of MLP Hessians';
 
@@ -29,37 +30,25 @@ function cpu(t: { ms: number; cpuMs?: number }): Record<string, string> {
 
 interface MlpCase extends MlpShape {
   dense: boolean;
-  /** PyTorch + scipy eigsh top-10 figures from the issue. */
-  reference?: { ms: number; what: string };
 }
 
 const MLPS: MlpCase[] = [
   { widths: [4, 16, 16, 1], act: 'tanh', loss: 'mse', batch: 64, dense: true },
-  // Dense P = 5 699 takes minutes and 260 MB: only with STEPWELL_BENCH_FULL=1.
-  { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256, dense: process.env.STEPWELL_BENCH_FULL === '1', reference: { ms: 210, what: 'PyTorch 1.13 + scipy eigsh top-10, 117 Hv, 1 thread' } },
+  // Dense P = 5 699 takes a minute and 260 MB: only with STEPWELL_BENCH_FULL=1.
+  { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256, dense: process.env.STEPWELL_BENCH_FULL === '1' },
   { widths: [64, 256, 256, 10], act: 'relu', loss: 'cross-entropy', batch: 512, dense: false },
 ];
 
 /**
- * Figures: `dense eigenvalues n = …` (values only) for n = 370, 1000, 2000 (reference: LAPACK
- * eigvalsh 2000×2000, 1.0 s), with the top-10 eigenvectors, and with all eigenvectors for
- * n = 370, 1000; `extra['cpu ms']` is the process CPU time of single runs. For each MLP the top-10 Lanczos
- * time (tol 1e-10, with the Hessian-vector product count in `extra.Hv`) and, for the two smaller
- * ones, the dense spectrum (P products + eigen-solve; the P = 5 699 case takes minutes and 260 MB,
- * so it runs only with STEPWELL_BENCH_FULL=1).
+ * Figures: the dense solver with the top-10 and with all eigenvectors (n = 370, 1000, 2000 /
+ * 370, 1000), process CPU time of single runs beside wall time; for each MLP the whole curvature
+ * readout as the cell runs it at P above the dense limit (Lanczos at both ends, SLQ density,
+ * Hutchinson trace: `measureCurvature` with its defaults) or the dense spectrum below it.
  */
 export function run(): BenchResult[] {
   const out: BenchResult[] = [];
   for (const n of [370, 1000, 2000]) {
     const a = randomSymmetric(n, n);
-    const t = n <= 370 ? timeIt(() => symmetricEigen(a, n), 1500, 20) : once(() => symmetricEigen(a, n));
-    out.push({
-      name: `dense eigenvalues n = ${n}`,
-      ms: t.ms,
-      reps: t.reps,
-      reference: n === 2000 ? { ms: 1000, what: 'LAPACK eigvalsh via PyTorch, 1 thread' } : undefined,
-      extra: { 'ns per n³/6 update': ((t.ms * 1e6) / ((n * n * n) / 6)).toFixed(2), ...cpu(t) },
-    });
     const tv = once(() => symmetricEigen(a, n, { topVectors: 10 }));
     out.push({ name: `dense eigenvalues + top-10 eigenvectors n = ${n}`, ms: tv.ms, reps: 1, extra: cpu(tv) });
     if (n <= 1000) {
@@ -67,21 +56,19 @@ export function run(): BenchResult[] {
       out.push({ name: `dense eigenvalues + all eigenvectors n = ${n}`, ms: tf.ms, reps: 1, extra: cpu(tf) });
     }
   }
+  const recipe: Recipe = { ...RECIPE_DEFAULTS, optimizer: 'sgd', lr: 0.01, layers: [], schedule: { kind: 'constant' } };
   for (const c of MLPS) {
     const { net, w } = buildMlp(c, 11);
     const p = net.parameterCount;
     const label = `${c.widths.join('-')} ${c.act}, ${c.loss}, batch ${c.batch} (P = ${p})`;
-    let hv = 0;
-    let iterations = 0;
+    let products = 0;
     let lmax = 0;
     const t = once(() => {
-      const op = curvatureOperator(net, w);
-      const r = lanczosExtremes(op.apply, p, Rng.fromSeed(1), { k: 10, tol: 1e-10 });
-      hv = op.count();
-      iterations = r.iterations;
-      lmax = r.largest[0].value;
+      const r = measureCurvature(net, w, recipe, Rng.fromSeed(1), { denseLimit: c.dense ? p : 2000 });
+      products = r.spectrum.products;
+      lmax = r.summary.lambdaMax;
     });
-    out.push({ name: `top-10 Lanczos ${label}`, ms: t.ms, reps: 1, reference: c.reference, extra: { Hv: hv, iterations, 'λmax': lmax.toPrecision(6), ...cpu(t) } });
+    out.push({ name: `curvature readout ${label}`, ms: t.ms, reps: 1, extra: { Hv: products, 'λmax': lmax.toPrecision(6), ...cpu(t) } });
     if (c.dense) {
       let asym = 0;
       const td = once(() => {

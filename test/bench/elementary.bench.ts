@@ -20,7 +20,7 @@ export function run(): BenchResult[] {
   const f = new Float64Array(N), d1 = new Float64Array(N), d2 = new Float64Array(N);
   for (const name of ACTIVATIONS) {
     const act = activation(name);
-    out.push({ name: `activation ${name}: f, f′, f″`, ...timeIt(() => act.eval(a, f, d1, d2, N)) });
+    out.push({ name: `activation ${name}: f, f′, f″`, ...timeIt(() => act.evaluate(a, f, d1, d2, N)) });
   }
   const k = 10, rows = N / k;
   const y = new Float64Array(rows);

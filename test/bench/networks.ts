@@ -13,7 +13,7 @@ export interface MlpShape {
 }
 
 /** Builds the network over seeded normal inputs and targets, with lecun-normal weights. */
-export function buildMlp(c: MlpShape, seed: number): { net: Network; w: Float64Array } {
+export function buildMlp(c: MlpShape, seed: number, simd = true): { net: Network; w: Float64Array; x: Float64Array; y: Float64Array } {
   const rng = Rng.fromSeed(seed);
   const [inputs, ...units] = c.widths;
   const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
@@ -22,6 +22,6 @@ export function buildMlp(c: MlpShape, seed: number): { net: Network; w: Float64A
   const x = rng.fillNormal(new Float64Array(c.batch * inputs));
   const y = new Float64Array(ce ? c.batch : c.batch * k);
   for (let i = 0; i < y.length; i++) y[i] = ce ? rng.int(k) : rng.normal();
-  const net = new Network(model, { rows: c.batch, inputs, targets: ce ? 1 : k, x, y }, c.loss, 0);
-  return { net, w: initNetwork(model, rng) };
+  const net = new Network(model, { rows: c.batch, inputs, targets: ce ? 1 : k, x, y }, c.loss, 0, { simd });
+  return { net, w: initNetwork(model, rng), x, y };
 }

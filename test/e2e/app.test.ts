@@ -148,6 +148,18 @@ describe('app server', () => {
     }
   });
 
+  it('does not expose the app object on users\' pages (only a server started for tests does)', async () => {
+    const plain = await startApp({ env: { STEPWELL_EXPOSE_APP: '0' } });
+    try {
+      const page = await (await fetch(`${plain.origin}/lab`)).text();
+      expect(page).toMatch(/"exposeAppInBrowser": "false"/);
+      const tested = await (await fetch(`${app.origin}/lab`)).text();
+      expect(tested).toMatch(/"exposeAppInBrowser": "true"/);
+    } finally {
+      await plain.stop();
+    }
+  });
+
   it('rejects a bad port with a message naming the setting', async () => {
     await expect(startApp({ args: ['--port', 'eighty'] })).rejects.toThrow(/port must be an integer from 0 to 65535 \(from --port\), got "eighty"/);
   });

@@ -2,7 +2,7 @@
  * The shipped demo notebooks (their decision records written by Stepwell) read well without
  * Stepwell: nbconvert's HTML export embeds the record's figure and shows its tables, its markdown
  * export keeps the record's text, tables, recipe block and figure description, and the cell
- * output's markdown fallback lists the branches. Uses Debian's nbconvert (`python3-nbconvert`)
+ * output's markdown fallback lists the branches and shows the loss trace (an SVG data URL). Uses Debian's nbconvert (`python3-nbconvert`)
  * when it is installed; without it the test says so and checks nothing (CI needs no Python).
  * The HTML export is opened in Chromium and screenshot into test-output/.
  */
@@ -55,6 +55,13 @@ function convert(notebook: string, to: 'html' | 'markdown', dir: string): string
         await heading.evaluate(h => h.scrollIntoView({ block: 'start' }));
         const shown = await page.evaluate(() => [...document.images].filter(i => i.naturalWidth > 0).length);
         expect(shown).toBeGreaterThan(0);
+        // The stepwell cell's saved output: its markdown fallback carries the loss trace as an SVG image, drawn here.
+        const svgs = await page.evaluate(() => [...document.images].filter(i => i.src.startsWith('data:image/svg+xml;base64,')).map(i => [i.naturalWidth, i.alt]));
+        expect(svgs).toEqual([[560, expect.stringMatching(/^Training loss per step: /)]]);
+        await page.locator('img[src^="data:image/svg+xml"]').evaluate(i => i.scrollIntoView({ block: 'center' }));
+        fs.mkdirSync(OUTPUT_DIR, { recursive: true });
+        await page.screenshot({ path: path.join(OUTPUT_DIR, `export-${name}-output-fallback.png`) });
+        await heading.evaluate(h => h.scrollIntoView({ block: 'start' }));
         fs.mkdirSync(OUTPUT_DIR, { recursive: true });
         await page.screenshot({ path: path.join(OUTPUT_DIR, `export-${name}.png`) });
       } finally {

@@ -72,7 +72,7 @@ export async function startApp(options: IStartOptions = {}): Promise<IAppServer>
   const { script = 'serve.mjs', args = ['--port', '0'], env = {}, timeoutMs = 120_000 } = options;
   const child: ChildProcess = spawn(process.execPath, [path.join(ROOT, 'src', 'host', script), ...args], {
     cwd: ROOT,
-    env: { ...process.env, ...env },
+    env: { ...process.env, STEPWELL_EXPOSE_APP: '1', ...env },
     stdio: ['ignore', 'pipe', 'pipe']
   });
   let out = '';

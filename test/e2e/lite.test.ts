@@ -34,7 +34,7 @@ let origin: string;
 let browser: IBrowserSession;
 
 beforeAll(async () => {
-  const built = spawnSync(process.execPath, [path.join(ROOT, 'src', 'package', 'lite.mjs')], { cwd: ROOT, encoding: 'utf8', timeout: 300_000 });
+  const built = spawnSync(process.execPath, [path.join(ROOT, 'src', 'package', 'lite.mjs'), '--expose-app'], { cwd: ROOT, encoding: 'utf8', timeout: 300_000 });
   if (built.status !== 0) throw new Error(`npm run build:lite failed:\n${built.stdout}\n${built.stderr}`);
   server = staticServer();
   await new Promise<void>(resolve => server.listen(0, '127.0.0.1', () => resolve()));

@@ -1,31 +1,35 @@
 /**
- * Householder reduction of a dense symmetric matrix to tridiagonal form, A = Q T Qᵀ.
+ * Householder reduction of a dense symmetric matrix to tridiagonal form, A = Q T Qᵀ, blocked.
  *
  * Reference: Golub & Van Loan, *Matrix Computations*, 4th ed., §8.3.1 (Householder
- * tridiagonalization). Our variant works on the rows of a row-major lower triangle, from the
- * last row upwards, so that every inner loop runs over contiguous memory:
+ * tridiagonalization); the blocking is LAPACK's (dsytrd with dlatrd, Dongarra, Hammarling &
+ * Sorensen, "Block reduction of matrices to condensed forms for eigenvalue computations", 1989).
+ * Our variant works on the rows of a row-major lower triangle, from the last row upwards, so
+ * that every inner loop runs over contiguous memory:
  *
  * 1. Step i (i = n−1 … 2) takes x = A[i, 0..i−1] and builds the reflector
  *    H_i = I − u uᵀ / h with H_i x = α e_{i−1}; α becomes the subdiagonal entry T[i, i−1].
- * 2. The leading i×i block B is replaced by H_i B H_i via the rank-2 update
- *    B ← B − u qᵀ − q uᵀ with p = B u / h, K = uᵀp / (2h), q = p − K u (only j ≤ r is touched).
- * 3. The rank-2 update of step i is fused with the matrix-vector product of step i−1: row i−1
- *    is updated first (it holds the next x), then every other row is updated and immediately
- *    multiplied with the next u. This halves the memory traffic of the reduction.
+ * 2. The leading i×i block B becomes H_i B H_i = B − u qᵀ − q uᵀ with p = B u / h,
+ *    K = uᵀp / (2h), q = p − K u.
+ * 3. Blocking: the rank-2 updates of up to 32 consecutive steps (a panel) are not applied one
+ *    by one. Their u and q are kept, and step i works with the stored B minus the panel's
+ *    pending terms: row i is brought up to date alone, and p = (B_stored u − Σ_k u_k (q_kᵀu)
+ *    − Σ_k q_k (u_kᵀu)) / h. After the panel one rank-2k update of the rows still to come
+ *    applies all of them. The matrix-vector product (memory-bound) then only reads the matrix,
+ *    and the update (compute-bound, the register tiles of `core/wasm/eigen.wat`) writes each
+ *    entry once per panel instead of once per step.
  *
  * The reflector u of step i stays in A[i, 0..i−1] (with h in `h[i]`), so Q = H_{n−1} ⋯ H_2 can
- * be applied later to any vector at O(n²) cost ({@link applyReflectors}).
- *
- * The fused row loop (step 3) runs in a WebAssembly SIMD kernel (`simd.ts`, two doubles per
- * instruction) when the engine supports it, else in the scalar loop below; both are tested.
+ * be applied later to any vector at O(n²) cost ({@link applyReflectors}). The inner loops run in
+ * WebAssembly SIMD where the engine has it (`eigen-kernels.ts`), else in plain JavaScript; the
+ * two agree to rounding.
  */
 
-import type { SimdKernel } from './simd';
-import { simdKernel, simdMemory } from './simd';
+import { eigenSpace, type EigenKernels } from './eigen-kernels';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
-const { abs, max, sqrt } = Math;
+const { abs, max, min, sqrt } = Math;
 
 /** Tridiagonal matrix: `diagonal[i]` = T[i, i]; `subdiagonal[i]` = T[i, i−1] (`subdiagonal[0]` = 0). */
 export interface Tridiagonal {
@@ -43,175 +47,130 @@ export interface HouseholderReduction extends Tridiagonal {
   readonly h: Float64Array;
 }
 
+/** Options of {@link tridiagonalize}. */
+export interface TridiagonalizeOptions {
+  /** Use the WebAssembly SIMD kernels when available (default true; false forces the plain-JavaScript loops). */
+  simd?: boolean;
+  /** Steps per panel (default 32; 1 applies every update at once, as the unblocked algorithm does). */
+  block?: number;
+}
+
+/** Steps whose updates are deferred together: the rank-2k update then does 2·32 terms per entry. */
+const PANEL = 32;
+
 /**
  * Reduces the symmetric matrix `a` (n×n, row-major; only the lower triangle j ≤ i is read)
- * to tridiagonal T = Qᵀ A Q by Householder reflections (Golub & Van Loan 4th ed., §8.3.1).
+ * to tridiagonal T = Qᵀ A Q by blocked Householder reflections (Golub & Van Loan 4th ed.,
+ * §8.3.1; LAPACK dsytrd's blocking).
  *
- * @param a - n×n row-major matrix; **overwritten** with the reflectors (copy it first to keep it).
+ * @param a - n×n row-major matrix; **overwritten** with the reflectors below the diagonal
+ *   (entries above it are left undefined). Copy it first to keep it.
  * @param n - order of the matrix.
- * @param options - `simd: false` forces the scalar loop (the SIMD kernel of `simd.ts` is used by default).
  * @returns T and the reflectors, stored in `a`.
  */
 export function tridiagonalize(a: Float64Array, n: number, options: TridiagonalizeOptions = {}): HouseholderReduction {
   if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
-  const kernel = options.simd !== false && n >= SIMD_MIN_ORDER ? simdKernel() : null;
-  if (kernel === null) {
-    const w = { a, pu: new Float64Array(n), pq: new Float64Array(n), cu: new Float64Array(n), p: new Float64Array(n) };
-    return reduceRows(w, n, null);
-  }
-  // Work inside the kernel's memory: [A | pu | pq | cu | p], then copy the reflectors back into `a`.
-  const buf = simdMemory(kernel, 8 * (n * n + 4 * n));
-  const nn = n * n;
-  const w = {
-    a: new Float64Array(buf, 0, nn),
-    pu: new Float64Array(buf, 8 * nn, n),
-    pq: new Float64Array(buf, 8 * (nn + n), n),
-    cu: new Float64Array(buf, 8 * (nn + 2 * n), n),
-    p: new Float64Array(buf, 8 * (nn + 3 * n), n),
-  };
-  w.a.set(a.subarray(0, nn));
-  const red = reduceRows(w, n, kernel);
-  a.set(w.a);
+  const nb = options.block ?? PANEL;
+  if (!Number.isInteger(nb) || nb < 1) throw new RangeError(`block must be a positive integer, got ${options.block}`);
+  // Space: [A's lower triangle packed, row i at i(i+1)/2 | Uᵀ (nb rows of n) | Qᵀ (nb rows) | Uᵀ
+  // again | p | coefficients (2·nb) | dots (2·nb)]. Packed rows make the leading block one
+  // sequential stream; [Uᵀ; Qᵀ] and [Qᵀ; Uᵀ] are then both contiguous, so the end-of-panel
+  // update is one product of 2·nb terms per entry.
+  const tri = (n * (n + 1)) / 2;
+  const after = tri + 3 * nb * n;
+  const lay = { a: 0, ut: tri, qt: tri + nb * n, ut2: tri + 2 * nb * n, p: after, coef: after + n, dots: after + n + 2 * nb };
+  const space = eigenSpace(lay.dots + 2 * nb, max(n, 1), options.simd !== false);
+  const m = space.m;
+  for (let i = 0; i < n; i++) m.set(a.subarray(i * n, i * n + i + 1), (i * (i + 1)) / 2);
+  const red = reduce(m, space.kernels, n, nb, lay);
+  for (let i = 0; i < n; i++) a.set(m.subarray((i * (i + 1)) / 2, (i * (i + 1)) / 2 + i + 1), i * n);
   return { ...red, reflectors: a };
 }
 
-/** Options of {@link tridiagonalize}. */
-export interface TridiagonalizeOptions {
-  /** Use the WebAssembly SIMD kernel when available (default true; false forces the scalar loop). */
-  simd?: boolean;
+interface Layout {
+  a: number;
+  ut: number;
+  qt: number;
+  ut2: number;
+  p: number;
+  coef: number;
+  dots: number;
 }
 
-/** Below this order the scalar loop is as fast as the SIMD kernel. */
-const SIMD_MIN_ORDER = 32;
-/** Below this many vectors, copying the reflectors into the kernel's memory costs more than it saves. */
-const SIMD_MIN_VECTORS = 16;
-
-interface Workspace {
-  a: Float64Array;
-  pu: Float64Array;
-  pq: Float64Array;
-  cu: Float64Array;
-  p: Float64Array;
-}
-
-function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): HouseholderReduction {
-  const { a, pu, pq, cu, p } = ws;
+function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: Layout): Omit<HouseholderReduction, 'reflectors'> {
   const d = new Float64Array(n);
   const e = new Float64Array(n);
   const h = new Float64Array(n);
-  // Pending rank-2 update B ← B − pu qᵀ − pq uᵀ on the leading (pendingSize)×(pendingSize) block.
-  let pendingSize = 0;
-  const puB = pu.byteOffset;
-  const pqB = pq.byteOffset;
-  const cuB = cu.byteOffset;
-  const pB = p.byteOffset;
+  const { ut, qt, ut2, p, coef, dots } = lay;
+  let c = 0; // reflectors in the current panel
   for (let i = n - 1; i >= 0; i--) {
-    const row = i * n;
-    // 1. Bring row i up to date (columns 0..i) with the pending update of step i+1.
-    if (pendingSize > 0) {
-      const ui = pu[i];
-      const qi = pq[i];
-      for (let j = 0; j < i; j++) a[row + j] -= ui * pq[j] + qi * pu[j];
-      a[row + i] -= 2 * ui * qi;
+    const row = (i * (i + 1)) / 2;
+    // 1. Row i with the panel's pending updates: A[i, j] −= Σ_k (u_k[i] q_k[j] + q_k[i] u_k[j]), j ≤ i.
+    if (c > 0) {
+      for (let t = 0; t < c; t++) {
+        m[coef + t] = m[ut + t * n + i];
+        m[coef + nb + t] = m[qt + t * n + i];
+      }
+      k.subtractRows(row, qt, n, coef, c, i + 1);
+      k.subtractRows(row, ut, n, coef + nb, c, i + 1);
     }
-    d[i] = a[row + i];
+    d[i] = m[row + i];
     if (i === 0) break;
     // 2. Householder vector for x = A[i, 0..i−1], mapping x to α e_{i−1}.
     let scale = 0;
-    for (let j = 0; j < i; j++) scale = max(scale, abs(a[row + j]));
+    for (let j = 0; j < i; j++) scale = max(scale, abs(m[row + j]));
     let hi = 0;
     if (i === 1 || scale === 0) {
-      e[i] = a[row + i - 1];
+      e[i] = m[row + i - 1];
     } else {
       let ss = 0;
       for (let j = 0; j < i; j++) {
-        const t = a[row + j] / scale;
+        const t = m[row + j] / scale;
         ss += t * t;
       }
       const sigma = scale * sqrt(ss);
-      const last = a[row + i - 1];
+      const last = m[row + i - 1];
       const alpha = last >= 0 ? -sigma : sigma;
       hi = sigma * sigma - alpha * last;
-      a[row + i - 1] = last - alpha;
+      m[row + i - 1] = last - alpha;
       e[i] = alpha;
     }
     h[i] = hi;
-    // 3. Fused sweep over rows 0..i−1: finish the pending update and form p = B u.
-    const fuse = hi !== 0;
-    if (fuse) {
-      p.fill(0, 0, i);
-      for (let j = 0; j < i; j++) cu[j] = a[row + j];
-    }
-    if (fuse && pendingSize > 0 && kernel !== null) {
-      kernel.sweep(0, 8 * n, puB, pqB, cuB, pB, i);
-    } else for (let r = 0; r < i; r++) {
-      const rr = r * n;
-      const vr = cu[r];
-      if (pendingSize > 0) {
-        const ur = pu[r];
-        const qr = pq[r];
-        if (fuse && kernel !== null) {
-          const s = kernel.fused(8 * rr, puB, pqB, cuB, pB, r, ur, qr, vr);
-          const diag = a[rr + r] - 2 * ur * qr;
-          a[rr + r] = diag;
-          p[r] += s + diag * vr;
-        } else if (fuse) {
-          // Two accumulators break the add-latency chain; this loop is the O(n³) hot spot.
-          let s0 = 0;
-          let s1 = 0;
-          let j = 0;
-          for (; j + 1 < r; j += 2) {
-            const v0 = a[rr + j] - (ur * pq[j] + qr * pu[j]);
-            const v1 = a[rr + j + 1] - (ur * pq[j + 1] + qr * pu[j + 1]);
-            a[rr + j] = v0;
-            a[rr + j + 1] = v1;
-            s0 += v0 * cu[j];
-            s1 += v1 * cu[j + 1];
-            p[j] += v0 * vr;
-            p[j + 1] += v1 * vr;
-          }
-          if (j < r) {
-            const v0 = a[rr + j] - (ur * pq[j] + qr * pu[j]);
-            a[rr + j] = v0;
-            s0 += v0 * cu[j];
-            p[j] += v0 * vr;
-          }
-          const diag = a[rr + r] - 2 * ur * qr;
-          a[rr + r] = diag;
-          p[r] += s0 + s1 + diag * vr;
-        } else {
-          for (let j = 0; j < r; j++) a[rr + j] -= ur * pq[j] + qr * pu[j];
-          a[rr + r] -= 2 * ur * qr;
-        }
-      } else if (fuse) {
-        let s = 0;
-        for (let j = 0; j < r; j++) {
-          const v = a[rr + j];
-          s += v * cu[j];
-          p[j] += v * vr;
-        }
-        p[r] += s + a[rr + r] * vr;
+    if (hi !== 0) {
+      // 3. p = (B_stored u − Σ_k u_k (q_kᵀu) − Σ_k q_k (u_kᵀu)) / h over the leading i entries.
+      k.symv(0, i, row, p);
+      if (c > 0) {
+        k.dots(dots, qt, n, c, row, i);
+        k.dots(dots + nb, ut, n, c, row, i);
+        k.subtractRows(p, ut, n, dots, c, i);
+        k.subtractRows(p, qt, n, dots + nb, c, i);
       }
-    }
-    // 4. The new pending update: q = p/h − K u with K = uᵀp / (2h²).
-    if (fuse) {
       let up = 0;
       for (let j = 0; j < i; j++) {
-        p[j] /= hi;
-        up += a[row + j] * p[j];
+        m[p + j] /= hi;
+        up += m[row + j] * m[p + j];
       }
-      const k = up / (2 * hi);
+      const kk = up / (2 * hi);
+      const uo = ut + c * n;
+      const qo = qt + c * n;
+      const u2 = ut2 + c * n;
       for (let j = 0; j < i; j++) {
-        pu[j] = a[row + j];
-        pq[j] = p[j] - k * pu[j];
+        const u = m[row + j];
+        m[uo + j] = u;
+        m[u2 + j] = u;
+        m[qo + j] = m[p + j] - kk * u;
       }
-      pendingSize = i;
-    } else {
-      pendingSize = 0;
+      c++;
+    }
+    // 4. End of a panel: one rank-2k update of the rows still to come (0..i−1). A last, partial
+    //    panel needs none: step 1 brings each remaining row up to date.
+    if (c === nb) {
+      k.syr2k(0, i, ut, qt, n, 2 * c); // [Uᵀ; Qᵀ] against [Qᵀ; Uᵀ]
+      c = 0;
     }
   }
-  return { n, diagonal: d, subdiagonal: e, reflectors: a, h };
+  return { n, diagonal: d, subdiagonal: e, h };
 }
 
 /**
@@ -219,45 +178,24 @@ function reduceRows(ws: Workspace, n: number, kernel: SimdKernel | null): Househ
  * rows of `v` (row k at offset k·n), in place: v_k ← Q v_k. Turns eigenvectors of T into
  * eigenvectors of A (Golub & Van Loan 4th ed., §5.1.6, applying a factored Q).
  */
-export function applyReflectors(red: HouseholderReduction, v: Float64Array, count: number): void {
+export function applyReflectors(red: HouseholderReduction, v: Float64Array, count: number, options: { simd?: boolean } = {}): void {
   const { n, reflectors: a, h } = red;
+  if (n === 0 || count === 0) return;
   // Blocks of vectors small enough to stay in cache while every reflector streams past once.
-  const block = max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * max(1, n))));
-  const kernel = count >= SIMD_MIN_VECTORS && n >= SIMD_MIN_ORDER ? simdKernel() : null;
-  if (kernel !== null) {
-    // Reflectors and vectors side by side in the kernel's memory; reflect(u, v, len, h) per pair.
-    const nn = n * n;
-    const buf = simdMemory(kernel, 8 * (nn + count * n));
-    const rw = new Float64Array(buf, 0, nn);
-    const vw = new Float64Array(buf, 8 * nn, count * n);
-    rw.set(a.subarray(0, nn));
-    vw.set(v.subarray(0, count * n));
-    for (let k0 = 0; k0 < count; k0 += block) {
-      const k1 = Math.min(count, k0 + block);
-      for (let i = 2; i < n; i++) {
-        if (h[i] === 0) continue;
-        for (let k = k0; k < k1; k++) kernel.reflect(8 * i * n, 8 * (nn + k * n), i, h[i]);
-      }
-    }
-    v.set(vw);
-    return;
-  }
+  const block = max(1, Math.floor(VECTOR_BLOCK_BYTES / (8 * n)));
+  const nn = n * n;
+  const space = eigenSpace(nn + count * n, n, options.simd !== false);
+  const m = space.m;
+  m.set(a.subarray(0, nn));
+  m.set(v.subarray(0, count * n), nn);
   for (let k0 = 0; k0 < count; k0 += block) {
-    const k1 = Math.min(count, k0 + block);
+    const k1 = min(count, k0 + block);
     for (let i = 2; i < n; i++) {
-      const hi = h[i];
-      if (hi === 0) continue;
-      const row = i * n;
-      for (let k = k0; k < k1; k++) {
-        const off = k * n;
-        let s = 0;
-        for (let j = 0; j < i; j++) s += a[row + j] * v[off + j];
-        const f = s / hi;
-        if (f === 0) continue;
-        for (let j = 0; j < i; j++) v[off + j] -= f * a[row + j];
-      }
+      if (h[i] === 0) continue;
+      for (let k = k0; k < k1; k++) space.kernels.reflect(i * n, nn + k * n, i, h[i]);
     }
   }
+  v.set(m.subarray(nn, nn + count * n));
 }
 
 /** Working-set size for {@link applyReflectors}' vector blocks (about half an L2 cache). */

@@ -19,6 +19,7 @@ import { dot } from '../objective';
 import type { IterationControl, LinearOperator, StopReason } from './operator';
 import { normalizeInPlace, reportProgress, stopRequested, subtractScaled } from './operator';
 import { tridiagonalEigen, tridiagonalQL } from './tridiagonal';
+import { KrylovBasis } from './krylov-basis';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
@@ -27,8 +28,10 @@ const { abs, max, sqrt } = Math;
 /** The growing Krylov basis and tridiagonal coefficients of one Lanczos run. */
 export interface KrylovState {
   readonly n: number;
-  /** Orthonormal basis q_0 … q_{m−1}; one more (q_m) is kept when the run can continue. */
+  /** Orthonormal basis q_0 … q_{m−1}; one more (q_m) is kept when the run can continue (= `store.vectors`). */
   readonly basis: Float64Array[];
+  /** Where the basis lives and how a vector is orthogonalized against it (blocked, SIMD where available). */
+  readonly store: KrylovBasis;
   /** T's diagonal α_0 … α_{m−1}. */
   readonly alpha: number[];
   /** T's off-diagonal: beta[j] couples j and j+1 (0 at a restart). */
@@ -43,24 +46,13 @@ export interface KrylovState {
 
 const BREAKDOWN = 1e-12;
 
-/** Orthogonalizes `w` twice against every vector of `basis` (CGS2); returns the first-pass coefficients' sum at `index`. */
-function reorthogonalize(w: Float64Array, basis: readonly Float64Array[], index: number): number {
-  let correction = 0;
-  for (let pass = 0; pass < 2; pass++) {
-    const h = basis.map((q) => dot(q, w));
-    basis.forEach((q, i) => subtractScaled(w, h[i], q));
-    if (pass === 0 && index >= 0) correction = h[index];
-  }
-  return correction;
-}
-
-/** A fresh seeded unit vector orthogonal to `basis`, or null when the basis spans the space. */
-function freshDirection(n: number, basis: readonly Float64Array[], rng: Rng): Float64Array | null {
-  if (basis.length >= n) return null;
+/** A fresh seeded unit vector orthogonal to the basis, or null when the basis spans the space. */
+function freshDirection(n: number, store: KrylovBasis, rng: Rng): Float64Array | null {
+  if (store.vectors.length >= n) return null;
   for (let attempt = 0; attempt < 3; attempt++) {
     const v = rng.fillNormal(new Float64Array(n));
     const before = normalizeInPlace(v);
-    reorthogonalize(v, basis, -1);
+    store.orthogonalize(v, -1);
     const after = normalizeInPlace(v);
     if (before > 0 && after > 1e-8) return v;
   }
@@ -70,13 +62,16 @@ function freshDirection(n: number, basis: readonly Float64Array[], rng: Rng): Fl
 /**
  * Starts a Lanczos run from a seeded standard-normal unit vector (or `start`, normalized).
  * @param n - order of the operator.
+ * @param steps - steps the run will probably take (sizes the basis memory; it grows beyond when needed).
  */
-export function startKrylov(n: number, rng: Rng, start?: Float64Array): KrylovState {
+export function startKrylov(n: number, rng: Rng, start?: Float64Array, steps = 64): KrylovState {
   if (!Number.isInteger(n) || n <= 0) throw new RangeError(`operator order must be a positive integer, got ${n}`);
   const q = start !== undefined ? Float64Array.from(start) : rng.fillNormal(new Float64Array(n));
   if (q.length !== n) throw new RangeError(`start vector has ${q.length} entries, expected ${n}`);
   if (normalizeInPlace(q) === 0) throw new RangeError('start vector must be non-zero');
-  return { n, basis: [q], alpha: [], beta: [], products: 0, exhausted: false, restarts: [] };
+  const store = new KrylovBasis(n, Math.min(n, steps) + 1);
+  store.push(q);
+  return { n, basis: store.vectors, store, alpha: [], beta: [], products: 0, exhausted: false, restarts: [] };
 }
 
 /**
@@ -86,7 +81,7 @@ export function startKrylov(n: number, rng: Rng, start?: Float64Array): KrylovSt
  */
 export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, restart: boolean): void {
   if (state.exhausted) return;
-  const { n, basis, alpha, beta } = state;
+  const { n, basis, alpha, beta, store } = state;
   const j = alpha.length;
   const q = basis[j];
   const w = new Float64Array(n);
@@ -98,7 +93,7 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
   }
   subtractScaled(w, a, q);
   if (j > 0) subtractScaled(w, beta[j - 1], basis[j - 1]);
-  a += reorthogonalize(w, basis, j);
+  a += store.orthogonalize(w, j);
   alpha.push(a);
   let scale = 0;
   for (const x of alpha) scale = max(scale, abs(x));
@@ -107,17 +102,17 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
   if (b > BREAKDOWN * max(scale, b) && basis.length < n) {
     for (let i = 0; i < n; i++) w[i] /= b;
     beta.push(b);
-    basis.push(w);
+    store.push(w);
     return;
   }
-  const fresh = restart ? freshDirection(n, basis, rng) : null;
+  const fresh = restart ? freshDirection(n, store, rng) : null;
   if (fresh === null) {
     state.exhausted = true;
     beta.push(0);
     return;
   }
   beta.push(0);
-  basis.push(fresh);
+  store.push(fresh);
   state.restarts.push(alpha.length);
 }
 
@@ -210,7 +205,7 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
   const maxIterations = Math.min(n, options.maxIterations ?? 300);
   const minIterations = Math.min(maxIterations, options.minIterations ?? k + 10);
   if (!Number.isInteger(maxIterations) || maxIterations < 1) throw new RangeError(`maxIterations must be a positive integer, got ${options.maxIterations}`);
-  const state = startKrylov(n, rng, options.start);
+  const state = startKrylov(n, rng, options.start, maxIterations);
   let stop: StopReason = 'max-iterations';
   let snap: RitzSnapshot = { values: new Float64Array(0), last: new Float64Array(0) };
   let scale = 0;

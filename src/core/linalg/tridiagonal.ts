@@ -8,7 +8,7 @@
  * bisection, inverse iteration); Wilkinson, *The Algebraic Eigenvalue Problem*, 1965, ch. 5.
  */
 import type { Tridiagonal } from './householder';
-import { simdKernel, simdMemory } from './simd';
+import { eigenSpace, type EigenKernels } from './eigen-kernels';
 import { sin } from '../elementary';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
@@ -46,19 +46,22 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
     throw new RangeError(`QL basis needs ${n * cols} entries for ${n} rows of ${cols}, got ${vectors.length}`);
   }
   const d = Float64Array.from(t.diagonal);
-  // Long rows rotate in the SIMD kernel's memory (`rot`, two doubles per instruction).
-  const kernel = vectors !== null && cols >= 32 ? simdKernel() : null;
+  // Long rows rotate in the eigen kernels' space: a sweep's rotations are recorded in rc/rs and
+  // applied in one call (rotSweep); short ones (a Lanczos residual's single column) row by row.
+  let kernels: EigenKernels | null = null;
   let z = vectors;
-  // With the kernel, a sweep's rotations are recorded in rc/rs and applied in one call (rotSweep).
-  let rc = new Float64Array(0);
-  let rs = rc;
-  if (kernel !== null && vectors !== null) {
-    const buf = simdMemory(kernel, 8 * (n * cols + 2 * n));
-    z = new Float64Array(buf, 0, n * cols);
-    rc = new Float64Array(buf, 8 * n * cols, n);
-    rs = new Float64Array(buf, 8 * (n * cols + n), n);
+  const zOff = 0;
+  let cOff = 0;
+  let sOff = 0;
+  if (vectors !== null && cols >= 32) {
+    const space = eigenSpace(n * cols + 2 * n, cols);
+    kernels = space.kernels;
+    z = space.m;
+    cOff = n * cols;
+    sOff = n * cols + n;
     z.set(vectors.subarray(0, n * cols));
   }
+  const rcs = z;
   // Internal layout: e[i] couples i and i+1.
   const e = new Float64Array(n);
   for (let i = 0; i + 1 < n; i++) e[i] = t.subdiagonal[i + 1];
@@ -101,20 +104,20 @@ export function tridiagonalQL(t: Tridiagonal, vectors: Float64Array | null = nul
         p = s * r;
         d[i + 1] = g + p;
         g = c * r - b;
-        if (kernel !== null) {
-          rc[i] = c;
-          rs[i] = s;
+        if (kernels !== null && rcs !== null) {
+          rcs[cOff + i] = c;
+          rcs[sOff + i] = s;
         } else if (z !== null) rotateRows(z, cols, i, c, s);
       }
       // Rotations m−1 … i+1 were formed (i+1 = l after a full sweep, or just above a deflation).
-      if (kernel !== null && i + 1 <= m - 1) kernel.rotSweep(0, 8 * cols, cols, rc.byteOffset, rs.byteOffset, i + 1, m - 1);
+      if (kernels !== null && i + 1 <= m - 1) kernels.rotSweep(zOff, cols, cols, cOff, sOff, i + 1, m - 1);
       if (deflated) continue;
       d[l] -= p;
       e[l] = g;
       e[m] = 0;
     }
   }
-  if (kernel !== null && vectors !== null && z !== null) vectors.set(z);
+  if (kernels !== null && vectors !== null && z !== null) vectors.set(z.subarray(0, n * cols));
   sortAscending(d, vectors, n, cols);
   return d;
 }

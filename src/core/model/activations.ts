@@ -18,7 +18,7 @@ export interface Activation {
   readonly identity: boolean;
   /** True when f″ ≡ 0 everywhere it is defined (piecewise-linear units). */
   readonly piecewiseLinear: boolean;
-  eval(a: Float64Array, f: Float64Array, d1: Float64Array, d2: Float64Array | null, n: number): void;
+  evaluate(a: Float64Array, f: Float64Array, d1: Float64Array, d2: Float64Array | null, n: number): void;
 }
 
 /** Negative-side slope of `leaky-relu` (PyTorch's default negative_slope). */
@@ -34,7 +34,7 @@ export const logistic: (x: number) => number = sigmoidFn;
 
 const linear: Activation = {
   name: 'linear', identity: true, piecewiseLinear: true,
-  eval(a, f, d1, d2, n) {
+  evaluate(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) { f[i] = a[i]; d1[i] = 1; }
     if (d2) d2.fill(0, 0, n);
   },
@@ -43,7 +43,7 @@ const linear: Activation = {
 const tanh: Activation = {
   // f = tanh a, f′ = 1 − f², f″ = −2 f f′
   name: 'tanh', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
+  evaluate(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
       const t = tanhFn(a[i]);
       const g = 1 - t * t;
@@ -56,7 +56,7 @@ const tanh: Activation = {
 const sigmoid: Activation = {
   // f = σ(a), f′ = σ(1 − σ), f″ = f′ (1 − 2σ)
   name: 'sigmoid', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
+  evaluate(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
       const s = logistic(a[i]);
       const g = s * (1 - s);
@@ -69,7 +69,7 @@ const sigmoid: Activation = {
 const relu: Activation = {
   // f = max(0, a); f′(0) = 0 as in PyTorch; f″ = 0
   name: 'relu', identity: false, piecewiseLinear: true,
-  eval(a, f, d1, d2, n) {
+  evaluate(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
       const x = a[i];
       if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = 0; d1[i] = 0; }
@@ -82,7 +82,7 @@ const relu: Activation = {
 function leakyRelu(k: number): Activation {
   return {
     name: 'leaky-relu', identity: false, piecewiseLinear: true,
-    eval(a, f, d1, d2, n) {
+    evaluate(a, f, d1, d2, n) {
       for (let i = 0; i < n; i++) {
         const x = a[i];
         if (x > 0) { f[i] = x; d1[i] = 1; } else { f[i] = k * x; d1[i] = k; }
@@ -99,7 +99,7 @@ function leakyRelu(k: number): Activation {
 function softplus(beta: number, threshold: number): Activation {
   return {
     name: 'softplus', identity: false, piecewiseLinear: false,
-    eval(a, f, d1, d2, n) {
+    evaluate(a, f, d1, d2, n) {
       for (let i = 0; i < n; i++) {
         const x = a[i];
         const z = beta * x;
@@ -117,7 +117,7 @@ function softplus(beta: number, threshold: number): Activation {
 function elu(alpha: number): Activation {
   return {
     name: 'elu', identity: false, piecewiseLinear: false,
-    eval(a, f, d1, d2, n) {
+    evaluate(a, f, d1, d2, n) {
       for (let i = 0; i < n; i++) {
         const x = a[i];
         if (x > 0) { f[i] = x; d1[i] = 1; if (d2) d2[i] = 0; } else {
@@ -132,7 +132,7 @@ function elu(alpha: number): Activation {
 const gelu: Activation = {
   // Exact (erf) form, PyTorch's default: f = a Φ(a), f′ = Φ + a φ, f″ = φ (2 − a²)
   name: 'gelu', identity: false, piecewiseLinear: false,
-  eval(a, f, d1, d2, n) {
+  evaluate(a, f, d1, d2, n) {
     for (let i = 0; i < n; i++) {
       const x = a[i];
       const cdf = 0.5 * (1 + erf(x * INV_SQRT2));

@@ -22,13 +22,10 @@ import type { DataSetup, LossName, NetworkModel } from '../setup';
 import type { Objective, ParamBlock, Rows } from '../objective';
 import { activation, type Activation } from './activations';
 import { lossFunction, type Loss } from './losses';
+import { matrixKernels, type LayerShape, type MatrixKernels } from './kernels';
 
-interface LayerPlan {
-  fanIn: number;
-  units: number;
+interface LayerPlan extends LayerShape {
   act: Activation;
-  wOff: number;
-  bOff: number;
 }
 
 /** Per-layer buffers, each `maxRows × units`. */
@@ -44,6 +41,15 @@ interface LayerWork {
   rda: Float64Array;
   rdh: Float64Array;
 }
+
+const LAYER_BUFFERS = ['a', 'h', 'd1', 'd2', 'da', 'dh', 'ra', 'rh', 'rda', 'rdh'] as const;
+
+/**
+ * What the workspaces still hold from the last forward pass: `hessian` — a forward pass with
+ * f″ and the first-order backward (δh, δa) of `hvp`; `forward` — only the forward pass with f′
+ * (after `gnvp`, which overwrites δh). Anything else ran a forward pass since: `none`.
+ */
+type Kept = 'none' | 'forward' | 'hessian';
 
 /** Builds the parameter layout of a dense network with the given widths. */
 export function networkBlocks(inputs: number, units: readonly number[]): ParamBlock[] {
@@ -67,6 +73,11 @@ export interface NetworkOptions {
    * audit user-defined pieces and, in tests, to inject a deliberately wrong derivative.
    */
   activationOf?: (layer: number) => Activation | undefined;
+  /**
+   * Use the WebAssembly SIMD kernels where the engine has them (default true). Both paths give
+   * the same bits; false forces the plain-JavaScript loops (tests, benchmarks).
+   */
+  simd?: boolean;
 }
 
 /** A dense feed-forward network with a loss over an in-memory data set. */
@@ -76,24 +87,36 @@ export class Network implements Objective {
   readonly rowCount: number;
   readonly inputs: number;
   readonly outputs: number;
+  /** Which matrix kernels evaluate this network: `simd` (WebAssembly) or `scalar` (plain JavaScript); same bits. */
+  readonly kernelKind: 'simd' | 'scalar';
   private readonly plan: LayerPlan[];
   private readonly work: LayerWork[];
   private readonly loss: Loss;
   private readonly l2: number;
+  private readonly k: MatrixKernels;
   private readonly x: Float64Array;
   private readonly y: Float64Array;
   private readonly yWidth: number;
   private readonly xBatch: Float64Array;
   private readonly yBatch: Float64Array;
+  /** Weights, direction and product as the kernels read and write them (views of their memory for SIMD). */
+  private readonly wk: Float64Array;
+  private readonly vk: Float64Array;
+  private readonly gk: Float64Array;
   private xin: Float64Array;
   private yin: Float64Array;
+  /** The weights and rows of the last forward pass, and what of it the workspaces still hold. */
+  private kept: Kept = 'none';
+  private readonly keptW: Float64Array;
+  private keptRows: Int32Array | null = null;
+  private keptAll = false;
 
   /**
    * @param model network shape and activations (initial weights are not used here)
    * @param data rows the objective averages over
    * @param loss loss name (conventions in `losses.ts`)
    * @param l2 coefficient λ of ½·λ·Σ‖W‖² over weight matrices (biases excluded)
-   * @param options optional activation overrides
+   * @param options optional activation overrides, `simd: false` for the plain-JavaScript kernels
    */
   constructor(model: NetworkModel, data: DataSetup, loss: LossName, l2: number, options: NetworkOptions = {}) {
     if (data.inputs !== model.inputs) throw new Error(`data has ${data.inputs} input columns but model.inputs is ${model.inputs}`);
@@ -106,87 +129,130 @@ export class Network implements Objective {
       bOff: this.blocks[2 * l + 1].offset,
     }));
     const last = this.blocks[this.blocks.length - 1];
-    this.parameterCount = last.offset + last.size;
+    const P = last.offset + last.size;
+    this.parameterCount = P;
     this.inputs = model.inputs;
     this.outputs = model.layers[model.layers.length - 1].units;
     this.loss = lossFunction(loss);
     this.l2 = l2;
-    this.x = data.x;
-    this.y = data.y;
     this.rowCount = data.rows;
     this.yWidth = this.loss.targetWidth(this.outputs);
     if (data.targets !== this.yWidth) throw new Error(`loss ${loss} needs ${this.yWidth} target column(s) per row, data has ${data.targets}`);
     const n = data.rows;
-    this.work = this.plan.map((p) => {
-      const m = n * p.units;
-      return {
-        a: new Float64Array(m), h: new Float64Array(m), d1: new Float64Array(m), d2: new Float64Array(m),
-        da: new Float64Array(m), dh: new Float64Array(m), ra: new Float64Array(m), rh: new Float64Array(m),
-        rda: new Float64Array(m), rdh: new Float64Array(m),
-      };
+    // One allocation for every array the kernels touch: the data, a batch, P-vectors, workspaces.
+    const lengths = [n * this.inputs, n * this.inputs, P, P, P, ...this.plan.flatMap((p) => LAYER_BUFFERS.map(() => n * p.units))];
+    const widest = Math.max(this.inputs, ...this.plan.map((p) => p.units));
+    const space = matrixKernels(lengths, widest, options.simd !== false);
+    this.k = space.kernels;
+    this.kernelKind = space.kernels.kind;
+    const [x, xBatch, wk, vk, gk, ...layerArrays] = space.arrays;
+    x.set(data.x.subarray(0, n * this.inputs));
+    this.x = x;
+    this.xBatch = xBatch;
+    this.wk = wk;
+    this.vk = vk;
+    this.gk = gk;
+    this.work = this.plan.map((_, l) => {
+      const own = layerArrays.slice(l * LAYER_BUFFERS.length, (l + 1) * LAYER_BUFFERS.length);
+      const [a, h, d1, d2, da, dh, ra, rh, rda, rdh] = own;
+      return { a, h, d1, d2, da, dh, ra, rh, rda, rdh };
     });
-    this.xBatch = new Float64Array(n * this.inputs);
+    this.y = data.y;
     this.yBatch = new Float64Array(n * this.yWidth);
+    this.keptW = new Float64Array(P);
     this.xin = this.x;
     this.yin = this.y;
   }
 
   value(w: Float64Array, rows?: Rows): number {
     const n = this.select(rows);
-    this.forward(w, n, false);
+    this.forward(this.weights(w), n, false);
     return this.loss.value(this.work[this.plan.length - 1].h, this.yin, n, this.outputs) + this.penalty(w);
   }
 
   gradient(w: Float64Array, out: Float64Array, rows?: Rows): number {
     const n = this.select(rows);
-    this.forward(w, n, false);
+    const wk = this.weights(w);
+    this.forward(wk, n, false);
     const top = this.work[this.plan.length - 1];
     const f = this.loss.gradient(top.h, this.yin, n, this.outputs, top.dh);
-    out.fill(0);
-    this.backward(w, n, out);
+    const g = this.product(out);
+    g.fill(0);
+    this.backward(wk, n, g);
+    if (g !== out) out.set(g);
     return f + this.addPenaltyGradient(w, w, out);
   }
 
+  /**
+   * Exact H·v by the R-operator. At the weights and rows of the previous `hvp` (with no other
+   * evaluation in between) the forward pass and the first-order backward are kept, so a run
+   * of products at fixed weights (Lanczos, a dense Hessian) pays for them once.
+   */
   hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
-    const n = this.select(rows);
     const L = this.plan.length;
-    this.forward(w, n, true);
-    this.rForward(w, v, n);
+    const keep = this.kept === 'hessian' && this.sameInputs(w, rows);
+    const n = keep ? this.keptCount(rows) : this.select(rows);
+    const wk = this.weights(w);
+    if (!keep) {
+      this.forward(wk, n, true);
+      const top = this.work[L - 1];
+      this.loss.gradient(top.h, this.yin, n, this.outputs, top.dh);
+      for (let l = L - 1; l >= 0; l--) {
+        const p = this.plan[l];
+        const { dh, d1, da } = this.work[l];
+        const m = n * p.units;
+        for (let i = 0; i < m; i++) da[i] = dh[i] * d1[i];
+        if (l > 0) this.k.backprop(wk, p, da, n, this.work[l - 1].dh, false);
+      }
+      this.keep('hessian', w, rows);
+    }
+    const vk = this.direction(v);
+    this.rForward(wk, vk, n);
     const top = this.work[L - 1];
-    this.loss.gradient(top.h, this.yin, n, this.outputs, top.dh);
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.rdh);
-    out.fill(0);
+    const g = this.product(out);
+    g.fill(0);
     for (let l = L - 1; l >= 0; l--) {
       const p = this.plan[l];
-      const wk = this.work[l];
+      const { dh, rdh, d1, d2, ra, da, rda } = this.work[l];
       const m = n * p.units;
-      const { dh, rdh, d1, d2, ra, da, rda } = wk;
-      for (let i = 0; i < m; i++) {
-        da[i] = dh[i] * d1[i];
-        rda[i] = rdh[i] * d1[i] + dh[i] * d2[i] * ra[i];
-      }
+      for (let i = 0; i < m; i++) rda[i] = rdh[i] * d1[i] + dh[i] * d2[i] * ra[i];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      accumulateOuter(out, p, rda, inp, n, true);
+      this.k.outer(g, p, rda, inp, n, true);
       if (l > 0) {
         const below = this.work[l - 1];
-        accumulateOuter(out, p, da, below.rh, n, false);
-        backprop(w, p, da, n, below.dh, false);
-        backprop(v, p, da, n, below.rdh, false);
-        backprop(w, p, rda, n, below.rdh, true);
+        this.k.outer(g, p, da, below.rh, n, false);
+        this.k.backprop(vk, p, da, n, below.rdh, false);
+        this.k.backprop(wk, p, rda, n, below.rdh, true);
       }
     }
+    if (g !== out) out.set(g);
     this.addPenaltyGradient(w, v, out);
   }
 
   gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
-    const n = this.select(rows);
-    this.forward(w, n, false);
-    this.rForward(w, v, n);
+    const keep = this.kept !== 'none' && this.sameInputs(w, rows);
+    const n = keep ? this.keptCount(rows) : this.select(rows);
+    const wk = this.weights(w);
+    if (!keep) this.forward(wk, n, false);
+    // The reverse pass below overwrites δh: only the forward pass stays usable.
+    this.keep('forward', w, rows);
+    this.rForward(wk, this.direction(v), n);
     const top = this.work[this.plan.length - 1];
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.dh);
-    out.fill(0);
-    this.backward(w, n, out);
+    const g = this.product(out);
+    g.fill(0);
+    this.backward(wk, n, g);
+    if (g !== out) out.set(g);
     this.addPenaltyGradient(w, v, out);
+  }
+
+  /**
+   * Drops the kept forward pass, so the next Hessian or Gauss-Newton product starts afresh
+   * (what a product from scratch costs: benchmarks time it this way).
+   */
+  forgetPass(): void {
+    this.kept = 'none';
   }
 
   /**
@@ -195,19 +261,67 @@ export class Network implements Objective {
    */
   inspectLayers(w: Float64Array, rows: Rows, visit: (layer: number, pre: Float64Array, post: Float64Array, n: number) => void): void {
     const n = this.select(rows);
-    this.forward(w, n, false);
+    this.forward(this.weights(w), n, false);
     this.plan.forEach((p, l) => visit(l, this.work[l].a.subarray(0, n * p.units), this.work[l].h.subarray(0, n * p.units), n));
   }
 
   /** Network outputs ŷ for the given rows (a fresh `n × outputs` array). */
   predict(w: Float64Array, rows?: Rows): Float64Array {
     const n = this.select(rows);
-    this.forward(w, n, false);
+    this.forward(this.weights(w), n, false);
     return this.work[this.plan.length - 1].h.slice(0, n * this.outputs);
+  }
+
+  /** `w` where the kernels can read it: a copy in their memory for the SIMD kernels. */
+  private weights(w: Float64Array): Float64Array {
+    if (this.kernelKind === 'scalar') return w;
+    this.wk.set(w);
+    return this.wk;
+  }
+
+  private direction(v: Float64Array): Float64Array {
+    if (this.kernelKind === 'scalar') return v;
+    this.vk.set(v);
+    return this.vk;
+  }
+
+  /** Where the kernels accumulate a P-vector result before it is copied to `out`. */
+  private product(out: Float64Array): Float64Array {
+    return this.kernelKind === 'scalar' ? out : this.gk;
+  }
+
+  /** Records that the workspaces hold `what` for weights `w` on `rows`. */
+  private keep(what: Kept, w: Float64Array, rows: Rows): void {
+    if (this.kept === what && what !== 'none') return;
+    this.kept = what;
+    this.keptW.set(w);
+    this.keptAll = rows === undefined;
+    this.keptRows = rows === undefined ? null : Int32Array.from(rows);
+  }
+
+  /** True when `w` and `rows` are those of the kept pass: equal bits (±0 told apart), equal row lists. */
+  private sameInputs(w: Float64Array, rows: Rows): boolean {
+    if (rows === undefined ? !this.keptAll : this.keptRows === null || this.keptRows.length !== rows.length) return false;
+    if (rows !== undefined && this.keptRows !== null) {
+      for (let i = 0; i < rows.length; i++) if (rows[i] !== this.keptRows[i]) return false;
+    }
+    const k = this.keptW;
+    for (let i = 0; i < w.length; i++) {
+      const a = w[i];
+      const b = k[i];
+      if (a !== b || (a === 0 && 1 / a !== 1 / b)) return false;
+    }
+    return true;
+  }
+
+  private keptCount(rows: Rows): number {
+    return rows === undefined ? this.rowCount : rows.length;
   }
 
   /** Points `xin`/`yin` at the full data or gathers the selected rows; returns the row count. */
   private select(rows: Rows): number {
+    // Gathering rows overwrites the batch buffer a kept pass may read, even when it then throws.
+    this.kept = 'none';
     if (rows === undefined) {
       this.xin = this.x;
       this.yin = this.y;
@@ -229,12 +343,13 @@ export class Network implements Objective {
   }
 
   private forward(w: Float64Array, n: number, withSecond: boolean): void {
+    this.kept = 'none';
     for (let l = 0; l < this.plan.length; l++) {
       const p = this.plan[l];
       const wk = this.work[l];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      dense(w, p, inp, n, wk.a, true, false);
-      p.act.eval(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, n * p.units);
+      this.k.dense(w, p, inp, n, wk.a, true, false);
+      p.act.evaluate(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, n * p.units);
     }
   }
 
@@ -244,8 +359,8 @@ export class Network implements Objective {
       const p = this.plan[l];
       const wk = this.work[l];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      dense(v, p, inp, n, wk.ra, true, false);
-      if (l > 0) dense(w, p, this.work[l - 1].rh, n, wk.ra, false, true);
+      this.k.dense(v, p, inp, n, wk.ra, true, false);
+      if (l > 0) this.k.dense(w, p, this.work[l - 1].rh, n, wk.ra, false, true);
       const m = n * p.units;
       for (let i = 0; i < m; i++) wk.rh[i] = wk.d1[i] * wk.ra[i];
     }
@@ -260,8 +375,8 @@ export class Network implements Objective {
       let da = wk.da;
       if (p.act.identity) da = wk.dh;
       else for (let i = 0; i < m; i++) da[i] = wk.dh[i] * wk.d1[i];
-      accumulateOuter(g, p, da, l === 0 ? this.xin : this.work[l - 1].h, n, true);
-      if (l > 0) backprop(w, p, da, n, this.work[l - 1].dh, false);
+      this.k.outer(g, p, da, l === 0 ? this.xin : this.work[l - 1].h, n, true);
+      if (l > 0) this.k.backprop(w, p, da, n, this.work[l - 1].dh, false);
     }
   }
 
@@ -283,124 +398,5 @@ export class Network implements Objective {
       for (let i = p.wOff; i < end; i++) out[i] += this.l2 * u[i];
     }
     return u === w ? this.penalty(w) : 0;
-  }
-}
-
-/**
- * dst[r, o] (=|+=) Σ_i M[o, i]·inp[r, i] (+ bias[o]) with M the layer's weight block of `src`.
- * Blocked two rows × four outputs (register blocking); each sum still runs over i in
- * order, so the result does not depend on the blocking.
- */
-function dense(src: Float64Array, p: LayerPlan, inp: Float64Array, n: number, dst: Float64Array, withBias: boolean, accumulate: boolean): void {
-  const { fanIn, units, wOff, bOff } = p;
-  const o4 = units - (units % 4);
-  const n2 = n - (n % 2);
-  let r = 0;
-  // Two rows × four outputs: eight independent sums, each input and weight loaded once per block.
-  for (; r < n2; r += 2) {
-    const ia = r * fanIn, ib = ia + fanIn;
-    const oa = r * units, ob = oa + units;
-    let o = 0;
-    for (; o < o4; o += 4) {
-      const w0 = wOff + o * fanIn, w1 = w0 + fanIn, w2 = w1 + fanIn, w3 = w2 + fanIn;
-      let a0 = 0, a1 = 0, a2 = 0, a3 = 0;
-      if (withBias) { a0 = src[bOff + o]; a1 = src[bOff + o + 1]; a2 = src[bOff + o + 2]; a3 = src[bOff + o + 3]; }
-      let b0 = a0, b1 = a1, b2 = a2, b3 = a3;
-      for (let i = 0; i < fanIn; i++) {
-        const x = inp[ia + i], y = inp[ib + i];
-        const v0 = src[w0 + i], v1 = src[w1 + i], v2 = src[w2 + i], v3 = src[w3 + i];
-        a0 += v0 * x; a1 += v1 * x; a2 += v2 * x; a3 += v3 * x;
-        b0 += v0 * y; b1 += v1 * y; b2 += v2 * y; b3 += v3 * y;
-      }
-      if (accumulate) {
-        dst[oa + o] += a0; dst[oa + o + 1] += a1; dst[oa + o + 2] += a2; dst[oa + o + 3] += a3;
-        dst[ob + o] += b0; dst[ob + o + 1] += b1; dst[ob + o + 2] += b2; dst[ob + o + 3] += b3;
-      } else {
-        dst[oa + o] = a0; dst[oa + o + 1] = a1; dst[oa + o + 2] = a2; dst[oa + o + 3] = a3;
-        dst[ob + o] = b0; dst[ob + o + 1] = b1; dst[ob + o + 2] = b2; dst[ob + o + 3] = b3;
-      }
-    }
-    for (; o < units; o++) {
-      const wr = wOff + o * fanIn;
-      let a = withBias ? src[bOff + o] : 0;
-      let b = a;
-      for (let i = 0; i < fanIn; i++) { const v = src[wr + i]; a += v * inp[ia + i]; b += v * inp[ib + i]; }
-      dst[oa + o] = accumulate ? dst[oa + o] + a : a;
-      dst[ob + o] = accumulate ? dst[ob + o] + b : b;
-    }
-  }
-  for (; r < n; r++) {
-    const ir = r * fanIn;
-    const orow = r * units;
-    for (let o = 0; o < units; o++) {
-      const wr = wOff + o * fanIn;
-      let s = withBias ? src[bOff + o] : 0;
-      for (let i = 0; i < fanIn; i++) s += src[wr + i] * inp[ir + i];
-      dst[orow + o] = accumulate ? dst[orow + o] + s : s;
-    }
-  }
-}
-
-/**
- * g_W[o, i] += Σ_r d[r, o]·inp[r, i], and g_b[o] += Σ_r d[r, o] when `withBias`.
- * Blocked over four rows r so each gradient entry is loaded and stored once per block; the
- * four terms are added in r order.
- */
-function accumulateOuter(g: Float64Array, p: LayerPlan, d: Float64Array, inp: Float64Array, n: number, withBias: boolean): void {
-  const { fanIn, units, wOff, bOff } = p;
-  const n4 = n - (n % 4);
-  let r = 0;
-  for (; r < n4; r += 4) {
-    const i0 = r * fanIn, i1 = i0 + fanIn, i2 = i1 + fanIn, i3 = i2 + fanIn;
-    const d0 = r * units, d1 = d0 + units, d2 = d1 + units, d3 = d2 + units;
-    for (let o = 0; o < units; o++) {
-      const c0 = d[d0 + o], c1 = d[d1 + o], c2 = d[d2 + o], c3 = d[d3 + o];
-      if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0) continue;
-      if (withBias) g[bOff + o] = (((g[bOff + o] + c0) + c1) + c2) + c3;
-      const wr = wOff + o * fanIn;
-      for (let i = 0; i < fanIn; i++) {
-        g[wr + i] = (((g[wr + i] + c0 * inp[i0 + i]) + c1 * inp[i1 + i]) + c2 * inp[i2 + i]) + c3 * inp[i3 + i];
-      }
-    }
-  }
-  for (; r < n; r++) {
-    const ir = r * fanIn;
-    const drow = r * units;
-    for (let o = 0; o < units; o++) {
-      const c = d[drow + o];
-      if (c === 0) continue;
-      if (withBias) g[bOff + o] += c;
-      const wr = wOff + o * fanIn;
-      for (let i = 0; i < fanIn; i++) g[wr + i] += c * inp[ir + i];
-    }
-  }
-}
-
-/**
- * dst[r, i] (=|+=) Σ_o M[o, i]·d[r, o] — the transpose product with `src`'s weight block.
- * Blocked over four outputs o, added in o order, so each dst entry is loaded once per block.
- */
-function backprop(src: Float64Array, p: LayerPlan, d: Float64Array, n: number, dst: Float64Array, accumulate: boolean): void {
-  const { fanIn, units, wOff } = p;
-  if (!accumulate) dst.fill(0, 0, n * fanIn);
-  const o4 = units - (units % 4);
-  for (let r = 0; r < n; r++) {
-    const ir = r * fanIn;
-    const drow = r * units;
-    let o = 0;
-    for (; o < o4; o += 4) {
-      const c0 = d[drow + o], c1 = d[drow + o + 1], c2 = d[drow + o + 2], c3 = d[drow + o + 3];
-      if (c0 === 0 && c1 === 0 && c2 === 0 && c3 === 0) continue;
-      const w0 = wOff + o * fanIn, w1 = w0 + fanIn, w2 = w1 + fanIn, w3 = w2 + fanIn;
-      for (let i = 0; i < fanIn; i++) {
-        dst[ir + i] = (((dst[ir + i] + c0 * src[w0 + i]) + c1 * src[w1 + i]) + c2 * src[w2 + i]) + c3 * src[w3 + i];
-      }
-    }
-    for (; o < units; o++) {
-      const c = d[drow + o];
-      if (c === 0) continue;
-      const wr = wOff + o * fanIn;
-      for (let i = 0; i < fanIn; i++) dst[ir + i] += c * src[wr + i];
-    }
   }
 }

@@ -12,8 +12,8 @@ export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapsho
 export type { GroveTask } from './task';
 export { boundTrajectory, strideSelection, DEFAULT_TRAJECTORY_BOUND } from './trajectory';
 export type { TrajectoryBound } from './trajectory';
-export type { ReplayReport } from './replay';
-export { relativeDifference, sameRecord } from './replay';
+export type { ReplayDifference, ReplayReport } from './replay';
+export { COMPARED_FIELDS, recordDifference, relativeDifference, sameRecord } from './replay';
 export { adaptSessionState, adaptOptimizerState, effectiveBatch } from './adapt';
 export { compareBranches, examplesAt, firstCrossing, lossVerdict, matchedSteps, SAME_LOSS } from './compare';
 export type { BatchSegment, BranchComparison, CompareInput, CompareOptions, Crossing, LossVerdict, MatchedCell, MatchedStep, MatchReason, SharpnessSample } from './compare';

@@ -20,6 +20,8 @@ export interface PlainCase {
 /** What an engine returns for one case: `states[k]` and `records[k]` after k updates (k = 0 is the start). */
 export interface CaseTrace {
   name: string;
+  /** The network's matrix kernels in this engine: `simd` (WebAssembly) or `scalar`; `none` for analytic objectives. */
+  kernels: string;
   states: string[];
   records: string[];
 }
@@ -57,7 +59,8 @@ export function replayCases(json: string): string {
       states.push(session.fingerprint());
       records.push(recordPrint(rec));
     }
-    return { name: c.name, states, records };
+    const kernels = (session.objective as { kernelKind?: string }).kernelKind ?? 'none';
+    return { name: c.name, kernels, states, records };
   });
   return JSON.stringify(out);
 }

@@ -187,6 +187,21 @@ data:
     expect(r.err).toMatch(/the loss is already (NaN|Infinity) at step 0/);
   });
 
+  it('inspect refuses a non-finite starting point with a message instead of a crash', async () => {
+    const huge = file('huge-gain-inspect.yaml', 'seed: 1\nmodel: { inputs: 2, gain: 1e200, layers: [{ units: 4, activation: tanh }, { units: 1 }] }\ndata: { x: [[1, 2], [0.5, -1]], y: [[1], [0]] }\n');
+    const r = await cli('inspect', huge, '--top', '2');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/the loss is already (Infinity|NaN) at the initial weights/);
+  });
+
+  it('says when a line search stalls instead of going on silently', async () => {
+    const net = file('stall.yaml', 'seed: 1\nmodel: { inputs: 2, layers: [{ units: 4, activation: tanh }, { units: 1 }] }\ndata: { x: [[1, 2], [0.5, -1], [2, 0.1]], y: [[1], [0], [0.5]] }\nrecipe: { optimizer: lbfgs, lr: 1e300 }\n');
+    const r = await cli('run', net, '--steps', '4');
+    expect(r.out).toMatch(/no progress from step 1 to 4: every update was zero although the gradient was not — the line search found no lower loss/);
+    const j = JSON.parse((await cli('run', net, '--steps', '4', '--json')).out);
+    expect(j.stalled).toEqual({ from: 1, to: 4, updates: 4 });
+  });
+
   it('prints the spec warnings on standard error', async () => {
     const w = file('warn.yaml', 'seed: 1\nmodel: { objective: rosenbrock }\nrecipe: { optimizer: sgd, lr: 0.001, batch: 4 }\n');
     const r = await cli('run', w, '--steps', '1', '--json');
@@ -199,6 +214,24 @@ data:
     const r = await cli('run', q, '--steps', '150000', '--json');
     expect(r.code).toBe(0);
     expect(JSON.parse(r.out).trajectory).toHaveLength(150_001);
+  });
+});
+
+describe('size limits', () => {
+  const wide = file('wide.yaml', 'model: { inputs: 2, layers: [{ units: 3000000 }, { units: 1 }] }\ndata: { x: [[1, 2]], y: [[1]] }\n');
+
+  it('refuses an absurd layer before allocating it, naming the limit and how to raise it', async () => {
+    const r = await cli('run', wide, '--steps', '1', '--json');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/wide\.yaml:1:\d+: the network would have 12 000 001 parameters \(model\.layers\[0\]\.units is 3 000 000\), above the limit of 2 000 000 \(limit maxParameters\)/);
+  });
+
+  it('takes --limit NAME=VALUE and refuses unknown limits', async () => {
+    const tight = await cli('run', spec, '--steps', '1', '--json', '--limit', 'maxParameters=5');
+    expect(tight.err).toMatch(/above the limit of 5 \(limit maxParameters\)/);
+    const bad = await cli('run', spec, '--steps', '1', '--limit', 'speed=9');
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--limit: expected NAME=VALUE with NAME one of maxSpecChars, maxParameters/);
   });
 });
 

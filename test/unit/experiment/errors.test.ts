@@ -4,7 +4,7 @@
  * from the fixtures (1-based lines and columns).
  */
 import { rowRanges } from '../../../src/experiment/checks';
-import { formatSpecError, parseSpec } from '../../../src/experiment';
+import { DEFAULT_SPEC_LIMITS, formatSpecError, MAX_PROBLEMS, parseLimits, parseSpec } from '../../../src/experiment';
 import type { SpecError } from '../../../src/experiment';
 
 function errors(text: string, format?: 'auto' | 'yaml' | 'json'): SpecError[] {
@@ -78,7 +78,7 @@ describe('parseSpec: cross-field errors', () => {
     ['class index not an integer', NET('loss: cross-entropy\n', '[[0.5], [1]]', '{ inputs: 2, layers: [{ units: 3 }] }'), 'data.y[0][0]', 'data.y[0][0] must be a class index (an integer from 0 to 2), got 0.5', 4],
     ['cross-entropy with one unit', NET('loss: cross-entropy\n', '[0, 0]'), 'model.layers[1].units', 'cross-entropy needs at least 2 units in the last layer (one logit per class), got 1; use binary-cross-entropy for two classes with one unit', 1],
     ['binary targets outside [0, 1]', NET('loss: binary-cross-entropy\n', '[1, 2]'), 'data.y[1]', 'data.y[1] must be in [0, 1] for binary-cross-entropy, got 2', 4],
-    ['no data for a network', 'model: { inputs: 1, layers: [{ units: 1 }] }\n', 'model', 'data is required for a network model: give data.x and data.y', 1],
+    ['no data for a network', 'model: { inputs: 1, layers: [{ units: 1 }] }\n', 'data', 'data is required for a network model: give data.x and data.y, or data.file', 1],
     ['empty data rows', NET().replace('x: [[0, 1], [1, 0]]', 'x: []').replace('[0.5, -0.5]', '[]'), 'data.x', 'data.x must have at least 1 entry, got an empty list', 3],
     ['batch above rows', NET('recipe: { batch: 5 }\n'), 'recipe.batch', 'recipe.batch is 5, but the data has only 2 rows', 5],
     ['recipe.layers length', NET('recipe: { layers: [{ lrScale: 1 }] }\n'), 'recipe.layers', 'recipe.layers has 1 entries, but model.layers has 2; give one { lrScale } per layer', 5],
@@ -226,5 +226,72 @@ describe('rows that share one problem', () => {
   it('shortens scattered rows to a few ranges and a count', () => {
     expect(rowRanges([0, 1, 2, 5, 7, 8, 10, 12, 13, 14, 20])).toBe('0–2, 5, 7–8, 10 and 4 more') // 12, 13, 14 and 20 are left;
     expect(rowRanges([4])).toBe('4');
+  });
+});
+
+describe('hostile sizes and shapes', () => {
+  it('reports at most MAX_PROBLEMS problems and counts the rest', () => {
+    const keys = Array.from({ length: 20_000 }, (_, i) => `  k${i}: 1`).join('\n');
+    const list = errors(`model: { inputs: 1, layers: [{ units: 1 }] }\ndata: { x: [[1]], y: [[1]] }\nrecipe:\n${keys}\n`);
+    expect(list).toHaveLength(MAX_PROBLEMS + 1);
+    expect(list[0]).toMatchObject({ path: 'recipe.k0', line: 4, col: 3 });
+    expect(list[MAX_PROBLEMS].message).toBe(`… and ${20_000 - MAX_PROBLEMS} more problems after these (fix the first ones; many share one cause)`);
+  });
+
+  it.each([
+    ['a 10 000-deep flow list', `model: ${'['.repeat(10_000)}${']'.repeat(10_000)}`, 1],
+    ['a 100 000-deep JSON value', `{"model": ${'['.repeat(100_000)}${']'.repeat(100_000)}}`, 1],
+    ['a 200-deep block mapping', Array.from({ length: 200 }, (_, i) => `${' '.repeat(i)}k${i}:`).join('\n') + ' 1', 65]
+  ])('refuses %s with one message at its line, before parsing', (_name, text, line) => {
+    const list = errors(text);
+    expect(list).toHaveLength(1);
+    expect(list[0].message).toMatch(/nests .* more than 64 levels deep/);
+    expect(list[0].line).toBe(line);
+  });
+
+  it('still finds duplicate keys (now in linear time) with their position', () => {
+    const list = errors('seed: 1\nseed: 2\nmodel: { objective: rosenbrock }\n');
+    expect(list).toHaveLength(1);
+    expect(list[0]).toMatchObject({ line: 2, col: 1 });
+    expect(list[0].message).toMatch(/'seed' appears more than once/);
+  });
+});
+
+describe('size limits, checked before allocation', () => {
+  const net = (units: number, rows = 1) => `model: { inputs: 2, layers: [{ units: ${units} }, { units: 1 }] }\ndata: { x: [${Array.from({ length: rows }, () => '[1, 2]').join(', ')}], y: [${Array.from({ length: rows }, () => '[1]').join(', ')}] }\n`;
+
+  it('names the layer, the parameter count and the limit for an absurd layer', () => {
+    const list = errors(net(1e9));
+    expect(list).toHaveLength(1);
+    expect(list[0]).toMatchObject({ path: 'model.layers[0].units', line: 1 });
+    // (2 + 1)·1e9 + (1e9 + 1)·1 parameters
+    expect(list[0].message).toBe('the network would have 4 000 000 001 parameters (model.layers[0].units is 1 000 000 000), above the limit of 2 000 000 (limit maxParameters)');
+  });
+
+  it('applies the limits it is given', () => {
+    const tight = { ...DEFAULT_SPEC_LIMITS, maxParameters: 10, maxRows: 3, maxActivations: 1000, maxSpecChars: 10_000 };
+    const r = parseSpec(net(3), 'auto', { limits: tight }); // (2 + 1)·3 + (3 + 1)·1 = 13 parameters
+    expect(r.ok ? '' : r.errors[0].message).toMatch(/13 parameters .* above the limit of 10/);
+    const rows = parseSpec(net(2, 4), 'auto', { limits: tight });
+    expect(rows.ok ? '' : rows.errors[0].message).toBe('data.x has 4 rows, above the limit of 3 (limit maxRows)');
+    const acts = parseSpec(net(2, 400), 'auto', { limits: { ...tight, maxRows: 1000 } }); // 400 rows × 3 units
+    expect(acts.ok ? '' : acts.errors[0].message).toMatch(/^400 rows through layers of 3 units in all need 1 200 activations/);
+    const long = parseSpec(net(2, 2) + '#'.repeat(20_000), 'auto', { limits: tight });
+    expect(long.ok ? '' : long.errors[0].message).toMatch(/^the spec is 20 \d{3} characters long, above the limit of 10 000/);
+    expect(parseSpec(net(2), 'auto', { limits: tight }).ok).toBe(true);
+  });
+
+  it('refuses Newton methods above their dense limit at parse time, not at the first step', () => {
+    const list = errors('model: { inputs: 10, layers: [{ units: 200 }, { units: 1 }] }\ndata: { x: [[1,2,3,4,5,6,7,8,9,10]], y: [[1]] }\nrecipe: { optimizer: gauss-newton }\n');
+    // (10 + 1)·200 + (200 + 1)·1 = 2 401 parameters
+    expect(list).toHaveLength(1);
+    expect(list[0]).toMatchObject({ path: 'recipe.optimizer', line: 3 });
+    expect(list[0].message).toMatch(/dense 2 401 × 2 401 curvature matrix; it allows at most 2 000 parameters/);
+  });
+
+  it('reads limit overrides and refuses bad ones', () => {
+    expect(parseLimits(['maxParameters=5', 'maxRows=7'])).toEqual({ ok: true, limits: { ...DEFAULT_SPEC_LIMITS, maxParameters: 5, maxRows: 7 } });
+    const bad = parseLimits(['maxParameters=0', 'speed=3', 'maxRows=1e3']);
+    expect(bad.ok ? [] : bad.errors).toHaveLength(3);
   });
 });

@@ -334,7 +334,7 @@ describe('overfitting', () => {
 describe('gradient-mismatch', () => {
   const tanhOk = activation('tanh');
   // A tanh whose derivative is written as 1 − f instead of 1 − f² (a user's slip).
-  const broken: Activation = { ...tanhOk, eval(a, f, d1, d2, n) { tanhOk.eval(a, f, d1, d2, n); for (let i = 0; i < n; i++) d1[i] = 1 - f[i]; } };
+  const broken: Activation = { ...tanhOk, evaluate(a, f, d1, d2, n) { tanhOk.evaluate(a, f, d1, d2, n); for (let i = 0; i < n; i++) d1[i] = 1 - f[i]; } };
 
   it('fires as a problem in the layers the wrong derivative corrupts', () => {
     const { net, w } = tinyNet('tanh', 'mse', 3, 0, { activationOf: (l) => (l === 1 ? broken : undefined) });

@@ -9,8 +9,8 @@ import { tinyNet } from '../model/fixtures';
 const tanhOk = activation('tanh');
 const brokenTanh: Activation = {
   ...tanhOk,
-  eval(a, f, d1, d2, n) {
-    tanhOk.eval(a, f, d1, d2, n);
+  evaluate(a, f, d1, d2, n) {
+    tanhOk.evaluate(a, f, d1, d2, n);
     for (let i = 0; i < n; i++) d1[i] = 1 - f[i];
   },
 };

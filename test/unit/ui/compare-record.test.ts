@@ -2,9 +2,9 @@
  * The comparison figures, their text alternative and the decision record as pure functions of
  * the worker's comparison (hand-made traces here: these test layout and wording, not numerics).
  */
-import { branchLabel, comparisonFigure, comparisonText, drawnFrom, sharpnessOverlayFigure } from '../../../src/ui/compare-figure';
+import { branchLabel, comparisonFigure, comparisonText, drawnFrom, sharpnessOverlayFigure } from '../../../src/figures/compare';
 import { decisionRecord, recordMeta, RECORD_IMAGE } from '../../../src/ui/decision-record';
-import { stepAxis, IMAGE_THEME, type FigureTheme } from '../../../src/ui/trace-figure';
+import { stepAxis, IMAGE_THEME, type FigureTheme } from '../../../src/figures/trace';
 import { limitFormula } from '../../../src/ui/curvature-figure';
 import type { BranchComparison, BranchTrace } from '../../../src/worker/protocol';
 

@@ -7,7 +7,7 @@ import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol'
 import { TEMPLATE_SPEC } from '../../../src/experiment';
 import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
 import { mergeSharpness } from '../../../src/ui/view-state';
-import type { FigureTheme } from '../../../src/ui/trace-figure';
+import type { FigureTheme } from '../../../src/figures/trace';
 
 const theme: FigureTheme = { foreground: '#111', grid: '#ccc', background: '#fff', train: '#00f', heldOut: '#f80', alert: '#f00', font: 'sans', series: ['#00f', '#f80', '#0a0'] };
 

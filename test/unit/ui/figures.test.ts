@@ -1,8 +1,8 @@
 /**
  * Pure figure and text builders of the cell widget, tested without a browser.
  */
-import { chooseScale, decimate, traceFigure, traceText } from '../../../src/ui/trace-figure';
-import type { FigureTheme } from '../../../src/ui/trace-figure';
+import { chooseScale, decimate, traceFigure, traceText } from '../../../src/figures/trace';
+import type { FigureTheme } from '../../../src/figures/trace';
 import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
 import type { StepRecord } from '../../../src/core/state';

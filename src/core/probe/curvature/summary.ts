@@ -4,7 +4,6 @@
  * rate with its margin, from either the dense spectrum (small P) or Lanczos + SLQ + Hutchinson.
  */
 import type { Objective, Rows } from '../../objective';
-import type { Rng } from '../../rng';
 import type { Recipe } from '../../setup';
 import type { IterationControl, StopReason } from '../../linalg/operator';
 import type { LanczosResult } from '../../linalg/lanczos';
@@ -15,6 +14,8 @@ import type { CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
 import type { DenseSpectrum } from './dense';
 import { DENSE_LIMIT, denseSpectrum } from './dense';
+import { densityTraceTask, type DensityTraceRunner, type DensityTraceTask } from './parts';
+import { Rng } from '../../rng';
 import type { StabilityBound, StepMetric } from './stability';
 import { stabilityBound, stabilityFactor } from './stability';
 
@@ -232,6 +233,8 @@ export const CANCELLED = 'curvature measurement was cancelled before any eigenva
 export interface CurvatureReport {
   readonly spectrum: CurvatureSpectrum;
   readonly summary: CurvatureSummary;
+  /** Threads that computed it (2 when a runner computed the density and trace in another thread). */
+  readonly threads?: number;
 }
 
 /**
@@ -247,28 +250,67 @@ export interface CurvatureReport {
  * @param rng - seeded generator; sub-streams `lanczos`, `density`, `trace`, `step-metric` are forked from it.
  */
 export function measureCurvature(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): CurvatureReport {
+  const plan = planParts(objective, w, rng, options);
+  if (plan.dense) return finish(objective, w, recipe, rng, options, denseSpectrumFacts(objective, w, options));
+  const l = lanczosPart(objective, w, rng, options);
+  const densityOptions = plan.task.density === null ? null : { ...plan.task.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
+  const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind }).apply, objective.parameterCount, Rng.fromState(plan.task.densityRng), densityOptions);
+  const skipTrace = plan.task.traceProbes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
+  const trace = skipTrace ? null : hutchinsonTrace(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind }).apply, objective.parameterCount, Rng.fromState(plan.task.traceRng), { probes: plan.task.traceProbes, onProgress: options.onProgress, shouldStop: options.shouldStop });
+  return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+}
+
+/**
+ * {@link measureCurvature} with the density and the trace handed to `run` (another thread, on
+ * its own copy of the objective) before Lanczos starts here, so the two run at the same time.
+ * Same numbers as the one-thread version (same generator forks, same code); without progress
+ * reports from the offloaded part.
+ */
+export async function measureCurvatureWith(run: DensityTraceRunner, objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): Promise<CurvatureReport> {
+  const plan = planParts(objective, w, rng, options);
+  if (plan.dense || (plan.task.density === null && plan.task.traceProbes === 0)) return measureCurvature(objective, w, recipe, rng, options);
+  const pending = run(plan.task);
+  const l = lanczosPart(objective, w, rng, options);
+  const parts = await pending;
+  const density = l.stop === 'cancelled' ? null : parts.density;
+  const trace = l.stop === 'cancelled' ? null : parts.trace;
+  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+  return parts.elsewhere === true ? { ...report, threads: 2 } : report;
+}
+
+function planParts(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): { dense: boolean; task: DensityTraceTask } {
   const p = objective.parameterCount;
-  const kind = options.kind ?? 'hessian';
   const denseLimit = options.denseLimit ?? DENSE_LIMIT;
   const method = options.method ?? 'auto';
-  const useDense = method === 'dense' || (method === 'auto' && p <= denseLimit);
-  const k = options.k ?? 5;
-  let spectrum: CurvatureSpectrum;
-  if (useDense) {
-    const d = denseSpectrum(objective, w, options.rows, kind, { limit: denseLimit, onProgress: options.onProgress, shouldStop: options.shouldStop });
-    if (d.stop === 'cancelled') throw new Error(CANCELLED);
-    spectrum = spectrumFromDense(d, kind, k, options.cutoff);
-  } else {
-    const op = curvatureOperator(objective, w, { rows: options.rows, kind });
-    const l = lanczosExtremes(op.apply, p, rng.fork('lanczos'), { k, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
-    if (l.largest.length === 0) throw new Error(CANCELLED);
-    const densityOptions = options.density === false ? null : { probes: 4, steps: 40, negativeCutoff: options.cutoff, ...options.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
-    const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(op.apply, p, rng.fork('density'), densityOptions);
-    const probes = options.traceProbes ?? 32;
-    const skipTrace = probes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
-    const trace = skipTrace ? null : hutchinsonTrace(op.apply, p, rng.fork('trace'), { probes, onProgress: options.onProgress, shouldStop: options.shouldStop });
-    spectrum = spectrumFromLanczos(p, kind, l, density, trace);
-  }
+  const dense = method === 'dense' || (method === 'auto' && p <= denseLimit);
+  const density = options.density === false ? null : { probes: 4, steps: 40, negativeCutoff: options.cutoff, ...withoutCallbacks(options.density ?? {}) };
+  const task = densityTraceTask(w, options.rows, options.kind ?? 'hessian', rng, density, options.traceProbes ?? 32);
+  return { dense, task };
+}
+
+function withoutCallbacks(d: DensityOptions): Omit<DensityOptions, 'onProgress' | 'shouldStop'> {
+  const { onProgress: _p, shouldStop: _s, ...rest } = d;
+  return rest;
+}
+
+function denseSpectrumFacts(objective: Objective, w: Float64Array, options: MeasureOptions): CurvatureSpectrum {
+  const kind = options.kind ?? 'hessian';
+  const d = denseSpectrum(objective, w, options.rows, kind, { limit: options.denseLimit ?? DENSE_LIMIT, onProgress: options.onProgress, shouldStop: options.shouldStop });
+  if (d.stop === 'cancelled') throw new Error(CANCELLED);
+  return spectrumFromDense(d, kind, options.k ?? 5, options.cutoff);
+}
+
+function lanczosPart(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): LanczosResult {
+  const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian' });
+  const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+  if (l.largest.length === 0) throw new Error(CANCELLED);
+  return l;
+}
+
+/** The step metric's sharpness (when the metric is not the plain Hessian) and the summary. */
+function finish(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, spectrum: CurvatureSpectrum): CurvatureReport {
+  const p = objective.parameterCount;
+  const kind = options.kind ?? 'hessian';
   let stepSharpness: SummaryOptions['stepSharpness'];
   const metric = options.metric;
   if (metric !== undefined && (metric.scaling !== null || metric.shift !== 0)) {

@@ -1,13 +1,44 @@
 /**
  * The comparison figures as plain data: the loss traces of several branches overlaid by step or
  * by examples drawn, and their sharpness traces against each branch's stability limit. Pure
- * functions of the worker's {@link BranchTrace}s (nothing recomputed), rendered by `plot.ts` in
- * the cell and turned into an image for the decision record. Each figure has a text alternative.
+ * functions of {@link BranchSeries}s (nothing recomputed), rendered by plotly in the cell, turned
+ * into an image for the decision record and into SVG (`svg.ts`) for saved outputs and reports.
+ * Each figure has a text alternative.
  */
-import type { BranchTrace } from '../worker/protocol';
-import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace-figure';
-import { chooseScale, decimate, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from './trace-figure';
-import { fmt } from './summary';
+import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace';
+import { chooseScale, decimate, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from './trace';
+import { fmt } from './format';
+
+/** One sharpness measurement as the figures draw it (the worker's `SharpnessPoint` has this shape). */
+export interface SharpnessSample {
+  step: number;
+  /** The sharpness the recipe's rule uses (λmax, or of the preconditioned matrix). */
+  sharpness: number;
+  /** The largest sharpness the learning rate in effect tolerates, or null when no rule applies. */
+  limit: number | null;
+  /** True when `sharpness` is of a preconditioned matrix. */
+  preconditioned: boolean;
+}
+
+/**
+ * What the comparison figures draw of one branch: the worker's `BranchTrace` in the cell, a
+ * ledger's decoded branch in the command line's report (nothing here recomputes a number).
+ */
+export interface BranchSeries {
+  name: string;
+  parent: string | null;
+  forkStep: number | null;
+  /** The branch's patch as `KEY=VALUE, …` (empty for the root). */
+  patchText: string;
+  restart: boolean;
+  /** Steps of the drawn records, increasing. */
+  steps: number[];
+  /** Examples drawn up to each of `steps` (null without data rows). */
+  examples: number[] | null;
+  /** Training loss at each of `steps`. */
+  loss: number[];
+  sharpness: SharpnessSample[];
+}
 
 /** What the loss overlay puts on its x axis. */
 export type CompareAxis = 'step' | 'examples';
@@ -22,13 +53,13 @@ export function seriesColour(theme: FigureTheme, i: number): string {
  * The part of a trace a figure draws: from the fork step on when its parent is drawn too (their
  * shared steps are drawn once, by the parent), else all of it.
  */
-export function drawnFrom(trace: BranchTrace, drawn: readonly BranchTrace[]): number {
+export function drawnFrom(trace: BranchSeries, drawn: readonly BranchSeries[]): number {
   if (trace.parent === null || trace.forkStep === null || trace.restart) return 0;
   return drawn.some((t) => t.name === trace.parent) ? trace.forkStep : 0;
 }
 
 /** A branch's legend label: its name and, for a fork, what it changed. */
-export function branchLabel(t: BranchTrace): string {
+export function branchLabel(t: BranchSeries): string {
   return t.parent === null ? t.name : `${t.name} (${t.patchText} from ${t.parent}@${t.forkStep})`;
 }
 
@@ -45,7 +76,7 @@ export interface ComparisonOptions {
  * The training-loss traces of `traces` overlaid: by step, or by examples drawn (when every trace
  * has examples). A diamond marks each fork point; a note marks where a loss stops being finite.
  */
-export function comparisonFigure(traces: readonly BranchTrace[], axis: CompareAxis, theme: FigureTheme, options: ComparisonOptions = {}): Figure {
+export function comparisonFigure(traces: readonly BranchSeries[], axis: CompareAxis, theme: FigureTheme, options: ComparisonOptions = {}): Figure {
   const byExamples = axis === 'examples' && traces.every((t) => t.examples !== null);
   const data: LineSeries[] = [];
   const annotations: FigureNote[] = [];
@@ -106,7 +137,7 @@ export function comparisonFigure(traces: readonly BranchTrace[], axis: CompareAx
 }
 
 /** The sharpness of each branch over its steps, each with its stability limit (same colour, dashed). */
-export function sharpnessOverlayFigure(traces: readonly BranchTrace[], theme: FigureTheme): Figure {
+export function sharpnessOverlayFigure(traces: readonly BranchSeries[], theme: FigureTheme): Figure {
   const data: LineSeries[] = [];
   const values: number[] = [];
   traces.forEach((t, i) => {
@@ -156,7 +187,7 @@ export function sharpnessOverlayFigure(traces: readonly BranchTrace[], theme: Fi
  * The text alternative of the loss overlay: one sentence per branch with where its drawn trace
  * ends (numbers as the worker sent them).
  */
-export function comparisonText(traces: readonly BranchTrace[], axis: CompareAxis): string {
+export function comparisonText(traces: readonly BranchSeries[], axis: CompareAxis): string {
   const byExamples = axis === 'examples' && traces.every((t) => t.examples !== null);
   const parts = traces.map((t) => {
     const n = t.steps.length;

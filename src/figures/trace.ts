@@ -1,7 +1,8 @@
 /**
  * The loss-trace figure as plain data: a pure function of the trajectory and the theme
- * colours, rendered by the thin plotly wrapper in `plot.ts`. No DOM, no plotly import, so
- * figures are tested in Node.
+ * colours, rendered by the thin plotly wrapper in `ui/plot.ts` in the cell and by `svg.ts` for
+ * saved outputs and the command line's reports. No DOM, no plotly import, so figures are tested
+ * in Node and the command line can draw them.
  */
 import type { StepRecord } from '../core/state';
 

@@ -1,0 +1,118 @@
+/**
+ * The Lanczos basis in one block of memory, re-orthogonalized by blocked classical
+ * Gram–Schmidt: h = Qᵀw as four dot products per pass over w, then w −= Q h four vectors per
+ * pass (the `dots` and `subtractRows` kernels of `core/wasm/eigen.wat`), instead of one dot
+ * product and one update per basis vector. Where the engine lacks WebAssembly SIMD the vectors
+ * are plain arrays and the loops are JavaScript. A readout: the sums are ordered differently
+ * from one-vector-at-a-time code and agree with it to rounding.
+ */
+import { growTo, wasmInstance } from '../wasm/load';
+
+interface KernelExports {
+  memory: WebAssembly.Memory;
+  subtractRows(dst: number, src: number, stride: number, coef: number, count: number, len: number): void;
+  dots(out: number, src: number, stride: number, count: number, v: number, len: number): void;
+}
+
+/** Doubles before the first vector: the kernels' own bytes, then the coefficient scratch. */
+const HEAD = 32;
+
+/** A growing set of n-vectors that can orthogonalize a vector against all of them. */
+export class KrylovBasis {
+  /** The vectors, in order; views of the store's memory (replaced, not moved, when it grows). */
+  readonly vectors: Float64Array[] = [];
+  private ex: KernelExports | null;
+  private capacity = 0;
+  private readonly scratch: number;
+
+  /**
+   * @param n - vector length.
+   * @param expected - vectors the run will probably hold (memory grows beyond it when needed).
+   * @param simd - false forces plain arrays and JavaScript loops.
+   */
+  constructor(readonly n: number, expected: number, simd = true) {
+    this.ex = simd ? (wasmInstance('eigen') as unknown as KernelExports | null) : null;
+    // [HEAD | coefficients (one per vector) | w scratch | vectors]
+    this.scratch = HEAD + Math.max(16, expected + 8);
+    if (this.ex !== null && !this.reserve(Math.max(1, expected))) this.ex = null;
+  }
+
+  /** Appends a copy of `v` and returns the stored vector. */
+  push(v: Float64Array): Float64Array {
+    if (this.ex !== null && this.vectors.length >= this.capacity && !this.reserve(Math.max(8, 2 * this.capacity))) this.ex = null;
+    if (this.ex === null) {
+      // Without the kernels (or once memory ran out) vectors are plain copies; earlier views stay valid.
+      const copy = Float64Array.from(v);
+      this.vectors.push(copy);
+      return copy;
+    }
+    const at = this.vectorAt(this.vectors.length);
+    const view = new Float64Array(this.ex.memory.buffer, 8 * at, this.n);
+    view.set(v);
+    this.vectors.push(view);
+    return view;
+  }
+
+  /**
+   * w ← w − Q Qᵀ w twice (CGS2: "twice is enough", Giraud, Langou & Rozložník 2005) against every
+   * stored vector; returns the first pass's coefficient of vector `index` (or 0 when index < 0).
+   */
+  orthogonalize(w: Float64Array, index: number): number {
+    const m = this.vectors.length;
+    if (m === 0) return 0;
+    const ex = this.ex;
+    if (ex === null || !this.vectors.every((q) => q.buffer === ex.memory.buffer)) return plainOrthogonalize(w, this.vectors, index);
+    const n = this.n;
+    const buf = new Float64Array(ex.memory.buffer);
+    const coef = HEAD;
+    const wAt = this.scratch;
+    buf.set(w, wAt);
+    const q0 = this.vectorAt(0);
+    let correction = 0;
+    for (let pass = 0; pass < 2; pass++) {
+      ex.dots(8 * coef, 8 * q0, 8 * n, m, 8 * wAt, n);
+      if (pass === 0 && index >= 0) correction = buf[coef + index];
+      ex.subtractRows(8 * wAt, 8 * q0, 8 * n, 8 * coef, m, n);
+    }
+    w.set(buf.subarray(wAt, wAt + n));
+    return correction;
+  }
+
+  private vectorAt(k: number): number {
+    return this.scratch + this.n + k * this.n;
+  }
+
+  /** Room for `count` vectors; re-creates every view when the memory moved. */
+  private reserve(count: number): boolean {
+    const ex = this.ex as KernelExports;
+    if (count > this.scratch - HEAD) return false; // the coefficient scratch is sized for `expected`
+    if (!growTo(ex.memory, 8 * (this.vectorAt(count) + 16))) return false;
+    this.capacity = count;
+    const buffer = ex.memory.buffer;
+    for (let k = 0; k < this.vectors.length; k++) {
+      if (this.vectors[k].buffer !== buffer) this.vectors[k] = new Float64Array(buffer, 8 * this.vectorAt(k), this.n);
+    }
+    return true;
+  }
+}
+
+/** One dot product and one update per vector, in JavaScript (the fallback). */
+function plainOrthogonalize(w: Float64Array, basis: readonly Float64Array[], index: number): number {
+  let correction = 0;
+  const h = new Float64Array(basis.length);
+  for (let pass = 0; pass < 2; pass++) {
+    for (let k = 0; k < basis.length; k++) {
+      const q = basis[k];
+      let s = 0;
+      for (let i = 0; i < w.length; i++) s += q[i] * w[i];
+      h[k] = s;
+    }
+    for (let k = 0; k < basis.length; k++) {
+      const q = basis[k];
+      const c = h[k];
+      for (let i = 0; i < w.length; i++) w[i] -= c * q[i];
+    }
+    if (pass === 0 && index >= 0) correction = h[index];
+  }
+  return correction;
+}

@@ -1,0 +1,66 @@
+/**
+ * The curvature readout's matrix-free parts that do not depend on the Lanczos run — the SLQ
+ * spectral density and Hutchinson's trace — as a task of plain data (weights, rows, generator
+ * states, options) that another thread can run on its own copy of the objective while this one
+ * runs Lanczos. The same function runs it in-process, so both ways give the same numbers.
+ */
+import type { Objective, Rows } from '../../objective';
+import { Rng, type RngState } from '../../rng';
+import type { DensityOptions, SpectralDensity, TraceEstimate } from '../../linalg/density';
+import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
+import type { CurvatureKind } from './operator';
+import { curvatureOperator } from './operator';
+
+/** Density and trace to compute (plain data: it crosses a worker boundary). */
+export interface DensityTraceTask {
+  readonly w: Float64Array;
+  readonly rows: Int32Array | null;
+  readonly kind: CurvatureKind;
+  /** SLQ options without callbacks, or null to skip the density. */
+  readonly density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null;
+  /** Hutchinson probes (0 skips the trace). */
+  readonly traceProbes: number;
+  /** States of the readout generator's `density` and `trace` forks. */
+  readonly densityRng: RngState;
+  readonly traceRng: RngState;
+}
+
+/** What {@link runDensityTrace} returns. */
+export interface DensityTrace {
+  readonly density: SpectralDensity | null;
+  readonly trace: TraceEstimate | null;
+  /** Set by a runner: true when another thread computed it. */
+  readonly elsewhere?: boolean;
+}
+
+/** Runs a task somewhere (another thread) and resolves with its result. */
+export type DensityTraceRunner = (task: DensityTraceTask) => Promise<DensityTrace>;
+
+/** The task for `rng`'s forks and these options (see `measureCurvature` for the defaults). */
+export function densityTraceTask(
+  w: Float64Array,
+  rows: Rows,
+  kind: CurvatureKind,
+  rng: Rng,
+  density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null,
+  traceProbes: number
+): DensityTraceTask {
+  return {
+    w: Float64Array.from(w),
+    rows: rows === undefined ? null : Int32Array.from(rows),
+    kind,
+    density,
+    traceProbes,
+    densityRng: rng.fork('density').state(),
+    traceRng: rng.fork('trace').state(),
+  };
+}
+
+/** SLQ density (Ubaru, Chen & Saad 2017) and Hutchinson trace (Hutchinson 1989) of the task, on `objective`. */
+export function runDensityTrace(objective: Objective, task: DensityTraceTask): DensityTrace {
+  const op = curvatureOperator(objective, task.w, { rows: task.rows ?? undefined, kind: task.kind });
+  const p = objective.parameterCount;
+  const density = task.density === null ? null : spectralDensity(op.apply, p, Rng.fromState(task.densityRng), task.density);
+  const trace = task.traceProbes === 0 ? null : hutchinsonTrace(op.apply, p, Rng.fromState(task.traceRng), { probes: task.traceProbes });
+  return { density, trace };
+}

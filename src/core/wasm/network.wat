@@ -1,0 +1,295 @@
+;; Matrix kernels of the dense network (src/core/model/network.ts) in WebAssembly SIMD.
+;;
+;; Every kernel computes the same sums as the plain-JavaScript loops of
+;; src/core/model/kernels-js.ts, with each output's terms added in the same order and every
+;; product rounded before its addition (f64x2.mul then f64x2.add: no fused multiply-add).
+;; Two neighbouring outputs share one f64x2 register, so vectorizing never reorders a sum and
+;; the results are bit-identical to the scalar path in every engine.
+;;
+;; All pointers are byte addresses into the exported memory. Matrices are row-major. Bytes
+;; 0..63 hold zeros (a zero starting tile) and 64..207 stage a finished tile; callers use
+;; memory from byte 256 on.
+;; Partial tiles at the right and bottom edges read (never write) up to two rows and six
+;; columns past an operand's end: the caller leaves that much slack after every buffer.
+
+(module
+  (memory (export "memory") 1)
+
+  ;; Stores lane 0 (cnt = 1) or both lanes (cnt >= 2) of $v at $p; with $add, adds the stored
+  ;; value first (p + v, the order of the scalar `dst[k] += s`). Nothing when cnt <= 0.
+  (func $put (param $p i32) (param $v v128) (param $cnt i32) (param $add i32)
+    (if (i32.ge_s (local.get $cnt) (i32.const 2))
+      (then
+        (if (local.get $add)
+          (then (local.set $v (f64x2.add (v128.load (local.get $p)) (local.get $v)))))
+        (v128.store (local.get $p) (local.get $v))
+        (return)))
+    (if (i32.eq (local.get $cnt) (i32.const 1))
+      (then
+        (if (local.get $add)
+          (then (local.set $v (f64x2.add (v128.load64_zero (local.get $p)) (local.get $v)))))
+        (v128.store64_lane 0 (local.get $p) (local.get $v)))))
+
+  ;; One register tile of a matrix product: C[t, j] (=|+=) I[t, j] + Σ_k A[t, k]·B[k, j] for
+  ;; t < 3 rows and j < 6 columns, k = 0, 1, … in order, where
+  ;;   A[t, k] = f64 at $a + t·$aRow + k·$aStep   (broadcast to both lanes)
+  ;;   B[k, j] = f64 at $b + k·$bStep + 8·j        (two columns per load)
+  ;;   I[t, j] = f64 at $i + t·$iRow + 8·j         (the starting value of each sum)
+  ;;   C[t, j] = f64 at $c + t·$cRow + 8·j         (only t < $rows, j < $cols are written)
+  ;; Nine accumulators of two lanes each stay in registers for the whole k loop.
+  ;; (Exported so the benchmark can time this very tile on operands in the L1 cache: the
+  ;; engine's attainable rate for this mix of f64x2 loads, multiplies and adds.)
+  (func $tile (export "tile")
+    (param $a i32) (param $aRow i32) (param $aStep i32)
+    (param $b i32) (param $bStep i32) (param $k i32)
+    (param $i i32) (param $iRow i32)
+    (param $c i32) (param $cRow i32) (param $rows i32) (param $cols i32) (param $add i32)
+    (local $a1 i32) (local $a2 i32) (local $i1 i32) (local $i2 i32)
+    (local $b0 v128) (local $b1 v128) (local $b2 v128) (local $s v128)
+    (local $x00 v128) (local $x01 v128) (local $x02 v128)
+    (local $x10 v128) (local $x11 v128) (local $x12 v128)
+    (local $x20 v128) (local $x21 v128) (local $x22 v128)
+    (local.set $a1 (i32.add (local.get $a) (local.get $aRow)))
+    (local.set $a2 (i32.add (local.get $a1) (local.get $aRow)))
+    (local.set $i1 (i32.add (local.get $i) (local.get $iRow)))
+    (local.set $i2 (i32.add (local.get $i1) (local.get $iRow)))
+    (local.set $x00 (v128.load offset=0 (local.get $i)))
+    (local.set $x01 (v128.load offset=16 (local.get $i)))
+    (local.set $x02 (v128.load offset=32 (local.get $i)))
+    (local.set $x10 (v128.load offset=0 (local.get $i1)))
+    (local.set $x11 (v128.load offset=16 (local.get $i1)))
+    (local.set $x12 (v128.load offset=32 (local.get $i1)))
+    (local.set $x20 (v128.load offset=0 (local.get $i2)))
+    (local.set $x21 (v128.load offset=16 (local.get $i2)))
+    (local.set $x22 (v128.load offset=32 (local.get $i2)))
+    (block $done
+      (br_if $done (i32.le_s (local.get $k) (i32.const 0)))
+      (loop $next
+        (local.set $b0 (v128.load offset=0 (local.get $b)))
+        (local.set $b1 (v128.load offset=16 (local.get $b)))
+        (local.set $b2 (v128.load offset=32 (local.get $b)))
+        (local.set $s (v128.load64_splat (local.get $a)))
+        (local.set $x00 (f64x2.add (local.get $x00) (f64x2.mul (local.get $b0) (local.get $s))))
+        (local.set $x01 (f64x2.add (local.get $x01) (f64x2.mul (local.get $b1) (local.get $s))))
+        (local.set $x02 (f64x2.add (local.get $x02) (f64x2.mul (local.get $b2) (local.get $s))))
+        (local.set $s (v128.load64_splat (local.get $a1)))
+        (local.set $x10 (f64x2.add (local.get $x10) (f64x2.mul (local.get $b0) (local.get $s))))
+        (local.set $x11 (f64x2.add (local.get $x11) (f64x2.mul (local.get $b1) (local.get $s))))
+        (local.set $x12 (f64x2.add (local.get $x12) (f64x2.mul (local.get $b2) (local.get $s))))
+        (local.set $s (v128.load64_splat (local.get $a2)))
+        (local.set $x20 (f64x2.add (local.get $x20) (f64x2.mul (local.get $b0) (local.get $s))))
+        (local.set $x21 (f64x2.add (local.get $x21) (f64x2.mul (local.get $b1) (local.get $s))))
+        (local.set $x22 (f64x2.add (local.get $x22) (f64x2.mul (local.get $b2) (local.get $s))))
+        (local.set $a (i32.add (local.get $a) (local.get $aStep)))
+        (local.set $a1 (i32.add (local.get $a1) (local.get $aStep)))
+        (local.set $a2 (i32.add (local.get $a2) (local.get $aStep)))
+        (local.set $b (i32.add (local.get $b) (local.get $bStep)))
+        (br_if $next (local.tee $k (i32.sub (local.get $k) (i32.const 1))))))
+    ;; Spill the tile to the staging area first: values live across a call would be spilled
+    ;; inside the loop by the engine's register allocator (measured: half the speed).
+    (v128.store offset=64 (i32.const 0) (local.get $x00))
+    (v128.store offset=80 (i32.const 0) (local.get $x01))
+    (v128.store offset=96 (i32.const 0) (local.get $x02))
+    (v128.store offset=112 (i32.const 0) (local.get $x10))
+    (v128.store offset=128 (i32.const 0) (local.get $x11))
+    (v128.store offset=144 (i32.const 0) (local.get $x12))
+    (v128.store offset=160 (i32.const 0) (local.get $x20))
+    (v128.store offset=176 (i32.const 0) (local.get $x21))
+    (v128.store offset=192 (i32.const 0) (local.get $x22))
+    (call $flush (local.get $c) (local.get $cRow) (local.get $rows) (local.get $cols) (local.get $add)))
+
+  ;; Writes rows t < $rows, columns j < $cols of the 3×6 tile staged at bytes 64..207 to
+  ;; $c + t·$cRow + 8·j (see $put for $add).
+  (func $flush (param $c i32) (param $cRow i32) (param $rows i32) (param $cols i32) (param $add i32)
+    (local $t i32) (local $s i32)
+    (local.set $s (i32.const 64))
+    (loop $rows_loop
+      (call $put (local.get $c) (v128.load (local.get $s)) (local.get $cols) (local.get $add))
+      (call $put (i32.add (local.get $c) (i32.const 16)) (v128.load offset=16 (local.get $s)) (i32.sub (local.get $cols) (i32.const 2)) (local.get $add))
+      (call $put (i32.add (local.get $c) (i32.const 32)) (v128.load offset=32 (local.get $s)) (i32.sub (local.get $cols) (i32.const 4)) (local.get $add))
+      (local.set $c (i32.add (local.get $c) (local.get $cRow)))
+      (local.set $s (i32.add (local.get $s) (i32.const 48)))
+      (br_if $rows_loop (i32.lt_s (local.tee $t (i32.add (local.get $t) (i32.const 1))) (local.get $rows)))))
+
+  (func $min (param $x i32) (param $y i32) (result i32)
+    (select (local.get $x) (local.get $y) (i32.lt_s (local.get $x) (local.get $y))))
+
+  ;; dst[r, o] (=|+=) (bias[o] or 0) + Σ_i W[o, i]·x[r, i], i in order, for r < n, o < units.
+  ;; W is units×fanIn at $w; bias at $bias is read only when flags bit 0 is set; flags bit 1
+  ;; adds the sum to dst (dst + s). $pack is scratch of (fanIn + 1)·U entries, U = units
+  ;; rounded up to a multiple of 6: Wᵀ in panels of six columns, each panel contiguous —
+  ;; row 0 of a panel the bias (or zeros), row 1 + i column i of W (zeros past units) — so a
+  ;; tile reads its panel sequentially (strided rows of W alias in the cache). Panels are the
+  ;; outer loop: one stays in cache while the rows of x stream past.
+  (func (export "dense")
+    (param $w i32) (param $bias i32) (param $x i32) (param $n i32) (param $fanIn i32) (param $units i32)
+    (param $dst i32) (param $flags i32) (param $pack i32)
+    (local $u i32) (local $o i32) (local $i i32) (local $r i32) (local $q i32) (local $panel i32)
+    (local.set $u (i32.mul (i32.div_u (i32.add (local.get $units) (i32.const 5)) (i32.const 6)) (i32.const 6)))
+    ;; panel (o / 6) starts at $pack + 48·(fanIn + 1)·(o / 6); entry (row, o mod 6)
+    (local.set $o (i32.const 0))
+    (loop $cols
+      (local.set $q (i32.add
+        (i32.add (local.get $pack) (i32.mul (i32.div_u (local.get $o) (i32.const 6)) (i32.mul (i32.const 48) (i32.add (local.get $fanIn) (i32.const 1)))))
+        (i32.shl (i32.rem_u (local.get $o) (i32.const 6)) (i32.const 3))))
+      (f64.store (local.get $q)
+        (if (result f64) (i32.and (i32.and (local.get $flags) (i32.const 1)) (i32.lt_u (local.get $o) (local.get $units)))
+          (then (f64.load (i32.add (local.get $bias) (i32.shl (local.get $o) (i32.const 3)))))
+          (else (f64.const 0))))
+      (local.set $i (i32.const 0))
+      (loop $rows
+        (local.set $q (i32.add (local.get $q) (i32.const 48)))
+        (f64.store (local.get $q)
+          (if (result f64) (i32.lt_u (local.get $o) (local.get $units))
+            (then (f64.load (i32.add (local.get $w) (i32.shl (i32.add (i32.mul (local.get $o) (local.get $fanIn)) (local.get $i)) (i32.const 3)))))
+            (else (f64.const 0))))
+        (br_if $rows (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 1))) (local.get $fanIn))))
+      (br_if $cols (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 1))) (local.get $u))))
+    (local.set $r (i32.const 0))
+    (loop $row_blocks
+      (local.set $o (i32.const 0))
+      (local.set $panel (local.get $pack))
+      (loop $panels
+        (call $tile
+          (i32.add (local.get $x) (i32.shl (i32.mul (local.get $r) (local.get $fanIn)) (i32.const 3)))
+          (i32.shl (local.get $fanIn) (i32.const 3))
+          (i32.const 8)
+          (i32.add (local.get $panel) (i32.const 48))
+          (i32.const 48)
+          (local.get $fanIn)
+          (local.get $panel)
+          (i32.const 0)
+          (i32.add (local.get $dst) (i32.shl (i32.add (i32.mul (local.get $r) (local.get $units)) (local.get $o)) (i32.const 3)))
+          (i32.shl (local.get $units) (i32.const 3))
+          (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 3))
+          (call $min (i32.sub (local.get $units) (local.get $o)) (i32.const 6))
+          (i32.and (local.get $flags) (i32.const 2)))
+        (local.set $panel (i32.add (local.get $panel) (i32.mul (i32.const 48) (i32.add (local.get $fanIn) (i32.const 1)))))
+        (br_if $panels (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 6))) (local.get $units))))
+      (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n)))))
+
+  ;; Copies columns [col, col + width) of the rows×stride matrix at $src (zeros past $cols) into
+  ;; a rows×width panel at $dst, row after row: the panel a tile reads sequentially.
+  (func $panel (param $src i32) (param $rows i32) (param $stride i32) (param $cols i32) (param $col i32) (param $width i32) (param $dst i32)
+    (local $r i32) (local $j i32) (local $p i32)
+    (loop $rows_loop
+      (local.set $p (i32.add (local.get $src) (i32.shl (i32.add (i32.mul (local.get $r) (local.get $stride)) (local.get $col)) (i32.const 3))))
+      (local.set $j (i32.const 0))
+      (loop $cols_loop
+        (f64.store (local.get $dst)
+          (if (result f64) (i32.lt_u (i32.add (local.get $col) (local.get $j)) (local.get $cols))
+            (then (f64.load (i32.add (local.get $p) (i32.shl (local.get $j) (i32.const 3)))))
+            (else (f64.const 0))))
+        (local.set $dst (i32.add (local.get $dst) (i32.const 8)))
+        (br_if $cols_loop (i32.lt_u (local.tee $j (i32.add (local.get $j) (i32.const 1))) (local.get $width))))
+      (br_if $rows_loop (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 1))) (local.get $rows)))))
+
+  ;; g[o, i] += Σ_r d[r, o]·x[r, i], r in order, for o < units, i < fanIn (g units×fanIn,
+  ;; d n×units, x n×fanIn). Rows go in chunks of 128; each chunk's x is packed into panels of
+  ;; six columns and its d into panels of three, so every tile reads two short sequential
+  ;; panels, and each chunk continues the sums the previous one stored. $pack holds
+  ;; 128·(F + O) entries, F = fanIn rounded up to a multiple of 6, O = units up to one of 3.
+  (func (export "outer")
+    (param $g i32) (param $d i32) (param $x i32) (param $n i32) (param $fanIn i32) (param $units i32) (param $pack i32)
+    (local $r i32) (local $kc i32) (local $i i32) (local $o i32) (local $gp i32) (local $dpack i32) (local $f i32)
+    (local.set $f (i32.mul (i32.div_u (i32.add (local.get $fanIn) (i32.const 5)) (i32.const 6)) (i32.const 6)))
+    (local.set $dpack (i32.add (local.get $pack) (i32.shl (i32.mul (i32.const 128) (local.get $f)) (i32.const 3))))
+    (loop $chunks
+      (local.set $kc (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 128)))
+      (local.set $i (i32.const 0))
+      (loop $xpanels
+        (call $panel
+          (i32.add (local.get $x) (i32.shl (i32.mul (local.get $r) (local.get $fanIn)) (i32.const 3)))
+          (local.get $kc) (local.get $fanIn) (local.get $fanIn) (local.get $i) (i32.const 6)
+          (i32.add (local.get $pack) (i32.mul (local.get $i) (i32.shl (local.get $kc) (i32.const 3)))))
+        (br_if $xpanels (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn))))
+      (local.set $o (i32.const 0))
+      (loop $dpanels
+        (call $panel
+          (i32.add (local.get $d) (i32.shl (i32.mul (local.get $r) (local.get $units)) (i32.const 3)))
+          (local.get $kc) (local.get $units) (local.get $units) (local.get $o) (i32.const 3)
+          (i32.add (local.get $dpack) (i32.mul (local.get $o) (i32.shl (local.get $kc) (i32.const 3)))))
+        (br_if $dpanels (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 3))) (local.get $units))))
+      (local.set $i (i32.const 0))
+      (loop $in_cols
+        (local.set $o (i32.const 0))
+        (loop $out_rows
+          (local.set $gp (i32.add (local.get $g) (i32.shl (i32.add (i32.mul (local.get $o) (local.get $fanIn)) (local.get $i)) (i32.const 3))))
+          (call $tile
+            (i32.add (local.get $dpack) (i32.mul (local.get $o) (i32.shl (local.get $kc) (i32.const 3))))
+            (i32.const 8)
+            (i32.const 24)
+            (i32.add (local.get $pack) (i32.mul (local.get $i) (i32.shl (local.get $kc) (i32.const 3))))
+            (i32.const 48)
+            (local.get $kc)
+            (local.get $gp)
+            (i32.shl (local.get $fanIn) (i32.const 3))
+            (local.get $gp)
+            (i32.shl (local.get $fanIn) (i32.const 3))
+            (call $min (i32.sub (local.get $units) (local.get $o)) (i32.const 3))
+            (call $min (i32.sub (local.get $fanIn) (local.get $i)) (i32.const 6))
+            (i32.const 0))
+          (br_if $out_rows (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 3))) (local.get $units))))
+        (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn))))
+      (br_if $chunks (i32.lt_u (local.tee $r (i32.add (local.get $r) (local.get $kc))) (local.get $n)))))
+
+  ;; gb[o] += Σ_r d[r, o], r in order, for o < units (the bias part of the outer product).
+  (func (export "outerBias") (param $gb i32) (param $d i32) (param $n i32) (param $units i32)
+    (local $o i32) (local $r i32) (local $p i32) (local $acc v128)
+    (loop $pairs
+      (local.set $acc (v128.load (i32.add (local.get $gb) (i32.shl (local.get $o) (i32.const 3)))))
+      (local.set $p (i32.add (local.get $d) (i32.shl (local.get $o) (i32.const 3))))
+      (local.set $r (local.get $n))
+      (loop $rows
+        (local.set $acc (f64x2.add (local.get $acc) (v128.load (local.get $p))))
+        (local.set $p (i32.add (local.get $p) (i32.shl (local.get $units) (i32.const 3))))
+        (br_if $rows (local.tee $r (i32.sub (local.get $r) (i32.const 1)))))
+      (call $put (i32.add (local.get $gb) (i32.shl (local.get $o) (i32.const 3))) (local.get $acc) (i32.sub (local.get $units) (local.get $o)) (i32.const 0))
+      (br_if $pairs (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 2))) (local.get $units)))))
+
+  ;; dst[r, i] (=|+=) Σ_o d[r, o]·W[o, i], o in order, for r < n, i < fanIn (W units×fanIn,
+  ;; d n×units, dst n×fanIn). Without $accumulate each sum starts from the 48 zero bytes at
+  ;; $zero, with it from dst. Six columns of W at a time are packed into one panel ($pack:
+  ;; 6·units entries) that stays in cache while the rows of d stream past.
+  (func (export "backprop")
+    (param $w i32) (param $d i32) (param $n i32) (param $fanIn i32) (param $units i32)
+    (param $dst i32) (param $accumulate i32) (param $zero i32) (param $pack i32)
+    (local $i i32) (local $r i32) (local $cp i32)
+    (loop $in_cols
+      (call $panel (local.get $w) (local.get $units) (local.get $fanIn) (local.get $fanIn) (local.get $i) (i32.const 6) (local.get $pack))
+      (local.set $r (i32.const 0))
+      (loop $row_blocks
+        (local.set $cp (i32.add (local.get $dst) (i32.shl (i32.add (i32.mul (local.get $r) (local.get $fanIn)) (local.get $i)) (i32.const 3))))
+        (call $tile
+          (i32.add (local.get $d) (i32.shl (i32.mul (local.get $r) (local.get $units)) (i32.const 3)))
+          (i32.shl (local.get $units) (i32.const 3))
+          (i32.const 8)
+          (local.get $pack)
+          (i32.const 48)
+          (local.get $units)
+          (select (local.get $cp) (local.get $zero) (local.get $accumulate))
+          (select (i32.shl (local.get $fanIn) (i32.const 3)) (i32.const 0) (local.get $accumulate))
+          (local.get $cp)
+          (i32.shl (local.get $fanIn) (i32.const 3))
+          (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 3))
+          (call $min (i32.sub (local.get $fanIn) (local.get $i)) (i32.const 6))
+          (i32.const 0))
+        (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n))))
+      (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn)))))
+
+  ;; 1 when every one of the $count doubles at $p is finite, else 0 (x − x is 0 exactly for a
+  ;; finite x and NaN for ±∞ and NaN, and a NaN survives every later addition).
+  (func (export "finite") (param $p i32) (param $count i32) (result i32)
+    (local $acc v128) (local $v v128) (local $end i32) (local $s f64)
+    (local.set $end (i32.add (local.get $p) (i32.shl (i32.and (local.get $count) (i32.const -2)) (i32.const 3))))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_u (local.get $p) (local.get $end)))
+        (local.set $v (v128.load (local.get $p)))
+        (local.set $acc (f64x2.add (local.get $acc) (f64x2.sub (local.get $v) (local.get $v))))
+        (local.set $p (i32.add (local.get $p) (i32.const 16)))
+        (br $pairs)))
+    (local.set $s (f64.add (f64x2.extract_lane 0 (local.get $acc)) (f64x2.extract_lane 1 (local.get $acc))))
+    (if (i32.and (local.get $count) (i32.const 1))
+      (then (local.set $s (f64.add (local.get $s) (f64.sub (f64.load (local.get $p)) (f64.load (local.get $p)))))))
+    (f64.eq (local.get $s) (f64.const 0))))

@@ -1,0 +1,145 @@
+/**
+ * The browser-side figures, measured in the embedded app in headless Chromium through the e2e
+ * harness (`test/e2e/harness.ts`): a bench, not a test — it asserts nothing about time.
+ *
+ * 1. Step plus its readouts on the demo models: in every stepwell cell of every demo notebook,
+ *    the time from a click on Step Once to the cell showing the next step (the engine's update
+ *    in its Web Worker, the step record with the layer readouts, the ledger written back to the
+ *    notebook, the widget redrawn), taken in the page by a MutationObserver. The first click
+ *    also starts the cell's engine and is reported apart.
+ * 2. A curvature readout at P = 85 002: a cell with the benchmark's MLP c (64-256-256-10, ReLU,
+ *    512 rows of seeded data of our own), run, then Measure curvature until the readout shows
+ *    (Lanczos at both ends, the spectral density and the trace, as the cell computes them).
+ */
+import { loadavg } from 'node:os';
+import { ensureBuilt, launchBrowser, openNotebook, startApp } from '../e2e/harness';
+import { buildMlp } from './networks';
+
+/** One browser figure. */
+export interface BrowserRow {
+  what: string;
+  subject: string;
+  /** Median milliseconds (or the single figure when reps is 1). */
+  ms: number;
+  reps: number;
+  /** Every repetition's milliseconds. */
+  all: number[];
+}
+
+const DEMOS = ['greenhouse-humidity-sensor.ipynb', 'parcel-sorter-plateau.ipynb'];
+const STEPS = 12;
+
+const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
+
+/** Spec text of the P = 85 002 network over MLP c's seeded rows (JSON is YAML; the comment line marks the cell). */
+function bigSpec(): string {
+  const c = { widths: [64, 256, 256, 10], act: 'relu' as const, loss: 'cross-entropy' as const, batch: 512 };
+  const { x, y } = buildMlp(c, 1);
+  const rows = Array.from({ length: c.batch }, (_, r) => Array.from(x.subarray(r * 64, (r + 1) * 64), (v) => Number(v.toFixed(4))));
+  const spec = {
+    seed: 5,
+    model: { inputs: 64, layers: [{ units: 256, activation: 'relu' }, { units: 256, activation: 'relu' }, { units: 10, activation: 'linear' }] },
+    data: { x: rows, y: Array.from(y) },
+    loss: 'cross-entropy',
+    recipe: { optimizer: 'sgd', lr: 0.05 },
+  };
+  return `# stepwell: benchmark network, P = 85 002\n${JSON.stringify(spec)}\n`;
+}
+
+/** Runs both parts; returns the rows and the Chromium version. */
+export async function browserFigures(): Promise<{ rows: BrowserRow[]; chromium: string; load: number[] }> {
+  ensureBuilt();
+  const app = await startApp();
+  const session = await launchBrowser();
+  const rows: BrowserRow[] = [];
+  try {
+    const page = session.page;
+    // tsx (esbuild, keepNames) wraps named functions in __name(...): page-side code needs it too.
+    await page.addInitScript({ content: 'globalThis.__name = (f) => f;' });
+    const chromium = session.context.browser()?.version() ?? 'unknown';
+    for (const demo of DEMOS) {
+      await openNotebook(page, `${app.origin}/lab/tree/${demo}`);
+      const cells = page.locator('.sw-CellWidget');
+      await cells.first().waitFor({ timeout: 60_000 });
+      const count = await cells.count();
+      for (let k = 0; k < count; k++) {
+        const times: number[] = await page.evaluate(
+          async ({ index, steps }) => {
+            const cell = document.querySelectorAll('.sw-CellWidget')[index] as HTMLElement;
+            cell.scrollIntoView();
+            const status = (): string => cell.querySelector('.sw-Status')?.textContent ?? '';
+            const stepOf = (): number => Number(/^step (\d+)/.exec(status())?.[1] ?? NaN);
+            const out: number[] = [];
+            for (let s = 0; s < steps; s++) {
+              const button = cell.querySelector('.sw-Button-step') as HTMLButtonElement;
+              // wait until the cell is idle (the previous action's ledger written back)
+              while (button.disabled) await new Promise((r) => setTimeout(r, 5));
+              const before = stepOf();
+              const t0 = performance.now();
+              await new Promise<void>((resolve) => {
+                const check = (): boolean => stepOf() === before + 1 && !(cell.querySelector('.sw-Button-step') as HTMLButtonElement).disabled;
+                const mo = new MutationObserver(() => {
+                  if (check()) {
+                    mo.disconnect();
+                    resolve();
+                  }
+                });
+                mo.observe(cell, { subtree: true, childList: true, characterData: true, attributes: true });
+                button.click();
+              });
+              out.push(performance.now() - t0);
+            }
+            return out;
+          },
+          { index: k, steps: STEPS }
+        );
+        const subject = `${demo.replace('.ipynb', '')}, cell ${k + 1}`;
+        rows.push({ what: 'first Step Once (starts the engine)', subject, ms: times[0], reps: 1, all: [times[0]] });
+        const rest = times.slice(1);
+        rows.push({ what: 'Step Once with its readouts', subject, ms: median(rest), reps: rest.length, all: rest });
+        process.stdout.write(`${subject}: first ${times[0].toFixed(0)} ms, then median ${median(rest).toFixed(1)} ms (${rest.map((t) => t.toFixed(0)).join(' ')})\n`);
+      }
+    }
+    // Part 2: the P = 85 002 cell, appended to the first demo notebook (never saved).
+    await openNotebook(page, `${app.origin}/lab/tree/${DEMOS[0]}`);
+    const text = bigSpec();
+    await page.evaluate(async (source) => {
+      type Panel = { content: { model: { sharedModel: { insertCell(i: number, c: unknown): void }; cells: { length: number } }; activeCellIndex: number } };
+      const app = (window as unknown as { jupyterapp: { shell: { currentWidget: Panel }; commands: { execute(id: string): Promise<unknown> } } }).jupyterapp;
+      const nb = app.shell.currentWidget.content;
+      const at = nb.model.cells.length;
+      nb.model.sharedModel.insertCell(at, { cell_type: 'code', source, metadata: {} });
+      nb.activeCellIndex = at;
+      await app.commands.execute('notebook:run-cell');
+    }, text);
+    const big = page.locator('.sw-CellWidget').last();
+    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
+    // DOM clicks in the page: the notebook may keep a long cell's output out of view.
+    const ms = await page.evaluate(async () => {
+      const cells = document.querySelectorAll('.sw-CellWidget');
+      const cell = cells[cells.length - 1] as HTMLElement;
+      (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
+      while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
+      const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
+      const t0 = performance.now();
+      await new Promise<void>((resolve) => {
+        const mo = new MutationObserver(() => {
+          if (cell.querySelector('.sw-CurvatureHead') !== null) {
+            mo.disconnect();
+            resolve();
+          }
+        });
+        mo.observe(cell, { subtree: true, childList: true, characterData: true });
+        button.click();
+      });
+      return performance.now() - t0;
+    });
+    const head = await big.locator('.sw-CurvatureHead').textContent();
+    rows.push({ what: 'curvature readout (click to readout shown)', subject: `MLP c 64-256-256-10, 512 rows (P 85 002): ${head ?? ''}`, ms, reps: 1, all: [ms] });
+    process.stdout.write(`curvature readout at P = 85 002: ${ms.toFixed(0)} ms — ${head ?? ''}\n`);
+    return { rows, chromium, load: loadavg() };
+  } finally {
+    await session.close();
+    await app.stop();
+  }
+}
