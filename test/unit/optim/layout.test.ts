@@ -18,7 +18,7 @@ const CASES: [OptimizerName, Partial<Recipe>][] = [
   ['rmsprop', {}], ['rmsprop', { centered: true }], ['rmsprop', { momentum: 0.5 }], ['rmsprop', { centered: true, momentum: 0.5 }],
   ['adam', {}], ['adam', { amsgrad: true }], ['adamw', {}], ['adamw', { amsgrad: true }],
   ['lbfgs', {}], ['minibatch-lbfgs', {}], ['cg', {}], ['newton', {}], ['gauss-newton', {}],
-  ['sgd', { schedule: { kind: 'plateau', factor: 0.5, patience: 2, threshold: 1e-4, cooldown: 0, minLr: 0 } as Recipe['schedule'] }]
+  ['sgd', { schedule: { kind: 'plateau', factor: 0.5, patience: 2, threshold: 1e-4, thresholdMode: 'rel', cooldown: 0, floor: 0 } }]
 ];
 
 describe('optimizer state layouts', () => {
