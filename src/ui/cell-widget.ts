@@ -14,7 +14,7 @@ import { problemLine, PROXY_NOTE, statusLine } from './summary';
 import { rovingFocus } from './keyboard';
 import { findingsStrip } from './findings-strip';
 import { ReadoutPanels } from './panel-view';
-import type { CellViewState, ReadoutTab } from './view-state';
+import type { CellViewState } from './view-state';
 import { READOUT_TABS } from './view-state';
 
 /** CSS classes of the cell widget. */
@@ -295,4 +295,3 @@ export namespace StepwellCellWidget {
 }
 
 /** The tab a readout lives on (for commands that open one). */
-export type { ReadoutTab };
