@@ -1,18 +1,20 @@
 /**
  * Writes the demo notebooks from our own invented scenarios (seeded, so the output is the
- * same on every run). Each notebook holds one stepwell cell with a failing branch and a branch
- * with the fix, and the decision record the product wrote below it. The cells are stepped by a
- * script of product actions (step, track the sharpness, fork with a patch, write the record)
- * through the same cell controller and engine host the extension uses, inside headless Chromium
- * (prerun.ts), so their ledgers, outputs and records are exactly what a user would get; they
- * replay bit for bit in Node as well (core's arithmetic is engine-independent;
- * `test/unit/demo/replay.test.ts` checks it).
+ * same on every run). Each notebook holds one stepwell cell with a failing branch, the branch
+ * "Try as branch" made from one of its findings, and the decision record the product wrote
+ * below it. The cells are stepped by a script of product actions (step, track the sharpness, try
+ * a finding's proposal, measure, write the record) through the same cell controller and engine
+ * host the extension uses, inside headless Chromium (prerun.ts), so their ledgers, outputs and
+ * records are exactly what a user would get; they replay bit for bit in Node as well (core's
+ * arithmetic is engine-independent; `test/unit/demo/replay.test.ts` checks it). The prose
+ * quotes what the cell shows (the findings' statements, sources and proposals, the verdicts,
+ * the initialization check) from the pre-run itself, formatted as the cell formats it.
  *
  * Run: `npx tsx demo-notebooks/make_demos.ts`
  *
- * The script checks that each scenario still shows what its prose claims (a divergence, a
- * plateau, a fix) — in Node with the core directly, and in Chromium on what the product
- * recorded — and fails loudly when the engine no longer behaves that way.
+ * The script checks that each scenario still shows what its prose claims (a divergence and its
+ * finding, a plateau and its finding, a fix that the proposal makes) — in Node with the core
+ * directly, and in Chromium on what the product recorded — and fails loudly when it no longer does.
  */
 import * as fs from 'fs';
 import * as path from 'path';
@@ -22,8 +24,9 @@ import { CHROMIUM, CHROMIUM_ARGS } from '../test/e2e/harness';
 import type { PrerunRequest, PrerunResult } from './prerun';
 import { parseSpec } from '../src/experiment';
 import { Session } from '../src/core/session';
-import { eigenvalues } from '../src/core/linalg';
-import type { StepRecord } from '../src/core/state';
+import type { Finding } from '../src/worker/protocol';
+import { fmt } from '../src/ui/summary';
+import { measuredLine, proposalText, sourceText } from '../src/ui/findings-strip';
 import { greenhouseRows, greenhouseSpec, parcelRows, parcelSpec } from './scenarios';
 
 type Json = Record<string, unknown>;
@@ -88,32 +91,11 @@ async function prerunInChromium(requests: PrerunRequest[]): Promise<PrerunResult
   }
 }
 
-/** Largest Hessian eigenvalue at the session's current weights (dense, from exact Hv products). */
-function lambdaMax(s: Session): number {
-  const p = s.objective.parameterCount;
-  const h = new Float64Array(p * p);
-  const e = new Float64Array(p);
-  const out = new Float64Array(p);
-  for (let i = 0; i < p; i++) {
-    e.fill(0);
-    e[i] = 1;
-    s.objective.hvp(s.parameters, e, out);
-    h.set(out, i * p);
-  }
-  for (let i = 0; i < p; i++) for (let j = 0; j < i; j++) h[i * p + j] = h[j * p + i] = (h[i * p + j] + h[j * p + i]) / 2;
-  return Math.max(...eigenvalues(h, p));
-}
-
 function session(spec: string): Session {
   const parsed = parseSpec(spec);
   if (!parsed.ok) throw new Error(`spec does not parse: ${parsed.errors.map(e => e.message).join('; ')}`);
   return Session.create(parsed.experiment);
 }
-
-const g3 = (x: number): string => x.toPrecision(3);
-
-/** The per-layer update ratios of a record, for prose. */
-const ratios = (r: StepRecord): string => r.layers.map(l => l.updateRatio.toExponential(1)).join(', ');
 
 /** A branch of a pre-run result, or an error naming what the scenario expected. */
 function branchOf(r: PrerunResult, test: (b: PrerunResult['branches'][number]) => boolean, what: string): PrerunResult['branches'][number] {
@@ -122,9 +104,39 @@ function branchOf(r: PrerunResult, test: (b: PrerunResult['branches'][number]) =
   return b;
 }
 
+/** A finding of a branch as the cell showed it, or an error naming what the prose needs. */
+function findingOf(r: PrerunResult, branch: string, id: string): Finding {
+  const f = r.diagnoses[branch]?.findings.find(x => x.id === id);
+  if (f === undefined) throw new Error(`${r.id}: branch ${branch} no longer shows the finding ${id} (it shows ${r.diagnoses[branch]?.findings.map(x => x.id).join(', ') ?? 'nothing'})`);
+  return f;
+}
+
+/** A finding quoted as the strip shows it: severity, id, statement, the number against its threshold, the source. */
+function quote(f: Finding): string {
+  const where = f.step !== null ? ` (step ${f.step}${f.layer !== null ? `, layer ${f.layer}` : ''})` : '';
+  const proposal = f.proposal === null ? '' : `\n  Proposal: from step ${f.proposal.atStep}, ${proposalText(f.proposal.set)}.`;
+  return `* **${f.severity}** \`${f.id}\`${where}: ${f.statement}\n  ${measuredLine(f)}; source: ${sourceText(f.source)}.${proposal}`;
+}
+
+/** The findings of a branch as a list, or a sentence saying there are none. */
+function quoteAll(r: PrerunResult, branch: string): string {
+  const fs = r.diagnoses[branch]?.findings ?? [];
+  return fs.length === 0 ? `The findings strip of **${branch}** is empty: no rule fires.` : fs.map(quote).join('\n');
+}
+
+/** The findings of a fix branch under a line that names it (or the sentence saying there are none); fails if one of `gone` still fires there. */
+function quoteFix(r: PrerunResult, branch: string, gone: readonly string[]): string {
+  const fs = r.diagnoses[branch]?.findings ?? [];
+  const left = fs.filter(f => gone.includes(f.id)).map(f => f.id);
+  if (left.length > 0) throw new Error(`${r.id}: the fix branch ${branch} still shows ${left.join(', ')}`);
+  return fs.length === 0 ? quoteAll(r, branch) : `The findings strip of **${branch}** no longer shows the failure; what it shows instead:\n\n${quoteAll(r, branch)}`;
+}
+
 /** Steps the greenhouse probe looks at for the divergence (the main branch stops where it passes 1000× its start). */
 const GH_LOOK = 20;
 const GH_FIX_STEPS = 60;
+/** The greenhouse failure's findings, which the fix branch must not show. */
+const FAILURES = ['step-size-unstable', 'diverged'];
 
 function greenhouseRequest(): { request: PrerunRequest; spec: string; probe: Json } {
   const train = greenhouseRows(1, 60);
@@ -132,26 +144,23 @@ function greenhouseRequest(): { request: PrerunRequest; spec: string; probe: Jso
   const bad = 0.9;
   const spec = greenhouseSpec(bad, train, held, 'The recipe as first tried: η = 0.9.');
   const s = session(spec);
-  const l0 = lambdaMax(s);
   const start = s.initialRecord().loss;
   const records = s.step(GH_LOOK);
   const blow = records.findIndex(r => !Number.isFinite(r.loss) || r.loss > 1e3 * start) + 1;
-  const lowest = records.reduce((m, r) => (r.loss < m.loss ? r : m), records[0]);
-  const turn = records.find(r => r.step > lowest.step && r.loss > 10 * lowest.loss);
-  if (blow === 0 || turn === undefined) throw new Error(`greenhouse: η = ${bad} no longer diverges within ${GH_LOOK} steps`);
-  if (bad * l0 / 2 <= 1) throw new Error('greenhouse: the stability story no longer holds at step 0');
-  const probe = { l0, blow, lowest, turn, atBlow: records[blow - 1], bad };
+  if (blow === 0) throw new Error(`greenhouse: η = ${bad} no longer diverges within ${GH_LOOK} steps`);
   return {
     spec,
-    probe,
+    probe: { blow, bad },
     request: {
       id: 'gh-calibration',
       spec,
       actions: [
         // Up to the step where the loss passes a thousand times its start, as Run until… would stop.
         { do: 'track', n: blow },
-        { do: 'fork', atStep: 'before-crossing', margin: 0.9 },
+        { do: 'try', finding: 'step-size-unstable' },
         { do: 'track', n: GH_FIX_STEPS },
+        { do: 'curvature' },
+        { do: 'audit' },
         { do: 'switch', branch: 'main' },
         { do: 'record', question: 'Which learning rate keeps the humidity calibration from blowing up?', chosen: '' }
       ]
@@ -160,16 +169,14 @@ function greenhouseRequest(): { request: PrerunRequest; spec: string; probe: Jso
 }
 
 function greenhouseCells(r: PrerunResult, spec: string, p: Json): NbCell[] {
-  const fork = r.fork;
-  if (fork === null) throw new Error('greenhouse: no fork was made');
   const fix = branchOf(r, b => b.parent === 'main', 'fixed branch');
   const main = branchOf(r, b => b.parent === null, 'root branch');
   if (!(fix.loss < 0.01) || !(main.loss > 1e3 * fix.loss || !Number.isFinite(main.loss))) {
     throw new Error(`greenhouse: the fix (${fix.loss}) no longer beats the failing run (${main.loss}) by far`);
   }
-  const l0 = p.l0 as number;
-  const lowest = p.lowest as StepRecord;
-  const turn = p.turn as StepRecord;
+  const unstable = findingOf(r, 'main', 'step-size-unstable');
+  const fixTrace = r.diagnoses[fix.name]?.derived.sharpness;
+  if (fixTrace?.verdict.kind !== 'within') throw new Error(`greenhouse: the fix branch's sharpness no longer stays within the limit (${fixTrace?.sentence})`);
   const blow = p.blow as number;
   const bad = p.bad as number;
   return [
@@ -180,27 +187,28 @@ network that maps the sensor's raw reading and the board temperature to the humi
 hygrometer measured (60 calibration rows, 20 held out; the data are invented for this demo).
 
 The first recipe, plain gradient descent with η = ${bad}, trained for a few steps and then exploded. The
-cell below holds that experiment (branch **main**, ${blow} steps stepped with *Step ×${blow} tracking λmax*)
-and a second branch, **${fix.name}**, forked at step ${fork.atStep} with a smaller learning rate. Both open
-**without re-running**, because the whole state is stored in the notebook; **Verify** replays every branch
-from the seed and checks that the stored trajectories are reproduced bit for bit.
+cell below holds that experiment (branch **main**, ${blow} steps stepped with *Step ×${blow} tracking λmax*) and
+the branch **${fix.name}**, which Stepwell made when *Try as branch* was clicked on its \`${unstable.id}\`
+finding. Both open **without re-running**, because the whole state is stored in the notebook; **Verify**
+replays every branch from the seed and checks that the stored trajectories are reproduced bit for bit.
 `),
     loadMagicCell('gh-kernel'),
     ...stepwellCells(r, spec),
-    markdown('gh-diagnosis', `## What the readouts say
+    markdown('gh-diagnosis', `## What Stepwell says
 
-* **Trace** (branch main): the training loss falls to ${g3(lowest.loss)} at step ${lowest.step}, then grows by orders of
-  magnitude from step ${turn.step} and passes a thousand times its starting value at step ${blow}.
-* **Curvature**: the sharpness readout shows λmax against the stability limit 2/η ≈ ${g3(2 / bad)} of plain
-  gradient descent. λmax is ≈ ${g3(l0)} already at step 0: η·λmax/2 ≈ ${g3((bad * l0) / 2)} > 1, so the direction of
-  sharpest curvature is over-corrected at every step and the error along it grows.
-* **Branch ${fix.name}**: forked at step ${fork.atStep} (the step before the first crossing) with η = ${fork.lr},
-  0.9 × 2/λmax rounded down, λmax ≈ ${g3(fork.lambdaMax)} measured there. Its loss keeps falling; the
-  **Compare** tab overlays both traces and lists the numbers at matched steps.
+The findings strip of branch **main** (hover a finding's numbers, or open *source*, for where its threshold comes from):
+
+${quoteAll(r, 'main')}
+
+*Try as branch* on \`${unstable.id}\` forked **${fix.name}** from step ${fix.forkStep} of main with the proposal and showed it.
+Stepped ${GH_FIX_STEPS} times with the sharpness tracked, its **Curvature** tab says: “${fixTrace.sentence}” The
+**Compare** tab overlays both branches' losses and sharpness against each one's limit.
+
+${quoteFix(r, fix.name, FAILURES)}
 
 The rule is about the local curvature along the trajectory, which changes as the weights move; it is a
-strong hint, not a proof. The decision record above was written by Stepwell from the comparison
-(*Write decision record…*); writing it again replaces it.
+strong hint, not a proof, and this is a small proxy of the real calibration. The decision record above was
+written by Stepwell from the comparison (*Write decision record…*); writing it again replaces it.
 `)
   ];
 }
@@ -215,56 +223,64 @@ function parcelRequest(): { request: PrerunRequest; spec: string; probe: Json } 
   const ln3 = Math.log(3);
   const recs = session(spec).step(PS_STEPS);
   if (!recs.every(r => Math.abs(r.loss - ln3) < 0.01)) throw new Error(`parcels: gain ${tiny} no longer sits on the plateau for ${PS_STEPS} steps`);
-  const end = recs[recs.length - 1];
-  if (!(end.layers[0].updateRatio < 1e-3)) throw new Error('parcels: the first layer no longer barely moves');
-  const probe = { ln3, end, tiny };
   return {
     spec,
-    probe,
+    probe: { tiny },
     request: {
       id: 'ps-sorter',
       spec,
       actions: [
         { do: 'step', n: PS_STEPS },
-        { do: 'fork', atStep: 0, set: { 'model.gain': 1 }, name: 'gain=1' },
+        { do: 'try', finding: 'init-scale' },
         { do: 'step', n: PS_STEPS },
         { do: 'switch', branch: 'main' },
-        { do: 'record', question: 'Why does the parcel sorter never start learning, and which initialization fixes it?', chosen: 'gain=1' }
+        { do: 'record', question: 'Why does the parcel sorter never start learning, and which initialization fixes it?', chosen: '' }
       ]
     }
   };
 }
 
 function parcelCells(r: PrerunResult, spec: string, p: Json): NbCell[] {
-  const ln3 = p.ln3 as number;
-  const end = p.end as StepRecord;
-  const fix = branchOf(r, b => b.name === 'gain=1', 'branch gain=1');
-  if (!(fix.loss < 0.5 * ln3)) throw new Error(`parcels: gain 1 no longer leaves the plateau within ${PS_STEPS} steps (loss ${fix.loss})`);
+  const main = branchOf(r, b => b.parent === null, 'root branch');
+  const fix = branchOf(r, b => b.parent === 'main', 'fixed branch');
+  if (!(fix.loss < 0.5 * main.loss)) throw new Error(`parcels: the proposal no longer leaves the plateau within ${PS_STEPS} steps (loss ${fix.loss} against ${main.loss})`);
+  const init = r.diagnoses.main?.init;
+  if (init === null || init === undefined) throw new Error('parcels: no initialization check on main');
+  const l0 = init.chosen.layers[0];
+  const scale = findingOf(r, 'main', 'init-scale');
+  const flat = findingOf(r, 'main', 'plateau');
+  if (r.diagnoses[fix.name]?.findings.some(f => f.id === 'plateau')) throw new Error('parcels: the fix branch still shows a plateau');
   return [
     markdown('ps-intro', `# Parcel sorter: a classifier that never starts learning
 
 A depot sends each parcel down one of three chutes — flats, small parcels, bulky items — from its scanned
 weight, longest side and thickness. A four-layer tanh network should learn this easily (90 training rows,
-30 held out; the data are invented for this demo). Yet with the first recipe the loss sat at about
-${ln3.toFixed(4)} for a hundred steps. That value is ln 3: the network outputs the same probability for all three
-chutes, no better than a guess.
+30 held out; the data are invented for this demo). Yet with the first recipe (\`gain: ${p.tiny as number}\`) the training
+loss stays at ln 3, the loss of giving every chute the same probability — no better than a guess.
 
-The cell below holds that experiment (branch **main**, step ${PS_STEPS}) and the branch **gain=1**, which starts
-again at step 0 with the initialization scale of the fan-in rule — both restored from the notebook without
+The cell below holds that experiment (branch **main**, step ${main.step}) and the branch **${fix.name}**, which Stepwell
+made when *Try as branch* was clicked on its \`${scale.id}\` finding — both restored from the notebook without
 re-running.
 `),
     loadMagicCell('ps-kernel'),
     ...stepwellCells(r, spec),
-    markdown('ps-diagnosis', `## What the readouts say
+    markdown('ps-diagnosis', `## What Stepwell says
 
-* **Trace** (branch main): flat at ln 3 ≈ ${ln3.toFixed(4)} from step 0 to step ${PS_STEPS} — a plateau, not a slow descent.
-* **Layers**: at step ${PS_STEPS} the update ratios ‖ΔW‖/‖W‖ of the four layers are ${ratios(end)}; the first
-  layer's is far below the usual 1e-3 (a rule of thumb).
-* The spec says \`gain: ${p.tiny as number}\`: the initial weights have 1/20 of the standard deviation that
-  lecun-normal's fan-in rule (variance 1/fan_in, LeCun et al. 1998) gives. With four tanh layers the
-  forward signal and the backward gradient both shrink by roughly that factor per layer.
-* **Branch gain=1** changes the setup (\`model.gain: 1\`), so it restarts at step 0 from the same seed; its loss
-  leaves the plateau. The **Compare** tab overlays both; the decision record above was written from it.
+The findings strip of branch **main**:
+
+${quoteAll(r, 'main')}
+
+* **Layers › Initialization check**: layer 0's weight spread is ${fmt(l0.weightSpread)} under ${init.chosen.scheme} ×${fmt(init.chosen.gain)},
+  against the fan-in rule's ${fmt(l0.ruleSpread)} for ${l0.activation} (ratio ${fmt(l0.ratio)}×); the table beside it shows the
+  pre-activation spread each scheme gives at step 0. **Layers › Layer balance over time** shows the update ratios of
+  every layer over the ${PS_STEPS} steps against the band around 1e-3.
+* The \`${flat.id}\` and \`${scale.id}\` findings propose the same change, so *Try as branch* on either shows the same
+  branch: **${fix.name}** changes the setup, so it restarts at step 0 from the same seed, and its loss leaves the plateau.
+
+${quoteFix(r, fix.name, ['plateau'])}
+
+The **Compare** tab overlays both; the decision record above was written from it. This is a small proxy: the
+mechanism (a signal that shrinks layer by layer) carries over to a full-size network, the exact numbers do not.
 `)
   ];
 }
@@ -295,9 +311,9 @@ async function main(): Promise<void> {
   const ps = parcelRequest();
   const ghProbe = gh.probe;
   const psProbe = ps.probe;
-  // The greenhouse record chooses the fix branch, whose name the fork makes (`lr=…`): filled in Chromium.
+  // The records choose the fix branch, whose name "Try as branch" makes: filled in Chromium.
   const [ghResult, psResult] = await prerunInChromium([gh.request, ps.request]);
-  // The prose was computed in Node; Chromium's Math functions differ in the last bits, so check it still holds there.
+  // The number of steps was found in Node; check Chromium stepped to the same place.
   const ghMain = ghResult.branches.find(b => b.parent === null);
   if (ghMain?.step !== ghProbe.blow) throw new Error(`greenhouse: Chromium's main branch is at step ${ghMain?.step}, the prose says ${ghProbe.blow}`);
   write('greenhouse-humidity-sensor.ipynb', greenhouseCells(ghResult, gh.spec, ghProbe));

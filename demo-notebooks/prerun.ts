@@ -2,9 +2,9 @@
  * Browser entry of the demo generator: steps stepwell cells through the same controller and
  * engine host as the extension, inside headless Chromium, so the notebooks hold exactly what a
  * user of the browser app would save (and `test/unit/demo/replay.test.ts` shows they replay bit
- * for bit in Node too). Each cell follows a small script of product actions —
- * step, track the sharpness, fork a branch with a patch, write the decision record — and the
- * decision record cell is the one the product writes. Bundled by make_demos.ts with esbuild;
+ * for bit in Node too). Each cell follows a small script of product actions — step, track the
+ * sharpness, "Try as branch" on a finding, measure, write the decision record — and the decision
+ * record cell is the one the product writes. Bundled by make_demos.ts with esbuild;
  * exposes `stepwellPrerun`.
  */
 import { CellController } from '../src/ui/controller';
@@ -17,16 +17,18 @@ import { checkSpec } from '../src/plugin/registry';
 import { EngineClient } from '../src/worker/client';
 import { inProcessPort } from '../src/worker/in-process';
 import { realCore } from '../src/worker/core-adapter';
+import type { DiagnosisView } from '../src/ui/view-state';
 
 /** One product action of a pre-run script. */
 export type PrerunAction =
   | { do: 'step'; n: number }
   | { do: 'track'; n: number }
   | { do: 'until-diverged'; maxSteps: number }
-  /** Fork from `from` (default: the shown branch) with `set`, at `atStep`; `'before-crossing'`
-   * forks at the step before the first sharpness above the limit, with `lr` set to `margin` × the
-   * largest stable η measured there (what the step-size finding will propose). */
-  | { do: 'fork'; atStep: number | 'before-crossing'; set?: Record<string, unknown>; margin?: number; name?: string; from?: string }
+  /** "Try as branch" on the shown branch's finding with this id (the first of them). */
+  | { do: 'try'; finding: string }
+  | { do: 'fork'; atStep: number; set: Record<string, unknown>; name?: string; from?: string }
+  | { do: 'curvature' }
+  | { do: 'audit' }
   | { do: 'switch'; branch: string }
   /** Write the decision record; an empty `chosen` picks the branch the last fork made. */
   | { do: 'record'; question: string; chosen: string };
@@ -44,21 +46,20 @@ export interface PrerunResult {
   metadata: Record<string, unknown>;
   outputs: unknown[];
   record: RecordCell | null;
-  /** Branch name → its step and whether the sharpness crossed the limit (for the generator's checks). */
+  /** Every branch with its origin, cursor and loss (for the generator's checks). */
   branches: { name: string; parent: string | null; forkStep: number | null; patch: Record<string, unknown>; step: number; loss: number }[];
-  /** The fork the `before-crossing` rule chose, if any. */
-  fork: { atStep: number; lr: number; lambdaMax: number } | null;
-  /** Name of the branch the last fork made. */
+  /** What the cell showed of each branch when it was last shown: its findings and diagnosis readouts (the prose quotes them). */
+  diagnoses: Record<string, DiagnosisView>;
+  /** The branch the last fork made, and the finding whose proposal it tried. */
   forked: string | null;
-}
-
-/** Rounds down to two significant digits (a proposal is a round number below the bound). */
-function floor2(x: number): number {
-  const e = Math.pow(10, Math.floor(Math.log10(x)) - 1);
-  return Math.floor(x / e) * e;
+  tried: string | null;
 }
 
 async function act(c: CellController, a: PrerunAction, out: PrerunResult): Promise<boolean> {
+  const made = (ok: boolean): boolean => {
+    out.forked = c.state.summary?.branch ?? null;
+    return ok;
+  };
   switch (a.do) {
     case 'step':
       return c.step(a.n);
@@ -68,30 +69,25 @@ async function act(c: CellController, a: PrerunAction, out: PrerunResult): Promi
       return c.runUntil({ kind: 'diverged', factor: 1e3 }, a.maxSteps);
     case 'switch':
       return c.switchBranch(a.branch);
+    case 'curvature':
+      return c.measureCurvature();
+    case 'audit':
+      return c.audit();
     case 'record':
       return c.writeDecisionRecord(a.question, a.chosen || (out.forked ?? ''));
-    case 'fork': {
-      const made = (ok: boolean): boolean => {
-        out.forked = c.state.summary?.branch ?? null;
-        return ok;
-      };
-      if (a.atStep !== 'before-crossing') return made(await c.forkBranch({ atStep: a.atStep, set: a.set ?? {}, name: a.name, from: a.from }));
-      const points = c.state.sharpness;
-      const first = points.findIndex(p => p.limit !== null && p.sharpness > p.limit);
-      if (first < 0) throw new Error('the sharpness never crossed the limit: no step before a crossing to fork from');
-      const at = points[Math.max(0, first - 1)];
-      const eta = c.state.trajectory.find(x => x.step === at.step)?.lr;
-      if (at.limit === null || eta === undefined) throw new Error('no limit or learning rate to derive the proposal from');
-      // limit = factor/η, so the largest stable η at this sharpness is factor/λ = limit·η/λ.
-      const lr = floor2((a.margin ?? 0.9) * (at.limit * eta) / at.sharpness);
-      out.fork = { atStep: at.step, lr, lambdaMax: at.lambdaMax };
-      return made(await c.forkBranch({ atStep: at.step, set: { ...(a.set ?? {}), lr }, name: a.name, from: a.from }));
+    case 'fork':
+      return made(await c.forkBranch({ atStep: a.atStep, set: a.set, name: a.name, from: a.from }));
+    case 'try': {
+      const i = c.state.diagnosis.findings.findIndex(f => f.id === a.finding);
+      if (i < 0) throw new Error(`no finding '${a.finding}' on branch ${c.state.summary?.branch}: ${c.state.diagnosis.findings.map(f => f.id).join(', ')}`);
+      out.tried = a.finding;
+      return made(await c.tryFinding(i));
     }
   }
 }
 
 async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
-  const out: PrerunResult = { id: r.id, metadata: {}, outputs: [], record: null, branches: [], fork: null, forked: null };
+  const out: PrerunResult = { id: r.id, metadata: {}, outputs: [], record: null, branches: [], diagnoses: {}, forked: null, tried: null };
   const host: CellHost = {
     readSource: () => r.spec,
     readLedger: () => out.metadata[LEDGER_KEY],
@@ -123,6 +119,8 @@ async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
     const ok = await act(controller, a, out);
     performance.now = realNow;
     if (!ok) throw new Error(`cell ${r.id}: ${a.do} failed: ${controller.state.notice?.text ?? ''}`);
+    const shown = controller.state.summary?.branch;
+    if (shown !== undefined) out.diagnoses[shown] = JSON.parse(JSON.stringify(controller.state.diagnosis));
   }
   // Ledgers carry a write time; fix it so regenerating gives identical files.
   (out.metadata[LEDGER_KEY] as Record<string, unknown>).savedAt = '2026-01-01T00:00:00.000Z';

@@ -67,7 +67,7 @@ function branchesTable(c: ReportCell): string {
 
 function findingsBlock(c: ReportCell): string {
   if (c.findings.length === 0) return '<p class="note">The ledger holds no findings for this cell.</p>';
-  const rows = c.findings.map((f) => `<tr><td>${e(f.severity)}</td><td><code>${e(f.id)}</code></td><td>${e(f.statement)}${f.proposal ? `<br><span class="meta">proposal: <code>${e(f.proposal)}</code></span>` : ''}</td><td class="num">${e(f.measured)}</td><td class="num">${e(f.threshold)}</td><td>${e(f.source)}</td></tr>`);
+  const rows = c.findings.map((f) => `<tr><td>${e(f.severity)}</td><td><code>${e(f.id)}</code>${f.branch !== '' ? `<br><span class="meta">${e(f.branch)}</span>` : ''}</td><td>${e(f.statement)}${f.proposal ? `<br><span class="meta">proposal: <code>${e(f.proposal)}</code></span>` : ''}</td><td class="num">${e(f.measured)}</td><td class="num">${e(f.threshold)}</td><td>${e(f.source)}</td></tr>`);
   return `<table><thead><tr><th>severity</th><th>finding</th><th>statement</th><th>measured</th><th>threshold</th><th>source of the threshold</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
 }
 

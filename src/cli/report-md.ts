@@ -63,7 +63,7 @@ function cellMarkdown(c: ReportCell, figureDir: string): string[] {
   out.push('### Findings', '');
   if (c.findings.length === 0) out.push('The ledger holds no findings for this cell.', '');
   for (const f of c.findings) {
-    out.push(`- **${m(f.severity)}** ${code(f.id)}: ${m(f.statement)} (measured ${m(f.measured)}, threshold ${m(f.threshold)}; source: ${m(f.source)})${f.proposal ? `; proposal ${code(f.proposal)}` : ''}`);
+    out.push(`- **${m(f.severity)}** ${code(f.id)}${f.branch !== '' ? ` (branch ${m(f.branch)})` : ''}: ${m(f.statement)} (measured ${m(f.measured)}, threshold ${m(f.threshold)}; source: ${m(f.source)})${f.proposal ? `; proposal ${code(f.proposal)}` : ''}`);
   }
   if (c.findings.length > 0) out.push('');
   if (c.branches.length > 0) {

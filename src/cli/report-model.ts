@@ -48,6 +48,8 @@ export interface ReportBranch {
 
 /** One finding as stored in the ledger (fields the findings rules write; any may be missing). */
 export interface ReportFinding {
+  /** The branch the finding concerns (ledger version 3 tags each; empty when untagged). */
+  branch: string;
   id: string;
   severity: string;
   statement: string;
@@ -107,6 +109,7 @@ function findingsOf(raw: readonly Record<string, unknown>[]): ReportFinding[] {
     const p = isObj(f.proposal) ? f.proposal : null;
     const set = p && isObj(p.set) ? describePatch(p.set as SpecPatch) : '';
     return {
+      branch: typeof f.branch === 'string' ? f.branch : '',
       id: text(f.id),
       severity: text(f.severity),
       statement: text(f.statement),

@@ -6,7 +6,7 @@
  * Each figure has a text alternative.
  */
 import type { Figure, FigureNote, FigureTheme, LineSeries } from './trace';
-import { chooseScale, decimate, stepAxis, themedAxis, themedLayout } from './trace';
+import { chooseScale, decimate, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from './trace';
 import { fmt } from './format';
 
 /** One sharpness measurement as the figures draw it (the worker's `SharpnessPoint` has this shape). */
@@ -170,12 +170,13 @@ export function sharpnessOverlayFigure(traces: readonly BranchSeries[], theme: F
     for (const p of limited) values.push(p.limit as number);
   });
   const maxX = Math.max(0, ...data.flatMap((d) => d.x));
+  const scale = chooseScale(values, SHARPNESS_LOG_SPAN);
   return {
     data,
     layout: themedLayout(theme, {
       height: 240,
       xaxis: stepAxis(theme, maxX),
-      yaxis: themedAxis(theme, 'sharpness', chooseScale(values)),
+      yaxis: { ...themedAxis(theme, scale === 'log' ? 'sharpness (log scale)' : 'sharpness', scale), ...logTicks(values, scale) },
       annotations: [],
       showlegend: true
     })

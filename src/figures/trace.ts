@@ -185,10 +185,29 @@ export function decimate(x: readonly number[], y: readonly (number | null)[], ma
   return { x: ox, y: oy };
 }
 
+/** The max/min ratio above which sharpness plots turn logarithmic (see {@link chooseScale}). */
+export const SHARPNESS_LOG_SPAN = 10;
+
 /**
- * Chooses the y scale: log when every finite value is positive and max/min exceeds 100.
+ * Ticks for a log axis that spans few decades, where plotly's own labels shrink to bare digits
+ * ("3" for 30): doublings (1, 2, 4, 8, 16, 32) written in full up to 2.5 decades, one tick per
+ * decade beyond. Returns no fields for a linear axis.
  */
-export function chooseScale(values: readonly number[]): 'linear' | 'log' {
+export function logTicks(values: readonly number[], scale: 'linear' | 'log'): Partial<Pick<AxisLayout, 'tickmode' | 'tick0' | 'dtick' | 'exponentformat'>> {
+  if (scale === 'linear') return {};
+  const finite = values.filter(v => Number.isFinite(v) && v > 0);
+  if (finite.length === 0) return {};
+  const decades = Math.log10(Math.max(...finite) / Math.min(...finite));
+  return decades <= 2.5 ? { tickmode: 'linear', tick0: 0, dtick: Math.log10(2), exponentformat: 'none' } : { tickmode: 'linear', tick0: 0, dtick: 1 };
+}
+
+/**
+ * Chooses the y scale: log when every finite value is positive and max/min exceeds `span`.
+ *
+ * @param span - the max/min ratio above which the scale turns logarithmic; default 100 (losses).
+ *   Sharpness plots pass 10, so a limit near 2 stays apart from a λmax that later grows to 30.
+ */
+export function chooseScale(values: readonly number[], span = 100): 'linear' | 'log' {
   let lo = Infinity;
   let hi = -Infinity;
   for (const v of values) {
@@ -197,7 +216,7 @@ export function chooseScale(values: readonly number[]): 'linear' | 'log' {
     lo = Math.min(lo, v);
     hi = Math.max(hi, v);
   }
-  return lo < Infinity && hi / lo > 100 ? 'log' : 'linear';
+  return lo < Infinity && hi / lo > span ? 'log' : 'linear';
 }
 
 /**

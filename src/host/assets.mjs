@@ -225,12 +225,25 @@ export function writePages(app, firstNotebook) {
   );
 }
 
+/** The documentation the "About Stepwell" dialog links to. */
+export const DOCS = ['README.md', 'DEVELOPERS.md'];
+
+/**
+ * Copy the documentation to `extensions/stepwell/static/docs/`, where a prebuilt Stepwell keeps
+ * it too, so the About dialog's links are the same in the embedded app and a real JupyterLab.
+ */
+export function writeDocs(dir = path.join(BUILD, 'extensions', 'stepwell', 'static', 'docs')) {
+  fs.mkdirSync(dir, { recursive: true });
+  for (const f of DOCS) fs.copyFileSync(path.join(ROOT, f), path.join(dir, f));
+}
+
 /** Write every asset; returns the notebooks of the contents index. */
 export function writeAssets() {
   const app = readAppConfig();
   writeSchemas(app);
   writeThemes(app);
   writeTranslations();
+  writeDocs();
   const notebooks = writeContents();
   writePages(app, notebooks[0]);
   return notebooks;

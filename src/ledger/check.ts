@@ -9,7 +9,7 @@ import validateLedgerSchema from './ledger-validator.generated';
 import { fingerprintState } from '../core/session/state-data';
 import { decodeSessionState, decodeTrajectory } from './codec';
 import { migrateLedger } from './migrate';
-import { decodeReadouts } from './readouts';
+import { decodeFindings, decodeReadouts } from './readouts';
 import { patchPath } from '../experiment/patch';
 import { sha256Hex } from './hash';
 import { LedgerError } from './types';
@@ -154,6 +154,14 @@ function semanticProblems(l: Ledger, checks: Checks): string[] {
     } catch (err) {
       errors.push(err instanceof LedgerError ? err.message : `${at}.readouts: ${String(err)}`);
     }
+  });
+  try {
+    decodeFindings(l.findings);
+  } catch (err) {
+    errors.push(err instanceof LedgerError ? err.message : `findings: ${String(err)}`);
+  }
+  l.findings.forEach((f, i) => {
+    if (!names.has(f.branch as string)) errors.push(`findings[${i}].branch: '${String(f.branch)}' is not the name of a branch`);
   });
   return errors;
 }

@@ -12,7 +12,7 @@ import { capTrajectory, thinCheckpoints } from './caps';
 import { LEDGER_FORMAT, LEDGER_VERSION, LedgerError } from './types';
 import type { Ledger, LedgerBranch, LedgerCheckpoint } from './types';
 import { validateLedger } from './check';
-import { decodeReadouts, encodeReadouts } from './readouts';
+import { decodeReadouts, encodeFindings, encodeReadouts } from './readouts';
 import type { DecodedReadouts, ReadoutsInput } from './readouts';
 
 /** Size limits applied while building. */
@@ -42,7 +42,7 @@ export interface BranchInput {
   head: SessionState;
   /** The state at the cursor, when the branch is shown before its tip (always kept). */
   cursor?: SessionState;
-  /** Latest curvature, sharpness trace and latest audit (plain data; see `readouts.ts`). */
+  /** Latest curvature, sharpness trace, latest audit and the diagnosis readouts (plain data; see `readouts.ts`). */
   readouts?: ReadoutsInput;
   /** Checkpoint steps the user pinned; never thinned away. */
   pinned?: readonly number[];
@@ -61,6 +61,7 @@ export interface LedgerInput {
   dataHash?: string;
   branches: readonly BranchInput[];
   activeBranch: string;
+  /** Findings of every branch, each with a `branch` field naming it (numbers may be non-finite; encoded exactly). */
   findings?: readonly Record<string, unknown>[];
   /** Defaults to the current time; pass a fixed value for reproducible output. */
   savedAt?: string;
@@ -149,7 +150,7 @@ export function buildLedger(input: LedgerInput): Ledger {
     parameterCount: input.parameterCount,
     branches,
     activeBranch: input.activeBranch,
-    findings: (input.findings ?? []).map((f, i) => jsonCopy(f, `findings[${i}]`) as Record<string, unknown>),
+    findings: encodeFindings(input.findings ?? []),
     savedAt: input.savedAt ?? new Date().toISOString(),
   };
   if (input.dataHash !== undefined) ledger.dataHash = input.dataHash;

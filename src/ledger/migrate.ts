@@ -9,7 +9,12 @@
  *   branches kept their whole trajectory, which version 2 still reads (a forked branch's
  *   records before its first stored one come from its parent, and there are none before).
  *   Readouts did not exist: none are added.
+ * - 2 → 3: the top-level `findings` become exactly encoded (as readouts are, so a non-finite
+ *   `measured` survives) and each names its branch; version 2 wrote untagged findings (in
+ *   practice none), which are given to the active branch. A branch's readouts may now hold the
+ *   diagnosis readouts too; version-2 readouts and their digests stay valid as they are.
  */
+import { encodeLoose } from './readouts';
 import { LEDGER_FORMAT, LEDGER_VERSION } from './types';
 
 /** A plain JSON object (a ledger of some version, not yet validated). */
@@ -32,8 +37,24 @@ export function migrateV1(value: LedgerJson): LedgerJson {
   };
 }
 
+/** Version 2 → 3 (see the module comment). */
+export function migrateV2(value: LedgerJson): LedgerJson {
+  const findings = Array.isArray(value.findings) ? value.findings : [];
+  const active = typeof value.activeBranch === 'string' ? value.activeBranch : '';
+  return {
+    ...value,
+    version: 3,
+    findings: findings.map((f: unknown, i: number) => {
+      if (!isObj(f)) return f;
+      // Version 2 kept plain JSON: encoding it escapes only strings that look like encoded numbers.
+      const tagged = typeof f.branch === 'string' ? f : { ...f, branch: active };
+      return encodeLoose(tagged, `findings[${i}]`);
+    })
+  };
+}
+
 /** Migrations keyed by the version they read. */
-export const MIGRATIONS: Readonly<Record<number, Migration>> = { 1: migrateV1 };
+export const MIGRATIONS: Readonly<Record<number, Migration>> = { 1: migrateV1, 2: migrateV2 };
 
 /** The oldest version this code can read. */
 export const OLDEST_READABLE_VERSION = 1;

@@ -1,7 +1,9 @@
 /**
- * Readouts kept per branch in the ledger (version 2): the latest curvature measurement, the
- * sharpness trace and the latest gradient audit, so a reopened notebook shows them without
- * recomputing. Their shapes belong to the readouts (the worker types them); the ledger keeps
+ * Readouts kept per branch in the ledger: the latest curvature measurement, the sharpness trace
+ * and the latest gradient audit (version 2), and the diagnosis readouts (version 3: the gradient
+ * noise scale, activation health at step 0 and at the cursor, the initialization check and the
+ * data checks), so a reopened notebook shows them without recomputing. The findings themselves
+ * live at the ledger's top level, tagged with their branch (see {@link encodeFindings}). Their shapes belong to the readouts (the worker types them); the ledger keeps
  * them as plain JSON with every number exact, bounded in size, and guarded by a digest.
  *
  * Exact JSON ("loose" encoding): a finite number other than -0 stays a number; any other number
@@ -15,8 +17,14 @@ import type { LedgerReadouts } from './types';
 
 /** Most sharpness points kept per branch (thinned by a power-of-two stride of steps beyond it). */
 export const MAX_SHARPNESS_POINTS = 512;
-/** Most UTF-8 bytes of one encoded readout (curvature, the sharpness trace, or audit). */
+/** Most UTF-8 bytes of one encoded readout (curvature, the sharpness trace, audit, noise, activations, init, data). */
 export const MAX_READOUT_BYTES = 256 * 1024;
+/** Most findings kept per branch (a rule fires at most once per layer; more means something is wrong). */
+export const MAX_FINDINGS_PER_BRANCH = 64;
+
+/** The version-3 readouts, in digest order after the version-2 three. */
+const DIAGNOSIS_KEYS = ['noise', 'activations', 'init', 'data'] as const;
+type DiagnosisKey = (typeof DIAGNOSIS_KEYS)[number];
 
 /**
  * Plain readouts of one branch, as the worker holds them (numbers may be non-finite). Each
@@ -26,6 +34,10 @@ export interface ReadoutsInput {
   curvature?: object | null;
   sharpness?: readonly object[];
   audit?: object | null;
+  noise?: object | null;
+  activations?: object | null;
+  init?: object | null;
+  data?: object | null;
 }
 
 /** Decoded readouts: plain values with exact numbers; the worker checks their shapes. */
@@ -33,6 +45,10 @@ export interface DecodedReadouts {
   curvature: Record<string, unknown> | null;
   sharpness: Record<string, unknown>[];
   audit: Record<string, unknown> | null;
+  noise: Record<string, unknown> | null;
+  activations: Record<string, unknown> | null;
+  init: Record<string, unknown> | null;
+  data: Record<string, unknown> | null;
 }
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
@@ -81,10 +97,15 @@ export function canonicalJson(v: unknown): string {
   return JSON.stringify(v) ?? 'null';
 }
 
-/** SHA-256 hex over the three encoded readouts in a fixed order, keys sorted; reveals hand edits. */
+/**
+ * SHA-256 hex over the encoded readouts in a fixed order, keys sorted; reveals hand edits. The
+ * version-2 three come first as version 2 hashed them; the version-3 readouts are appended only
+ * when one is present, so a version-2 digest stays valid after migration.
+ */
 export function readoutsDigest(r: Omit<LedgerReadouts, 'digest'> | Record<string, unknown>): string {
   const o = r as Record<string, unknown>;
-  return sha256Hex(`stepwell-readouts-v1;${canonicalJson([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}`);
+  const extra = DIAGNOSIS_KEYS.some((k) => o[k] !== undefined) ? `;${canonicalJson(DIAGNOSIS_KEYS.map((k) => o[k] ?? null))}` : '';
+  return sha256Hex(`stepwell-readouts-v1;${canonicalJson([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}${extra}`);
 }
 
 /**
@@ -123,6 +144,10 @@ export function encodeReadouts(r: ReadoutsInput | undefined): LedgerReadouts | u
   if (r.curvature) out.curvature = sized(encodeLoose(r.curvature, 'readouts.curvature'), 'readouts.curvature') as Record<string, unknown>;
   if (r.sharpness && r.sharpness.length > 0) out.sharpness = sized(encodeLoose(capSharpness(r.sharpness as readonly { step: number }[]), 'readouts.sharpness'), 'readouts.sharpness') as Record<string, unknown>[];
   if (r.audit) out.audit = sized(encodeLoose(r.audit, 'readouts.audit'), 'readouts.audit') as Record<string, unknown>;
+  for (const k of DIAGNOSIS_KEYS) {
+    const v = r[k];
+    if (v) out[k] = sized(encodeLoose(v, `readouts.${k}`), `readouts.${k}`) as Record<string, unknown>;
+  }
   if (Object.keys(out).length === 0) return undefined;
   return { digest: readoutsDigest(out), ...out };
 }
@@ -133,11 +158,43 @@ export function encodeReadouts(r: ReadoutsInput | undefined): LedgerReadouts | u
  * @throws LedgerError naming the field.
  */
 export function decodeReadouts(r: LedgerReadouts | undefined, field: string, verifyDigest = true): DecodedReadouts {
-  if (r === undefined) return { curvature: null, sharpness: [], audit: null };
-  if (verifyDigest && r.digest !== readoutsDigest(r)) throw new LedgerError(`${field}.digest`, 'does not match the readouts (they were edited or damaged)');
+  const one = (k: 'curvature' | 'audit' | DiagnosisKey): Record<string, unknown> | null =>
+    r?.[k] === undefined ? null : (decodeLoose(r[k], `${field}.${k}`) as Record<string, unknown>);
+  if (r !== undefined && verifyDigest && r.digest !== readoutsDigest(r)) throw new LedgerError(`${field}.digest`, 'does not match the readouts (they were edited or damaged)');
   return {
-    curvature: r.curvature === undefined ? null : (decodeLoose(r.curvature, `${field}.curvature`) as Record<string, unknown>),
-    sharpness: r.sharpness === undefined ? [] : (decodeLoose(r.sharpness, `${field}.sharpness`) as Record<string, unknown>[]),
-    audit: r.audit === undefined ? null : (decodeLoose(r.audit, `${field}.audit`) as Record<string, unknown>)
+    curvature: one('curvature'),
+    sharpness: r?.sharpness === undefined ? [] : (decodeLoose(r.sharpness, `${field}.sharpness`) as Record<string, unknown>[]),
+    audit: one('audit'),
+    noise: one('noise'),
+    activations: one('activations'),
+    init: one('init'),
+    data: one('data')
   };
+}
+
+/**
+ * Encodes the findings of every branch for the ledger's top level: each a plain object with a
+ * `branch` field (the caller tags them), numbers exact (a non-finite `measured` survives), at
+ * most {@link MAX_FINDINGS_PER_BRANCH} per branch (the first ones: rules list the most severe first).
+ * @throws LedgerError naming the finding when one is not plain data or has no branch.
+ */
+export function encodeFindings(findings: readonly Record<string, unknown>[]): Record<string, unknown>[] {
+  const perBranch = new Map<string, number>();
+  const out: Record<string, unknown>[] = [];
+  findings.forEach((f, i) => {
+    if (typeof f.branch !== 'string' || f.branch === '') throw new LedgerError(`findings[${i}].branch`, `must name the finding's branch, got ${JSON.stringify(f.branch) ?? 'nothing'}`);
+    const n = perBranch.get(f.branch) ?? 0;
+    if (n >= MAX_FINDINGS_PER_BRANCH) return;
+    perBranch.set(f.branch, n + 1);
+    out.push(encodeLoose(f, `findings[${i}]`) as Record<string, unknown>);
+  });
+  return out;
+}
+
+/**
+ * Decodes the top-level findings (inverse of {@link encodeFindings}).
+ * @throws LedgerError naming the finding.
+ */
+export function decodeFindings(findings: readonly Record<string, unknown>[]): Record<string, unknown>[] {
+  return findings.map((f, i) => decodeLoose(f, `findings[${i}]`) as Record<string, unknown>);
 }

@@ -10,7 +10,7 @@ export const LEDGER_KEY = 'stepwell';
 /** Value of {@link Ledger.format}. */
 export const LEDGER_FORMAT = 'stepwell-ledger';
 /** The version this code writes (and the newest it reads). */
-export const LEDGER_VERSION = 2;
+export const LEDGER_VERSION = 3;
 
 /**
  * A scalar that JSON can carry exactly: a finite number other than -0 as itself, anything
@@ -81,6 +81,14 @@ export interface LedgerReadouts {
   sharpness?: Record<string, unknown>[];
   /** The latest gradient audit (`{step, result}`). */
   audit?: Record<string, unknown>;
+  /** The latest gradient noise scale (must carry an integer `step`). Version 3. */
+  noise?: Record<string, unknown>;
+  /** Activation health at step 0 (`start`) and at the branch's cursor (`now`). Version 3. */
+  activations?: Record<string, unknown>;
+  /** The initialization check of the branch's setup (without its activation health, which is `activations.start`). Version 3. */
+  init?: Record<string, unknown>;
+  /** The data checks of the branch's setup (features listed up to a bound). Version 3. */
+  data?: Record<string, unknown>;
 }
 
 /**
@@ -112,7 +120,7 @@ export interface LedgerBranch {
   readouts?: LedgerReadouts;
 }
 
-/** The whole metadata value, format version 2. */
+/** The whole metadata value, format version 3. */
 export interface Ledger {
   format: typeof LEDGER_FORMAT;
   version: typeof LEDGER_VERSION;
@@ -129,7 +137,11 @@ export interface Ledger {
   parameterCount: number;
   branches: LedgerBranch[];
   activeBranch: string;
-  /** Findings (typed by the findings rules; kept as plain objects here). */
+  /**
+   * The findings of every branch, each a plain object of the findings rules' shape with a
+   * `branch` field naming its branch, branches in ledger order; numbers in the exact encoding of
+   * `readouts.ts` (a non-finite `measured` survives). Version 2 carried untagged objects.
+   */
   findings: Record<string, unknown>[];
   /** ISO-8601 time of writing; informational only. */
   savedAt?: string;

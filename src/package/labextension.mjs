@@ -8,6 +8,7 @@ import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { createRequire } from 'node:module';
 import { ROOT } from '../host/paths.mjs';
+import { writeDocs } from '../host/assets.mjs';
 
 const require = createRequire(import.meta.url);
 /** Where the prebuilt extension is written (package.json `jupyterlab.outputDir`). */
@@ -22,7 +23,9 @@ const INPUTS = [
   'package.json',
   'package-lock.json',
   'tsconfig.json',
-  'tsconfig.lib.json'
+  'tsconfig.lib.json',
+  'README.md',
+  'DEVELOPERS.md'
 ];
 
 function inputsKey(mode) {
@@ -68,6 +71,8 @@ export function buildLabextension({ development = false, ifStale = false, quiet 
   const builder = path.join(path.dirname(require.resolve('@jupyter/builder/package.json')), 'lib', 'build-labextension.js');
   const core = require.resolve('@jupyterlab/core-meta/core.package.json');
   run('@jupyter/builder build-labextension', [builder, '--core-package-file', core, ...(development ? ['--development'] : []), ROOT]);
+  // The documentation the About dialog links to, served with the extension's static files.
+  writeDocs(path.join(LABEXTENSION, 'static', 'docs'));
   fs.mkdirSync(path.dirname(STAMP), { recursive: true });
   fs.writeFileSync(STAMP, key);
   const seconds = (Date.now() - t0) / 1000;

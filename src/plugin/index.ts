@@ -21,6 +21,7 @@ import { IStepwellCells } from './tokens';
 import { followCellLanguage } from './cell-language';
 import { loadMagicInKernel } from './kernel';
 import { addTakeDataCommand } from './take-command';
+import { addAboutCommand } from './about';
 
 /** The id of the plugin that owns schema/plugin.json (settings, toolbar, shortcuts). */
 export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
@@ -86,6 +87,7 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
         checkpointEvery: pick('checkpointEvery'),
         checkpointCap: pick('checkpointCap'),
         auditSample: pick('auditSample'),
+        noiseSample: pick('noiseSample'),
         denseHessianLimit: pick('denseHessianLimit'),
         eigenCount: pick('eigenCount'),
         kernelDataLimit: pick('kernelDataLimit')
@@ -114,5 +116,14 @@ const kernelPlugin: JupyterFrontEndPlugin<void> = {
   }
 };
 
-const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin];
+/** "About Stepwell": Stepwell's own dialog, in the Help menu. */
+const aboutPlugin: JupyterFrontEndPlugin<void> = {
+  id: 'stepwell:about',
+  description: 'Adds "About Stepwell" (version, what it is, the small-proxy caveat, its documentation) to the Help menu.',
+  autoStart: true,
+  optional: [ICommandPalette],
+  activate: (app: JupyterFrontEnd, palette: ICommandPalette | null): void => addAboutCommand(app, palette)
+};
+
+const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, aboutPlugin];
 export default plugins;

@@ -82,6 +82,30 @@ export abstract class BranchController extends ControllerBase {
     return this.persist();
   }
 
+  /**
+   * "Try as branch" on finding `index` of the shown branch: switches to the branch that already
+   * tried its proposal, else forks one from the shown branch at the proposal's step with its keys
+   * (`forkBranch`) and shows it.
+   *
+   * @returns true when the branch is shown and the ledger written.
+   */
+  async tryFinding(index: number): Promise<boolean> {
+    const f = this.st.diagnosis.findings[index];
+    const from = this.st.summary?.branch;
+    if (f === undefined || f.proposal === null || from === undefined) return false;
+    const tried = this.st.diagnosis.derived.tried[index] ?? null;
+    if (tried !== null) {
+      const ok = await this.switchBranch(tried);
+      if (ok) this.notice('info', `Branch ${tried} already tries this proposal of ${f.id}; it is shown now.`);
+      return ok;
+    }
+    const p = f.proposal;
+    if (!(await this.forkBranch({ atStep: p.atStep, set: p.set, from }))) return false;
+    const made = this.st.summary?.branch ?? '';
+    this.notice('info', `Trying the proposal of ${f.id}: branch ${made} from step ${p.atStep} of ${from} with ${Object.entries(p.set).map(([k, v]) => `${k}=${String(v)}`).join(', ')}. Step it to see whether it fixes what ${from} shows; the Compare tab overlays both.`);
+    return true;
+  }
+
   /** Checks the branch form's patch text as it is typed (problems carry lines of the patch text). */
   checkBranchForm(text: string, from = this.st.summary?.branch ?? ''): void {
     const spec = this.st.sessionSpec;
@@ -246,7 +270,7 @@ export abstract class BranchController extends ControllerBase {
     const axis = this.st.comparison.axis;
     const figureText = comparisonText(data.traces, axis);
     const image = this.deps.imageOf ? await this.deps.imageOf(comparisonFigure(data.traces, axis, IMAGE_THEME, { width: 720, height: 320 })) : null;
-    const input = { question: q, chosen, comparison: data.comparison, traces: data.traces, findings: this.st.findings, image: image === null ? null : RECORD_IMAGE, figureText };
+    const input = { question: q, chosen, comparison: data.comparison, traces: data.traces, image: image === null ? null : RECORD_IMAGE, figureText };
     let source: string;
     try {
       source = decisionRecord(input);

@@ -13,7 +13,7 @@ import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
 import { cellSummary, lossImage, markdownSummary, meanMs, problemLine } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
-import { initialViewState, viewFromLedger } from './view-state';
+import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
 /** Collaborators of a cell controller. */
 export interface ControllerDeps {
@@ -137,7 +137,7 @@ export abstract class ControllerBase {
 
   protected async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
-    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], findings: [], verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
@@ -154,6 +154,7 @@ export abstract class ControllerBase {
       specEdited: false,
       summary: reply.summary,
       trajectory: reply.trajectory,
+      diagnosis: diagnosisOf(reply.readouts),
       warnings: reply.warnings,
       msPerStep: undefined,
       notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
@@ -214,8 +215,14 @@ export abstract class ControllerBase {
       curvature: reply.readouts.curvature,
       sharpness: reply.readouts.sharpness,
       audit: reply.readouts.audit,
+      diagnosis: diagnosisOf(reply.readouts),
       verify: null
     });
+  }
+
+  /** Takes a branch's readouts after a measurement or a run: the measurements and the diagnosis. */
+  protected applyReadouts(r: BranchReadouts): void {
+    this.set({ curvature: r.curvature, sharpness: r.sharpness, audit: r.audit, diagnosis: diagnosisOf(r) });
   }
 
   protected failed(reply: FinalReply): false {

@@ -1,8 +1,8 @@
 /**
  * The live widget of a stepwell cell: status line, problems, notice and confirmation, the branch
- * bar, controls, inline forms, progress with Stop, readout tabs and the proxy-model note. A view
- * over a {@link CellController}: it renders the controller's state and forwards clicks; it never
- * computes numbers.
+ * bar, controls, inline forms, progress with Stop, the findings strip, readout tabs with their
+ * panel ({@link ReadoutPanels}) and the proxy-model note. A view over a {@link CellController}:
+ * it renders the controller's state and forwards clicks; it never computes numbers.
  */
 import { Widget } from '@lumino/widgets';
 import type { CellController } from './controller';
@@ -10,14 +10,10 @@ import { button, el, replaceChildren, show } from './dom';
 import { chipSteps, readNumber, rewindForm, runUntilForm } from './forms';
 import { branchForm, confirmBar, recordForm, renameForm } from './branch-forms';
 import { branchBar } from './branch-bar';
-import { comparePanel } from './compare-panel';
-import { comparisonFigure, sharpnessOverlayFigure } from '../figures/compare';
-import { readTheme, releaseFigure, renderFigure, resizeFigure } from './plot';
-import { auditPanel, curvaturePanel, layersPanel } from './readouts';
-import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
-import { traceFigure, traceText } from '../figures/trace';
 import { rovingFocus } from './keyboard';
+import { findingsStrip } from './findings-strip';
+import { ReadoutPanels } from './panel-view';
 import type { CellViewState } from './view-state';
 import { READOUT_TABS } from './view-state';
 
@@ -30,15 +26,8 @@ export namespace CellWidgetClass {
   export const controls = 'sw-Controls';
   export const progress = 'sw-Progress';
   export const tabs = 'sw-Tabs';
-  export const plot = 'sw-TracePlot';
+  export const findings = 'sw-FindingsSlot';
 }
-
-/**
- * Least milliseconds between plot redraws while work is running. A plotly redraw costs tens
- * of milliseconds of main-thread time; the status line and progress bar update on every
- * progress message, the plot about once a second.
- */
-const PLOT_INTERVAL_MS = 1000;
 
 /** The widget shown in a stepwell cell's output area. */
 export class StepwellCellWidget extends Widget {
@@ -54,19 +43,15 @@ export class StepwellCellWidget extends Widget {
   private readonly progressBar = el('progress', 'sw-ProgressBar');
   private readonly progressText = el('span', 'sw-ProgressText');
   private readonly tabsNode = el('div', CellWidgetClass.tabs);
-  private readonly panelNode = el('div', 'sw-Panel');
-  private readonly plotNode = el('div', CellWidgetClass.plot);
-  private readonly curvaturePlot = el('div', 'sw-CurvaturePlot');
-  private readonly sharpnessPlot = el('div', 'sw-CurvaturePlot sw-SharpnessPlot');
-  private readonly comparePlot = el('div', 'sw-ComparePlot');
-  private readonly compareSharpnessPlot = el('div', 'sw-ComparePlot sw-CompareSharpnessPlot');
+  private readonly findingsNode = el('div', CellWidgetClass.findings);
+  private readonly panels: ReadoutPanels;
   private readonly nInput = el('input', 'sw-Input sw-StepN');
   private readonly buttons: Record<string, HTMLButtonElement> = {};
   private readonly tabButtons: HTMLButtonElement[] = [];
   private setBranchProblems: ((p: CellViewState['branchProblems']) => void) | null = null;
-  private lastPlot = 0;
-  private plotTimer: number | null = null;
-  private renderedPanel: string | null = null;
+  private renderedFindings: string | null = null;
+  /** Whether the folded findings are shown (kept across rebuilds of the strip). */
+  private findingsMore = false;
   private renderedForm: string | null = null;
   private renderedBar: string | null = null;
   private renderedConfirm: string | null = null;
@@ -76,6 +61,7 @@ export class StepwellCellWidget extends Widget {
   constructor(options: StepwellCellWidget.Options) {
     super();
     this.controller = options.controller;
+    this.panels = new ReadoutPanels(this.controller, () => this.isAttached);
     this.addClass(CellWidgetClass.root);
     this.build();
     this.controller.changed.connect(this.onState, this);
@@ -122,9 +108,8 @@ export class StepwellCellWidget extends Widget {
     });
     this.tabsNode.setAttribute('role', 'tablist');
     this.tabsNode.setAttribute('aria-label', 'Readouts (arrow keys switch)');
-    this.panelNode.setAttribute('role', 'tabpanel');
     this.node.append(head, this.problemsNode, this.noticeNode, this.confirmNode, this.branchNode, this.controlsNode, this.formNode,
-      this.progressNode, this.tabsNode, this.panelNode, el('p', 'sw-ProxyNote', PROXY_NOTE));
+      this.progressNode, this.findingsNode, this.tabsNode, this.panels.node, el('p', 'sw-ProxyNote', PROXY_NOTE));
   }
 
   private onState(_: CellController, state: CellViewState): void {
@@ -176,7 +161,25 @@ export class StepwellCellWidget extends Widget {
     const selected = READOUT_TABS.findIndex(([t]) => t === s.tab);
     this.tabButtons.forEach((b, i) => b.setAttribute('aria-selected', String(i === selected)));
     rovingFocus(this.tabsNode, this.tabButtons, selected, i => this.controller.setTab(READOUT_TABS[i][0]));
-    this.renderPanel(s);
+    this.renderFindings(s);
+    this.panels.render(s);
+  }
+
+  /** The findings strip, rebuilt only when the findings (or whether work runs) changed. */
+  private renderFindings(s: CellViewState): void {
+    const d = s.diagnosis;
+    const key = JSON.stringify([s.summary?.branch, d.findings.map(f => [f.id, f.layer, f.statement, f.proposal]), d.derived.tried, s.busy !== null, s.specEdited]);
+    if (key === this.renderedFindings) return;
+    this.renderedFindings = key;
+    const stepping = s.busy !== null && s.busy.total > 0;
+    const strip = findingsStrip(d.findings, d.derived.tried, s.busy !== null || s.specEdited, {
+      tryFinding: i => void this.controller.tryFinding(i),
+      toggleMore: open => {
+        this.findingsMore = open;
+      }
+    }, stepping ? 'refreshed about once a second while it steps' : null, this.findingsMore);
+    replaceChildren(this.findingsNode, [strip]);
+    show(this.findingsNode, d.findings.length > 0);
   }
 
   private renderConfirm(s: CellViewState): void {
@@ -242,95 +245,15 @@ export class StepwellCellWidget extends Widget {
     }
   }
 
-  private renderPanel(s: CellViewState): void {
-    if (s.tab === 'trace') {
-      if (this.renderedPanel !== 'trace') replaceChildren(this.panelNode, [this.plotNode]);
-      this.renderedPanel = 'trace';
-      this.schedulePlot(s.busy !== null);
-      return;
-    }
-    const last = s.trajectory[s.trajectory.length - 1];
-    const step = s.summary?.step ?? 0;
-    const key =
-      `${s.tab}:${s.summary?.branch}:${step}:${last?.step}:${s.audit?.step}:${s.curvature?.step}:${s.curvature?.products}:${s.busy !== null}:` +
-      `${s.sharpness.length}:${s.sharpness[s.sharpness.length - 1]?.step}:${s.stepN}:` +
-      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
-    if (key === this.renderedPanel) return;
-    this.renderedPanel = key;
-    // The plot nodes are reused across panel rebuilds (plotly updates them in place); they are
-    // released in dispose() only, since purging one with a redraw pending breaks plotly.
-    const c = this.controller;
-    const atCursor = s.trajectory.find(r => r.step === step) ?? last;
-    let panel: HTMLElement;
-    switch (s.tab) {
-      case 'layers':
-        panel = layersPanel(atCursor);
-        break;
-      case 'audit':
-        panel = auditPanel(s.audit, () => void c.audit(), s.busy !== null, step);
-        break;
-      case 'curvature':
-        panel = curvaturePanel(
-          s.curvature,
-          s.sharpness,
-          { measure: () => void c.measureCurvature(), track: () => void c.trackSharpness(), trackSteps: c.defaultN },
-          s.busy !== null,
-          { spectrum: this.curvaturePlot, history: this.sharpnessPlot },
-          step
-        );
-        break;
-      case 'compare':
-        panel = comparePanel(s.comparison, s.summary?.branches ?? [], s.busy !== null, {
-          choose: names => void c.setCompared(names),
-          axis: axis => c.setCompareAxis(axis),
-          refresh: () => void c.compare(),
-          record: () => c.setForm('record')
-        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot });
-        break;
-    }
-    replaceChildren(this.panelNode, [panel]);
-    if (!this.isAttached) return;
-    const theme = readTheme(this.node);
-    if (s.tab === 'curvature') {
-      if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
-      if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
-    }
-    if (s.tab === 'compare' && s.comparison.data !== null) {
-      const traces = s.comparison.data.traces;
-      void renderFigure(this.comparePlot, comparisonFigure(traces, s.comparison.axis, theme));
-      if (traces.some(t => t.sharpness.length > 0)) void renderFigure(this.compareSharpnessPlot, sharpnessOverlayFigure(traces, theme));
-    }
-  }
-
-  private schedulePlot(throttle: boolean): void {
-    if (!this.isAttached) return;
-    const wait = throttle ? PLOT_INTERVAL_MS - (performance.now() - this.lastPlot) : 0;
-    if (wait <= 0) return this.drawPlot();
-    if (this.plotTimer === null) this.plotTimer = window.setTimeout(() => this.drawPlot(), wait);
-  }
-
-  private drawPlot(): void {
-    if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
-    this.plotTimer = null;
-    this.lastPlot = performance.now();
-    const s = this.controller.state;
-    if (s.trajectory.length === 0 || s.tab !== 'trace' || this.isDisposed || !this.isAttached) return;
-    // While stepping, the records arriving are past the summary's step: no cursor to mark then.
-    const cursor = s.busy === null ? s.summary?.step : undefined;
-    this.plotNode.setAttribute('role', 'img');
-    this.plotNode.setAttribute('aria-label', traceText(s.trajectory, cursor));
-    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node), { cursor }));
-  }
-
   /** Draws the plot once the node is in the page, and follows theme changes. */
   protected onAfterAttach(): void {
     this.themeObserver = new MutationObserver(() => {
-      this.renderedPanel = null;
+      this.panels.invalidate();
       this.render(this.controller.state);
-      this.drawPlot();
+      this.panels.drawTrace();
     });
     this.themeObserver.observe(document.body, { attributes: true, attributeFilter: ['data-jp-theme-name', 'data-jp-theme-light'] });
-    this.drawPlot();
+    this.panels.drawTrace();
   }
 
   /** Stops following theme changes. */
@@ -341,15 +264,14 @@ export class StepwellCellWidget extends Widget {
 
   /** Re-lays out the displayed plots after a resize (hidden ones are laid out when shown). */
   protected onResize(): void {
-    for (const node of [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot]) resizeFigure(node);
+    this.panels.resize();
   }
 
   /** Disconnects from the controller and frees the plots. Idempotent. */
   dispose(): void {
     if (this.isDisposed) return;
     this.controller.changed.disconnect(this.onState, this);
-    if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
-    for (const node of [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot]) releaseFigure(node);
+    this.panels.dispose();
     super.dispose();
   }
 }

@@ -18,7 +18,8 @@ import { BranchController, type ControllerDeps } from './branch-controller';
 import { readNumber } from './forms';
 import { errorMarkdown, meanMs, problemLine, requestMs, verifyLines } from './summary';
 import type { Notice } from './view-state';
-import { mergeSharpness } from './view-state';
+import { diagnosisOf, mergeSharpness } from './view-state';
+import { conditionProblem, conditionText } from './forms';
 
 export type { ControllerDeps } from './branch-controller';
 
@@ -102,8 +103,13 @@ export class CellController extends BranchController {
     return this.stepping(`Step ×${n} tracking λmax`, { kind: 'step', n, sharpnessEvery: every }, n);
   }
 
-  /** Steps until `condition` holds, at most `maxSteps` steps. */
+  /** Steps until `condition` holds, at most `maxSteps` steps (says so when the cap ends it first). */
   runUntil(condition: StopCondition, maxSteps: number): Promise<boolean> {
+    const problem = conditionProblem(condition);
+    if (problem !== null) {
+      this.notice('error', `Run until: ${problem}. Nothing was run.`);
+      return Promise.resolve(false);
+    }
     this.set({ runUntil: { condition, maxSteps }, form: null });
     return this.stepping(`Run until (max ${maxSteps})`, { kind: 'run-until', condition, maxSteps }, maxSteps);
   }
@@ -125,7 +131,9 @@ export class CellController extends BranchController {
       this.set({
         busy: { action, done: p.done, total },
         trajectory: thinInPlace(this.st.trajectory.concat(p.records.filter(r => r.step > this.lastStep()))),
-        sharpness: mergeSharpness(this.st.sharpness, p.sharpness)
+        sharpness: mergeSharpness(this.st.sharpness, p.sharpness),
+        // Findings refreshed by the worker about once a second of work.
+        ...(p.readouts === undefined ? {} : { diagnosis: diagnosisOf(p.readouts) })
       });
     });
     if (reply.kind !== 'stepped') {
@@ -149,13 +157,18 @@ export class CellController extends BranchController {
         notice = { level: 'info', text: `Condition met at step ${reply.summary.step}.` };
         break;
       case 'done':
+        // A run-until that used up its cap says so: it stopped without the condition holding.
+        if (body.kind === 'run-until') {
+          notice = { level: 'warn', text: `Stopped at step ${reply.summary.step} after the most steps allowed (${body.maxSteps}); the condition (${conditionText(body.condition)}) was not met.` };
+        }
         break;
     }
     this.set({
       busy: null,
       summary: reply.summary,
       trajectory: thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep()))),
-      sharpness: mergeSharpness(this.st.sharpness, reply.sharpness),
+      sharpness: reply.readouts.sharpness,
+      diagnosis: diagnosisOf(reply.readouts),
       msPerStep: requestMs(reply.updates, reply.elapsedMs) ?? meanMs(produced.slice(-RECENT_RECORDS)) ?? this.st.msPerStep,
       notice
     });
@@ -189,7 +202,18 @@ export class CellController extends BranchController {
     const reply = await this.exchange('Gradient audit', { kind: 'gradcheck', sample: this.deps.settings().auditSample });
     if (reply === null) return false;
     if (reply.kind !== 'audit') return this.failed(reply);
-    this.set({ audit: { step: reply.step, result: reply.result }, tab: 'audit' });
+    this.applyReadouts(reply.readouts);
+    this.set({ tab: 'audit' });
+    return this.persist();
+  }
+
+  /** Measures the gradient noise scale at the active branch's step (shown on the Data tab). */
+  async measureNoise(): Promise<boolean> {
+    const reply = await this.exchange('Measuring the gradient noise scale', { kind: 'noise', sample: this.deps.settings().noiseSample });
+    if (reply === null) return false;
+    if (reply.kind !== 'noise') return this.failed(reply);
+    this.applyReadouts(reply.readouts);
+    this.set({ tab: 'data' });
     return this.persist();
   }
 
@@ -199,7 +223,8 @@ export class CellController extends BranchController {
     const reply = await this.exchange('Measuring curvature', { kind: 'curvature', k: eigenCount, denseLimit: denseHessianLimit });
     if (reply === null) return false;
     if (reply.kind !== 'curvature') return this.failed(reply);
-    this.set({ curvature: reply.result, tab: 'curvature' });
+    this.applyReadouts(reply.readouts);
+    this.set({ tab: 'curvature' });
     return this.persist();
   }
 

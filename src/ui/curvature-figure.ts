@@ -5,7 +5,7 @@
  */
 import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
 import type { Figure, FigureNote, FigureTheme, LineSeries } from '../figures/trace';
-import { chooseScale, stepAxis, themedAxis, themedLayout } from '../figures/trace';
+import { chooseScale, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themedLayout } from '../figures/trace';
 
 /**
  * Builds the spectrum-ends figure.
@@ -134,16 +134,14 @@ export function sharpnessFigure(points: readonly SharpnessPoint[], theme: Figure
       });
     }
   }
+  const values = [...points.map(p => p.sharpness), ...limited.map(p => p.limit as number)];
+  const scale = chooseScale(values, SHARPNESS_LOG_SPAN);
   return {
     data,
     layout: themedLayout(theme, {
       height: 240,
       xaxis: stepAxis(theme, points.length > 0 ? points[points.length - 1].step : 0),
-      yaxis: themedAxis(
-        theme,
-        pre ? 'sharpness of the preconditioned Hessian' : 'λmax',
-        chooseScale([...points.map(p => p.sharpness), ...limited.map(p => p.limit as number)])
-      ),
+      yaxis: { ...themedAxis(theme, `${pre ? 'sharpness of the preconditioned Hessian' : 'λmax'}${scale === 'log' ? ' (log scale)' : ''}`, scale), ...logTicks(values, scale) },
       annotations: [],
       showlegend: true
     })

@@ -10,6 +10,7 @@
 import type { BranchComparison, BranchTrace } from '../worker/protocol';
 import type { LossVerdict, MatchedCell } from '../core/session';
 import { escapeMarkdown, fmt, PROXY_NOTE } from './summary';
+import { measuredLine, sourceText } from './findings-strip';
 
 /** Cell-metadata key that marks a decision record (and names the stepwell cell it belongs to). */
 export const RECORD_KEY = 'stepwell-record';
@@ -34,9 +35,8 @@ export interface RecordInput {
   /** The chosen branch (one of the compared). */
   chosen: string;
   comparison: BranchComparison;
+  /** The compared branches; their findings (with sources) come from here. */
   traces: readonly BranchTrace[];
-  /** Findings carried in the ledger (plain objects; shown with their sources when present). */
-  findings: readonly Record<string, unknown>[];
   /** Attachment name of the figure, or null when there is no image. */
   image: string | null;
   /** Text alternative of the figure. */
@@ -67,18 +67,28 @@ function sharpnessText(c: MatchedCell): string {
   return `${num(c.sharpness)} / ${num(c.limit)} (${c.stable ? 'within' : 'above'})`;
 }
 
-/** One line per finding: severity, id, step, statement, measured against threshold, source. */
-function findingLines(findings: readonly Record<string, unknown>[]): string[] {
-  if (findings.length === 0) return ['No findings were recorded in this cell.'];
-  return findings.map((f) => {
-    const str = (k: string): string | null => (typeof f[k] === 'string' ? (f[k] as string) : null);
-    const numAt = (k: string): string | null => (typeof f[k] === 'number' ? fmt(f[k] as number) : null);
-    const head = [str('severity') ? escapeMarkdown(str('severity') as string) : null, str('id') ? `\`${(str('id') as string).replace(/`/g, '')}\`` : null].filter((x) => x !== null).join(' ');
-    const where = [numAt('step') !== null ? `step ${numAt('step')}` : null, numAt('layer') !== null ? `layer ${numAt('layer')}` : null, str('branch') ? `branch ${str('branch')}` : null].filter((x) => x !== null);
-    const measured = numAt('measured') !== null && numAt('threshold') !== null ? ` Measured ${numAt('measured')} against the threshold ${numAt('threshold')}.` : '';
-    const source = str('source') ? ` Source: ${escapeMarkdown(str('source') as string)}.` : '';
-    return `- **${head || 'finding'}**${where.length > 0 ? ` (${escapeMarkdown(where.join(', '))})` : ''}: ${escapeMarkdown(str('statement') ?? JSON.stringify(f))}${escapeMarkdown(measured)}${source}`;
-  });
+/** A proposal as flat keys, e.g. `lr=0.0123, model.gain=1`. */
+function proposalText(set: Readonly<Record<string, unknown>>): string {
+  return Object.entries(set).map(([k, v]) => `${k}=${String(v)}`).join(', ');
+}
+
+/**
+ * One line per finding of each compared branch: branch, severity, id, step, layer, the statement,
+ * the number against its threshold, the source, and the proposal with the branch that tried it.
+ */
+function findingLines(traces: readonly BranchTrace[]): string[] {
+  const lines: string[] = [];
+  for (const t of traces) {
+    t.findings.forEach((f, i) => {
+      const where = [`branch ${t.name}`, f.step !== null ? `step ${f.step}` : null, f.layer !== null ? `layer ${f.layer}` : null].filter((x) => x !== null).join(', ');
+      const tried = t.tried[i] ?? null;
+      const proposal = f.proposal === null ? ''
+        : ` Proposal: from step ${f.proposal.atStep}, ${escapeMarkdown(proposalText(f.proposal.set))}${tried !== null ? ` — tried as branch ${escapeMarkdown(tried)}` : ''}.`;
+      lines.push(`- **${escapeMarkdown(f.severity)} \`${f.id.replace(/`/g, '')}\`** (${escapeMarkdown(where)}): ${escapeMarkdown(f.statement)} ` +
+        `Measured: ${escapeMarkdown(measuredLine(f))}. Source: ${escapeMarkdown(sourceText(f.source))}.${proposal}`);
+    });
+  }
+  return lines.length > 0 ? lines : ['The compared branches have no findings.'];
 }
 
 /**
@@ -124,7 +134,10 @@ export function decisionRecord(input: RecordInput): string {
   );
   out.push(...crossings, '');
 
-  out.push('### Findings', '', ...findingLines(input.findings), '');
+  out.push('### Findings', '', ...findingLines(traces), '');
+  if (traces.some((t) => t.findings.some((f) => f.proposal !== null))) {
+    out.push('*Proposals are measured on this small proxy experiment: a guess to confirm at full scale, not a prescription.*', '');
+  }
 
   if (input.image !== null) {
     out.push('### Comparison', '', `![${cell(input.figureText)}](attachment:${input.image})`, '');

@@ -26,6 +26,63 @@ export function readNumber(text: string, field: string, integer: boolean, min: n
   return v;
 }
 
+/** The conditions the run-until form offers. */
+export type FormCondition = 'loss-below' | 'grad-norm-below' | 'diverged';
+
+/** The threshold each condition starts with: a small loss or gradient norm, a thousandfold rise of the loss. */
+export const CONDITION_DEFAULTS: Readonly<Record<FormCondition, number>> = { 'loss-below': 1e-3, 'grad-norm-below': 1e-3, diverged: 1e3 };
+
+/** A stop condition in words, e.g. `training loss ≤ 0.001` or `loss above 1000 × its start`. */
+export function conditionText(c: StopCondition): string {
+  switch (c.kind) {
+    case 'loss-below':
+      return `training loss ≤ ${c.value}`;
+    case 'grad-norm-below':
+      return `gradient norm ≤ ${c.value}`;
+    case 'diverged':
+      return `loss above ${c.factor ?? CONDITION_DEFAULTS.diverged} × its start`;
+    case 'steps':
+      return `${c.count} steps`;
+    default: {
+      const never: never = c;
+      throw new Error(`unknown stop condition ${JSON.stringify(never)}`);
+    }
+  }
+}
+
+/**
+ * The threshold box's text after the condition changes to `kind`: what was last typed for that
+ * condition, else its default (a loss threshold of 0.001 means nothing as a growth factor).
+ */
+export function thresholdText(kind: FormCondition, typed: Readonly<Partial<Record<FormCondition, string>>>): string {
+  return typed[kind] ?? String(CONDITION_DEFAULTS[kind]);
+}
+
+/**
+ * The stop condition of the form's values, or a message naming the bad value. A growth factor
+ * must exceed 1: at or below it the loss "grows above × start" without growing at all.
+ */
+export function readCondition(kind: FormCondition, text: string): StopCondition | string {
+  const v = readNumber(text, kind === 'diverged' ? 'the factor' : 'the threshold', false, 0);
+  if (typeof v === 'string') return v;
+  switch (kind) {
+    case 'diverged':
+      return v > 1 ? { kind: 'diverged', factor: v } : `the factor must be above 1 (the loss grows above factor × its value at the start of the run), got ${text.trim()}`;
+    case 'grad-norm-below':
+      return { kind: 'grad-norm-below', value: v };
+    case 'loss-below':
+      return { kind: 'loss-below', value: v };
+  }
+}
+
+/** A stop condition's problem before a run, or null (the same check the form makes, for every caller). */
+export function conditionProblem(c: StopCondition): string | null {
+  if (c.kind === 'diverged' && !((c.factor ?? CONDITION_DEFAULTS.diverged) > 1)) {
+    return `the factor must be above 1 (the loss grows above factor × its value at the start of the run), got ${String(c.factor)}`;
+  }
+  return null;
+}
+
 /** Builds the run-until form. */
 export function runUntilForm(
   initial: { condition: StopCondition; maxSteps: number },
@@ -33,9 +90,9 @@ export function runUntilForm(
   onCancel: () => void
 ): HTMLElement {
   const form = el('div', 'sw-Form');
-  const kind = el('select', 'sw-Select');
+  const kind = el('select', 'sw-Select sw-UntilKind');
   kind.setAttribute('aria-label', 'stop condition');
-  const options: [StopCondition['kind'], string][] = [
+  const options: [FormCondition, string][] = [
     ['loss-below', 'training loss ≤'],
     ['grad-norm-below', 'gradient norm ≤'],
     ['diverged', 'loss grows above × start']
@@ -45,27 +102,32 @@ export function runUntilForm(
     o.value = value;
     kind.appendChild(o);
   }
-  kind.value = initial.condition.kind;
-  const value = el('input', 'sw-Input');
-  value.setAttribute('aria-label', 'threshold');
   const c = initial.condition;
-  value.value = String(c.kind === 'diverged' ? c.factor ?? 1000 : c.kind === 'steps' ? c.count : c.value);
+  const start: FormCondition = c.kind === 'steps' ? 'loss-below' : c.kind;
+  kind.value = start;
+  const value = el('input', 'sw-Input sw-UntilValue');
+  value.setAttribute('aria-label', 'threshold');
+  // What was typed per condition, so switching back and forth never carries a number across.
+  const typed: Partial<Record<FormCondition, string>> = { [start]: String(c.kind === 'diverged' ? c.factor ?? CONDITION_DEFAULTS.diverged : c.kind === 'steps' ? CONDITION_DEFAULTS['loss-below'] : c.value) };
+  value.value = thresholdText(start, typed);
+  let shown: FormCondition = start;
+  kind.addEventListener('change', () => {
+    typed[shown] = value.value;
+    shown = kind.value as FormCondition;
+    value.value = thresholdText(shown, typed);
+  });
   const max = el('input', 'sw-Input');
   max.setAttribute('aria-label', 'most steps');
   max.value = String(initial.maxSteps);
   const error = el('span', 'sw-FormError');
+  error.setAttribute('role', 'alert');
   const go = button('Run', 'Start stepping until the condition holds', () => {
-    const threshold = readNumber(value.value, 'the threshold', false, 0);
+    const condition = readCondition(kind.value as FormCondition, value.value);
     const steps = readNumber(max.value, 'most steps', true, 1);
-    if (typeof threshold === 'string' || typeof steps === 'string') {
-      error.textContent = typeof threshold === 'string' ? threshold : String(steps);
+    if (typeof condition === 'string' || typeof steps === 'string') {
+      error.textContent = typeof condition === 'string' ? condition : String(steps);
       return;
     }
-    const k = kind.value;
-    const condition: StopCondition =
-      k === 'diverged' ? { kind: 'diverged', factor: threshold }
-        : k === 'grad-norm-below' ? { kind: 'grad-norm-below', value: threshold }
-          : { kind: 'loss-below', value: threshold };
     onRun(condition, steps);
   });
   form.append(el('span', 'sw-Label', 'Step until'), kind, value, el('span', 'sw-Label', 'at most'), max,

@@ -71,6 +71,8 @@ export interface CellSettings {
   checkpointCap: number;
   /** Entries sampled by the gradient audit. Default 200. */
   auditSample: number;
+  /** Rows whose gradients the gradient noise scale takes. Default 64. */
+  noiseSample: number;
   /** Largest parameter count for a dense Hessian. Default 2000. */
   denseHessianLimit: number;
   /** Eigenvalues computed by the curvature readout. Default 10. */
@@ -85,6 +87,7 @@ export const DEFAULT_SETTINGS: CellSettings = {
   checkpointEvery: 25,
   checkpointCap: 20,
   auditSample: 200,
+  noiseSample: 64,
   denseHessianLimit: 2000,
   eigenCount: 10,
   kernelDataLimit: 20000

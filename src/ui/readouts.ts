@@ -2,9 +2,9 @@
  * The readout panels other than the loss trace, as functions from plain data to DOM.
  * They show numbers the engine computed; nothing is recomputed here.
  */
-import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
-import type { CurvatureResult, SharpnessPoint } from '../worker/protocol';
+import type { Generalization } from '../core/probe/generalization';
+import type { CurvatureResult, DerivedReadouts, SharpnessPoint } from '../worker/protocol';
 import { el, textTable } from './dom';
 import { auditRows, fmt } from './summary';
 
@@ -13,33 +13,6 @@ export namespace ReadoutClass {
   export const table = 'sw-Table';
   export const note = 'sw-Note';
   export const verdict = 'sw-Verdict';
-}
-
-/**
- * Per-layer numbers of the latest step: ‖W‖, ‖∇W‖ and the update ratio ‖ΔW‖/‖W‖.
- */
-export function layersPanel(last: StepRecord | undefined): HTMLElement {
-  const box = el('div', 'sw-Readout');
-  if (last === undefined || last.layers.length === 0) {
-    box.appendChild(
-      el('p', ReadoutClass.note, last === undefined ? 'No session yet.' : 'This objective has no layers.')
-    );
-    return box;
-  }
-  if (last.step === 0) {
-    box.appendChild(el('p', ReadoutClass.note, 'Take a step: the per-layer numbers describe an update.'));
-  }
-  const rows = last.layers.map(l => [String(l.layer), fmt(l.weightNorm), fmt(l.gradNorm), fmt(l.updateRatio)]);
-  box.appendChild(textTable(ReadoutClass.table, ['layer', '‖W‖', '‖∇W‖', '‖ΔW‖ / ‖W‖'], rows));
-  box.appendChild(
-    el(
-      'p',
-      ReadoutClass.note,
-      `Step ${last.step}. The update ratio is often healthy near 1e-3 (a rule of thumb): far above, the step is ` +
-        'large for that layer; far below, the layer barely moves. Activation health is coming in a later version.'
-    )
-  );
-  return box;
 }
 
 /**
@@ -114,6 +87,39 @@ export function auditPanel(audit: { step: number; result: AuditResult } | null, 
 }
 
 /**
+ * The numbers derived from the spectrum, one per row with how each was obtained (the condition
+ * number's definition in words rather than packed into one line).
+ */
+function derivedNumbers(s: CurvatureResult['summary']): HTMLElement {
+  const rows: string[][] = [];
+  rows.push(['condition number κ', s.conditionNumber !== null ? fmt(s.conditionNumber) : 'not available', s.conditionNote]);
+  if (s.negativeShare !== null) {
+    rows.push(['share of negative eigenvalues', `${(100 * s.negativeShare).toFixed(1)} %`, s.negativeShareMethod === 'slq' ? 'estimated by stochastic Lanczos quadrature' : `counted in the full spectrum, below −${s.cutoff}·max|λ|`]);
+  }
+  if (s.trace !== null) rows.push(['trace tr(H)', `${fmt(s.trace)}${s.traceStandardError ? ` ± ${fmt(s.traceStandardError)}` : ''}`, s.traceStandardError ? "Hutchinson's estimate ± its standard error" : 'sum of the full spectrum']);
+  return textTable(`${ReadoutClass.table} sw-DerivedTable`, ['quantity', 'value', 'how'], rows);
+}
+
+/**
+ * Held-out against training loss (when the data have a held-out split): where the held-out loss
+ * was lowest, where it is now, and the gap. The numbers are the worker's `generalization`.
+ */
+export function generalizationNote(g: Generalization | null): HTMLElement | null {
+  if (g === null) return null;
+  const rise = Number.isFinite(g.riseSinceBest) ? `${fmt(100 * g.riseSinceBest)} %` : fmt(g.riseSinceBest);
+  const rows = [
+    ['lowest held-out loss', `step ${g.best.step}`, fmt(g.best.heldOut), fmt(g.best.train)],
+    ['now', `step ${g.last.step}`, fmt(g.last.heldOut), fmt(g.last.train)]
+  ];
+  const box = el('div', 'sw-Generalization');
+  box.appendChild(textTable(`${ReadoutClass.table} sw-GeneralizationTable`, ['', 'at', 'held-out loss', 'training loss'], rows));
+  box.appendChild(el('p', ReadoutClass.note,
+    g.stepsSinceBest === 0 ? 'The held-out loss is at its lowest so far.'
+      : `The held-out loss is ${rise} above its lowest, ${g.stepsSinceBest} steps later; the training loss ${g.trainFellSinceBest ? 'fell' : 'did not fall'} meanwhile.`));
+  return box;
+}
+
+/**
  * The curvature readout: λmax and the recipe's stability limit, the spectrum's ends and the
  * derived numbers, computed by the engine at one step. `plot` receives the figure.
  */
@@ -123,7 +129,8 @@ export function curvaturePanel(
   actions: { measure: () => void; track: () => void; trackSteps: number },
   busy: boolean,
   plots: { spectrum: HTMLElement; history: HTMLElement },
-  currentStep: number
+  currentStep: number,
+  trace: DerivedReadouts['sharpness']
 ): HTMLElement {
   const box = el('div', 'sw-Readout');
   const buttons = el('div', 'sw-Controls');
@@ -140,16 +147,8 @@ export function curvaturePanel(
   buttons.append(run, track);
   box.appendChild(buttons);
   if (sharpness.length > 0) {
-    const crossed = sharpness.find(p => p.limit !== null && p.sharpness > p.limit);
-    box.appendChild(
-      el(
-        'p',
-        `sw-Stability ${crossed ? 'sw-mod-unstable' : ''}`.trim(),
-        crossed
-          ? `The sharpness crossed the stability limit at step ${crossed.step} (${fmt(crossed.sharpness)} > ${fmt(crossed.limit)}).`
-          : `Over ${sharpness.length} measurements (steps ${sharpness[0].step}–${sharpness[sharpness.length - 1].step}) the sharpness stayed below the stability limit.`
-      )
-    );
+    // The verdict and its sentence are core's (core/probe/curvature/verdicts.ts), sent by the worker.
+    if (trace.sentence !== '') box.appendChild(el('p', `sw-Stability ${trace.verdict.kind === 'crossed' ? 'sw-mod-unstable' : ''}`.trim(), trace.sentence));
     plots.history.setAttribute('role', 'img');
     plots.history.setAttribute('aria-label', `Sharpness at ${sharpness.length} measured steps against the stability limit of the learning rate in effect (dashed line).`);
     box.appendChild(plots.history);
@@ -180,19 +179,7 @@ export function curvaturePanel(
         (c.stop !== 'converged' ? ` (stopped: ${c.stop})` : '') + '.'
     )
   );
-  const verdict =
-    st.margin === null ? 'the rule does not apply to this optimizer'
-      : st.margin < 1 ? 'stable on the local quadratic model'
-        : 'UNSTABLE on the local quadratic model: the sharpest directions grow each step';
-  const stability = el(
-    'p',
-    `sw-Stability ${st.margin !== null && st.margin >= 1 ? 'sw-mod-unstable' : ''}`.trim(),
-    st.largestStableLr === null
-      ? `Step-size limit: ${verdict}.`
-      : `η = ${fmt(st.lr)}; limit ${st.formula} → largest stable η ≈ ${fmt(st.largestStableLr)}; ` +
-          `η / limit = ${fmt(st.margin)}: ${verdict}.`
-  );
-  box.appendChild(stability);
+  box.appendChild(el('p', `sw-Stability ${c.verdict === 'unstable' ? 'sw-mod-unstable' : ''}`.trim(), c.sentence));
   if (st.note) box.appendChild(el('p', ReadoutClass.note, `${st.note} (operator: ${s.stepMetric}).`));
   plots.spectrum.setAttribute('role', 'img');
   plots.spectrum.setAttribute('aria-label', `The ${c.top.length} largest and ${c.bottom.length} smallest Hessian eigenvalues at step ${c.step}, with the stability limit on λ as a dashed line.`);
@@ -201,11 +188,7 @@ export function curvaturePanel(
   c.top.forEach((v, i) => rows.push([`top ${i + 1}`, fmt(v), c.topBounds[i]?.toExponential(1) ?? '—']));
   c.bottom.forEach((v, i) => rows.push([`bottom ${i + 1}`, fmt(v), c.bottomBounds[i]?.toExponential(1) ?? '—']));
   box.appendChild(textTable(`${ReadoutClass.table} sw-SpectrumTable`, ['eigenvalue', 'λ', '± bound'], rows));
-  const extra: string[] = [];
-  extra.push(s.conditionNumber !== null ? `condition number ${fmt(s.conditionNumber)} (${s.conditionNote})` : `condition number: ${s.conditionNote}`);
-  if (s.negativeShare !== null) extra.push(`negative share ${(100 * s.negativeShare).toFixed(1)} %`);
-  if (s.trace !== null) extra.push(`trace ${fmt(s.trace)}${s.traceStandardError ? ` ± ${fmt(s.traceStandardError)}` : ''}`);
-  box.appendChild(el('p', ReadoutClass.note, extra.join(' · ')));
+  box.appendChild(derivedNumbers(s));
   box.appendChild(el('p', ReadoutClass.note, s.caveat));
   return box;
 }

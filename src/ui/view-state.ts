@@ -5,20 +5,41 @@
 import type { StepRecord } from '../core/state';
 import type { AuditResult } from '../core/probe/gradcheck';
 import type { LedgerRead, SpecChecker } from './ports';
-import type { BranchComparison, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
+import type { BranchComparison, BranchReadouts, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 import type { CompareAxis } from '../figures/compare';
 
 /** Readout tabs of the cell widget. */
-export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'audit' | 'compare';
+export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'data' | 'audit' | 'compare';
 
 /** The cell widget's tabs in order, with their labels. */
 export const READOUT_TABS: readonly (readonly [ReadoutTab, string])[] = [
   ['trace', 'Trace'],
   ['curvature', 'Curvature'],
   ['layers', 'Layers'],
+  ['data', 'Data'],
   ['audit', 'Audit'],
   ['compare', 'Compare']
 ];
+
+/** The active branch's diagnosis as the worker sent it: its findings and the readouts they stand on. */
+export type DiagnosisView = Pick<BranchReadouts, 'findings' | 'noise' | 'activations' | 'init' | 'data' | 'derived'>;
+
+/** The diagnosis before any is known. */
+export function emptyDiagnosis(): DiagnosisView {
+  return {
+    findings: [],
+    noise: null,
+    activations: { start: null, now: null },
+    init: null,
+    data: null,
+    derived: { balance: null, generalization: null, sharpness: { verdict: { kind: 'no-limit', measured: 0 }, sentence: '' }, standardization: null, tried: [] }
+  };
+}
+
+/** The diagnosis part of a branch's readouts. */
+export function diagnosisOf(r: BranchReadouts): DiagnosisView {
+  return { findings: r.findings, noise: r.noise, activations: r.activations, init: r.init, data: r.data, derived: r.derived };
+}
 
 /** Inline forms of the cell widget. */
 export type FormKind = 'run-until' | 'rewind' | 'branch' | 'rename' | 'record';
@@ -82,8 +103,8 @@ export interface CellViewState {
   curvature: CurvatureResult | null;
   /** The active branch's sharpness trace (measured while stepping with tracking on), step order. */
   sharpness: SharpnessPoint[];
-  /** Findings carried in the ledger (shapes belong to the findings rules). */
-  findings: Record<string, unknown>[];
+  /** The active branch's findings and the diagnosis readouts (from the worker or the ledger). */
+  diagnosis: DiagnosisView;
   notice: Notice | null;
   /** An open inline form. */
   form: FormKind | null;
@@ -114,7 +135,7 @@ export function initialViewState(): CellViewState {
     verify: null,
     curvature: null,
     sharpness: [],
-    findings: [],
+    diagnosis: emptyDiagnosis(),
     notice: null,
     form: null,
     branchProblems: [],
@@ -144,7 +165,7 @@ export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | 
  */
 export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, checkSpec: SpecChecker): Partial<CellViewState> {
   const cleared: Partial<CellViewState> = {
-    audit: null, curvature: null, sharpness: [], findings: [], verify: null, problems: checkSpec(source), confirm: null,
+    audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, problems: checkSpec(source), confirm: null,
     comparison: { names: [], axis: 'step', data: null }
   };
   switch (read.kind) {
@@ -179,7 +200,7 @@ export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, c
         curvature: read.content.readouts.curvature,
         sharpness: read.content.readouts.sharpness,
         audit: read.content.readouts.audit,
-        findings: read.content.findings
+        diagnosis: diagnosisOf(read.content.readouts)
       };
   }
 }

@@ -1,22 +1,23 @@
 /**
  * The worker's view of one stepwell cell: its spec text, the core {@link Grove} of branches, the
- * active branch, the readouts each branch keeps (latest curvature, sharpness trace, latest
- * audit) and the findings carried in its ledger. Everything a reply says about branches is
- * computed here, so the page never recomputes: the branch list, a branch's experiment (the spec
- * with its ancestry's patches), comparisons at matched steps, and the ledger.
+ * active branch, and the readouts and findings each branch keeps ({@link BranchBook}).
+ * Everything a reply says about branches is computed here, so the page never recomputes: the
+ * branch list, a branch's experiment (the spec with its ancestry's patches), its diagnosis,
+ * comparisons at matched steps, and the ledger.
  */
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { ENGINE_NAME } from '../core/engine';
 import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, type BatchSegment, type GroveOptions } from '../core/session';
-import { buildLedger, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
+import { buildLedger, decodeFindings, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
 import { COMPARE_POINTS } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
 import { DISPLAY_RECORDS, MEMORY_CHECKPOINT_CAP, MEMORY_RECORD_CAP, RECENT_RECORDS, sampleRecords } from './sampling';
-import { readoutsFromLedger, readoutsForLedger } from './readouts-data';
+import { findingsOf, readoutsFromLedger, readoutsForLedger } from './readouts-data';
+import { BranchBook } from './branch-book';
 
 /** Engine name written into each ledger (kept in core, beside the arithmetic it names). */
 export { ENGINE_NAME };
@@ -29,8 +30,6 @@ export function groveOptions(checkpointEvery: number): GroveOptions {
   return { checkpointEvery, maxAutomatic: MEMORY_CHECKPOINT_CAP, maxRecords: MEMORY_RECORD_CAP, recentRecords: RECENT_RECORDS };
 }
 
-const emptyReadouts = (): BranchReadouts => ({ curvature: null, sharpness: [], audit: null });
-
 /** Outcome of {@link CellGrove.fork}. */
 export type ForkOutcome = { ok: true; name: string } | { ok: false; errors: SpecProblem[] };
 
@@ -39,24 +38,27 @@ export class CellGrove {
   readonly specText: string;
   readonly grove: Grove;
   private activeName: string;
-  private readonly readouts = new Map<string, BranchReadouts>();
-  private findingsList: Record<string, unknown>[];
+  /** Readouts and findings per branch. */
+  readonly book: BranchBook;
 
-  private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string, findings: Record<string, unknown>[]) {
+  private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string) {
     this.specText = specText;
     this.grove = grove;
     this.activeName = active;
-    this.findingsList = findings;
+    this.book = new BranchBook(grove);
   }
 
-  /** A fresh cell: one root branch at step 0. */
+  /** A fresh cell: one root branch at step 0, diagnosed there. */
   static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number): CellGrove {
-    return new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH, []);
+    const cell = new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH);
+    cell.book.diagnose(ROOT_BRANCH);
+    return cell;
   }
 
   /**
    * Every branch of a stored ledger, each continuing bit for bit from its head (and at its
-   * cursor), with its readouts; the findings carried along.
+   * cursor), with its readouts and findings as stored; a branch stored without a diagnosis (a
+   * ledger of version 2) is diagnosed now.
    *
    * @throws with the validator's message when the ledger cannot be read, or when a branch's
    *   patched spec no longer validates.
@@ -70,19 +72,16 @@ export class CellGrove {
       if (!parsed.ok) throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
       return parsed.experiment;
     }, checkpointEvery, groveOptions(checkpointEvery));
-    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch, ledger.findings.map((f) => ({ ...f })));
-    for (const b of restored.branches) cell.readouts.set(b.name, readoutsFromLedger(b.readouts));
+    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch);
+    const findings = decodeFindings(ledger.findings);
+    for (const b of restored.branches) cell.book.set(b.name, readoutsFromLedger(b.readouts, findingsOf(findings, b.name)));
+    for (const b of restored.branches) if (!cell.book.diagnosed(b.name)) cell.book.diagnose(b.name);
     return cell;
   }
 
   /** The active branch's name. */
   get active(): string {
     return this.activeName;
-  }
-
-  /** Findings carried in the ledger (plain objects). */
-  get findings(): Record<string, unknown>[] {
-    return this.findingsList.map((f) => ({ ...f }));
   }
 
   /** The patches from the root to `name`, in order (empty for the root). */
@@ -94,12 +93,17 @@ export class CellGrove {
 
   /** The readouts a branch keeps (the live object: callers update it in place). */
   readoutsOf(name: string = this.activeName): BranchReadouts {
-    let r = this.readouts.get(name);
-    if (r === undefined) {
-      r = emptyReadouts();
-      this.readouts.set(name, r);
-    }
-    return r;
+    return this.book.of(name);
+  }
+
+  /** A branch's readouts for a reply: a copy with the derived readouts (layer balance, generalization, the sharpness verdict). */
+  readoutsView(name: string = this.activeName): BranchReadouts {
+    return this.book.view(name);
+  }
+
+  /** Re-evaluates a branch's findings at its cursor (see {@link BranchBook.diagnose}). */
+  diagnose(name: string = this.activeName): void {
+    this.book.diagnose(name);
   }
 
   /** Every branch as the branch bar shows it. */
@@ -172,15 +176,14 @@ export class CellGrove {
     const chosen = name ?? this.freeName(patch);
     this.grove.fork(from, step, chosen, parsed.experiment, patch);
     this.activeName = chosen;
+    this.book.diagnose(chosen);
     return { ok: true, name: chosen };
   }
 
   /** Renames a branch (the readouts follow). */
   rename(name: string, to: string): void {
     this.grove.rename(name, to);
-    const r = this.readouts.get(name);
-    this.readouts.delete(name);
-    if (r !== undefined) this.readouts.set(to, r);
+    this.book.rename(name, to);
     if (this.activeName === name) this.activeName = to;
   }
 
@@ -188,7 +191,7 @@ export class CellGrove {
   remove(name: string): string[] {
     const parent = this.grove.origin(name)?.parent;
     const gone = this.grove.remove(name);
-    for (const n of gone) this.readouts.delete(n);
+    this.book.remove(gone);
     if (gone.includes(this.activeName)) this.activeName = parent ?? this.grove.root();
     return gone;
   }
@@ -196,11 +199,8 @@ export class CellGrove {
   /** Drops the active branch's kept steps and the readouts measured on them. */
   discard(): number {
     const dropped = this.grove.discard(this.activeName);
-    const at = this.grove.session(this.activeName).stepCount;
-    const r = this.readoutsOf();
-    r.sharpness = r.sharpness.filter((p) => p.step <= at);
-    if (r.curvature !== null && r.curvature.step > at) r.curvature = null;
-    if (r.audit !== null && r.audit.step > at) r.audit = null;
+    this.book.dropAfter(this.activeName, this.grove.session(this.activeName).stepCount);
+    this.book.diagnose(this.activeName);
     return dropped;
   }
 
@@ -241,7 +241,9 @@ export class CellGrove {
         fingerprint: session.fingerprint(),
         tip: tip.step,
         tipFingerprint: fingerprintOf(this.grove, input.name),
-        recipeYaml: excerpt.ok ? excerpt.yaml : `# the recipe cannot be written: ${excerpt.errors.map((e) => e.message).join('; ')}\n`
+        recipeYaml: excerpt.ok ? excerpt.yaml : `# the recipe cannot be written: ${excerpt.errors.map((e) => e.message).join('; ')}\n`,
+        findings: this.book.of(input.name).findings.slice(),
+        tried: this.book.tried(input.name)
       };
     });
     return { comparison, traces };
@@ -249,7 +251,7 @@ export class CellGrove {
 
   /**
    * The whole ledger of the cell: every branch (thinned and capped per branch), its patch, cursor
-   * and readouts, and the findings.
+   * and readouts, and every branch's findings tagged with its name.
    *
    * @throws LedgerError naming the field when it cannot be built.
    */
@@ -278,7 +280,7 @@ export class CellGrove {
         };
       }),
       activeBranch: this.activeName,
-      findings: this.findingsList,
+      findings: this.book.taggedFindings(),
       limits: { maxCheckpoints: Math.max(2, checkpointCap) },
       // the hash of the numbers read from data files (absent for inline data)
       ...(g.experiment(g.root()).setup.data?.origin ? { dataHash: g.experiment(g.root()).setup.data?.origin?.hash } : {})
@@ -311,9 +313,14 @@ export class CellGrove {
     return segments;
   }
 
-  /** A name for a new branch from its patch: `lr=0.05`, made unique with `-2`, `-3`, … */
+  /**
+   * A name for a new branch from its patch: `lr=0.05`; when that is longer than 32 characters,
+   * each key by its last part (`init=lecun-normal,gain=1`); made unique with `-2`, `-3`, …
+   */
   private freeName(patch: SpecPatch): string {
-    const text = describePatch(patch).replace(/\s+/g, '').slice(0, 32) || 'branch';
+    const full = describePatch(patch).replace(/\s+/g, '');
+    const short = Object.entries(patch).map(([k, v]) => `${k.split('.').pop() ?? k}=${String(v)}`).join(',').replace(/\s+/g, '');
+    const text = (full.length <= 32 ? full : short).slice(0, 32) || 'branch';
     if (!this.grove.has(text)) return text;
     for (let i = 2; ; i++) if (!this.grove.has(`${text}-${i}`)) return `${text}-${i}`;
   }

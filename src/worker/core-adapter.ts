@@ -5,12 +5,14 @@
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature, measureSessionCurvatureWith, type CurvatureReport, type DensityTraceRunner } from '../core/probe/curvature';
-import type { Session } from '../core/session';
+import { gradientNoiseScale } from '../core/probe/noise-scale';
+import { effectiveBatch, type Session } from '../core/session';
 import { parseSpec } from '../experiment';
 import { patchChainExperiment } from '../experiment/patch';
 import type { EngineCore, ParseOutcome } from './engine-core';
 import type { Experiment } from '../core/setup';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
+import { curvatureVerdict } from './diagnosis';
 
 /** The curvature reply's shape from a report. */
 function curvatureResult(session: Session, { spectrum, summary, threads }: CurvatureReport): CurvatureResult {
@@ -25,7 +27,8 @@ function curvatureResult(session: Session, { spectrum, summary, threads }: Curva
     bottomBounds: [...spectrum.bottomBounds],
     products: spectrum.products,
     stop: spectrum.stop,
-    summary
+    summary,
+    ...curvatureVerdict(summary)
   };
 }
 
@@ -61,6 +64,13 @@ export const realCore: EngineCore = {
     const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
     return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit }));
   },
+  noise(experiment, session, sample) {
+    // Like the audit: the rows sampled come from the seed and the step.
+    const rng = Rng.fromSeed(experiment.seed).fork(`noise-${session.stepCount}`);
+    const rows = session.objective.rowCount;
+    const batch = effectiveBatch(experiment.recipe, rows) || rows;
+    return gradientNoiseScale(session.objective, Float64Array.from(session.parameters), rng, { sample, batch, step: session.stepCount });
+  },
   sharpness(experiment, session): SharpnessPoint {
     const rng = Rng.fromSeed(experiment.seed).fork(`sharpness-${session.stepCount}`);
     const { summary } = measureSessionCurvature(session, rng, { method: 'lanczos', k: 1, density: false, traceProbes: 0, maxIterations: 80 });
@@ -70,7 +80,8 @@ export const realCore: EngineCore = {
       lambdaMax: summary.lambdaMax,
       sharpness: st.sharpness,
       limit: st.sharpnessLimit,
-      preconditioned: st.preconditioned
+      preconditioned: st.preconditioned,
+      lr: st.lr
     };
   }
 };

@@ -6,6 +6,7 @@
 import type { Experiment } from '../core/setup';
 import type { Session } from '../core/session';
 import type { SpecPatch } from '../experiment/patch';
+import type { NoiseScale } from '../core/probe/noise-scale';
 import type { AuditResult, CurvatureResult, SharpnessPoint, SpecProblem } from './protocol';
 
 /** Result of parsing spec text. */
@@ -26,6 +27,8 @@ export interface EngineCore {
    * second thread computes part of it).
    */
   curvature(experiment: Experiment, session: Session, k: number, denseLimit: number): CurvatureResult | Promise<CurvatureResult>;
+  /** The gradient noise scale at the session's weights from `sample` rows' gradients (throws without data rows). */
+  noise(experiment: Experiment, session: Session, sample: number): NoiseScale;
   /** The sharpness the recipe's stability rule uses, by a short Lanczos run (cheap enough to track). */
   sharpness(experiment: Experiment, session: Session): SharpnessPoint;
 }

@@ -14,7 +14,7 @@ import type { StepRecord } from '../core/state';
 import type { GroveTask, RunReason, StepHooks } from '../core/session';
 import type { SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
-import type { EngineReply, EngineRequest, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
+import type { BranchReadouts, EngineReply, EngineRequest, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
 import { REPLY_SAMPLE, sampleRecords } from './sampling';
 import { CellGrove } from './cell-grove';
@@ -38,6 +38,7 @@ export class EngineHost {
   private readonly core: EngineCore;
   private readonly post: ReplySink;
   private readonly chunkMs: number;
+  private readonly findingsEveryMs: number;
   private loaded: Loaded | null = null;
   private queue: Promise<void> = Promise.resolve();
   private running: number | null = null;
@@ -52,6 +53,7 @@ export class EngineHost {
     this.core = core;
     this.post = post;
     this.chunkMs = options.chunkMs ?? 50;
+    this.findingsEveryMs = options.findingsEveryMs ?? 1000;
   }
 
   /**
@@ -143,7 +145,17 @@ export class EngineHost {
         const session = cell.grove.session(name);
         const audit = { step: session.stepCount, result: this.core.audit(cell.grove.experiment(name), session, request.sample) };
         cell.readoutsOf(name).audit = audit;
-        this.post({ id, kind: 'audit', ...audit });
+        cell.diagnose(name);
+        this.post({ id, kind: 'audit', ...audit, readouts: cell.readoutsView(name) });
+        return;
+      }
+      case 'noise': {
+        const cell = this.need().cell;
+        const name = cell.active;
+        const result = this.core.noise(cell.grove.experiment(name), cell.grove.session(name), request.sample);
+        cell.readoutsOf(name).noise = result;
+        cell.diagnose(name);
+        this.post({ id, kind: 'noise', result, readouts: cell.readoutsView(name) });
         return;
       }
       case 'curvature': {
@@ -151,7 +163,8 @@ export class EngineHost {
         const name = cell.active;
         const result = await this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit);
         cell.readoutsOf(name).curvature = result;
-        this.post({ id, kind: 'curvature', result });
+        cell.diagnose(name);
+        this.post({ id, kind: 'curvature', result, readouts: cell.readoutsView(name) });
         return;
       }
       case 'snapshot': {
@@ -179,8 +192,7 @@ export class EngineHost {
   /** Summary, display trajectory and readouts of the active branch. */
   private view(): { summary: ReturnType<CellGrove['summary']>; trajectory: StepRecord[]; readouts: ReturnType<CellGrove['readoutsOf']> } {
     const cell = this.need().cell;
-    const r = cell.readoutsOf();
-    return { summary: cell.summary(), trajectory: cell.display(), readouts: { curvature: r.curvature, sharpness: r.sharpness.slice(), audit: r.audit } };
+    return { summary: cell.summary(), trajectory: cell.display(), readouts: cell.readoutsView() };
   }
 
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
@@ -194,7 +206,7 @@ export class EngineHost {
         ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery)
         : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery);
     this.loaded = { cell, checkpointEvery: request.checkpointEvery };
-    this.post({ id: request.id, kind: 'ready', ...this.view(), findings: cell.findings, warnings: parsed.warnings });
+    this.post({ id: request.id, kind: 'ready', ...this.view(), warnings: parsed.warnings });
   }
 
   /**
@@ -208,7 +220,7 @@ export class EngineHost {
   private async sliced(
     id: number,
     slice: (hooks: StepHooks) => boolean,
-    progress: () => { done: number; total: number; records: StepRecord[]; sharpness?: SharpnessPoint[] }
+    progress: () => { done: number; total: number; records: StepRecord[]; sharpness?: SharpnessPoint[]; readouts?: BranchReadouts }
   ): Promise<'finished' | 'stopped'> {
     for (;;) {
       if (this.stopFlag) return 'stopped';
@@ -255,6 +267,19 @@ export class EngineHost {
     if (sharpnessEvery > 0) measure();
     let pending: StepRecord[] = [];
     let reason: RunReason = 'max-steps';
+    // Findings while a long run goes on: at most every `findingsEveryMs` of wall time, and never
+    // more than a tenth of it (ten times the last evaluation's cost), so stepping keeps its pace.
+    let lastDiagnosis = performance.now();
+    let diagnosisMs = 0;
+    const freshReadouts = (): BranchReadouts | undefined => {
+      const now = performance.now();
+      if (now - lastDiagnosis < Math.max(this.findingsEveryMs, 10 * diagnosisMs)) return undefined;
+      cell.diagnose(name);
+      const view = cell.readoutsView(name);
+      lastDiagnosis = performance.now();
+      diagnosisMs = lastDiagnosis - now;
+      return view;
+    };
     const end = await this.sliced(
       id,
       hooks => {
@@ -275,11 +300,13 @@ export class EngineHost {
       () => {
         const records = sampleRecords(pending, REPLY_SAMPLE);
         pending = [];
-        return { done: carry.done, total, records, sharpness: points.splice(0, points.length) };
+        const readouts = freshReadouts();
+        return { done: carry.done, total, records, sharpness: points.splice(0, points.length), ...(readouts === undefined ? {} : { readouts }) };
       }
     );
     const last = pending[pending.length - 1];
     const outcome: StepEnd = end === 'stopped' ? 'stopped' : stepEnd(reason, condition !== null, last);
+    cell.diagnose(name);
     this.post({
       id,
       kind: 'stepped',
@@ -289,7 +316,8 @@ export class EngineHost {
       stopped: outcome === 'stopped',
       reason: outcome,
       updates: carry.done,
-      elapsedMs: elapsed
+      elapsedMs: elapsed,
+      readouts: cell.readoutsView(name)
     });
   }
 
@@ -308,6 +336,7 @@ export class EngineHost {
       this.post({ id, kind: 'failed', message: `rewind to step ${target} was stopped; the session is unchanged` });
       return;
     }
+    cell.diagnose(name);
     this.post({ id, kind: 'rewound', ...this.view() });
   }
 
@@ -342,6 +371,11 @@ export namespace EngineHost {
   export interface Options {
     /** Milliseconds of work between progress messages and yields. Default 50. */
     chunkMs?: number;
+    /**
+     * Least milliseconds between re-evaluations of the findings while a long run goes on (each
+     * also waits ten times the previous one's cost). Default 1000; the run's end always evaluates.
+     */
+    findingsEveryMs?: number;
   }
 }
 

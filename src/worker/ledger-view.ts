@@ -1,15 +1,18 @@
 /**
  * What a stored ledger shows before any engine runs: the summary of its active branch with the
- * list of every branch, the active branch's trajectory and readouts, and the findings. The page
- * reads it on notebook open; the numbers come from the ledger, nothing is recomputed.
+ * list of every branch, the active branch's trajectory, readouts and findings. The page reads it
+ * on notebook open; the numbers come from the ledger, nothing is measured again (the derived
+ * readouts — layer balance, generalization, the sharpness verdict — are recomputed from the
+ * stored records and trace, which is arithmetic on stored numbers, not a measurement).
  */
 import type { StepRecord } from '../core/state';
-import { decodeBranches, validateLedger, type Ledger } from '../ledger';
+import { decodeBranches, decodeFindings, validateLedger, type Ledger } from '../ledger';
 import { describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo, BranchReadouts, SessionSummary } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
 import { DISPLAY_RECORDS, sampleRecords } from './sampling';
-import { readoutsFromLedger } from './readouts-data';
+import { findingsOf, readoutsFromLedger } from './readouts-data';
+import { derivedReadouts } from './diagnosis';
 
 /** A stored ledger as the cell shows it. */
 export interface LedgerView {
@@ -17,8 +20,8 @@ export interface LedgerView {
   summary: SessionSummary;
   /** An even sample of the active branch's trajectory. */
   trajectory: StepRecord[];
+  /** The active branch's readouts, its findings among them. */
   readouts: BranchReadouts;
-  findings: Record<string, unknown>[];
 }
 
 /** Outcome of {@link viewLedger}. */
@@ -69,6 +72,10 @@ export function describeLedger(ledger: Ledger): LedgerView {
   const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? []);
   if (!root.ok) throw new Error(`the saved spec no longer parses (${root.errors[0].message})`);
   const checkpointSteps = [...active.checkpoints.map(c => c.step), active.head.step];
+  const readouts = readoutsFromLedger(active.readouts, findingsOf(decodeFindings(ledger.findings), active.name));
+  const toCursor = active.trajectory.filter(r => r.step <= active.cursor);
+  const children = decoded.filter(b => b.parent?.branch === active.name).map(b => ({ name: b.name, step: b.parent?.step ?? 0, patch: b.patch }));
+  readouts.derived = derivedReadouts(toCursor, readouts.sharpness, root.experiment, readouts.findings, children);
   return {
     specText: ledger.spec,
     summary: {
@@ -83,7 +90,6 @@ export function describeLedger(ledger: Ledger): LedgerView {
       setup: describeSetup(root.experiment.setup)
     },
     trajectory: sampleRecords(active.trajectory, DISPLAY_RECORDS),
-    readouts: readoutsFromLedger(active.readouts),
-    findings: ledger.findings.map(f => ({ ...f }))
+    readouts
   };
 }

@@ -2,8 +2,8 @@
  * The typed message protocol between the notebook page and the engine worker.
  *
  * Every request carries a numeric `id`; every reply names the `id` it answers. A request
- * gets exactly one final reply (`ready`, `spec-errors`, `stepped`, `audit`, `snapshot`,
- * `verified` or `failed`) and, for long work, any number of `progress` replies before it.
+ * gets exactly one final reply (`ready`, `spec-errors`, `stepped`, `audit`, `noise`, `snapshot`,
+ * `verified`, … or `failed`) and, for long work, any number of `progress` replies before it.
  * `stop` is the one request without a reply of its own: it makes the running request end
  * early with `stopped: true`.
  *
@@ -11,11 +11,19 @@
  * worker boundary by structured clone without loss.
  */
 import type { SessionState, StepRecord } from '../core/state';
+import type { Standardization } from '../core/setup';
 import type { BranchComparison, StopCondition } from '../core/session';
 import type { AuditResult } from '../core/probe/gradcheck';
-import type { CurvatureSummary } from '../core/probe/curvature';
+import type { CurvatureSummary, StabilityVerdict, TraceVerdict } from '../core/probe/curvature';
+import type { ActivationHealth } from '../core/probe/activation-health';
+import type { InitCheck } from '../core/probe/init-check';
+import type { DataReport } from '../core/probe/data-checks';
+import type { NoiseScale } from '../core/probe/noise-scale';
+import type { LayerBalance } from '../core/probe/balance';
+import type { Generalization } from '../core/probe/generalization';
+import type { Finding } from '../core/probe/findings/types';
 
-export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison };
+export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison, Finding };
 
 /** A curvature measurement at one step (the spectrum's ends and its summary). */
 export interface CurvatureResult {
@@ -34,6 +42,9 @@ export interface CurvatureResult {
   /** `converged`, or why the eigen-solve stopped early. */
   stop: string;
   summary: CurvatureSummary;
+  /** The verdict on the learning rate in effect and the sentence that says it (`core/probe/curvature/verdicts.ts`). */
+  verdict: StabilityVerdict;
+  sentence: string;
   /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
   threads?: number;
 }
@@ -61,6 +72,8 @@ export interface SharpnessPoint {
   limit: number | null;
   /** True when `sharpness` is of a preconditioned matrix. */
   preconditioned: boolean;
+  /** The learning rate in effect at the step (schedule and warm-up applied); absent in points stored by ledger version 2. */
+  lr?: number;
 }
 
 /** A saved session state at one step. */
@@ -98,13 +111,50 @@ export interface BranchInfo {
   recipe: string;
 }
 
-/** The readouts a branch keeps (and the ledger stores): latest curvature, sharpness trace, latest audit. */
+/**
+ * The readouts of a branch: the measurements it keeps (and the ledger stores) — latest
+ * curvature, sharpness trace, latest audit and noise scale, activation health at step 0 and at
+ * the cursor, the initialization and data checks — its findings, and what the worker derives
+ * from them and the trajectory.
+ */
 export interface BranchReadouts {
   curvature: CurvatureResult | null;
   /** Sharpness measured while stepping with tracking on, step order. */
   sharpness: SharpnessPoint[];
   audit: { step: number; result: AuditResult } | null;
+  /** The latest gradient noise scale (measured on request). */
+  noise: NoiseScale | null;
+  /** Activation health at step 0 (the initialization check's) and at the branch's cursor. */
+  activations: { start: ActivationHealth | null; now: ActivationHealth | null };
+  /** The initialization check of the branch's setup (null for analytic objectives). */
+  init: InitCheck | null;
+  /** The data checks of the branch's setup (features listed up to {@link DATA_FEATURES_KEPT}; null for analytic objectives). */
+  data: DataReport | null;
+  /** The branch's findings at its cursor, most severe first (`evaluateFindings`). */
+  findings: Finding[];
+  derived: DerivedReadouts;
 }
+
+/** What the worker derives from a branch's trajectory and readouts: never stored, recomputed from what is. */
+export interface DerivedReadouts {
+  /** Layer balance over time (`core/probe/balance.ts`), up to {@link BALANCE_ROWS} rows; null without layers. */
+  balance: LayerBalance | null;
+  /** Held-out against training loss (`core/probe/generalization.ts`), its series sampled to {@link GENERALIZATION_POINTS}; null without a held-out split. */
+  generalization: Generalization | null;
+  /** The verdict on the sharpness trace and its sentence (`core/probe/curvature/verdicts.ts`). */
+  sharpness: { verdict: TraceVerdict; sentence: string };
+  /** The standardization applied to the inputs (`data.standardize`), or null. */
+  standardization: Standardization | null;
+  /** Per finding (same order): the branch forked from this one with exactly its proposal, or null. */
+  tried: (string | null)[];
+}
+
+/** Most features a data report keeps (the ledger stores it; the rest are summarized by the report's counts). */
+export const DATA_FEATURES_KEPT = 200;
+/** Most rows (steps) of the layer-balance table a reply carries. */
+export const BALANCE_ROWS = 60;
+/** Most points of each generalization series a reply carries. */
+export const GENERALIZATION_POINTS = 500;
 
 /** One branch's data for the comparison figures and the decision record. */
 export interface BranchTrace {
@@ -128,6 +178,9 @@ export interface BranchTrace {
   tipFingerprint: string;
   /** `seed`, the patched `recipe` mapping and any setup keys the patches set, as YAML. */
   recipeYaml: string;
+  /** The branch's findings at its cursor, most severe first, and per finding the branch that tried its proposal (or null). */
+  findings: Finding[];
+  tried: (string | null)[];
 }
 
 /** Most points per branch a comparison trace carries. */
@@ -178,6 +231,8 @@ export type EngineRequest =
   /** Compare branches at matched steps (the first is the reference unless `reference` says otherwise). */
   | { id: number; kind: 'compare'; branches: string[]; reference?: string }
   | { id: number; kind: 'gradcheck'; sample: number }
+  /** Measure the gradient noise scale at the current weights from `sample` rows' gradients. */
+  | { id: number; kind: 'noise'; sample: number }
   /** Measure the Hessian spectrum at the current weights: `k` eigenvalues per end, dense up to `denseLimit` parameters. */
   | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
@@ -221,8 +276,6 @@ export type EngineReply =
       /** An even sample (≤ 5000, first and last included) of the active branch's trajectory. */
       trajectory: StepRecord[];
       readouts: BranchReadouts;
-      /** Findings carried in the ledger (shapes belong to the findings rules). */
-      findings: Record<string, unknown>[];
       warnings: SpecProblem[];
     }
   | { id: number; kind: 'spec-errors'; errors: SpecProblem[] }
@@ -237,6 +290,8 @@ export type EngineReply =
       records: StepRecord[];
       /** Sharpness measured since the previous progress message. */
       sharpness?: SharpnessPoint[];
+      /** The active branch's readouts with fresh findings (at most about once a second of work). */
+      readouts?: BranchReadouts;
     }
   | {
       id: number;
@@ -252,8 +307,10 @@ export type EngineReply =
       reason: 'done' | 'stopped' | 'condition' | 'non-finite';
       /** Updates applied by this request. */
       updates: number;
-      /** Wall time of those updates in ms (sharpness measurements and yields excluded). */
+      /** Wall time of those updates in ms (sharpness measurements, findings and yields excluded). */
       elapsedMs: number;
+      /** The active branch's readouts, findings evaluated at its new step. */
+      readouts: BranchReadouts;
     }
   | {
       id: number;
@@ -285,7 +342,10 @@ export type EngineReply =
       /** Step at which the audit ran. */
       step: number;
       result: AuditResult;
+      /** The active branch's readouts with the findings re-evaluated. */
+      readouts: BranchReadouts;
     }
+  | { id: number; kind: 'noise'; result: NoiseScale; readouts: BranchReadouts }
   | {
       id: number;
       kind: 'snapshot';
@@ -305,7 +365,7 @@ export type EngineReply =
       /** An even sample (≤ 5000) of the trajectory, for display. */
       trajectory: StepRecord[];
     }
-  | { id: number; kind: 'curvature'; result: CurvatureResult }
+  | { id: number; kind: 'curvature'; result: CurvatureResult; readouts: BranchReadouts }
   /** `result` is the first branch's; `results` has one per branch replayed. */
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   | { id: number; kind: 'failed'; message: string };
@@ -323,6 +383,7 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'delete',
   'compare',
   'gradcheck',
+  'noise',
   'curvature',
   'snapshot',
   'ledger',
@@ -359,6 +420,7 @@ export function checkRequest(value: unknown): string | null {
     case 'rewind':
       return positiveInt('step');
     case 'gradcheck':
+    case 'noise':
       return positiveInt('sample');
     case 'curvature':
       return positiveInt('k') ?? positiveInt('denseLimit');

@@ -64,9 +64,15 @@ describe('embedded app', () => {
   it('activates the host plugins and every Stepwell plugin, with Stepwell running the cells', async () => {
     expect(await pluginStates(browser.page, '@stepwell/host:')).toEqual({ '@stepwell/host:session-dialogs': true });
     // The app is Stepwell's: a build without its plugins must fail here, not pass quietly.
-    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:kernel': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
+    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:about': true, 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:kernel': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
     // The host falls back to JupyterLab's executor (with this warning) only if nobody provides one.
     expect(browser.consoleWarnings.filter(w => /no plugin provides/.test(w))).toEqual([]);
+    // "About Stepwell" sits in the Help menu (declared in schema/plugin.json) and opens Stepwell's own dialog.
+    await browser.page.locator('.lm-MenuBar-itemLabel', { hasText: /^Help$/ }).click();
+    await browser.page.locator('.lm-Menu-itemLabel', { hasText: /^About Stepwell$/ }).click();
+    await browser.page.locator('.jp-Dialog-header', { hasText: 'About Stepwell' }).waitFor({ timeout: 10_000 });
+    await browser.page.locator('.jp-Dialog .jp-mod-accept').click();
+    await browser.page.locator('.jp-Dialog').waitFor({ state: 'detached', timeout: 10_000 });
   });
 
   it('runs commands from the palette and by id', async () => {

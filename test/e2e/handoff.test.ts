@@ -146,8 +146,8 @@ describe('journey 4: a notebook saved in the browser verifies in Node', () => {
     await widget.waitFor({ timeout: 30_000 });
     await sorter.locator('.sw-Status', { hasText: /^step 100 · / }).waitFor({ timeout: 60_000 });
     // The fix branch: 7 more steps, then a branch of it from step 50 with a smaller rate, stepped 10 times.
-    await sorter.locator('.sw-Branch[data-branch="gain=1"]').click();
-    await sorter.locator('.sw-Status', { hasText: 'branch gain=1' }).waitFor({ timeout: 30_000 });
+    await sorter.locator('.sw-Branch[data-branch="init=lecun-normal,gain=1"]').click();
+    await sorter.locator('.sw-Status', { hasText: 'branch init=lecun-normal,gain=1' }).waitFor({ timeout: 30_000 });
     await sorter.locator('.sw-StepN').fill('7');
     await sorter.locator('.sw-Button-stepN').click();
     await sorter.locator('.sw-Status', { hasText: /^step 107 · / }).waitFor({ timeout: 60_000 });
@@ -175,7 +175,7 @@ describe('journey 4: a notebook saved in the browser verifies in Node', () => {
     const file = path.join(OUT, 'parcel-saved-in-browser.ipynb');
     fs.writeFileSync(file, JSON.stringify(saved, null, 1));
     const ledger = saved.cells[2].metadata.stepwell as { engine: string; branches: { name: string; head: { step: number; fingerprint: string } }[] };
-    expect(ledger.branches.map((b) => [b.name, b.head.step])).toEqual([['main', 100], ['gain=1', 107], ['handoff', 60]]);
+    expect(ledger.branches.map((b) => [b.name, b.head.step])).toEqual([['main', 100], ['init=lecun-normal,gain=1', 107], ['handoff', 60]]);
 
     // Node replays what Chromium computed: every branch bit for bit, exit 0.
     const v = stepwell('verify', file, '--json');
@@ -183,7 +183,7 @@ describe('journey 4: a notebook saved in the browser verifies in Node', () => {
     expect(v.code).toBe(0);
     const r = JSON.parse(v.out) as { verdict: string; cells: { branches: { name: string; match: string; steps: number; recordedFingerprint: string; replayedFingerprint: string }[] }[] };
     expect(r.verdict).toBe('bit-identical');
-    expect(r.cells[0].branches.map((b) => [b.name, b.match, b.steps])).toEqual([['main', 'bit-identical', 100], ['gain=1', 'bit-identical', 107], ['handoff', 'bit-identical', 60]]);
+    expect(r.cells[0].branches.map((b) => [b.name, b.match, b.steps])).toEqual([['main', 'bit-identical', 100], ['init=lecun-normal,gain=1', 'bit-identical', 107], ['handoff', 'bit-identical', 60]]);
     for (const b of r.cells[0].branches) expect(b.replayedFingerprint).toBe(ledger.branches.find((x) => x.name === b.name)?.head.fingerprint);
     fs.writeFileSync(path.join(OUT, 'verify.txt'), stepwell('verify', file).out);
 

@@ -219,7 +219,7 @@ describe('stepwell cell in the browser', () => {
     await sorter.locator('.sw-CellWidget').waitFor({ timeout: 30_000 });
     await waitForStep(sorter, 100);
     await sorter.locator('.sw-Button-verify').click();
-    const verdict = sorter.locator('.sw-Notice', { hasText: 'Branch gain=1: replayed 100 steps from the seed: bit-identical' });
+    const verdict = sorter.locator('.sw-Notice', { hasText: 'Branch init=lecun-normal,gain=1: replayed 100 steps from the seed: bit-identical' });
     await verdict.waitFor({ timeout: 60_000 });
     expect(await verdict.innerText()).toContain('Branch main: replayed 100 steps from the seed: bit-identical');
     // The decision record the product wrote sits right below, with its figure.
@@ -228,8 +228,8 @@ describe('stepwell cell in the browser', () => {
     expect(await page.locator('.jp-Notebook').count()).toBeGreaterThan(0);
 
     // Show the fix branch, go back to step 7 (kept steps stay), step through kept steps, then discard the rest.
-    await sorter.locator('.sw-Branch[data-branch="gain=1"]').click();
-    await sorter.locator('.sw-Status', { hasText: 'branch gain=1' }).waitFor({ timeout: 30_000 });
+    await sorter.locator('.sw-Branch[data-branch="init=lecun-normal,gain=1"]').click();
+    await sorter.locator('.sw-Status', { hasText: 'branch init=lecun-normal,gain=1' }).waitFor({ timeout: 30_000 });
     await sorter.locator('.sw-Button-rewind').click();
     await sorter.locator('.sw-Form input').fill('7');
     await sorter.locator('.sw-Form button', { hasText: 'Go' }).click();
@@ -238,16 +238,16 @@ describe('stepwell cell in the browser', () => {
     await sorter.locator('.sw-Button-stepN').click();
     await sorter.locator('.sw-Status', { hasText: /^step 10 \(of 100\) · / }).waitFor({ timeout: 60_000 });
     await sorter.locator('.sw-Button-discard').click();
-    await sorter.locator('.sw-Confirm', { hasText: 'Discard steps 11–100 of gain=1?' }).waitFor({ timeout: 10_000 });
+    await sorter.locator('.sw-Confirm', { hasText: 'Discard steps 11–100 of init=lecun-normal,gain=1?' }).waitFor({ timeout: 10_000 });
     await sorter.locator('.sw-Confirm').scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-7-discard-confirm');
     await sorter.locator('.sw-Button-confirm').click();
     await sorter.locator('.sw-Notice', { hasText: 'Dropped 90 kept steps' }).waitFor({ timeout: 30_000 });
     expect(await status(sorter)).not.toMatch(/\(of/);
     await sorter.locator('.sw-Button-verify').click();
-    await sorter.locator('.sw-Notice', { hasText: 'Branch gain=1: replayed 10 steps from the seed: bit-identical' }).waitFor({ timeout: 30_000 });
+    await sorter.locator('.sw-Notice', { hasText: 'Branch init=lecun-normal,gain=1: replayed 10 steps from the seed: bit-identical' }).waitFor({ timeout: 30_000 });
     await sorter.locator('.sw-Tab[data-tab="layers"]').click();
-    expect(await sorter.locator('.sw-Readout table tbody tr').count()).toBe(4);
+    expect(await sorter.locator('.sw-Layers > table.sw-Table tbody tr').count()).toBe(4);
     await sorter.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
     await screenshot(page, 'stepwell-8-second-demo');
     expect(ourErrors(browser)).toEqual([]);

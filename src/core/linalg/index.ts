@@ -3,5 +3,4 @@
  * *Matrix Computations*, 4th ed., ch. 8 and 10), stochastic Lanczos quadrature and
  * Hutchinson's trace estimator. Pure numerics: no DOM, no JupyterLab.
  */
-export { eigenvalues } from './symmetric-eigen';
 export { spectralDensity } from './density';

@@ -44,13 +44,13 @@ describe('notebook exports read by NumPy, safetensors and PyTorch', () => {
 
   it('weights (.npy, .safetensors) and trajectory (.csv, .npy, .safetensors) equal the ledger bit for bit', () => {
     const ledger = ledgerOf(GH);
-    const b = decodeBranch(ledger, 'lr=0.66');
+    const b = decodeBranch(ledger, 'lr=0.662');
     const out = (f: string): string => join(dir, f);
-    exportCommand(GH, { cell: '2', branch: 'lr=0.66', to: 'weights', out: out('w.npy') });
-    exportCommand(GH, { cell: '2', branch: 'lr=0.66', to: 'weights', out: out('w.safetensors') });
-    exportCommand(GH, { cell: '2', branch: 'lr=0.66', to: 'trajectory', out: out('t.npy') });
-    exportCommand(GH, { cell: '2', branch: 'lr=0.66', to: 'trajectory', out: out('t.safetensors') });
-    exportCommand(GH, { cell: '2', branch: 'lr=0.66', csv: true, out: out('t.csv') });
+    exportCommand(GH, { cell: '2', branch: 'lr=0.662', to: 'weights', out: out('w.npy') });
+    exportCommand(GH, { cell: '2', branch: 'lr=0.662', to: 'weights', out: out('w.safetensors') });
+    exportCommand(GH, { cell: '2', branch: 'lr=0.662', to: 'trajectory', out: out('t.npy') });
+    exportCommand(GH, { cell: '2', branch: 'lr=0.662', to: 'trajectory', out: out('t.safetensors') });
+    exportCommand(GH, { cell: '2', branch: 'lr=0.662', csv: true, out: out('t.csv') });
     // source: numpy 2.4.6, safetensors 0.8.0 and Python's csv module reading the files
     const text = python(
       [
@@ -86,7 +86,7 @@ describe('notebook exports read by NumPy, safetensors and PyTorch', () => {
     const kiln = kilnNotebook(kilnDir);
     // source: PyTorch 2.13.0+cpu from PyPI running the exported script
     const cases: { path: string; branch: string; steps: number }[] = [
-      { path: GH, branch: 'lr=0.66', steps: 60 },
+      { path: GH, branch: 'lr=0.662', steps: 60 },
       { path: GH, branch: 'main', steps: 14 },
       { path: kiln.path, branch: 'standardized', steps: 30 },
       { path: kiln.path, branch: 'main', steps: 30 }

@@ -32,10 +32,10 @@ const bytes = (p: string): Uint8Array => new Uint8Array(readFileSync(p));
 
 describe('export from a notebook cell', () => {
   it('--csv prints the stored records of the branch (its parent’s before the fork), every number bit for bit', async () => {
-    const r = await cli('export', GH, '--cell', '2', '--branch', 'lr=0.66', '--csv');
+    const r = await cli('export', GH, '--cell', '2', '--branch', 'lr=0.662', '--csv');
     expect(r).toMatchObject({ code: 0, err: '' });
     const table = readCsv(new TextEncoder().encode(r.out));
-    const b = decodeBranch(ledger, 'lr=0.66');
+    const b = decodeBranch(ledger, 'lr=0.662');
     expect(table.header).toEqual(['step', 'loss', 'batchLoss', 'heldOutLoss', 'gradNorm', 'updateNorm', 'lr', 'evaluations']);
     expect(table.rows.length).toBe(b.trajectory.length);
     expect(b.trajectory.length).toBe(61);
@@ -63,21 +63,21 @@ describe('export from a notebook cell', () => {
   });
 
   it('--to weights: the tip’s stored weights (safetensors named like the Sequential’s state_dict, flat .npy)', async () => {
-    const b = decodeBranch(ledger, 'lr=0.66');
+    const b = decodeBranch(ledger, 'lr=0.662');
     const st = join(dir, 'tip.safetensors');
-    expect((await cli('export', GH, '--branch', 'lr=0.66', '--to', 'weights', '--out', st)).code).toBe(0);
+    expect((await cli('export', GH, '--branch', 'lr=0.662', '--to', 'weights', '--out', st)).code).toBe(0);
     const t = readSafetensors(bytes(st));
     expect([...t.keys()]).toEqual(['0.weight', '0.bias', '2.weight', '2.bias']);
     expect([...t.values()].flatMap((v) => Array.from(v.data))).toEqual(Array.from(b.head.state.params));
     const npy = join(dir, 'tip.npy');
-    await cli('export', GH, '--branch', 'lr=0.66', '--to', 'weights', '--out', npy);
+    await cli('export', GH, '--branch', 'lr=0.662', '--to', 'weights', '--out', npy);
     expect(Array.from(readNpy(bytes(npy)).data)).toEqual(Array.from(b.head.state.params));
   });
 
   it('--steps K between checkpoints: rebuilt from the nearest stored state, equal to a run from spec and seed', async () => {
     const st = join(dir, 'w37.safetensors');
-    expect((await cli('export', GH, '--branch', 'lr=0.66', '--to', 'weights', '--steps', '37', '--out', st)).code).toBe(0);
-    const e = patchChainExperiment(ledger.spec, [{ lr: 0.66 }]);
+    expect((await cli('export', GH, '--branch', 'lr=0.662', '--to', 'weights', '--steps', '37', '--out', st)).code).toBe(0);
+    const e = patchChainExperiment(ledger.spec, [{ lr: 0.662 }]);
     if (!e.ok) throw new Error('spec');
     const s = Session.create(e.experiment);
     s.step(37);
@@ -108,7 +108,7 @@ describe('export from a notebook cell', () => {
 
   it('refuses what it cannot do, naming the flag, the cell or the branch', async () => {
     expect(await cli('export', GH, '--set', 'lr=0.1', '--csv')).toMatchObject({ code: 2, err: expect.stringContaining('--set applies to a spec file') });
-    expect(await cli('export', GH, '--branch', 'fast', '--csv')).toMatchObject({ code: 2, err: expect.stringContaining("no branch is named 'fast' (branches: main, lr=0.66)") });
+    expect(await cli('export', GH, '--branch', 'fast', '--csv')).toMatchObject({ code: 2, err: expect.stringContaining("no branch is named 'fast' (branches: main, lr=0.662)") });
     expect(await cli('export', GH, '--branch', 'main', '--to', 'weights', '--steps', '15', '--out', join(dir, 'x.npy'))).toMatchObject({ code: 2, err: expect.stringContaining("--steps 15 is beyond the branch's tip (step 14)") });
     expect(await cli('export', GH, '--csv', '--to', 'weights')).toMatchObject({ code: 2, err: expect.stringContaining('--csv writes the trajectory') });
     expect(await cli('export', GH, '--csv', '--out', join(dir, 'x.npy'))).toMatchObject({ code: 2, err: expect.stringContaining('--csv writes CSV') });

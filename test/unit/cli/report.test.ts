@@ -79,7 +79,7 @@ describe('stepwell report --out FILE.html', () => {
     const path = demoCopy('greenhouse-humidity-sensor.ipynb', dir, (nb) => {
       const c = ledgerCell(nb);
       const l = c.metadata.stepwell;
-      l.findings = [{ id: 'step-size-unstable', severity: 'problem', statement: '<img src=x onerror=alert(1)> & more', measured: 2.5, threshold: 1, source: 'source: "Cohen" et al. <2021>', proposal: { atStep: 0, set: { lr: 0.5 } } }];
+      l.findings = [{ branch: 'main', id: 'step-size-unstable', severity: 'problem', statement: '<img src=x onerror=alert(1)> & more', measured: 2.5, threshold: 1, source: 'source: "Cohen" et al. <2021>', proposal: { atStep: 0, set: { lr: 0.5 } } }];
     }, 'hostile.ipynb');
     const out = join(dir, 'hostile.html');
     const r = await cli('report', path, '--out', out);

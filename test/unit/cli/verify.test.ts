@@ -58,7 +58,7 @@ describe('stepwell verify on the demo notebooks', () => {
     const { code, out } = await cli('verify', join(DEMOS, GREENHOUSE));
     expect(code).toBe(0);
     expect(out).toMatch(/^ {2}main +bit-identical \(14 steps: 15 records and \d+ states compared; fingerprint [0-9a-f]{12}\)$/m);
-    expect(out).toMatch(/^ {2}lr=0\.66 +bit-identical \(from main at step 0, 60 steps/m);
+    expect(out).toMatch(/^ {2}lr=0\.662 +bit-identical \(from main at step 0, 60 steps/m);
     expect(out.trim().split('\n').pop()).toBe('verified: 2 branches in 1 cell bit-identical');
   });
 });
@@ -93,8 +93,8 @@ describe('one number edited', () => {
     const main_ = r.cells[0].branches.find((b) => b.name === 'main');
     // The start is the same (same seed, data, model), but record 0 already states the learning rate in effect.
     expect(main_?.firstDifference).toEqual({ step: 0, quantity: 'lr', where: 'record', recorded: 0.9, replayed: 0.901, relative: expect.closeTo(0.001 / 0.901, 15) });
-    // The branch lr=0.66 sets its own lr: its weights replay bit for bit, only record 0 (shared with main) differs.
-    expect(r.cells[0].branches.find((b) => b.name === 'lr=0.66')).toMatchObject({ match: 'within-tolerance', maxRelDiff: 0, firstDifferingStep: 0, firstDifference: { quantity: 'lr' } });
+    // The branch lr=0.662 sets its own lr: its weights replay bit for bit, only record 0 (shared with main) differs.
+    expect(r.cells[0].branches.find((b) => b.name === 'lr=0.662')).toMatchObject({ match: 'within-tolerance', maxRelDiff: 0, firstDifferingStep: 0, firstDifference: { quantity: 'lr' } });
     expect(r.cells[0].verdict).toBe('differs');
   });
 

@@ -13,6 +13,8 @@ import { decodeBranch, LEDGER_KEY, validateLedger, type Ledger } from '../../../
 import { Session, sameRecord } from '../../../src/core/session';
 import { CellGrove } from '../../../src/worker/cell-grove';
 import { realCore } from '../../../src/worker/core-adapter';
+import { staticDiagnosis } from '../../../src/worker/diagnosis';
+import type { Finding } from '../../../src/worker/protocol';
 
 const DIR = path.resolve(__dirname, '..', '..', '..', 'demo-notebooks');
 
@@ -84,4 +86,36 @@ describe('demo notebooks made in Chromium replay bit for bit in Node', () => {
       expect(records).toBe(branch.trajectory.filter((r) => r.step > 0).length);
     }
   });
+
+  // What the notebook shows after a reload is what the product stored; it must be what today's
+  // code computes from the same ledger, or the prose and the cell drift apart. Numbers to 1e-9
+  // relative: Chromium's Math functions may differ from Node's in the last bits (source: the
+  // ECMAScript spec leaves Math.exp, Math.tanh … implementation-approximated).
+  it.each(found.map((f) => [f.where, f] as const))('%s: the stored findings and diagnosis readouts are what the code computes now', (_where, f) => {
+    const cell = CellGrove.fromLedger(realCore, f.ledger.spec, f.ledger, 25);
+    const names = cell.grove.names();
+    expect(names.length).toBe(f.ledger.branches.length);
+    const shape = (x: Finding): unknown => ({ ...x, measured: undefined, threshold: undefined });
+    for (const name of names) {
+      const stored = cell.readoutsOf(name);
+      const storedFindings = stored.findings.slice();
+      const storedNow = stored.activations.now;
+      const statics = staticDiagnosis(cell.grove.experiment(name));
+      expect([name, statics.init]).toEqual([name, stored.init]);
+      expect([name, statics.data]).toEqual([name, stored.data]);
+      cell.diagnose(name);
+      const now = cell.readoutsOf(name).findings;
+      expect(now.length).toBe(storedFindings.length);
+      expect([name, now.map(shape)]).toEqual([name, storedFindings.map(shape)]);
+      now.forEach((x, i) => {
+        for (const k of ['measured', 'threshold'] as const) {
+          const a = x[k];
+          const b = storedFindings[i][k];
+          expect({ name, id: x.id, k, close: a === b || Math.abs(a - b) <= 1e-9 * Math.max(Math.abs(a), Math.abs(b)) }).toEqual({ name, id: x.id, k, close: true });
+        }
+      });
+      expect([name, cell.readoutsOf(name).activations.now]).toEqual([name, storedNow]);
+    }
+  });
 });
+

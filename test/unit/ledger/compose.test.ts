@@ -7,8 +7,8 @@ import { Session } from '../../../src/core/session';
 import { parseSpec } from '../../../src/experiment';
 import type { Experiment } from '../../../src/core/setup';
 import type { SessionState, StepRecord } from '../../../src/core/state';
-import { buildLedger, decodeBranch, decodeBranches, decodeTrajectory, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';
-import { input, P, state } from './fixtures';
+import { buildLedger, decodeBranch, decodeBranches, decodeFindings, decodeTrajectory, ledgerSize, LedgerError, serializeLedger, validateLedger } from '../../../src/ledger';
+import { bits, input, P, payloadNaN, state } from './fixtures';
 
 const SPEC = `seed: 11
 model:
@@ -95,19 +95,35 @@ describe('buildLedger: structure and atomicity', () => {
     expect([fork.patch, fork.restart, fork.cursor]).toEqual([{ lr: 0.01 }, false, 7]);
   });
 
+  it('keeps every branch\'s findings at the top level with non-finite numbers exact, and the diagnosis readouts per branch', () => {
+    const json = JSON.parse(serializeLedger(buildLedger(input())));
+    const checked = validateLedger(json);
+    if (!checked.ok) throw new Error(checked.errors.join('; '));
+    const f = decodeFindings(checked.ledger.findings);
+    expect(f.map((x) => [x.branch, x.step, x.statement])).toEqual([['main', 5, 'f64:looks like a scalar'], ['lower-lr', 6, '~tilde']]);
+    expect(f[0].measured).toBe(Infinity);
+    expect(bits(Float64Array.of(f[1].value as number))).toEqual(bits(Float64Array.of(payloadNaN())));
+    const [main] = decodeBranches(checked.ledger);
+    expect(main.readouts.noise).toEqual({ step: 10, noiseScale: null, traceCovariance: Infinity });
+    expect(Number.isNaN((main.readouts.activations as { now: { layers: { preSpread: number }[] } }).now.layers[0].preSpread)).toBe(true);
+    expect(main.readouts.init).toEqual({ rows: 3, chosen: { scheme: 'lecun-normal', gain: 0.05 } });
+  });
+
   it('is deterministic for the same input', () => {
     expect(serializeLedger(buildLedger(input()))).toBe(serializeLedger(buildLedger(input())));
   });
 
   it('drops a checkpoint that duplicates the head', () => {
     const i = input();
-    const l = buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(0), state(10)] }] });
+    const l = buildLedger({ ...i, branches: [{ ...i.branches[0], checkpoints: [state(0), state(10)] }], findings: [] });
     expect(l.branches[0].checkpoints.map((c) => c.step)).toEqual([0]);
   });
 
   it.each<[string, () => unknown, string]>([
     ['a wrong parameter count', () => buildLedger({ ...input(), parameterCount: P + 1 }), 'branches[0].checkpoints[0].state.params: holds 5 numbers, expected 6'],
-    ['a NaN inside a finding', () => buildLedger({ ...input(), findings: [{ rule: 'r', value: NaN }] }), 'findings[0].value: is NaN, which JSON cannot hold'],
+    ['a finding without its branch', () => buildLedger({ ...input(), findings: [{ rule: 'r', value: NaN }] }), "findings[0].branch: must name the finding's branch, got nothing"],
+    ['a finding of an unknown branch', () => buildLedger({ ...input(), findings: [{ rule: 'r', branch: 'gone' }] }), "findings[0].branch: 'gone' is not the name of a branch"],
+    ['a typed array inside a finding', () => buildLedger({ ...input(), findings: [{ rule: 'r', branch: 'main', w: new Float64Array(2) }] }), 'findings[0].w: is a class instance or typed array, which is not plain JSON'],
     ['a typed array inside a patch', () => {
       const i = input();
       return buildLedger({ ...i, branches: [i.branches[0], { ...i.branches[1], patch: { w: new Float64Array(2) } }] });

@@ -73,6 +73,10 @@ export function input(): LedgerInput {
           curvature: { step: 10, top: [3, Infinity], note: 'f64:looks like a scalar', method: '~tilde' },
           sharpness: [{ step: 0, sharpness: 1, limit: 2 }, { step: 5, sharpness: NaN, limit: null }],
           audit: { step: 9, result: { maxRelError: -0, layers: [] } },
+          noise: { step: 10, noiseScale: null, traceCovariance: Infinity },
+          activations: { start: { step: 0, layers: [{ preSpread: 0.5 }] }, now: { step: 10, layers: [{ preSpread: NaN }] } },
+          init: { rows: 3, chosen: { scheme: 'lecun-normal', gain: 0.05 } },
+          data: { rows: 3, features: [{ index: 0, mean: -0, spread: 0 }], spreadRatio: null },
         },
       },
       {
@@ -81,7 +85,10 @@ export function input(): LedgerInput {
       },
     ],
     activeBranch: 'main',
-    findings: [{ rule: 'invented-rule', step: 5, value: 0.5 }],
+    findings: [
+      { rule: 'invented-rule', branch: 'main', step: 5, value: 0.5, measured: Infinity, statement: 'f64:looks like a scalar' },
+      { rule: 'invented-rule', branch: 'lower-lr', step: 6, value: payloadNaN(), statement: '~tilde' },
+    ],
     savedAt: '2026-01-01T00:00:00.000Z',
   };
 }

@@ -8,7 +8,7 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import { decodeBranches, migrateLedger, migrateV1, validateLedger } from '../../../src/ledger';
+import { decodeBranches, LEDGER_VERSION, migrateLedger, migrateV1, validateLedger } from '../../../src/ledger';
 import { EngineHost } from '../../../src/worker/engine-host';
 import { realCore } from '../../../src/worker/core-adapter';
 import type { EngineReply } from '../../../src/worker/protocol';
@@ -42,7 +42,7 @@ describe('ledger version 1', () => {
     expect(migrateLedger(v1)).toMatchObject({ ok: true, fromVersion: 1 });
   });
 
-  it('a one-branch cell saved by version 1 opens at its state, steps on, and saves as version 2', async () => {
+  it('a one-branch cell saved by version 1 opens at its state, steps on, and saves as the current version', async () => {
     const v1 = fixture('template-main.json');
     const checked = validateLedger(v1);
     expect(checked.ok ? [] : checked.errors).toEqual([]);
@@ -57,7 +57,7 @@ describe('ledger version 1', () => {
     await host.receive({ id: 3, kind: 'step', n: 3 });
     await host.receive({ id: 4, kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 5 });
     const saved = replies[3];
-    expect(saved.kind === 'ledger' && (saved.value as { version: number }).version).toBe(2);
+    expect(saved.kind === 'ledger' && (saved.value as { version: number }).version).toBe(LEDGER_VERSION);
     expect(saved.kind === 'ledger' && saved.summary.step).toBe(15);
   });
 

@@ -1,5 +1,5 @@
 /** Readouts in the ledger: exact plain-JSON encoding, the sharpness cap, the size limit and the digest. */
-import { capSharpness, decodeLoose, decodeReadouts, encodeLoose, encodeReadouts, MAX_READOUT_BYTES } from '../../../src/ledger';
+import { capSharpness, decodeFindings, decodeLoose, decodeReadouts, encodeFindings, encodeLoose, encodeReadouts, MAX_FINDINGS_PER_BRANCH, MAX_READOUT_BYTES, sha256Hex } from '../../../src/ledger';
 import { bits, payloadNaN } from './fixtures';
 
 describe('exact plain JSON', () => {
@@ -52,5 +52,36 @@ describe('encodeReadouts / decodeReadouts', () => {
     const edited = JSON.parse(JSON.stringify(r));
     edited.audit.step = 3;
     expect(() => decodeReadouts(edited, 'branches[0].readouts')).toThrow('branches[0].readouts.digest: does not match the readouts');
+  });
+});
+
+describe('version-3 readouts and findings', () => {
+  it('round-trips the diagnosis readouts exactly, under the digest', () => {
+    const r = encodeReadouts({ noise: { step: 3, traceCovariance: Infinity }, activations: { start: { step: 0, spread: payloadNaN() } }, init: { rows: 2 }, data: { spreadRatio: -0 } });
+    const back = decodeReadouts(JSON.parse(JSON.stringify(r)), 'x');
+    expect((back.noise as { traceCovariance: number }).traceCovariance).toBe(Infinity);
+    expect(bits(Float64Array.of((back.activations as { start: { spread: number } }).start.spread))).toEqual(bits(Float64Array.of(payloadNaN())));
+    expect(Object.is((back.data as { spreadRatio: number }).spreadRatio, -0)).toBe(true);
+    expect(back.init).toEqual({ rows: 2 });
+    const edited = JSON.parse(JSON.stringify(r));
+    edited.init.rows = 3;
+    expect(() => decodeReadouts(edited, 'b.readouts')).toThrow('b.readouts.digest: does not match the readouts');
+  });
+
+  it('keeps the digest of readouts that hold only the version-2 three (so version-2 ledgers stay valid)', () => {
+    // Version 2 hashed exactly the canonical JSON of [curvature, sharpness, audit] with this prefix (commit 213ef99).
+    const r = encodeReadouts({ curvature: { step: 1, top: [2] } }) as { digest: string };
+    expect(r.digest).toBe(sha256Hex('stepwell-readouts-v1;[{"step":1,"top":[2]},null,null]'));
+  });
+
+  it('encodes findings with their branch, non-finite numbers exact, and at most the cap per branch', () => {
+    const many = Array.from({ length: MAX_FINDINGS_PER_BRANCH + 5 }, (_, i) => ({ branch: 'a', id: 'plateau', step: i, measured: i === 0 ? Infinity : i }));
+    const enc = encodeFindings([...many, { branch: 'b', id: 'diverged', measured: NaN }]);
+    expect(enc).toHaveLength(MAX_FINDINGS_PER_BRANCH + 1);
+    const back = decodeFindings(JSON.parse(JSON.stringify(enc)));
+    expect(back[0].measured).toBe(Infinity);
+    expect(Number.isNaN(back[back.length - 1].measured)).toBe(true);
+    expect(back[MAX_FINDINGS_PER_BRANCH - 1].step).toBe(MAX_FINDINGS_PER_BRANCH - 1);
+    expect(() => encodeFindings([{ id: 'x' }])).toThrow("findings[0].branch: must name the finding's branch, got nothing");
   });
 });

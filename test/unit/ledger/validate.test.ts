@@ -70,7 +70,7 @@ describe('validateLedger', () => {
   });
 
   it.each<[string, unknown, string]>([
-    ['a newer version', { ...ledgerJson(), version: 3 }, 'version: ledger version 3 is newer than this Stepwell, which reads versions 1 to 2; update the extension to open it'],
+    ['a newer version', { ...ledgerJson(), version: 4 }, 'version: ledger version 4 is newer than this Stepwell, which reads versions 1 to 3; update the extension to open it'],
     ['version zero', { ...ledgerJson(), version: 0 }, 'version: expected a positive integer, got 0'],
     ['a version that is not a number', { ...ledgerJson(), version: '1' }, 'version: expected a positive integer, got "1"'],
     ['another format', { ...ledgerJson(), format: 'something-else' }, "format: expected 'stepwell-ledger', got \"something-else\" (this metadata was not written by Stepwell)"],
@@ -104,8 +104,8 @@ describe('recoverSpec', () => {
 describe('migrateLedger: the version chain', () => {
   const v1 = () => ({ format: 'stepwell-ledger', version: 1, note: 'a' });
   it('returns a current ledger unchanged', () => {
-    const v = { format: 'stepwell-ledger', version: 2, note: 'a' };
-    expect(migrateLedger(v)).toEqual({ ok: true, value: v, fromVersion: 2 });
+    const v = { format: 'stepwell-ledger', version: 3, note: 'a' };
+    expect(migrateLedger(v)).toEqual({ ok: true, value: v, fromVersion: 3 });
   });
   it('applies migrations in order when a newer version slots in', () => {
     const chain: Record<number, Migration> = {

@@ -15,7 +15,7 @@ function trace(name: string, parent: string | null, forkStep: number | null, ste
     name, parent, forkStep, patchText: parent === null ? '' : 'lr=0.4', restart: false, recipe: 'sgd η=0.4, full batch',
     steps, examples: steps.map(s => 60 * s), loss: steps.map(loss), heldOut: null, sharpness: [],
     step: steps[steps.length - 1], fingerprint: 'a'.repeat(64), tip: steps[steps.length - 1], tipFingerprint: (name === 'main' ? 'b' : 'c').repeat(64),
-    recipeYaml: 'seed: 11\nrecipe:\n  optimizer: sgd\n  lr: 0.4\n', ...extra
+    recipeYaml: 'seed: 11\nrecipe:\n  optimizer: sgd\n  lr: 0.4\n', findings: [], tried: [], ...extra
   };
 }
 
@@ -65,6 +65,14 @@ describe('comparison figure', () => {
     const withSharp = { ...main, sharpness: [{ step: 0, lambdaMax: 1, sharpness: 1, limit: 2.2, preconditioned: false }, { step: 10, lambdaMax: 3, sharpness: 3, limit: 2.2, preconditioned: false }] };
     const f = sharpnessOverlayFigure([withSharp, fix], theme);
     expect(f.data.map(d => [d.name, d.line.color, d.line.dash ?? 'solid'])).toEqual([['main: λmax', '#a00', 'solid'], ['main: limit', '#a00', 'dash']]);
+    // 1 to 3: linear; a λmax that grows past 10× its limit turns the axis logarithmic (and says so).
+    expect(f.layout.yaxis.type).toBe('linear');
+    const grown = { ...withSharp, sharpness: [...withSharp.sharpness, { step: 20, lambdaMax: 30, sharpness: 30, limit: 2.2, preconditioned: false }] };
+    const g = sharpnessOverlayFigure([grown, fix], theme);
+    expect([g.layout.yaxis.type, g.layout.yaxis.title.text]).toEqual(['log', 'sharpness (log scale)']);
+    // 1 to 30 is 1.5 decades: ticks at every doubling, written in full.
+    expect([g.layout.yaxis.tickmode, g.layout.yaxis.dtick, g.layout.yaxis.exponentformat]).toEqual(['linear', Math.log10(2), 'none']);
+    expect(f.layout.yaxis.dtick).toBeUndefined();
   });
 
   it('has a text alternative naming every branch and where its trace ends', () => {
@@ -87,8 +95,9 @@ describe('axes and legends', () => {
 });
 
 describe('decision record', () => {
-  const findings = [{ id: 'step-size-unstable', severity: 'problem', layer: null, step: 27, measured: 2.4, threshold: 2.2, source: 'Nocedal & Wright 2006, ch. 3', statement: 'λmax 2.4 exceeds 2/η = 2.2 at step 27.', proposal: { atStep: 26, set: { lr: 0.4 } } }];
-  const md = decisionRecord({ question: 'Which step size | for the *sensor*?', chosen: 'lr=0.4', comparison, traces: [main, fix], findings, image: RECORD_IMAGE, figureText: comparisonText([main, fix], 'step') });
+  const findings: BranchTrace['findings'] = [{ id: 'step-size-unstable', severity: 'problem', layer: null, step: 27, measured: 2.4, threshold: 2.2, source: 'Nocedal & Wright 2006, ch. 3', statement: 'λmax 2.4 exceeds 2/η = 2.2 at step 27.', proposal: { atStep: 26, set: { lr: 0.4 } } }];
+  const withFindings = { ...main, findings, tried: ['lr=0.4'] };
+  const md = decisionRecord({ question: 'Which step size | for the *sensor*?', chosen: 'lr=0.4', comparison, traces: [withFindings, fix], image: RECORD_IMAGE, figureText: comparisonText([main, fix], 'step') });
 
   it('states question and choice, escaping user text', () => {
     expect(md.startsWith('## Decision record: Which step size \\| for the \\*sensor\\*?\n')).toBe(true);
@@ -107,7 +116,8 @@ describe('decision record', () => {
   });
 
   it('lists findings with their sources, the recipe as YAML, the fingerprints in full and the figure', () => {
-    expect(md).toContain('- **problem `step-size-unstable`** (step 27): λmax 2.4 exceeds 2/η = 2.2 at step 27. Measured 2.4 against the threshold 2.2. Source: Nocedal & Wright 2006, ch. 3.');
+    expect(md).toContain('- **problem `step-size-unstable`** (branch main, step 27): λmax 2.4 exceeds 2/η = 2.2 at step 27. Measured: learning rate 2.4 · threshold 2.2. Source: Nocedal & Wright 2006, ch. 3. Proposal: from step 26, lr=0.4 — tried as branch lr=0.4.');
+    expect(md).toContain('*Proposals are measured on this small proxy experiment: a guess to confirm at full scale, not a prescription.*');
     expect(md).toContain('```yaml\nseed: 11\nrecipe:\n  optimizer: sgd\n  lr: 0.4\n```');
     expect(md).toContain(`| main | 40 | \`${'b'.repeat(64)}\` |`);
     expect(md).toContain(`| lr=0.4 | 40 | \`${'c'.repeat(64)}\` |`);
@@ -116,10 +126,11 @@ describe('decision record', () => {
   });
 
   it('says when no findings were recorded, and refuses a choice outside the comparison', () => {
-    const none = decisionRecord({ question: 'q', chosen: 'main', comparison, traces: [main, fix], findings: [], image: null, figureText: 'f' });
-    expect(none).toContain('No findings were recorded in this cell.');
+    const none = decisionRecord({ question: 'q', chosen: 'main', comparison, traces: [main, fix], image: null, figureText: 'f' });
+    expect(none).toContain('The compared branches have no findings.');
+    expect(none).not.toContain('Proposals are measured');
     expect(none).not.toContain('attachment:');
-    expect(() => decisionRecord({ question: 'q', chosen: 'other', comparison, traces: [main, fix], findings: [], image: null, figureText: 'f' }))
+    expect(() => decisionRecord({ question: 'q', chosen: 'other', comparison, traces: [main, fix], image: null, figureText: 'f' }))
       .toThrow("the chosen branch 'other' is not among the compared branches (main, lr=0.4)");
     expect(recordMeta('c1', { question: 'q', chosen: 'main', traces: [main] })).toEqual({ version: 1, cell: 'c1', question: 'q', chosen: 'main', branches: [{ name: 'main', tip: 40, fingerprint: 'b'.repeat(64) }] });
   });

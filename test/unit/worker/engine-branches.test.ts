@@ -12,6 +12,7 @@ import { checkRequest } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC, parseSpec } from '../../../src/experiment';
 import { patchChainExperiment } from '../../../src/experiment/patch';
 import { Grove } from '../../../src/core/session';
+import { decodeFindings } from '../../../src/ledger';
 
 function collect() {
   const replies: EngineReply[] = [];
@@ -104,10 +105,12 @@ describe('branch requests', () => {
 describe('every branch after a ledger round trip', () => {
   it('continues and replays bit for bit: forked, restarted, and shown before its tip', async () => {
     const a = await threeBranches();
+    const shown = await a.send({ kind: 'switch', branch: 'main' });
+    if (shown.kind !== 'branched') throw new Error('expected branched');
     const built = await a.send({ kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 6 });
     if (built.kind !== 'ledger') throw new Error('expected a ledger');
     const stored = JSON.parse(JSON.stringify(built.value)) as { version: number; branches: { name: string; cursor?: number; patch?: object; restart?: boolean; readouts?: object }[] };
-    expect(stored.version).toBe(2);
+    expect(stored.version).toBe(3);
     expect(stored.branches.map(b => [b.name, b.cursor, b.patch, b.restart])).toEqual([
       ['main', 12, undefined, undefined],
       ['slow', undefined, { lr: 0.02 }, undefined],
@@ -117,12 +120,10 @@ describe('every branch after a ledger round trip', () => {
     const names = ['main', 'slow', 'model.init=he-normal'];
     const compared = await a.send({ kind: 'compare', branches: names });
 
-    // Findings (written by the findings rules) ride along unchanged.
-    const finding = { id: 'step-size-unstable', severity: 'problem', layer: null, step: 0, measured: 2.7, threshold: 2.2, source: 'invented for this test', statement: 'x', proposal: { atStep: 0, set: { lr: 0.5 } } };
-    (stored as unknown as { findings: object[] }).findings = [finding];
+    // The shown branch comes back with everything it showed: measurements, diagnosis, findings, derived readouts.
     const b = collect();
     const ready = await b.send({ ...load, resume: stored });
-    expect(ready.kind === 'ready' && ready.findings).toEqual([finding]);
+    expect(ready.kind === 'ready' && ready.readouts).toEqual(shown.readouts);
     expect(ready).toMatchObject({ kind: 'ready', summary: { branch: 'main', step: 12, tip: 30 } });
     if (ready.kind !== 'ready') return;
     expect(ready.summary.branches).toEqual(before);
@@ -155,6 +156,10 @@ describe('every branch after a ledger round trip', () => {
     g.step('slow', 20);
     expect(stepped.kind === 'stepped' && stepped.summary.fingerprint).toBe(g.session('slow').fingerprint());
     const rebuilt = await b.send({ kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 6 });
-    expect(rebuilt.kind === 'ledger' && (rebuilt.value as { findings: object[] }).findings).toEqual([finding]);
+    // The ledger keeps each branch's findings tagged with it; the stepped branch's are those it now shows.
+    if (rebuilt.kind !== 'ledger' || stepped.kind !== 'stepped') throw new Error('expected a ledger');
+    const kept = decodeFindings((rebuilt.value as { findings: Record<string, unknown>[] }).findings);
+    expect(kept.filter(f => f.branch === 'slow').map(({ branch: _b, ...f }) => f)).toEqual(stepped.readouts.findings);
+    expect(kept.every(f => names.includes(f.branch as string))).toBe(true);
   });
 });

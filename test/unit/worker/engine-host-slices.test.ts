@@ -106,3 +106,32 @@ describe('EngineHost long work in slices', () => {
     expect(a.last()).toMatchObject({ id: 4, kind: 'failed', message: "branch 'main' has a trajectory ending at step 3 for its state at step 6 (expected the same step)" });
   });
 });
+
+describe('findings while a long run goes on', () => {
+  const progress = (rs: EngineReply[]) => rs.filter((r): r is Extract<EngineReply, { kind: 'progress' }> => r.kind === 'progress');
+
+  it('carries re-evaluated findings in progress replies no more often than asked, and always in the final reply', async () => {
+    // chunkMs 0: one update per slice, so there is a progress reply after every update.
+    const every = collect({ chunkMs: 0, findingsEveryMs: 0 });
+    await every.host.receive(load(1, 0));
+    await every.host.receive({ id: 2, kind: 'step', n: 30 });
+    const all = progress(every.replies);
+    expect(all.length).toBeGreaterThanOrEqual(20);
+    // With no time floor the first slice's reply carries them; later ones wait ten times the last evaluation's cost.
+    const carrying = all.filter(p => p.readouts !== undefined);
+    expect(all[0].readouts?.activations.now?.step).toBe(all[0].done);
+    expect(carrying.every(p => p.readouts?.activations.now?.step === p.done)).toBe(true);
+    const final = every.last();
+    expect(final.kind === 'stepped' && final.readouts.activations.now?.step).toBe(30);
+
+    const rarely = collect({ chunkMs: 0, findingsEveryMs: 1e9 });
+    await rarely.host.receive(load(1, 0));
+    await rarely.host.receive({ id: 2, kind: 'step', n: 30 });
+    expect(progress(rarely.replies).length).toBeGreaterThanOrEqual(20);
+    expect(progress(rarely.replies).filter(p => p.readouts !== undefined)).toHaveLength(0);
+    const end = rarely.last();
+    expect(end.kind === 'stepped' && end.readouts.activations.now?.step).toBe(30);
+    // The same findings either way: the cadence changes when they are sent, not what they say.
+    expect(end.kind === 'stepped' && final.kind === 'stepped' && end.readouts.findings).toEqual(final.kind === 'stepped' ? final.readouts.findings : null);
+  });
+});

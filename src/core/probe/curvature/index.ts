@@ -5,7 +5,7 @@
  */
 export { curvatureOperator } from './operator';
 export { denseSpectrum } from './dense';
-export { stabilityBound, preconditionerDiagonal, stepMetric } from './stability';
+export { stabilityFactor, stabilityBound, preconditionerDiagonal, stepMetric } from './stability';
 export type { CurvatureSummary, CurvatureReport } from './summary';
 export { measureCurvature, measureCurvatureWith } from './summary';
 export type { DensityTraceTask, DensityTrace, DensityTraceRunner } from './parts';
@@ -14,3 +14,5 @@ export { layerSharpness } from './layers';
 export { trackSharpness } from './trajectory';
 export { lineProfile } from './profile';
 export { measureSessionCurvature, measureSessionCurvatureWith } from './measure-session';
+export type { StabilityVerdict, TraceVerdict } from './verdicts';
+export { stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from './verdicts';

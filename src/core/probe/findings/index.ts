@@ -3,9 +3,9 @@
  * proposal where one exists. Entry point for the worker, the CLI and the tests.
  */
 export type { Finding, FindingId, Proposal } from './types';
-export type { Evidence, SharpnessPoint } from './evidence';
+export type { Evidence, SharpnessPoint, StandardizedFit } from './evidence';
 export { THRESHOLDS } from './thresholds';
 export { evaluateFindings } from './engine';
-export { setupFacts, sharpnessPointFrom, auditFacts } from './gather';
+export { setupFacts, staticEvidence, currentActivations, sharpnessPointFrom, standardizedFit, curvatureFacts, auditFacts, diagnoseRng } from './gather';
 export { diagnoseExperiment } from './diagnose';
 export { roundDown } from './proposals';
