@@ -13,6 +13,8 @@ import { DEFAULT_SETTINGS } from '../ui/ports';
 import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
+import { notebookFileReader } from './notebook-files';
+import type { ICodeCellModel } from '@jupyterlab/cells';
 import { addCommands } from './commands';
 import { createExecutor } from './executor';
 import { StepwellCells } from './registry';
@@ -28,10 +30,15 @@ export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
 /** Provides the registry of stepwell cells. */
 const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   id: 'stepwell:cells',
-  description: 'Keeps one controller per stepwell cell and the user settings.',
+  description: 'Keeps one controller per stepwell cell and the user settings; reads the files cells name through the contents API.',
   autoStart: true,
+  requires: [INotebookTracker],
   provides: IStepwellCells,
-  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost, figureImage)
+  activate: (app: JupyterFrontEnd, tracker: INotebookTracker): IStepwellCells => {
+    // The notebook's path is looked up at each read: a notebook can be renamed or moved while open.
+    const pathOf = (model: ICodeCellModel) => (): string | null => tracker.find(p => p.model !== null && p.model.sharedModel === model.sharedModel.notebook)?.context.path ?? null;
+    return new StepwellCells(spawnEngine, model => cellHost(model, notebookFileReader(app.serviceManager.contents, pathOf(model))), figureImage);
+  }
 };
 
 /** Runs stepwell cells in our engine and every other cell as JupyterLab would. */

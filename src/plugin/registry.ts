@@ -28,9 +28,13 @@ export function hasMarker(source: string): boolean {
   return MARKER.test(first.trim());
 }
 
-/** The live spec check: every error of the parser (warnings are shown after a run). */
+/**
+ * The live spec check: every error of the parser (warnings are shown after a run). Files the
+ * spec names are not read here (that happens when the engine starts, with the problems of
+ * reading them placed at their keys).
+ */
 export function checkSpec(text: string): SpecProblem[] {
-  const r = parseSpec(text);
+  const r = parseSpec(text, 'auto', { deferFiles: true });
   return r.ok ? [] : r.errors;
 }
 

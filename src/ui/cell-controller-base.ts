@@ -7,7 +7,8 @@
 import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
-import type { BranchReadouts, SessionSummary } from '../worker/protocol';
+import type { BranchReadouts, SessionSummary, SpecFilesPayload } from '../worker/protocol';
+import { cellFileNames } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
@@ -135,10 +136,32 @@ export abstract class ControllerBase {
     this.set({ confirm: c });
   }
 
+  /**
+   * Reads the files `names` through the host (relative to the notebook) into a request's file
+   * fields, with the buffers to transfer: each file's bytes move to the engine, never copied.
+   */
+  protected async readFiles(names: readonly string[]): Promise<{ payload: SpecFilesPayload; transfer: ArrayBuffer[] }> {
+    if (names.length === 0) return { payload: {}, transfer: [] };
+    const read = this.deps.host.readFiles
+      ? await this.deps.host.readFiles(names)
+      : { files: new Map<string, Uint8Array>(), problems: new Map(names.map((n) => [n, 'this notebook host reads no files (inline the data, or open the notebook in JupyterLab with Stepwell)'])) };
+    const files: Record<string, Uint8Array> = {};
+    const transfer = new Set<ArrayBuffer>();
+    for (const [name, bytes] of read.files) {
+      files[name] = bytes;
+      // Only a buffer the bytes fill alone moves; a view into a larger one is copied instead.
+      if (bytes.buffer instanceof ArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength) transfer.add(bytes.buffer);
+    }
+    const payload: SpecFilesPayload = { files };
+    if (read.problems.size > 0) payload.fileProblems = Object.fromEntries(read.problems);
+    return { payload, transfer: [...transfer] };
+  }
+
   protected async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
     this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], findings: [], verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
-    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
+    const { payload, transfer } = await this.readFiles(cellFileNames(source));
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, ...payload }, undefined, transfer);
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
       this.set({ problems: reply.errors });
@@ -178,9 +201,12 @@ export abstract class ControllerBase {
       this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
       return null;
     }
-    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw });
+    const { payload, transfer } = await this.readFiles(c.files);
+    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, ...payload }, undefined, transfer);
     if (reply.kind === 'spec-errors') {
-      this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
+      // Problems of the saved spec (a file changed or unreadable) sit at their keys, like the live check's.
+      this.set({ problems: reply.errors });
+      this.notice('error', `The saved session cannot continue: ${reply.errors.map(problemLine).join('; ')}`);
       return null;
     }
     if (reply.kind !== 'ready') {
@@ -196,12 +222,14 @@ export abstract class ControllerBase {
    *
    * @returns the final reply, or null when busy or no session exists (a notice says why).
    */
-  protected async exchange(action: string, body: RequestBody, total = 0): Promise<FinalReply | null> {
+  protected async exchange(action: string, body: RequestBody, total = 0, names: readonly string[] = []): Promise<FinalReply | null> {
     if (this.st.busy !== null) return null;
     const engine = await this.syncEngine();
     if (engine === null) return null;
     this.set({ busy: { action, done: 0, total }, confirm: null });
-    const reply = await engine.request(body, p => this.set({ busy: { action, done: p.done, total: p.total } }));
+    // Files a request names (a fork whose patch names a new data file) are read first.
+    const { payload, transfer } = await this.readFiles(names);
+    const reply = await engine.request({ ...body, ...payload } as RequestBody, p => this.set({ busy: { action, done: p.done, total: p.total } }), transfer);
     this.set({ busy: null });
     return reply;
   }
