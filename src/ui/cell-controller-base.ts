@@ -75,6 +75,8 @@ export abstract class ControllerBase {
 
   protected set(patch: Partial<CellViewState>): void {
     if (this.disposedFlag) return;
+    // Problems from anywhere but a saved session's files are the text's own.
+    if ('problems' in patch && !('filesBlocked' in patch)) patch = { ...patch, filesBlocked: false };
     this.st = { ...this.st, ...patch };
     this.changedSignal.emit(this.st);
   }
@@ -173,6 +175,7 @@ export abstract class ControllerBase {
     this.set({
       ledger: 'ok',
       ledgerMessage: undefined,
+      problems: [],
       sessionSpec: source,
       specEdited: false,
       summary: reply.summary,
@@ -205,8 +208,8 @@ export abstract class ControllerBase {
     const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, ...payload }, undefined, transfer);
     if (reply.kind === 'spec-errors') {
       // Problems of the saved spec (a file changed or unreadable) sit at their keys, like the live check's.
-      this.set({ problems: reply.errors });
-      this.notice('error', `The saved session cannot continue: ${reply.errors.map(problemLine).join('; ')}`);
+      this.set({ problems: reply.errors, filesBlocked: true });
+      this.notice('error', 'The saved session cannot continue with the files as they are now (see the problems above): put the old files back, or Reset to start over from these.');
       return null;
     }
     if (reply.kind !== 'ready') {
@@ -214,6 +217,8 @@ export abstract class ControllerBase {
       return null;
     }
     this.engineInSync = true;
+    // The files are back as they were: their problems no longer hold.
+    if (this.st.filesBlocked === true) this.set({ problems: [], notice: null });
     return engine;
   }
 

@@ -165,9 +165,13 @@ describe('a cell with data and weights files', () => {
     expect(d.state.problems[0]).toMatchObject({ path: 'data.file', line: lineOf(SPEC, 'file: kiln-firings.csv') });
     expect(d.state.problems[0].message).toMatch(/kiln-firings\.csv changed since this session was saved: the ledger recorded data hash [0-9a-f]{12}…, the data now hash to [0-9a-f]{12}…/);
     expect(d.state.notice?.level).toBe('error');
+    expect(d.state.notice?.text).toContain('Reset to start over');
+    expect(d.state.filesBlocked).toBe(true); // so the widget keeps Reset enabled
     // Reset starts over from the data as they are now (after the confirmation).
     expect(await d.reset(true)).toBe(true);
     expect(d.state.summary?.step).toBe(0);
+    expect(d.state.problems).toEqual([]);
+    expect(d.state.filesBlocked).toBe(false);
     d.dispose();
   });
 
