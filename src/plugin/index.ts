@@ -14,7 +14,6 @@ import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
 import { notebookFileReader } from './notebook-files';
-import type { ICodeCellModel } from '@jupyterlab/cells';
 import { addCommands } from './commands';
 import { createExecutor } from './executor';
 import { StepwellCells } from './registry';
@@ -32,12 +31,16 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   id: 'stepwell:cells',
   description: 'Keeps one controller per stepwell cell and the user settings; reads the files cells name through the contents API.',
   autoStart: true,
-  requires: [INotebookTracker],
   provides: IStepwellCells,
-  activate: (app: JupyterFrontEnd, tracker: INotebookTracker): IStepwellCells => {
-    // The notebook's path is looked up at each read: a notebook can be renamed or moved while open.
-    const pathOf = (model: ICodeCellModel) => (): string | null => tracker.find(p => p.model !== null && p.model.sharedModel === model.sharedModel.notebook)?.context.path ?? null;
-    return new StepwellCells(spawnEngine, model => cellHost(model, notebookFileReader(app.serviceManager.contents, pathOf(model))), figureImage);
+  activate: (app: JupyterFrontEnd): IStepwellCells => {
+    // The notebook tracker cannot be required here (it needs the cell executor, which needs this
+    // plugin); the commands plugin hands over the path lookup once the tracker exists.
+    const cells: StepwellCells = new StepwellCells(
+      spawnEngine,
+      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model))),
+      figureImage
+    );
+    return cells;
   }
 };
 
@@ -77,6 +80,8 @@ const commandsPlugin: JupyterFrontEndPlugin<void> = {
     settings: ISettingRegistry | null
   ): void => {
     addCommands(app, tracker, cells, palette);
+    // Looked up at each read: a notebook can be renamed or moved while open.
+    (cells as StepwellCells).findNotebookPath = model => tracker.find(p => p.model !== null && p.model.sharedModel === model.sharedModel.notebook)?.context.path ?? null;
     if (settings !== null) void followSettings(settings, cells as StepwellCells);
   }
 };

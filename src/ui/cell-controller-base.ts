@@ -12,7 +12,7 @@ import { cellFileNames } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, lossImage, markdownSummary, meanMs, problemLine } from './summary';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { initialViewState, viewFromLedger } from './view-state';
 
@@ -167,6 +167,8 @@ export abstract class ControllerBase {
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
       this.set({ problems: reply.errors });
+      // A cell with no session yet has no widget: the error output brings it (and says it to other viewers).
+      if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(reply.errors.map(problemLine)));
       this.notice('error', 'The engine rejected the spec; see the problems above.');
       return false;
     }

@@ -31,6 +31,8 @@ interface FileCell extends CellHost {
   /** Every buffer handed to the controller, to see that it moved to the engine. */
   handed: Uint8Array[];
   reads: string[][];
+  /** Summaries of the outputs written (null: the error output of a cell without a session). */
+  outputsWritten: (object | null)[];
 }
 
 function fileCell(source = SPEC): FileCell {
@@ -40,6 +42,7 @@ function fileCell(source = SPEC): FileCell {
     folder: new Map(['kiln-firings.csv', 'kiln-start.safetensors'].map((n) => [n, disk(n)])),
     handed: [],
     reads: [],
+    outputsWritten: [],
     readFiles: async (names) => {
       cell.reads.push([...names]);
       const out: FilesRead = { files: new Map(), problems: new Map() };
@@ -62,7 +65,9 @@ function fileCell(source = SPEC): FileCell {
     writeLedger: (v) => {
       cell.metadata = JSON.parse(JSON.stringify(v));
     },
-    writeOutputs: () => undefined
+    writeOutputs: (summary) => {
+      cell.outputsWritten.push(summary);
+    }
   };
   return cell;
 }
@@ -124,6 +129,8 @@ describe('a cell with data and weights files', () => {
     expect(c.state.problems).toHaveLength(1);
     expect(c.state.problems[0]).toMatchObject({ path: 'data.file', line: lineOf(SPEC, 'file: kiln-firings.csv') });
     expect(c.state.problems[0].message).toContain("kiln-firings.csv was not read: not found: there is no 'kiln-firings.csv'");
+    // No session yet: the error output is written, so the cell shows the widget with the problem.
+    expect(missing.outputsWritten).toEqual([null]);
     c.dispose();
 
     const garbled = fileCell();
