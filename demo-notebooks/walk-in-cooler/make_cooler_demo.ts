@@ -26,7 +26,7 @@ const FILES = ['cooler-week1.csv', 'cooler-week2.csv', 'cooler-start.safetensors
 const NOTEBOOK = 'walk-in-cooler.ipynb';
 
 /** The cell's spec: the recipe as the engineer first tried it. */
-export const COOLER_SPEC = `%%stepwell
+const COOLER_SPEC = `%%stepwell
 # stepwell: compressor power of the walk-in cooler from its hourly log, starting from the saved PyTorch weights
 seed: 3
 model:

@@ -6,7 +6,7 @@
  */
 
 /** Outcome of {@link resolveFromNotebook}: a path from the Jupyter root, or why there is none. */
-export type Resolved = { ok: true; path: string } | { ok: false; message: string };
+type Resolved = { ok: true; path: string } | { ok: false; message: string };
 
 /**
  * The contents path of `name` as a spec writes it, relative to the folder of the notebook at
@@ -34,7 +34,7 @@ const INDEX = new Int16Array(128).fill(-1);
 const isSpace = (c: number): boolean => c === 10 || c === 13 || c === 32 || c === 9;
 
 /** Outcome of {@link bytesOfBase64}. */
-export type Decoded = { ok: true; bytes: Uint8Array } | { ok: false; message: string };
+type Decoded = { ok: true; bytes: Uint8Array } | { ok: false; message: string };
 
 /**
  * Decodes base64 content (padded, standard alphabet, line breaks allowed) into one new
