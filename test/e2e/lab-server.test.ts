@@ -275,7 +275,6 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     expect(r.stdout).toMatch(/lr=0\.1\s+bit-identical \(from main at step 1, 82 steps/);
     expect(r.status).toBe(0);
     expect(ourErrors(browser)).toEqual([]);
-    await open(page, server.url(DEMO));
   });
 
   it('reopens everything from disk after a server restart', async () => {
