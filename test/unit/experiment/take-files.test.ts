@@ -9,13 +9,13 @@ import { takenFileNames, takenNpy, takenSpecText, type TakenArray } from '../../
 import { parseSpec } from '../../../src/experiment';
 import { Session } from '../../../src/core/session';
 
-const FIX = join(__dirname, '../../reference/data/fixtures');
+const FIX = join(__dirname, '../../reference/take');
 
 const arr = (role: TakenArray['role'], name: string, shape: number[], values: number[]): TakenArray => ({ role, name, shape, dtype: 'float64', values: Float64Array.from(values) });
 
 describe('taken arrays as .npy files', () => {
   it('are the bytes numpy.save writes for the same arrays', () => {
-    // source: numpy 1.24.2 numpy.save (test/reference/data/make_taken_npy.py)
+    // source: numpy 1.24.2 numpy.save (test/reference/take/make_taken_npy.py)
     const x = arr('x', 'X', [3, 2], [0.1, -2, 3e-310, 7, 1.5, -0]);
     const y = arr('y', 'y', [3], [0.25, -1, 1e300]);
     expect(Buffer.from(takenNpy(x)).equals(readFileSync(join(FIX, 'taken-x.npy')))).toBe(true);
