@@ -87,6 +87,7 @@ describe('data and weights files in the embedded app', () => {
     expect(ledger.branches.map((b) => [b.name, b.head.step])).toEqual([['main', 18], ['lr=0.1', 90]]);
     expect(ledger.dataHash).toMatch(/^[0-9a-f]{64}$/);
 
+    // source: Node's V8 replaying what Chromium's V8 computed (two engines; core's arithmetic is engine-independent)
     const v = stepwell('verify', file, '--json');
     expect(v.err).toBe('');
     expect(v.code).toBe(0);

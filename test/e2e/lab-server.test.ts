@@ -271,6 +271,7 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     await cell.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
     await screenshot(page, 'lab-5c-files-beside-notebook');
     await save(page);
+    // source: Node's V8 replaying what Chromium's V8 computed from the files the real server sent
     const r = spawnSync(process.execPath, [path.join(ROOT, 'src', 'cli', 'bin.cjs'), 'verify', path.join(folder.work, 'walk-in-cooler', 'walk-in-cooler.ipynb')], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
     expect(r.stdout).toMatch(/lr=0\.1\s+bit-identical \(from main at step 1, 82 steps/);
     expect(r.status).toBe(0);

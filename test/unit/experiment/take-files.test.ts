@@ -48,6 +48,7 @@ describe('taken arrays as .npy files', () => {
     expect(Array.from(a?.y ?? [])).toEqual(Array.from(b?.y ?? []));
     expect(Array.from(a?.heldOut?.x ?? [])).toEqual([1, 2, 3, 4]);
     expect(a?.origin?.files.map((f) => f.name)).toEqual(['X_train.npy', 'y_train.npy', 'X_val.npy', 'y_val.npy']);
+    // common practice (no single source): the same numbers from a file and inline must give the same trajectory bit for bit
     const s1 = Session.create(fromFiles.experiment);
     const s2 = Session.create(inline.experiment);
     s1.step(5);

@@ -98,6 +98,7 @@ describe('a cell with data and weights files', () => {
     expect(c.state.summary?.setup).toContain('120 rows');
     expect(await c.step(12)).toBe(true);
     // The same files read from disk as the CLI does give the hash the ledger holds.
+    // common practice (no single source): one computation through two paths (the app's worker, the CLI) must agree bit for bit
     const cli = parseSpec(SPEC, 'auto', { files: new Map([['kiln-firings.csv', disk('kiln-firings.csv')], ['kiln-start.safetensors', disk('kiln-start.safetensors')]]) });
     if (!cli.ok) throw new Error(cli.errors[0].message);
     const ledger = cell.metadata as { dataHash?: string };
