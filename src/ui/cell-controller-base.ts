@@ -39,6 +39,8 @@ export abstract class ControllerBase {
   /** The ledger content last read: what a lazily started engine resumes from. */
   private content: LedgerContent | null = null;
   private disposedFlag = false;
+  /** The text whose problems the engine reported (reading its files); null when the shown problems are the live check's. */
+  private engineChecked: string | null = null;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -101,13 +103,20 @@ export abstract class ControllerBase {
     this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
   }
 
-  /** Re-checks the editor's text (call on source changes, debounced). */
+  /**
+   * Re-checks the editor's text (call on source changes, debounced). A change that leaves the text
+   * as it was (outputs or metadata written) keeps the problems shown: the engine's problems with the
+   * files the text names stay until the text itself changes.
+   */
   sourceChanged(): void {
     const source = this.deps.host.readSource();
-    this.set({
-      problems: this.deps.checkSpec(source),
-      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
-    });
+    const specEdited = this.st.sessionSpec !== null && source !== this.st.sessionSpec;
+    if (source === this.engineChecked) {
+      this.set({ specEdited });
+      return;
+    }
+    this.engineChecked = null;
+    this.set({ problems: this.deps.checkSpec(source), specEdited });
   }
 
   /** Opens or closes an inline form. */
@@ -166,6 +175,7 @@ export abstract class ControllerBase {
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, ...payload }, undefined, transfer);
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
+      this.engineChecked = source;
       this.set({ problems: reply.errors });
       // A cell with no session yet has no widget: the error output brings it (and says it to other viewers).
       if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(reply.errors.map(problemLine)));
@@ -210,6 +220,7 @@ export abstract class ControllerBase {
     const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, ...payload }, undefined, transfer);
     if (reply.kind === 'spec-errors') {
       // Problems of the saved spec (a file changed or unreadable) sit at their keys, like the live check's.
+      this.engineChecked = this.deps.host.readSource();
       this.set({ problems: reply.errors, filesBlocked: true });
       this.notice('error', 'The saved session cannot continue with the files as they are now (see the problems above): put the old files back, or Reset to start over from these.');
       return null;

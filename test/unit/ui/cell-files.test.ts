@@ -132,6 +132,13 @@ describe('a cell with data and weights files', () => {
     expect(c.state.problems[0].message).toContain("kiln-firings.csv was not read: not found: there is no 'kiln-firings.csv'");
     // No session yet: the error output is written, so the cell shows the widget with the problem.
     expect(missing.outputsWritten).toEqual([null]);
+    // Writing that output changes the cell (not its text): the debounced re-check keeps the engine's problem.
+    c.sourceChanged();
+    expect(c.state.problems.map((p) => p.path)).toEqual(['data.file']);
+    // An edit of the text drops it (the live check does not read files).
+    missing.source = SPEC.replace('seed: 17', 'seed: 18');
+    c.sourceChanged();
+    expect(c.state.problems).toEqual([]);
     c.dispose();
 
     const garbled = fileCell();
