@@ -208,6 +208,29 @@ describe('a cell with data and weights files', () => {
     d.dispose();
   });
 
+  it("reads a file only a fork's patch names, and only that one", async () => {
+    const cell = fileCell();
+    const text = new TextDecoder().decode(cell.folder.get('kiln-firings.csv'));
+    cell.folder.set('kiln-firings-june.csv', new TextEncoder().encode(text.replace('1207.7,', '1215.0,')));
+    const c = controller(cell);
+    expect(await c.run()).toBe(true);
+    expect(await c.step(3)).toBe(true);
+    // A setup change forks at step 0 (a restart) from the other month's log.
+    expect(await c.forkBranch({ atStep: 0, set: { 'data.file': 'kiln-firings-june.csv' }, name: 'june' })).toBe(true);
+    expect(cell.reads).toEqual([['kiln-firings.csv', 'kiln-start.safetensors'], ['kiln-firings-june.csv']]);
+    expect(await c.step(2)).toBe(true);
+    expect(c.state.summary?.branch).toBe('june');
+    expect(c.state.summary?.branches.map((b) => [b.name, b.tip])).toEqual([['main', 3], ['june', 2]]);
+    // The same fork from the CLI's reading of the files gives the same state.
+    // common practice (no single source): one computation through two paths must agree bit for bit
+    const june = parseSpec(SPEC.replace('file: kiln-firings.csv', 'file: kiln-firings-june.csv'), 'auto', { files: new Map([['kiln-firings-june.csv', cell.folder.get('kiln-firings-june.csv') as Uint8Array], ['kiln-start.safetensors', disk('kiln-start.safetensors')]]) });
+    if (!june.ok) throw new Error(june.errors[0].message);
+    const s = Session.create(june.experiment);
+    s.step(2);
+    expect(c.state.summary?.fingerprint).toBe(s.fingerprint());
+    c.dispose();
+  });
+
   it('says so when the host reads no files', async () => {
     const cell = fileCell();
     delete (cell as Partial<FileCell>).readFiles;
