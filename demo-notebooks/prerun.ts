@@ -9,7 +9,7 @@
  */
 import { CellController } from '../src/ui/controller';
 import { DEFAULT_SETTINGS } from '../src/ui/ports';
-import type { CellHost, RecordCell } from '../src/ui/ports';
+import type { CellHost, FilesRead, RecordCell } from '../src/ui/ports';
 import { ledgerGlue, LEDGER_KEY } from '../src/ui/ledger-glue';
 import { figureImage } from '../src/ui/plot';
 import { stepwellOutput } from '../src/plugin/cell-host';
@@ -38,6 +38,8 @@ export interface PrerunRequest {
   id: string;
   spec: string;
   actions: PrerunAction[];
+  /** Files beside the notebook the spec names (name → base64 bytes), read as the app's contents API would. */
+  files?: Record<string, string>;
 }
 
 /** The cell's metadata and outputs after the pre-run, and the decision record it wrote. */
@@ -96,6 +98,15 @@ async function prerunOne(r: PrerunRequest): Promise<PrerunResult> {
     },
     writeOutputs: (summary, md) => {
       out.outputs = [stepwellOutput(summary, md)];
+    },
+    readFiles: async names => {
+      const read: FilesRead = { files: new Map(), problems: new Map() };
+      for (const n of names) {
+        const b64 = r.files?.[n];
+        if (b64 === undefined) read.problems.set(n, `not found: the pre-run was given no '${n}'`);
+        else read.files.set(n, Uint8Array.from(atob(b64), c => c.charCodeAt(0)));
+      }
+      return read;
     },
     cellId: () => r.id,
     findRecord: () => (out.record === null ? null : 0),

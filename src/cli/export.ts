@@ -14,7 +14,7 @@ import { Session } from '../core/session/live';
 import { fingerprintState } from '../core/session/state-data';
 import { writeNpy, writeSafetensors } from '../core/data';
 import type { Experiment } from '../core/setup';
-import type { StepRecord } from '../core/state';
+import type { SessionState, StepRecord } from '../core/state';
 import { describePatch, patchExperiment, type SpecPatch } from '../experiment/patch';
 import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, type CommandResult } from './io';
 import { parseBranch } from './run';
@@ -50,6 +50,8 @@ interface Source {
   warnings: string[];
   /** For a notebook source: what the ledger recorded (records, states at steps), exported instead of a new run. */
   recorded?: NotebookBranch;
+  /** A branch forked after step 0: the script starts from the branch's stored state at its fork step. */
+  start?: { step: number; state: SessionState };
 }
 
 /** True when SOURCE names a notebook. */
@@ -62,17 +64,18 @@ function resolveSource(path: string, flags: ExportFlags): Source {
   if (isNotebook(path)) {
     if (flags.set !== undefined) throw new CliError(`--set applies to a spec file; a notebook's branches are exported as their ledger recorded them (choose one with --branch NAME)`);
     const b = notebookBranch(path, flags.cell, flags.branch);
-    if (b.forkSteps.some((s) => s !== 0) && (flags.to ?? 'pytorch') === 'pytorch' && !flags.csv) {
-      throw new CliError(`${b.label}: forked at step ${b.forkSteps.find((s) => s !== 0)} of its lineage; a script starts from step 0, and a branch forked later continues its parent's optimizer state, which is not exported yet`);
-    }
-    return { experiment: b.experiment, label: b.label, patch: {}, specPath: path, warnings: b.warnings, recorded: b };
+    // A branch forked after step 0 carries its parent's state on: the script starts from the state
+    // the ledger stored at the branch's fork step (weights, optimizer buffers, batch order).
+    const at = b.forkSteps[0] ?? 0;
+    const start = at > 0 ? { step: at, state: b.stateAt(at) } : undefined;
+    return { experiment: b.experiment, label: b.label, patch: {}, specPath: path, warnings: b.warnings, recorded: b, ...(start ? { start } : {}) };
   }
   if (flags.cell !== undefined) throw new CliError(`--cell applies to a notebook source (NOTEBOOK.ipynb), not to the spec file '${path}'`);
   const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path, warnings };
   const fork = parseBranch(flags.branch);
   if (fork.at !== 0) {
-    throw new CliError(`--branch ${flags.branch}: export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is not exported yet (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
+    throw new CliError(`--branch ${flags.branch}: a spec file's export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is exported from a notebook's ledger (stepwell export NOTEBOOK --branch NAME starts the script from the state stored at the fork), not from a spec file (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
   }
   const both = { ...patch, ...readOverrides(fork.overrides, '--branch') };
   const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both, limits.maxFileBytes), limits });
@@ -161,7 +164,7 @@ function writeExport(path: string, flags: ExportFlags, src: Source, warnings: st
   const e = src.experiment;
   switch (to) {
     case 'pytorch': {
-      const session = Session.create(e);
+      const session = src.start === undefined ? Session.create(e) : undefined;
       const outDir = flags.out !== undefined ? dirname(resolve(flags.out)) : process.cwd();
       const dataDir = relative(outDir, dirname(resolve(src.specPath))) || '.';
       let script: string;
@@ -170,10 +173,11 @@ function writeExport(path: string, flags: ExportFlags, src: Source, warnings: st
           version: pkg.version,
           spec: src.label,
           patch: Object.keys(src.patch).length > 0 ? describePatch(src.patch) : '',
-          fingerprint: session.fingerprint(),
+          fingerprint: session !== undefined ? session.fingerprint() : fingerprintState((src.start as { state: SessionState }).state),
           dataDir,
           batchState: Rng.fromSeed(e.seed).fork('batches').state().s,
-          initial: Float64Array.from(session.parameters),
+          initial: Float64Array.from(session !== undefined ? session.parameters : (src.start as { state: SessionState }).state.params),
+          ...(src.start ? { start: src.start } : {}),
         });
       } catch (err) {
         if (err instanceof NotExportable) throw new CliError(`${path}: ${err.message}`);

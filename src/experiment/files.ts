@@ -72,7 +72,7 @@ function origin(name: string, bytes: Uint8Array): FileOrigin {
  * Reads the files of a spec value that already passed the schema and the cross-field checks.
  * @returns what was read, and one problem per file that could not be read or does not fit the model
  */
-export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined, limits: SpecLimits = DEFAULT_SPEC_LIMITS): { loaded: LoadedFiles; problems: CheckProblem[] } {
+export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined, limits: SpecLimits = DEFAULT_SPEC_LIMITS, unread?: ReadonlyMap<string, string>): { loaded: LoadedFiles; problems: CheckProblem[] } {
   const readLimits = dataLimits(limits);
   const problems: CheckProblem[] = [];
   const loaded: LoadedFiles = {};
@@ -80,7 +80,8 @@ export function loadSpecFiles(spec: Obj, files: SpecFiles | undefined, limits: S
   if (refs.length === 0) return { loaded, problems };
   const bytesOf = (ref: FileRef): Uint8Array | undefined => {
     const b = files?.get(ref.name);
-    if (b === undefined) problems.push({ path: ref.path, message: `${ref.name} was not read: ${files === undefined ? 'this caller reads no files (inline the data, or use the CLI or the notebook app)' : 'the file is missing or could not be fetched'}` });
+    const why = unread?.get(ref.name) ?? (files === undefined ? 'this caller reads no files (inline the data, or use the CLI or the notebook app)' : 'the file is missing or could not be fetched');
+    if (b === undefined) problems.push({ path: ref.path, message: `${ref.name} was not read: ${why}` });
     return b;
   };
   function guard<T>(path: Path, read: () => T): T | undefined {

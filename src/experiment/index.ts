@@ -11,11 +11,11 @@ import { buildExperiment } from './normalize';
 import { crossCheck } from './checks';
 import { DEFAULT_SPEC_LIMITS, grouped, limitProblems, type SpecLimits } from './limits';
 import type { CheckProblem } from './checks';
-import { describe, formatPath } from './path';
+import { describe, formatPath, type Path } from './path';
 import { readSource } from './source';
 import type { ReadProblem, SourceText } from './source';
 import { checkSchema } from './schema-check';
-import { loadSpecFiles, type SpecFiles } from './files';
+import { loadSpecFiles, specFileRefs, type SpecFiles } from './files';
 import { checkTakenData } from './take';
 
 export { TEMPLATE_SPEC } from './template';
@@ -30,6 +30,18 @@ export interface SpecOptions {
   files?: SpecFiles;
   /** Size limits checked before allocation (default {@link DEFAULT_SPEC_LIMITS}). */
   limits?: SpecLimits;
+  /**
+   * Why a named file could not be read, keyed by the name as written (e.g. "not found next to the
+   * notebook"): the problem at the spec key that names it says so instead of a generic message.
+   */
+  fileProblems?: ReadonlyMap<string, string>;
+  /**
+   * Check everything but the files: named files are not read, and the experiment leaves out
+   * what they hold (`setup.data` undefined for `data.file`, initial weights drawn by `model.init`).
+   * For a live check of the editor's text or a description of a stored ledger only — never step
+   * such an experiment. Default false.
+   */
+  deferFiles?: boolean;
 }
 
 /**
@@ -135,11 +147,12 @@ function checkValue(value: object, where: (p: CheckProblem) => Placed, options: 
   const limits = options.limits ?? DEFAULT_SPEC_LIMITS;
   const tooBig = limitProblems(value as Record<string, unknown>, limits);
   if (tooBig.length > 0) return { ok: false, errors: finish(tooBig.map(where)) };
-  const { loaded, problems } = loadSpecFiles(value as Record<string, unknown>, options.files, limits);
+  const deferred = options.deferFiles === true && specFileRefs(value).length > 0;
+  const { loaded, problems } = deferred ? { loaded: {}, problems: [] } : loadSpecFiles(value as Record<string, unknown>, options.files, limits, options.fileProblems);
   if (problems.length > 0) return { ok: false, errors: finish(problems.map(where)) };
   let experiment: Experiment;
   try {
-    experiment = buildExperiment(value, loaded);
+    experiment = buildExperiment(value, loaded, deferred);
   } catch (err) {
     // A gap between the checks and the builder is a bug of ours; say so instead of throwing.
     return { ok: false, errors: [{ path: '', message: `internal error while building the experiment (please report): ${err instanceof Error ? err.message : String(err)}` }] };
@@ -168,6 +181,17 @@ export function parseSpecValue(value: unknown, options: SpecOptions = {}): SpecR
 export function readSpecValue(text: string): { ok: true; value: unknown } | { ok: false; errors: SpecError[] } {
   const read = readSource(text, 'yaml');
   return read.ok ? { ok: true, value: read.source.value } : { ok: false, errors: finish(read.problems.map(fromRead)) };
+}
+
+/**
+ * A problem at `path` of the spec text, with the line and column of the value there (of the
+ * nearest written ancestor when the path itself is not written; none when the text does not parse).
+ */
+export function specProblemAt(text: string, path: Path, message: string): SpecError {
+  const read = readSource(text, 'yaml');
+  if (!read.ok) return { path: formatPath(path), message };
+  const { offset: _offset, ...e } = place(read.source, { path, message });
+  return e;
 }
 
 /** Formats an error for display: its message, then "(line 5, column 14)" when known. */

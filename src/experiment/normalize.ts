@@ -197,8 +197,11 @@ function fileData(data: DataSetup, standardize: boolean): DataSetup {
   return out;
 }
 
-/** Builds the normalized experiment from a validated spec value and the files it names (read by `files.ts`). */
-export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Experiment {
+/**
+ * Builds the normalized experiment from a validated spec value and the files it names (read by `files.ts`).
+ * With `deferred`, data named by `data.file` is left out (`setup.data` undefined): see `SpecOptions.deferFiles`.
+ */
+export function buildExperiment(value: unknown, loaded: LoadedFiles = {}, deferred = false): Experiment {
   const spec = obj(value);
   const model = buildModel(obj(spec.model));
   if (model.kind === 'network' && loaded.weights !== undefined) {
@@ -209,6 +212,9 @@ export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Exper
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
-  if (model.kind === 'network') setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);
+  const fromFile = typeof obj(spec.data).file === 'string';
+  if (model.kind === 'network' && !(deferred && fromFile && loaded.data === undefined)) {
+    setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);
+  }
   return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
 }

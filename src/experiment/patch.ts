@@ -16,6 +16,7 @@ import specSchema from './spec.schema.json';
 import { closest, formatPath, type Path, type PathSegment } from './path';
 import { parseSpecValue, readSpecValue, type SpecError, type SpecOptions, type SpecResult } from './index';
 import { positionAt } from './source';
+import { specFileNames } from './files';
 
 /** A JSON value a patch may set. */
 export type PatchValue = string | number | boolean | null | PatchValue[] | { [key: string]: PatchValue };
@@ -365,4 +366,20 @@ export function checkPatchText(specText: string, ancestry: readonly SpecPatch[],
       return pos ? { path: key as string, message: e.message, line: pos.line, col: pos.col } : { path: e.path, message: e.message };
     })
   };
+}
+
+/**
+ * The distinct file names the cell's spec text names, as written and under every branch's patch
+ * chain (root first): what a caller reads before handing the bytes to `parseSpec`. Text that does
+ * not parse, or a chain that does not apply, names nothing (its own parse reports why).
+ */
+export function cellFileNames(specText: string, chains: readonly (readonly SpecPatch[])[] = []): string[] {
+  const read = readSpecValue(specText);
+  if (!read.ok) return [];
+  const names = new Set<string>();
+  for (const chain of [[], ...chains]) {
+    const applied = applyPatches(read.value, chain);
+    if (applied.ok) for (const n of specFileNames(applied.value)) names.add(n);
+  }
+  return [...names];
 }

@@ -12,6 +12,7 @@
 import { sha256 } from '@noble/hashes/sha256';
 import { bytesToHex } from '@noble/hashes/utils';
 import type { CheckProblem } from './checks';
+import { writeNpy } from '../core/data/npy';
 
 /** The roles an array can take in a spec's `data`. */
 export type TakeRole = 'x' | 'y' | 'heldOut.x' | 'heldOut.y';
@@ -197,12 +198,16 @@ function rowsYaml(a: TakenArray, indent: string): string {
   return `\n${lines.join('\n')}`;
 }
 
+/** Where the taken values go in the new cell's `data`: inline YAML, or `.npy` files beside the notebook. */
+export type TakenData = { kind: 'inline' } | { kind: 'files'; names: ReadonlyMap<TakeRole, string> };
+
 /**
- * The text of a new stepwell cell holding taken arrays inline: the magic line, a comment with
- * names and shapes, a small tanh regression net sized to the data (inputs = x's columns,
- * outputs = y's columns), the data with `from` (kernel names and content hash), loss and recipe.
+ * The text of a new stepwell cell holding taken arrays: the magic line, a comment with names and
+ * shapes, a small tanh regression net sized to the data (inputs = x's columns, outputs = y's
+ * columns), the data — inline with `from` (kernel names and content hash), or naming the `.npy`
+ * files they were saved to (`where.names`, with the same hash in a comment) — loss and recipe.
  */
-export function takenSpecText(arrays: readonly TakenArray[], takenAt: string): string {
+export function takenSpecText(arrays: readonly TakenArray[], takenAt: string, where: TakenData = { kind: 'inline' }): string {
   const by = new Map(arrays.map(a => [a.role, a]));
   const x = by.get('x');
   const y = by.get('y');
@@ -213,6 +218,30 @@ export function takenSpecText(arrays: readonly TakenArray[], takenAt: string): s
   const kernel = ordered.map(a => `${JSON.stringify(a.role)}: ${JSON.stringify(a.name)}`).join(', ');
   const held = by.get('heldOut.x');
   const heldY = by.get('heldOut.y');
+  const hash = takenHash(ordered.map(a => a.values));
+  let data: string[];
+  if (where.kind === 'inline') {
+    data = [
+      '  # Names in the kernel and the SHA-256 of the values below (little-endian float64, row-major, in this order).',
+      `  from: { kernel: { ${kernel} }, sha256: ${hash} }`,
+      `  x: ${rowsYaml(x, '    ')}`,
+      `  y: ${rowsYaml(y, '    ')}`,
+      ...(held && heldY ? ['  heldOut:', `    x: ${rowsYaml(held, '      ')}`, `    y: ${rowsYaml(heldY, '      ')}`] : [])
+    ];
+  } else {
+    const file = (role: TakeRole): string => {
+      const n = where.names.get(role);
+      if (n === undefined) throw new Error(`takenSpecText: no file name for ${role}`);
+      return JSON.stringify(n);
+    };
+    data = [
+      `  # Saved from the kernel (${kernel.replace(/"/g, '')}) as .npy files beside the notebook;`,
+      `  # SHA-256 of their values (little-endian float64, row-major, in this order): ${hash}`,
+      `  file: ${file('x')}`,
+      `  targetFile: ${file('y')}`,
+      ...(held && heldY ? [`  heldOut: { file: ${file('heldOut.x')}, targetFile: ${file('heldOut.y')} }`] : [])
+    ];
+  }
   return [
     '%%stepwell',
     `# A stepwell experiment on data taken from the kernel on ${takenAt}:`,
@@ -226,16 +255,35 @@ export function takenSpecText(arrays: readonly TakenArray[], takenAt: string): s
     `    - { units: ${outputs}, activation: linear }`,
     '  init: lecun-normal',
     'data:',
-    '  # Names in the kernel and the SHA-256 of the values below (little-endian float64, row-major, in this order).',
-    `  from: { kernel: { ${kernel} }, sha256: ${takenHash(ordered.map(a => a.values))} }`,
-    `  x: ${rowsYaml(x, '    ')}`,
-    `  y: ${rowsYaml(y, '    ')}`,
-    ...(held && heldY ? ['  heldOut:', `    x: ${rowsYaml(held, '      ')}`, `    y: ${rowsYaml(heldY, '      ')}`] : []),
+    ...data,
     'loss: mse                   # mse | cross-entropy (class indices in y) | binary-cross-entropy (0/1 targets)',
     'regularization: { l2: 0 }',
     'recipe: { optimizer: sgd, lr: 0.05, momentum: 0, batch: full }',
     ''
   ].join('\n');
+}
+
+/**
+ * File names for taken arrays saved beside the notebook: the kernel name with anything but
+ * letters, digits, `-` and `_` turned into `_`, then `.npy`; `-2`, `-3`, … when `exists` says
+ * the name is taken (by a file already there or by an earlier array of the same set).
+ */
+export function takenFileNames(arrays: readonly TakenArray[], exists: (name: string) => boolean): Map<TakeRole, string> {
+  const out = new Map<TakeRole, string>();
+  const used = new Set<string>();
+  for (const a of arrays) {
+    const stem = a.name.replace(/[^A-Za-z0-9_-]/g, '_');
+    let name = `${stem}.npy`;
+    for (let i = 2; exists(name) || used.has(name); i++) name = `${stem}-${i}.npy`;
+    used.add(name);
+    out.set(a.role, name);
+  }
+  return out;
+}
+
+/** A taken array as the bytes of a `.npy` file (format 1.0, `<f8`, C order; NumPy reads it back exactly). */
+export function takenNpy(a: TakenArray): Uint8Array {
+  return writeNpy(a.values, a.shape);
 }
 
 type Obj = Record<string, unknown>;

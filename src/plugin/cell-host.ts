@@ -60,14 +60,18 @@ export function writeRecordCell(notebook: ISharedNotebook, cellId: string, recor
   });
 }
 
-/** Builds the cell host of a code-cell model. */
-export function cellHost(model: ICodeCellModel): CellHost {
+/**
+ * Builds the cell host of a code-cell model.
+ * @param readFiles - reads the files the spec names relative to the notebook (absent: none are read).
+ */
+export function cellHost(model: ICodeCellModel, readFiles?: CellHost['readFiles']): CellHost {
   const notebook = (): ISharedNotebook => {
     const nb = model.sharedModel.notebook;
     if (nb === null) throw new Error('the stepwell cell is not in a notebook');
     return nb;
   };
   return {
+    ...(readFiles === undefined ? {} : { readFiles }),
     cellId: () => model.sharedModel.getId() || null,
     findRecord: () => {
       const nb = model.sharedModel.notebook;

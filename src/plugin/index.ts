@@ -13,6 +13,7 @@ import { DEFAULT_SETTINGS } from '../ui/ports';
 import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
+import { notebookFileReader } from './notebook-files';
 import { addCommands } from './commands';
 import { createExecutor } from './executor';
 import { StepwellCells } from './registry';
@@ -29,10 +30,19 @@ export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
 /** Provides the registry of stepwell cells. */
 const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   id: 'stepwell:cells',
-  description: 'Keeps one controller per stepwell cell and the user settings.',
+  description: 'Keeps one controller per stepwell cell and the user settings; reads the files cells name through the contents API.',
   autoStart: true,
   provides: IStepwellCells,
-  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost, figureImage)
+  activate: (app: JupyterFrontEnd): IStepwellCells => {
+    // The notebook tracker cannot be required here (it needs the cell executor, which needs this
+    // plugin); the commands plugin hands over the path lookup once the tracker exists.
+    const cells: StepwellCells = new StepwellCells(
+      spawnEngine,
+      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model))),
+      figureImage
+    );
+    return cells;
+  }
 };
 
 /** Runs stepwell cells in our engine and every other cell as JupyterLab would. */
@@ -71,6 +81,8 @@ const commandsPlugin: JupyterFrontEndPlugin<void> = {
     settings: ISettingRegistry | null
   ): void => {
     addCommands(app, tracker, cells, palette);
+    // Looked up at each read: a notebook can be renamed or moved while open.
+    (cells as StepwellCells).findNotebookPath = model => tracker.find(p => p.model !== null && p.model.sharedModel === model.sharedModel.notebook)?.context.path ?? null;
     if (settings !== null) void followSettings(settings, cells as StepwellCells);
   }
 };

@@ -28,9 +28,13 @@ export function hasMarker(source: string): boolean {
   return MARKER.test(first.trim());
 }
 
-/** The live spec check: every error of the parser (warnings are shown after a run). */
+/**
+ * The live spec check: every error of the parser (warnings are shown after a run). Files the
+ * spec names are not read here (that happens when the engine starts, with the problems of
+ * reading them placed at their keys).
+ */
 export function checkSpec(text: string): SpecProblem[] {
-  const r = parseSpec(text);
+  const r = parseSpec(text, 'auto', { deferFiles: true });
   return r.ok ? [] : r.errors;
 }
 
@@ -44,6 +48,8 @@ export class StepwellCells implements IStepwellCells {
   private readonly host: (model: ICodeCellModel) => CellHost;
   /** The current settings (replaced when the user changes them). */
   settings: CellSettings = { ...DEFAULT_SETTINGS };
+  /** Finds the path of the notebook a cell model is in (set once the notebook tracker exists). */
+  findNotebookPath: ((model: ICodeCellModel) => string | null) | null = null;
 
   private readonly imageOf: ControllerDeps['imageOf'];
 
@@ -56,6 +62,11 @@ export class StepwellCells implements IStepwellCells {
     this.engine = engine;
     this.host = host;
     this.imageOf = imageOf;
+  }
+
+  /** The contents path of the notebook holding `model`, or null when it is not known. */
+  notebookPath(model: ICodeCellModel): string | null {
+    return this.findNotebookPath?.(model) ?? null;
   }
 
   /** True for code cells with our metadata key or the marker line. */

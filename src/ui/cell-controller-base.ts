@@ -7,11 +7,12 @@
 import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
-import type { BranchReadouts, SessionSummary } from '../worker/protocol';
+import type { BranchReadouts, SessionSummary, SpecFilesPayload } from '../worker/protocol';
+import { cellFileNames } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, lossImage, markdownSummary, meanMs, problemLine } from './summary';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -38,6 +39,8 @@ export abstract class ControllerBase {
   /** The ledger content last read: what a lazily started engine resumes from. */
   private content: LedgerContent | null = null;
   private disposedFlag = false;
+  /** The text whose problems the engine reported (reading its files); null when the shown problems are the live check's. */
+  private engineChecked: string | null = null;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -74,6 +77,8 @@ export abstract class ControllerBase {
 
   protected set(patch: Partial<CellViewState>): void {
     if (this.disposedFlag) return;
+    // Problems from anywhere but a saved session's files are the text's own.
+    if ('problems' in patch && !('filesBlocked' in patch)) patch = { ...patch, filesBlocked: false };
     this.st = { ...this.st, ...patch };
     this.changedSignal.emit(this.st);
   }
@@ -98,13 +103,20 @@ export abstract class ControllerBase {
     this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
   }
 
-  /** Re-checks the editor's text (call on source changes, debounced). */
+  /**
+   * Re-checks the editor's text (call on source changes, debounced). A change that leaves the text
+   * as it was (outputs or metadata written) keeps the problems shown: the engine's problems with the
+   * files the text names stay until the text itself changes.
+   */
   sourceChanged(): void {
     const source = this.deps.host.readSource();
-    this.set({
-      problems: this.deps.checkSpec(source),
-      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
-    });
+    const specEdited = this.st.sessionSpec !== null && source !== this.st.sessionSpec;
+    if (source === this.engineChecked) {
+      this.set({ specEdited });
+      return;
+    }
+    this.engineChecked = null;
+    this.set({ problems: this.deps.checkSpec(source), specEdited });
   }
 
   /** Opens or closes an inline form. */
@@ -135,13 +147,38 @@ export abstract class ControllerBase {
     this.set({ confirm: c });
   }
 
+  /**
+   * Reads the files `names` through the host (relative to the notebook) into a request's file
+   * fields, with the buffers to transfer: each file's bytes move to the engine, never copied.
+   */
+  protected async readFiles(names: readonly string[]): Promise<{ payload: SpecFilesPayload; transfer: ArrayBuffer[] }> {
+    if (names.length === 0) return { payload: {}, transfer: [] };
+    const read = this.deps.host.readFiles
+      ? await this.deps.host.readFiles(names)
+      : { files: new Map<string, Uint8Array>(), problems: new Map(names.map((n) => [n, 'this notebook host reads no files (inline the data, or open the notebook in JupyterLab with Stepwell)'])) };
+    const files: Record<string, Uint8Array> = {};
+    const transfer = new Set<ArrayBuffer>();
+    for (const [name, bytes] of read.files) {
+      files[name] = bytes;
+      // Only a buffer the bytes fill alone moves; a view into a larger one is copied instead.
+      if (bytes.buffer instanceof ArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength) transfer.add(bytes.buffer);
+    }
+    const payload: SpecFilesPayload = { files };
+    if (read.problems.size > 0) payload.fileProblems = Object.fromEntries(read.problems);
+    return { payload, transfer: [...transfer] };
+  }
+
   protected async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
     this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
-    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
+    const { payload, transfer } = await this.readFiles(cellFileNames(source));
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, ...payload }, undefined, transfer);
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
+      this.engineChecked = source;
       this.set({ problems: reply.errors });
+      // A cell with no session yet has no widget: the error output brings it (and says it to other viewers).
+      if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(reply.errors.map(problemLine)));
       this.notice('error', 'The engine rejected the spec; see the problems above.');
       return false;
     }
@@ -150,6 +187,7 @@ export abstract class ControllerBase {
     this.set({
       ledger: 'ok',
       ledgerMessage: undefined,
+      problems: [],
       sessionSpec: source,
       specEdited: false,
       summary: reply.summary,
@@ -179,9 +217,13 @@ export abstract class ControllerBase {
       this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
       return null;
     }
-    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw });
+    const { payload, transfer } = await this.readFiles(c.files);
+    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, ...payload }, undefined, transfer);
     if (reply.kind === 'spec-errors') {
-      this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
+      // Problems of the saved spec (a file changed or unreadable) sit at their keys, like the live check's.
+      this.engineChecked = this.deps.host.readSource();
+      this.set({ problems: reply.errors, filesBlocked: true });
+      this.notice('error', 'The saved session cannot continue with the files as they are now (see the problems above): put the old files back, or Reset to start over from these.');
       return null;
     }
     if (reply.kind !== 'ready') {
@@ -189,6 +231,8 @@ export abstract class ControllerBase {
       return null;
     }
     this.engineInSync = true;
+    // The files are back as they were: their problems no longer hold.
+    if (this.st.filesBlocked === true) this.set({ problems: [], notice: null });
     return engine;
   }
 
@@ -197,12 +241,14 @@ export abstract class ControllerBase {
    *
    * @returns the final reply, or null when busy or no session exists (a notice says why).
    */
-  protected async exchange(action: string, body: RequestBody, total = 0): Promise<FinalReply | null> {
+  protected async exchange(action: string, body: RequestBody, total = 0, names: readonly string[] = []): Promise<FinalReply | null> {
     if (this.st.busy !== null) return null;
     const engine = await this.syncEngine();
     if (engine === null) return null;
     this.set({ busy: { action, done: 0, total }, confirm: null });
-    const reply = await engine.request(body, p => this.set({ busy: { action, done: p.done, total: p.total } }));
+    // Files a request names (a fork whose patch names a new data file) are read first.
+    const { payload, transfer } = await this.readFiles(names);
+    const reply = await engine.request({ ...body, ...payload } as RequestBody, p => this.set({ busy: { action, done: p.done, total: p.total } }), transfer);
     this.set({ busy: null });
     return reply;
   }

@@ -143,7 +143,7 @@ export class StepwellCellWidget extends Widget {
     const busy = s.busy !== null;
     const hasSession = s.summary !== null;
     for (const key of ['step', 'stepN', 'until', 'rewind', 'verify']) this.buttons[key].disabled = busy || !hasSession || s.specEdited;
-    this.buttons.reset.disabled = busy || s.problems.length > 0;
+    this.buttons.reset.disabled = busy || (s.problems.length > 0 && s.filesBlocked !== true);
     show(this.buttons.start, s.ledger === 'corrupt');
     this.buttons.reset.hidden = s.ledger === 'corrupt';
     this.buttons.stepN.textContent = `Step ×${this.controller.defaultN}`;

@@ -21,6 +21,12 @@ export interface CellHost {
    * fallback. `summary` is null when no session exists yet (spec errors).
    */
   writeOutputs(summary: CellSummary | null, markdown: string): void;
+  /**
+   * Reads the files the spec names (data, weights), relative to the notebook's folder, each
+   * refused before it is fetched when larger than the readers' limit. Absent: this host reads no
+   * files (a spec that names one then gets an error at that key saying so).
+   */
+  readFiles?(names: readonly string[]): Promise<FilesRead>;
   /** The cell's id in the notebook (nbformat 4.5), or null when it has none. */
   cellId(): string | null;
   /** Index of this cell's decision record in the notebook (a cell whose metadata names this cell), or null. */
@@ -30,6 +36,12 @@ export interface CellHost {
    * markdown cell directly below this one. Never changes any other cell.
    */
   writeRecord(record: RecordCell): void;
+}
+
+/** Files read for a cell: bytes by the name as the spec writes it, and why any name was not read. */
+export interface FilesRead {
+  files: Map<string, Uint8Array>;
+  problems: Map<string, string>;
 }
 
 /** A decision record as a markdown cell: source, attachments (name → mime → base64) and metadata. */

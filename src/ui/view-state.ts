@@ -85,6 +85,11 @@ export interface CellViewState {
   specEdited: boolean;
   /** Problems of the editor's current text (live). */
   problems: SpecProblem[];
+  /**
+   * True when `problems` come from the files a saved session read (changed or unreadable), not
+   * from the text: the text is fine, so Reset (start over from the files as they are) stays possible.
+   */
+  filesBlocked?: boolean;
   /** Warnings of the session's spec. */
   warnings: SpecProblem[];
   summary: SessionSummary | null;

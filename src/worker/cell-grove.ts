@@ -8,10 +8,11 @@
 import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { ENGINE_NAME } from '../core/engine';
-import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, type BatchSegment, type GroveOptions } from '../core/session';
+import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, Session, type BatchSegment, type GroveOptions } from '../core/session';
 import { buildLedger, decodeFindings, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
-import type { EngineCore } from './engine-core';
+import type { CellFiles, EngineCore } from './engine-core';
+import { specProblemAt } from '../experiment';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
 import { COMPARE_POINTS } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
@@ -21,6 +22,19 @@ import { BranchBook } from './branch-book';
 
 /** Engine name written into each ledger (kept in core, beside the arithmetic it names). */
 export { ENGINE_NAME };
+
+/**
+ * The saved session cannot be resumed as it stands: the files it read changed, or cannot be read
+ * now. `problems` sit at the spec keys that name the files (the cell shows them at their lines).
+ */
+export class SpecProblemsError extends Error {
+  constructor(readonly problems: SpecProblem[]) {
+    super(problems.map((p) => p.message).join('; '));
+    this.name = 'SpecProblemsError';
+  }
+}
+
+const NO_FILES: CellFiles = { files: new Map(), problems: new Map() };
 
 /** Name of the root branch of a new cell. */
 export const ROOT_BRANCH = 'main';
@@ -37,20 +51,23 @@ export type ForkOutcome = { ok: true; name: string } | { ok: false; errors: Spec
 export class CellGrove {
   readonly specText: string;
   readonly grove: Grove;
+  /** The files the spec and its branches name, as the page read them (forks may add more). */
+  private readonly files: { files: Map<string, Uint8Array>; problems: Map<string, string> };
   private activeName: string;
   /** Readouts and findings per branch. */
   readonly book: BranchBook;
 
-  private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string) {
+  private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string, files: CellFiles) {
     this.specText = specText;
+    this.files = { files: new Map(files.files), problems: new Map(files.problems) };
     this.grove = grove;
     this.activeName = active;
     this.book = new BranchBook(grove);
   }
 
   /** A fresh cell: one root branch at step 0, diagnosed there. */
-  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number): CellGrove {
-    const cell = new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH);
+  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number, files: CellFiles = NO_FILES): CellGrove {
+    const cell = new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH, files);
     cell.book.diagnose(ROOT_BRANCH);
     return cell;
   }
@@ -61,22 +78,33 @@ export class CellGrove {
    * ledger of version 2) is diagnosed now.
    *
    * @throws with the validator's message when the ledger cannot be read, or when a branch's
-   *   patched spec no longer validates.
+   *   patched spec no longer validates; a {@link SpecProblemsError} when the spec's files cannot
+   *   be read or changed since the ledger was written (a changed file is never replayed silently).
    */
-  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number): CellGrove {
+  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number, files: CellFiles = NO_FILES): CellGrove {
     const checked = validateLedger(raw);
     if (!checked.ok) throw new Error(`the saved ledger cannot be read: ${checked.errors.slice(0, 3).join('; ')}`);
     const ledger = checked.ledger;
     const restored = groveFromLedger(ledger, (b, chain) => {
-      const parsed = core.parsePatched(specText, chain);
-      if (!parsed.ok) throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
+      const parsed = core.parsePatched(specText, chain, files);
+      if (!parsed.ok) {
+        if (chain.length === 0) throw new SpecProblemsError(parsed.errors);
+        throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
+      }
       return parsed.experiment;
     }, checkpointEvery, groveOptions(checkpointEvery));
-    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch);
+    const changed = changedFiles(specText, ledger.dataHash, restored.grove);
+    if (changed.length > 0) throw new SpecProblemsError(changed);
+    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch, files);
     const findings = decodeFindings(ledger.findings);
     for (const b of restored.branches) cell.book.set(b.name, readoutsFromLedger(b.readouts, findingsOf(findings, b.name)));
     for (const b of restored.branches) if (!cell.book.diagnosed(b.name)) cell.book.diagnose(b.name);
     return cell;
+  }
+
+  /** The files the cell read (bytes and problems by name). */
+  get cellFiles(): CellFiles {
+    return this.files;
   }
 
   /** The active branch's name. */
@@ -165,10 +193,14 @@ export class CellGrove {
    * @returns the new name, or the problems of a patch that does not validate.
    * @throws when the step or name is refused by the grove.
    */
-  fork(from: string, step: number, patch: SpecPatch, name?: string): ForkOutcome {
+  fork(from: string, step: number, patch: SpecPatch, name?: string, more?: CellFiles): ForkOutcome {
     this.grove.session(from);
+    if (more !== undefined) {
+      for (const [n, b] of more.files) this.files.files.set(n, b);
+      for (const [n, m] of more.problems) if (!this.files.files.has(n)) this.files.problems.set(n, m);
+    }
     const chain = [...this.patchChain(from), patch];
-    const parsed = this.core.parsePatched(this.specText, chain);
+    const parsed = this.core.parsePatched(this.specText, chain, this.files);
     if (!parsed.ok) return { ok: false, errors: parsed.errors };
     if (touchesSetup(patch) && step !== 0) {
       return { ok: false, errors: [{ path: '', message: `the patch ${describePatch(patch)} changes the setup or the seed, so the branch must start at step 0, not step ${step}` }] };
@@ -329,4 +361,33 @@ export class CellGrove {
 /** Fingerprint of a branch's tip state. */
 function fingerprintOf(grove: Grove, name: string): string {
   return grove.tip(name) === grove.session(name).stepCount ? grove.session(name).fingerprint() : fingerprintState(grove.tipState(name));
+}
+
+/** The whole files problem of a key, placed in the spec text. */
+const at = (specText: string, path: (string | number)[], message: string): SpecProblem => specProblemAt(specText, path, message);
+
+/**
+ * What changed in the files a restored grove read, against what its ledger recorded: the data's
+ * hash (`dataHash`, over the numbers used) and the initial weights (the root's step-0 checkpoint
+ * against a fresh session from the weights file now). Empty when nothing changed.
+ */
+function changedFiles(specText: string, recorded: string | undefined, grove: Grove): SpecProblem[] {
+  const root = grove.root();
+  const e = grove.experiment(root);
+  const out: SpecProblem[] = [];
+  const origin = e.setup.data?.origin;
+  const now = origin?.hash;
+  if ((recorded ?? null) !== (now ?? null)) {
+    const names = origin?.files.map((f) => f.name).join(', ') ?? 'the data';
+    const was = recorded === undefined ? 'no data hash (the data were inline)' : `data hash ${recorded.slice(0, 12)}…`;
+    out.push(at(specText, ['data', 'file'], `${names} changed since this session was saved: the ledger recorded ${was}, the data now hash to ${now === undefined ? 'nothing' : `${now.slice(0, 12)}…`}. The saved steps were made with the old data and are not replayed on the new: put the old file back, or Reset to start over from the data as they are now (stepwell verify names the first differing step)`));
+  }
+  const model = e.setup.model;
+  if (model.kind === 'network' && model.weightsOrigin !== undefined) {
+    const first = grove.checkpoints(root).find((c) => c.step === 0);
+    if (first !== undefined && first.fingerprint !== Session.create(e).fingerprint()) {
+      out.push(at(specText, ['model', 'weights', 'file'], `${model.weightsOrigin.name} changed since this session was saved: the initial weights it holds now are not the ones the saved steps started from. Put the old file back, or Reset to start over from the weights as they are now`));
+    }
+  }
+  return out;
 }

@@ -19,7 +19,8 @@ export type ProgressReply = Extract<EngineReply, { kind: 'progress' }>;
 
 /** The minimal port the client talks through. */
 export interface EnginePort {
-  postMessage(message: EngineRequest): void;
+  /** Posts a request; the buffers in `transfer` move to the engine (they are detached here, never copied). */
+  postMessage(message: EngineRequest, transfer?: ArrayBuffer[]): void;
   /** Registers the single reply listener. */
   listen(listener: (reply: EngineReply) => void): void;
   /** Ends the worker (optional). */
@@ -54,14 +55,16 @@ export class EngineClient {
    *
    * @param body - the request without id.
    * @param onProgress - called for each progress reply.
+   * @param transfer - buffers of the request that move to the engine instead of being copied
+   *   (file bytes); they are unusable on this side afterwards.
    * @returns the final reply (`failed` included; the promise never rejects for engine errors).
    */
-  request(body: RequestBody, onProgress?: (p: ProgressReply) => void): Promise<FinalReply> {
+  request(body: RequestBody, onProgress?: (p: ProgressReply) => void, transfer?: ArrayBuffer[]): Promise<FinalReply> {
     if (this.disposed) return Promise.resolve({ id: -1, kind: 'failed', message: 'the engine was shut down' });
     const id = this.nextId++;
     return new Promise<FinalReply>(resolve => {
       this.pending.set(id, { resolve, onProgress });
-      this.port.postMessage({ ...body, id } as EngineRequest);
+      this.port.postMessage({ ...body, id } as EngineRequest, transfer);
     });
   }
 

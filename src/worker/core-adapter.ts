@@ -9,7 +9,7 @@ import { gradientNoiseScale } from '../core/probe/noise-scale';
 import { effectiveBatch, type Session } from '../core/session';
 import { parseSpec } from '../experiment';
 import { patchChainExperiment } from '../experiment/patch';
-import type { EngineCore, ParseOutcome } from './engine-core';
+import type { CellFiles, EngineCore, ParseOutcome } from './engine-core';
 import type { Experiment } from '../core/setup';
 import type { CurvatureResult, SharpnessPoint } from './protocol';
 import { curvatureVerdict } from './diagnosis';
@@ -49,11 +49,11 @@ export function coreWith(helper?: (experiment: Experiment) => DensityTraceRunner
 
 /** The real numerics behind the engine host, in one thread. */
 export const realCore: EngineCore = {
-  parse(specText: string): ParseOutcome {
-    return parseSpec(specText);
+  parse(specText: string, files?: CellFiles): ParseOutcome {
+    return parseSpec(specText, 'auto', files === undefined ? {} : { files: files.files, fileProblems: files.problems });
   },
-  parsePatched(specText, patches): ParseOutcome {
-    return patchChainExperiment(specText, patches);
+  parsePatched(specText, patches, files): ParseOutcome {
+    return patchChainExperiment(specText, patches, files === undefined ? {} : { files: files.files, fileProblems: files.problems });
   },
   audit(experiment, session, sample) {
     // The subset is drawn from the seed and the step, so an audit is itself reproducible.

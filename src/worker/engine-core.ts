@@ -14,12 +14,18 @@ export type ParseOutcome =
   | { ok: true; experiment: Experiment; warnings: SpecProblem[] }
   | { ok: false; errors: SpecProblem[] };
 
+/** The files a cell's spec names, as the page read them: bytes by name, and why a name was not read. */
+export interface CellFiles {
+  files: ReadonlyMap<string, Uint8Array>;
+  problems: ReadonlyMap<string, string>;
+}
+
 /** Parsing and the readouts over a live session. */
 export interface EngineCore {
-  /** Parses and validates spec text. Never throws for bad text: returns the errors. */
-  parse(specText: string): ParseOutcome;
+  /** Parses and validates spec text (reading the files it names from `files`). Never throws for bad text: returns the errors. */
+  parse(specText: string, files?: CellFiles): ParseOutcome;
   /** The experiment of a branch: the spec with its ancestry's patches applied in order, validated like a spec. */
-  parsePatched(specText: string, patches: readonly SpecPatch[]): ParseOutcome;
+  parsePatched(specText: string, patches: readonly SpecPatch[], files?: CellFiles): ParseOutcome;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
   /**

@@ -14,10 +14,11 @@ import type { StepRecord } from '../core/state';
 import type { GroveTask, RunReason, StepHooks } from '../core/session';
 import type { SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
-import type { BranchReadouts, EngineReply, EngineRequest, SharpnessPoint, StopCondition, VerifyResult } from './protocol';
+import type { BranchReadouts, EngineReply, EngineRequest, SharpnessPoint, SpecFilesPayload, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
 import { REPLY_SAMPLE, sampleRecords } from './sampling';
-import { CellGrove } from './cell-grove';
+import { CellGrove, SpecProblemsError } from './cell-grove';
+import type { CellFiles } from './engine-core';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -32,6 +33,11 @@ interface Loaded {
 }
 
 const nextTick = (): Promise<void> => new Promise(resolve => setTimeout(resolve, 0));
+
+/** The files of a load or fork request as maps (absent fields: none). */
+function filesOf(r: SpecFilesPayload): CellFiles {
+  return { files: new Map(Object.entries(r.files ?? {})), problems: new Map(Object.entries(r.fileProblems ?? {})) };
+}
 
 /** Drives one session on behalf of one stepwell cell. */
 export class EngineHost {
@@ -105,7 +111,7 @@ export class EngineHost {
       case 'reset': {
         const l = this.need();
         const e = l.cell.grove.experiment(l.cell.grove.root());
-        this.loaded = { ...l, cell: CellGrove.fresh(this.core, l.cell.specText, e, l.checkpointEvery) };
+        this.loaded = { ...l, cell: CellGrove.fresh(this.core, l.cell.specText, e, l.checkpointEvery, l.cell.cellFiles) };
         this.post({ id, kind: 'rewound', ...this.view() });
         return;
       }
@@ -118,7 +124,7 @@ export class EngineHost {
       }
       case 'fork': {
         const cell = this.need().cell;
-        const out = cell.fork(request.from ?? cell.active, request.step, request.patch as SpecPatch, request.name);
+        const out = cell.fork(request.from ?? cell.active, request.step, request.patch as SpecPatch, request.name, filesOf(request));
         if (!out.ok) this.post({ id, kind: 'patch-errors', errors: out.errors });
         else this.post({ id, kind: 'branched', ...this.view() });
         return;
@@ -196,15 +202,23 @@ export class EngineHost {
   }
 
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
-    const parsed = this.core.parse(request.specText);
+    const files = filesOf(request);
+    const parsed = this.core.parse(request.specText, files);
     if (!parsed.ok) {
       this.post({ id: request.id, kind: 'spec-errors', errors: parsed.errors });
       return;
     }
-    const cell =
-      request.resume === undefined
-        ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery)
-        : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery);
+    let cell: CellGrove;
+    try {
+      cell =
+        request.resume === undefined
+          ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery, files)
+          : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery, files);
+    } catch (error) {
+      if (!(error instanceof SpecProblemsError)) throw error;
+      this.post({ id: request.id, kind: 'spec-errors', errors: error.problems });
+      return;
+    }
     this.loaded = { cell, checkpointEvery: request.checkpointEvery };
     this.post({ id: request.id, kind: 'ready', ...this.view(), warnings: parsed.warnings });
   }

@@ -1,6 +1,6 @@
 /**
  * An engine port that runs the {@link EngineHost} in the same thread, copying every
- * message with `structuredClone` exactly as a Worker boundary would. Used by tests and
+ * message with `structuredClone` (moving transferred buffers) exactly as a Worker boundary would. Used by tests and
  * as a fallback where Workers are unavailable.
  */
 import type { EngineCore } from './engine-core';
@@ -22,8 +22,9 @@ export function inProcessPort(core: EngineCore, options: EngineHost.Options = {}
   }, options);
   return {
     host,
-    postMessage(message) {
-      if (!closed) void host.receive(structuredClone(message));
+    postMessage(message, transfer) {
+      // Transferred buffers are detached on the sending side, as a Worker boundary does.
+      if (!closed) void host.receive(structuredClone(message, transfer === undefined ? undefined : { transfer }));
     },
     listen(l) {
       listener = l;

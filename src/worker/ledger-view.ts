@@ -7,7 +7,7 @@
  */
 import type { StepRecord } from '../core/state';
 import { decodeBranches, decodeFindings, validateLedger, type Ledger } from '../ledger';
-import { describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
+import { cellFileNames, describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo, BranchReadouts, SessionSummary } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
 import { DISPLAY_RECORDS, sampleRecords } from './sampling';
@@ -22,6 +22,8 @@ export interface LedgerView {
   trajectory: StepRecord[];
   /** The active branch's readouts, its findings among them. */
   readouts: BranchReadouts;
+  /** The files the spec and its branches name (what an engine resuming it must read first). */
+  files: string[];
 }
 
 /** Outcome of {@link viewLedger}. */
@@ -49,7 +51,8 @@ export function describeLedger(ledger: Ledger): LedgerView {
   const branches: BranchInfo[] = decoded.map(b => {
     const chain = b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : [];
     chains.set(b.name, chain);
-    const parsed = patchChainExperiment(ledger.spec, chain);
+    // Files are read when an engine starts; a description needs none of their numbers.
+    const parsed = patchChainExperiment(ledger.spec, chain, { deferFiles: true });
     if (!parsed.ok) throw new Error(b.parent ? `branch '${b.name}' no longer validates against the spec (${parsed.errors[0].message})` : `the saved spec no longer parses (${parsed.errors[0].message})`);
     const atCursor = [...b.checkpoints, b.head].find(c => c.step === b.cursor);
     const record = b.trajectory.find(r => r.step === b.cursor);
@@ -69,7 +72,7 @@ export function describeLedger(ledger: Ledger): LedgerView {
   });
   const active = decoded.find(b => b.name === ledger.activeBranch) ?? decoded[0];
   const info = branches.find(b => b.name === active.name) as BranchInfo;
-  const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? []);
+  const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? [], { deferFiles: true });
   if (!root.ok) throw new Error(`the saved spec no longer parses (${root.errors[0].message})`);
   const checkpointSteps = [...active.checkpoints.map(c => c.step), active.head.step];
   const readouts = readoutsFromLedger(active.readouts, findingsOf(decodeFindings(ledger.findings), active.name));
@@ -90,6 +93,7 @@ export function describeLedger(ledger: Ledger): LedgerView {
       setup: describeSetup(root.experiment.setup)
     },
     trajectory: sampleRecords(active.trajectory, DISPLAY_RECORDS),
-    readouts
+    readouts,
+    files: cellFileNames(ledger.spec, [...chains.values()].filter(c => c.length > 0))
   };
 }

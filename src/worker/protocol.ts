@@ -202,9 +202,19 @@ export interface VerifyResult {
   actual: string;
 }
 
+/**
+ * Files a spec names (data, weights), read by the page relative to the notebook: the bytes keyed
+ * by the name as the spec writes it (each buffer transferred, not copied), and why a name could
+ * not be read (not found, too large, a folder), which the spec error at that key then says.
+ */
+export interface SpecFilesPayload {
+  files?: Record<string, Uint8Array>;
+  fileProblems?: Record<string, string>;
+}
+
 /** Requests from the page to the worker. */
 export type EngineRequest =
-  | {
+  | ({
       id: number;
       kind: 'load';
       /** The cell's spec text. */
@@ -213,7 +223,7 @@ export type EngineRequest =
       resume?: object;
       /** Auto-checkpoint interval in steps (0 = only step 0). */
       checkpointEvery: number;
-    }
+    } & SpecFilesPayload)
   /** `sharpnessEvery` > 0 also measures the sharpness every that many steps (and at the start). */
   | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
@@ -223,7 +233,7 @@ export type EngineRequest =
   /** Drop the steps the active branch keeps after its cursor. */
   | { id: number; kind: 'discard' }
   /** Fork a branch from `from` (default: the active branch) at `step` with `patch` (flat spec keys); it becomes active. */
-  | { id: number; kind: 'fork'; step: number; patch: Record<string, unknown>; name?: string; from?: string }
+  | ({ id: number; kind: 'fork'; step: number; patch: Record<string, unknown>; name?: string; from?: string } & SpecFilesPayload)
   | { id: number; kind: 'switch'; branch: string }
   | { id: number; kind: 'rename'; branch: string; to: string }
   /** Delete a branch and the branches forked from it (never the root). */
@@ -412,7 +422,7 @@ export function checkRequest(value: unknown): string | null {
   switch (r.kind as EngineRequestKind) {
     case 'load':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
-      return positiveInt('checkpointEvery');
+      return positiveInt('checkpointEvery') ?? checkFiles(r);
     case 'step':
       return positiveInt('n') ?? (r.sharpnessEvery === undefined ? null : positiveInt('sharpnessEvery'));
     case 'run-until':
@@ -433,7 +443,7 @@ export function checkRequest(value: unknown): string | null {
       if (typeof r.patch !== 'object' || r.patch === null || Array.isArray(r.patch)) return 'request.patch must be a mapping of spec keys to values';
       if (r.name !== undefined && typeof r.name !== 'string') return 'request.name must be a string';
       if (r.from !== undefined && typeof r.from !== 'string') return 'request.from must be a string';
-      return positiveInt('step');
+      return positiveInt('step') ?? checkFiles(r);
     case 'switch':
     case 'delete':
       return typeof r.branch === 'string' ? null : 'request.branch must be a string';
@@ -448,4 +458,12 @@ export function checkRequest(value: unknown): string | null {
     case 'snapshot':
       return null;
   }
+}
+
+/** Checks the optional file fields of a load or fork request. */
+function checkFiles(r: Record<string, unknown>): string | null {
+  const isMap = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
+  if (r.files !== undefined && !(isMap(r.files) && Object.values(r.files).every(b => b instanceof Uint8Array))) return 'request.files must map file names to bytes (Uint8Array)';
+  if (r.fileProblems !== undefined && !(isMap(r.fileProblems) && Object.values(r.fileProblems).every(m => typeof m === 'string'))) return 'request.fileProblems must map file names to messages';
+  return null;
 }

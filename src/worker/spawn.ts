@@ -11,7 +11,7 @@ import type { EngineReply } from './protocol';
 export function spawnEngine(): EngineClient {
   const worker = new Worker(new URL('./engine.worker.js', import.meta.url));
   return new EngineClient({
-    postMessage: message => worker.postMessage(message),
+    postMessage: (message, transfer) => worker.postMessage(message, transfer ?? []),
     listen: listener => {
       worker.onmessage = (event: MessageEvent<EngineReply>) => listener(event.data);
       worker.onerror = (event: ErrorEvent) => {

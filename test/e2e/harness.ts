@@ -169,9 +169,10 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
 /**
  * JupyterLab renders a markdown cell's HTML first and swaps `attachment:` image URLs for data URLs
  * afterwards, so the browser always tries (and fails) to load `attachment:…` once. Any markdown
- * cell with an attachment does that (a decision record's image among them); it is no fault.
+ * cell with an attachment does that (a decision record's image among them); it is no fault. When
+ * the swap comes first the attempt is reported as aborted instead.
  */
-export const ATTACHMENT_PROBE = /ERR_UNKNOWN_URL_SCHEME \(attachment:|^failed attachment:\S+ net::ERR_UNKNOWN_URL_SCHEME/;
+export const ATTACHMENT_PROBE = /ERR_UNKNOWN_URL_SCHEME \(attachment:|^failed attachment:\S+ net::ERR_(UNKNOWN_URL_SCHEME|ABORTED)/;
 
 /** Failed requests other than the attachment probe above. */
 export function failedRequests(session: IBrowserSession): string[] {

@@ -9,8 +9,10 @@
 import * as fs from 'fs';
 import * as path from 'path';
 import type { Locator, Page } from 'playwright-core';
-import { dialogTitle, executeCommand, launchBrowser, ourErrors, screenshot, type IBrowserSession } from './harness';
+import { spawnSync } from 'child_process';
+import { dialogTitle, executeCommand, launchBrowser, ourErrors, ROOT, screenshot, type IBrowserSession } from './harness';
 import {
+  DEMO_DIR,
   kernelValue,
   readNotebook,
   requireWheelInstalled,
@@ -193,10 +195,10 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     expect(await dialog.locator('.sw-TakeShapes-line').allInnerTexts()).toEqual([
       'x ← X_probe (40 × 3, float64)',
       'y ← y_probe (40, float64)',
-      "160 numbers, stored inline in the new cell's spec with their SHA-256."
+      "160 numbers: inline in the new cell's spec with their SHA-256, or saved as .npy files next to the notebook (better for large arrays; the spec names the files)."
     ]);
     await screenshot(page, 'lab-4-take-shapes');
-    await dialog.locator('button', { hasText: 'Insert Cell' }).click();
+    await dialog.locator('button', { hasText: 'Insert Inline' }).click();
     await dialog.waitFor({ state: 'detached', timeout: 10_000 });
 
     const cells = cellsOf(page);
@@ -222,6 +224,60 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     expect(ourErrors(browser)).toEqual([]);
   });
 
+  it('takes the same arrays as .npy files next to the notebook, and the new cell reads them', async () => {
+    const page = browser.page;
+    const dialog = page.locator('.jp-Dialog');
+    // A file of that name is already there: the arrays must not overwrite it.
+    fs.writeFileSync(path.join(folder.work, 'X_probe.npy'), 'not mine to overwrite');
+    void executeCommand(page, 'stepwell:take-data').catch(() => undefined);
+    await dialog.locator('input[data-role="x"]').waitFor({ timeout: 10_000 });
+    await dialog.locator('input[data-role="x"]').fill('X_probe');
+    await dialog.locator('input[data-role="y"]').fill('y_probe');
+    await dialog.locator('button', { hasText: 'Read Arrays' }).click();
+    await dialog.locator('.sw-TakeShapes').waitFor({ timeout: 30_000 });
+    await dialog.locator('button', { hasText: 'Save as .npy Files' }).click();
+    await dialog.waitFor({ state: 'detached', timeout: 10_000 });
+    const taken = cellsOf(page).last();
+    await waitForStep(taken, 0);
+    await taken.locator('.sw-Button-step').click();
+    await waitForStep(taken, 1);
+    await taken.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    await screenshot(page, 'lab-5b-taken-as-npy');
+    expect(fs.readFileSync(path.join(folder.work, 'X_probe.npy'), 'utf8')).toBe('not mine to overwrite');
+    const text = await page.evaluate(() => {
+      const app = (window as unknown as { jupyterapp: { shell: { currentWidget: { content: { activeCell: { model: { sharedModel: { getSource(): string } } } } } } } }).jupyterapp;
+      return app.shell.currentWidget.content.activeCell.model.sharedModel.getSource();
+    });
+    expect(text).toContain('  file: "X_probe-2.npy"\n  targetFile: "y_probe.npy"');
+    // source: NumPy 2.4.6 in the kernel reads the saved files back equal to the arrays it holds.
+    expect(await kernelValue(page, 'import numpy as np', 'bool(np.array_equal(np.load("X_probe-2.npy"), X_probe) and np.array_equal(np.load("y_probe.npy"), y_probe))')).toBe('True');
+    await save(page);
+    const ledger = readNotebook(file).cells.map((c) => c.metadata.stepwell as { dataHash?: string } | undefined).filter((l) => l !== undefined).pop();
+    expect(ledger?.dataHash).toMatch(/^[0-9a-f]{64}$/);
+    expect(ourErrors(browser)).toEqual([]);
+  });
+
+  it('opens a notebook whose data and starting weights are files beside it, steps it, and stepwell verify accepts what was saved', async () => {
+    const page = browser.page;
+    fs.cpSync(path.join(DEMO_DIR, 'walk-in-cooler'), path.join(folder.work, 'walk-in-cooler'), { recursive: true });
+    await open(page, server.url('walk-in-cooler/walk-in-cooler.ipynb'));
+    const cell = cellsOf(page).filter({ has: page.locator('.sw-CellWidget') }).first();
+    await waitForStep(cell, 18);
+    await cell.locator('.sw-Branch[data-branch="lr=0.1"]').click();
+    await waitForStep(cell, 81);
+    await cell.locator('.sw-Button-step').click();
+    await waitForStep(cell, 82);
+    expect(await cell.locator('.sw-Problem').count()).toBe(0);
+    await cell.locator('.sw-CellWidget').scrollIntoViewIfNeeded();
+    await screenshot(page, 'lab-5c-files-beside-notebook');
+    await save(page);
+    // source: Node's V8 replaying what Chromium's V8 computed from the files the real server sent
+    const r = spawnSync(process.execPath, [path.join(ROOT, 'src', 'cli', 'bin.cjs'), 'verify', path.join(folder.work, 'walk-in-cooler', 'walk-in-cooler.ipynb')], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
+    expect(r.stdout).toMatch(/lr=0\.1\s+bit-identical \(from main at step 1, 82 steps/);
+    expect(r.status).toBe(0);
+    expect(ourErrors(browser)).toEqual([]);
+  });
+
   it('reopens everything from disk after a server restart', async () => {
     await server.stop();
     server = await startJupyterServer({ root: folder.work, state: folder.state });
@@ -236,7 +292,7 @@ describe('Stepwell in a real JupyterLab with a Python kernel', () => {
     await taken.locator('.sw-Notice', { hasText: 'Replayed 1 steps from the seed: bit-identical' }).waitFor({ timeout: 60_000 });
     await screenshot(page, 'lab-6-restarted');
     const saved = readNotebook(file);
-    expect(saved.cells.filter(c => c.metadata.stepwell !== undefined).length).toBe(2);
+    expect(saved.cells.filter(c => c.metadata.stepwell !== undefined).length).toBe(3);
     expect(ourErrors(browser)).toEqual([]);
   });
 });

@@ -67,4 +67,21 @@ describe('the static site under a sub-path', () => {
     expect(new URL(page.url()).pathname.startsWith(PREFIX)).toBe(true);
     expect(ourErrors(browser)).toEqual([]);
   });
+
+  it('opens a notebook whose data and weights are files beside it, and steps it from them', async () => {
+    const page = browser.page;
+    await page.goto(`${origin}${PREFIX}lab/index.html?path=walk-in-cooler/walk-in-cooler.ipynb`, { waitUntil: 'domcontentloaded' });
+    const cell = page.locator('.jp-NotebookPanel:not(.lm-mod-hidden) .sw-CellWidget').first();
+    await cell.waitFor({ timeout: 90_000 });
+    await cell.locator('.sw-Status', { hasText: /^step 18 ·/ }).waitFor({ timeout: 30_000 });
+    await cell.locator('.sw-Branch[data-branch="lr=0.1"]').click();
+    await cell.locator('.sw-Status', { hasText: /^step 81 ·/ }).waitFor({ timeout: 30_000 });
+    // The first action starts the engine: the CSV and safetensors files are read from the site.
+    await cell.locator('.sw-Button-step').click();
+    await cell.locator('.sw-Status', { hasText: /^step 82 ·/ }).waitFor({ timeout: 60_000 });
+    expect(await cell.locator('.sw-Problem').count()).toBe(0);
+    await screenshot(page, 'lite-files-stepped');
+    expect(failedRequests(browser)).toEqual([]);
+    expect(ourErrors(browser)).toEqual([]);
+  });
 });

@@ -6,65 +6,81 @@
 import type { DataSetup, LossName } from '../../core/setup';
 import { pyFloats, pyString } from './py-text';
 
-/** Lines defining `X` (float64, rows × inputs) and `Y` (targets; int64 class indices for cross-entropy). */
+/**
+ * Lines defining `X` (float64, rows × inputs) and `Y` (targets; int64 class indices for
+ * cross-entropy), and `XH`, `YH` the same way when the setup has a held-out split (`XH = None`
+ * otherwise).
+ */
 export function dataCode(data: DataSetup, loss: LossName, dataDir: string): string[] {
-  const yCast = loss === 'cross-entropy' ? 'Y = Y[:, 0].long()' : undefined;
+  const cast = (y: string): string[] => (loss === 'cross-entropy' ? [`${y} = ${y}[:, 0].long()`] : []);
   const origin = data.origin;
+  const held = data.heldOut;
   if (origin === undefined) {
     return [
       `# the spec's inline rows${data.standardized ? ' (standardized as data.standardize asked)' : ''}`,
       `X = torch.tensor(${pyFloats(data.x, '')}).reshape(${data.rows}, ${data.inputs})`,
       `Y = torch.tensor(${pyFloats(data.y, '')}).reshape(${data.rows}, ${data.targets})`,
-      ...(yCast ? [yCast] : []),
+      ...cast('Y'),
+      ...(held
+        ? [
+            '# the held-out rows',
+            `XH = torch.tensor(${pyFloats(held.x, '')}).reshape(${held.rows}, ${data.inputs})`,
+            `YH = torch.tensor(${pyFloats(held.y, '')}).reshape(${held.rows}, ${data.targets})`,
+            ...cast('YH'),
+          ]
+        : ['XH = None']),
     ];
   }
   const r = origin.reading;
-  const [main, second] = origin.files;
+  // A split is one file, or two for .npy features with their targets in a file of their own.
+  const perSplit = r.format === 'npy' && r.targetColumns === undefined ? 2 : 1;
   const lines = [
     `# data files, relative to DATA_DIR (--data-dir; default: ${pyString(dataDir)} beside this script)`,
     `DATA_FILES = {${origin.files.map((f) => `${pyString(f.name)}: ${pyString(f.sha256)}`).join(', ')}}`,
   ];
-  switch (r.format) {
-    case 'csv':
-      lines.push(
-        `CLASSES = ${origin.classes ? JSON.stringify(origin.classes) : 'None'}  # text label -> index (label CLASSES[i] is class i)`,
-        `X, Y = read_csv(${pyString(main.name)}, header=${r.header ? 'True' : 'False'}, delimiter=${pyString(r.delimiter ?? ',')}, features=${JSON.stringify(r.featureColumns)}, targets=${JSON.stringify(r.targetColumns)}, classes=CLASSES)`
-      );
-      break;
-    case 'npy':
-      lines.push(
-        `A = np.load(data_file(${pyString(main.name)})).astype(np.float64)`,
-        'A = A.reshape(-1, 1) if A.ndim == 1 else A',
-        `X = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.featureColumns)}]))`,
-        r.targetColumns !== undefined
-          ? `Y = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.targetColumns)}]))`
-          : `B = np.load(data_file(${pyString(second.name)})).astype(np.float64)\nY = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))`
-      );
-      break;
-    case 'npz':
-      lines.push(
-        `with np.load(data_file(${pyString(main.name)})) as archive:`,
-        `    A, B = archive[${pyString(r.featureArray ?? 'x')}].astype(np.float64), archive[${pyString(r.targetArray ?? 'y')}].astype(np.float64)`,
-        'X = torch.from_numpy(np.ascontiguousarray(A.reshape(-1, 1) if A.ndim == 1 else A))',
-        'Y = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))'
-      );
-      break;
-    default: {
-      const never: never = r.format;
-      throw new Error(`unknown data format ${String(never)}`);
+  if (r.format === 'csv') lines.push(`CLASSES = ${origin.classes ? JSON.stringify(origin.classes) : 'None'}  # text label -> index (label CLASSES[i] is class i)`);
+  const load = (x: string, y: string, main: string, second: string | undefined): string[] => {
+    switch (r.format) {
+      case 'csv':
+        return [`${x}, ${y} = read_csv(${pyString(main)}, header=${r.header ? 'True' : 'False'}, delimiter=${pyString(r.delimiter ?? ',')}, features=${JSON.stringify(r.featureColumns)}, targets=${JSON.stringify(r.targetColumns)}, classes=CLASSES)`];
+      case 'npy':
+        return [
+          `A = np.load(data_file(${pyString(main)})).astype(np.float64)`,
+          'A = A.reshape(-1, 1) if A.ndim == 1 else A',
+          `${x} = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.featureColumns)}]))`,
+          r.targetColumns !== undefined
+            ? `${y} = torch.from_numpy(np.ascontiguousarray(A[:, ${JSON.stringify(r.targetColumns)}]))`
+            : `B = np.load(data_file(${pyString(second ?? '')})).astype(np.float64)\n${y} = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))`,
+        ];
+      case 'npz':
+        return [
+          `with np.load(data_file(${pyString(main)})) as archive:`,
+          `    A, B = archive[${pyString(r.featureArray ?? 'x')}].astype(np.float64), archive[${pyString(r.targetArray ?? 'y')}].astype(np.float64)`,
+          `${x} = torch.from_numpy(np.ascontiguousarray(A.reshape(-1, 1) if A.ndim == 1 else A))`,
+          `${y} = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))`,
+        ];
+      default: {
+        const never: never = r.format;
+        throw new Error(`unknown data format ${String(never)}`);
+      }
     }
-  }
-  if (yCast) lines.push(yCast);
+  };
+  lines.push(...load('X', 'Y', origin.files[0].name, origin.files[1]?.name), ...cast('Y'));
+  const heldFiles = origin.files.slice(perSplit);
+  if (held && heldFiles.length > 0) lines.push('# the held-out split: the same columns, from its own file', ...load('XH', 'YH', heldFiles[0].name, heldFiles[1]?.name), ...cast('YH'));
+  else lines.push('XH = None');
   const st = data.standardized;
   if (st !== undefined) {
     lines.push(
       '# data.standardize: the training rows\' mean and population spread Stepwell computed (a constant column is only centred)',
       `MEAN = torch.tensor(${pyFloats(st.mean, '')})`,
       `DIVISOR = torch.tensor(${pyFloats(st.spread.map((s) => (s > 0 ? s : 1)), '')})`,
-      'X = (X - MEAN) / DIVISOR'
+      'X = (X - MEAN) / DIVISOR',
+      ...(held ? ['XH = (XH - MEAN) / DIVISOR'] : [])
     );
   }
   lines.push(`assert X.shape == (${data.rows}, ${data.inputs}), f"expected ${data.rows} x ${data.inputs} features, read {tuple(X.shape)}"`);
+  if (held) lines.push(`assert XH.shape == (${held.rows}, ${data.inputs}), f"expected ${held.rows} x ${data.inputs} held-out features, read {tuple(XH.shape)}"`);
   return lines;
 }
 
@@ -100,8 +116,12 @@ export function dataHelpers(usesCsv: boolean): string[] {
   ]);
 }
 
-/** Python port of Stepwell's mini-batch order (`core/rng.ts`, `core/session/batches.ts`). */
-export function batchOrderCode(state: readonly number[], rows: number, batch: number): string[] {
+/**
+ * Python port of Stepwell's mini-batch order (`core/rng.ts`, `core/session/batches.ts`).
+ * @param resume - the epoch's order and the position in it, for a script that starts mid-run (a
+ *   branch forked after step 0); `state` is then the generator after that order was drawn.
+ */
+export function batchOrderCode(state: readonly number[], rows: number, batch: number, resume?: { cursor: number; order: Int32Array }): string[] {
   return [
     'class BatchOrder:',
     '    """Stepwell\'s mini-batch order: each epoch a Fisher-Yates permutation of the rows drawn from',
@@ -111,9 +131,9 @@ export function batchOrderCode(state: readonly number[], rows: number, batch: nu
     '',
     '    M = 0xFFFFFFFF',
     '',
-    '    def __init__(self, state, rows, batch):',
-    '        self.s, self.rows, self.batch, self.cursor = list(state), rows, batch, 0',
-    '        self.order = self.permutation()',
+    '    def __init__(self, state, rows, batch, cursor=0, order=None):',
+    '        self.s, self.rows, self.batch, self.cursor = list(state), rows, batch, cursor',
+    '        self.order = self.permutation() if order is None else list(order)',
     '',
     '    @staticmethod',
     '    def rotl(x, k):',
@@ -155,7 +175,9 @@ export function batchOrderCode(state: readonly number[], rows: number, batch: nu
     '        return torch.tensor(batch, dtype=torch.long)',
     '',
     '',
-    `BATCHES = BatchOrder([${state.join(', ')}], rows=${rows}, batch=${batch})`,
+    resume === undefined
+      ? `BATCHES = BatchOrder([${state.join(', ')}], rows=${rows}, batch=${batch})`
+      : `BATCHES = BatchOrder([${state.join(', ')}], rows=${rows}, batch=${batch}, cursor=${resume.cursor}, order=[${Array.from(resume.order).join(', ')}])`,
   ];
 }
 

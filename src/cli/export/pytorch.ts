@@ -8,6 +8,7 @@
  * reports as trajectory[k].loss (checked by test/export/roundtrip.test.ts with PyPI torch).
  */
 import type { Experiment, NetworkModel, Recipe } from '../../core/setup';
+import type { SessionState } from '../../core/state';
 import { effectiveBatch } from '../../core/session/adapt';
 import { batchOrderCode, dataCode, dataHelpers } from './py-data';
 import { RESTART_HELPER, scheduleCode } from './py-schedule';
@@ -28,6 +29,62 @@ export interface ExportSource {
   batchState: readonly number[];
   /** Initial parameters in Stepwell's flat layout. */
   initial: Float64Array;
+  /**
+   * Where the script starts when not at step 0 (a branch forked later): the step and the whole
+   * session state there — the weights (`initial` holds them too), the optimizer's buffers and
+   * update count, the batch generator and the epoch's row order.
+   */
+  start?: { step: number; state: SessionState };
+}
+
+/** torch.optim state keys per Stepwell buffer, for each family a started script can resume. */
+const TORCH_STATE: Partial<Record<Recipe['optimizer'], [torchKey: string, buffer: string][]>> = {
+  sgd: [['momentum_buffer', 'velocity']],
+  adam: [['exp_avg', 'm'], ['exp_avg_sq', 'v'], ['max_exp_avg_sq', 'vMax']],
+  adamw: [['exp_avg', 'm'], ['exp_avg_sq', 'v'], ['max_exp_avg_sq', 'vMax']],
+  rmsprop: [['square_avg', 'squareAvg'], ['grad_avg', 'gradAvg'], ['momentum_buffer', 'momentum']],
+  adagrad: [['sum', 'sum']],
+};
+
+/**
+ * Lines that put the optimizer, the schedules and the step count where a branch forked at a later
+ * step has them: torch's per-parameter state from Stepwell's flat buffers (sliced in the order
+ * of `model.parameters()`, which is Stepwell's layout), and the schedules advanced `step` times.
+ */
+function startCode(r: Recipe, start: { step: number; state: SessionState }): string[] {
+  const keys = TORCH_STATE[r.optimizer];
+  if (keys === undefined) throw new NotExportable(`a branch forked at step ${start.step} continues ${r.optimizer}'s state, which the script cannot set in torch.optim; export it from step 0 (fork it at step 0), or use sgd, adam, adamw, rmsprop or adagrad`);
+  if (r.schedule.kind === 'plateau') throw new NotExportable(`a branch forked at step ${start.step} continues reduce-on-plateau's counters, which are not exported; fork it at step 0 to export it`);
+  const o = start.state.optimizer;
+  const present = keys.filter(([, b]) => o.buffers[b] !== undefined);
+  // SGD keeps no update count in torch: its buffer exists from the first update on.
+  const withStep = r.optimizer !== 'sgd';
+  const lines = [
+    `# ---- the state at step ${start.step}, where this branch was forked: optimizer buffers (Stepwell's flat layout), update count, schedules`,
+    `START_STEP = ${start.step}`,
+  ];
+  if (o.t > 0 && present.length > 0) {
+    lines.push(
+      'OPT_BUFFERS = {',
+      ...present.map(([, b]) => `    ${pyString(b)}: torch.tensor(${pyFloats(o.buffers[b], '    ')}),`),
+      '}',
+      'at = 0',
+      'for p in model.parameters():',
+      '    n = p.numel()',
+      `    opt.state[p] = {${[...(withStep ? [`"step": torch.tensor(${py(o.t)})`] : []), ...present.map(([k, b]) => `${pyString(k)}: OPT_BUFFERS[${pyString(b)}][at:at + n].reshape(p.shape).clone()`)].join(', ')}}`,
+      '    at += n'
+    );
+  } else if (o.t > 0 && withStep) {
+    lines.push('for p in model.parameters():', `    opt.state[p] = {"step": torch.tensor(${py(o.t)})}`);
+  }
+  lines.push(
+    '# the schedules as they stand after START_STEP updates (torch warns when a scheduler steps before the optimizer; here it must)',
+    'with warnings.catch_warnings():',
+    '    warnings.simplefilter("ignore")',
+    '    for _ in range(START_STEP):',
+    '        advance_schedules(None)'
+  );
+  return lines;
 }
 
 /** An experiment that cannot be written as a PyTorch script, with the reason. */
@@ -141,15 +198,24 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
   if (!lbfgs && r.clipValue > 0) clipping.push(`        torch.nn.utils.clip_grad_value_(model.parameters(), ${py(r.clipValue)})`);
   if (!lbfgs && r.clipNorm > 0) clipping.push(`        torch.nn.utils.clip_grad_norm_(model.parameters(), max_norm=${py(r.clipNorm)})`);
   const rowsExpr = batch > 0 ? 'BATCHES.next()' : 'None';
+  const start = src.start !== undefined && src.start.step > 0 ? src.start : undefined;
+  if (start !== undefined && lbfgs) throw new NotExportable(`a branch forked at step ${start.step} continues L-BFGS's history, which torch.optim.LBFGS cannot be given; fork it at step 0 to export it`);
+  const resume = start !== undefined && batch > 0 && start.state.order !== null ? { cursor: start.state.cursor, order: start.state.order } : undefined;
+  const batchState = start !== undefined && batch > 0 ? start.state.rng.s : src.batchState;
+  const heldOut = data.heldOut !== undefined;
 
   const header = [
     '#!/usr/bin/env python3',
     `# Exported by Stepwell ${src.version} from ${src.spec}${src.patch ? ` with ${src.patch}` : ''}.`,
-    `# Initial state fingerprint (step 0): ${src.fingerprint}`,
+    ...(start !== undefined
+      ? [`# Starts at step ${start.step}, where the branch was forked, from the state the ledger stored there; fingerprint: ${src.fingerprint}`]
+      : [`# Initial state fingerprint (step 0): ${src.fingerprint}`]),
     ...(origin ? [`# Data hash: ${origin.hash}`] : []),
     '#',
-    `# python ${'train.py'} --steps N --json prints {"losses": [...]}: the full-batch loss after k updates,`,
-    '# k = 0..N, the numbers `stepwell run SPEC --steps N --json` reports (float64, CPU).',
+    `# python ${'train.py'} --steps N --json prints {"losses": [...]${heldOut ? ', "heldOut": [...]' : ''}}: the full-batch loss${heldOut ? ' (and the held-out loss)' : ''} after k updates,`,
+    start !== undefined
+      ? `# k = 0..N counted from step ${start.step}: the branch's records ${start.step}..${start.step}+N (float64, CPU).`
+      : '# k = 0..N, the numbers `stepwell run SPEC --steps N --json` reports (float64, CPU).',
     '# A small proxy: confirm what it shows at full scale.',
     '"""PyTorch recipe exported by Stepwell (see the header)."""',
     'import argparse',
@@ -160,6 +226,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     'import math',
     'import os',
     'import sys',
+    'import warnings',
     '',
     'import numpy as np',
     'import torch',
@@ -205,6 +272,17 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '        return float(batch_loss(None))',
     '',
     '',
+    ...(heldOut
+      ? [
+          'def held_out_loss():',
+          '    # the same loss on the held-out rows (what Stepwell records as the held-out loss)',
+          '    with torch.no_grad():',
+          '        out = model(XH)',
+          `        return float(${lossExpr.replace('(out, y)', '(out, YH)')}${l2})`,
+          '',
+          '',
+        ]
+      : []),
     '# ---- optimizer and schedule',
     ...params,
     ...sched.build,
@@ -214,9 +292,11 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     ...sched.advance.map((l) => `    ${l}`),
     '',
     '',
-    ...(batch > 0 ? ['# ---- mini-batches', ...batchOrderCode(src.batchState, data.rows, batch), '', ''] : []),
+    ...(start !== undefined ? [...startCode(r, start), '', ''] : []),
+    ...(batch > 0 ? ['# ---- mini-batches', ...batchOrderCode(batchState, data.rows, batch, resume), '', ''] : []),
     '# ---- training: one optimizer update per step, full-batch loss after each',
     'losses = [full_loss()]',
+    ...(heldOut ? ['held = [held_out_loss()]'] : []),
     'for step in range(args.steps):',
     `    rows = ${rowsExpr}`,
     ...(lbfgs
@@ -232,10 +312,11 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
         ]
       : ['    opt.zero_grad()', '    batch_loss(rows).backward()', ...clipping.map((l) => l.slice(4)), '    opt.step()']),
     '    losses.append(full_loss())',
+    ...(heldOut ? ['    held.append(held_out_loss())'] : []),
     '    advance_schedules(losses[-1])',
     '',
     'if args.json:',
-    '    print(json.dumps({"losses": losses}))',
+    `    print(json.dumps({"losses": losses${heldOut ? ', "heldOut": held' : ''}}))`,
     'else:',
     '    for k, loss in enumerate(losses):',
     '        print(f"{k:6d}  {loss:.10g}")',

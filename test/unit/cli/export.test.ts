@@ -54,7 +54,7 @@ describe('stepwell export --to weights / trajectory', () => {
   });
   it('refuses what PyTorch cannot express, saying why', () => {
     expect(() => exportCommand(SPEC, { set: ['optimizer=cg'] })).toThrow(new CliError(`${SPEC}: recipe.optimizer 'cg' has no torch.optim counterpart, so it cannot be exported; sgd, adagrad, rmsprop, adam, adamw and lbfgs can`));
-    expect(() => exportCommand(SPEC, { branch: '3:lr=0.01' })).toThrow(/a branch forked at step 3 continues the parent's optimizer state, which is not exported yet/);
+    expect(() => exportCommand(SPEC, { branch: '3:lr=0.01' })).toThrow(/a branch forked at step 3 continues the parent's optimizer state, which is exported from a notebook's ledger/);
     expect(() => exportCommand(SPEC, { to: 'weights', steps: '2', out: join(dir, 'w.bin') })).toThrow(/weights are written as .safetensors/);
     expect(exportCommand(SPEC, { branch: '0:lr=0.01' }).out).toContain('lr=0.01');
   });

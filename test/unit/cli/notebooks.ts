@@ -1,7 +1,7 @@
 /**
  * Notebooks for the command-line tests of verify, report and export: copies of the demo
  * notebooks (stepped in Chromium), a notebook whose cell reads the kiln demo's CSV and
- * safetensors files (stepped here in Node: the notebook app does not read data files yet), and
+ * safetensors files (stepped here in Node, which is quicker than the app), and
  * edits of one number — in a data row, a stored record, the spec — made the way a person or a
  * tool would make them.
  */
