@@ -17,5 +17,9 @@ export type { BranchInput, DecodedBranch, DecodeOptions, LedgerInput, LedgerLimi
 export { sha256Hex } from './hash';
 export { capSharpness, decodeLoose, decodeReadouts, encodeLoose, encodeReadouts, MAX_READOUT_BYTES, MAX_SHARPNESS_POINTS, readoutsDigest } from './readouts';
 export type { DecodedReadouts, ReadoutsInput } from './readouts';
-export { branchSnapshot, groveFromLedger } from './restore';
+export { branchSnapshot, groveFromLedger, groveFromOpened } from './restore';
+export { coherenceProblems } from './coherence';
+export { LedgerOpenError, locate, MAX_LEDGER_PROBLEMS, openLedger, prototypeProblem, summarizeProblems } from './open';
+export type { BranchExperiment, ExperimentMaker, LedgerProblem, OpenedLedger } from './open';
+export { FORBIDDEN_KEYS } from './codec';
 export type { ExperimentOf, RestoredGrove } from './restore';

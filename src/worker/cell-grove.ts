@@ -9,7 +9,7 @@ import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { ENGINE_NAME } from '../core/engine';
 import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, type BatchSegment, type GroveOptions } from '../core/session';
-import { buildLedger, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
+import { buildLedger, groveFromOpened, LedgerOpenError, ledgerSize, openLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
@@ -62,15 +62,14 @@ export class CellGrove {
    *   patched spec no longer validates.
    */
   static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number): CellGrove {
-    const checked = validateLedger(raw);
-    if (!checked.ok) throw new Error(`the saved ledger cannot be read: ${checked.errors.slice(0, 3).join('; ')}`);
-    const ledger = checked.ledger;
-    const restored = groveFromLedger(ledger, (b, chain) => {
-      const parsed = core.parsePatched(specText, chain);
-      if (!parsed.ok) throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
-      return parsed.experiment;
-    }, checkpointEvery, groveOptions(checkpointEvery));
-    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch, ledger.findings.map((f) => ({ ...f })));
+    const opened = openLedger(raw, (spec, chain) => {
+      const parsed = core.parsePatched(spec, chain);
+      return parsed.ok ? { ok: true, experiment: parsed.experiment } : { ok: false, message: parsed.errors.map((e) => e.message).join('; ') };
+    });
+    if (!opened.ok) throw new LedgerOpenError(opened.problems);
+    const ledger = opened.ledger;
+    const restored = groveFromOpened(opened, checkpointEvery, groveOptions(checkpointEvery));
+    const cell = new CellGrove(core, ledger.spec, restored.grove, ledger.activeBranch, ledger.findings.map((f) => ({ ...f })));
     for (const b of restored.branches) cell.readouts.set(b.name, readoutsFromLedger(b.readouts));
     return cell;
   }

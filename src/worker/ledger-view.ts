@@ -4,7 +4,9 @@
  * reads it on notebook open; the numbers come from the ledger, nothing is recomputed.
  */
 import type { StepRecord } from '../core/state';
-import { decodeBranches, validateLedger, type Ledger } from '../ledger';
+import type { Experiment } from '../core/setup';
+import { openLedger, summarizeProblems, type DecodedBranch, type ExperimentMaker, type Ledger, type LedgerProblem } from '../ledger';
+import type { SpecLimits } from '../experiment/limits';
 import { describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo, BranchReadouts, SessionSummary } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
@@ -21,33 +23,35 @@ export interface LedgerView {
   findings: Record<string, unknown>[];
 }
 
-/** Outcome of {@link viewLedger}. */
-export type LedgerViewResult = { ok: true; view: LedgerView } | { ok: false; message: string; specText?: string };
+/** Outcome of {@link viewLedger}: the view, or every problem located (field, branch, step) with the first few as `message`. */
+export type LedgerViewResult = { ok: true; view: LedgerView } | { ok: false; message: string; problems: LedgerProblem[]; specText?: string };
 
-/** Validates, decodes and describes a stored ledger; never throws. */
-export function viewLedger(value: unknown): LedgerViewResult {
-  const checked = validateLedger(value);
-  if (!checked.ok) {
-    const shown = checked.errors.slice(0, 3).join('; ') + (checked.errors.length > 3 ? ` (and ${checked.errors.length - 3} more)` : '');
-    const spec = (value as { spec?: unknown } | null)?.spec;
-    return { ok: false, message: shown, specText: typeof spec === 'string' ? spec : undefined };
-  }
+/** Makes a branch's experiment the way the engine does (`experiment/patch.ts`), under `limits`. */
+export function branchExperiment(limits?: SpecLimits): ExperimentMaker {
+  return (spec, chain) => {
+    const parsed = patchChainExperiment(spec, chain as SpecPatch[], limits === undefined ? {} : { limits });
+    return parsed.ok ? { ok: true, experiment: parsed.experiment } : { ok: false, message: parsed.errors[0].message };
+  };
+}
+
+/**
+ * Opens a stored ledger whole (`openLedger`: schema, decoding, fingerprints, and every branch
+ * against the experiment its spec makes) and describes it; never throws.
+ */
+export function viewLedger(value: unknown, limits?: SpecLimits): LedgerViewResult {
+  const opened = openLedger(value, branchExperiment(limits));
+  if (!opened.ok) return { ok: false, message: summarizeProblems(opened.problems), problems: opened.problems, specText: opened.specText };
   try {
-    return { ok: true, view: describeLedger(checked.ledger) };
+    return { ok: true, view: describeLedger(opened.ledger, opened.branches, opened.experiments) };
   } catch (error) {
-    return { ok: false, message: (error as Error).message, specText: checked.ledger.spec };
+    const detail = (error as Error).message;
+    return { ok: false, message: detail, problems: [{ field: 'ledger', detail, message: detail }], specText: opened.ledger.spec };
   }
 }
 
-/** The view of a validated ledger. @throws when a branch's patched spec no longer parses. */
-export function describeLedger(ledger: Ledger): LedgerView {
-  const decoded = decodeBranches(ledger);
-  const chains = new Map<string, SpecPatch[]>();
-  const branches: BranchInfo[] = decoded.map(b => {
-    const chain = b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : [];
-    chains.set(b.name, chain);
-    const parsed = patchChainExperiment(ledger.spec, chain);
-    if (!parsed.ok) throw new Error(b.parent ? `branch '${b.name}' no longer validates against the spec (${parsed.errors[0].message})` : `the saved spec no longer parses (${parsed.errors[0].message})`);
+/** The view of an opened ledger (its decoded branches and their experiments, ledger order). */
+export function describeLedger(ledger: Ledger, decoded: readonly DecodedBranch[], experiments: readonly Experiment[]): LedgerView {
+  const branches: BranchInfo[] = decoded.map((b, i) => {
     const atCursor = [...b.checkpoints, b.head].find(c => c.step === b.cursor);
     const record = b.trajectory.find(r => r.step === b.cursor);
     return {
@@ -61,13 +65,12 @@ export function describeLedger(ledger: Ledger): LedgerView {
       tip: b.head.step,
       loss: record?.loss ?? NaN,
       fingerprint: atCursor?.fingerprint ?? '',
-      recipe: describeRecipe(parsed.experiment.recipe)
+      recipe: describeRecipe(experiments[i].recipe)
     };
   });
   const active = decoded.find(b => b.name === ledger.activeBranch) ?? decoded[0];
   const info = branches.find(b => b.name === active.name) as BranchInfo;
-  const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? []);
-  if (!root.ok) throw new Error(`the saved spec no longer parses (${root.errors[0].message})`);
+  const activeExperiment = experiments[decoded.indexOf(active)];
   const checkpointSteps = [...active.checkpoints.map(c => c.step), active.head.step];
   return {
     specText: ledger.spec,
@@ -80,7 +83,7 @@ export function describeLedger(ledger: Ledger): LedgerView {
       parameterCount: ledger.parameterCount,
       checkpointSteps,
       recipe: info.recipe,
-      setup: describeSetup(root.experiment.setup)
+      setup: describeSetup(activeExperiment.setup)
     },
     trajectory: sampleRecords(active.trajectory, DISPLAY_RECORDS),
     readouts: readoutsFromLedger(active.readouts),

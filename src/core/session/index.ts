@@ -14,6 +14,7 @@ export { boundTrajectory, strideSelection, DEFAULT_TRAJECTORY_BOUND } from './tr
 export type { TrajectoryBound } from './trajectory';
 export type { ReplayDifference, ReplayReport } from './replay';
 export { COMPARED_FIELDS, recordDifference, relativeDifference, sameRecord } from './replay';
+export { freshState, rowCountOf } from './fresh';
 export { adaptSessionState, adaptOptimizerState, effectiveBatch } from './adapt';
 export { compareBranches, examplesAt, firstCrossing, lossVerdict, matchedSteps, SAME_LOSS } from './compare';
 export type { BatchSegment, BranchComparison, CompareInput, CompareOptions, Crossing, LossVerdict, MatchedCell, MatchedStep, MatchReason, SharpnessSample } from './compare';
