@@ -9,6 +9,7 @@ import type { PartialJSONObject, PartialJSONValue } from '@lumino/coreutils';
 import type { CellHost, RecordCell } from '../ui/ports';
 import { RECORD_KEY } from '../ui/decision-record';
 import { LEDGER_KEY } from '../ui/ledger-glue';
+import { UNREADABLE_KEY } from '../ui/controller';
 import type { CellSummary } from '../ui/summary';
 import { STEPWELL_MIME } from '../ui/summary';
 
@@ -77,6 +78,11 @@ export function cellHost(model: ICodeCellModel): CellHost {
     writeRecord: record => writeRecordCell(notebook(), model.sharedModel.getId(), record),
     readSource: () => model.sharedModel.getSource(),
     readLedger: (): unknown => model.getMetadata(LEDGER_KEY),
+    hasOutput: () => model.outputs.length > 0 && isStepwellOutput(model.outputs.get(0).data),
+    keepAside: (value: unknown): string => {
+      model.setMetadata(UNREADABLE_KEY, { keptAt: new Date().toISOString(), value } as unknown as PartialJSONValue);
+      return UNREADABLE_KEY;
+    },
     writeLedger: (value: object) => model.setMetadata(LEDGER_KEY, value),
     writeOutputs: (summary, markdown) => {
       const output = stepwellOutput(summary, markdown);

@@ -10,6 +10,7 @@ import { IRenderMimeRegistry } from '@jupyterlab/rendermime';
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
 import type { CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
+import { LIMIT_NAMES } from '../experiment/limits';
 import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
@@ -21,6 +22,7 @@ import { IStepwellCells } from './tokens';
 import { followCellLanguage } from './cell-language';
 import { loadMagicInKernel } from './kernel';
 import { addTakeDataCommand } from './take-command';
+import { followOpenedNotebooks } from './open-check';
 
 /** The id of the plugin that owns schema/plugin.json (settings, toolbar, shortcuts). */
 export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
@@ -79,9 +81,13 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
   try {
     const settings = await registry.load(SETTINGS_PLUGIN_ID);
     const apply = (): void => {
-      const c = settings.composite as Partial<Record<keyof CellSettings, unknown>>;
-      const pick = (k: keyof CellSettings): number => (typeof c[k] === 'number' ? (c[k] as number) : DEFAULT_SETTINGS[k]);
+      const c = settings.composite as Partial<Record<string, unknown>>;
+      const pick = (k: Exclude<keyof CellSettings, 'limits'>): number => (typeof c[k] === 'number' ? (c[k] as number) : DEFAULT_SETTINGS[k]);
+      const limits = { ...DEFAULT_SETTINGS.limits };
+      for (const k of LIMIT_NAMES) if (typeof c[k] === 'number' && Number.isSafeInteger(c[k]) && (c[k] as number) >= 1) limits[k] = c[k] as number;
       cells.settings = {
+        limits,
+        maxLedgerBytes: pick('maxLedgerBytes'),
         defaultN: pick('defaultN'),
         checkpointEvery: pick('checkpointEvery'),
         checkpointCap: pick('checkpointCap'),
@@ -114,5 +120,14 @@ const kernelPlugin: JupyterFrontEndPlugin<void> = {
   }
 };
 
-const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin];
+/** Shows unreadable ledgers of stepwell cells that have no output when a notebook opens. */
+const openCheckPlugin: JupyterFrontEndPlugin<void> = {
+  id: 'stepwell:open-check',
+  description: 'Reads the ledgers of stepwell cells without outputs when a notebook opens, so an unreadable one is shown in its cell.',
+  autoStart: true,
+  requires: [INotebookTracker, IStepwellCells],
+  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells): void => followOpenedNotebooks(tracker, cells)
+};
+
+const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, openCheckPlugin];
 export default plugins;

@@ -8,7 +8,9 @@ import { MAGIC_LINE, parseSpec } from '../experiment';
 import { CellController, type ControllerDeps } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
-import { LEDGER_KEY, ledgerGlue } from '../ui/ledger-glue';
+import { LEDGER_KEY, workerLedgerGlue } from '../ui/ledger-glue';
+import type { LedgerGlue } from '../ui/ports';
+import type { SpecLimits } from '../experiment/limits';
 import type { EngineClient } from '../worker/client';
 import type { SpecProblem } from '../worker/protocol';
 import type { IStepwellCells } from './tokens';
@@ -28,9 +30,9 @@ export function hasMarker(source: string): boolean {
   return MARKER.test(first.trim());
 }
 
-/** The live spec check: every error of the parser (warnings are shown after a run). */
-export function checkSpec(text: string): SpecProblem[] {
-  const r = parseSpec(text);
+/** The live spec check: every error of the parser (warnings are shown after a run), under `limits`. */
+export function checkSpec(text: string, limits?: SpecLimits): SpecProblem[] {
+  const r = parseSpec(text, 'auto', limits === undefined ? {} : { limits });
   return r.ok ? [] : r.errors;
 }
 
@@ -46,6 +48,9 @@ export class StepwellCells implements IStepwellCells {
   settings: CellSettings = { ...DEFAULT_SETTINGS };
 
   private readonly imageOf: ControllerDeps['imageOf'];
+  /** One worker for the page that opens stored ledgers (started on the first read). */
+  private reader: EngineClient | null = null;
+  private readonly glue: LedgerGlue;
 
   /**
    * @param engine - starts an engine for a new controller.
@@ -56,6 +61,7 @@ export class StepwellCells implements IStepwellCells {
     this.engine = engine;
     this.host = host;
     this.imageOf = imageOf;
+    this.glue = workerLedgerGlue(() => (this.reader ??= this.engine()));
   }
 
   /** True for code cells with our metadata key or the marker line. */
@@ -86,8 +92,8 @@ export class StepwellCells implements IStepwellCells {
     const controller = new CellController({
       host,
       engine: this.engine,
-      ledger: ledgerGlue,
-      checkSpec,
+      ledger: this.glue,
+      checkSpec: text => checkSpec(text, this.settings.limits),
       settings: () => this.settings,
       imageOf: this.imageOf
     });
@@ -102,7 +108,7 @@ export class StepwellCells implements IStepwellCells {
     model.contentChanged.connect(onContent);
     const onMetadata = (_: ICellModel, change: { key: string }): void => {
       if (change.key === LEDGER_KEY && !writing && !controller.isDisposed && controller.state.busy === null) {
-        controller.readLedger();
+        void controller.readLedger();
       }
     };
     model.metadataChanged.connect(onMetadata);

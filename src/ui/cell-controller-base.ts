@@ -10,8 +10,8 @@ import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
 import type { BranchReadouts, SessionSummary } from '../worker/protocol';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
-import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, lossImage, markdownSummary, meanMs, problemLine } from './summary';
+import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
+import { cellSummary, lossImage, markdownSummary, meanMs, problemLine, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { initialViewState, viewFromLedger } from './view-state';
 
@@ -38,6 +38,8 @@ export abstract class ControllerBase {
   /** The ledger content last read: what a lazily started engine resumes from. */
   private content: LedgerContent | null = null;
   private disposedFlag = false;
+  /** Counts ledger reads; only the newest one's answer is applied. */
+  private readSeq = 0;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -87,15 +89,42 @@ export abstract class ControllerBase {
     this.notice(level, text);
   }
 
-  /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
-  readLedger(): void {
+  /**
+   * Reads (or re-reads) the ledger from the cell, without touching the engine. In the app the
+   * ledger is checked in a worker: until it answers the cell shows `reading`, and a newer read
+   * supersedes an older one. An unreadable ledger in a cell without our output gets an output
+   * saying so (the metadata itself is never changed here).
+   *
+   * @returns a promise that settles when the read was applied.
+   */
+  readLedger(): Promise<void> {
     const raw = this.deps.host.readLedger();
-    const read = this.deps.ledger.read(raw);
+    const seq = ++this.readSeq;
+    this.content = null;
+    this.engineInSync = false;
+    const read = this.deps.ledger.read(raw, this.deps.settings().limits);
+    if (!(read instanceof Promise)) {
+      this.applyRead(read, raw);
+      return Promise.resolve();
+    }
+    this.set({ ledger: 'reading', ledgerMessage: undefined, summary: null, trajectory: [], notice: { level: 'info', text: 'Reading the saved ledger…' } });
+    return read.then(r => {
+      if (seq === this.readSeq && !this.disposedFlag) this.applyRead(r, raw);
+    });
+  }
+
+  private applyRead(read: LedgerRead, raw: unknown): void {
     this.content = read.kind === 'ok' ? read.content : null;
     this.engineInSync = false;
     const view = viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
     this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
+    if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
+  }
+
+  /** Writes an output that says the ledger cannot be read (so a cell without outputs shows it). */
+  protected writeUnreadable(): void {
+    this.deps.host.writeOutputs(null, unreadableMarkdown(this.st.ledgerMessage ?? 'unknown problem'));
   }
 
   /** Re-checks the editor's text (call on source changes, debounced). */
@@ -138,7 +167,7 @@ export abstract class ControllerBase {
   protected async loadFresh(source: string): Promise<boolean> {
     const engine = this.ensureEngine();
     this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], findings: [], verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
-    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery });
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, limits: this.deps.settings().limits });
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
       this.set({ problems: reply.errors });
@@ -178,7 +207,7 @@ export abstract class ControllerBase {
       this.notice('info', 'No session yet: run the cell (Shift+Enter) to start one from the spec.');
       return null;
     }
-    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw });
+    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, limits: this.deps.settings().limits });
     if (reply.kind === 'spec-errors') {
       this.notice('error', `The saved session's spec no longer parses: ${reply.errors.map(problemLine).join('; ')}`);
       return null;
@@ -229,9 +258,12 @@ export abstract class ControllerBase {
     const engine = this.engine;
     const specText = this.st.sessionSpec;
     if (engine === null || specText === null) return false;
-    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap });
+    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap, maxBytes: this.deps.settings().maxLedgerBytes });
     if (reply.kind === 'failed') {
-      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
+      // Keep the notice of the action (e.g. a non-finite loss) and add why nothing was saved.
+      const before = this.st.notice !== null && this.st.notice.level !== 'info' ? `${this.st.notice.text} ` : '';
+      this.notice('error', `${before}The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
+      this.writeOutputs();
       return false;
     }
     if (reply.kind !== 'ledger') return this.failed(reply);

@@ -12,6 +12,7 @@ import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, t
 import { buildLedger, groveFromOpened, LedgerOpenError, ledgerSize, openLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
+import type { SpecLimits } from '../experiment/limits';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
 import { COMPARE_POINTS } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
@@ -42,6 +43,9 @@ export class CellGrove {
   private readonly readouts = new Map<string, BranchReadouts>();
   private findingsList: Record<string, unknown>[];
 
+  /** Size limits every branch's patched spec is checked against (the user's settings). */
+  private limits: SpecLimits | undefined;
+
   private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string, findings: Record<string, unknown>[]) {
     this.specText = specText;
     this.grove = grove;
@@ -50,8 +54,10 @@ export class CellGrove {
   }
 
   /** A fresh cell: one root branch at step 0. */
-  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number): CellGrove {
-    return new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH, []);
+  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number, limits?: SpecLimits): CellGrove {
+    const cell = new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH, []);
+    cell.limits = limits;
+    return cell;
   }
 
   /**
@@ -61,9 +67,9 @@ export class CellGrove {
    * @throws with the validator's message when the ledger cannot be read, or when a branch's
    *   patched spec no longer validates.
    */
-  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number): CellGrove {
+  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number, limits?: SpecLimits): CellGrove {
     const opened = openLedger(raw, (spec, chain) => {
-      const parsed = core.parsePatched(spec, chain);
+      const parsed = core.parsePatched(spec, chain, limits);
       return parsed.ok ? { ok: true, experiment: parsed.experiment } : { ok: false, message: parsed.errors.map((e) => e.message).join('; ') };
     });
     if (!opened.ok) throw new LedgerOpenError(opened.problems);
@@ -71,6 +77,7 @@ export class CellGrove {
     const restored = groveFromOpened(opened, checkpointEvery, groveOptions(checkpointEvery));
     const cell = new CellGrove(core, ledger.spec, restored.grove, ledger.activeBranch, ledger.findings.map((f) => ({ ...f })));
     for (const b of restored.branches) cell.readouts.set(b.name, readoutsFromLedger(b.readouts));
+    cell.limits = limits;
     return cell;
   }
 
@@ -163,7 +170,7 @@ export class CellGrove {
   fork(from: string, step: number, patch: SpecPatch, name?: string): ForkOutcome {
     this.grove.session(from);
     const chain = [...this.patchChain(from), patch];
-    const parsed = this.core.parsePatched(this.specText, chain);
+    const parsed = this.core.parsePatched(this.specText, chain, this.limits);
     if (!parsed.ok) return { ok: false, errors: parsed.errors };
     if (touchesSetup(patch) && step !== 0) {
       return { ok: false, errors: [{ path: '', message: `the patch ${describePatch(patch)} changes the setup or the seed, so the branch must start at step 0, not step ${step}` }] };

@@ -6,6 +6,7 @@
 import type { Experiment } from '../core/setup';
 import type { Session } from '../core/session';
 import type { SpecPatch } from '../experiment/patch';
+import type { SpecLimits } from '../experiment/limits';
 import type { AuditResult, CurvatureResult, SharpnessPoint, SpecProblem } from './protocol';
 
 /** Result of parsing spec text. */
@@ -16,9 +17,9 @@ export type ParseOutcome =
 /** Parsing and the readouts over a live session. */
 export interface EngineCore {
   /** Parses and validates spec text. Never throws for bad text: returns the errors. */
-  parse(specText: string): ParseOutcome;
+  parse(specText: string, limits?: SpecLimits): ParseOutcome;
   /** The experiment of a branch: the spec with its ancestry's patches applied in order, validated like a spec. */
-  parsePatched(specText: string, patches: readonly SpecPatch[]): ParseOutcome;
+  parsePatched(specText: string, patches: readonly SpecPatch[], limits?: SpecLimits): ParseOutcome;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
   /**

@@ -18,6 +18,8 @@ import type { EngineReply, EngineRequest, SharpnessPoint, StopCondition, VerifyR
 import { checkRequest } from './protocol';
 import { REPLY_SAMPLE, sampleRecords } from './sampling';
 import { CellGrove } from './cell-grove';
+import { viewLedger } from './ledger-view';
+import { grouped } from '../experiment/limits';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -162,9 +164,17 @@ export class EngineHost {
       }
       case 'verify':
         return this.verify(id, request.branches);
+      case 'open':
+        this.post({ id, kind: 'opened', result: viewLedger(request.ledger, request.limits) });
+        return;
       case 'ledger': {
         const cell = this.need().cell;
         const built = cell.ledger(request.specText, request.checkpointCap);
+        if (request.maxBytes !== undefined && built.bytes > request.maxBytes) {
+          // Refused before the page sees it: the session stays in the worker, the notebook keeps its previous ledger.
+          this.post({ id, kind: 'failed', message: ledgerTooLarge(built.bytes, request.maxBytes) });
+          return;
+        }
         this.post({ id, kind: 'ledger', summary: cell.summary(), value: built.value, bytes: built.bytes, trajectory: cell.display() });
         return;
       }
@@ -184,15 +194,15 @@ export class EngineHost {
   }
 
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
-    const parsed = this.core.parse(request.specText);
+    const parsed = this.core.parse(request.specText, request.limits);
     if (!parsed.ok) {
       this.post({ id: request.id, kind: 'spec-errors', errors: parsed.errors });
       return;
     }
     const cell =
       request.resume === undefined
-        ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery)
-        : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery);
+        ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery, request.limits)
+        : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery, request.limits);
     this.loaded = { cell, checkpointEvery: request.checkpointEvery };
     this.post({ id: request.id, kind: 'ready', ...this.view(), findings: cell.findings, warnings: parsed.warnings });
   }
@@ -280,10 +290,20 @@ export class EngineHost {
     );
     const last = pending[pending.length - 1];
     const outcome: StepEnd = end === 'stopped' ? 'stopped' : stepEnd(reason, condition !== null, last);
+    let nonFinite: { step: number; loss: number } | undefined;
+    if (outcome === 'non-finite' && last !== undefined && last.step > 0) {
+      // A non-finite state is never kept as the branch's tip (nor saved as its head): the branch
+      // goes back to the last finite state, as `stepwell run` reports it, and says what happened.
+      nonFinite = { step: last.step, loss: last.loss };
+      grove.rewind(name, last.step - 1);
+      if (grove.tip(name) > last.step - 1) cell.discard();
+      pending = pending.filter(r => r.step < last.step);
+    }
     this.post({
       id,
       kind: 'stepped',
       summary: cell.summary(),
+      ...(nonFinite !== undefined ? { nonFinite } : {}),
       records: sampleRecords(pending, REPLY_SAMPLE),
       sharpness: points,
       stopped: outcome === 'stopped',
@@ -346,6 +366,11 @@ export namespace EngineHost {
 }
 
 /** The protocol's reason for a finished run: the grove's reason, and whether the loss is still finite. */
+/** The message of a ledger above the size limit (setting `maxLedgerBytes`). */
+export function ledgerTooLarge(bytes: number, limit: number): string {
+  return `the ledger would take ${grouped(bytes)} bytes, above the limit of ${grouped(limit)} (setting maxLedgerBytes); nothing is lost: the session stays in memory. Delete branches, lower the checkpoint cap, or raise the limit, then act again to save`;
+}
+
 function stepEnd(reason: RunReason, hasCondition: boolean, last: StepRecord | undefined): StepEnd {
   switch (reason) {
     case 'max-steps':

@@ -21,6 +21,8 @@ export interface LedgerView {
   trajectory: StepRecord[];
   readouts: BranchReadouts;
   findings: Record<string, unknown>[];
+  /** UTF-8 size of the stored value's JSON, measured where it was read. */
+  bytes?: number;
 }
 
 /** Outcome of {@link viewLedger}: the view, or every problem located (field, branch, step) with the first few as `message`. */
@@ -42,7 +44,7 @@ export function viewLedger(value: unknown, limits?: SpecLimits): LedgerViewResul
   const opened = openLedger(value, branchExperiment(limits));
   if (!opened.ok) return { ok: false, message: summarizeProblems(opened.problems), problems: opened.problems, specText: opened.specText };
   try {
-    return { ok: true, view: describeLedger(opened.ledger, opened.branches, opened.experiments) };
+    return { ok: true, view: { ...describeLedger(opened.ledger, opened.branches, opened.experiments), bytes: new TextEncoder().encode(JSON.stringify(value)).length } };
   } catch (error) {
     const detail = (error as Error).message;
     return { ok: false, message: detail, problems: [{ field: 'ledger', detail, message: detail }], specText: opened.ledger.spec };

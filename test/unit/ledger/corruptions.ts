@@ -129,7 +129,7 @@ export const CORRUPTIONS: Corruption[] = [
   },
   {
     name: 'a constructor key among the optimizer scalars',
-    edit: (l) => { head(l).state.optimizer.scalars.constructor = 2; },
+    edit: (l) => { (head(l).state.optimizer.scalars as Record<string, unknown>)['constructor'] = 2; },
     field: /head\.state\.optimizer\.scalars/, detail: /'constructor'/, branch: main, step: headStep
   },
   {
