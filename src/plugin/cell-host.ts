@@ -3,6 +3,7 @@
  * Stepwell reads and writes a cell (source, our metadata key, outputs).
  */
 import type { ICodeCellModel } from '@jupyterlab/cells';
+import type { INotebookTracker } from '@jupyterlab/notebook';
 import type { IAttachments, IDisplayData } from '@jupyterlab/nbformat';
 import type { ISharedMarkdownCell, ISharedNotebook } from '@jupyter/ydoc';
 import type { PartialJSONObject, PartialJSONValue } from '@lumino/coreutils';
@@ -61,8 +62,22 @@ export function writeRecordCell(notebook: ISharedNotebook, cellId: string, recor
   });
 }
 
-/** Builds the cell host of a code-cell model. */
-export function cellHost(model: ICodeCellModel): CellHost {
+/** Marks the notebook that holds `model` dirty (JupyterLab then asks before a reload or close loses it). */
+export function markNotebookDirty(tracker: INotebookTracker | null, model: ICodeCellModel): void {
+  tracker?.forEach(panel => {
+    const nb = panel.model;
+    if (nb === null) return;
+    for (let i = 0; i < nb.cells.length; i++) {
+      if (nb.cells.get(i) === model) {
+        nb.dirty = true;
+        return;
+      }
+    }
+  });
+}
+
+/** Builds the cell host of a code-cell model; `tracker` finds its notebook (to mark it dirty). */
+export function cellHost(model: ICodeCellModel, tracker: INotebookTracker | null = null): CellHost {
   const notebook = (): ISharedNotebook => {
     const nb = model.sharedModel.notebook;
     if (nb === null) throw new Error('the stepwell cell is not in a notebook');
@@ -78,6 +93,7 @@ export function cellHost(model: ICodeCellModel): CellHost {
     writeRecord: record => writeRecordCell(notebook(), model.sharedModel.getId(), record),
     readSource: () => model.sharedModel.getSource(),
     readLedger: (): unknown => model.getMetadata(LEDGER_KEY),
+    markDirty: () => markNotebookDirty(tracker, model),
     hasOutput: () => model.outputs.length > 0 && isStepwellOutput(model.outputs.get(0).data),
     keepAside: (value: unknown): string => {
       model.setMetadata(UNREADABLE_KEY, { keptAt: new Date().toISOString(), value } as unknown as PartialJSONValue);

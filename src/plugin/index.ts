@@ -33,7 +33,9 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   description: 'Keeps one controller per stepwell cell and the user settings.',
   autoStart: true,
   provides: IStepwellCells,
-  activate: (): IStepwellCells => new StepwellCells(spawnEngine, cellHost, figureImage)
+  optional: [INotebookTracker],
+  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker | null): IStepwellCells =>
+    new StepwellCells(spawnEngine, model => cellHost(model, tracker), figureImage)
 };
 
 /** Runs stepwell cells in our engine and every other cell as JupyterLab would. */

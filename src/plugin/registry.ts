@@ -61,7 +61,12 @@ export class StepwellCells implements IStepwellCells {
     this.engine = engine;
     this.host = host;
     this.imageOf = imageOf;
-    this.glue = workerLedgerGlue(() => (this.reader ??= this.engine()));
+    this.glue = workerLedgerGlue(() => this.readerClient());
+  }
+
+  /** The page's one reader worker (ledgers opened, specs checked), started on first use. */
+  private readerClient(): EngineClient {
+    return (this.reader ??= this.engine());
   }
 
   /** True for code cells with our metadata key or the marker line. */
@@ -94,6 +99,10 @@ export class StepwellCells implements IStepwellCells {
       engine: this.engine,
       ledger: this.glue,
       checkSpec: text => checkSpec(text, this.settings.limits),
+      checkSpecLater: async text => {
+        const reply = await this.readerClient().request({ kind: 'check', specText: text, limits: this.settings.limits });
+        return reply.kind === 'checked' ? reply.errors : checkSpec(text, this.settings.limits);
+      },
       settings: () => this.settings,
       imageOf: this.imageOf
     });
@@ -102,7 +111,7 @@ export class StepwellCells implements IStepwellCells {
       if (timer !== null) clearTimeout(timer);
       timer = setTimeout(() => {
         timer = null;
-        if (!controller.isDisposed) controller.sourceChanged();
+        if (!controller.isDisposed) void controller.sourceChanged();
       }, CHECK_DELAY_MS);
     };
     model.contentChanged.connect(onContent);

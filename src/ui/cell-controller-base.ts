@@ -7,7 +7,7 @@
 import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
-import type { BranchReadouts, SessionSummary } from '../worker/protocol';
+import type { BranchReadouts, SessionSummary, SpecProblem } from '../worker/protocol';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
@@ -22,6 +22,12 @@ export interface ControllerDeps {
   engine: () => EngineClient;
   ledger: LedgerGlue;
   checkSpec: SpecChecker;
+  /**
+   * The same check off the page thread (the app's reader worker): used for the live check as the
+   * user types, so a spec with 10⁵ inline rows does not freeze the page per keystroke. Absent:
+   * `checkSpec` is used.
+   */
+  checkSpecLater?: (text: string) => Promise<SpecProblem[]>;
   settings: () => CellSettings;
   /** Turns a figure into an image for the decision record (plotly in the browser); absent: records carry no image. */
   imageOf?: (figure: Figure) => Promise<FigureImage | null>;
@@ -40,6 +46,8 @@ export abstract class ControllerBase {
   private disposedFlag = false;
   /** Counts ledger reads; only the newest one's answer is applied. */
   private readSeq = 0;
+  /** Counts live spec checks; only the newest one's answer is applied. */
+  private checkSeq = 0;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -127,12 +135,22 @@ export abstract class ControllerBase {
     this.deps.host.writeOutputs(null, unreadableMarkdown(this.st.ledgerMessage ?? 'unknown problem'));
   }
 
-  /** Re-checks the editor's text (call on source changes, debounced). */
-  sourceChanged(): void {
+  /**
+   * Re-checks the editor's text (call on source changes, debounced); in the worker when the
+   * deps offer it, where only the newest check's answer is applied.
+   */
+  sourceChanged(): Promise<void> {
     const source = this.deps.host.readSource();
-    this.set({
-      problems: this.deps.checkSpec(source),
-      specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec
+    const specEdited = this.st.sessionSpec !== null && source !== this.st.sessionSpec;
+    const later = this.deps.checkSpecLater;
+    if (later === undefined) {
+      this.set({ problems: this.deps.checkSpec(source), specEdited });
+      return Promise.resolve();
+    }
+    const seq = ++this.checkSeq;
+    this.set({ specEdited });
+    return later(source).then(problems => {
+      if (seq === this.checkSeq && !this.disposedFlag) this.set({ problems });
     });
   }
 

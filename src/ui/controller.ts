@@ -154,7 +154,13 @@ export class CellController extends BranchController {
     // Only the newest records are kept for the timing; a long run would otherwise hold all of them.
     const produced: StepRecord[] = [];
     this.set({ busy: { action, done: 0, total }, notice: null, verify: null, confirm: null });
+    let marked = false;
     const reply = await engine.request(body, p => {
+      // Steps exist that the notebook does not hold yet: a reload must ask (the ledger is written at the end).
+      if (!marked && p.records.length > 0) {
+        marked = true;
+        this.deps.host.markDirty?.();
+      }
       for (const r of p.records.slice(-RECENT_RECORDS)) produced.push(r);
       if (produced.length > 2 * RECENT_RECORDS) produced.splice(0, produced.length - RECENT_RECORDS);
       this.set({

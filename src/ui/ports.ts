@@ -23,6 +23,11 @@ export interface CellHost {
    * fallback. `summary` is null when no session exists yet (spec errors).
    */
   writeOutputs(summary: CellSummary | null, markdown: string): void;
+  /**
+   * Marks the notebook as changed (dirty) without writing anything: a long run has produced steps
+   * that are not saved yet, so a reload or close asks first. Optional.
+   */
+  markDirty?(): void;
   /** True when the cell already carries Stepwell's output (absent: assume it does). */
   hasOutput?(): boolean;
   /**

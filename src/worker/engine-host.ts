@@ -167,6 +167,11 @@ export class EngineHost {
       case 'open':
         this.post({ id, kind: 'opened', result: viewLedger(request.ledger, request.limits) });
         return;
+      case 'check': {
+        const parsed = this.core.parse(request.specText, request.limits);
+        this.post({ id, kind: 'checked', errors: parsed.ok ? [] : parsed.errors });
+        return;
+      }
       case 'ledger': {
         const cell = this.need().cell;
         const built = cell.ledger(request.specText, request.checkpointCap);

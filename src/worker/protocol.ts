@@ -170,6 +170,8 @@ export type EngineRequest =
    * page thread (`worker/ledger-view.ts`); the engine's own session is not touched.
    */
   | { id: number; kind: 'open'; ledger: unknown; limits?: SpecLimits }
+  /** Check spec text (the editor's, as the user types) without loading it: parsing 10⁵ inline rows takes seconds. */
+  | { id: number; kind: 'check'; specText: string; limits?: SpecLimits }
   /** `sharpnessEvery` > 0 also measures the sharpness every that many steps (and at the start). */
   | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
@@ -324,6 +326,8 @@ export type EngineReply =
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   /** What a stored ledger shows, or every problem that makes it unreadable (`open`). */
   | { id: number; kind: 'opened'; result: LedgerViewResult }
+  /** The problems of checked spec text (empty when it parses). */
+  | { id: number; kind: 'checked'; errors: SpecProblem[] }
   | { id: number; kind: 'failed'; message: string };
 
 /** Kinds of {@link EngineReply}. */
@@ -354,6 +358,7 @@ export function isFinalReply(reply: EngineReply): boolean {
 const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'load',
   'open',
+  'check',
   'step',
   'run-until',
   'reset',
@@ -408,6 +413,8 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('checkpointEvery') ?? limitsProblem(r.limits);
     case 'open':
       return limitsProblem(r.limits);
+    case 'check':
+      return typeof r.specText !== 'string' ? 'request.specText must be a string' : limitsProblem(r.limits);
     case 'step':
       return positiveInt('n') ?? (r.sharpnessEvery === undefined ? null : positiveInt('sharpnessEvery'));
     case 'run-until':
