@@ -76,8 +76,8 @@ export function markNotebookDirty(tracker: INotebookTracker | null, model: ICode
   });
 }
 
-/** Builds the cell host of a code-cell model; `tracker` finds its notebook (to mark it dirty). */
-export function cellHost(model: ICodeCellModel, tracker: INotebookTracker | null = null): CellHost {
+/** Builds the cell host of a code-cell model; `tracker()` finds its notebook (to mark it dirty). */
+export function cellHost(model: ICodeCellModel, tracker: () => INotebookTracker | null = () => null): CellHost {
   const notebook = (): ISharedNotebook => {
     const nb = model.sharedModel.notebook;
     if (nb === null) throw new Error('the stepwell cell is not in a notebook');
@@ -93,7 +93,7 @@ export function cellHost(model: ICodeCellModel, tracker: INotebookTracker | null
     writeRecord: record => writeRecordCell(notebook(), model.sharedModel.getId(), record),
     readSource: () => model.sharedModel.getSource(),
     readLedger: (): unknown => model.getMetadata(LEDGER_KEY),
-    markDirty: () => markNotebookDirty(tracker, model),
+    markDirty: () => markNotebookDirty(tracker(), model),
     hasOutput: () => model.outputs.length > 0 && isStepwellOutput(model.outputs.get(0).data),
     keepAside: (value: unknown): string => {
       model.setMetadata(UNREADABLE_KEY, { keptAt: new Date().toISOString(), value } as unknown as PartialJSONValue);

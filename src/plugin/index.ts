@@ -33,9 +33,12 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   description: 'Keeps one controller per stepwell cell and the user settings.',
   autoStart: true,
   provides: IStepwellCells,
-  optional: [INotebookTracker],
-  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker | null): IStepwellCells =>
-    new StepwellCells(spawnEngine, model => cellHost(model, tracker), figureImage)
+  // The notebook tracker cannot be required here (it needs the cell executor, which needs this
+  // registry); the open-check plugin hands it over once it exists, for marking notebooks dirty.
+  activate: (): IStepwellCells => {
+    const cells: StepwellCells = new StepwellCells(spawnEngine, model => cellHost(model, () => cells.tracker), figureImage);
+    return cells;
+  }
 };
 
 /** Runs stepwell cells in our engine and every other cell as JupyterLab would. */
@@ -128,7 +131,10 @@ const openCheckPlugin: JupyterFrontEndPlugin<void> = {
   description: 'Reads the ledgers of stepwell cells without outputs when a notebook opens, so an unreadable one is shown in its cell.',
   autoStart: true,
   requires: [INotebookTracker, IStepwellCells],
-  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells): void => followOpenedNotebooks(tracker, cells)
+  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells): void => {
+    (cells as StepwellCells).tracker = tracker;
+    followOpenedNotebooks(tracker, cells);
+  }
 };
 
 const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, openCheckPlugin];

@@ -4,6 +4,7 @@
  * (debounced live spec check) and end with it.
  */
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
+import type { INotebookTracker } from '@jupyterlab/notebook';
 import { MAGIC_LINE, parseSpec } from '../experiment';
 import { CellController, type ControllerDeps } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
@@ -44,6 +45,8 @@ export class StepwellCells implements IStepwellCells {
   private readonly controllers = new Map<ICellModel, CellController>();
   private readonly engine: () => EngineClient;
   private readonly host: (model: ICodeCellModel) => CellHost;
+  /** The notebook tracker, once the plugin that has it hands it over (used to mark notebooks dirty). */
+  tracker: INotebookTracker | null = null;
   /** The current settings (replaced when the user changes them). */
   settings: CellSettings = { ...DEFAULT_SETTINGS };
 
