@@ -9,7 +9,7 @@ import { readFileSync } from 'fs';
 import { join } from 'path';
 import { fingerprintState } from '../../../src/core/session';
 import type { SessionState } from '../../../src/core/state';
-import { base64FromFloat64, base64FromInt32, decodeSessionState, decodeTrajectory, encodeSessionState, encodeTrajectory, sha256Hex } from '../../../src/ledger';
+import { base64FromFloat64, decodeSessionState, decodeTrajectory, encodeSessionState, encodeTrajectory, sha256Hex } from '../../../src/ledger';
 
 /** A ledger as plain JSON. */
 export type Raw = Record<string, unknown> & { branches: RawBranch[] };
@@ -57,10 +57,6 @@ export function sources(): { name: string; raw: Raw }[] {
   }
   return out;
 }
-
-const refingerprint = (c: RawCheckpoint, p: number): void => {
-  c.fingerprint = fingerprintState(decodeSessionState(c.state, 'state', p));
-};
 
 /** Decodes, edits and re-encodes a saved state, with a fresh fingerprint. */
 export function editState(l: Raw, c: RawCheckpoint, fn: (s: SessionState) => void): void {
@@ -336,4 +332,3 @@ function refingerprintRaw(l: Raw, c: RawCheckpoint): void {
   c.fingerprint = fingerprintState(s);
 }
 
-export { base64FromInt32, refingerprint };
