@@ -110,7 +110,8 @@ export abstract class ControllerBase {
     const seq = ++this.readSeq;
     this.content = null;
     this.engineInSync = false;
-    const read = this.deps.ledger.read(raw, this.deps.settings().limits);
+    // Nothing stored: nothing to read (and nothing to wait for before a first run).
+    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits);
     if (!(read instanceof Promise)) {
       this.applyRead(read, raw);
       return Promise.resolve();
