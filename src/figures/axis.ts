@@ -92,7 +92,8 @@ export function dataRange(values: readonly number[], axis: AxisLayout, pad: bool
       a -= p;
       b += p;
     }
-    return { lo: Math.pow(10, a), hi: Math.pow(10, b) };
+    // Padding past the largest double would make the range (and a tick loop over its decades) infinite.
+    return { lo: Math.max(Math.pow(10, a), Number.MIN_VALUE), hi: Math.min(Math.pow(10, b), Number.MAX_VALUE) };
   }
   if (axis.rangemode === 'tozero') {
     lo = Math.min(0, lo);
@@ -104,7 +105,7 @@ export function dataRange(values: readonly number[], axis: AxisLayout, pad: bool
   }
   if (pad) {
     const p = (hi - lo) * 0.05;
-    return { lo: axis.rangemode === 'tozero' && lo === 0 ? 0 : lo - p, hi: hi + p };
+    return { lo: axis.rangemode === 'tozero' && lo === 0 ? 0 : Math.max(lo - p, -Number.MAX_VALUE), hi: Math.min(hi + p, Number.MAX_VALUE) };
   }
   return { lo, hi };
 }
@@ -122,7 +123,8 @@ export function makeScale(axis: AxisLayout, range: Range, p0: number, p1: number
     const decades = b - a;
     const every = Math.max(1, Math.ceil(decades / 8));
     const ticks: number[] = [];
-    for (let e = Math.floor(a); e <= Math.ceil(b); e++) {
+    // Doubles span about 632 decades: the bound keeps a range that is not finite from looping forever.
+    for (let e = Math.max(Math.floor(a), -400); e <= Math.min(Math.ceil(b), 400); e++) {
       const mults = decades < 2.5 ? [1, 2, 5] : e % every === 0 ? [1] : [];
       for (const m of mults) {
         const v = m * Math.pow(10, e);

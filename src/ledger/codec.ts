@@ -48,6 +48,15 @@ function int(v: unknown, field: string, max = Number.MAX_SAFE_INTEGER): number {
   return v;
 }
 
+/** Names an object's own key may not have in a decoded record: they reach or shadow `Object.prototype`. */
+export const FORBIDDEN_KEYS: readonly string[] = ['__proto__', 'constructor', 'prototype'];
+
+/** Returns `k` when it is an allowed record key, else throws naming the record. */
+function safeKey(k: string, field: string): string {
+  if (FORBIDDEN_KEYS.includes(k)) throw new LedgerError(field, `has a key named '${k}', which no optimizer state holds (a prototype key); the ledger was edited or damaged`);
+  return k;
+}
+
 /** Encodes a session state (arrays copied into base64; the input is not kept). */
 export function encodeSessionState(s: SessionState): EncodedSessionState {
   const buffers: Record<string, string> = {};
@@ -76,19 +85,25 @@ export function decodeSessionState(e: unknown, field = 'state', parameterCount?:
   if (typeof opt.kind !== 'string' || !(OPTIMIZERS as readonly string[]).includes(opt.kind))
     throw new LedgerError(`${field}.optimizer.kind`, `expected one of ${OPTIMIZERS.join(', ')}, got ${JSON.stringify(opt.kind)}`);
   const rawBuffers = need(opt.buffers, `${field}.optimizer.buffers`);
-  const buffers: Record<string, Float64Array> = {};
-  for (const k of Object.keys(rawBuffers)) buffers[k] = float64FromBase64(rawBuffers[k], `${field}.optimizer.buffers.${k}`);
+  // Null-prototype records, and names checked first: a key such as `__proto__` must neither
+  // reach a prototype nor vanish from what the fingerprint covers.
+  const buffers = Object.create(null) as Record<string, Float64Array>;
+  for (const k of Object.keys(rawBuffers)) buffers[safeKey(k, `${field}.optimizer.buffers`)] = float64FromBase64(rawBuffers[k], `${field}.optimizer.buffers.${k}`);
   const rawScalars = need(opt.scalars, `${field}.optimizer.scalars`);
-  const scalars: Record<string, number> = {};
-  for (const k of Object.keys(rawScalars)) scalars[k] = decodeScalar(rawScalars[k], `${field}.optimizer.scalars.${k}`);
+  const scalars = Object.create(null) as Record<string, number>;
+  for (const k of Object.keys(rawScalars)) scalars[safeKey(k, `${field}.optimizer.scalars`)] = decodeScalar(rawScalars[k], `${field}.optimizer.scalars.${k}`);
   const rng = need(o.rng, `${field}.rng`);
   if (!Array.isArray(rng.s) || rng.s.length !== 4) throw new LedgerError(`${field}.rng.s`, 'expected a list of 4 unsigned 32-bit integers');
   const words = rng.s.map((w, i) => int(w, `${field}.rng.s[${i}]`, 4294967295)) as [number, number, number, number];
+  // source: Blackman & Vigna, "Scrambled linear pseudorandom number generators" (2021): the all-zero state of xoshiro is a fixed point.
+  if (words.every((w) => w === 0)) throw new LedgerError(`${field}.rng.s`, 'is all zero, a state the generator never leaves (every later draw would be 0); the ledger was edited or damaged');
+  const spare = rng.spare === null ? null : decodeScalar(rng.spare, `${field}.rng.spare`);
+  if (spare !== null && !Number.isFinite(spare)) throw new LedgerError(`${field}.rng.spare`, `is ${spare}, but a spare normal draw is always a finite number; the ledger was edited or damaged`);
   return {
     step: int(o.step, `${field}.step`),
     params: float64FromBase64(o.params, `${field}.params`, parameterCount),
     optimizer: { kind: opt.kind as OptimizerName, t: int(opt.t, `${field}.optimizer.t`), buffers, scalars },
-    rng: { s: words, spare: rng.spare === null ? null : decodeScalar(rng.spare, `${field}.rng.spare`) },
+    rng: { s: words, spare },
     epoch: int(o.epoch, `${field}.epoch`),
     cursor: int(o.cursor, `${field}.cursor`),
     order: o.order === null ? null : int32FromBase64(o.order, `${field}.order`),

@@ -16,5 +16,7 @@ export type { DecodedBranch, LedgerInput } from './compose';
 export { sha256Hex } from './hash';
 export { capSharpness, decodeFindings, decodeLoose, decodeReadouts, encodeFindings, encodeLoose, encodeReadouts, MAX_FINDINGS_PER_BRANCH, MAX_READOUT_BYTES } from './readouts';
 export type { DecodedReadouts, ReadoutsInput } from './readouts';
-export { groveFromLedger } from './restore';
+export { groveFromLedger, groveFromOpened } from './restore';
 export type { RestoredGrove } from './restore';
+export { LedgerOpenError, locate, openLedger, prototypeProblem, summarizeProblems } from './open';
+export type { ExperimentMaker, LedgerProblem } from './open';

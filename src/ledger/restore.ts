@@ -43,6 +43,19 @@ export function groveFromLedger(ledger: Ledger, experimentOf: ExperimentOf, chec
   return { grove: Grove.restore({ branches: snapshots }, { ...options, checkpointEvery }), branches, chains };
 }
 
+/**
+ * Rebuilds the grove of a ledger {@link openLedger} accepted, from the branches and experiments
+ * it already decoded and checked (nothing is decoded twice).
+ */
+export function groveFromOpened(opened: { branches: DecodedBranch[]; experiments: Experiment[] }, checkpointEvery: number, options: GroveOptions = {}): RestoredGrove {
+  const chains = new Map<string, SpecPatch[]>();
+  const snapshots = opened.branches.map((b, i) => {
+    chains.set(b.name, b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : []);
+    return branchSnapshot(b, opened.experiments[i], checkpointEvery);
+  });
+  return { grove: Grove.restore({ branches: snapshots }, { ...options, checkpointEvery }), branches: opened.branches, chains };
+}
+
 /** A grove snapshot of one decoded ledger branch (cursor from its checkpoint; the head as the tip). */
 export function branchSnapshot(b: DecodedBranch, experiment: Experiment, checkpointEvery: number): BranchSnapshot {
   const saved = [...b.checkpoints, b.head];

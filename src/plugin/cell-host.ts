@@ -3,12 +3,14 @@
  * Stepwell reads and writes a cell (source, our metadata key, outputs).
  */
 import type { ICodeCellModel } from '@jupyterlab/cells';
+import type { INotebookTracker } from '@jupyterlab/notebook';
 import type { IAttachments, IDisplayData } from '@jupyterlab/nbformat';
 import type { ISharedMarkdownCell, ISharedNotebook } from '@jupyter/ydoc';
 import type { PartialJSONObject, PartialJSONValue } from '@lumino/coreutils';
 import type { CellHost, RecordCell } from '../ui/ports';
 import { RECORD_KEY } from '../ui/decision-record';
 import { LEDGER_KEY } from '../ui/ledger-glue';
+import { UNREADABLE_KEY } from '../ui/controller';
 import type { CellSummary } from '../ui/summary';
 import { STEPWELL_MIME } from '../ui/summary';
 
@@ -60,11 +62,26 @@ export function writeRecordCell(notebook: ISharedNotebook, cellId: string, recor
   });
 }
 
+/** Marks the notebook that holds `model` dirty (JupyterLab then asks before a reload or close loses it). */
+export function markNotebookDirty(tracker: INotebookTracker | null, model: ICodeCellModel): void {
+  tracker?.forEach(panel => {
+    const nb = panel.model;
+    if (nb === null) return;
+    for (let i = 0; i < nb.cells.length; i++) {
+      if (nb.cells.get(i) === model) {
+        nb.dirty = true;
+        return;
+      }
+    }
+  });
+}
+
 /**
  * Builds the cell host of a code-cell model.
  * @param readFiles - reads the files the spec names relative to the notebook (absent: none are read).
+ * @param tracker - finds the cell's notebook (to mark it dirty during long runs).
  */
-export function cellHost(model: ICodeCellModel, readFiles?: CellHost['readFiles']): CellHost {
+export function cellHost(model: ICodeCellModel, readFiles?: CellHost['readFiles'], tracker: () => INotebookTracker | null = () => null): CellHost {
   const notebook = (): ISharedNotebook => {
     const nb = model.sharedModel.notebook;
     if (nb === null) throw new Error('the stepwell cell is not in a notebook');
@@ -81,6 +98,12 @@ export function cellHost(model: ICodeCellModel, readFiles?: CellHost['readFiles'
     writeRecord: record => writeRecordCell(notebook(), model.sharedModel.getId(), record),
     readSource: () => model.sharedModel.getSource(),
     readLedger: (): unknown => model.getMetadata(LEDGER_KEY),
+    markDirty: () => markNotebookDirty(tracker(), model),
+    hasOutput: () => model.outputs.length > 0 && isStepwellOutput(model.outputs.get(0).data),
+    keepAside: (value: unknown): string => {
+      model.setMetadata(UNREADABLE_KEY, { keptAt: new Date().toISOString(), value } as unknown as PartialJSONValue);
+      return UNREADABLE_KEY;
+    },
     writeLedger: (value: object) => model.setMetadata(LEDGER_KEY, value),
     writeOutputs: (summary, markdown) => {
       const output = stepwellOutput(summary, markdown);

@@ -10,6 +10,7 @@ import { IRenderMimeRegistry } from '@jupyterlab/rendermime';
 import { ISettingRegistry } from '@jupyterlab/settingregistry';
 import type { CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
+import { LIMIT_NAMES } from '../experiment/limits';
 import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
@@ -23,6 +24,7 @@ import { followCellLanguage } from './cell-language';
 import { loadMagicInKernel } from './kernel';
 import { addTakeDataCommand } from './take-command';
 import { addAboutCommand } from './about';
+import { followOpenedNotebooks } from './open-check';
 
 /** The id of the plugin that owns schema/plugin.json (settings, toolbar, shortcuts). */
 export const SETTINGS_PLUGIN_ID = 'stepwell:plugin';
@@ -35,10 +37,11 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
   provides: IStepwellCells,
   activate: (app: JupyterFrontEnd): IStepwellCells => {
     // The notebook tracker cannot be required here (it needs the cell executor, which needs this
-    // plugin); the commands plugin hands over the path lookup once the tracker exists.
+    // plugin); the commands plugin hands over the path lookup and the open-check plugin the
+    // tracker (for marking notebooks dirty) once it exists.
     const cells: StepwellCells = new StepwellCells(
       spawnEngine,
-      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model))),
+      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model)), () => cells.tracker),
       figureImage
     );
     return cells;
@@ -92,9 +95,13 @@ async function followSettings(registry: ISettingRegistry, cells: StepwellCells):
   try {
     const settings = await registry.load(SETTINGS_PLUGIN_ID);
     const apply = (): void => {
-      const c = settings.composite as Partial<Record<keyof CellSettings, unknown>>;
-      const pick = (k: keyof CellSettings): number => (typeof c[k] === 'number' ? (c[k] as number) : DEFAULT_SETTINGS[k]);
+      const c = settings.composite as Partial<Record<string, unknown>>;
+      const pick = (k: Exclude<keyof CellSettings, 'limits'>): number => (typeof c[k] === 'number' ? (c[k] as number) : DEFAULT_SETTINGS[k]);
+      const limits = { ...DEFAULT_SETTINGS.limits };
+      for (const k of LIMIT_NAMES) if (typeof c[k] === 'number' && Number.isSafeInteger(c[k]) && (c[k] as number) >= 1) limits[k] = c[k] as number;
       cells.settings = {
+        limits,
+        maxLedgerBytes: pick('maxLedgerBytes'),
         defaultN: pick('defaultN'),
         checkpointEvery: pick('checkpointEvery'),
         checkpointCap: pick('checkpointCap'),
@@ -137,5 +144,17 @@ const aboutPlugin: JupyterFrontEndPlugin<void> = {
   activate: (app: JupyterFrontEnd, palette: ICommandPalette | null): void => addAboutCommand(app, palette)
 };
 
-const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, aboutPlugin];
+/** Shows unreadable ledgers of stepwell cells that have no output when a notebook opens. */
+const openCheckPlugin: JupyterFrontEndPlugin<void> = {
+  id: 'stepwell:open-check',
+  description: 'Reads the ledgers of stepwell cells without outputs when a notebook opens, so an unreadable one is shown in its cell.',
+  autoStart: true,
+  requires: [INotebookTracker, IStepwellCells],
+  activate: (_app: JupyterFrontEnd, tracker: INotebookTracker, cells: IStepwellCells): void => {
+    (cells as StepwellCells).tracker = tracker;
+    followOpenedNotebooks(tracker, cells);
+  }
+};
+
+const plugins: JupyterFrontEndPlugin<unknown>[] = [cellsPlugin, executorPlugin, rendererPlugin, commandsPlugin, kernelPlugin, aboutPlugin, openCheckPlugin];
 export default plugins;

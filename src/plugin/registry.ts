@@ -4,11 +4,14 @@
  * (debounced live spec check) and end with it.
  */
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
+import type { INotebookTracker } from '@jupyterlab/notebook';
 import { MAGIC_LINE, parseSpec } from '../experiment';
 import { CellController, type ControllerDeps } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
-import { LEDGER_KEY, ledgerGlue } from '../ui/ledger-glue';
+import { LEDGER_KEY, workerLedgerGlue } from '../ui/ledger-glue';
+import type { LedgerGlue } from '../ui/ports';
+import type { SpecLimits } from '../experiment/limits';
 import type { EngineClient } from '../worker/client';
 import type { SpecProblem } from '../worker/protocol';
 import type { IStepwellCells } from './tokens';
@@ -29,12 +32,12 @@ export function hasMarker(source: string): boolean {
 }
 
 /**
- * The live spec check: every error of the parser (warnings are shown after a run). Files the
- * spec names are not read here (that happens when the engine starts, with the problems of
- * reading them placed at their keys).
+ * The live spec check: every error of the parser (warnings are shown after a run), under
+ * `limits`. Files the spec names are not read here (that happens when the engine starts, with
+ * the problems of reading them placed at their keys).
  */
-export function checkSpec(text: string): SpecProblem[] {
-  const r = parseSpec(text, 'auto', { deferFiles: true });
+export function checkSpec(text: string, limits?: SpecLimits): SpecProblem[] {
+  const r = parseSpec(text, 'auto', { deferFiles: true, ...(limits === undefined ? {} : { limits }) });
   return r.ok ? [] : r.errors;
 }
 
@@ -46,12 +49,17 @@ export class StepwellCells implements IStepwellCells {
   private readonly controllers = new Map<ICellModel, CellController>();
   private readonly engine: () => EngineClient;
   private readonly host: (model: ICodeCellModel) => CellHost;
+  /** The notebook tracker, once the plugin that has it hands it over (used to mark notebooks dirty). */
+  tracker: INotebookTracker | null = null;
   /** The current settings (replaced when the user changes them). */
   settings: CellSettings = { ...DEFAULT_SETTINGS };
   /** Finds the path of the notebook a cell model is in (set once the notebook tracker exists). */
   findNotebookPath: ((model: ICodeCellModel) => string | null) | null = null;
 
   private readonly imageOf: ControllerDeps['imageOf'];
+  /** One worker for the page that opens stored ledgers (started on the first read). */
+  private reader: EngineClient | null = null;
+  private readonly glue: LedgerGlue;
 
   /**
    * @param engine - starts an engine for a new controller.
@@ -62,6 +70,12 @@ export class StepwellCells implements IStepwellCells {
     this.engine = engine;
     this.host = host;
     this.imageOf = imageOf;
+    this.glue = workerLedgerGlue(() => this.readerClient());
+  }
+
+  /** The page's one reader worker (ledgers opened, specs checked), started on first use. */
+  private readerClient(): EngineClient {
+    return (this.reader ??= this.engine());
   }
 
   /** The contents path of the notebook holding `model`, or null when it is not known. */
@@ -97,8 +111,12 @@ export class StepwellCells implements IStepwellCells {
     const controller = new CellController({
       host,
       engine: this.engine,
-      ledger: ledgerGlue,
-      checkSpec,
+      ledger: this.glue,
+      checkSpec: text => checkSpec(text, this.settings.limits),
+      checkSpecLater: async text => {
+        const reply = await this.readerClient().request({ kind: 'check', specText: text, limits: this.settings.limits });
+        return reply.kind === 'checked' ? reply.errors : checkSpec(text, this.settings.limits);
+      },
       settings: () => this.settings,
       imageOf: this.imageOf
     });
@@ -107,13 +125,13 @@ export class StepwellCells implements IStepwellCells {
       if (timer !== null) clearTimeout(timer);
       timer = setTimeout(() => {
         timer = null;
-        if (!controller.isDisposed) controller.sourceChanged();
+        if (!controller.isDisposed) void controller.sourceChanged();
       }, CHECK_DELAY_MS);
     };
     model.contentChanged.connect(onContent);
     const onMetadata = (_: ICellModel, change: { key: string }): void => {
       if (change.key === LEDGER_KEY && !writing && !controller.isDisposed && controller.state.busy === null) {
-        controller.readLedger();
+        void controller.readLedger();
       }
     };
     model.metadataChanged.connect(onMetadata);

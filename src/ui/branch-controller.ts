@@ -215,8 +215,13 @@ export abstract class BranchController extends ControllerBase {
         return this.discardLater(true);
       case 'replace-record':
         return this.writeDecisionRecord(c.question, c.chosen, true);
+      case 'replace-ledger':
+        return this.replaceUnreadable(false);
     }
   }
+
+  /** Replaces an unreadable ledger with a new session, keeping a copy of it when asked. */
+  abstract replaceUnreadable(keepCopy: boolean): Promise<boolean>;
 
   /** Starts over from the editor's text without asking (after a confirmation). */
   protected abstract resetConfirmed(): Promise<boolean>;

@@ -126,13 +126,19 @@ export function recordForm(branches: readonly BranchInfo[], chosen: string, onWr
   return form;
 }
 
-/** The bar asking before work is lost: the question, then Yes / Keep. */
-export function confirmBar(c: Confirmation, onYes: () => void, onNo: () => void): HTMLElement {
+/**
+ * The bar asking before work is lost: the question, then Yes / Keep; replacing an unreadable
+ * ledger also offers to keep a copy of it first (`onKeepCopy`).
+ */
+export function confirmBar(c: Confirmation, onYes: () => void, onNo: () => void, onKeepCopy?: () => void): HTMLElement {
   const bar = el('div', 'sw-Confirm');
   bar.setAttribute('role', 'alertdialog');
   bar.setAttribute('aria-label', 'Confirm');
-  const yes = button(c.kind === 'replace-record' ? 'Replace' : c.kind === 'reset' ? 'Start over' : c.kind === 'delete' ? 'Delete' : 'Discard', 'Go ahead', onYes, 'sw-Button-confirm');
-  const no = button('Keep', 'Do nothing', onNo, 'sw-Button-keep');
-  bar.append(el('span', 'sw-ConfirmText', c.text), yes, no);
+  const yes = button(c.kind === 'replace-record' ? 'Replace' : c.kind === 'reset' || c.kind === 'replace-ledger' ? 'Start over' : c.kind === 'delete' ? 'Delete' : 'Discard', 'Go ahead', onYes, 'sw-Button-confirm');
+  const no = button(c.kind === 'replace-ledger' ? 'Cancel' : 'Keep', 'Do nothing', onNo, 'sw-Button-keep');
+  bar.append(el('span', 'sw-ConfirmText', c.text));
+  if (c.kind === 'replace-ledger' && c.canKeep && onKeepCopy !== undefined)
+    bar.append(button('Keep a copy, start over', 'Move the unreadable ledger to another metadata key of this cell, then start over', onKeepCopy, 'sw-Button-keepCopy'));
+  bar.append(yes, no);
   return bar;
 }

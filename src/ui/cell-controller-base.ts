@@ -7,12 +7,12 @@
 import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
-import type { BranchReadouts, SessionSummary, SpecFilesPayload } from '../worker/protocol';
+import type { BranchReadouts, SessionSummary, SpecFilesPayload, SpecProblem } from '../worker/protocol';
 import { cellFileNames } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
-import type { CellHost, CellSettings, LedgerContent, LedgerGlue, SpecChecker } from './ports';
-import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine } from './summary';
+import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -23,6 +23,12 @@ export interface ControllerDeps {
   engine: () => EngineClient;
   ledger: LedgerGlue;
   checkSpec: SpecChecker;
+  /**
+   * The same check off the page thread (the app's reader worker): used for the live check as the
+   * user types, so a spec with 10⁵ inline rows does not freeze the page per keystroke. Absent:
+   * `checkSpec` is used.
+   */
+  checkSpecLater?: (text: string) => Promise<SpecProblem[]>;
   settings: () => CellSettings;
   /** Turns a figure into an image for the decision record (plotly in the browser); absent: records carry no image. */
   imageOf?: (figure: Figure) => Promise<FigureImage | null>;
@@ -41,6 +47,10 @@ export abstract class ControllerBase {
   private disposedFlag = false;
   /** The text whose problems the engine reported (reading its files); null when the shown problems are the live check's. */
   private engineChecked: string | null = null;
+  /** Counts ledger reads; only the newest one's answer is applied. */
+  private readSeq = 0;
+  /** Counts live spec checks; only the newest one's answer is applied. */
+  private checkSeq = 0;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -92,31 +102,69 @@ export abstract class ControllerBase {
     this.notice(level, text);
   }
 
-  /** Reads (or re-reads) the ledger from the cell, without touching the engine. */
-  readLedger(): void {
+  /**
+   * Reads (or re-reads) the ledger from the cell, without touching the engine. In the app the
+   * ledger is checked in a worker: until it answers the cell shows `reading`, and a newer read
+   * supersedes an older one. An unreadable ledger in a cell without our output gets an output
+   * saying so (the metadata itself is never changed here).
+   *
+   * @returns a promise that settles when the read was applied.
+   */
+  readLedger(): Promise<void> {
     const raw = this.deps.host.readLedger();
-    const read = this.deps.ledger.read(raw);
+    const seq = ++this.readSeq;
+    this.content = null;
+    this.engineInSync = false;
+    // Nothing stored: nothing to read (and nothing to wait for before a first run).
+    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits);
+    if (!(read instanceof Promise)) {
+      this.applyRead(read, raw);
+      return Promise.resolve();
+    }
+    this.set({ ledger: 'reading', ledgerMessage: undefined, summary: null, trajectory: [], notice: { level: 'info', text: 'Reading the saved ledger…' } });
+    return read.then(r => {
+      if (seq === this.readSeq && !this.disposedFlag) this.applyRead(r, raw);
+    });
+  }
+
+  private applyRead(read: LedgerRead, raw: unknown): void {
     this.content = read.kind === 'ok' ? read.content : null;
     this.engineInSync = false;
     const view = viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
     this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
+    if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
+  }
+
+  /** Writes an output that says the ledger cannot be read (so a cell without outputs shows it). */
+  protected writeUnreadable(): void {
+    this.deps.host.writeOutputs(null, unreadableMarkdown(this.st.ledgerMessage ?? 'unknown problem'));
   }
 
   /**
-   * Re-checks the editor's text (call on source changes, debounced). A change that leaves the text
-   * as it was (outputs or metadata written) keeps the problems shown: the engine's problems with the
-   * files the text names stay until the text itself changes.
+   * Re-checks the editor's text (call on source changes, debounced); in the worker when the
+   * deps offer it, where only the newest check's answer is applied. A change that leaves the text
+   * as it was (outputs or metadata written) keeps the problems shown: the engine's problems with
+   * the files the text names stay until the text itself changes.
    */
-  sourceChanged(): void {
+  sourceChanged(): Promise<void> {
     const source = this.deps.host.readSource();
     const specEdited = this.st.sessionSpec !== null && source !== this.st.sessionSpec;
     if (source === this.engineChecked) {
       this.set({ specEdited });
-      return;
+      return Promise.resolve();
     }
     this.engineChecked = null;
-    this.set({ problems: this.deps.checkSpec(source), specEdited });
+    const later = this.deps.checkSpecLater;
+    if (later === undefined) {
+      this.set({ problems: this.deps.checkSpec(source), specEdited });
+      return Promise.resolve();
+    }
+    const seq = ++this.checkSeq;
+    this.set({ specEdited });
+    return later(source).then(problems => {
+      if (seq === this.checkSeq && !this.disposedFlag && this.engineChecked === null) this.set({ problems });
+    });
   }
 
   /** Opens or closes an inline form. */
@@ -172,7 +220,7 @@ export abstract class ControllerBase {
     const engine = this.ensureEngine();
     this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
     const { payload, transfer } = await this.readFiles(cellFileNames(source));
-    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, ...payload }, undefined, transfer);
+    const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, limits: this.deps.settings().limits, ...payload }, undefined, transfer);
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {
       this.engineChecked = source;
@@ -218,7 +266,7 @@ export abstract class ControllerBase {
       return null;
     }
     const { payload, transfer } = await this.readFiles(c.files);
-    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, ...payload }, undefined, transfer);
+    const reply = await engine.request({ kind: 'load', specText: c.specText, checkpointEvery: this.deps.settings().checkpointEvery, resume: c.raw, limits: this.deps.settings().limits, ...payload }, undefined, transfer);
     if (reply.kind === 'spec-errors') {
       // Problems of the saved spec (a file changed or unreadable) sit at their keys, like the live check's.
       this.engineChecked = this.deps.host.readSource();
@@ -282,9 +330,12 @@ export abstract class ControllerBase {
     const engine = this.engine;
     const specText = this.st.sessionSpec;
     if (engine === null || specText === null) return false;
-    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap });
+    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap, maxBytes: this.deps.settings().maxLedgerBytes });
     if (reply.kind === 'failed') {
-      this.notice('error', `The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
+      // Keep the notice of the action (e.g. a non-finite loss) and add why nothing was saved.
+      const before = this.st.notice !== null && this.st.notice.level !== 'info' ? `${this.st.notice.text} ` : '';
+      this.notice('error', `${before}The ledger was not written (the notebook keeps the previous one): ${reply.message}`);
+      this.writeOutputs();
       return false;
     }
     if (reply.kind !== 'ledger') return this.failed(reply);

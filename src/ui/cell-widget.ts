@@ -92,7 +92,7 @@ export class StepwellCellWidget extends Widget {
     add('rewind', 'Go to step…', 'Go back (or forward) to a checkpoint or any recorded step; later steps are kept', () => c.setForm(c.state.form === 'rewind' ? null : 'rewind'));
     add('reset', 'Reset…', 'Start again at step 0 from the spec text (asks before discarding steps or branches)', () => void c.reset());
     add('verify', 'Verify', 'Replay every branch from the seed and compare bit for bit', () => void c.verify());
-    add('start', 'Start over', 'Replace the unreadable ledger with a new session from the spec', () => void c.run(true));
+    add('start', 'Start over…', 'Replace the unreadable ledger with a new session from the spec (asks first, and can keep a copy)', () => void c.reset());
     this.controlsNode.append(
       this.buttons.step, this.buttons.stepN, this.nInput, this.buttons.until, this.buttons.rewind,
       this.buttons.reset, this.buttons.verify, this.buttons.start
@@ -122,7 +122,7 @@ export class StepwellCellWidget extends Widget {
     const many = (s.summary?.branches.length ?? 0) > 1;
     this.statusNode.textContent =
       s.summary === null
-        ? s.ledger === 'corrupt' ? 'unreadable ledger' : 'no session yet: run the cell (Shift+Enter)'
+        ? s.ledger === 'corrupt' ? 'unreadable ledger' : s.ledger === 'reading' ? 'reading the saved ledger…' : 'no session yet: run the cell (Shift+Enter)'
         : `${statusLine({ step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
           `${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
           (s.specEdited ? ' · previous spec' : '');
@@ -188,7 +188,7 @@ export class StepwellCellWidget extends Widget {
     this.renderedConfirm = key;
     const c = this.controller;
     if (s.confirm === null) return replaceChildren(this.confirmNode, []);
-    const bar = confirmBar(s.confirm, () => void c.confirm(), () => c.cancelConfirm());
+    const bar = confirmBar(s.confirm, () => void c.confirm(), () => c.cancelConfirm(), () => void c.replaceUnreadable(true));
     replaceChildren(this.confirmNode, [bar]);
     bar.querySelector<HTMLButtonElement>('.sw-Button-keep')?.focus();
   }

@@ -23,6 +23,9 @@ import { conditionProblem, conditionText } from './forms';
 
 export type { ControllerDeps } from './branch-controller';
 
+/** The metadata key under which "Keep a copy" moves an unreadable ledger. */
+export const UNREADABLE_KEY = 'stepwell-unreadable';
+
 /** Drives one stepwell cell. */
 export class CellController extends BranchController {
   /** @param deps - the cell, engine factory, ledger glue, spec checker, settings and image maker. */
@@ -64,8 +67,14 @@ export class CellController extends BranchController {
         : `The spec has ${count} (listed above); nothing was run. The readouts still show the session of the previous text, at step ${this.st.summary.step}.`);
       return false;
     }
+    if (this.st.ledger === 'reading') {
+      this.notice('info', 'The saved ledger is still being read; run the cell again in a moment.');
+      return false;
+    }
     if (this.st.ledger === 'corrupt' && !force) {
-      this.notice('error', 'The saved ledger cannot be read; press "Start over" to replace it with a new session.');
+      // Shown in the cell even when it had no output; the stored value stays as it is.
+      this.writeUnreadable();
+      this.notice('error', `The saved ledger cannot be read: ${this.st.ledgerMessage ?? 'unknown problem'}. Nothing was run and nothing was changed; press "Start over" to replace it with a new session.`);
       return false;
     }
     if (this.st.ledger === 'ok' && this.st.sessionSpec === source) {
@@ -88,8 +97,34 @@ export class CellController extends BranchController {
       this.set({ problems, notice: { level: 'error', text: 'Fix the spec before resetting; nothing was changed.' } });
       return false;
     }
+    if (this.st.ledger === 'reading') return false;
+    if (this.st.ledger === 'corrupt' && !force) {
+      const canKeep = this.deps.host.keepAside !== undefined;
+      this.askConfirm({
+        kind: 'replace-ledger',
+        canKeep,
+        text: `The saved ledger cannot be read. Starting over replaces it with a new session at step 0 from the spec text${canKeep ? `; "Keep a copy" first moves the unreadable value to the cell's metadata key '${UNREADABLE_KEY}'` : ''}. Start over?`
+      });
+      return false;
+    }
     if (!force && this.askBeforeLosingWork('Reset starts a new session at step 0 from the spec text')) return false;
     return this.loadFresh(source);
+  }
+
+  /**
+   * Replaces an unreadable ledger with a new session (after the user's yes); with `keepCopy` the
+   * unreadable value is first moved under {@link UNREADABLE_KEY} of the same cell.
+   */
+  async replaceUnreadable(keepCopy: boolean): Promise<boolean> {
+    this.set({ confirm: null });
+    if (keepCopy && this.deps.host.keepAside !== undefined) {
+      const key = this.deps.host.keepAside(this.deps.host.readLedger());
+      this.notice('info', `The unreadable ledger was kept under the cell's metadata key '${key}'.`);
+    }
+    const source = this.deps.host.readSource();
+    const ok = await this.loadFresh(source);
+    if (ok && keepCopy) this.notice('info', `Started over; the unreadable ledger is kept under the cell's metadata key '${UNREADABLE_KEY}' (delete it there when it is no longer needed).`);
+    return ok;
   }
 
   /** Advances `n` optimizer steps on the active branch (default: {@link defaultN}). */
@@ -125,7 +160,13 @@ export class CellController extends BranchController {
     // Only the newest records are kept for the timing; a long run would otherwise hold all of them.
     const produced: StepRecord[] = [];
     this.set({ busy: { action, done: 0, total }, notice: null, verify: null, confirm: null });
+    let marked = false;
     const reply = await engine.request(body, p => {
+      // Steps exist that the notebook does not hold yet: a reload must ask (the ledger is written at the end).
+      if (!marked && p.records.length > 0) {
+        marked = true;
+        this.deps.host.markDirty?.();
+      }
       for (const r of p.records.slice(-RECENT_RECORDS)) produced.push(r);
       if (produced.length > 2 * RECENT_RECORDS) produced.splice(0, produced.length - RECENT_RECORDS);
       this.set({
@@ -150,7 +191,9 @@ export class CellController extends BranchController {
       case 'non-finite':
         notice = {
           level: 'error',
-          text: `The loss became non-finite at step ${last?.step ?? reply.summary.step}: the recipe diverged. Rewind, or make a branch with a changed recipe.`
+          text: reply.nonFinite !== undefined
+            ? `The loss became non-finite (${String(reply.nonFinite.loss)}) at step ${reply.nonFinite.step}: the recipe diverged. That step was not kept: the branch stays at step ${reply.summary.step}, its last finite state. Rewind, or make a branch with a changed recipe.`
+            : `The loss became non-finite at step ${last?.step ?? reply.summary.step}: the recipe diverged. Rewind, or make a branch with a changed recipe.`
         };
         break;
       case 'condition':

@@ -5,6 +5,8 @@
  * controller run under Node in unit tests with the real engine host in-process.
  */
 import type { SpecProblem } from '../worker/protocol';
+import type { LedgerProblem } from '../ledger';
+import { DEFAULT_SPEC_LIMITS, type SpecLimits } from '../experiment/limits';
 import type { LedgerView } from '../worker/ledger-view';
 import type { CellSummary } from './summary';
 
@@ -27,6 +29,18 @@ export interface CellHost {
    * files (a spec that names one then gets an error at that key saying so).
    */
   readFiles?(names: readonly string[]): Promise<FilesRead>;
+  /**
+   * Marks the notebook as changed (dirty) without writing anything: a long run has produced steps
+   * that are not saved yet, so a reload or close asks first. Optional.
+   */
+  markDirty?(): void;
+  /** True when the cell already carries Stepwell's output (absent: assume it does). */
+  hasOutput?(): boolean;
+  /**
+   * Moves a value (an unreadable ledger) under another metadata key of this cell so it is kept
+   * beside the new ledger; returns the key. Absent: keeping a copy is not offered.
+   */
+  keepAside?(value: unknown): string;
   /** The cell's id in the notebook (nbformat 4.5), or null when it has none. */
   cellId(): string | null;
   /** Index of this cell's decision record in the notebook (a cell whose metadata names this cell), or null. */
@@ -62,15 +76,18 @@ export type LedgerRead =
   | { kind: 'absent' }
   | { kind: 'ok'; content: LedgerContent }
   /** `specText` when the spec could still be recovered from the broken value. */
-  | { kind: 'corrupt'; message: string; specText?: string };
+  | { kind: 'corrupt'; message: string; specText?: string; problems?: LedgerProblem[] };
 
 /**
  * The ledger layer as the controller uses it on the page: reading only. Ledgers are built
  * in the worker (`worker/cell-grove.ts`), which holds every branch.
  */
 export interface LedgerGlue {
-  /** Validates and decodes a metadata value; never throws. */
-  read(value: unknown): LedgerRead;
+  /**
+   * Validates and decodes a metadata value; never throws (a promise never rejects). In the
+   * browser the work runs in a worker and a promise comes back; in Node tests it may be direct.
+   */
+  read(value: unknown, limits?: SpecLimits): LedgerRead | Promise<LedgerRead>;
 }
 
 /** User settings the controller reads at each action (schema/plugin.json). */
@@ -91,7 +108,17 @@ export interface CellSettings {
   eigenCount: number;
   /** Most numbers one array taken from the kernel may hold. Default 20000. */
   kernelDataLimit: number;
+  /** Size limits of a spec, checked before allocation (defaults: `DEFAULT_SPEC_LIMITS`). */
+  limits: SpecLimits;
+  /** Most bytes a cell's ledger may take; a larger one is not written. Default 50 000 000. */
+  maxLedgerBytes: number;
 }
+
+/**
+ * Default largest ledger: 50 MB, where GitHub starts warning about a file it hosts (it refuses
+ * files above 100 MB). // from memory: GitHub's documented file-size limits
+ */
+export const DEFAULT_MAX_LEDGER_BYTES = 50_000_000;
 
 /** Defaults of {@link CellSettings} (the same as schema/plugin.json). */
 export const DEFAULT_SETTINGS: CellSettings = {
@@ -102,7 +129,9 @@ export const DEFAULT_SETTINGS: CellSettings = {
   noiseSample: 64,
   denseHessianLimit: 2000,
   eigenCount: 10,
-  kernelDataLimit: 20000
+  kernelDataLimit: 20000,
+  limits: { ...DEFAULT_SPEC_LIMITS },
+  maxLedgerBytes: DEFAULT_MAX_LEDGER_BYTES
 };
 
 /** Checks the editor's text live; returns its errors (empty when it parses). */

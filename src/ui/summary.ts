@@ -236,6 +236,11 @@ export function auditRows(a: AuditResult): AuditDisplayRow[] {
   }));
 }
 
+/** The markdown fallback of a cell whose ledger cannot be read (the message escaped). */
+export function unreadableMarkdown(message: string): string {
+  return ['**Stepwell experiment**: the saved ledger of this cell cannot be read.', '', escapeMarkdown(message), '', 'The spec text and the stored metadata are untouched; run the cell in Stepwell to start over.'].join('\n');
+}
+
 /** The markdown fallback for a cell whose spec does not parse yet. */
 export function errorMarkdown(lines: string[]): string {
   return ['**Stepwell experiment**: the spec has problems.', '', ...lines.map(l => `- ${escapeMarkdown(l)}`), '', `*${escapeMarkdown(PROXY_NOTE)}*`].join('\n');

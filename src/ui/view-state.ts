@@ -49,7 +49,9 @@ export type Confirmation =
   | { kind: 'reset'; text: string }
   | { kind: 'delete'; branch: string; text: string }
   | { kind: 'discard'; text: string }
-  | { kind: 'replace-record'; question: string; chosen: string; text: string };
+  | { kind: 'replace-record'; question: string; chosen: string; text: string }
+  /** Replacing an unreadable ledger; `canKeep` when the cell can keep a copy under another key. */
+  | { kind: 'replace-ledger'; canKeep: boolean; text: string };
 
 /** The comparison tab: which branches, which axis, and the worker's numbers. */
 export interface ComparisonView {
@@ -75,8 +77,8 @@ export interface BusyState {
 
 /** Everything the widget shows. */
 export interface CellViewState {
-  /** What the cell's metadata held when last read. */
-  ledger: 'absent' | 'ok' | 'corrupt';
+  /** What the cell's metadata held when last read (`reading`: being checked in the worker). */
+  ledger: 'absent' | 'reading' | 'ok' | 'corrupt';
   /** Why the ledger could not be read (only when `ledger` is `corrupt`). */
   ledgerMessage?: string;
   /** Spec text the session belongs to (null before any session). */
@@ -188,7 +190,7 @@ export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, c
           level: 'error',
           text:
             `The saved Stepwell ledger of this cell cannot be read: ${read.message}. ` +
-            'The spec text is untouched. "Start over" replaces the unreadable ledger with a new session at step 0.'
+            'The spec text and the stored value are untouched. "Start over" replaces the unreadable ledger with a new session at step 0 (it asks first, and can keep a copy).'
         }
       };
     case 'ok':
@@ -196,7 +198,7 @@ export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, c
         ...cleared,
         ledger: 'ok',
         ledgerMessage: undefined,
-        ledgerBytes: new TextEncoder().encode(JSON.stringify(raw)).length,
+        ledgerBytes: read.content.bytes ?? new TextEncoder().encode(JSON.stringify(raw)).length,
         notice: null,
         sessionSpec: read.content.specText,
         specEdited: source !== read.content.specText,

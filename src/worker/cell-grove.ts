@@ -9,10 +9,11 @@ import type { Experiment } from '../core/setup';
 import type { StepRecord } from '../core/state';
 import { ENGINE_NAME } from '../core/engine';
 import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, Session, type BatchSegment, type GroveOptions } from '../core/session';
-import { buildLedger, decodeFindings, groveFromLedger, ledgerSize, validateLedger } from '../ledger';
+import { buildLedger, decodeFindings, groveFromOpened, LedgerOpenError, ledgerSize, openLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { CellFiles, EngineCore } from './engine-core';
 import { specProblemAt } from '../experiment';
+import type { SpecLimits } from '../experiment/limits';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
 import { COMPARE_POINTS } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
@@ -57,6 +58,9 @@ export class CellGrove {
   /** Readouts and findings per branch. */
   readonly book: BranchBook;
 
+  /** Size limits every branch's patched spec is checked against (the user's settings). */
+  private limits: SpecLimits | undefined;
+
   private constructor(private readonly core: EngineCore, specText: string, grove: Grove, active: string, files: CellFiles) {
     this.specText = specText;
     this.files = { files: new Map(files.files), problems: new Map(files.problems) };
@@ -66,8 +70,9 @@ export class CellGrove {
   }
 
   /** A fresh cell: one root branch at step 0, diagnosed there. */
-  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number, files: CellFiles = NO_FILES): CellGrove {
+  static fresh(core: EngineCore, specText: string, experiment: Experiment, checkpointEvery: number, files: CellFiles = NO_FILES, limits?: SpecLimits): CellGrove {
     const cell = new CellGrove(core, specText, Grove.create(experiment, groveOptions(checkpointEvery), ROOT_BRANCH), ROOT_BRANCH, files);
+    cell.limits = limits;
     cell.book.diagnose(ROOT_BRANCH);
     return cell;
   }
@@ -81,21 +86,37 @@ export class CellGrove {
    *   patched spec no longer validates; a {@link SpecProblemsError} when the spec's files cannot
    *   be read or changed since the ledger was written (a changed file is never replayed silently).
    */
-  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number, files: CellFiles = NO_FILES): CellGrove {
-    const checked = validateLedger(raw);
-    if (!checked.ok) throw new Error(`the saved ledger cannot be read: ${checked.errors.slice(0, 3).join('; ')}`);
-    const ledger = checked.ledger;
-    const restored = groveFromLedger(ledger, (b, chain) => {
-      const parsed = core.parsePatched(specText, chain, files);
-      if (!parsed.ok) {
+  static fromLedger(core: EngineCore, specText: string, raw: unknown, checkpointEvery: number, files: CellFiles = NO_FILES, limits?: SpecLimits): CellGrove {
+    const open = (withoutFiles: boolean): ReturnType<typeof openLedger> =>
+      openLedger(raw, (spec, chain) => {
+        const parsed = core.parsePatched(spec, chain, files, limits);
+        if (parsed.ok) return { ok: true, experiment: parsed.experiment, withoutFiles };
+        // the root's spec failing on its files (missing, unreadable) is shown at the keys that name them
         if (chain.length === 0) throw new SpecProblemsError(parsed.errors);
-        throw new Error(`branch '${b.name}' no longer validates against the spec: ${parsed.errors.map((e) => e.message).join('; ')}`);
+        return { ok: false, message: parsed.errors.map((e) => e.message).join('; ') };
+      });
+    const opened = open(false);
+    if (!opened.ok) {
+      // A data or weights file replaced since the save also fails the step-0 checks: name the file
+      // at its key when that is all that differs.
+      const apart = files.files.size > 0 ? open(true) : null;
+      let changed: SpecProblem[] = [];
+      if (apart?.ok === true) {
+        try {
+          changed = changedFiles(apart.ledger.spec, apart.ledger.dataHash, groveFromOpened(apart, checkpointEvery, groveOptions(checkpointEvery)).grove);
+        } catch {
+          // the ledger has other problems too: report those
+        }
       }
-      return parsed.experiment;
-    }, checkpointEvery, groveOptions(checkpointEvery));
-    const changed = changedFiles(specText, ledger.dataHash, restored.grove);
+      if (changed.length > 0) throw new SpecProblemsError(changed);
+      throw new LedgerOpenError(opened.problems);
+    }
+    const ledger = opened.ledger;
+    const restored = groveFromOpened(opened, checkpointEvery, groveOptions(checkpointEvery));
+    const changed = changedFiles(ledger.spec, ledger.dataHash, restored.grove);
     if (changed.length > 0) throw new SpecProblemsError(changed);
-    const cell = new CellGrove(core, specText, restored.grove, ledger.activeBranch, files);
+    const cell = new CellGrove(core, ledger.spec, restored.grove, ledger.activeBranch, files);
+    cell.limits = limits;
     const findings = decodeFindings(ledger.findings);
     for (const b of restored.branches) cell.book.set(b.name, readoutsFromLedger(b.readouts, findingsOf(findings, b.name)));
     for (const b of restored.branches) if (!cell.book.diagnosed(b.name)) cell.book.diagnose(b.name);
@@ -200,7 +221,7 @@ export class CellGrove {
       for (const [n, m] of more.problems) if (!this.files.files.has(n)) this.files.problems.set(n, m);
     }
     const chain = [...this.patchChain(from), patch];
-    const parsed = this.core.parsePatched(this.specText, chain, this.files);
+    const parsed = this.core.parsePatched(this.specText, chain, this.files, this.limits);
     if (!parsed.ok) return { ok: false, errors: parsed.errors };
     if (touchesSetup(patch) && step !== 0) {
       return { ok: false, errors: [{ path: '', message: `the patch ${describePatch(patch)} changes the setup or the seed, so the branch must start at step 0, not step ${step}` }] };

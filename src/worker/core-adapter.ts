@@ -2,6 +2,7 @@
  * The one file that maps the engine host's {@link EngineCore} onto the real modules:
  * `spec/` for parsing, `core/probe` for the gradient audit and the curvature readouts.
  */
+import type { SpecLimits } from '../experiment/limits';
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
 import { measureSessionCurvature, measureSessionCurvatureWith, type CurvatureReport, type DensityTraceRunner } from '../core/probe/curvature';
@@ -49,11 +50,11 @@ export function coreWith(helper?: (experiment: Experiment) => DensityTraceRunner
 
 /** The real numerics behind the engine host, in one thread. */
 export const realCore: EngineCore = {
-  parse(specText: string, files?: CellFiles): ParseOutcome {
-    return parseSpec(specText, 'auto', files === undefined ? {} : { files: files.files, fileProblems: files.problems });
+  parse(specText: string, files?: CellFiles, limits?: SpecLimits): ParseOutcome {
+    return parseSpec(specText, 'auto', { ...(files === undefined ? {} : { files: files.files, fileProblems: files.problems }), ...(limits === undefined ? {} : { limits }) });
   },
-  parsePatched(specText, patches, files): ParseOutcome {
-    return patchChainExperiment(specText, patches, files === undefined ? {} : { files: files.files, fileProblems: files.problems });
+  parsePatched(specText, patches, files, limits): ParseOutcome {
+    return patchChainExperiment(specText, patches, { ...(files === undefined ? {} : { files: files.files, fileProblems: files.problems }), ...(limits === undefined ? {} : { limits }) });
   },
   audit(experiment, session, sample) {
     // The subset is drawn from the seed and the step, so an audit is itself reproducible.

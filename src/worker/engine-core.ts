@@ -7,6 +7,7 @@ import type { Experiment } from '../core/setup';
 import type { Session } from '../core/session';
 import type { SpecPatch } from '../experiment/patch';
 import type { NoiseScale } from '../core/probe/noise-scale';
+import type { SpecLimits } from '../experiment/limits';
 import type { AuditResult, CurvatureResult, SharpnessPoint, SpecProblem } from './protocol';
 
 /** Result of parsing spec text. */
@@ -22,10 +23,10 @@ export interface CellFiles {
 
 /** Parsing and the readouts over a live session. */
 export interface EngineCore {
-  /** Parses and validates spec text (reading the files it names from `files`). Never throws for bad text: returns the errors. */
-  parse(specText: string, files?: CellFiles): ParseOutcome;
+  /** Parses and validates spec text (reading the files it names from `files`) under `limits`. Never throws for bad text: returns the errors. */
+  parse(specText: string, files?: CellFiles, limits?: SpecLimits): ParseOutcome;
   /** The experiment of a branch: the spec with its ancestry's patches applied in order, validated like a spec. */
-  parsePatched(specText: string, patches: readonly SpecPatch[], files?: CellFiles): ParseOutcome;
+  parsePatched(specText: string, patches: readonly SpecPatch[], files?: CellFiles, limits?: SpecLimits): ParseOutcome;
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
   /**

@@ -19,6 +19,9 @@ import { checkRequest } from './protocol';
 import { REPLY_SAMPLE, sampleRecords } from './sampling';
 import { CellGrove, SpecProblemsError } from './cell-grove';
 import type { CellFiles } from './engine-core';
+import { viewLedger } from './ledger-view';
+import { grouped } from '../experiment/limits';
+import { parseSpec } from '../experiment';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -181,9 +184,23 @@ export class EngineHost {
       }
       case 'verify':
         return this.verify(id, request.branches);
+      case 'open':
+        this.post({ id, kind: 'opened', result: viewLedger(request.ledger, request.limits) });
+        return;
+      case 'check': {
+        // the live check reads no files (they are read when the engine starts)
+        const parsed = parseSpec(request.specText, 'auto', { deferFiles: true, ...(request.limits === undefined ? {} : { limits: request.limits }) });
+        this.post({ id, kind: 'checked', errors: parsed.ok ? [] : parsed.errors });
+        return;
+      }
       case 'ledger': {
         const cell = this.need().cell;
         const built = cell.ledger(request.specText, request.checkpointCap);
+        if (request.maxBytes !== undefined && built.bytes > request.maxBytes) {
+          // Refused before the page sees it: the session stays in the worker, the notebook keeps its previous ledger.
+          this.post({ id, kind: 'failed', message: ledgerTooLarge(built.bytes, request.maxBytes) });
+          return;
+        }
         this.post({ id, kind: 'ledger', summary: cell.summary(), value: built.value, bytes: built.bytes, trajectory: cell.display() });
         return;
       }
@@ -203,7 +220,7 @@ export class EngineHost {
 
   private load(request: Extract<EngineRequest, { kind: 'load' }>): void {
     const files = filesOf(request);
-    const parsed = this.core.parse(request.specText, files);
+    const parsed = this.core.parse(request.specText, files, request.limits);
     if (!parsed.ok) {
       this.post({ id: request.id, kind: 'spec-errors', errors: parsed.errors });
       return;
@@ -212,8 +229,8 @@ export class EngineHost {
     try {
       cell =
         request.resume === undefined
-          ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery, files)
-          : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery, files);
+          ? CellGrove.fresh(this.core, request.specText, parsed.experiment, request.checkpointEvery, files, request.limits)
+          : CellGrove.fromLedger(this.core, request.specText, request.resume, request.checkpointEvery, files, request.limits);
     } catch (error) {
       if (!(error instanceof SpecProblemsError)) throw error;
       this.post({ id: request.id, kind: 'spec-errors', errors: error.problems });
@@ -320,11 +337,21 @@ export class EngineHost {
     );
     const last = pending[pending.length - 1];
     const outcome: StepEnd = end === 'stopped' ? 'stopped' : stepEnd(reason, condition !== null, last);
+    let nonFinite: { step: number; loss: number } | undefined;
+    if (outcome === 'non-finite' && last !== undefined && last.step > 0) {
+      // A non-finite state is never kept as the branch's tip (nor saved as its head): the branch
+      // goes back to the last finite state, as `stepwell run` reports it, and says what happened.
+      nonFinite = { step: last.step, loss: last.loss };
+      grove.rewind(name, last.step - 1);
+      if (grove.tip(name) > last.step - 1) cell.discard();
+      pending = pending.filter(r => r.step < last.step);
+    }
     cell.diagnose(name);
     this.post({
       id,
       kind: 'stepped',
       summary: cell.summary(),
+      ...(nonFinite !== undefined ? { nonFinite } : {}),
       records: sampleRecords(pending, REPLY_SAMPLE),
       sharpness: points,
       stopped: outcome === 'stopped',
@@ -394,6 +421,11 @@ export namespace EngineHost {
 }
 
 /** The protocol's reason for a finished run: the grove's reason, and whether the loss is still finite. */
+/** The message of a ledger above the size limit (setting `maxLedgerBytes`). */
+export function ledgerTooLarge(bytes: number, limit: number): string {
+  return `the ledger would take ${grouped(bytes)} bytes, above the limit of ${grouped(limit)} (setting maxLedgerBytes); nothing is lost: the session stays in memory. Delete branches, lower the checkpoint cap, or raise the limit, then act again to save`;
+}
+
 function stepEnd(reason: RunReason, hasCondition: boolean, last: StepRecord | undefined): StepEnd {
   switch (reason) {
     case 'max-steps':

@@ -6,7 +6,9 @@
  * stored records and trace, which is arithmetic on stored numbers, not a measurement).
  */
 import type { StepRecord } from '../core/state';
-import { decodeBranches, decodeFindings, validateLedger, type Ledger } from '../ledger';
+import type { Experiment } from '../core/setup';
+import { decodeFindings, openLedger, summarizeProblems, type DecodedBranch, type ExperimentMaker, type Ledger, type LedgerProblem } from '../ledger';
+import type { SpecLimits } from '../experiment/limits';
 import { cellFileNames, describePatch, patchChainExperiment, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo, BranchReadouts, SessionSummary } from './protocol';
 import { describeRecipe, describeSetup } from './describe';
@@ -24,36 +26,47 @@ export interface LedgerView {
   readouts: BranchReadouts;
   /** The files the spec and its branches name (what an engine resuming it must read first). */
   files: string[];
+  /** UTF-8 size of the stored value's JSON, measured where it was read. */
+  bytes?: number;
 }
 
-/** Outcome of {@link viewLedger}. */
-export type LedgerViewResult = { ok: true; view: LedgerView } | { ok: false; message: string; specText?: string };
+/** Outcome of {@link viewLedger}: the view, or every problem located (field, branch, step) with the first few as `message`. */
+export type LedgerViewResult = { ok: true; view: LedgerView } | { ok: false; message: string; problems: LedgerProblem[]; specText?: string };
 
-/** Validates, decodes and describes a stored ledger; never throws. */
-export function viewLedger(value: unknown): LedgerViewResult {
-  const checked = validateLedger(value);
-  if (!checked.ok) {
-    const shown = checked.errors.slice(0, 3).join('; ') + (checked.errors.length > 3 ? ` (and ${checked.errors.length - 3} more)` : '');
-    const spec = (value as { spec?: unknown } | null)?.spec;
-    return { ok: false, message: shown, specText: typeof spec === 'string' ? spec : undefined };
-  }
+/**
+ * Makes a branch's experiment the way the engine does (`experiment/patch.ts`), under `limits`,
+ * without reading the files its spec names (the page opens a ledger before any engine reads
+ * them): such a branch is marked `withoutFiles`, and the checks that need the files' numbers wait
+ * for the engine.
+ */
+export function branchExperiment(limits?: SpecLimits): ExperimentMaker {
+  return (spec, chain) => {
+    const parsed = patchChainExperiment(spec, chain as SpecPatch[], { deferFiles: true, ...(limits === undefined ? {} : { limits }) });
+    if (!parsed.ok) return { ok: false, message: parsed.errors[0].message };
+    return { ok: true, experiment: parsed.experiment, withoutFiles: cellFileNames(spec, [chain]).length > 0 };
+  };
+}
+
+/**
+ * Opens a stored ledger whole (`openLedger`: schema, decoding, fingerprints, and every branch
+ * against the experiment its spec makes) and describes it; never throws.
+ */
+export function viewLedger(value: unknown, limits?: SpecLimits): LedgerViewResult {
+  const opened = openLedger(value, branchExperiment(limits));
+  if (!opened.ok) return { ok: false, message: summarizeProblems(opened.problems), problems: opened.problems, specText: opened.specText };
   try {
-    return { ok: true, view: describeLedger(checked.ledger) };
+    return { ok: true, view: { ...describeLedger(opened.ledger, opened.branches, opened.experiments), bytes: new TextEncoder().encode(JSON.stringify(value)).length } };
   } catch (error) {
-    return { ok: false, message: (error as Error).message, specText: checked.ledger.spec };
+    const detail = (error as Error).message;
+    return { ok: false, message: detail, problems: [{ field: 'ledger', detail, message: detail }], specText: opened.ledger.spec };
   }
 }
 
-/** The view of a validated ledger. @throws when a branch's patched spec no longer parses. */
-export function describeLedger(ledger: Ledger): LedgerView {
-  const decoded = decodeBranches(ledger);
+/** The view of an opened ledger (its decoded branches and their experiments, ledger order). */
+export function describeLedger(ledger: Ledger, decoded: readonly DecodedBranch[], experiments: readonly Experiment[]): LedgerView {
   const chains = new Map<string, SpecPatch[]>();
-  const branches: BranchInfo[] = decoded.map(b => {
-    const chain = b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : [];
-    chains.set(b.name, chain);
-    // Files are read when an engine starts; a description needs none of their numbers.
-    const parsed = patchChainExperiment(ledger.spec, chain, { deferFiles: true });
-    if (!parsed.ok) throw new Error(b.parent ? `branch '${b.name}' no longer validates against the spec (${parsed.errors[0].message})` : `the saved spec no longer parses (${parsed.errors[0].message})`);
+  const branches: BranchInfo[] = decoded.map((b, i) => {
+    chains.set(b.name, b.parent ? [...(chains.get(b.parent.branch) ?? []), b.patch as SpecPatch] : []);
     const atCursor = [...b.checkpoints, b.head].find(c => c.step === b.cursor);
     const record = b.trajectory.find(r => r.step === b.cursor);
     return {
@@ -67,18 +80,17 @@ export function describeLedger(ledger: Ledger): LedgerView {
       tip: b.head.step,
       loss: record?.loss ?? NaN,
       fingerprint: atCursor?.fingerprint ?? '',
-      recipe: describeRecipe(parsed.experiment.recipe)
+      recipe: describeRecipe(experiments[i].recipe)
     };
   });
   const active = decoded.find(b => b.name === ledger.activeBranch) ?? decoded[0];
   const info = branches.find(b => b.name === active.name) as BranchInfo;
-  const root = patchChainExperiment(ledger.spec, chains.get(active.name) ?? [], { deferFiles: true });
-  if (!root.ok) throw new Error(`the saved spec no longer parses (${root.errors[0].message})`);
+  const activeExperiment = experiments[decoded.indexOf(active)];
   const checkpointSteps = [...active.checkpoints.map(c => c.step), active.head.step];
   const readouts = readoutsFromLedger(active.readouts, findingsOf(decodeFindings(ledger.findings), active.name));
   const toCursor = active.trajectory.filter(r => r.step <= active.cursor);
   const children = decoded.filter(b => b.parent?.branch === active.name).map(b => ({ name: b.name, step: b.parent?.step ?? 0, patch: b.patch }));
-  readouts.derived = derivedReadouts(toCursor, readouts.sharpness, root.experiment, readouts.findings, children);
+  readouts.derived = derivedReadouts(toCursor, readouts.sharpness, activeExperiment, readouts.findings, children);
   return {
     specText: ledger.spec,
     summary: {
@@ -90,7 +102,7 @@ export function describeLedger(ledger: Ledger): LedgerView {
       parameterCount: ledger.parameterCount,
       checkpointSteps,
       recipe: info.recipe,
-      setup: describeSetup(root.experiment.setup)
+      setup: describeSetup(activeExperiment.setup)
     },
     trajectory: sampleRecords(active.trajectory, DISPLAY_RECORDS),
     readouts,

@@ -10,6 +10,8 @@
  * All payloads are plain data (numbers, strings, arrays, typed arrays), so they cross the
  * worker boundary by structured clone without loss.
  */
+import { LIMIT_NAMES, type SpecLimits } from '../experiment/limits';
+import type { LedgerViewResult } from './ledger-view';
 import type { SessionState, StepRecord } from '../core/state';
 import type { Standardization } from '../core/setup';
 import type { BranchComparison, StopCondition } from '../core/session';
@@ -223,7 +225,16 @@ export type EngineRequest =
       resume?: object;
       /** Auto-checkpoint interval in steps (0 = only step 0). */
       checkpointEvery: number;
+      /** Size limits of the spec and every branch's patched spec (the user's settings; default `DEFAULT_SPEC_LIMITS`). */
+      limits?: SpecLimits;
     } & SpecFilesPayload)
+  /**
+   * Open a stored ledger for display without loading it: validated and decoded whole here, off the
+   * page thread (`worker/ledger-view.ts`); the engine's own session is not touched.
+   */
+  | { id: number; kind: 'open'; ledger: unknown; limits?: SpecLimits }
+  /** Check spec text (the editor's, as the user types) without loading it: parsing 10⁵ inline rows takes seconds. */
+  | { id: number; kind: 'check'; specText: string; limits?: SpecLimits }
   /** `sharpnessEvery` > 0 also measures the sharpness every that many steps (and at the start). */
   | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
@@ -247,7 +258,7 @@ export type EngineRequest =
   | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
   /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
-  | { id: number; kind: 'ledger'; specText: string; checkpointCap: number }
+  | { id: number; kind: 'ledger'; specText: string; checkpointCap: number; maxBytes?: number }
   /** Replay branches from the seed (default: the active one) and compare bit for bit. */
   | { id: number; kind: 'verify'; branches?: string[] }
   | { id: number; kind: 'stop'; target: number };
@@ -315,6 +326,11 @@ export type EngineReply =
       stopped: boolean;
       /** Why the work ended. */
       reason: 'done' | 'stopped' | 'condition' | 'non-finite';
+      /**
+       * With `non-finite`: the step whose loss was not finite and that loss. That step was dropped;
+       * the branch stays at the state before it (never a non-finite head).
+       */
+      nonFinite?: { step: number; loss: number };
       /** Updates applied by this request. */
       updates: number;
       /** Wall time of those updates in ms (sharpness measurements, findings and yields excluded). */
@@ -378,10 +394,16 @@ export type EngineReply =
   | { id: number; kind: 'curvature'; result: CurvatureResult; readouts: BranchReadouts }
   /** `result` is the first branch's; `results` has one per branch replayed. */
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
+  /** What a stored ledger shows, or every problem that makes it unreadable (`open`). */
+  | { id: number; kind: 'opened'; result: LedgerViewResult }
+  /** The problems of checked spec text (empty when it parses). */
+  | { id: number; kind: 'checked'; errors: SpecProblem[] }
   | { id: number; kind: 'failed'; message: string };
 
 const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'load',
+  'open',
+  'check',
   'step',
   'run-until',
   'reset',
@@ -400,6 +422,18 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'verify',
   'stop'
 ];
+
+/** Why `value` is not a set of spec limits (every limit a positive safe integer), or null. */
+function limitsProblem(value: unknown): string | null {
+  if (value === undefined) return null;
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) return 'request.limits must be a mapping of limit names to numbers';
+  const l = value as Record<string, unknown>;
+  for (const k of LIMIT_NAMES) {
+    const v = l[k];
+    if (typeof v !== 'number' || !Number.isSafeInteger(v) || v < 1) return `request.limits.${k} must be a positive integer, got ${String(v)}`;
+  }
+  return null;
+}
 
 /**
  * Checks the envelope of a message that claims to be a request (the worker's boundary).
@@ -422,7 +456,11 @@ export function checkRequest(value: unknown): string | null {
   switch (r.kind as EngineRequestKind) {
     case 'load':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
-      return positiveInt('checkpointEvery') ?? checkFiles(r);
+      return positiveInt('checkpointEvery') ?? limitsProblem(r.limits) ?? checkFiles(r);
+    case 'open':
+      return limitsProblem(r.limits);
+    case 'check':
+      return typeof r.specText !== 'string' ? 'request.specText must be a string' : limitsProblem(r.limits);
     case 'step':
       return positiveInt('n') ?? (r.sharpnessEvery === undefined ? null : positiveInt('sharpnessEvery'));
     case 'run-until':
@@ -438,7 +476,7 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('target');
     case 'ledger':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
-      return positiveInt('checkpointCap');
+      return positiveInt('checkpointCap') ?? (r.maxBytes === undefined ? null : positiveInt('maxBytes'));
     case 'fork':
       if (typeof r.patch !== 'object' || r.patch === null || Array.isArray(r.patch)) return 'request.patch must be a mapping of spec keys to values';
       if (r.name !== undefined && typeof r.name !== 'string') return 'request.name must be a string';

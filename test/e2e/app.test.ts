@@ -64,7 +64,7 @@ describe('embedded app', () => {
   it('activates the host plugins and every Stepwell plugin, with Stepwell running the cells', async () => {
     expect(await pluginStates(browser.page, '@stepwell/host:')).toEqual({ '@stepwell/host:session-dialogs': true });
     // The app is Stepwell's: a build without its plugins must fail here, not pass quietly.
-    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:about': true, 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:kernel': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
+    expect(await pluginStates(browser.page, 'stepwell:')).toEqual({ 'stepwell:about': true, 'stepwell:cells': true, 'stepwell:executor': true, 'stepwell:kernel': true, 'stepwell:open-check': true, 'stepwell:plugin': true, 'stepwell:renderer': true });
     // The host falls back to JupyterLab's executor (with this warning) only if nobody provides one.
     expect(browser.consoleWarnings.filter(w => /no plugin provides/.test(w))).toEqual([]);
     // "About Stepwell" sits in the Help menu (declared in schema/plugin.json) and opens Stepwell's own dialog.

@@ -120,6 +120,8 @@ export interface IBrowserSession {
   pageErrors: Error[];
   /** Responses with status >= 400 and requests that failed, as "STATUS URL". */
   failedRequests: string[];
+  /** Requests to any host but this machine's loopback (the network monitor): each one fails {@link ourErrors}. */
+  foreignRequests: string[];
   /** The fresh profile folder (removed by close()). */
   userDataDir: string;
   close(): Promise<void>;
@@ -145,6 +147,7 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
     consoleWarnings: [],
     pageErrors: [],
     failedRequests: [],
+    foreignRequests: [],
     userDataDir,
     close: async () => {
       await context.close();
@@ -159,6 +162,10 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
     session.consoleErrors.push(/Failed to load resource/.test(msg.text()) && where.url ? `${msg.text()} (${where.url})` : msg.text());
   });
   page.on('pageerror', err => session.pageErrors.push(err));
+  // The network monitor: pages, workers and service workers of the context alike.
+  context.on('request', req => {
+    if (isForeign(req.url())) session.foreignRequests.push(`${req.method()} ${req.url()}`);
+  });
   page.on('response', res => {
     if (res.status() >= 400) session.failedRequests.push(`${res.status()} ${res.url()}`);
   });
@@ -174,6 +181,22 @@ export async function launchBrowser(viewport = { width: 1400, height: 900 }): Pr
  */
 export const ATTACHMENT_PROBE = /ERR_UNKNOWN_URL_SCHEME \(attachment:|^failed attachment:\S+ net::ERR_(UNKNOWN_URL_SCHEME|ABORTED)/;
 
+/**
+ * True for a request that leaves the machine: an http(s) or ws(s) URL whose host is not the
+ * loopback interface the app's servers listen on. `data:`, `blob:` and `attachment:` URLs stay in
+ * the page.
+ */
+export function isForeign(url: string): boolean {
+  let u: URL;
+  try {
+    u = new URL(url);
+  } catch {
+    return true;
+  }
+  if (!['http:', 'https:', 'ws:', 'wss:'].includes(u.protocol)) return false;
+  return !['127.0.0.1', 'localhost', '[::1]'].includes(u.hostname);
+}
+
 /** Failed requests other than the attachment probe above. */
 export function failedRequests(session: IBrowserSession): string[] {
   return session.failedRequests.filter(r => !ATTACHMENT_PROBE.test(r));
@@ -188,6 +211,7 @@ export function ourErrors(session: IBrowserSession): string[] {
   const attachmentProbe = ATTACHMENT_PROBE;
   return [
     ...session.pageErrors.map(e => `page error: ${e.stack ?? e.message}`),
+    ...session.foreignRequests.map(r => `request beyond the app's origin: ${r}`),
     ...session.consoleErrors.filter(t => mine.test(t) && !attachmentProbe.test(t)).map(t => `console error: ${t}`)
   ];
 }

@@ -58,6 +58,8 @@ describe('stepwell cell in the browser', () => {
     // The demo opens where it was left, from its ledger: no engine needed to show step and trace.
     const demoCell = page.locator('.sw-CellWidget').first();
     await demoCell.waitFor();
+    // The ledger is checked in a worker first ("reading the saved ledger…").
+    await demoCell.locator('.sw-Status', { hasText: /^step \d+ · loss/ }).waitFor({ timeout: 30_000 });
     expect(await status(demoCell)).toMatch(/^step \d+ · loss/);
     // Its curvature readout shows why it diverged: λmax far above the step size's stability limit.
     await demoCell.locator('.sw-Tab[data-tab="curvature"]').click();

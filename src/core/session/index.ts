@@ -13,5 +13,6 @@ export { boundTrajectory } from './trajectory';
 export type { ReplayDifference } from './replay';
 export { sameRecord } from './replay';
 export { effectiveBatch } from './adapt';
+export { freshState, rowCountOf } from './fresh';
 export { compareBranches, examplesAt, firstCrossing, lossVerdict, matchedSteps, SAME_LOSS } from './compare';
 export type { BatchSegment, BranchComparison, CompareInput, LossVerdict, MatchedCell } from './compare';

@@ -2,6 +2,11 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DEFAULT_SETTINGS } from '../../../src/ui/ports';
+import { DEFAULT_SPEC_LIMITS, LIMIT_NAMES } from '../../../src/experiment/limits';
+
+/** The settings as the schema lists them: the spec limits are flat there, grouped under `limits` in code. */
+const flat: Record<string, unknown> = { ...DEFAULT_SETTINGS, ...DEFAULT_SETTINGS.limits };
+delete flat.limits;
 
 const schema = JSON.parse(readFileSync(join(__dirname, '../../../schema/plugin.json'), 'utf8')) as {
   properties: Record<string, { default: unknown; minimum?: number; maximum?: number }>;
@@ -12,12 +17,17 @@ describe('settings defaults', () => {
 
   it('declares the same settings in code and in the schema', () => {
     expect(names.length).toBeGreaterThan(5);
-    expect(Object.keys(DEFAULT_SETTINGS).sort()).toEqual([...names].sort());
+    expect(Object.keys(flat).sort()).toEqual([...names].sort());
+  });
+
+  it('has the spec limits of the spec reader as the defaults of the limit settings', () => {
+    expect(LIMIT_NAMES).toHaveLength(6);
+    for (const k of LIMIT_NAMES) expect(schema.properties[k].default).toBe(DEFAULT_SPEC_LIMITS[k]);
   });
 
   it.each(names)('%s has the schema default in code, inside its bounds', (name) => {
     const p = schema.properties[name];
-    expect((DEFAULT_SETTINGS as unknown as Record<string, unknown>)[name]).toEqual(p.default);
+    expect(flat[name]).toEqual(p.default);
     if (typeof p.default === 'number') {
       expect(p.default).toBeGreaterThanOrEqual(p.minimum ?? -Infinity);
       expect(p.default).toBeLessThanOrEqual(p.maximum ?? Infinity);

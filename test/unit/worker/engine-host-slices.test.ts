@@ -103,7 +103,7 @@ describe('EngineHost long work in slices', () => {
     const snap = a.last();
     if (snap.kind !== 'snapshot') throw new Error('expected a snapshot');
     await a.host.receive({ ...load(4, 5), resume: ledgerOf(snap, { trajectory: snap.trajectory.slice(0, 4) }) });
-    expect(a.last()).toMatchObject({ id: 4, kind: 'failed', message: "branch 'main' has a trajectory ending at step 3 for its state at step 6 (expected the same step)" });
+    expect(a.last()).toMatchObject({ id: 4, kind: 'failed', message: "branches[0].trajectory (branch 'main'): ends at step 3, before the head (step 6): the steps in between have no records" });
   });
 });
 

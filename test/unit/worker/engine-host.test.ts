@@ -152,7 +152,7 @@ describe('EngineHost', () => {
     expect(b.last()).toMatchObject({ kind: 'verified', result: { match: 'differs', firstDifferingStep: 3 } });
   });
 
-  it('stops stepping when the loss becomes non-finite', async () => {
+  it('stops stepping when the loss becomes non-finite, at the last finite state, and never saves a non-finite head', async () => {
     const { host, last } = collect();
     const wild = TEMPLATE_SPEC.replace('lr: 0.1 ', 'lr: 1e6 ');
     await host.receive({ id: 1, kind: 'load', specText: wild, checkpointEvery: 0 });
@@ -162,7 +162,39 @@ describe('EngineHost', () => {
     expect(r).toMatchObject({ kind: 'stepped', reason: 'non-finite', stopped: false });
     if (r.kind !== 'stepped') return;
     expect(r.summary.step).toBeLessThan(500);
-    expect(Number.isFinite(r.records[r.records.length - 1].loss)).toBe(false);
+    // The bad step is named, then dropped: the branch stays one step before it.
+    expect(r.nonFinite).toBeDefined();
+    expect(Number.isFinite(r.nonFinite?.loss)).toBe(false);
+    expect(r.summary.step).toBe((r.nonFinite?.step ?? 0) - 1);
+    expect(r.summary.tip).toBe(r.summary.step);
+    expect(r.records.every(x => Number.isFinite(x.loss))).toBe(true);
+    await host.receive({ id: 3, kind: 'ledger', specText: wild, checkpointCap: 5 });
+    const saved = last();
+    if (saved.kind !== 'ledger') throw new Error(`expected a ledger, got ${saved.kind}`);
+    const head = (saved.value as { branches: { head: { step: number } }[] }).branches[0].head;
+    expect(head.step).toBe(r.summary.step);
+    expect(saved.trajectory.every(x => Number.isFinite(x.loss))).toBe(true);
+  });
+
+  it('refuses to build a ledger above maxBytes, and keeps the session', async () => {
+    const { host, last } = collect();
+    await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0 });
+    await host.receive({ id: 2, kind: 'step', n: 3 });
+    await host.receive({ id: 3, kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 5, maxBytes: 1000 });
+    expect(last()).toMatchObject({ kind: 'failed', message: expect.stringMatching(/^the ledger would take [\d ]+ bytes, above the limit of 1 000 \(setting maxLedgerBytes\); nothing is lost/) });
+    await host.receive({ id: 4, kind: 'ledger', specText: TEMPLATE_SPEC, checkpointCap: 5 });
+    expect(last()).toMatchObject({ kind: 'ledger', summary: { step: 3 } });
+  });
+
+  it('enforces the limits it is given before allocating, naming the setting', async () => {
+    const { host, last } = collect();
+    const limits = { maxSpecChars: 4_000_000, maxParameters: 10, maxRows: 1_000_000, maxColumns: 10_000, maxActivations: 20_000_000, maxFileBytes: 64 };
+    await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0, limits });
+    const r = last();
+    expect(r.kind).toBe('spec-errors');
+    expect(r.kind === 'spec-errors' && r.errors.map(e => e.message).join(' ')).toMatch(/parameters.*10/);
+    await host.receive({ id: 2, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0, limits: { ...limits, maxParameters: -1 } });
+    expect(last()).toMatchObject({ kind: 'failed', message: 'bad request: request.limits.maxParameters must be a positive integer, got -1' });
   });
 
   it('run-until ends when the condition holds', async () => {
