@@ -4,6 +4,7 @@
  * defensively: they run even when the schema already failed, and skip whatever the
  * schema reports, so the user sees every problem at once.
  */
+import { activationExpression } from './expression';
 import { formatPath } from './path';
 import type { Path } from './path';
 
@@ -12,6 +13,8 @@ export interface CheckProblem {
   path: Path;
   message: string;
   atKey?: boolean;
+  /** Offset inside the string value at `path` (an expression's column), when the problem is inside it. */
+  within?: number;
 }
 
 /** Errors block the experiment; warnings flag legal but suspicious choices. */
@@ -205,7 +208,13 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
   const PARAM_OF: Record<string, string> = { slope: 'leaky-relu', alpha: 'elu', beta: 'softplus', threshold: 'softplus' };
   layers.forEach((layer, k) => {
     if (!isObj(layer)) return;
-    const act = typeof layer.activation === 'string' ? layer.activation : 'linear';
+    if (isObj(layer.activation) && typeof layer.activation.expr === 'string') {
+      const d = layer.activation.derivative;
+      const read = activationExpression(layer.activation.expr, typeof d === 'string' ? d : undefined);
+      if (!read.ok)
+        report.errors.push({ path: ['model', 'layers', k, 'activation', read.key], within: read.problem.at, message: `model.layers[${k}].activation.${read.key}: ${read.problem.message}` });
+    }
+    const act = typeof layer.activation === 'string' ? layer.activation : isObj(layer.activation) ? 'expression' : 'linear';
     for (const [key, owner] of Object.entries(PARAM_OF))
       if (layer[key] !== undefined && act !== owner)
         report.warnings.push({ path: ['model', 'layers', k, key], atKey: true, message: `model.layers[${k}].${key} applies to ${owner}, not to ${act}, so it has no effect` });

@@ -45,6 +45,7 @@ function activationModule(m: NetworkModel, k: number): string {
     case 'softplus': return `nn.Softplus(beta=${py(p.beta ?? 1)}, threshold=${py(p.threshold ?? 20)})`;
     case 'elu': return `nn.ELU(alpha=${py(p.alpha ?? 1)})`;
     case 'gelu': return 'nn.GELU()';
+    case 'expression': throw new NotExportable(`model.layers[${k}] uses the activation expression ${JSON.stringify(l.expression?.expr ?? '')}, which the exporter does not translate to PyTorch yet: write it as a torch module by hand`);
     default: {
       const never: never = l.activation;
       throw new NotExportable(`unknown activation ${String(never)}`);

@@ -20,7 +20,7 @@
  */
 import type { DataSetup, LossName, NetworkModel } from '../setup';
 import type { Objective, ParamBlock, Rows } from '../objective';
-import { activation, type Activation } from './activations';
+import { layerActivation, type Activation } from './activations';
 import { lossFunction, type Loss } from './losses';
 import { matrixKernels, type LayerShape, type MatrixKernels } from './kernels';
 
@@ -124,7 +124,7 @@ export class Network implements Objective {
     this.plan = model.layers.map((layer, l) => ({
       fanIn: this.blocks[2 * l].shape[1],
       units: layer.units,
-      act: options.activationOf?.(l) ?? activation(layer.activation, layer.params),
+      act: options.activationOf?.(l) ?? layerActivation(layer),
       wOff: this.blocks[2 * l].offset,
       bOff: this.blocks[2 * l + 1].offset,
     }));

@@ -35,6 +35,7 @@ export function fanInRule(activation: ActivationName): FanInRule {
     case 'tanh':
     case 'sigmoid':
     case 'softplus':
+    case 'expression': // the user's function: the variance-preserving rule for a unit of unit slope
       return 'lecun';
     case 'relu':
     case 'elu':
