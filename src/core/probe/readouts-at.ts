@@ -1,0 +1,57 @@
+/**
+ * The deeper readouts taken at a session's current state: what the CLI and the engine worker
+ * call. Each readout draws from its own generator (the caller forks it from the seed), never
+ * from the session's, so measuring never shifts the trajectory; the range test runs on a
+ * throwaway fork.
+ */
+import { Session } from '../session/live';
+import type { Rng } from '../rng';
+import { Network } from '../model/network';
+import { topEigendirections } from './directions';
+import { lineReadout, type LineOptions, type LineReadout } from './line';
+import { planeDirections, planeReadout, type PlaneKind, type PlaneOptions, type PlaneReadout } from './slice';
+import { rangeTest, type RangeTestOptions, type RangeTestResult } from './range-test';
+import { precisionReadout, PRECISION_BITS, type PrecisionReadout } from './precision';
+import { sharpnessPoint } from './findings/gather';
+import type { SharpnessPoint } from './findings/evidence';
+
+/** The update the session would apply next (Δw = w_{k+1} − w_k), from a throwaway fork. */
+export function peekUpdate(session: Session): Float64Array {
+  const fork = Session.restore(session.experiment, session.state(), { objective: session.objective });
+  const before = Float64Array.from(fork.parameters);
+  fork.step(1);
+  const after = fork.parameters;
+  return Float64Array.from(before, (w, i) => after[i] - w);
+}
+
+/** The line readout at the session's weights: along its next update and its top Hessian eigenvector. */
+export function lineAt(session: Session, rng: Rng, options: LineOptions = {}): LineReadout {
+  const w = Float64Array.from(session.parameters);
+  const update = peekUpdate(session);
+  const [top] = topEigendirections(session.objective, w, 1, rng.fork('lanczos'), session.curvatureRows());
+  return lineReadout(session.objective, w, session.stepCount, update, top && top.value > 0 ? top : null, options);
+}
+
+/**
+ * The plane readout at the session's weights, with `path` (weights at earlier steps of the
+ * branch, e.g. its checkpoints) projected onto it. Null when `options.onRow` stopped it.
+ */
+export function planeAt(session: Session, kind: PlaneKind, rng: Rng, path: { steps: number[]; weights: readonly Float64Array[] }, options: PlaneOptions = {}): PlaneReadout | null {
+  const w = Float64Array.from(session.parameters);
+  const d = planeDirections(session.objective, w, kind, rng, session.curvatureRows());
+  return planeReadout(session.objective, w, session.stepCount, kind, d, path, options);
+}
+
+/** The range test from the session's state, with the recipe's stability limit at the current sharpness beside it. */
+export function rangeTestAt(session: Session, rng: Rng, options: RangeTestOptions = {}): RangeTestResult & { limit: SharpnessPoint | null } {
+  const limit = sharpnessPoint(session, rng.fork('sharpness'));
+  return { ...rangeTest(session.experiment, session.state(), session.objective, options), limit };
+}
+
+/** Precision tolerance at the session's weights (accuracy too for the classification losses). */
+export function precisionAt(session: Session, bits: readonly number[] = PRECISION_BITS): PrecisionReadout {
+  const { setup } = session.experiment;
+  const net = session.objective instanceof Network ? session.objective : null;
+  const classify = net && setup.data && setup.loss !== 'mse' ? { predictor: net, y: setup.data.y, loss: setup.loss } : undefined;
+  return precisionReadout(session.objective, session.parameters, session.stepCount, bits, classify);
+}
