@@ -43,9 +43,22 @@ export function planeAt(session: Session, kind: PlaneKind, rng: Rng, path: { ste
 }
 
 /** The range test from the session's state, with the recipe's stability limit at the current sharpness beside it. */
-export function rangeTestAt(session: Session, rng: Rng, options: RangeTestOptions = {}): RangeTestResult & { limit: SharpnessPoint | null } {
+export function rangeTestAt(session: Session, rng: Rng, options: RangeTestOptions = {}): RangeTestAtResult {
   const limit = sharpnessPoint(session, rng.fork('sharpness'));
-  return { ...rangeTest(session.experiment, session.state(), session.objective, options), limit };
+  const r = rangeTest(session.experiment, session.state(), session.objective, options);
+  const bound = limit?.largestStableLr ?? null;
+  return { ...r, limit, beyondLimit: bound !== null && r.suggested !== null && r.suggested.high > bound };
+}
+
+/** The range test with the recipe's stability limit at the current sharpness. */
+export interface RangeTestAtResult extends RangeTestResult {
+  limit: SharpnessPoint | null;
+  /**
+   * True when the suggested range reaches past the stability limit: one update per rate can
+   * leave a nearly converged sharp direction too small to show its growth, so the range test's
+   * upper end is then not a safe constant rate.
+   */
+  beyondLimit: boolean;
 }
 
 /** Precision tolerance at the session's weights (accuracy too for the classification losses). */
