@@ -38,7 +38,21 @@ export type InitScheme =
   | 'orthogonal';
 
 /** Loss functions (conventions match the major frameworks' mean reductions). */
-export type LossName = 'mse' | 'cross-entropy' | 'binary-cross-entropy';
+export type LossName = 'mse' | 'cross-entropy' | 'binary-cross-entropy' | 'expression';
+
+/**
+ * A user's elementwise loss term ℓ(y, t) of an output y and its target t (variables 0 and 1),
+ * averaged over every output of every row like mse: as written (`loss: { expr, derivative }`) and
+ * as evaluated, with ∂ℓ/∂y (the user's or derived) and ∂²ℓ/∂y² derived from it.
+ */
+export interface LossExpression {
+  expr: string;
+  derivative: string;
+  derivedBy: 'user' | 'symbolic';
+  f: Expr;
+  d1: Expr;
+  d2: Expr;
+}
 
 /**
  * Parameters of the parametrized activations, PyTorch's names and defaults:
@@ -171,6 +185,8 @@ export interface Setup {
   model: ModelSetup;
   data?: DataSetup;
   loss: LossName;
+  /** The user's loss term, present exactly when `loss` is `expression`. */
+  lossExpression?: LossExpression;
   /** Adds ½·l2·Σ‖W‖² over weight matrices (not biases). */
   l2: number;
 }

@@ -4,7 +4,7 @@
  * defensively: they run even when the schema already failed, and skip whatever the
  * schema reports, so the user sees every problem at once.
  */
-import { activationExpression } from './expression';
+import { activationExpression, lossExpression } from './expression';
 import { formatPath } from './path';
 import type { Path } from './path';
 
@@ -350,6 +350,11 @@ export function crossCheck(spec: unknown): CheckReport {
     else checkNetwork(spec, model, report);
   }
   if (isObj(spec.recipe)) checkRecipe(spec.recipe, report);
+  if (isObj(spec.loss) && typeof spec.loss.expr === 'string') {
+    const d = spec.loss.derivative;
+    const read = lossExpression(spec.loss.expr, typeof d === 'string' ? d : undefined);
+    if (!read.ok) report.errors.push({ path: ['loss', read.key], within: read.problem.at, message: `loss.${read.key}: ${read.problem.message}` });
+  }
   return report;
 }
 

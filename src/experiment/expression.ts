@@ -9,7 +9,7 @@
  */
 import { create, derivativeDependencies, parseDependencies, type MathNode } from 'mathjs';
 import { EXPR_FUNCTIONS, exprSize, type Expr, type ExprFunction } from '../core/model/expression';
-import type { ActivationExpression } from '../core/setup';
+import type { ActivationExpression, LossExpression } from '../core/setup';
 
 const math = create({ parseDependencies, derivativeDependencies });
 
@@ -149,33 +149,56 @@ function derive(node: MathNode, variable: string, variables: readonly string[], 
   }
 }
 
-/** Which key of `activation: { expr, derivative }` a problem belongs to. */
-export type ActivationKey = 'expr' | 'derivative';
+/** Which key of `{ expr, derivative }` a problem belongs to. */
+export type ExpressionKey = 'expr' | 'derivative';
 
-/** Outcome of {@link activationExpression}. */
-export type ActivationRead =
-  | { ok: true; value: ActivationExpression }
-  | { ok: false; key: ActivationKey; problem: ExpressionProblem };
+/** Outcome of {@link activationExpression} and {@link lossExpression}. */
+export type ExpressionRead<T> =
+  | { ok: true; value: T }
+  | { ok: false; key: ExpressionKey; problem: ExpressionProblem };
+
+/** The trees of one elementwise piece over `variables`, differentiated in the first. */
+interface Pieces {
+  expr: string;
+  derivative: string;
+  derivedBy: 'user' | 'symbolic';
+  f: Expr;
+  d1: Expr;
+  d2: Expr;
+}
+
+function elementwise(expr: string, derivative: string | undefined, variables: readonly string[], what: string, example: string): ExpressionRead<Pieces> {
+  const wrt = variables[0];
+  const f = readExpression(expr, variables, what);
+  if (!f.ok) return { ok: false, key: 'expr', problem: f.problem };
+  let d1: { tree: Expr; node: MathNode; text: string };
+  if (derivative !== undefined) {
+    const r = readExpression(derivative, variables, 'the derivative');
+    if (!r.ok) return { ok: false, key: 'derivative', problem: r.problem };
+    d1 = { tree: r.tree, node: r.node, text: derivative };
+  } else {
+    const r = derive(f.node, wrt, variables, `cannot derive the derivative of ${JSON.stringify(expr)} with respect to ${wrt} (write derivative: yourself, e.g. ${example})`, expr);
+    if (!r.ok) return { ok: false, key: 'expr', problem: r.problem };
+    d1 = { tree: r.tree, node: r.node, text: r.node.toString() };
+  }
+  const key: ExpressionKey = derivative !== undefined ? 'derivative' : 'expr';
+  const d2 = derive(d1.node, wrt, variables, `cannot derive the second derivative (Hessian products need it) from ${JSON.stringify(d1.text)}; write the derivative with functions that have rules (exp, log, sqrt, abs, sin, cos, tan, sinh, cosh, tanh, sech)`, derivative ?? expr);
+  if (!d2.ok) return { ok: false, key, problem: d2.problem };
+  return { ok: true, value: { expr, derivative: d1.text, derivedBy: derivative !== undefined ? 'user' : 'symbolic', f: f.tree, d1: d1.tree, d2: d2.tree } };
+}
 
 /**
  * Reads an activation written as `expr` of the pre-activation x, with the user's `derivative`
  * when given (else derived symbolically), and the second derivative derived from the f′ used.
  */
-export function activationExpression(expr: string, derivative: string | undefined): ActivationRead {
-  const f = readExpression(expr, ['x'], 'the activation expression');
-  if (!f.ok) return { ok: false, key: 'expr', problem: f.problem };
-  let d1: { tree: Expr; node: MathNode; text: string };
-  if (derivative !== undefined) {
-    const r = readExpression(derivative, ['x'], 'the derivative');
-    if (!r.ok) return { ok: false, key: 'derivative', problem: r.problem };
-    d1 = { tree: r.tree, node: r.node, text: derivative };
-  } else {
-    const r = derive(f.node, 'x', ['x'], `cannot derive the derivative of ${JSON.stringify(expr)} (write derivative: yourself)`, expr);
-    if (!r.ok) return { ok: false, key: 'expr', problem: r.problem };
-    d1 = { tree: r.tree, node: r.node, text: r.node.toString() };
-  }
-  const key: ActivationKey = derivative !== undefined ? 'derivative' : 'expr';
-  const d2 = derive(d1.node, 'x', ['x'], `cannot derive the second derivative (Hessian products need it) from ${JSON.stringify(d1.text)}; write the derivative with functions that have rules (exp, log, sqrt, abs, sin, cos, tan, sinh, cosh, tanh, sech)`, derivative ?? expr);
-  if (!d2.ok) return { ok: false, key, problem: d2.problem };
-  return { ok: true, value: { expr, derivative: d1.text, derivedBy: derivative !== undefined ? 'user' : 'symbolic', f: f.tree, d1: d1.tree, d2: d2.tree } };
+export function activationExpression(expr: string, derivative: string | undefined): ExpressionRead<ActivationExpression> {
+  return elementwise(expr, derivative, ['x'], 'the activation expression', '1 - tanh(x)^2');
+}
+
+/**
+ * Reads an elementwise loss term `expr` of the output y and target t, with the user's ∂/∂y when
+ * given (else derived symbolically), and ∂²/∂y² derived from the derivative used.
+ */
+export function lossExpression(expr: string, derivative: string | undefined): ExpressionRead<LossExpression> {
+  return elementwise(expr, derivative, ['y', 't'], 'the loss expression', '2 * (y - t)');
 }

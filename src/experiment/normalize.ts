@@ -3,7 +3,7 @@
  * normalized {@link Experiment}: every default applied, data packed row-major into
  * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
-import { activationExpression } from './expression';
+import { activationExpression, lossExpression } from './expression';
 import type {
   ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
@@ -217,6 +217,13 @@ export function buildExperiment(value: unknown, loaded: LoadedFiles = {}): Exper
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
+  if (typeof spec.loss === 'object' && spec.loss !== null && !Array.isArray(spec.loss)) {
+    const raw = spec.loss as Obj;
+    const read = lossExpression(String(raw.expr), typeof raw.derivative === 'string' ? raw.derivative : undefined);
+    if (!read.ok) throw new Error(read.problem.message); // crossCheck reported it first
+    setup.loss = 'expression';
+    setup.lossExpression = read.value;
+  }
   if (model.kind === 'network') setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);
   return { seed: numOr(spec.seed, 0), setup, recipe: buildRecipe(obj(spec.recipe), layerCount) };
 }

@@ -120,6 +120,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     fanIn = l.units;
   });
 
+  if (e.setup.loss === 'expression') throw new NotExportable(`the loss is the expression ${JSON.stringify(e.setup.lossExpression?.expr ?? '')}, which the exporter does not translate to PyTorch yet: write it as a torch function by hand`);
   const lossExpr = e.setup.loss === 'mse' ? 'F.mse_loss(out, y)' : e.setup.loss === 'cross-entropy' ? 'F.cross_entropy(out, y)' : 'F.binary_cross_entropy_with_logits(out, y)';
   const l2 = e.setup.l2 !== 0 ? ` + ${py(0.5 * e.setup.l2)} * sum((model[2 * k].weight ** 2).sum() for k in range(${L}))` : '';
 

@@ -11,7 +11,8 @@
 import * as elementary from '../elementary';
 import { powInt } from '../optim/powers';
 import type { Activation } from './activations';
-import type { ActivationExpression } from '../setup';
+import type { Loss } from './losses';
+import type { ActivationExpression, LossExpression } from '../setup';
 
 // Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
 const { erf, exp, expm1, log, log1p, sigmoid, softplus, tanh, sin, cos, pow } = elementary;
@@ -143,6 +144,37 @@ export function expressionActivation(spec: ActivationExpression): Activation {
         d1o[i] = d1(env);
         if (d2o) d2o[i] = d2(env);
       }
+    },
+  };
+}
+
+/**
+ * The user's elementwise loss term as a {@link Loss}: the mean of ℓ(ŷ, t) over all n·K outputs
+ * (targets as for mse), gradient ∂ℓ/∂ŷ / m and output Hessian-vector product ∂²ℓ/∂ŷ²·u / m.
+ */
+export function expressionLoss(spec: LossExpression): Loss {
+  const f = compileExpr(spec.f);
+  const d1 = compileExpr(spec.d1);
+  const d2 = compileExpr(spec.d2);
+  const env = new Float64Array(2);
+  return {
+    name: 'expression',
+    targetWidth: (k) => k,
+    value(out, y, n, k) {
+      const m = n * k;
+      let s = 0;
+      for (let i = 0; i < m; i++) { env[0] = out[i]; env[1] = y[i]; s += f(env); }
+      return s / m;
+    },
+    gradient(out, y, n, k, g) {
+      const m = n * k;
+      let s = 0;
+      for (let i = 0; i < m; i++) { env[0] = out[i]; env[1] = y[i]; s += f(env); g[i] = d1(env) / m; }
+      return s / m;
+    },
+    outputHvp(out, y, n, k, u, r) {
+      const m = n * k;
+      for (let i = 0; i < m; i++) { env[0] = out[i]; env[1] = y[i]; r[i] = (d2(env) * u[i]) / m; }
     },
   };
 }

@@ -127,3 +127,65 @@ describe('expression activations', () => {
     expect([r.errors[0].line, r.errors[0].col]).toEqual([line, col]);
   });
 });
+
+describe('expression loss terms', () => {
+  function lossObjective(loss: string) {
+    const r = parseSpec(spec('tanh', loss));
+    if (!r.ok) throw new Error(r.errors.map(formatSpecError).join('\n'));
+    const objective = buildObjective(r.experiment.setup);
+    const w = initialParameters(r.experiment.setup, Rng.fromSeed(r.experiment.seed).fork('init'));
+    return { e: r.experiment, objective, w };
+  }
+
+  it('(y - t)^2 is mse: the same loss bit for bit, gradient and Hessian products to 1e-14', () => {
+    const own = lossObjective('{ expr: "(y - t)^2" }');
+    const ref = lossObjective('mse');
+    expect(own.e.setup.loss).toBe('expression');
+    expect(own.e.setup.lossExpression?.derivative).toBe('2 * (y - t)');
+    // source: PyTorch MSELoss is the mean of (ŷ − y)² (the built-in's convention, losses.ts)
+    expect(Object.is(own.objective.value(own.w), ref.objective.value(ref.w))).toBe(true);
+    const P = own.w.length;
+    const g1 = new Float64Array(P), g2 = new Float64Array(P), h1 = new Float64Array(P), h2 = new Float64Array(P);
+    own.objective.gradient(own.w, g1);
+    ref.objective.gradient(ref.w, g2);
+    expect(relDiff(g1, g2)).toBeLessThan(1e-14);
+    const v = Rng.fromSeed(9).fillNormal(new Float64Array(P));
+    own.objective.hvp(own.w, v, h1);
+    ref.objective.hvp(ref.w, v, h2);
+    expect(relDiff(h1, h2)).toBeLessThan(1e-14);
+  });
+
+  it('log(cosh(y - t)) gets the derivative tanh(y - t) and second derivative sech²(y - t)', () => {
+    const { e, objective, w } = lossObjective('{ expr: "log(cosh(y - t))" }');
+    const d1 = compileExpr(e.setup.lossExpression!.d1);
+    const d2 = compileExpr(e.setup.lossExpression!.d2);
+    const pts: [number, number][] = [[0.3, -0.2], [1.5, 0.4], [-2, 1]];
+    expect(pts.length).toBe(3);
+    for (const [y, t] of pts) {
+      // source: d/dy log cosh(y − t) = tanh(y − t); d²/dy² = 1 − tanh²(y − t) (direct differentiation)
+      expect(d1(Float64Array.of(y, t))).toBeCloseTo(Math.tanh(y - t), 14);
+      expect(d2(Float64Array.of(y, t))).toBeCloseTo(1 - Math.tanh(y - t) ** 2, 14);
+    }
+    const audit = auditGradient(objective, w);
+    expect(audit.layers.length).toBe(2);
+    expect(audit.layers.map((l) => l.verdict)).toEqual(['right', 'right']); // source: CS231n notes (from memory): below 1e-7 right
+  });
+
+  it('a loss derivative 3% off shows in every layer, since every gradient passes through it', () => {
+    const { objective, w } = lossObjective('{ expr: "(y - t)^2", derivative: "2.06 * (y - t)" }');
+    const audit = auditGradient(objective, w);
+    expect(audit.layers.length).toBe(2);
+    // closed form: every gradient is 1.03× the true one, relative error 0.03/1.03
+    for (const l of audit.layers) expect(l.maxRelError).toBeCloseTo(0.03 / 1.03, 6);
+  });
+
+  it('an unknown symbol in a loss is refused at its line and column', () => {
+    const r = parseSpec(spec('tanh', '{ expr: "(y - target)^2" }'));
+    expect(r.ok).toBe(false);
+    if (r.ok) return;
+    expect(r.errors.length).toBe(1);
+    expect(r.errors[0].path).toBe('loss.expr');
+    expect(r.errors[0].message).toContain("unknown symbol 'target'");
+    expect([r.errors[0].line, r.errors[0].col]).toEqual([10, 21]);
+  });
+});

@@ -155,6 +155,8 @@ function tfObjective(c: GoldenCase, rows?: number[]): (w: Tensor1D) => Scalar {
       case 'binary-cross-entropy':
         value = tf.losses.sigmoidCrossEntropy(labels, h) as Scalar;
         break;
+      case 'expression':
+        throw new Error('expression losses are checked against the built-ins they imitate (test/unit/model/expression.test.ts)');
       default: {
         const never: never = loss;
         throw new Error(`no tfjs loss for ${String(never)}`);
