@@ -40,8 +40,8 @@ const USAGE = `usage:
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
     that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
-  stepwell probe SPEC --what line|plane|range|precision [--steps N] [--json] [--set KEY=VALUE ...] [--points N] [--from X] [--to Y]
-        [--directions random|eigenvectors] [--bits 16,10,8,6,4]
+  stepwell probe SPEC --what line|plane|range|precision|batch [--steps N] [--json] [--set KEY=VALUE ...] [--points N] [--from X] [--to Y]
+        [--directions random|eigenvectors] [--bits 16,10,8,6,4] [--batches 4,16,full] [--examples N]
     steps the recipe N times (default 0), then takes one readout at that state without moving it:
     line       the loss along the next update (t = 1 is the step taken) and along the top Hessian eigenvector, each with
                its quadratic model and Brent's minimum; --points grid points (41), --from/--to the range in steps (-0.5 … 2.5)
@@ -50,6 +50,8 @@ const USAGE = `usage:
     range      learning-rate range test (Smith 2017) on a throwaway fork: --points updates (40) with lr growing
                geometrically from --from (1e-5) to --to (10); the suggested range and the recipe's stability limit beside it
     precision  loss (and accuracy for classification) with the weights rounded to --bits significant bits
+    batch      the recipe continued with each of --batches until each has drawn --examples examples (default 10 passes
+               over the data), compared at equal examples seen, beside the gradient noise scale B = tr(Σ)/|G|²
   stepwell verify NOTEBOOK.ipynb [--json] [--cell N] [--max-updates N]
     replays every stepwell cell of the notebook, every branch, from spec and seed to every stored checkpoint and its
     tip, and says per branch: bit-identical, within tolerance (which quantity, how far) or differs from step k (which
@@ -108,7 +110,7 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
       case 'probe': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {
           what: { type: 'string' }, json: { type: 'boolean' }, steps: { type: 'string' }, points: { type: 'string' }, from: { type: 'string' }, to: { type: 'string' },
-          directions: { type: 'string' }, bits: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
+          directions: { type: 'string' }, bits: { type: 'string' }, batches: { type: 'string' }, examples: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
         } });
         return report(probeCommand(specPath(a.positionals), a.values), out, err);
       }

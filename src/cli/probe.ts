@@ -11,6 +11,7 @@ import type { LineCurve } from '../core/probe/line';
 import type { PlaneKind } from '../core/probe/slice';
 import { CliError, loadExperiment, positiveInt, toJson, type CommandResult } from './io';
 import { MAX_STEPS } from './run';
+import { compareBatchSizes } from '../core/probe/batch-compare';
 
 /** Flags of `probe`. */
 export interface ProbeFlags {
@@ -21,13 +22,15 @@ export interface ProbeFlags {
   to?: string;
   directions?: string;
   bits?: string;
+  batches?: string;
+  examples?: string;
   json?: boolean;
   set?: string[];
   limit?: string[];
 }
 
 /** The readouts `--what` names. */
-export const PROBE_KINDS = ['line', 'plane', 'range', 'precision'] as const;
+export const PROBE_KINDS = ['line', 'plane', 'range', 'precision', 'batch'] as const;
 type ProbeKind = (typeof PROBE_KINDS)[number];
 
 /** Most trajectory points kept for the plane's projected path. */
@@ -57,6 +60,13 @@ function bitsOf(value: string | undefined): number[] | undefined {
   const list = value.split(',').map((s) => Number(s.trim()));
   if (list.length === 0 || list.some((k) => !Number.isInteger(k) || k < 1 || k > 53)) throw new CliError(`--bits must be a comma-separated list of integers from 1 to 53, got '${value}'`);
   return list;
+}
+
+function batchesOf(value: string | undefined): number[] {
+  const list = (value ?? '').split(',').map((s) => s.trim()).filter((s) => s !== '');
+  const sizes = list.map((s) => (s === 'full' ? 0 : /^\d+$/.test(s) && Number(s) > 0 ? Number(s) : NaN));
+  if (sizes.length < 2 || sizes.some((b) => Number.isNaN(b))) throw new CliError(`--batches must list at least two batch sizes (positive integers or full), e.g. --batches 4,16,full; got '${value ?? ''}'`);
+  return sizes;
 }
 
 function curveLines(c: LineCurve, title: string, unit: string): string[] {
@@ -120,6 +130,29 @@ export function probeCommand(path: string, flags: ProbeFlags): CommandResult {
         ...(r.beyondLimit ? ['  the suggested range reaches past the stability limit: one update per rate did not show the growth along the sharpest direction; in the quadratic picture at these weights a constant rate above the limit is unstable'] : []),
         '  lr           loss'];
       r.lr.forEach((eta, i) => lines.push(`  ${num(eta).padEnd(12)} ${num(r.loss[i])}`));
+      return { out: [...lines, '', note].join('\n') + '\n', warnings, code: 0 };
+    }
+    case 'batch': {
+      const sizes = batchesOf(flags.batches);
+      const n = session.objective.rowCount;
+      if (n === 0) throw new CliError('--what batch needs a data set: this objective has no rows');
+      const budget = positiveInt(flags.examples, '--examples', 10 * n, Number.MAX_SAFE_INTEGER);
+      if (budget === 0) throw new CliError('--examples must be positive');
+      let r;
+      try {
+        r = compareBatchSizes(experiment, session.state(), session.objective, sizes, budget, rng);
+      } catch (e) {
+        if (e instanceof RangeError) throw new CliError(e.message);
+        throw e;
+      }
+      if (r === null) throw new CliError('the batch-size comparison was stopped');
+      if (flags.json) return { out: toJson({ what, ...r }) + '\n', warnings, code: 0 };
+      const b = r.noiseScale.noiseScale;
+      const lines = [`batch sizes compared at ${r.budget} examples seen each, from step ${r.startStep} (${n} training rows)`,
+        `  gradient noise scale B = tr(Σ)/|G|² = ${num(b)} (${r.noiseScale.sampleRows} of ${r.noiseScale.totalRows} rows sampled)`,
+        '  batch     updates  final loss    against the best   against B'];
+      for (const run of r.runs) lines.push(`  ${(run.full ? `${run.batch} (full)` : String(run.batch)).padEnd(9)} ${String(run.updates).padEnd(8)} ${num(run.finalLoss).padEnd(14)}${run.verdict.padEnd(19)}${run.noise}`);
+      lines.push(r.best === null ? '  every run diverged' : `  lowest loss at equal examples: batch ${r.best}`);
       return { out: [...lines, '', note].join('\n') + '\n', warnings, code: 0 };
     }
     case 'precision': {

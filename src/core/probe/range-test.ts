@@ -17,6 +17,7 @@ import type { SessionState } from '../state';
 import type { Objective } from '../objective';
 import { Session } from '../session/live';
 import { copyPlain } from '../plain';
+import { adaptSessionState } from '../session/adapt';
 
 /** Why the range test ended. */
 export type RangeTestEnd = 'completed' | 'diverged' | 'stopped';
@@ -86,7 +87,7 @@ export function rangeTest(experiment: Experiment, state: SessionState, objective
   const recipe = copyPlain(experiment.recipe);
   recipe.warmup = 0;
   if (recipe.schedule.kind !== 'plateau') recipe.schedule = { kind: 'constant' }; // a plateau's multiplier lives in the optimizer state and stays
-  let current = state;
+  let current = adaptSessionState(state, recipe, objective);
   const startLoss = objective.value(state.params);
   const lr: number[] = [];
   const loss: number[] = [];

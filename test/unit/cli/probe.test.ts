@@ -64,6 +64,22 @@ describe('stepwell probe', () => {
     }
   });
 
+  it('--what batch compares batch sizes at equal examples seen beside the noise scale', async () => {
+    const r = await cli('probe', spec, '--what', 'batch', '--batches', '2,full', '--examples', '32', '--json');
+    expect(r.code).toBe(0);
+    const o = JSON.parse(r.out);
+    expect(o.runs.length).toBe(2);
+    expect(o.runs.map((x: { updates: number }) => x.updates)).toEqual([16, 4]);
+    expect(o.runs.map((x: { examples: number[] }) => x.examples[x.examples.length - 1])).toEqual([32, 32]);
+    expect(o.noiseScale.noiseScale).toBeGreaterThan(0);
+    const text = await cli('probe', spec, '--what', 'batch', '--batches', '2,full', '--examples', '32');
+    expect(text.out).toMatch(/batch sizes compared at 32 examples seen each/);
+    expect(text.out).toMatch(/lowest loss at equal examples: batch \d+/);
+    const one = await cli('probe', spec, '--what', 'batch', '--batches', '4');
+    expect(one.code).toBe(2);
+    expect(one.err).toMatch(/--batches must list at least two batch sizes/);
+  });
+
   it('prints readable text with the proxy-model note, and refuses a wrong --what', async () => {
     const r = await cli('probe', spec, '--what', 'range', '--steps', '3');
     expect(r.code).toBe(0);
@@ -72,7 +88,7 @@ describe('stepwell probe', () => {
     expect(r.out).toMatch(/A small proxy model/);
     const bad = await cli('probe', spec, '--what', 'landscape');
     expect(bad.code).toBe(2);
-    expect(bad.err).toMatch(/--what must be one of line, plane, range, precision, got 'landscape'/);
+    expect(bad.err).toMatch(/--what must be one of line, plane, range, precision, batch, got 'landscape'/);
     const bits = await cli('probe', spec, '--what', 'precision', '--bits', '8,0');
     expect(bits.code).toBe(2);
     expect(bits.err).toMatch(/--bits must be/);
