@@ -46,8 +46,3 @@ export class Fingerprinter {
     return bytesToHex(this.h.digest());
   }
 }
-
-/** Fingerprint of a single float64 array (e.g. a data set's `x`). */
-export function fingerprintArray(a: Float64Array): string {
-  return new Fingerprinter().array(a).hex();
-}

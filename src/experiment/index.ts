@@ -22,7 +22,6 @@ export { TEMPLATE_SPEC } from './template';
 export { DEFAULT_SPEC_LIMITS, parseLimits, type SpecLimits } from './limits';
 export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
-export { KEY_USERS } from './checks';
 export { specFileNames, specFileRefs, type SpecFiles } from './files';
 
 /** Options of {@link parseSpec}. */

@@ -18,7 +18,7 @@ import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
 import { traceFigure, traceText } from '../figures/trace';
 import { rovingFocus } from './keyboard';
-import type { CellViewState, ReadoutTab } from './view-state';
+import type { CellViewState } from './view-state';
 import { READOUT_TABS } from './view-state';
 
 /** CSS classes of the cell widget. */
@@ -373,4 +373,3 @@ export namespace StepwellCellWidget {
 }
 
 /** The tab a readout lives on (for commands that open one). */
-export type { ReadoutTab };

@@ -310,31 +310,6 @@ export type EngineReply =
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   | { id: number; kind: 'failed'; message: string };
 
-/** Kinds of {@link EngineReply}. */
-export type EngineReplyKind = EngineReply['kind'];
-
-/** Kinds of reply that end a request. */
-export const FINAL_REPLIES: readonly EngineReplyKind[] = [
-  'ready',
-  'spec-errors',
-  'stepped',
-  'rewound',
-  'branched',
-  'patch-errors',
-  'comparison',
-  'audit',
-  'curvature',
-  'snapshot',
-  'ledger',
-  'verified',
-  'failed'
-];
-
-/** True when `reply` is the last reply to its request. */
-export function isFinalReply(reply: EngineReply): boolean {
-  return reply.kind !== 'progress';
-}
-
 const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'load',
   'step',

@@ -5,7 +5,8 @@
  */
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { ADAGRAD_STATE, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** Adagrad (Duchi et al. 2011), PyTorch conventions (ε added after the square root). */
 export const adagrad: OptimizerFamily = {
@@ -17,7 +18,7 @@ export const adagrad: OptimizerFamily = {
     return { kind: 'adagrad', t: 0, buffers: { sum }, scalars: {} };
   },
   update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
-    const s = buffer(state, 'sum');
+    const s = stateOf(ADAGRAD_STATE, state).buffers.sum;
     const eps = ctx.recipe.eps;
     for (let i = 0; i < grad.length; i++) {
       s[i] += grad[i] * grad[i];

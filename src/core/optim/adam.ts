@@ -10,7 +10,8 @@
 import type { OptimizerName, Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { powInt } from './powers';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { ADAM_STATE, required, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): OptimizerState {
   const buffers: Record<string, Float64Array> = { m: new Float64Array(parameterCount), v: new Float64Array(parameterCount) };
@@ -21,9 +22,8 @@ function initAdam(kind: OptimizerName, parameterCount: number, recipe: Recipe): 
 function updateAdam(decoupled: boolean, grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
   const { beta1, beta2, eps, amsgrad, weightDecay } = ctx.recipe;
   const mask = ctx.decayMask;
-  const m = buffer(state, 'm');
-  const v = buffer(state, 'v');
-  const vMax = amsgrad ? buffer(state, 'vMax') : null;
+  const { m, v, vMax: max } = stateOf(ADAM_STATE, state).buffers;
+  const vMax = amsgrad ? required(max, state.kind, 'vMax') : null;
   state.t += 1;
   const c1 = 1 - powInt(beta1, state.t);
   const c2Sqrt = Math.sqrt(1 - powInt(beta2, state.t));

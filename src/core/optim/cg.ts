@@ -14,7 +14,8 @@ import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { CG_STATE, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** Nonlinear CG family (Fletcher–Reeves 1964; Polak–Ribière 1969 with the + truncation). */
 export const cg: OptimizerFamily = {
@@ -31,9 +32,10 @@ export const cg: OptimizerFamily = {
   update(g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const p = g.length;
     const recipe: Recipe = ctx.recipe;
-    const d = buffer(state, 'dir');
-    const prev = buffer(state, 'prevGrad');
-    const sc = state.scalars;
+    const typed = stateOf(CG_STATE, state);
+    const d = typed.buffers.dir;
+    const prev = typed.buffers.prevGrad;
+    const sc = typed.scalars;
     const gg = dot(g, g);
     let g1 = 0;
     for (let i = 0; i < p; i++) g1 += Math.abs(g[i]);

@@ -30,7 +30,11 @@ import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { LBFGS_STATE, stateOf, type StateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
+
+/** The L-BFGS state under its declared names. */
+type LbfgsState = StateOf<typeof LBFGS_STATE>;
 
 /** Curvature pairs with yᵀs at or below this are skipped (torch; keeps H positive definite). */
 const MIN_CURVATURE = 1e-10;
@@ -54,20 +58,17 @@ export function initLbfgs(kind: 'lbfgs' | 'minibatch-lbfgs', parameterCount: num
 
 /** Clears the curvature history (the next direction is steepest descent). */
 export function resetLbfgs(state: OptimizerState): void {
+  const { scalars } = stateOf(LBFGS_STATE, state);
   state.t = 0;
-  state.scalars.count = 0;
-  state.scalars.start = 0;
-  state.scalars.hDiag = 1;
-  state.scalars.stepLength = 0;
+  scalars.count = 0;
+  scalars.start = 0;
+  scalars.hDiag = 1;
+  scalars.stepLength = 0;
 }
 
 /** Stores (s, y) = (t·d_prev, g − g_prev) when yᵀs > 1e-10 and refreshes H0 = yᵀs/yᵀy. */
-function remember(g: Float64Array, state: OptimizerState, m: number, p: number): void {
-  const S = buffer(state, 's');
-  const Y = buffer(state, 'y');
-  const rho = buffer(state, 'rho');
-  const prev = buffer(state, 'prevGrad');
-  const d = buffer(state, 'dir');
+function remember(g: Float64Array, state: LbfgsState, m: number, p: number): void {
+  const { s: S, y: Y, rho, prevGrad: prev, dir: d } = state.buffers;
   const t = state.scalars.stepLength;
   let ys = 0;
   let yy = 0;
@@ -99,11 +100,8 @@ function remember(g: Float64Array, state: OptimizerState, m: number, p: number):
 }
 
 /** Two-loop recursion (N&W alg. 7.4): dir ← −H·g from the stored pairs. */
-function twoLoop(g: Float64Array, state: OptimizerState, m: number, p: number, alpha: Float64Array): void {
-  const S = buffer(state, 's');
-  const Y = buffer(state, 'y');
-  const rho = buffer(state, 'rho');
-  const d = buffer(state, 'dir');
+function twoLoop(g: Float64Array, state: LbfgsState, m: number, p: number, alpha: Float64Array): void {
+  const { s: S, y: Y, rho, dir: d } = state.buffers;
   const { count, start, hDiag } = state.scalars;
   for (let i = 0; i < p; i++) d[i] = -g[i];
   for (let k = count - 1; k >= 0; k--) {
@@ -159,7 +157,7 @@ function searchAlong(g: Float64Array, f: number, w: Float64Array, d: Float64Arra
  * One L-BFGS iteration at w with gradient g and value f: updates the memory, writes the
  * direction into `state.buffers.dir` and returns the step length t (0 = no move).
  */
-export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, state: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext, trials = 25): LbfgsStep {
+export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, untyped: OptimizerState, recipe: Recipe, lr: number, ctx: OptimizerContext, trials = 25): LbfgsStep {
   const p = g.length;
   const m = recipe.history;
   let gmax = 0;
@@ -171,8 +169,9 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
   }
   // converged (torch's tolerance_grad), or a non-finite value/gradient: stay in place
   if (gmax <= recipe.toleranceGrad || !Number.isFinite(g1) || !Number.isFinite(f)) return { step: 0, evaluations: 0 };
+  const state = stateOf(LBFGS_STATE, untyped);
   state.t += 1;
-  const d = buffer(state, 'dir');
+  const d = state.buffers.dir;
   if (state.t === 1) {
     resetLbfgs(state);
     state.t = 1;
@@ -181,7 +180,7 @@ export function lbfgsIteration(g: Float64Array, f: number, w: Float64Array, stat
     remember(g, state, m, p);
     twoLoop(g, state, m, p, ctx.work.vector('lbfgs.alpha', m));
   }
-  buffer(state, 'prevGrad').set(g);
+  state.buffers.prevGrad.set(g);
   const t0 = state.t === 1 ? Math.min(1, 1 / g1) * lr : lr;
   const gtd = dot(g, d);
   if (gtd > -recipe.toleranceChange) {
@@ -205,7 +204,7 @@ export const lbfgs: OptimizerFamily = {
   update(grad: Float64Array, state: OptimizerState, params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     if (ctx.recipe.maxIter > 1) return severalIterations(grad, state, params, ctx, out);
     const r = lbfgsIteration(grad, ctx.loss, params, state, ctx.recipe, ctx.lr, ctx, ctx.recipe.maxEval - 1);
-    const d = buffer(state, 'dir');
+    const d = stateOf(LBFGS_STATE, state).buffers.dir;
     if (r.step === 0) out.fill(0);
     else for (let i = 0; i < out.length; i++) out[i] = -d[i];
     ctx.extraEvaluations += r.evaluations;
@@ -235,7 +234,7 @@ function severalIterations(grad: Float64Array, state: OptimizerState, params: Fl
     const r = lbfgsIteration(g, f, w, state, recipe, ctx.lr, ctx, recipe.maxEval - evaluations);
     evaluations += r.evaluations;
     if (r.step === 0) break;
-    const d = buffer(state, 'dir');
+    const d = stateOf(LBFGS_STATE, state).buffers.dir;
     for (let i = 0; i < w.length; i++) w[i] += r.step * d[i];
     if (n === recipe.maxIter) break;
     const before = f;

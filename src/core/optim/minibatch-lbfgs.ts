@@ -11,7 +11,7 @@
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lbfgsIteration } from './lbfgs';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** Mini-batch L-BFGS family. */
 export const minibatchLbfgs: OptimizerFamily = {
@@ -26,7 +26,7 @@ export const minibatchLbfgs: OptimizerFamily = {
     const p = grad.length;
     const m = ctx.recipe.history;
     const work = ctx.work;
-    const inner: OptimizerState = {
+    const inner = {
       kind: 'lbfgs',
       t: 0,
       buffers: {
@@ -37,7 +37,7 @@ export const minibatchLbfgs: OptimizerFamily = {
         dir: work.vector('mb.dir')
       },
       scalars: { count: 0, start: 0, hDiag: 1, stepLength: 0 }
-    };
+    } satisfies OptimizerState;
     const x = work.vector('mb.x');
     const g = work.vector('mb.g');
     x.set(params);
@@ -48,7 +48,7 @@ export const minibatchLbfgs: OptimizerFamily = {
       const r = lbfgsIteration(g, f, x, inner, ctx.recipe, ctx.lr, ctx);
       evaluations += r.evaluations;
       if (r.step === 0) break;
-      const d = buffer(inner, 'dir');
+      const d = inner.buffers.dir;
       for (let i = 0; i < p; i++) x[i] += r.step * d[i];
       if (k + 1 < ctx.recipe.innerSteps) {
         f = ctx.objective.gradient(x, g, ctx.rows);

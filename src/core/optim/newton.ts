@@ -19,7 +19,8 @@ import type { OptimizerName, Recipe } from '../setup';
 import type { OptimizerState } from '../state';
 import { lineFunctionWithSlope, minimizeAlong } from './linesearch/along';
 import { strongWolfe } from './linesearch/wolfe';
-import { type OptimizerContext, type OptimizerFamily } from './types';
+import { NEWTON_STATE, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** Largest parameter count for which the dense matrix is built. */
 export const DENSE_LIMIT = 2000;
@@ -35,13 +36,14 @@ function initNewton(kind: OptimizerName, parameterCount: number, recipe: Recipe)
 }
 
 function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerState, w: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
+  const { scalars } = stateOf(NEWTON_STATE, state);
   const p = g.length;
   let finite = Number.isFinite(ctx.loss);
   for (let i = 0; i < p && finite; i++) finite = Number.isFinite(g[i]);
   if (!finite) {
     // a non-finite value or gradient: stay in place (the record shows it) instead of solving with NaN
     out.fill(0);
-    state.scalars.stepLength = 0;
+    scalars.stepLength = 0;
     return 0;
   }
   const recipe = ctx.recipe;
@@ -65,7 +67,7 @@ function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerSta
   }
   const rhs = new Matrix(p, 1);
   for (let i = 0; i < p; i++) rhs.set(i, 0, -g[i]);
-  let lambda = state.scalars.lambda;
+  let lambda = scalars.lambda;
   let solved: Matrix | null = null;
   for (let k = 0; k <= MAX_RAISES; k++) {
     const a = m.clone();
@@ -80,7 +82,7 @@ function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerSta
   if (solved === null) throw new Error(`${state.kind}: curvature matrix not positive definite even with damping ${lambda}; the objective may be non-finite here`);
   const d = ctx.work.vector('newton.dir');
   for (let i = 0; i < p; i++) d[i] = solved.get(i, 0);
-  state.scalars.lambda = Math.max(recipe.damping, lambda / 10);
+  scalars.lambda = Math.max(recipe.damping, lambda / 10);
   const gtd = dot(g, d);
   let step = ctx.lr;
   let evaluations = p;
@@ -110,7 +112,7 @@ function updateNewton(gaussNewton: boolean, g: Float64Array, state: OptimizerSta
     }
   }
   state.t += 1;
-  state.scalars.stepLength = step;
+  scalars.stepLength = step;
   for (let i = 0; i < p; i++) out[i] = -d[i];
   ctx.extraEvaluations += evaluations;
   return step;

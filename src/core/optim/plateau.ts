@@ -19,9 +19,6 @@
 import type { PlateauSchedule } from '../setup';
 import type { OptimizerState } from '../state';
 
-/** Names of the scalars the plateau schedule keeps in the optimizer state. */
-export const PLATEAU_SCALARS = ['plateau.factor', 'plateau.best', 'plateau.bad', 'plateau.cooldown'] as const;
-
 /** Adds the plateau scalars, at their starting values, to a fresh optimizer state. */
 export function initPlateau(state: OptimizerState): void {
   state.scalars['plateau.factor'] = 1;

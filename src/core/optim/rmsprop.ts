@@ -6,7 +6,8 @@
  */
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { required, RMSPROP_STATE, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** RMSProp: plain, centered and with momentum, PyTorch conventions. */
 export const rmsprop: OptimizerFamily = {
@@ -20,9 +21,10 @@ export const rmsprop: OptimizerFamily = {
   },
   update(grad: Float64Array, state: OptimizerState, _params: Float64Array, ctx: OptimizerContext, out: Float64Array): number {
     const { alpha, eps, momentum, centered } = ctx.recipe;
-    const a = buffer(state, 'squareAvg');
-    const m = centered ? buffer(state, 'gradAvg') : null;
-    const b = momentum > 0 ? buffer(state, 'momentum') : null;
+    const { buffers } = stateOf(RMSPROP_STATE, state);
+    const a = buffers.squareAvg;
+    const m = centered ? required(buffers.gradAvg, state.kind, 'gradAvg') : null;
+    const b = momentum > 0 ? required(buffers.momentum, state.kind, 'momentum') : null;
     for (let i = 0; i < grad.length; i++) {
       const g = grad[i];
       a[i] = alpha * a[i] + (1 - alpha) * (g * g);

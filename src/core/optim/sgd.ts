@@ -17,7 +17,8 @@
  */
 import type { Recipe } from '../setup';
 import type { OptimizerState } from '../state';
-import { buffer, type OptimizerContext, type OptimizerFamily } from './types';
+import { required, SGD_STATE, stateOf } from './layout';
+import type { OptimizerContext, OptimizerFamily } from './types';
 
 /** SGD / heavy-ball / Nesterov (torch.optim.SGD; Polyak 1964; Sutskever et al. 2013). */
 export const sgd: OptimizerFamily = {
@@ -33,7 +34,7 @@ export const sgd: OptimizerFamily = {
     if (mu === 0) {
       out.set(grad);
     } else {
-      const v = buffer(state, 'velocity');
+      const v = required(stateOf(SGD_STATE, state).buffers.velocity, state.kind, 'velocity');
       const damp = ctx.recipe.dampening;
       if (damp !== 0) {
         // torch: buf = g on the first update, then buf·μ + (1 − d)·g

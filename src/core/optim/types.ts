@@ -97,17 +97,3 @@ export function descend(u: Float64Array, stepSize: number, scales: Float64Array 
 export function applyUpdates(params: Float64Array, updates: Float64Array): void {
   for (let i = 0; i < params.length; i++) params[i] += updates[i];
 }
-
-/** A zero-filled named buffer record for `init` functions. */
-export function zeros(parameterCount: number, names: readonly string[]): Record<string, Float64Array> {
-  const out: Record<string, Float64Array> = {};
-  for (const n of names) out[n] = new Float64Array(parameterCount);
-  return out;
-}
-
-/** Fetches a buffer, failing loudly when a state of the wrong family is handed in. */
-export function buffer(state: OptimizerState, name: string): Float64Array {
-  const b = state.buffers[name];
-  if (b === undefined) throw new Error(`optimizer state of kind '${state.kind}' has no buffer '${name}'`);
-  return b;
-}

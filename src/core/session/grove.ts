@@ -41,7 +41,6 @@ import { afterUpdate, dropAfter, insertCheckpoint, insertRecord, tipStep } from 
 import { copyPlain } from '../plain';
 
 export type { Checkpoint, GroveOptions, BranchOrigin, BranchPatch, BranchSnapshot, GroveSnapshot, ResumeData } from './grove-data';
-export { branchNameProblem, MAX_BRANCH_NAME } from './grove-data';
 
 /** A session re-stepped to a step, with the record of that step when the re-stepping made it. */
 interface Reached {

@@ -322,6 +322,13 @@ function checkState(state: SessionState, fresh: OptimizerState, p: number, n: nu
   for (const k of Object.keys(fresh.scalars)) {
     if (typeof state.optimizer.scalars[k] !== 'number') throw new Error(`state.optimizer.scalars.${k} is missing (the recipe's ${fresh.kind} needs it)`);
   }
+  // nothing beyond what this recipe's state holds (core/optim/layout.ts declares it per family)
+  for (const k of Object.keys(state.optimizer.buffers)) {
+    if (!Object.prototype.hasOwnProperty.call(fresh.buffers, k)) throw new Error(`state.optimizer.buffers.${k} is not a buffer of the recipe's ${fresh.kind} (it keeps ${Object.keys(fresh.buffers).join(', ') || 'no buffers'})`);
+  }
+  for (const k of Object.keys(state.optimizer.scalars)) {
+    if (!Object.prototype.hasOwnProperty.call(fresh.scalars, k)) throw new Error(`state.optimizer.scalars.${k} is not a scalar of the recipe's ${fresh.kind} (it keeps ${Object.keys(fresh.scalars).join(', ') || 'no scalars'})`);
+  }
   if (batch === 0) return;
   const order = state.order;
   if (order === null || order.length !== n) throw new Error(`state.order must hold a permutation of ${n} rows for batch size ${batch}`);

@@ -12,9 +12,6 @@ export interface TrajectoryBound {
   recentRecords: number;
 }
 
-/** Default bound: 20 000 records, the newest 2 000 of them dense. */
-export const DEFAULT_TRAJECTORY_BOUND: Readonly<TrajectoryBound> = { maxRecords: 20000, recentRecords: 2000 };
-
 /** Throws with the field at fault when `b` is not a usable bound. */
 export function checkTrajectoryBound(b: TrajectoryBound): void {
   if (!Number.isInteger(b.maxRecords) || b.maxRecords < 2) throw new Error(`maxRecords must be an integer ≥ 2, got ${b.maxRecords}`);

@@ -10,15 +10,6 @@ import * as binaries from './binaries';
 export type ModuleName = keyof typeof binaries;
 
 const compiled = new Map<ModuleName, WebAssembly.Module | null>();
-let disabled = false;
-
-/**
- * Turns every WebAssembly path off (true) or back on (false) in this realm, so tests and
- * benchmarks can time or compare the plain-JavaScript paths. Affects objects created afterwards.
- */
-export function disableWasm(off: boolean): void {
-  disabled = off;
-}
 
 /** Bytes of a base64 text (RFC 4648 alphabet, with or without padding); core has no atob. */
 export function decodeBase64(text: string): Uint8Array {
@@ -43,7 +34,7 @@ export function decodeBase64(text: string): Uint8Array {
 
 /** The compiled module, or null when this engine cannot run it. */
 export function wasmModule(name: ModuleName): WebAssembly.Module | null {
-  if (disabled || typeof WebAssembly === 'undefined') return null;
+  if (typeof WebAssembly === 'undefined') return null;
   let m = compiled.get(name);
   if (m === undefined) {
     try {

@@ -2,7 +2,7 @@
  * The findings engine: the rule table and one pure function over the evidence. Each rule is a
  * small object (`rule.ts`); the table below is the complete list, one rule per finding id.
  */
-import type { Finding, FindingId, Severity } from './types';
+import type { Finding, Severity } from './types';
 import type { Evidence } from './evidence';
 import type { Rule } from './rule';
 import { diverged, stepSizeUnstable } from './rules/stability';
@@ -20,13 +20,6 @@ export const RULES: readonly Rule[] = [
 ];
 
 const RANK: Readonly<Record<Severity, number>> = { problem: 0, warning: 1, info: 2 };
-
-/** The rule of a finding id. */
-export function ruleOf(id: FindingId): Rule {
-  const r = RULES.find((x) => x.id === id);
-  if (r === undefined) throw new Error(`no rule has the id '${id}'`);
-  return r;
-}
 
 /**
  * Evaluates every rule over the evidence. Once the run has diverged, findings measured after the
