@@ -7,7 +7,7 @@
 import type { Objective, ParamBlock, Rows } from '../objective';
 import { dot } from '../objective';
 import type { Rng } from '../rng';
-import { lanczosExtremes } from '../linalg';
+import { lanczosExtremes } from '../linalg/lanczos';
 import { curvatureOperator } from './curvature/operator';
 
 /** One eigenpair of the Hessian at the weights. */
