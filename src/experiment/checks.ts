@@ -17,6 +17,15 @@ export interface CheckProblem {
   within?: number;
 }
 
+/**
+ * An expression problem said of its key: the reader's subject ("the derivative: unknown symbol …",
+ * "the activation expression has bad syntax …") replaced by the path.
+ */
+function atKey(path: string, message: string): string {
+  const rest = message.replace(/^(the activation expression|the loss expression|the derivative)(:\s*|\s+(?=has |is ))/, '');
+  return /^(has|is) /.test(rest) ? `${path} ${rest}` : `${path}: ${rest}`;
+}
+
 /** Errors block the experiment; warnings flag legal but suspicious choices. */
 export interface CheckReport {
   errors: CheckProblem[];
@@ -212,7 +221,7 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
       const d = layer.activation.derivative;
       const read = activationExpression(layer.activation.expr, typeof d === 'string' ? d : undefined);
       if (!read.ok)
-        report.errors.push({ path: ['model', 'layers', k, 'activation', read.key], within: read.problem.at, message: `model.layers[${k}].activation.${read.key}: ${read.problem.message}` });
+        report.errors.push({ path: ['model', 'layers', k, 'activation', read.key], within: read.problem.at, message: atKey(`model.layers[${k}].activation.${read.key}`, read.problem.message) });
     }
     const act = typeof layer.activation === 'string' ? layer.activation : isObj(layer.activation) ? 'expression' : 'linear';
     for (const [key, owner] of Object.entries(PARAM_OF))
@@ -353,7 +362,7 @@ export function crossCheck(spec: unknown): CheckReport {
   if (isObj(spec.loss) && typeof spec.loss.expr === 'string') {
     const d = spec.loss.derivative;
     const read = lossExpression(spec.loss.expr, typeof d === 'string' ? d : undefined);
-    if (!read.ok) report.errors.push({ path: ['loss', read.key], within: read.problem.at, message: `loss.${read.key}: ${read.problem.message}` });
+    if (!read.ok) report.errors.push({ path: ['loss', read.key], within: read.problem.at, message: atKey(`loss.${read.key}`, read.problem.message) });
   }
   return report;
 }

@@ -106,6 +106,6 @@ describe('stepwell probe', () => {
   it('a bad expression is an error at its line and column', async () => {
     const r = await cli('probe', file('bad.yaml', fanSpec('{ expr: "tanh(u)" }')), '--what', 'line');
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/bad\.yaml:6:45: model\.layers\[0\]\.activation\.expr: the activation expression: unknown symbol 'u'/);
+    expect(r.err).toMatch(/bad\.yaml:6:45: model\.layers\[0\]\.activation\.expr: unknown symbol 'u'/);
   });
 });
