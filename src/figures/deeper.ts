@@ -30,11 +30,17 @@ export function lineFigure(c: LineCurve, theme: FigureTheme, title: string): Fig
     { type: 'scatter', mode: 'lines', name: 'quadratic model', x: c.t.slice(), y: c.quadratic.map(fin), line: { color: theme.heldOut, width: 1.5, dash: 'dash' }, hovertemplate: 't %{x:.4g}: model %{y:.6g}<extra></extra>' },
     vertical('step taken', c.stepAt, [...c.loss, ...c.quadratic], theme.foreground, 'dot'),
   ];
-  if (c.minimum.t !== null && c.minimum.loss !== null && Number.isFinite(c.minimum.t))
+  const lo = c.t[0];
+  const hi = c.t[c.t.length - 1];
+  const brent = c.minimum.t;
+  let note = '';
+  if (brent === null || c.minimum.loss === null || !Number.isFinite(brent)) note = ` — no minimum on this line (${c.minimum.note ?? 'none found'})`;
+  else if (brent < lo || brent > hi) note = ` — Brent's minimum at t = ${brent.toPrecision(3)}, loss ${c.minimum.loss.toPrecision(4)}, off the plot`;
+  else
     data.push({ type: 'scatter', mode: 'markers', name: "Brent's minimum", x: [c.minimum.t], y: [c.minimum.loss], line: { color: theme.alert, width: 0 }, marker: { color: theme.alert, size: 9, symbol: 'diamond' }, hovertemplate: "Brent's minimum at t %{x:.4g}: %{y:.6g}<extra></extra>" });
   return {
     data,
-    layout: { ...themedLayout(theme, { height: 240, xaxis: themedAxis(theme, xTitle), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true }), title: { text: title, font: { size: 13 } } },
+    layout: { ...themedLayout(theme, { height: 240, xaxis: themedAxis(theme, xTitle), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true }), title: { text: `${title}${note}`, font: { size: 13 } } },
   };
 }
 
@@ -76,7 +82,9 @@ export function rangeFigure(r: RangeTestAtResult, theme: FigureTheme): Figure {
   }
   const limit = r.limit?.largestStableLr;
   if (limit !== null && limit !== undefined && Number.isFinite(limit)) data.push(vertical(`stability limit ${r.limit?.formula ?? ''}`.trim(), limit, all, theme.alert, 'dot'));
-  return { data, layout: themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'learning rate', 'log'), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true }) };
+  const layout = themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'learning rate', 'log'), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true });
+  if (r.beyondLimit) layout.title = { text: 'The suggested range reaches past the stability limit: one update per rate did not show the growth along the sharpest direction', font: { size: 12 } };
+  return { data, layout };
 }
 
 /** Batch sizes compared by examples seen. */

@@ -49,7 +49,7 @@ describe('level lines', () => {
 describe('deeper readout figures', () => {
   const q = new Quadratic([[4, 0], [0, 1]], [0, 0]);
   const w = Float64Array.of(1, 1);
-  const step = Float64Array.of(-0.4, -0.1);
+  const step = Float64Array.of(-0.2, -0.9); // t* = −gᵀd/dᵀAd = 1.7/0.97 ≈ 1.75, inside the default grid
 
   it('the line figure draws the loss, the model, the step taken at t = 1 and Brent\'s minimum', () => {
     const r = lineReadout(q, w, 3, step, { value: 4, vector: Float64Array.of(1, 0) });
@@ -57,6 +57,11 @@ describe('deeper readout figures', () => {
     expect(f.data.map((s) => s.name)).toEqual(['loss', 'quadratic model', 'step taken', "Brent's minimum"]);
     expect(f.data[2].x).toEqual([1, 1]);
     expect(f.data[3].x[0]).toBeCloseTo(r.update.quadraticMinimum as number, 6);
+    // a minimum outside the grid is named in the title instead of stretching the axis
+    const far = lineReadout(q, w, 3, Float64Array.of(-0.01, -0.01), null);
+    const g = lineFigure(far.update, IMAGE_THEME, 'along the update');
+    expect(g.data.map((s) => s.name)).toEqual(['loss', 'quadratic model', 'step taken']);
+    expect(g.layout.title?.text).toMatch(/^along the update — Brent's minimum at t = \d+(\.\d+)?, loss [0-9.e-]+, off the plot$/);
   });
 
   it('the plane figure draws one line series per level, the path and the current point at the origin', () => {
