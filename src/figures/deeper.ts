@@ -37,7 +37,7 @@ export function lineFigure(c: LineCurve, theme: FigureTheme, title: string): Fig
   if (brent === null || c.minimum.loss === null || !Number.isFinite(brent)) note = ` — no minimum on this line (${c.minimum.note ?? 'none found'})`;
   else if (brent < lo || brent > hi) note = ` — Brent's minimum at t = ${brent.toPrecision(3)}, loss ${c.minimum.loss.toPrecision(4)}, off the plot`;
   else
-    data.push({ type: 'scatter', mode: 'markers', name: "Brent's minimum", x: [c.minimum.t], y: [c.minimum.loss], line: { color: theme.alert, width: 0 }, marker: { color: theme.alert, size: 9, symbol: 'diamond' }, hovertemplate: "Brent's minimum at t %{x:.4g}: %{y:.6g}<extra></extra>" });
+    data.push({ type: 'scatter', mode: 'markers', name: "Brent's minimum", x: [brent], y: [c.minimum.loss], line: { color: theme.alert, width: 0 }, marker: { color: theme.alert, size: 9, symbol: 'diamond' }, hovertemplate: "Brent's minimum at t %{x:.4g}: %{y:.6g}<extra></extra>" });
   return {
     data,
     layout: { ...themedLayout(theme, { height: 240, xaxis: themedAxis(theme, xTitle), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true }), title: { text: `${title}${note}`, font: { size: 13 } } },
