@@ -19,6 +19,7 @@ import { copyPlain } from '../plain';
 import { adaptSessionState } from '../session/adapt';
 import { gradientNoiseScale, type BatchVerdict, type NoiseScale } from './noise-scale';
 import { THRESHOLDS } from './findings/thresholds';
+import { runUnits, UnitTask } from './unit-task';
 
 /** One batch size's run. */
 export interface BatchRun {
@@ -71,6 +72,13 @@ function noiseVerdict(batch: number, b: number | null): BatchVerdict {
  * are drawn. Returns null when `onUpdate` asked to stop.
  */
 export function compareBatchSizes(experiment: Experiment, state: SessionState, objective: Objective, sizes: readonly number[], budget: number, rng: Rng, options: BatchCompareOptions = {}): BatchComparison | null {
+  const task = batchCompareTask(experiment, state, objective, sizes, budget, rng, options);
+  const onUpdate = options.onUpdate;
+  return runUnits(task, onUpdate ? () => onUpdate(task.runIndex(), task.runDone(), task.runTotal()) : undefined);
+}
+
+/** The comparison as a resumable task of one update per unit over all runs (the worker runs it in slices); a stopped task's result is null. */
+export function batchCompareTask(experiment: Experiment, state: SessionState, objective: Objective, sizes: readonly number[], budget: number, rng: Rng, options: Omit<BatchCompareOptions, 'onUpdate'> = {}): UnitTask<BatchComparison | null> & { runIndex(): number; runDone(): number; runTotal(): number } {
   const n = objective.rowCount;
   if (n === 0) throw new RangeError('a batch-size comparison needs data rows; this objective has none');
   if (sizes.length < 2) throw new RangeError(`compare at least two batch sizes, got ${sizes.length}`);
@@ -79,36 +87,49 @@ export function compareBatchSizes(experiment: Experiment, state: SessionState, o
     if (!Number.isInteger(b) || b < 0) throw new RangeError(`batch sizes must be non-negative integers (0 = full batch), got ${b}`);
     return b === 0 || b >= n ? n : b;
   });
-  const total = batches.reduce((s, b) => s + Math.ceil(budget / b), 0);
+  const updates = batches.map((b) => Math.ceil(budget / b));
+  const total = updates.reduce((s, u) => s + u, 0);
   if (total > MAX_BATCH_COMPARE_UPDATES) throw new RangeError(`${total} updates in all for a budget of ${budget} examples, above the limit of ${MAX_BATCH_COMPARE_UPDATES}: use a smaller budget or larger batches`);
   const noiseScale = gradientNoiseScale(objective, state.params, rng.fork('noise'), { sample: options.noiseSample, step: state.step });
   const startLoss = objective.value(state.params);
   const runs: Omit<BatchRun, 'verdict'>[] = [];
-  for (let r = 0; r < batches.length; r++) {
-    const batch = batches[r];
-    const full = sizes[r] === 0 || sizes[r] >= n;
-    const recipe = copyPlain(experiment.recipe);
-    recipe.batch = full ? 'full' : batch;
-    // as a branch at this step would: a fresh row order when leaving full batch, the epoch continued otherwise
-    const session = Session.restore({ seed: experiment.seed, setup: experiment.setup, recipe }, adaptSessionState(state, recipe, objective), { objective });
-    const updates = Math.ceil(budget / batch);
-    const examples = [0];
-    const loss = [startLoss];
-    let diverged = false;
-    for (let k = 1; k <= updates; k++) {
-      const [rec] = session.step(1);
-      examples.push(k * batch);
-      loss.push(rec.loss);
-      if (!Number.isFinite(rec.loss)) { diverged = true; break; }
-      if (options.onUpdate && !options.onUpdate(r, k, updates)) return null;
-    }
+  let r = 0;
+  let k = 0;
+  let session: Session | null = null;
+  let examples: number[] = [];
+  let loss: number[] = [];
+  const close = (diverged: boolean): void => {
     const finite = loss.filter((x) => Number.isFinite(x));
-    runs.push({ batch, full, examples, loss, updates: examples.length - 1, finalLoss: diverged ? Infinity : finite[finite.length - 1], diverged, noise: noiseVerdict(batch, noiseScale.noiseScale) });
-  }
-  let best: number | null = null;
-  for (let r = 0; r < runs.length; r++) if (!runs[r].diverged && (best === null || runs[r].finalLoss < runs[best].finalLoss)) best = r;
-  return {
-    startStep: state.step, budget, noiseScale, best: best === null ? null : runs[best].batch,
-    runs: runs.map((run, r) => ({ ...run, verdict: r === best ? 'reference' : best === null ? 'diverged' : lossVerdict(run.finalLoss, runs[best].finalLoss) })),
+    const full = sizes[r] === 0 || sizes[r] >= n;
+    runs.push({ batch: batches[r], full, examples, loss, updates: examples.length - 1, finalLoss: diverged ? Infinity : finite[finite.length - 1], diverged, noise: noiseVerdict(batches[r], noiseScale.noiseScale) });
+    r += 1;
+    k = 0;
+    session = null;
   };
+  const task = new UnitTask<BatchComparison | null>(total, () => {
+    if (session === null) {
+      const recipe = copyPlain(experiment.recipe);
+      recipe.batch = sizes[r] === 0 || sizes[r] >= n ? 'full' : batches[r];
+      // as a branch at this step would: a fresh row order when leaving full batch, the epoch continued otherwise
+      session = Session.restore({ seed: experiment.seed, setup: experiment.setup, recipe }, adaptSessionState(state, recipe, objective), { objective });
+      examples = [0];
+      loss = [startLoss];
+    }
+    const [rec] = (session as Session).step(1);
+    k += 1;
+    examples.push(k * batches[r]);
+    loss.push(rec.loss);
+    if (!Number.isFinite(rec.loss)) close(true); // a diverged run's remaining updates are skipped
+    else if (k === updates[r]) close(false);
+    return r < batches.length; // the task ends once the last run closes
+  }, (stopped) => {
+    if (stopped) return null;
+    let best: number | null = null;
+    for (let i = 0; i < runs.length; i++) if (!runs[i].diverged && (best === null || runs[i].finalLoss < runs[best].finalLoss)) best = i;
+    return {
+      startStep: state.step, budget, noiseScale, best: best === null ? null : runs[best].batch,
+      runs: runs.map((run, i) => ({ ...run, verdict: i === best ? 'reference' : best === null ? 'diverged' : lossVerdict(run.finalLoss, runs[best as number].finalLoss) })),
+    };
+  });
+  return Object.assign(task, { runIndex: () => Math.min(r, batches.length - 1), runDone: () => k, runTotal: () => updates[Math.min(r, batches.length - 1)] });
 }

@@ -18,6 +18,7 @@ import type { Objective } from '../objective';
 import { Session } from '../session/live';
 import { copyPlain } from '../plain';
 import { adaptSessionState } from '../session/adapt';
+import { runUnits, UnitTask } from './unit-task';
 
 /** Why the range test ended. */
 export type RangeTestEnd = 'completed' | 'diverged' | 'stopped';
@@ -82,6 +83,11 @@ export function suggestRange(startLoss: number, lr: readonly number[], loss: rea
  * `objective` and is then dropped.
  */
 export function rangeTest(experiment: Experiment, state: SessionState, objective: Objective, options: RangeTestOptions = {}): RangeTestResult {
+  return runUnits(rangeTestTask(experiment, state, objective, options), options.onStep);
+}
+
+/** The range test as a resumable task of one update per rate (the worker runs it in slices; Stop ends it with what was measured). */
+export function rangeTestTask(experiment: Experiment, state: SessionState, objective: Objective, options: Omit<RangeTestOptions, 'onStep'> = {}): UnitTask<RangeTestResult> {
   const grid = geometricGrid(options.from ?? 1e-5, options.to ?? 10, options.steps ?? 40);
   const blowUp = options.blowUp ?? 10;
   const recipe = copyPlain(experiment.recipe);
@@ -91,16 +97,15 @@ export function rangeTest(experiment: Experiment, state: SessionState, objective
   const startLoss = objective.value(state.params);
   const lr: number[] = [];
   const loss: number[] = [];
-  let end: RangeTestEnd = 'completed';
-  for (let k = 0; k < grid.length; k++) {
+  let diverged = false;
+  return new UnitTask(grid.length, (k) => {
     recipe.lr = grid[k];
     const fork = Session.restore({ seed: experiment.seed, setup: experiment.setup, recipe }, current, { objective });
     const [rec] = fork.step(1);
     lr.push(grid[k]);
     loss.push(rec.loss);
     current = fork.state();
-    if (!Number.isFinite(rec.loss) || rec.loss > blowUp * startLoss) { end = 'diverged'; break; }
-    if (options.onStep && !options.onStep(k + 1, grid.length)) { end = 'stopped'; break; }
-  }
-  return { startStep: state.step, startLoss, lr, loss, grid, end, suggested: suggestRange(startLoss, lr, loss) };
+    diverged = !Number.isFinite(rec.loss) || rec.loss > blowUp * startLoss;
+    return !diverged;
+  }, (stopped) => ({ startStep: state.step, startLoss, lr: lr.slice(), loss: loss.slice(), grid, end: stopped ? 'stopped' : diverged ? 'diverged' : 'completed', suggested: suggestRange(startLoss, lr, loss) }));
 }

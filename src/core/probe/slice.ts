@@ -8,6 +8,7 @@
 import type { Objective, Rows } from '../objective';
 import type { Rng } from '../rng';
 import { filterNormalizedDirection, projectOntoPlane, topEigendirections } from './directions';
+import { runUnits, UnitTask } from './unit-task';
 
 /** How the two directions were chosen. */
 export type PlaneKind = 'random' | 'eigenvectors';
@@ -59,6 +60,12 @@ export function planeDirections(objective: Objective, w: Float64Array, kind: Pla
  */
 export function planeReadout(objective: Objective, w: Float64Array, step: number, kind: PlaneKind, d: { d1: Float64Array; d2: Float64Array; eigenvalues?: [number, number] },
   path: { steps: number[]; weights: readonly Float64Array[] }, options: PlaneOptions = {}): PlaneReadout | null {
+  return runUnits(planeTask(objective, w, step, kind, d, path, options), options.onRow);
+}
+
+/** The plane readout as a resumable task of one grid row per unit (the worker runs it in slices); a stopped task's result is null. */
+export function planeTask(objective: Objective, w: Float64Array, step: number, kind: PlaneKind, d: { d1: Float64Array; d2: Float64Array; eigenvalues?: [number, number] },
+  path: { steps: number[]; weights: readonly Float64Array[] }, options: Omit<PlaneOptions, 'onRow'> = {}): UnitTask<PlaneReadout | null> {
   const points = options.points ?? 21;
   if (!Number.isInteger(points) || points < 3 || points > 201) throw new RangeError(`points must be an integer from 3 to 201, got ${points}`);
   if (path.steps.length !== path.weights.length) throw new RangeError(`path has ${path.steps.length} steps but ${path.weights.length} weight vectors`);
@@ -70,7 +77,8 @@ export function planeReadout(objective: Objective, w: Float64Array, step: number
   const axis = Array.from({ length: points }, (_, i) => -span + (2 * span * i) / (points - 1));
   const x = new Float64Array(w.length);
   const loss: number[][] = [];
-  for (let j = 0; j < points; j++) {
+  const norm = (v: Float64Array): number => Math.sqrt(v.reduce((s, e) => s + e * e, 0));
+  return new UnitTask<PlaneReadout | null>(points, (j) => {
     const row: number[] = [];
     for (let i = 0; i < points; i++) {
       const a = axis[i];
@@ -79,13 +87,14 @@ export function planeReadout(objective: Objective, w: Float64Array, step: number
       row.push(objective.value(x, options.rows));
     }
     loss.push(row);
-    if (options.onRow && !options.onRow(j + 1, points)) return null;
-  }
-  const norm = (v: Float64Array): number => Math.sqrt(v.reduce((s, e) => s + e * e, 0));
-  const out: PlaneReadout = {
-    step, kind, alpha: axis, beta: axis.slice(), loss, norms: [norm(d1), norm(d2)],
-    path: { steps: path.steps.slice(), ...projected }, evaluations: points * points,
-  };
-  if (d.eigenvalues) out.eigenvalues = d.eigenvalues;
-  return out;
+    return true;
+  }, (stopped) => {
+    if (stopped) return null;
+    const out: PlaneReadout = {
+      step, kind, alpha: axis, beta: axis.slice(), loss, norms: [norm(d1), norm(d2)],
+      path: { steps: path.steps.slice(), ...projected }, evaluations: points * points,
+    };
+    if (d.eigenvalues) out.eigenvalues = d.eigenvalues;
+    return out;
+  });
 }
