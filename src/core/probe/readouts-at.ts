@@ -5,15 +5,18 @@
  * throwaway fork.
  */
 import { Session } from '../session/live';
-import type { Rng } from '../rng';
 import { Network } from '../model/network';
 import { topEigendirections } from './directions';
 import { lineReadout, type LineOptions, type LineReadout } from './line';
-import { planeDirections, planeReadout, type PlaneKind, type PlaneOptions, type PlaneReadout } from './slice';
-import { rangeTest, type RangeTestOptions, type RangeTestResult } from './range-test';
+import { planeDirections, planeReadout, planeTask, type PlaneKind, type PlaneOptions, type PlaneReadout } from './slice';
+import { rangeTest, rangeTestTask, type RangeTestOptions, type RangeTestResult } from './range-test';
 import { precisionReadout, PRECISION_BITS, type PrecisionReadout } from './precision';
 import { sharpnessPoint } from './findings/gather';
+import { batchCompareTask } from './batch-compare';
 import type { SharpnessPoint } from './findings/evidence';
+import { Rng } from '../rng';
+import { mapTask, UnitTask, type StoppableTask } from './unit-task';
+import type { BatchComparison } from './batch-compare';
 
 /** The update the session would apply next (Δw = w_{k+1} − w_k), from a throwaway fork. */
 export function peekUpdate(session: Session): Float64Array {
@@ -67,4 +70,61 @@ export function precisionAt(session: Session, bits: readonly number[] = PRECISIO
   const net = session.objective instanceof Network ? session.objective : null;
   const classify = net && setup.data && setup.loss !== 'mse' ? { predictor: net, y: setup.data.y, loss: setup.loss } : undefined;
   return precisionReadout(session.objective, session.parameters, session.stepCount, bits, classify);
+}
+
+/** What the cell asks for: one deeper readout and its options. */
+export type DeeperRequest =
+  | { what: 'line'; points?: number }
+  | { what: 'plane'; directions: PlaneKind; points?: number }
+  | { what: 'range'; from?: number; to?: number; steps?: number }
+  | { what: 'precision'; bits?: number[] }
+  | { what: 'batch'; sizes: number[]; examples: number };
+
+/** A deeper readout taken at one step of a branch (plain data: it crosses the Worker boundary and can be stored). */
+export type DeeperResult =
+  | { what: 'line'; step: number; result: LineReadout }
+  | { what: 'plane'; step: number; result: PlaneReadout }
+  | { what: 'range'; step: number; result: RangeTestAtResult }
+  | { what: 'precision'; step: number; result: PrecisionReadout }
+  | { what: 'batch'; step: number; result: BatchComparison };
+
+/**
+ * One deeper readout at the session's state as a resumable task (the engine worker runs it in
+ * slices with progress and Stop; a stopped task's result is null). The generator is the seed's
+ * `<what>-<step>` fork, like the cell's audit and curvature, so a repeat gives the same numbers.
+ * `path` (weights at earlier steps of the branch) is projected onto the plane.
+ */
+export function deeperTask(session: Session, request: DeeperRequest, path: { steps: number[]; weights: readonly Float64Array[] } = { steps: [], weights: [] }): StoppableTask<DeeperResult | null> {
+  const step = session.stepCount;
+  const rng = Rng.fromSeed(session.experiment.seed).fork(`${request.what}-${step}`);
+  const once = <T>(make: () => T): UnitTask<T | null> => {
+    let value: T | null = null;
+    return new UnitTask<T | null>(1, () => { value = make(); return false; }, (stopped) => (stopped ? null : value));
+  };
+  switch (request.what) {
+    case 'line':
+      return once(() => ({ what: 'line', step, result: lineAt(session, rng, { points: request.points }) }));
+    case 'precision':
+      return once(() => ({ what: 'precision', step, result: precisionAt(session, request.bits) }));
+    case 'plane': {
+      const w = Float64Array.from(session.parameters);
+      const d = planeDirections(session.objective, w, request.directions, rng, session.curvatureRows());
+      const t = planeTask(session.objective, w, step, request.directions, d, path, { points: request.points });
+      return mapTask(t, (r) => (r === null ? null : { what: 'plane', step, result: r }));
+    }
+    case 'range': {
+      const limit = sharpnessPoint(session, rng.fork('sharpness'));
+      const t = rangeTestTask(session.experiment, session.state(), session.objective, request);
+      const bound = limit?.largestStableLr ?? null;
+      return mapTask(t, (r): DeeperResult => ({ what: 'range', step, result: { ...r, limit, beyondLimit: bound !== null && r.suggested !== null && r.suggested.high > bound } }));
+    }
+    case 'batch': {
+      const t = batchCompareTask(session.experiment, session.state(), session.objective, request.sizes, request.examples, rng);
+      return mapTask(t, (r) => (r === null ? null : { what: 'batch', step, result: r }));
+    }
+    default: {
+      const never: never = request;
+      throw new Error(`unknown readout ${JSON.stringify(never)}`);
+    }
+  }
 }

@@ -7,8 +7,14 @@
 import type { GroveTask } from '../session/task';
 import type { StepHooks } from '../session/live';
 
+/** A {@link GroveTask} that can also be ended early with the result of what it has done. */
+export interface StoppableTask<T> extends GroveTask<T> {
+  /** Ends the task where it is and returns its (partial or null) result. */
+  stop(): T;
+}
+
 /** A task of `total` units done in order by `unit(k)`, then `finish(stopped)`. */
-export class UnitTask<T> implements GroveTask<T> {
+export class UnitTask<T> implements StoppableTask<T> {
   private doneCount = 0;
   private value: { v: T } | null = null;
 
@@ -64,4 +70,18 @@ export function runUnits<T>(task: UnitTask<T>, keepGoing?: (done: number, total:
   let stop = false;
   task.run({ onProgress: (d, n) => { if (keepGoing && !keepGoing(d, n)) stop = true; }, shouldStop: () => stop });
   return task.finished ? task.result() : task.stop();
+}
+
+/** `task` with its result passed through `f` (progress, slices and Stop are the task's own). */
+export function mapTask<A, B>(task: StoppableTask<A>, f: (a: A) => B): StoppableTask<B> {
+  let mapped: { v: B } | null = null;
+  const once = (a: () => A): B => (mapped ??= { v: f(a()) }).v;
+  return {
+    get total() { return task.total; },
+    get done() { return task.done; },
+    get finished() { return task.finished; },
+    run: (hooks) => task.run(hooks),
+    result: () => once(() => task.result()),
+    stop: () => once(() => task.stop()),
+  };
 }

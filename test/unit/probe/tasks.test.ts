@@ -10,6 +10,7 @@ import { rangeTest, rangeTestTask } from '../../../src/core/probe/range-test';
 import { planeReadout, planeTask, planeDirections } from '../../../src/core/probe/slice';
 import { batchCompareTask, compareBatchSizes } from '../../../src/core/probe/batch-compare';
 import type { UnitTask } from '../../../src/core/probe/unit-task';
+import { deeperTask, lineAt, planeAt, precisionAt, rangeTestAt } from '../../../src/core/probe/readouts-at';
 
 const r = parseSpec(`seed: 8
 model: { inputs: 2, layers: [{ units: 4, activation: { expr: "x / (1 + abs(x))" } }, { units: 1 }] }
@@ -61,5 +62,30 @@ describe('readouts as resumable tasks', () => {
     expect(task.total).toBe(6 + 2);
     expect(sliced(task).calls).toBe(8);
     expect(task.result()).toEqual(whole);
+  });
+
+  it('deeperTask gives each readout as the session-level call with the <what>-<step> generator, as plain data', () => {
+    const fork = (what: string): Rng => Rng.fromSeed(8).fork(`${what}-4`);
+    const path = { steps: [4], weights: [Float64Array.from(s.parameters)] };
+    const cases = [
+      [{ what: 'line' as const }, () => lineAt(s, fork('line'))],
+      [{ what: 'plane' as const, directions: 'random' as const, points: 5 }, () => planeAt(s, 'random', fork('plane'), path, { points: 5 })],
+      [{ what: 'range' as const, steps: 8 }, () => rangeTestAt(s, fork('range'), { steps: 8 })],
+      [{ what: 'precision' as const }, () => precisionAt(s)],
+      [{ what: 'batch' as const, sizes: [3, 0], examples: 12 }, () => compareBatchSizes(s.experiment, s.state(), s.objective, [3, 0], 12, fork('batch'))],
+    ] as const;
+    expect(cases.length).toBe(5);
+    for (const [request, direct] of cases) {
+      const task = deeperTask(s, request, path);
+      while (!task.run({ shouldStop: () => true })) { /* one unit per call */ }
+      const got = task.result();
+      expect(got?.what).toBe(request.what);
+      expect(got?.step).toBe(4);
+      expect(got?.result).toEqual(direct());
+      expect(JSON.parse(JSON.stringify(got))).toEqual(got);
+    }
+    const stopped = deeperTask(s, { what: 'plane', directions: 'random', points: 9 }, path);
+    stopped.run({ shouldStop: () => true });
+    expect(stopped.stop()).toBeNull();
   });
 });
