@@ -77,8 +77,8 @@ export type DeeperRequest =
   | { what: 'line'; points?: number }
   | { what: 'plane'; directions: PlaneKind; points?: number }
   | { what: 'range'; from?: number; to?: number; steps?: number }
-  | { what: 'precision'; bits?: number[] }
-  | { what: 'batch'; sizes: number[]; examples: number };
+  | { what: 'precision'; bits?: readonly number[] }
+  | { what: 'batch'; sizes: readonly number[]; examples: number };
 
 /** A deeper readout taken at one step of a branch (plain data: it crosses the Worker boundary and can be stored). */
 export type DeeperResult =
