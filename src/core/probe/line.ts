@@ -54,7 +54,7 @@ export interface LineOptions {
   rows?: Rows;
   /** Grid points (default 41). */
   points?: number;
-  /** Grid range (default −0.5 … 2.5 steps along the update; ±2·max(‖Δw‖, |Δw·u|) along the eigenvector). */
+  /** Grid range (default −0.5 … 2.5 steps along the update; ±2·max(‖Δw‖, |Δw·u|) along the eigenvector, where {@link lineReadout} never passes these). */
   from?: number;
   to?: number;
   /** Relative tolerance of Brent's method (default 1e-8). */
@@ -119,11 +119,12 @@ export interface LineReadout {
 
 /**
  * Both lines at `w`: along the step Δw the optimizer takes next, and along the top eigenvector
- * `top` (unit, with its eigenvalue) when given.
+ * `top` (unit, with its eigenvalue) when given. `options.from`/`to` set the update line's range.
  */
 export function lineReadout(objective: Objective, w: Float64Array, stepIndex: number, update: Float64Array, top: { value: number; vector: Float64Array } | null, options: LineOptions = {}): LineReadout {
   const loss = objective.value(w, options.rows);
   const out: LineReadout = { step: stepIndex, loss, update: lineCurve(objective, w, 'update', update, update, options) };
-  if (top !== null) out.eigenvector = { ...lineCurve(objective, w, 'eigenvector', top.vector, update, options), eigenvalue: top.value };
+  // from/to are multiples of the step: they shape the update line only (the eigenvector line's t is a distance)
+  if (top !== null) out.eigenvector = { ...lineCurve(objective, w, 'eigenvector', top.vector, update, { ...options, from: undefined, to: undefined }), eigenvalue: top.value };
   return out;
 }

@@ -180,3 +180,16 @@ describe('plane readout', () => {
     expect(rowsChecked).toBe(6);
   });
 });
+
+describe('line readout ranges', () => {
+  it('--from/--to shape the update line only; the eigenvector line keeps its distance range', () => {
+    const q = new Quadratic(A, C);
+    const w = Float64Array.of(1, -1, 0.5, 2);
+    const step = Float64Array.from(grad(w), (x) => -0.1 * x);
+    const r = lineReadout(q, w, 0, step, { value: 10, vector: column(0) }, { from: 0, to: 4, points: 5 });
+    expect(r.update.t).toEqual([0, 1, 2, 3, 4]);
+    const spread = Math.max(Math.hypot(...step), Math.abs(dotN(step, column(0))));
+    expect(r.eigenvector!.t[0]).toBeCloseTo(-2 * spread, 14);
+    expect(r.eigenvector!.t[4]).toBeCloseTo(2 * spread, 14);
+  });
+});
