@@ -80,6 +80,16 @@ function curveLines(c: LineCurve, title: string, unit: string): string[] {
 
 /** Runs the command (exit 0 once the readout is taken; a diverging fork is part of a range test, not an error). */
 export function probeCommand(path: string, flags: ProbeFlags): CommandResult {
+  try {
+    return probe(path, flags);
+  } catch (e) {
+    // the readouts refuse what they cannot measure (a zero direction, too few parameters) with a RangeError that says why
+    if (e instanceof RangeError) throw new CliError(e.message);
+    throw e;
+  }
+}
+
+function probe(path: string, flags: ProbeFlags): CommandResult {
   const what = kindOf(flags.what);
   const steps = positiveInt(flags.steps, '--steps', 0, MAX_STEPS);
   const points = flags.points === undefined ? undefined : positiveInt(flags.points, '--points', 0, 201);
@@ -138,13 +148,7 @@ export function probeCommand(path: string, flags: ProbeFlags): CommandResult {
       if (n === 0) throw new CliError('--what batch needs a data set: this objective has no rows');
       const budget = positiveInt(flags.examples, '--examples', 10 * n, Number.MAX_SAFE_INTEGER);
       if (budget === 0) throw new CliError('--examples must be positive');
-      let r;
-      try {
-        r = compareBatchSizes(experiment, session.state(), session.objective, sizes, budget, rng);
-      } catch (e) {
-        if (e instanceof RangeError) throw new CliError(e.message);
-        throw e;
-      }
+      const r = compareBatchSizes(experiment, session.state(), session.objective, sizes, budget, rng);
       if (r === null) throw new CliError('the batch-size comparison was stopped');
       if (flags.json) return { out: toJson({ what, ...r }) + '\n', warnings, code: 0 };
       const b = r.noiseScale.noiseScale;

@@ -103,6 +103,13 @@ describe('stepwell probe', () => {
     expect(fixed.out).toMatch(/layer 0: max [0-9.]+e-\d+, median [0-9.]+e-\d+, right/);
   });
 
+  it('a readout that cannot be measured is a one-line error, not a crash', async () => {
+    const one = file('one.yaml', 'seed: 1\nmodel: { objective: quadratic, matrix: [[2]] }\nrecipe: { optimizer: sgd, lr: 0.1 }\n');
+    const r = await cli('probe', one, '--what', 'plane', '--directions', 'eigenvectors');
+    expect(r.code).toBe(2);
+    expect(r.err).toBe('stepwell: a plane of eigenvectors needs at least 2 parameters\n');
+  });
+
   it('a bad expression is an error at its line and column', async () => {
     const r = await cli('probe', file('bad.yaml', fanSpec('{ expr: "tanh(u)" }')), '--what', 'line');
     expect(r.code).toBe(2);
