@@ -1,7 +1,7 @@
 /**
  * `stepwell` command line over core + spec + ledger: `inspect` (loss, gradient, Hessian products,
  * eigenvalues, gradient audit at the initial point), `run` (a trajectory from spec + seed),
- * `diagnose` (findings with proposals), `export` (PyTorch script, weights, trajectories), and on
+ * `diagnose` (findings with proposals), `probe` (line, plane, range test, precision), `export` (PyTorch script, weights, trajectories), and on
  * notebooks `verify` (replay every cell's ledger) and `report` (a standalone report).
  * Every command prints JSON with `--json` and a readable summary otherwise.
  */
@@ -13,6 +13,7 @@ import { exportCommand } from './export';
 import { diagnoseCommand } from './diagnose';
 import { verifyCommand, EXIT_DIFFERS, EXIT_WITHIN } from './verify';
 import { reportCommand } from './report';
+import { probeCommand } from './probe';
 
 const USAGE = `usage:
   stepwell inspect SPEC [--json] [--vector FILE] [--top K] [--bottom K] [--trace] [--density]
@@ -39,6 +40,18 @@ const USAGE = `usage:
     steps the recipe N times (default 100), measures the sharpness against the stability limit along the way and
     the curvature, gradient audit and noise scale at the end, and prints the findings; each proposal is printed so
     that stepwell run SPEC --steps N --branch STEP:KEY=VALUE,... tries it; a recipe that diverges is a finding, not an error
+  stepwell probe SPEC --what line|plane|range|precision|batch [--steps N] [--json] [--set KEY=VALUE ...] [--points N] [--from X] [--to Y]
+        [--directions random|eigenvectors] [--bits 16,10,8,6,4] [--batches 4,16,full] [--examples N]
+    steps the recipe N times (default 0), then takes one readout at that state without moving it:
+    line       the loss along the next update (t = 1 is the step taken) and along the top Hessian eigenvector, each with
+               its quadratic model and Brent's minimum; --points grid points (41), --from/--to the range in steps (-0.5 … 2.5)
+    plane      the loss over a --points × --points grid (21) of two filter-normalized random directions (Li et al. 2018) or
+               the top two eigenvectors, with the trajectory so far projected onto the plane
+    range      learning-rate range test (Smith 2017) on a throwaway fork: --points updates (40) with lr growing
+               geometrically from --from (1e-5) to --to (10); the suggested range and the recipe's stability limit beside it
+    precision  loss (and accuracy for classification) with the weights rounded to --bits significant bits
+    batch      the recipe continued with each of --batches until each has drawn --examples examples (default 10 passes
+               over the data), compared at equal examples seen, beside the gradient noise scale B = tr(Σ)/|G|²
   stepwell verify NOTEBOOK.ipynb [--json] [--cell N] [--max-updates N]
     replays every stepwell cell of the notebook, every branch, from spec and seed to every stored checkpoint and its
     tip, and says per branch: bit-identical, within tolerance (which quantity, how far) or differs from step k (which
@@ -48,7 +61,7 @@ const USAGE = `usage:
     a standalone report per stepwell cell: verification, figures (SVG), branches and their changes, findings with
     sources, recipes, spec, fingerprints; .html is one file that needs no server or network, .md writes its figures
     into FILE_files/ beside it; exits 0 once written (use verify as the gate)
-  inspect, run, diagnose and export take --limit NAME=VALUE (repeatable) to raise a size limit checked before anything is allocated:
+  inspect, run, diagnose, probe and export take --limit NAME=VALUE (repeatable) to raise a size limit checked before anything is allocated:
     maxSpecChars, maxParameters, maxRows, maxColumns, maxActivations, maxFileBytes (defaults in DEVELOPERS.md)
   exit status: 0 done (verify: all bit-identical, nothing changed), 2 bad input, 3 run: the loss or the weights became
     non-finite (unless --until diverged), ${EXIT_DIFFERS} verify: a replay differs, the spec or data changed, a ledger was edited or
@@ -93,6 +106,13 @@ export async function main(argv: string[], out: Sink, err: Sink): Promise<number
           out: { type: 'string' }, cell: { type: 'string' }, 'max-updates': { type: 'string' },
         } });
         return report(reportCommand(notebookPath(a.positionals), a.values), out, err);
+      }
+      case 'probe': {
+        const a = parseArgs({ args: rest, allowPositionals: true, options: {
+          what: { type: 'string' }, json: { type: 'boolean' }, steps: { type: 'string' }, points: { type: 'string' }, from: { type: 'string' }, to: { type: 'string' },
+          directions: { type: 'string' }, bits: { type: 'string' }, batches: { type: 'string' }, examples: { type: 'string' }, set: { type: 'string', multiple: true }, limit: { type: 'string', multiple: true },
+        } });
+        return report(probeCommand(specPath(a.positionals), a.values), out, err);
       }
       case 'diagnose': {
         const a = parseArgs({ args: rest, allowPositionals: true, options: {

@@ -15,7 +15,7 @@ export function buildObjective(setup: Setup): Objective {
   switch (m.kind) {
     case 'network':
       if (!setup.data) throw new Error('a network model needs data (data.x, data.y)');
-      return new Network(m, setup.data, setup.loss, setup.l2);
+      return new Network(m, setup.data, setup.loss, setup.l2, { lossExpression: setup.lossExpression });
     case 'quadratic':
       return new Quadratic(m.matrix, m.center);
     case 'rosenbrock':
@@ -32,7 +32,7 @@ export function buildHeldOutObjective(setup: Setup): Objective | undefined {
   const m = setup.model;
   const h = setup.data?.heldOut;
   if (m.kind !== 'network' || !setup.data || !h) return undefined;
-  return new Network(m, { rows: h.rows, inputs: setup.data.inputs, targets: setup.data.targets, x: h.x, y: h.y }, setup.loss, setup.l2);
+  return new Network(m, { rows: h.rows, inputs: setup.data.inputs, targets: setup.data.targets, x: h.x, y: h.y }, setup.loss, setup.l2, { lossExpression: setup.lossExpression });
 }
 
 /**

@@ -5,9 +5,27 @@
  * Vocabulary: the *setup* is what is optimized (model, data, loss, regularization); the
  * *recipe* is how (optimizer, hyper-parameters, schedule, batches).
  */
+import type { Expr } from './model/expression';
 
-/** Activation functions; each has f, f′ and f″ in `core/model/activations.ts`. */
-export type ActivationName = 'linear' | 'tanh' | 'sigmoid' | 'relu' | 'leaky-relu' | 'softplus' | 'elu' | 'gelu';
+/**
+ * Activation functions; each has f, f′ and f″ in `core/model/activations.ts`. `expression` is the
+ * user's own, written in the spec (`LayerSetup.expression`, evaluated by `core/model/expression.ts`).
+ */
+export type ActivationName = 'linear' | 'tanh' | 'sigmoid' | 'relu' | 'leaky-relu' | 'softplus' | 'elu' | 'gelu' | 'expression';
+
+/**
+ * A user's activation as written (`activation: { expr, derivative }`) and as evaluated: trees of
+ * f(x), f′(x) and f″(x) over the one variable x (index 0). `derivedBy` says whether f′ is the
+ * user's text or was derived symbolically; f″ is always derived from the f′ used.
+ */
+export interface ActivationExpression {
+  expr: string;
+  derivative: string;
+  derivedBy: 'user' | 'symbolic';
+  f: Expr;
+  d1: Expr;
+  d2: Expr;
+}
 
 /** Initialization schemes (published variances in `core/model/init.ts`). */
 export type InitScheme =
@@ -20,7 +38,21 @@ export type InitScheme =
   | 'orthogonal';
 
 /** Loss functions (conventions match the major frameworks' mean reductions). */
-export type LossName = 'mse' | 'cross-entropy' | 'binary-cross-entropy';
+export type LossName = 'mse' | 'cross-entropy' | 'binary-cross-entropy' | 'expression';
+
+/**
+ * A user's elementwise loss term ℓ(y, t) of an output y and its target t (variables 0 and 1),
+ * averaged over every output of every row like mse: as written (`loss: { expr, derivative }`) and
+ * as evaluated, with ∂ℓ/∂y (the user's or derived) and ∂²ℓ/∂y² derived from it.
+ */
+export interface LossExpression {
+  expr: string;
+  derivative: string;
+  derivedBy: 'user' | 'symbolic';
+  f: Expr;
+  d1: Expr;
+  d2: Expr;
+}
 
 /**
  * Parameters of the parametrized activations, PyTorch's names and defaults:
@@ -40,6 +72,8 @@ export interface LayerSetup {
   activation: ActivationName;
   /** Parameters of leaky-relu, elu and softplus; absent means PyTorch's defaults. */
   params?: Partial<ActivationParams>;
+  /** The user's expression, present exactly when `activation` is `expression`. */
+  expression?: ActivationExpression;
 }
 
 /** Explicit initial parameters of one layer: `weight` is `[units][fanIn]`, `bias` is `[units]`. */
@@ -151,6 +185,8 @@ export interface Setup {
   model: ModelSetup;
   data?: DataSetup;
   loss: LossName;
+  /** The user's loss term, present exactly when `loss` is `expression`. */
+  lossExpression?: LossExpression;
   /** Adds ½·l2·Σ‖W‖² over weight matrices (not biases). */
   l2: number;
 }

@@ -4,6 +4,7 @@
  * defensively: they run even when the schema already failed, and skip whatever the
  * schema reports, so the user sees every problem at once.
  */
+import { activationExpression, lossExpression } from './expression';
 import { formatPath } from './path';
 import type { Path } from './path';
 
@@ -12,6 +13,17 @@ export interface CheckProblem {
   path: Path;
   message: string;
   atKey?: boolean;
+  /** Offset inside the string value at `path` (an expression's column), when the problem is inside it. */
+  within?: number;
+}
+
+/**
+ * An expression problem said of its key: the reader's subject ("the derivative: unknown symbol …",
+ * "the activation expression has bad syntax …") replaced by the path.
+ */
+function atKey(path: string, message: string): string {
+  const rest = message.replace(/^(the activation expression|the loss expression|the derivative)(:\s*|\s+(?=has |is ))/, '');
+  return /^(has|is) /.test(rest) ? `${path} ${rest}` : `${path}: ${rest}`;
 }
 
 /** Errors block the experiment; warnings flag legal but suspicious choices. */
@@ -205,7 +217,13 @@ function checkNetwork(spec: Obj, model: Obj, report: CheckReport): void {
   const PARAM_OF: Record<string, string> = { slope: 'leaky-relu', alpha: 'elu', beta: 'softplus', threshold: 'softplus' };
   layers.forEach((layer, k) => {
     if (!isObj(layer)) return;
-    const act = typeof layer.activation === 'string' ? layer.activation : 'linear';
+    if (isObj(layer.activation) && typeof layer.activation.expr === 'string') {
+      const d = layer.activation.derivative;
+      const read = activationExpression(layer.activation.expr, typeof d === 'string' ? d : undefined);
+      if (!read.ok)
+        report.errors.push({ path: ['model', 'layers', k, 'activation', read.key], within: read.problem.at, message: atKey(`model.layers[${k}].activation.${read.key}`, read.problem.message) });
+    }
+    const act = typeof layer.activation === 'string' ? layer.activation : isObj(layer.activation) ? 'expression' : 'linear';
     for (const [key, owner] of Object.entries(PARAM_OF))
       if (layer[key] !== undefined && act !== owner)
         report.warnings.push({ path: ['model', 'layers', k, key], atKey: true, message: `model.layers[${k}].${key} applies to ${owner}, not to ${act}, so it has no effect` });
@@ -341,6 +359,11 @@ export function crossCheck(spec: unknown): CheckReport {
     else checkNetwork(spec, model, report);
   }
   if (isObj(spec.recipe)) checkRecipe(spec.recipe, report);
+  if (isObj(spec.loss) && typeof spec.loss.expr === 'string') {
+    const d = spec.loss.derivative;
+    const read = lossExpression(spec.loss.expr, typeof d === 'string' ? d : undefined);
+    if (!read.ok) report.errors.push({ path: ['loss', read.key], within: read.problem.at, message: atKey(`loss.${read.key}`, read.problem.message) });
+  }
   return report;
 }
 

@@ -62,7 +62,7 @@ export interface LoadedFiles {
   weights?: { layers: LayerWeights[]; origin: FileOrigin };
 }
 
-const TARGET_KIND: Record<LossName, TargetKind> = { mse: 'value', 'cross-entropy': 'class', 'binary-cross-entropy': 'binary' };
+const TARGET_KIND: Record<LossName, TargetKind> = { mse: 'value', 'cross-entropy': 'class', 'binary-cross-entropy': 'binary', expression: 'value' };
 
 function origin(name: string, bytes: Uint8Array): FileOrigin {
   return { name, bytes: bytes.length, sha256: sha256Hex(bytes) };

@@ -65,7 +65,7 @@ interface Placed extends SpecError {
 }
 
 function place(source: SourceText, p: CheckProblem): Placed {
-  const pos = source.locate(p.path, p.atKey ? 'key' : 'value');
+  const pos = source.locate(p.path, p.atKey ? 'key' : 'value', p.within);
   const e: Placed = { path: formatPath(p.path), message: p.message, offset: pos ? pos.offset : Number.MAX_SAFE_INTEGER };
   if (pos) {
     e.line = pos.line;

@@ -3,6 +3,7 @@
  * normalized {@link Experiment}: every default applied, data packed row-major into
  * Float64Arrays. Defaults here match the `description`s of `spec.schema.json`.
  */
+import { activationExpression, lossExpression } from './expression';
 import type {
   ActivationName, ActivationParams, DataSetup, PhaseSchedule, Experiment, InitScheme, LayerSetup, LayerWeights, LossName, ModelSetup,
   OptimizerName, Recipe, ScheduleSetup,
@@ -91,6 +92,13 @@ function buildModel(raw: Obj): ModelSetup {
   if (objective === 'rosenbrock') return { kind: 'rosenbrock', start: raw.start !== undefined ? vec(raw.start) : [-1.2, 1] };
   const layers: LayerSetup[] = (raw.layers as Obj[]).map((l) => {
     const layer: LayerSetup = { units: l.units as number, activation: strOr<ActivationName>(l.activation, 'linear') };
+    if (typeof l.activation === 'object' && l.activation !== null && !Array.isArray(l.activation)) {
+      const a = l.activation as Obj;
+      const read = activationExpression(String(a.expr), typeof a.derivative === 'string' ? a.derivative : undefined);
+      if (!read.ok) throw new Error(read.problem.message); // crossCheck reported it first
+      layer.activation = 'expression';
+      layer.expression = read.value;
+    }
     const params: Partial<ActivationParams> = {};
     for (const k of ['slope', 'alpha', 'beta', 'threshold'] as const) if (typeof l[k] === 'number') params[k] = l[k] as number;
     if (Object.keys(params).length > 0) layer.params = params;
@@ -212,6 +220,13 @@ export function buildExperiment(value: unknown, loaded: LoadedFiles = {}, deferr
   const l2 = numOr(obj(spec.regularization).l2, 0);
   const layerCount = model.kind === 'network' ? model.layers.length : 0;
   const setup: Experiment['setup'] = { model, loss, l2 };
+  if (typeof spec.loss === 'object' && spec.loss !== null && !Array.isArray(spec.loss)) {
+    const raw = spec.loss as Obj;
+    const read = lossExpression(String(raw.expr), typeof raw.derivative === 'string' ? raw.derivative : undefined);
+    if (!read.ok) throw new Error(read.problem.message); // crossCheck reported it first
+    setup.loss = 'expression';
+    setup.lossExpression = read.value;
+  }
   const fromFile = typeof obj(spec.data).file === 'string';
   if (model.kind === 'network' && !(deferred && fromFile && loaded.data === undefined)) {
     setup.data = loaded.data ? fileData(loaded.data, obj(spec.data).standardize === true) : buildData(obj(spec.data), model.inputs);

@@ -26,6 +26,7 @@ interface SchemaNode {
   exclusiveMinimum?: number;
   exclusiveMaximum?: number;
   properties?: Record<string, unknown>;
+  required?: string[];
 }
 
 /**
@@ -78,8 +79,11 @@ export function phrase(s: SchemaNode): string {
     }
     case 'array':
       return 'a list';
-    case 'object':
-      return 'a mapping';
+    case 'object': {
+      if (!s.required || !s.properties) return 'a mapping';
+      const optional = Object.keys(s.properties).filter((k) => !s.required?.includes(k));
+      return `a mapping of ${s.required.join(', ')}${optional.length > 0 ? ` (optionally ${optional.join(', ')})` : ''}`;
+    }
     case 'boolean':
       return 'true or false';
     case 'string':
@@ -123,8 +127,12 @@ function reword(e: ErrorObject): SchemaProblem | undefined {
     case 'exclusiveMinimum':
     case 'exclusiveMaximum':
     case 'anyOf':
-    case 'oneOf':
-      return { path, message: `${subject(path)} must be ${phrase(parent)}, got ${got}`, atKey: false };
+    case 'oneOf': {
+      // A misspelt name where one alternative is a list of names (an activation's): suggest the nearest.
+      const names = (parent.anyOf ?? []).flatMap((a) => a.enum ?? []).map(String);
+      const guess = typeof e.data === 'string' && names.length > 0 ? closest(e.data, names) : undefined;
+      return { path, message: `${subject(path)} must be ${phrase(parent)}, got ${got}${guess ? ` (did you mean '${guess}'?)` : ''}`, atKey: false };
+    }
     case 'pattern':
       // the schema's patterns: SHA-256 hex digests and relative file paths
       if ((e.params as { pattern: string }).pattern === '^[0-9a-f]{64}$') return { path, message: `${subject(path)} must be 64 lowercase hex digits (a SHA-256), got ${got}`, atKey: false };

@@ -26,8 +26,11 @@ export type Anchor = 'value' | 'key';
 export interface SourceText {
   /** The plain JavaScript value (undefined when the text holds nothing). */
   value: unknown;
-  /** Position of the node at `path`, or of its nearest existing ancestor. */
-  locate(path: Path, anchor?: Anchor): SourcePosition | undefined;
+  /**
+   * Position of the node at `path`, or of its nearest existing ancestor. `within` moves inside a
+   * plain or quoted one-line string value to that character of its text (escapes not counted).
+   */
+  locate(path: Path, anchor?: Anchor, within?: number): SourcePosition | undefined;
 }
 
 /** Outcome of {@link readSource}: a usable text, or the reasons it is not. */
@@ -199,7 +202,7 @@ export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResul
     }
     return index.get(key);
   };
-  const locate = (path: Path, anchor: Anchor = 'value'): SourcePosition | undefined => {
+  const locate = (path: Path, anchor: Anchor = 'value', within?: number): SourcePosition | undefined => {
     const pos = (n: YamlNode | null | undefined): SourcePosition | undefined => (n && n.range ? at(n.range[0]) : undefined);
     let node: unknown = doc.contents;
     let best = pos(doc.contents as YamlNode | null);
@@ -222,6 +225,10 @@ export function readSource(cellText: string, format: 'yaml' | 'json'): ReadResul
       const here = last && anchor === 'key' && keyNode ? pos(keyNode as YamlNode) : pos(next as YamlNode) ?? pos(keyNode as YamlNode);
       if (here) best = here;
       node = next;
+    }
+    if (within !== undefined && anchor === 'value' && isScalar(node) && node.range && typeof node.source === 'string') {
+      const quoted = node.type === 'QUOTE_DOUBLE' || node.type === 'QUOTE_SINGLE';
+      if (quoted || node.type === 'PLAIN') return at(node.range[0] + (quoted ? 1 : 0) + Math.max(0, Math.min(within, node.source.length)));
     }
     return best;
   };

@@ -90,8 +90,8 @@ export function describeSetup(s: Setup): string {
   const m = s.model;
   switch (m.kind) {
     case 'network': {
-      const layers = m.layers.map(l => `${l.units} ${l.activation}`).join('→');
-      let text = `network ${m.inputs}→${layers}, ${s.loss}`;
+      const layers = m.layers.map(l => `${l.units} ${l.expression ? `f(x) = ${l.expression.expr}` : l.activation}`).join('→');
+      let text = `network ${m.inputs}→${layers}, ${s.lossExpression ? `loss ${s.lossExpression.expr}` : s.loss}`;
       if (s.data !== undefined) {
         text += `, ${s.data.rows} rows`;
         if (s.data.heldOut !== undefined) text += ` (+${s.data.heldOut.rows} held out)`;

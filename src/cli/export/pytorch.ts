@@ -7,6 +7,7 @@
  * full-batch loss after k updates for k = 0..N — what `stepwell run SPEC --steps N --json`
  * reports as trajectory[k].loss (checked by test/export/roundtrip.test.ts with PyPI torch).
  */
+import { activationClass, lossClass } from './py-expression';
 import type { Experiment, NetworkModel, Recipe } from '../../core/setup';
 import type { SessionState } from '../../core/state';
 import { effectiveBatch } from '../../core/session/adapt';
@@ -102,6 +103,7 @@ function activationModule(m: NetworkModel, k: number): string {
     case 'softplus': return `nn.Softplus(beta=${py(p.beta ?? 1)}, threshold=${py(p.threshold ?? 20)})`;
     case 'elu': return `nn.ELU(alpha=${py(p.alpha ?? 1)})`;
     case 'gelu': return 'nn.GELU()';
+    case 'expression': return `OwnActivation${k}()`;
     default: {
       const never: never = l.activation;
       throw new NotExportable(`unknown activation ${String(never)}`);
@@ -176,7 +178,9 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     fanIn = l.units;
   });
 
-  const lossExpr = e.setup.loss === 'mse' ? 'F.mse_loss(out, y)' : e.setup.loss === 'cross-entropy' ? 'F.cross_entropy(out, y)' : 'F.binary_cross_entropy_with_logits(out, y)';
+  const ownLoss = e.setup.loss === 'expression' && e.setup.lossExpression ? e.setup.lossExpression : null;
+  const own = [...m.layers.flatMap((l, k) => (l.expression ? [...activationClass(k, l.expression), '', ''] : [])), ...(ownLoss ? [...lossClass(ownLoss), '', ''] : [])];
+  const lossExpr = ownLoss ? 'OwnLoss.apply(out, y)' : e.setup.loss === 'mse' ? 'F.mse_loss(out, y)' : e.setup.loss === 'cross-entropy' ? 'F.cross_entropy(out, y)' : 'F.binary_cross_entropy_with_logits(out, y)';
   const l2 = e.setup.l2 !== 0 ? ` + ${py(0.5 * e.setup.l2)} * sum((model[2 * k].weight ** 2).sum() for k in range(${L}))` : '';
 
   const params: string[] = [];
@@ -251,6 +255,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '# ---- data',
     ...dataCode(data, e.setup.loss, src.dataDir),
     '',
+    ...(own.length > 0 ? ['# ---- the spec\'s own activations and loss: forward by the formula, backward by the derivative Stepwell used', ...own] : []),
     '# ---- model: Linear k sits at index 2k, its activation at 2k + 1',
     'model = nn.Sequential(',
     ...modules,

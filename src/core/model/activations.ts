@@ -6,7 +6,8 @@
  * (when asked) f″, so a layer costs one pass and no per-element dispatch.
  */
 import * as elementary from '../elementary';
-import type { ActivationName, ActivationParams } from '../setup';
+import type { ActivationName, ActivationParams, LayerSetup } from '../setup';
+import { expressionActivation } from './expression';
 
 // Bound once: in CommonJS builds (jest, tsx) an imported binding is a getter reached on every call.
 const { erf, exp, expm1, sigmoid: sigmoidFn, softplus: softplusFn, tanh: tanhFn } = elementary;
@@ -159,6 +160,7 @@ export function activation(name: ActivationName, params: Partial<ActivationParam
     case 'softplus': return softplus(p.beta, p.threshold);
     case 'elu': return elu(p.alpha);
     case 'gelu': return gelu;
+    case 'expression': throw new Error('an expression activation needs its layer: use layerActivation(layer)');
     default: {
       const never: never = name;
       throw new Error(`unknown activation '${String(never)}'`);
@@ -166,5 +168,14 @@ export function activation(name: ActivationName, params: Partial<ActivationParam
   }
 }
 
-/** Every activation name, for table-driven tests and schema checks. */
+/** The activation of a layer: its expression when it has one, else the named activation. */
+export function layerActivation(layer: LayerSetup): Activation {
+  if (layer.activation === 'expression') {
+    if (!layer.expression) throw new Error('a layer with activation expression needs its expression (the spec parser sets it)');
+    return expressionActivation(layer.expression);
+  }
+  return activation(layer.activation, layer.params);
+}
+
+/** Every built-in activation name, for table-driven tests and schema checks (`expression` is the user's own). */
 export const ACTIVATIONS: readonly ActivationName[] = ['linear', 'tanh', 'sigmoid', 'relu', 'leaky-relu', 'softplus', 'elu', 'gelu'];

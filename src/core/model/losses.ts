@@ -26,7 +26,7 @@ export interface Loss {
   value(out: Float64Array, y: Float64Array, n: number, k: number): number;
   /** Writes ∂loss/∂out into `g` and returns the mean loss. */
   gradient(out: Float64Array, y: Float64Array, n: number, k: number, g: Float64Array): number;
-  /** Writes H_out·u into `r`, H_out = ∂²loss/∂out² (block-diagonal per example, PSD). */
+  /** Writes H_out·u into `r`, H_out = ∂²loss/∂out² (block-diagonal per example; PSD for the built-ins, not necessarily for a user's term). */
   outputHvp(out: Float64Array, y: Float64Array, n: number, k: number, u: Float64Array, r: Float64Array): void;
 }
 
@@ -128,6 +128,7 @@ export function lossFunction(name: LossName): Loss {
     case 'mse': return mse;
     case 'cross-entropy': return crossEntropy;
     case 'binary-cross-entropy': return binaryCrossEntropy;
+    case 'expression': throw new Error('an expression loss needs its expression: the network takes it from NetworkOptions.lossExpression');
     default: {
       const never: never = name;
       throw new Error(`unknown loss '${String(never)}'`);
@@ -135,5 +136,5 @@ export function lossFunction(name: LossName): Loss {
   }
 }
 
-/** Every loss name, for table-driven tests. */
+/** Every built-in loss name, for table-driven tests (`expression` is the user's own). */
 export const LOSSES: readonly LossName[] = ['mse', 'cross-entropy', 'binary-cross-entropy'];

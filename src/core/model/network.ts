@@ -18,9 +18,10 @@
  * Matrices are stored batch-major (row = example), so every inner loop walks memory
  * contiguously: a weight row against an activation row.
  */
-import type { DataSetup, LossName, NetworkModel } from '../setup';
+import type { DataSetup, LossExpression, LossName, NetworkModel } from '../setup';
+import { expressionLoss } from './expression';
 import type { Objective, ParamBlock, Rows } from '../objective';
-import { activation, type Activation } from './activations';
+import { layerActivation, type Activation } from './activations';
 import { lossFunction, type Loss } from './losses';
 import { matrixKernels, type LayerShape, type MatrixKernels } from './kernels';
 
@@ -73,6 +74,8 @@ export interface NetworkOptions {
    * audit user-defined pieces and, in tests, to inject a deliberately wrong derivative.
    */
   activationOf?: (layer: number) => Activation | undefined;
+  /** The user's loss term when `loss` is `expression` (`Setup.lossExpression`). */
+  lossExpression?: LossExpression;
   /**
    * Use the WebAssembly SIMD kernels where the engine has them (default true). Both paths give
    * the same bits; false forces the plain-JavaScript loops (tests, benchmarks).
@@ -124,7 +127,7 @@ export class Network implements Objective {
     this.plan = model.layers.map((layer, l) => ({
       fanIn: this.blocks[2 * l].shape[1],
       units: layer.units,
-      act: options.activationOf?.(l) ?? activation(layer.activation, layer.params),
+      act: options.activationOf?.(l) ?? layerActivation(layer),
       wOff: this.blocks[2 * l].offset,
       bOff: this.blocks[2 * l + 1].offset,
     }));
@@ -133,7 +136,8 @@ export class Network implements Objective {
     this.parameterCount = P;
     this.inputs = model.inputs;
     this.outputs = model.layers[model.layers.length - 1].units;
-    this.loss = lossFunction(loss);
+    if (loss === 'expression' && !options.lossExpression) throw new Error('loss expression needs its expression (Setup.lossExpression)');
+    this.loss = loss === 'expression' && options.lossExpression ? expressionLoss(options.lossExpression) : lossFunction(loss);
     this.l2 = l2;
     this.rowCount = data.rows;
     this.yWidth = this.loss.targetWidth(this.outputs);

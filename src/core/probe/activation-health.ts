@@ -85,6 +85,7 @@ export function saturationThreshold(name: ActivationName): number | null {
     case 'softplus':
     case 'elu':
     case 'gelu':
+    case 'expression': // the user's function: no known saturation zone
       return null;
     default: {
       const never: never = name;

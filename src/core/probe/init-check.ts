@@ -35,6 +35,7 @@ export function fanInRule(activation: ActivationName): FanInRule {
     case 'tanh':
     case 'sigmoid':
     case 'softplus':
+    case 'expression': // the user's function: the variance-preserving rule for a unit of unit slope
       return 'lecun';
     case 'relu':
     case 'elu':
@@ -152,7 +153,7 @@ function candidate(net: Network, model: NetworkModel, w: Float64Array, scheme: I
 export function initCheck(setup: Setup, seed: number): InitCheck | null {
   const model = setup.model;
   if (model.kind !== 'network' || setup.data === undefined) return null;
-  const net = new Network(model, setup.data, setup.loss, setup.l2);
+  const net = new Network(model, setup.data, setup.loss, setup.l2, { lossExpression: setup.lossExpression });
   const w0 = initNetwork(model, Rng.fromSeed(seed).fork('init'));
   const explicit = model.weights !== undefined;
   const own = candidate(net, model, w0, explicit ? 'explicit' : model.init, model.gain, true);

@@ -1,6 +1,6 @@
 /**
  * The experiments the four-engine replay runs: every activation, loss and optimizer family,
- * every init scheme, full and mini-batches, each schedule, warm-up, clipping, weight decay,
+ * the user's own activations written as expressions, every init scheme, full and mini-batches, each schedule, warm-up, clipping, weight decay,
  * per-layer rates and a held-out split. Data are our own seeded draws (rounded to 4 decimals,
  * so the JSON text is short and parses to the same doubles everywhere).
  */
@@ -36,7 +36,8 @@ function rows(seed: number, n: number, inputs: number, loss: LossName, outputs: 
 
 interface NetCase {
   name: string;
-  act: ActivationName;
+  /** A built-in activation, or the user's own as `{ expr, derivative? }`. */
+  act: ActivationName | { expr: string; derivative?: string };
   loss: LossName;
   init: string;
   recipe: Record<string, unknown>;
@@ -86,6 +87,9 @@ export const ENGINE_CASES: readonly EngineCase[] = [
   network({ name: 'tanh · mse · sgd · polynomial schedule, power 0.7', act: 'tanh', loss: 'mse', init: 'glorot-uniform', hidden: [5], recipe: { optimizer: 'sgd', lr: 0.2, schedule: { kind: 'polynomial', steps: 20, power: 0.7 } } }, 14),
   network({ name: 'softplus · cross-entropy · sgd momentum · warm restarts · batch 8', act: 'softplus', loss: 'cross-entropy', init: 'lecun-normal', hidden: [6], recipe: { optimizer: 'sgd', lr: 0.3, momentum: 0.9, batch: 8, schedule: { kind: 'restarts', period: 6, growth: 2, floor: 0.05 } } }, 15),
   network({ name: 'sigmoid · mse · adam · one-cycle', act: 'sigmoid', loss: 'mse', init: 'he-normal', hidden: [6], recipe: { optimizer: 'adam', lr: 0.05, schedule: { kind: 'onecycle', steps: 25 } } }, 16),
+  network({ name: 'own activation x/(1 + e^−x) + 0.1·sin x, derivatives derived · mse · sgd momentum · batch 8', act: { expr: 'x / (1 + exp(-x)) + 0.1 * sin(x)' }, loss: 'mse', init: 'he-normal', hidden: [5], recipe: { optimizer: 'sgd', lr: 0.05, momentum: 0.9, batch: 8 } }, 17),
+  network({ name: 'own activation softsign with its derivative written · cross-entropy · adam', act: { expr: 'x / (1 + abs(x))', derivative: '1 / (1 + abs(x))^2' }, loss: 'cross-entropy', init: 'glorot-normal', recipe: { optimizer: 'adam', lr: 0.02 } }, 18),
+  network({ name: 'own activation tanh(x) (sech² derived) · binary cross-entropy · lbfgs', act: { expr: 'tanh(x)' }, loss: 'binary-cross-entropy', init: 'lecun-normal', hidden: [5], recipe: { optimizer: 'lbfgs', lr: 1, history: 4 }, steps: 10 }, 19),
   { name: 'rosenbrock · adam', steps: 30, spec: { seed: 13, model: { objective: 'rosenbrock' }, recipe: { optimizer: 'adam', lr: 0.05 } } },
 ];
 

@@ -89,6 +89,9 @@ const CASES: Case[] = [
   ['layer-rates-no-bias-decay', LEAKY, '{ optimizer: adamw, lr: 0.02, weightDecay: 0.1, decayBiases: false, layers: [{ lrScale: 1.5 }, { lrScale: 1 }, { lrScale: 0.25 }] }'],
   ['minibatch-sgd', TANH, '{ optimizer: sgd, lr: 0.1, momentum: 0.9, batch: 5 }'],
   ['standardized-inline', net('[{ units: 6, activation: tanh }, { units: 2 }]', { ...REG, standardize: true } as never), '{ optimizer: sgd, lr: 0.2, momentum: 0.5 }'],
+  ['own-activation-written-derivative', net('[{ units: 6, activation: { expr: "x / (1 + abs(x))", derivative: "1 / (1 + abs(x))^2" } }, { units: 2 }]', REG), '{ optimizer: sgd, lr: 0.1, momentum: 0.9 }'],
+  ['own-activation-wrong-derivative-followed', net('[{ units: 6, activation: { expr: "tanh(x)", derivative: "1.02 * (1 - tanh(x)^2)" } }, { units: 2 }]', REG), '{ optimizer: sgd, lr: 0.2 }'],
+  ['own-loss-derived', net('[{ units: 5, activation: { expr: "x / (1 + exp(-x))" } }, { units: 2 }]', REG, '{ expr: "log(cosh(y - t))" }'), '{ optimizer: adam, lr: 0.02, batch: 6 }'],
   ['minibatch-adam-onecycle-layers', GELU_CE, '{ optimizer: adam, lr: 0.02, batch: 8, schedule: { kind: onecycle, steps: 24, peak: 0.25, anneal: linear, threePhase: true }, layers: [{ lrScale: 1 }, { lrScale: 0.5 }, { lrScale: 2 }] }'],
 ];
 
@@ -167,9 +170,9 @@ describe('export round trip with PyPI torch 2.13.0 (CPU)', () => {
   }, 300_000);
 
   it('runs every optimizer family, schedule and option the brief lists', () => {
-    expect(all.length).toBe(33);
+    expect(all.length).toBe(36);
     const text = all.map((c) => readFileSync(c.spec, 'utf8')).join('\n');
-    for (const needle of ['optimizer: sgd', 'nesterov: true', 'optimizer: adam,', 'optimizer: adamw', 'centered: true', 'optimizer: adagrad', 'optimizer: lbfgs', 'clipNorm', 'clipValue', 'lrScale', 'batch: 5', 'kind: step', 'kind: multistep', 'kind: factor', 'kind: exponential', 'kind: inverse-time', 'kind: polynomial', 'kind: cosine', 'kind: restarts', 'kind: onecycle', 'kind: plateau', 'kind: sequence', 'warmup:']) {
+    for (const needle of ['optimizer: sgd', 'nesterov: true', 'optimizer: adam,', 'optimizer: adamw', 'centered: true', 'optimizer: adagrad', 'optimizer: lbfgs', 'clipNorm', 'clipValue', 'lrScale', 'batch: 5', 'kind: step', 'kind: multistep', 'kind: factor', 'kind: exponential', 'kind: inverse-time', 'kind: polynomial', 'kind: cosine', 'kind: restarts', 'kind: onecycle', 'kind: plateau', 'kind: sequence', 'warmup:', 'derivative: "1 / (1 + abs(x))^2"', 'loss: { expr:']) {
       expect(text).toContain(needle);
     }
   });

@@ -40,7 +40,7 @@ describe('parseSpec: error paths and positions on a multi-line YAML fixture', ()
   const list = errors(FIXTURE);
   it.each<[string, string, number, number]>([
     ['model.layers[0].units', 'model.layers[0].units must be a positive integer, got 0', 5, 16],
-    ['model.layers[1].activation', "model.layers[1].activation must be one of linear, tanh, sigmoid, relu, leaky-relu, softplus, elu, gelu, got \"sigmoidd\" (did you mean 'sigmoid'?)", 6, 31],
+    ['model.layers[1].activation', "model.layers[1].activation must be one of linear, tanh, sigmoid, relu, leaky-relu, softplus, elu, gelu or a mapping of expr (optionally derivative), got \"sigmoidd\" (did you mean 'sigmoid'?)", 6, 31],
     ['model.init', "model.init must be one of lecun-normal, lecun-uniform, glorot-normal, glorot-uniform, he-normal, he-uniform, orthogonal, got \"he\" (did you mean 'he-normal'?)", 7, 9],
     ['data.x[1]', 'data.x[1] has 2 columns, but model.inputs is 3', 11, 7],
     ['data.x[2][1]', 'data.x[2][1] must be a finite number, got "abc"', 12, 11],

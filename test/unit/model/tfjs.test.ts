@@ -107,6 +107,8 @@ function act(name: ActivationName, a: Tensor2D): Tensor2D {
     case 'gelu':
       // exact form x·Φ(x) = x·½(1 + erf(x/√2)), composed from tfjs's erf
       return tf.mul(a, tf.mul(0.5, tf.add(1, tf.erf(tf.mul(a, Math.SQRT1_2)))));
+    case 'expression':
+      throw new Error('expression activations are checked against the built-ins they imitate (test/unit/model/expression.test.ts)');
     default: {
       const never: never = name;
       throw new Error(`no tfjs activation for ${String(never)}`);
@@ -153,6 +155,8 @@ function tfObjective(c: GoldenCase, rows?: number[]): (w: Tensor1D) => Scalar {
       case 'binary-cross-entropy':
         value = tf.losses.sigmoidCrossEntropy(labels, h) as Scalar;
         break;
+      case 'expression':
+        throw new Error('expression losses are checked against the built-ins they imitate (test/unit/model/expression.test.ts)');
       default: {
         const never: never = loss;
         throw new Error(`no tfjs loss for ${String(never)}`);

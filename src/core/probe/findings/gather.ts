@@ -55,6 +55,8 @@ export function baselineLoss(setup: Setup): number | null {
       }
       return h / targets;
     }
+    case 'expression': // the user's term: no known best constant
+      return null;
     default: {
       const never: never = setup.loss;
       throw new Error(`unknown loss '${String(never)}'`);
