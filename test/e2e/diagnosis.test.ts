@@ -6,7 +6,7 @@
  * shows it; stepped with the sharpness tracked it stays within its limit, and the overlay says
  * so; the decision record is written; the curvature and the audit are measured; after saving and
  * reloading the page, the findings, the curvature and the audit are shown from the notebook with
- * no engine started (no worker is created). Journey 2 (parcel-sorter demo): the initialization
+ * no engine started (the only worker is the page's ledger reader). Journey 2 (parcel-sorter demo): the initialization
  * check marks the off-rule scale, the layer balance over time has a row per layer, and after the
  * demo's fix branch is deleted "Try as branch" on `init-scale` makes it again and leaves the plateau.
  * Light and dark screenshots go to test-output/.
@@ -163,7 +163,9 @@ describe('diagnosis in the browser', () => {
     expect(await again.locator('.sw-AuditTable tbody tr').count()).toBe(auditRows);
     await again.locator('.sw-Tab[data-tab="layers"]').click();
     await again.locator('.sw-HeatMap').waitFor();
-    expect(await workers(page)).toBe(0);
+    // One worker only: the page's ledger reader (it opens stored ledgers off the page thread and
+    // runs no session); no cell started an engine of its own.
+    expect(await workers(page)).toBe(1);
     await again.locator('.sw-Findings').scrollIntoViewIfNeeded();
     await screenshot(page, 'diagnosis-4-reloaded');
 
@@ -177,7 +179,7 @@ describe('diagnosis in the browser', () => {
     await screenshot(page, 'diagnosis-6-layers-dark');
     await executeCommand(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
     await page.waitForFunction(() => document.body.dataset.jpThemeLight === 'true', undefined, { timeout: 20_000 });
-    expect(await workers(page)).toBe(0);
+    expect(await workers(page)).toBe(1);
     expect(ourErrors(browser)).toEqual([]);
   });
 
