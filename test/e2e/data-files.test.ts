@@ -11,11 +11,10 @@
  *
  * Screenshots: test-output/files-*.png.
  */
-import { spawnSync } from 'child_process';
 import * as fs from 'fs';
 import * as path from 'path';
 import type { Locator, Page } from 'playwright-core';
-import { ensureBuilt, launchBrowser, openNotebook, ourErrors, OUTPUT_DIR, ROOT, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
+import { ensureBuilt, launchBrowser, openNotebook, ourErrors, OUTPUT_DIR, ROOT, screenshot, startApp, type IAppServer, type IBrowserSession, stepwell } from './harness';
 
 jest.setTimeout(300_000);
 
@@ -38,12 +37,6 @@ afterAll(async () => {
   await browser?.close();
   await app?.stop();
 });
-
-/** Runs the real command line (a child process, as CI would). */
-function stepwell(...args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'src', 'cli', 'bin.cjs'), ...args], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
 
 
 /** The app's contents manager, called in the page. */

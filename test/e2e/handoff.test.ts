@@ -12,11 +12,10 @@
  *    where its axis ticks say (read back from the rendered SVG and compared with the stored
  *    losses). Screenshots go to test-output/handoff-*.png.
  */
-import { spawnSync } from 'child_process';
 import * as fs from 'fs';
 import * as path from 'path';
 import { chromium, type Page } from 'playwright-core';
-import { CHROMIUM, CHROMIUM_ARGS, ensureBuilt, launchBrowser, openNotebook, ourErrors, OUTPUT_DIR, ROOT, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
+import { CHROMIUM, CHROMIUM_ARGS, ensureBuilt, launchBrowser, openNotebook, ourErrors, OUTPUT_DIR, ROOT, screenshot, startApp, type IAppServer, type IBrowserSession, stepwell } from './harness';
 import { kilnNotebook, tempDir } from '../unit/cli/notebooks';
 
 jest.setTimeout(420_000);
@@ -38,12 +37,6 @@ afterAll(async () => {
   await browser?.close();
   await app?.stop();
 });
-
-/** Runs the real command line (a child process, as CI would) and returns exit status and output. */
-function stepwell(...args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [path.join(ROOT, 'src', 'cli', 'bin.cjs'), ...args], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
 
 const text = (s: string | string[]): string => (Array.isArray(s) ? s.join('') : s);
 

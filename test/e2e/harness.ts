@@ -318,3 +318,9 @@ export async function screenshot(page: Page, name: string): Promise<string> {
   await page.screenshot({ path: file });
   return file;
 }
+
+/** Runs the real command line `stepwell ARGS…` (a child process, as CI would): exit status and output. */
+export function stepwell(...args: string[]): { code: number; out: string; err: string } {
+  const r = spawnSync(process.execPath, [path.join(ROOT, 'src', 'cli', 'bin.cjs'), ...args], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
+  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
+}
