@@ -36,7 +36,7 @@ export interface ExportSource {
    * session state there — the weights (`initial` holds them too), the optimizer's buffers and
    * update count, the batch generator and the epoch's row order.
    */
-  start?: { step: number; state: SessionState };
+  start?: { step: number; state: SessionState; replayed?: boolean };
 }
 
 /** An experiment that cannot be written as a PyTorch script, with the reason. */
@@ -163,7 +163,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '#!/usr/bin/env python3',
     `# Exported by Stepwell ${src.version} from ${src.spec}${src.patch ? ` with ${src.patch}` : ''}.`,
     ...(start !== undefined
-      ? [`# Starts at step ${start.step}, where the branch was forked, from the state the ledger stored there; fingerprint: ${src.fingerprint}`]
+      ? [`# Starts at step ${start.step}, where the branch was forked, from the state ${start.replayed === true ? 'of the trunk run from the spec to that step' : 'the ledger stored there'}; fingerprint: ${src.fingerprint}`]
       : [`# Initial state fingerprint (step 0): ${src.fingerprint}`]),
     ...(origin ? [`# Data hash: ${origin.hash}`] : []),
     '#',

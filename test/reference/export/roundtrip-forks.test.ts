@@ -15,6 +15,7 @@ import { existsSync, mkdtempSync, writeFileSync } from 'fs';
 import { tmpdir } from 'os';
 import { join } from 'path';
 import { exportCommand } from '../../../src/cli/export';
+import { runCommand } from '../../../src/cli/run';
 import { notebookBranch } from '../../../src/cli/export-notebook';
 import { CellController } from '../../../src/ui/controller';
 import type { CellHost } from '../../../src/ui/ports';
@@ -202,3 +203,49 @@ describe('export round trip of branches forked after step 0 (PyPI torch 2.13.0)'
     expect(() => exportCommand(nb.path, { to: 'pytorch', out: join(dir, 'refused.py'), branch: nb.branch })).toThrow("has no torch.optim counterpart");
   });
 });
+
+/**
+ * A spec file's `--branch S:KEY=VALUE` with S > 0: no ledger, so the export runs the trunk to S and
+ * starts the script from the fork's state there; torch's losses must equal the branch of
+ * `stepwell run SPEC --steps S+N --branch S:…` from step S on.
+ */
+describe('export round trip of a spec file\'s branch forked after step 0 (PyPI torch 2.13.0)', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'stepwell-export-spec-forks-'));
+  const SPEC_CASES = [
+    { name: 'spec-sgd-minibatch-warmup-cosine', recipe: CASES[0].recipe, branch: '9:lr=0.05', at: 9, steps: 20, tol: TOL },
+    { name: 'spec-lbfgs-plateau', recipe: CASES.find((c) => c.name === 'lbfgs-plateau')?.recipe ?? '', branch: '6:lr=0.8', at: 6, steps: 20, tol: TOL_LBFGS },
+  ];
+  const got: Record<string, { losses: number[] } | string> = {};
+
+  beforeAll(() => {
+    if (!existsSync(PYTHON)) return;
+    for (const c of SPEC_CASES) {
+      const specPath = join(dir, `${c.name}.yaml`);
+      writeFileSync(specPath, spec(c.recipe));
+      const script = join(dir, `${c.name}.py`);
+      exportCommand(specPath, { to: 'pytorch', out: script, branch: c.branch });
+      try {
+        got[c.name] = JSON.parse(execFileSync(PYTHON, [script, '--steps', String(c.steps), '--json'], { encoding: 'utf8' })) as { losses: number[] };
+      } catch (e) {
+        got[c.name] = String(e);
+      }
+    }
+  }, 120_000);
+
+  // source: PyTorch 2.13.0+cpu from PyPI running the exported script
+  it.each(SPEC_CASES.map((c) => [c.name, c] as const))('%s', (_n, c) => {
+    if (!existsSync(PYTHON)) throw new Error('the export venv is missing; create it with: bash test/reference/export/make-venv.sh');
+    const torch = got[c.name];
+    if (typeof torch === 'string' || torch === undefined) throw new Error(`${c.name}: the exported script failed: ${String(torch)}`);
+    const run = JSON.parse(runCommand(join(dir, `${c.name}.yaml`), { steps: String(c.at + c.steps), branch: c.branch, json: true }).out) as { branch: { at: number; trajectory: { step: number; loss: number }[] } };
+    expect(run.branch.at).toBe(c.at);
+    const want = run.branch.trajectory;
+    expect(want).toHaveLength(c.steps + 1);
+    expect(want[0].step).toBe(c.at);
+    expect(torch.losses).toHaveLength(c.steps + 1);
+    const worst = Math.max(...want.map((r, k) => Math.abs(torch.losses[k] - r.loss) / Math.abs(r.loss)));
+    process.stdout.write(`spec-file fork ${c.name}: largest relative difference ${worst.toExponential(2)}\n`);
+    expect(worst).toBeLessThanOrEqual(c.tol);
+  });
+});
+
