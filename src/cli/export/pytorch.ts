@@ -201,7 +201,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '',
   ];
   const body = [
-    ...(origin ? [...dataHelpers(origin.reading.format === 'csv'), '', ''] : []),
+    ...(origin && origin.reading.format !== 'parquet' ? [...dataHelpers(origin.reading.format === 'csv'), '', ''] : []),
     ...(usesRestarts ? [...RESTART_HELPER, '', ''] : []),
     '# ---- data',
     ...dataCode(data, e.setup.loss, src.dataDir),
