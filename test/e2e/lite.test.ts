@@ -100,7 +100,11 @@ describe('the static site under a sub-path', () => {
     const at = new Date(0).toISOString();
     const model = (name: string, type: string, format: string, mimetype: string, size: number) => ({ name, path: `bom-check/${name}`, last_modified: at, created: at, writable: true, content: null, type, format, mimetype, size });
     fs.mkdirSync(path.join(SITE, 'api', 'contents', 'bom-check'), { recursive: true });
-    fs.writeFileSync(path.join(SITE, 'api', 'contents', 'bom-check', 'all.json'), JSON.stringify({ ...model('bom-check', 'directory', 'json', '', 0), path: 'bom-check', mimetype: null, size: null, content: [model('bom.ipynb', 'notebook', 'json', 'application/x-ipynb+json', nbText.length), model('cold-room.csv', 'file', 'text', 'text/plain', csv.length)] }));
+    const folder = { ...model('bom-check', 'directory', 'json', '', 0), path: 'bom-check', mimetype: null, size: null };
+    fs.writeFileSync(path.join(SITE, 'api', 'contents', 'bom-check', 'all.json'), JSON.stringify({ ...folder, content: [model('bom.ipynb', 'notebook', 'json', 'application/x-ipynb+json', nbText.length), model('cold-room.csv', 'file', 'text', 'text/plain', csv.length)] }));
+    const rootIndex = path.join(SITE, 'api', 'contents', 'all.json');
+    const root = JSON.parse(fs.readFileSync(rootIndex, 'utf8')) as { content: unknown[] };
+    fs.writeFileSync(rootIndex, JSON.stringify({ ...root, content: [...root.content, folder] }));
 
     const page = browser.page;
     await page.goto(`${origin}${PREFIX}lab/index.html?path=bom-check/bom.ipynb`, { waitUntil: 'domcontentloaded' });
