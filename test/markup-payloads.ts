@@ -25,6 +25,3 @@ export const MARKUP_PAYLOADS: readonly MarkupPayload[] = [
   { name: 'bidi override', text: 'safe\u202Egnp.exe\u202C\u2066isolated\u2069 name' },
   { name: 'long string', text: `long-${'A'.repeat(5000)}-end` }
 ];
-
-/** Attribute names a payload could smuggle in (any on* handler, or a javascript: URL). */
-export const HANDLER_ATTRIBUTE = /^on/i;

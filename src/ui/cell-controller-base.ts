@@ -123,7 +123,7 @@ export abstract class ControllerBase {
     this.content = null;
     this.engineInSync = false;
     // Nothing stored: nothing to read (and nothing to wait for before a first run).
-    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits);
+    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits, this.deps.settings().maxLedgerBytes);
     if (!(read instanceof Promise)) {
       this.applyRead(read, raw);
       return Promise.resolve();

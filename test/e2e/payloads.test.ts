@@ -7,7 +7,7 @@
  * injected (no `<script>`, `<iframe>`, `<object>`, `<embed>` or on* attribute appears in the
  * notebook), no request may leave the app's origin (the harness's network monitor), and where the
  * text is shown it is shown literally. Then the saved notebook's static report
- * (`stepwell report --html`) must carry every payload escaped.
+ * (`stepwell report NOTEBOOK --out FILE.html`) must carry every payload escaped.
  */
 import * as fs from 'fs';
 import * as os from 'os';
@@ -118,8 +118,19 @@ async function injected(page: Page): Promise<{ pwned: unknown; scripts: string[]
   });
 }
 
+/** Selector of the notebook on screen (other tabs stay in the DOM). */
+let SHOWN = '.jp-Notebook';
+
+async function followShown(page: Page, file: string): Promise<void> {
+  const handle = await page.waitForFunction(f => {
+    const w = (window as unknown as { jupyterapp: { shell: { currentWidget: { id: string; context?: { path: string } } | null } } }).jupyterapp.shell.currentWidget;
+    return w?.context?.path === f ? w.id : null;
+  }, file, { timeout: 60_000 });
+  SHOWN = `[id="${String(await handle.jsonValue())}"] .jp-Notebook`;
+}
+
 async function cellAt(page: Page, i: number): Promise<Locator> {
-  const cell = page.locator('.jp-Notebook .jp-Cell').nth(i);
+  const cell = page.locator(`${SHOWN} .jp-Cell`).nth(i);
   await cell.scrollIntoViewIfNeeded();
   return cell;
 }
@@ -137,10 +148,10 @@ describe('markup payloads in every string that reaches the page', () => {
     await openNotebook(page, app.url);
     const demo = JSON.parse(fs.readFileSync(path.join(ROOT, 'demo-notebooks/greenhouse-humidity-sensor.ipynb'), 'utf8')) as { cells: { source: string | string[]; metadata: Record<string, unknown> }[] };
     const stored = demo.cells.find(c => c.metadata.stepwell !== undefined) as { source: string | string[]; metadata: { stepwell: { engine: string; branches: { name: string; parent?: { branch: string } }[]; activeBranch?: string } } };
-    const ledger = JSON.parse(JSON.stringify(stored.metadata.stepwell)) as typeof stored.metadata.stepwell;
-    const child = ledger.branches[1].name;
-    ledger.branches[1].name = P[0];
-    if (ledger.activeBranch === child) ledger.activeBranch = P[0];
+    // The second branch renamed to a payload everywhere the ledger names it (names are not hashed), and the engine's name.
+    const child = stored.metadata.stepwell.branches[1].name;
+    const ledger = JSON.parse(JSON.stringify(stored.metadata.stepwell).split(JSON.stringify(child)).join(JSON.stringify(P[0]))) as typeof stored.metadata.stepwell;
+    expect(ledger.branches[1].name).toBe(P[0]);
     ledger.engine = P[3];
     const nb = {
       nbformat: 4,
@@ -160,7 +171,8 @@ describe('markup payloads in every string that reaches the page', () => {
       await jl.serviceManager.contents.save('payloads.ipynb', { type: 'notebook', format: 'json', content });
     }, [nb, CSV] as const);
     await openNotebook(page, `${app.origin}/lab/tree/payloads.ipynb`);
-    await page.locator('.jp-Notebook .jp-Cell').nth(4).waitFor({ timeout: 60_000 });
+    await followShown(page, 'payloads.ipynb');
+    await page.locator(`${SHOWN} .jp-Cell`).nth(4).waitFor({ timeout: 60_000 });
     let shownPlaces = 0;
 
     // 1. Spec values and keys: the live check's errors quote them, shown as text in the cell.
@@ -192,25 +204,37 @@ describe('markup payloads in every string that reaches the page', () => {
     await widget.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ timeout: 60_000 });
     await widget.locator('.sw-Button-step').click();
     await widget.locator('.sw-Status', { hasText: /^step \d+ · / }).waitFor({ timeout: 60_000 });
-    const branchName = P[6];
+    // Branch names have at most 40 characters: a short payload of the same kinds.
+    const branchName = '"><img src=x onerror=alert(7)>%{x}';
     await widget.locator('.sw-Button-branch').click();
     const form = widget.locator('.sw-BranchForm');
     await form.locator('.sw-PatchText').fill(`# ${P[1]}\nlr: 0.02\n`);
     await form.locator('.sw-BranchName-input').fill(branchName);
     await form.locator('.sw-Button-make').click();
-    await widget.locator('.sw-Notice', { hasText: 'made at step' }).waitFor({ timeout: 30_000 });
+    await widget.locator('.sw-Notice', { hasText: 'made at step' }).waitFor({ timeout: 30_000 }).catch(async (e: unknown) => {
+      await screenshot(page, 'payloads-3-branch-failed');
+      console.log(`payloads: branch notice: ${await widget.locator('.sw-Notice').textContent().catch(() => '')} | form: ${await form.textContent().catch(() => '')}`);
+      throw e;
+    });
     expect(await widget.locator('.sw-Notice').textContent()).toContain(`Branch ${branchName} made at step`);
     expect(await widget.locator('.sw-Branch').nth(1).getAttribute('data-branch')).toBe(branchName);
     expect(await widget.locator('.sw-Branch').nth(1).textContent()).toContain(branchName);
     shownPlaces += 2;
+    // The compare tab draws the branches (their names in the legend and hover text), and holds the record button.
+    await widget.locator('.sw-Button-step').click();
+    await widget.locator('.sw-Status', { hasText: /^step \d+ · .* · branch / }).waitFor({ timeout: 60_000 });
+    await widget.locator('.sw-Tab[data-tab="compare"]').click();
+    await widget.locator('.sw-ComparePlot').first().locator('.scatterlayer .trace').first().waitFor({ timeout: 30_000 });
+    const legend = (await widget.locator('.sw-ComparePlot').first().locator('.legend').textContent().catch(() => '')) ?? '';
+    console.log(`payloads: the compare legend reads: ${legend.slice(0, 200)}`);
     await widget.locator('.sw-Button-record').click();
     const rec = widget.locator('.sw-RecordForm');
     const question = `${P[0]} ${P[1]} ${P[2]} ${P[5]} ${P[8]}`;
     await rec.locator('.sw-RecordQuestion').fill(question);
-    await rec.locator('.sw-RecordChoice').selectOption(branchName);
+    await rec.locator('.sw-RecordChoice').selectOption({ value: branchName });
     await rec.locator('.sw-Button-writeRecord').click();
     await widget.locator('.sw-Notice', { hasText: 'Decision record written below the cell' }).waitFor({ timeout: 30_000 });
-    const record = page.locator('.jp-MarkdownCell').filter({ hasText: 'Decision record' }).first();
+    const record = page.locator(`${SHOWN} .jp-MarkdownCell`).filter({ hasText: 'Decision record' }).first();
     await record.locator('.jp-MarkdownOutput h2').waitFor({ timeout: 20_000 });
     const heading = (await record.locator('.jp-MarkdownOutput h2').textContent()) ?? '';
     console.log(`payloads: the decision record's heading reads: ${heading.slice(0, 300)}`);
@@ -222,7 +246,8 @@ describe('markup payloads in every string that reaches the page', () => {
     await screenshot(page, 'payloads-3-branch-and-record');
 
     // 4. A stored ledger whose strings carry payloads (a branch name, the engine name).
-    const stored4 = await cellAt(page, 5);
+    // A readable ledger in a cell without output shows its session once run (Shift+Enter continues it).
+    const stored4 = await runCell(page, 5);
     const w4 = stored4.locator('.sw-CellWidget');
     await w4.waitFor({ timeout: 60_000 });
     await w4.locator('.sw-Status').waitFor({ timeout: 60_000 });
@@ -239,7 +264,7 @@ describe('markup payloads in every string that reaches the page', () => {
     await screenshot(page, 'payloads-4-ledger');
 
     // Nothing ran, nothing was injected, no dialog opened; hover over every plot to try the hover templates.
-    for (const plot of await page.locator('.jp-Notebook .js-plotly-plot').all()) await plot.hover().catch(() => undefined);
+    for (const plot of await page.locator(`${SHOWN} .js-plotly-plot`).all()) await plot.hover().catch(() => undefined);
     const found = await injected(page);
     expect(found).toEqual({ pwned: undefined, scripts: [], frames: 0, handlers: [] });
     expect(dialogs).toEqual([]);
@@ -252,15 +277,19 @@ describe('markup payloads in every string that reaches the page', () => {
     const file = path.join(dir, 'payloads.ipynb');
     fs.writeFileSync(file, JSON.stringify(saved));
     const html = path.join(dir, 'report.html');
-    const r = stepwell('report', file, '--html', '--out', html);
-    console.log(`payloads: stepwell report --html exit ${r.code} ${r.err.slice(0, 300)}`);
+    const r = stepwell('report', file, '--out', html);
+    console.log(`payloads: stepwell report --out .html exit ${r.code} ${r.err.slice(0, 300)}`);
     const text = fs.existsSync(html) ? fs.readFileSync(html, 'utf8') : r.out;
     expect(text.length).toBeGreaterThan(1000);
     for (const p of P) {
       if (!/[<>"&]/.test(p)) continue;
       expect(text).not.toContain(p);
     }
-    expect(text).not.toMatch(/<script>window\.__pwned|<iframe|<svg onload|onerror=|onmouseover=/i);
+    // Escaped payloads keep their words (`onerror=` after `&lt;img`), never a tag of their own.
+    expect(text).not.toMatch(/<script>window|<iframe|<svg onload|<img src=x|<b onmouseover|<a href="javascript|<link rel=stylesheet/i);
+    const escapedSeen = P.filter(p => /</.test(p)).filter(p => text.includes(p.slice(0, 12).replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;'))).length;
+    console.log(`payloads: the HTML report holds ${escapedSeen} of the markup payloads, escaped`);
+    expect(escapedSeen).toBeGreaterThan(0);
     fs.rmSync(dir, { recursive: true, force: true });
   });
 });

@@ -6,8 +6,11 @@
  *    shows it again and runs nothing; the metadata is untouched; the palette's Reset asks first
  *    and "Keep a copy, start over" moves the unreadable value under `stepwell-unreadable`.
  * 2. A spec with 100 000 inline rows: typing in it does not block the page (the live check runs
- *    in the worker); the longest main-thread task after each keystroke and the time of a save
- *    are printed (run with STEPWELL_APP_ROOT=<another checkout with a build> to measure that one).
+ *    in the worker); the longest main-thread task after each keystroke, Shift+Enter, a step,
+ *    Reset and a save are printed (run with STEPWELL_APP_ROOT=<another checkout with a build> to
+ *    measure that one), and the page never parses the spec itself (a user-timing mark counts it).
+ * 3. A long Run until marks the notebook dirty while it runs: a reload asks first, and Stop writes
+ *    the steps made.
  *
  * Every test also fails on a request beyond the app's origin (the harness's network monitor).
  */
@@ -188,5 +191,94 @@ describe('robustness in the browser', () => {
     const t0 = Date.now();
     await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save'));
     console.log(`100 000 inline rows: save took ${Date.now() - t0} ms`);
+    if (APP_ROOT !== ROOT) return;
+
+    // Shift+Enter, Reset and a save with a session: the longest main-thread task of each is printed.
+    const longest = async (what: string, act: () => Promise<void>): Promise<number> => {
+      await page.evaluate(() => ((window as unknown as { swLong: number[] }).swLong = []));
+      const t = Date.now();
+      await act();
+      const ms = await page.evaluate(() => Math.max(0, ...(window as unknown as { swLong: number[] }).swLong));
+      console.log(`100 000 inline rows: ${what}: longest main-thread task ${ms.toFixed(0)} ms (${Date.now() - t} ms in all)`);
+      return ms;
+    };
+    const widget = page.locator(`${SHOWN} .sw-CellWidget`).first();
+    await longest('Shift+Enter (a new session)', async () => {
+      await page.locator(`${SHOWN} .jp-Cell`).first().locator('.jp-InputPrompt').click();
+      await page.keyboard.press('Shift+Enter');
+      await widget.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ timeout: 180_000 });
+    });
+    await longest('Step', async () => {
+      await widget.locator('.sw-Button-step').click();
+      await widget.locator('.sw-Status', { hasText: /^step 1 · / }).waitFor({ timeout: 180_000 });
+    });
+    await longest('Reset (asks, then starts over)', async () => {
+      await widget.locator('.sw-Button-reset').click();
+      await widget.locator('.sw-Confirm .sw-Button-confirm').click();
+      await widget.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ timeout: 180_000 });
+    });
+    await longest('save with the ledger', async () => {
+      await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save'));
+    });
+    await widget.scrollIntoViewIfNeeded();
+    await screenshot(page, 'robust-100k-rows-session');
+    // The deterministic bound: the page itself never parsed the spec (the reader and engine workers did).
+    const pageParses = await page.evaluate(() => performance.getEntriesByName('stepwell:page-parse').length);
+    console.log(`100 000 inline rows: spec parses on the page thread: ${pageParses}`);
+    expect(pageParses).toBe(0);
+  });
+
+  it('marks the notebook dirty during a long Run until, so a reload asks before losing the steps', async () => {
+    if (APP_ROOT !== ROOT) return;
+    const page = browser.page;
+    // Invented rows; a tiny stable model whose loss never reaches 1e-300, so the run goes on until stopped.
+    const spec = `%%stepwell\n# stepwell: a long run\nseed: 5\nmodel:\n  inputs: 2\n  layers:\n    - { units: 8, activation: tanh }\n    - { units: 1 }\ndata:\n  x: [[0, 1], [1, 0], [1, 1], [0, 0], [0.5, 0.2], [0.3, 0.9]]\n  y: [0.1, 0.9, 0.4, 0.2, 0.7, 0.3]\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01 }\n`;
+    await openNotebook(page, app.url);
+    await saveNotebook(page, 'long-run.ipynb', nbShell([{ cell_type: 'code', id: 'long', metadata: {}, source: spec, outputs: [], execution_count: null }]));
+    await openNotebook(page, `${app.origin}/lab/tree/long-run.ipynb`);
+    await followShown(page, 'long-run.ipynb');
+    const widget = page.locator(`${SHOWN} .sw-CellWidget`).first();
+    await page.locator(`${SHOWN} .jp-Cell`).first().locator('.jp-InputPrompt').click();
+    await page.keyboard.press('Shift+Enter');
+    await widget.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ timeout: 60_000 });
+    await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save'));
+    await page.waitForFunction(() => !(window as unknown as { jupyterapp: { shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp.shell.currentWidget.model.dirty, undefined, { timeout: 20_000 });
+    const dirtyNow = (): Promise<{ model: boolean; app: boolean }> => page.evaluate(() => {
+      const jl = (window as unknown as { jupyterapp: { status: { isDirty: boolean }; shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp;
+      return { model: jl.shell.currentWidget.model.dirty, app: jl.status.isDirty };
+    });
+    expect(await dirtyNow()).toEqual({ model: false, app: false });
+
+    // Run until the loss is at most 1e-300 (never), at most 10⁶ steps.
+    await widget.locator('.sw-Button-until').click();
+    const form = widget.locator('.sw-Form');
+    await form.locator('.sw-UntilValue').fill('1e-300');
+    await form.locator('input[aria-label="most steps"]').fill('1000000');
+    await form.locator('.sw-Button', { hasText: /^Run$/ }).click();
+    await widget.locator('.sw-Button-stop').waitFor({ state: 'visible', timeout: 30_000 });
+    // Steps exist that the notebook does not hold yet: dirty while the run goes on.
+    await page.waitForFunction(() => (window as unknown as { jupyterapp: { shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp.shell.currentWidget.model.dirty, undefined, { timeout: 60_000 });
+    expect(await dirtyNow()).toEqual({ model: true, app: true });
+    await page.locator('#jp-main-dock-panel .lm-TabBar-tab.lm-mod-current.jp-mod-dirty').waitFor({ timeout: 10_000 });
+    await screenshot(page, 'robust-long-run-dirty');
+
+    // A reload asks first (JupyterLab's unload guard); the user stays, and the run goes on.
+    const asked = new Promise<string>(resolve => page.once('dialog', d => {
+      resolve(d.type());
+      void d.dismiss();
+    }));
+    await page.evaluate(() => setTimeout(() => location.reload(), 0));
+    expect(await Promise.race([asked, new Promise<string>(r => setTimeout(() => r('no dialog'), 15_000))])).toBe('beforeunload');
+    expect(await widget.locator('.sw-Button-stop').isVisible()).toBe(true);
+
+    // Stop: the steps made are written to the notebook, which stays dirty until saved.
+    await widget.locator('.sw-Button-stop').click();
+    await widget.locator('.sw-Notice', { hasText: /^Stopped at step \d+\./ }).waitFor({ timeout: 60_000 });
+    const stoppedAt = Number(/step (\d+)/.exec((await widget.locator('.sw-Notice').textContent()) ?? '')?.[1]);
+    expect(stoppedAt).toBeGreaterThan(0);
+    const stored = (await cellFacts(page, 0, 'stepwell')) as { value: { branches: { head: { step: number } }[] }; dirty: boolean };
+    expect(stored.value.branches[0].head.step).toBe(stoppedAt);
+    expect(stored.dirty).toBe(true);
+    console.log(`long Run until: stopped at step ${stoppedAt}; the notebook was dirty during the run and a reload asked first`);
   });
 });
