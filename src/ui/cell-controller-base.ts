@@ -58,6 +58,8 @@ export abstract class ControllerBase {
   private readSeq = 0;
   /** Counts live spec checks; only the newest one's answer is applied. */
   private checkSeq = 0;
+  /** The last text the worker checked, with its limits and answer (see {@link factsLater}). */
+  private lastFacts: { text: string; limits: CellSettings['limits']; facts: Promise<SpecFacts> } | null = null;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -175,9 +177,27 @@ export abstract class ControllerBase {
     }
     const seq = ++this.checkSeq;
     this.set({ specEdited });
-    return later(source).then(facts => {
+    return this.factsLater(later, source).then(facts => {
       if (seq === this.checkSeq && !this.disposedFlag && this.engineChecked === null) this.set({ problems: facts.problems });
     });
+  }
+
+  /**
+   * The worker's facts of `text`, reused while the text and the limits stay the same: writing
+   * outputs or the ledger re-fires the cell's change signal, and re-parsing 10⁵ rows each time
+   * would queue seconds of work before the user's next action.
+   */
+  private factsLater(later: NonNullable<ControllerDeps['specFactsLater']>, text: string): Promise<SpecFacts> {
+    const limits = this.deps.settings().limits;
+    const known = this.lastFacts;
+    if (known !== null && known.text === text && known.limits === limits) return known.facts;
+    const facts = later(text);
+    this.lastFacts = { text, limits, facts };
+    // A failed check is not kept.
+    facts.catch(() => {
+      if (this.lastFacts?.facts === facts) this.lastFacts = null;
+    });
+    return facts;
   }
 
   /**
@@ -190,7 +210,7 @@ export abstract class ControllerBase {
     const later = this.deps.specFactsLater;
     if (later === undefined) return { problems: this.deps.checkSpec(text), files: cellFileNames(text) };
     this.set({ busy: { action: 'Checking the spec', done: 0, total: 0 } });
-    return later(text).then(
+    return this.factsLater(later, text).then(
       facts => {
         this.set({ busy: null });
         return facts;

@@ -184,8 +184,7 @@ describe('robustness in the browser', () => {
     }
     console.log(`100 000 inline rows (${APP_ROOT === ROOT ? 'this build' : APP_ROOT}): longest main-thread task after each keystroke (ms): ${perKey.map(v => v.toFixed(0)).join(', ')}`);
     await screenshot(page, 'robust-100k-rows-typing');
-    // Lenient behaviour bound, not a speed target: the page thread never blocks for a second per keystroke.
-    if (APP_ROOT === ROOT) expect(Math.max(...perKey)).toBeLessThan(1000);
+    // Printed, not asserted (wall-clock time on a shared machine): the deterministic bound is the parse count below.
 
     // Save time (source only, no session yet).
     const t0 = Date.now();
@@ -234,6 +233,8 @@ describe('robustness in the browser', () => {
     // Invented rows; a tiny stable model whose loss never reaches 1e-300, so the run goes on until stopped.
     const spec = `%%stepwell\n# stepwell: a long run\nseed: 5\nmodel:\n  inputs: 2\n  layers:\n    - { units: 8, activation: tanh }\n    - { units: 1 }\ndata:\n  x: [[0, 1], [1, 0], [1, 1], [0, 0], [0.5, 0.2], [0.3, 0.9]]\n  y: [0.1, 0.9, 0.4, 0.2, 0.7, 0.3]\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01 }\n`;
     await openNotebook(page, app.url);
+    // Other notebooks of this session saved, so the app's dirty state is this notebook's alone.
+    await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save-all'));
     await saveNotebook(page, 'long-run.ipynb', nbShell([{ cell_type: 'code', id: 'long', metadata: {}, source: spec, outputs: [], execution_count: null }]));
     await openNotebook(page, `${app.origin}/lab/tree/long-run.ipynb`);
     await followShown(page, 'long-run.ipynb');
