@@ -58,6 +58,9 @@ export abstract class ControllerBase {
   private readSeq = 0;
   /** Counts live spec checks; only the newest one's answer is applied. */
   private checkSeq = 0;
+  /** True while a live check is with the worker; {@link liveAgain} asks for one more when it ends. */
+  private liveChecking = false;
+  private liveAgain = false;
   /** The last text the worker checked, with its limits and answer (see {@link factsLater}). */
   private lastFacts: { text: string; limits: CellSettings['limits']; facts: Promise<SpecFacts> } | null = null;
 
@@ -177,9 +180,26 @@ export abstract class ControllerBase {
     }
     const seq = ++this.checkSeq;
     this.set({ specEdited });
-    return this.factsLater(later, source).then(facts => {
+    // One live check at a time: texts typed meanwhile are not queued in the worker, the newest is checked next.
+    if (this.liveChecking) {
+      this.liveAgain = true;
+      return Promise.resolve();
+    }
+    return this.liveCheck(later, source, seq);
+  }
+
+  private async liveCheck(later: NonNullable<ControllerDeps['specFactsLater']>, source: string, seq: number): Promise<void> {
+    this.liveChecking = true;
+    try {
+      const facts = await this.factsLater(later, source);
       if (seq === this.checkSeq && !this.disposedFlag && this.engineChecked === null) this.set({ problems: facts.problems });
-    });
+    } finally {
+      this.liveChecking = false;
+    }
+    if (this.liveAgain && !this.disposedFlag) {
+      this.liveAgain = false;
+      await this.sourceChanged();
+    }
   }
 
   /**

@@ -151,6 +151,36 @@ describe('robustness in the browser', () => {
     await screenshot(page, 'robust-unreadable-kept');
   });
 
+  it('a ledger above the maxLedgerBytes setting is shown as too large to open, kept untouched and not read', async () => {
+    if (APP_ROOT !== ROOT) return;
+    const page = browser.page;
+    type Settings = { serviceManager: { settings: { save(id: string, raw: string): Promise<void> } } };
+    const setRaw = (raw: string): Promise<void> => page.evaluate(r => (window as unknown as { jupyterapp: Settings }).jupyterapp.serviceManager.settings.save('stepwell:plugin', r), raw);
+    const demo = JSON.parse(fs.readFileSync(path.join(ROOT, 'demo-notebooks/greenhouse-humidity-sensor.ipynb'), 'utf8')) as { cells: { source: string | string[]; outputs?: unknown[]; metadata: Record<string, unknown> }[] };
+    const stored = demo.cells.find(c => c.metadata.stepwell !== undefined) as { source: string | string[]; outputs: unknown[]; metadata: { stepwell: object } };
+    // source: ECMAScript JSON.stringify and TextEncoder (UTF-8) give the size the setting is about
+    const size = new TextEncoder().encode(JSON.stringify(stored.metadata.stepwell)).length;
+    await openNotebook(page, app.url);
+    await saveNotebook(page, 'large.ipynb', nbShell([{ cell_type: 'code', id: 'big', metadata: { stepwell: stored.metadata.stepwell }, source: stored.source, outputs: stored.outputs, execution_count: null }]));
+    // The limit one byte below the ledger's size; the settings are read when the app starts.
+    await setRaw(JSON.stringify({ maxLedgerBytes: size - 1 }));
+    try {
+      await openNotebook(page, `${app.origin}/lab/tree/large.ipynb`);
+      await followShown(page, 'large.ipynb');
+      const widget = page.locator(`${SHOWN} .sw-CellWidget`).first();
+      await widget.locator('.sw-Status', { hasText: 'unreadable ledger' }).waitFor({ timeout: 60_000 });
+      const notice = (await widget.locator('.sw-Notice').textContent()) ?? '';
+      expect(notice).toContain(`too large to open: ${size} bytes > limit ${size - 1} bytes (setting maxLedgerBytes)`);
+      await widget.scrollIntoViewIfNeeded();
+      await screenshot(page, 'robust-ledger-too-large');
+      const facts = await cellFacts(page, 0, 'stepwell');
+      expect(JSON.stringify(facts.value)).toBe(JSON.stringify(stored.metadata.stepwell));
+      expect(facts.dirty).toBe(false);
+    } finally {
+      await setRaw('{}');
+    }
+  });
+
   it('typing in a spec with 100 000 inline rows leaves the page responsive', async () => {
     const page = browser.page;
     const rows = 100_000;
