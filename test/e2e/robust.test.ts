@@ -263,8 +263,6 @@ describe('robustness in the browser', () => {
     // Invented rows; a tiny stable model whose loss never reaches 1e-300, so the run goes on until stopped.
     const spec = `%%stepwell\n# stepwell: a long run\nseed: 5\nmodel:\n  inputs: 2\n  layers:\n    - { units: 8, activation: tanh }\n    - { units: 1 }\ndata:\n  x: [[0, 1], [1, 0], [1, 1], [0, 0], [0.5, 0.2], [0.3, 0.9]]\n  y: [0.1, 0.9, 0.4, 0.2, 0.7, 0.3]\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01 }\n`;
     await openNotebook(page, app.url);
-    // Other notebooks of this session saved, so the app's dirty state is this notebook's alone.
-    await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save-all'));
     await saveNotebook(page, 'long-run.ipynb', nbShell([{ cell_type: 'code', id: 'long', metadata: {}, source: spec, outputs: [], execution_count: null }]));
     await openNotebook(page, `${app.origin}/lab/tree/long-run.ipynb`);
     await followShown(page, 'long-run.ipynb');
@@ -274,6 +272,15 @@ describe('robustness in the browser', () => {
     await widget.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ timeout: 60_000 });
     await page.evaluate(() => (window as unknown as { jupyterapp: App }).jupyterapp.commands.execute('docmanager:save'));
     await page.waitForFunction(() => !(window as unknown as { jupyterapp: { shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp.shell.currentWidget.model.dirty, undefined, { timeout: 20_000 });
+    // The other tests' notebooks closed (unsaved leftovers dropped), so the app's dirty state is this notebook's alone.
+    await page.evaluate(() => {
+      const jl = (window as unknown as { jupyterapp: { shell: { widgets(area: string): Iterable<{ context?: { path: string; model: { dirty: boolean } }; dispose(): void }> } } }).jupyterapp;
+      for (const w of [...jl.shell.widgets('main')]) {
+        if (w.context === undefined || w.context.path === 'long-run.ipynb') continue;
+        w.context.model.dirty = false;
+        w.dispose();
+      }
+    });
     const dirtyNow = (): Promise<{ model: boolean; app: boolean }> => page.evaluate(() => {
       const jl = (window as unknown as { jupyterapp: { status: { isDirty: boolean }; shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp;
       return { model: jl.shell.currentWidget.model.dirty, app: jl.status.isDirty };
