@@ -260,8 +260,8 @@ describe('robustness in the browser', () => {
   it('marks the notebook dirty during a long Run until, so a reload asks before losing the steps', async () => {
     if (APP_ROOT !== ROOT) return;
     const page = browser.page;
-    // Invented rows; a tiny stable model whose loss never reaches 1e-300, so the run goes on until stopped.
-    const spec = `%%stepwell\n# stepwell: a long run\nseed: 5\nmodel:\n  inputs: 2\n  layers:\n    - { units: 8, activation: tanh }\n    - { units: 1 }\ndata:\n  x: [[0, 1], [1, 0], [1, 1], [0, 0], [0.5, 0.2], [0.3, 0.9]]\n  y: [0.1, 0.9, 0.4, 0.2, 0.7, 0.3]\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01 }\n`;
+    // Invented rows; a stable model (about 40 000 weights, so 10⁶ steps take minutes) whose loss never reaches 1e-300.
+    const spec = `%%stepwell\n# stepwell: a long run\nseed: 5\nmodel:\n  inputs: 2\n  layers:\n    - { units: 200, activation: tanh }\n    - { units: 200, activation: tanh }\n    - { units: 1 }\ndata:\n  x: [[0, 1], [1, 0], [1, 1], [0, 0], [0.5, 0.2], [0.3, 0.9]]\n  y: [0.1, 0.9, 0.4, 0.2, 0.7, 0.3]\nloss: mse\nrecipe: { optimizer: sgd, lr: 0.01 }\n`;
     await openNotebook(page, app.url);
     await saveNotebook(page, 'long-run.ipynb', nbShell([{ cell_type: 'code', id: 'long', metadata: {}, source: spec, outputs: [], execution_count: null }]));
     await openNotebook(page, `${app.origin}/lab/tree/long-run.ipynb`);
@@ -297,6 +297,8 @@ describe('robustness in the browser', () => {
     // Steps exist that the notebook does not hold yet: dirty while the run goes on.
     await page.waitForFunction(() => (window as unknown as { jupyterapp: { shell: { currentWidget: { model: { dirty: boolean } } } } }).jupyterapp.shell.currentWidget.model.dirty, undefined, { timeout: 60_000 });
     expect(await dirtyNow()).toEqual({ model: true, app: true });
+    // Still running: the mark came from the run, not from the ledger written at its end.
+    expect(await widget.locator('.sw-Button-stop').isVisible()).toBe(true);
     await page.locator('#jp-main-dock-panel .lm-TabBar-tab.lm-mod-current.jp-mod-dirty').waitFor({ timeout: 10_000 });
     await screenshot(page, 'robust-long-run-dirty');
 
@@ -314,7 +316,13 @@ describe('robustness in the browser', () => {
     await widget.locator('.sw-Notice', { hasText: /^Stopped at step \d+\./ }).waitFor({ timeout: 60_000 });
     const stoppedAt = Number(/step (\d+)/.exec((await widget.locator('.sw-Notice').textContent()) ?? '')?.[1]);
     expect(stoppedAt).toBeGreaterThan(0);
-    const stored = (await cellFacts(page, 0, 'stepwell')) as { value: { branches: { head: { step: number } }[] }; dirty: boolean };
+    // The ledger is built in the worker after the notice: wait until it is written.
+    type Stored = { value: { branches: { head: { step: number } }[] }; dirty: boolean };
+    let stored = (await cellFacts(page, 0, 'stepwell')) as Stored;
+    for (let t = 0; t < 60 && stored.value.branches[0].head.step !== stoppedAt; t++) {
+      await page.waitForTimeout(500);
+      stored = (await cellFacts(page, 0, 'stepwell')) as Stored;
+    }
     expect(stored.value.branches[0].head.step).toBe(stoppedAt);
     expect(stored.dirty).toBe(true);
     console.log(`long Run until: stopped at step ${stoppedAt}; the notebook was dirty during the run and a reload asked first`);
