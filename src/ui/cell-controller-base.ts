@@ -12,7 +12,7 @@ import { cellFileNames, type SpecPatch } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
-import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine, unreadableMarkdown } from './summary';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, msBound, problemLine, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -146,7 +146,8 @@ export abstract class ControllerBase {
     // With a worker the text is checked there (below), never parsed on the page.
     const view = viewFromLedger(read, raw, this.deps.host.readSource(), later ? () => [] : this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
-    this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
+    const recent = read.kind === 'ok' ? read.content.trajectory.slice(-200) : [];
+    this.set({ ...view, msPerStep: meanMs(recent), msBelow: msBound(recent) });
     if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
     if (later) {
       this.engineChecked = null;
@@ -328,6 +329,7 @@ export abstract class ControllerBase {
       diagnosis: diagnosisOf(reply.readouts),
       warnings: reply.warnings,
       msPerStep: undefined,
+      msBelow: undefined,
       notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
     });
     return this.persist();
