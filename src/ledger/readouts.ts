@@ -10,6 +10,7 @@
  * becomes `"f64:"` + 16 hex digits of its bits (as {@link encodeScalar}); a string that starts
  * with `f64:` or `~` gets a `~` in front, so decoding is unambiguous.
  */
+import { aboveLimit } from '../core/probe/curvature/verdicts';
 import { decodeScalar, encodeScalar } from './codec';
 import { sha256Hex } from './hash';
 import { LedgerError } from './types';
@@ -117,7 +118,7 @@ export function capSharpness<T extends { step: number }>(points: readonly T[], c
   if (points.length <= cap) return points.slice();
   const crossing = points.findIndex((p) => {
     const q = p as unknown as { sharpness?: unknown; limit?: unknown };
-    return typeof q.sharpness === 'number' && typeof q.limit === 'number' && q.sharpness > q.limit;
+    return typeof q.sharpness === 'number' && typeof q.limit === 'number' && aboveLimit(q.sharpness, q.limit);
   });
   const must = (i: number): boolean => i === 0 || i === points.length - 1 || i === crossing;
   const last = points[points.length - 1].step;
