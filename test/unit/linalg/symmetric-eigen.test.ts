@@ -106,6 +106,20 @@ describe('symmetricEigen invariants', () => {
     expect(maxAbs(v1.map((x, i) => x - v2[i]))).toBeLessThan(1e-12 * maxAbs(v1));
   });
 
+  it('values alone leave the matrix untouched and equal, bit for bit, the values of the path that keeps the reflectors', () => {
+    const n = 97;
+    const a = seededSymmetric(n, 11);
+    const before = Float64Array.from(a);
+    const values = eigenvalues(a, n);
+    expect(Array.from(a)).toEqual(Array.from(before));
+    const kept = symmetricEigen(a, n, { topVectors: 1 }).values;
+    expect(values.length).toBe(n);
+    expect(Array.from(values)).toEqual(Array.from(kept));
+    // overwrite: true is a permission, not a promise; values alone still read the matrix only
+    expect(Array.from(symmetricEigen(a, n, { overwrite: true }).values)).toEqual(Array.from(kept));
+    expect(Array.from(a)).toEqual(Array.from(before));
+  });
+
   it('recovers a known spectrum with multiplicities (3 ×5, −1 ×4, 0 ×3)', () => {
     // source: the matrix is Q·D·Qᵀ with Q orthogonal by construction, so its eigenvalues are D.
     const expected = repeatedSpectrum(60, 16).sort((x, y) => x - y);
