@@ -11,6 +11,7 @@
 import { applyReflectors, tridiagonalForm, tridiagonalize } from './householder';
 import type { HouseholderReduction } from './householder';
 import { bisectEigenvalues, tridiagonalInverseIteration, tridiagonalQL } from './tridiagonal';
+import { rootFreeEigenvalues } from './root-free-ql';
 
 /** Options of {@link symmetricEigen}. */
 export interface SymmetricEigenOptions {
@@ -51,14 +52,17 @@ function reduce(a: Float64Array, n: number, overwrite: boolean): HouseholderRedu
 /**
  * All eigenvalues (ascending) and optionally eigenvectors of the symmetric n×n matrix `a`:
  * Householder tridiagonalization, then implicit QL with Wilkinson shifts
- * (Golub & Van Loan 4th ed., alg. 8.3.1 and 8.3.2). Cost ≈ 4n³/3 flops for values only.
+ * (Golub & Van Loan 4th ed., alg. 8.3.1 and 8.3.2; for values alone its root-free form, as
+ * LAPACK's dsterf). Cost ≈ 4n³/3 flops for values only.
  */
 export function symmetricEigen(a: Float64Array, n: number, options: SymmetricEigenOptions = {}): SymmetricEigenResult {
   const k = Math.min(n, options.topVectors ?? 0);
   if (options.vectors !== true && k === 0) {
-    // Values alone need no reflectors: `a` is read where it is, never copied nor written.
+    // Values alone need no reflectors: `a` is read where it is, never copied nor written; and
+    // no rotations, so the root-free QL (the rotation QL where T cannot be squared safely).
     checkSquare(a, n);
-    return { n, values: tridiagonalQL(tridiagonalForm(a, n)), vectors: null, vectorOffset: 0 };
+    const t = tridiagonalForm(a, n);
+    return { n, values: rootFreeEigenvalues(t) ?? tridiagonalQL(t), vectors: null, vectorOffset: 0 };
   }
   const red = reduce(a, n, options.overwrite === true);
   if (options.vectors !== true) {
