@@ -253,7 +253,7 @@ export class StepwellCellWidget extends Widget {
       this.panels.drawTrace();
     });
     this.themeObserver.observe(document.body, { attributes: true, attributeFilter: ['data-jp-theme-name', 'data-jp-theme-light'] });
-    this.panels.drawTrace();
+    this.panels.drawTrace(true);
   }
 
   /** Stops following theme changes. */

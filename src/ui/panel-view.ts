@@ -35,6 +35,8 @@ export class ReadoutPanels {
   private renderedGeneralization: string | null = null;
   private lastPlot = 0;
   private plotTimer: number | null = null;
+  /** The trace figure last handed to plotly (JSON), to skip redrawing an unchanged one. */
+  private drawnTrace: string | null = null;
 
   /** @param controller - whose state the panel shows and whose actions its buttons call. */
   constructor(private readonly controller: CellController, private readonly isAttached: () => boolean) {
@@ -45,13 +47,17 @@ export class ReadoutPanels {
   /** Forgets what was drawn, so the next render rebuilds (after a theme change). */
   invalidate(): void {
     this.rendered = null;
+    this.drawnTrace = null;
     this.renderedGeneralization = null;
   }
 
   /** Shows the state's tab. */
   render(s: CellViewState): void {
     if (s.tab === 'trace') {
-      if (this.rendered !== 'trace') replaceChildren(this.node, [this.traceBox]);
+      if (this.rendered !== 'trace') {
+        replaceChildren(this.node, [this.traceBox]);
+        this.drawnTrace = null;
+      }
       this.rendered = 'trace';
       this.renderGeneralization(s);
       this.scheduleTrace(s.busy !== null);
@@ -135,8 +141,12 @@ export class ReadoutPanels {
     if (this.plotTimer === null) this.plotTimer = window.setTimeout(() => this.drawTrace(), wait);
   }
 
-  /** Draws the loss trace of the state (when its tab is shown). */
-  drawTrace(): void {
+  /**
+   * Draws the loss trace of the state (when its tab is shown), unless plotly already shows this
+   * very figure.
+   * @param force - draw even so (the plot node was just attached to the page).
+   */
+  drawTrace(force = false): void {
     if (this.plotTimer !== null) window.clearTimeout(this.plotTimer);
     this.plotTimer = null;
     this.lastPlot = performance.now();
@@ -146,7 +156,13 @@ export class ReadoutPanels {
     const cursor = s.busy === null ? s.summary?.step : undefined;
     this.plotNode.setAttribute('role', 'img');
     this.plotNode.setAttribute('aria-label', traceText(s.trajectory, cursor));
-    void renderFigure(this.plotNode, traceFigure(s.trajectory, readTheme(this.node), { cursor }));
+    // One action sets the state several times (busy, records, summary, ledger written); most of
+    // those leave the figure as it is, and a plotly redraw costs more than the step itself.
+    const figure = traceFigure(s.trajectory, readTheme(this.node), { cursor });
+    const drawn = JSON.stringify(figure);
+    if (drawn === this.drawnTrace && !force) return;
+    this.drawnTrace = drawn;
+    void renderFigure(this.plotNode, figure);
   }
 
   /** Re-lays out the displayed plots after a resize (hidden ones are laid out when shown). */

@@ -46,18 +46,18 @@ function bigSpec(): string {
   return `# stepwell: benchmark network, P = 85 002\n${JSON.stringify(spec)}\n`;
 }
 
-/** Runs both parts; returns the rows and the Chromium version. */
-export async function browserFigures(): Promise<{ rows: BrowserRow[]; chromium: string; load: number[] }> {
+/** Runs both parts (or only those not switched off); returns the rows and the Chromium version. */
+export async function browserFigures(parts: { steps?: boolean; curvature?: boolean } = {}): Promise<{ rows: BrowserRow[]; chromium: string; load: number[] }> {
   ensureBuilt();
   const app = await startApp();
-  const session = await launchBrowser();
+  let session = await launchBrowser();
   const rows: BrowserRow[] = [];
   try {
-    const page = session.page;
+    let page = session.page;
     // tsx (esbuild, keepNames) wraps named functions in __name(...): page-side code needs it too.
     await page.addInitScript({ content: 'globalThis.__name = (f) => f;' });
     const chromium = session.context.browser()?.version() ?? 'unknown';
-    for (const demo of DEMOS) {
+    for (const demo of parts.steps === false ? [] : DEMOS) {
       await openNotebook(page, `${app.origin}/lab/tree/${demo}`);
       const cells = page.locator('.sw-CellWidget');
       await cells.first().waitFor({ timeout: 60_000 });
@@ -100,7 +100,13 @@ export async function browserFigures(): Promise<{ rows: BrowserRow[]; chromium: 
         process.stdout.write(`${subject}: first ${times[0].toFixed(0)} ms, then median ${median(rest).toFixed(1)} ms (${rest.map((t) => t.toFixed(0)).join(' ')})\n`);
       }
     }
-    // Part 2: the P = 85 002 cell, appended to the first demo notebook (never saved).
+    if (parts.curvature === false) return { rows, chromium, load: loadavg() };
+    // Part 2: the P = 85 002 cell, appended to the first demo notebook (never saved), in a fresh
+    // browser: the stepped demos stay unsaved in the first one, and leaving them would ask.
+    await session.close();
+    session = await launchBrowser();
+    page = session.page;
+    await page.addInitScript({ content: 'globalThis.__name = (f) => f;' });
     await openNotebook(page, `${app.origin}/lab/tree/${DEMOS[0]}`);
     const text = bigSpec();
     await page.evaluate(async (source) => {

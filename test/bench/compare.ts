@@ -86,7 +86,8 @@ interface Turn {
  * Alternates the two sides for `rounds` rounds. Repetitions per round are chosen from a first
  * untimed call of each side so a round takes about `budgetMs` (at least one repetition).
  */
-async function interleave(work: string, subject: string, turn: Turn, rounds: number, budgetMs: number): Promise<ComparedRow> {
+async function interleave(only: RegExp | undefined, work: string, subject: string, turn: Turn, rounds: number, budgetMs: number): Promise<ComparedRow | null> {
+  if (only !== undefined && !only.test(`${work} ${subject}`)) return null;
   const probeHere = turn.here(1);
   const probeThere = await turn.there(1);
   const repsHere = Math.max(1, Math.min(200, Math.round(budgetMs / Math.max(probeHere.wall[0], 1e-3))));
@@ -144,6 +145,8 @@ export interface CompareOptions {
   mlps?: MlpCase[];
   /** Dense eigenvalue orders (default 370, 1000, 2000). */
   orders?: number[];
+  /** Only the rows whose "work subject" matches (default: every row; `npm run bench -- compare` reads it from STEPWELL_BENCH_ROWS). */
+  only?: RegExp;
 }
 
 /** Runs every compared row; returns the rows and the reference's library versions. */
@@ -152,6 +155,10 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
   const budget = options.budgetMs ?? 300;
   const ref = new Reference();
   const rows: ComparedRow[] = [];
+  const only = options.only;
+  const add = (row: ComparedRow | null): void => {
+    if (row !== null) rows.push(row);
+  };
   try {
     const versions = await ref.ask<Record<string, string | null>>({ cmd: 'versions' });
     for (const c of options.mlps ?? MLPS) {
@@ -166,16 +173,16 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
       const hv = new Float64Array(P);
       const vFile = ref.file(v);
       const norm = (a: Float64Array): number => Math.sqrt(a.reduce((s, t) => s + t * t, 0));
-      rows.push(await interleave('loss + gradient', subject, {
+      add(await interleave(only, 'loss + gradient', subject, {
         here: (reps) => { let f = 0; const t = timeHere(() => { f = net.gradient(w, g); }, reps); t.check.loss = f; return t; },
         there: (reps) => ref.ask<Timing>({ cmd: 'time', what: 'grad', reps }),
       }, rounds, budget));
-      rows.push(await interleave('Hv from scratch', subject, {
+      add(await interleave(only, 'Hv from scratch', subject, {
         here: (reps) => { const t = timeHere(() => { net.forgetPass(); net.hvp(w, v, hv); }, reps); t.check.hvNorm = norm(hv); return t; },
         there: (reps) => ref.ask<Timing>({ cmd: 'time', what: 'hv-fresh', reps, v: vFile }),
       }, rounds, budget));
       net.hvp(w, v, hv);
-      rows.push(await interleave('Hv on a kept pass', subject, {
+      add(await interleave(only, 'Hv on a kept pass', subject, {
         here: (reps) => { const t = timeHere(() => net.hvp(w, v, hv), reps); t.check.hvNorm = norm(hv); return t; },
         there: (reps) => ref.ask<Timing>({ cmd: 'time', what: 'hv-kept', reps, v: vFile }),
       }, rounds, budget));
@@ -183,12 +190,15 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
         const fresh = (): Session => sessionFor(c, x, y, recipe);
         let s = fresh();
         await mlp(Float64Array.from(s.parameters));
-        rows.push(await interleave(`${what === 'sgd' ? 'SGD' : 'Adam'} step (full batch)`, subject, {
+        add(await interleave(only, `${what === 'sgd' ? 'SGD' : 'Adam'} step (full batch)`, subject, {
           here: (reps) => {
+            // A session's first step also evaluates the gradient at its starting weights (later
+            // steps reuse the one evaluated at the end of the step before), so it runs untimed:
+            // the rows time the steady state, one gradient per step, as the reference's loop.
             s = fresh();
-            const first: number[] = [];
-            const t = timeHere(() => { first.push(s.step(1)[0].batchLoss); }, reps);
-            t.check.firstLoss = first[0];
+            const firstLoss = s.step(1)[0].batchLoss;
+            const t = timeHere(() => s.step(1), reps);
+            t.check.firstLoss = firstLoss;
             return t;
           },
           there: (reps) => ref.ask<Timing>({ cmd: 'time', what, reps, lr: recipe.lr }),
@@ -197,7 +207,7 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
       await mlp(w);
       const start = Rng.fromSeed(1).fillNormal(new Float64Array(P));
       const startFile = ref.file(start);
-      rows.push(await interleave('top-10 Lanczos', subject, {
+      add(await interleave(only, 'top-10 Lanczos', subject, {
         here: (reps) => {
           let products = 0;
           let lmax = 0;
@@ -217,7 +227,7 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
     for (const n of options.orders ?? [370, 1000, 2000]) {
       const a = randomSymmetric(n, n);
       await ref.ask({ cmd: 'matrix', n, a: ref.file(a) });
-      rows.push(await interleave('dense eigenvalues', `n = ${n}`, {
+      add(await interleave(only, 'dense eigenvalues', `n = ${n}`, {
         here: (reps) => {
           let ev = new Float64Array(0);
           const t = timeHere(() => { ev = eigenvalues(a, n); }, reps);

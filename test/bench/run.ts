@@ -49,7 +49,8 @@ async function main(): Promise<void> {
   const sections: string[] = [];
   if (wants('compare')) {
     process.stdout.write('== Stepwell against PyTorch / NumPy / SciPy, interleaved\n');
-    const { rows, versions } = await compare();
+    const rowsWanted = process.env.STEPWELL_BENCH_ROWS;
+    const { rows, versions } = await compare(rowsWanted ? { only: new RegExp(rowsWanted, 'i') } : {});
     json.reference = versions;
     json.comparison = rows;
     sections.push(`## Stepwell against the reference, measured side by side\n\nReference: ${versions.interpreter} — Python ${versions.python}, torch ${versions.torch}, NumPy ${versions.numpy}, SciPy ${versions.scipy ?? 'not installed'}; one thread each. Ratio = Stepwell's median ÷ the reference's median (below 1: Stepwell is faster); rows interleave the two sides round by round.\n\n${comparisonTable(rows)}`);
@@ -85,7 +86,7 @@ async function main(): Promise<void> {
   json.alone = alone;
   json.loadAtEnd = loadavg();
   const header = `# Benchmark results\n\nWritten by \`npm run bench\` on ${machine.date.slice(0, 10)}: Node ${machine.node} (V8 ${machine.v8}), ${machine.cpus} × ${machine.cpu}, load average ${machine.loadAtStart[0].toFixed(2)} at the start and ${loadavg()[0].toFixed(2)} at the end. Float64, one thread. Every figure is measured in this run (test/bench/BENCHMARKS.md says how); all of them are in results.json.\n\n`;
-  if (only.length === 0) {
+  if (only.length === 0 && !process.env.STEPWELL_BENCH_ROWS) {
     writeFileSync(join(__dirname, 'RESULTS.md'), header + sections.join('\n'));
     writeFileSync(join(__dirname, 'results.json'), `${JSON.stringify(json, null, 1)}\n`);
   }

@@ -69,6 +69,23 @@ const PANEL = 32;
  * @returns T and the reflectors, stored in `a`.
  */
 export function tridiagonalize(a: Float64Array, n: number, options: TridiagonalizeOptions = {}): HouseholderReduction {
+  const { red, m } = packAndReduce(a, n, options);
+  for (let i = 0; i < n; i++) a.set(m.subarray((i * (i + 1)) / 2, (i * (i + 1)) / 2 + i + 1), i * n);
+  return { ...red, reflectors: a };
+}
+
+/**
+ * T of {@link tridiagonalize} without the reflectors: `a` is only read (no copy of it is made
+ * and nothing is written back), for callers that need the eigenvalues alone. Same arithmetic,
+ * so the same bits as `tridiagonalize`.
+ * @returns the diagonal, the subdiagonal and h of each step.
+ */
+export function tridiagonalForm(a: Float64Array, n: number, options: TridiagonalizeOptions = {}): Omit<HouseholderReduction, 'reflectors'> {
+  return packAndReduce(a, n, options).red;
+}
+
+/** Packs A's lower triangle into the kernels' space and reduces it there; the space's array holds the reflectors after. */
+function packAndReduce(a: Float64Array, n: number, options: TridiagonalizeOptions): { red: Omit<HouseholderReduction, 'reflectors'>; m: Float64Array } {
   if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
   const nb = options.block ?? PANEL;
@@ -83,9 +100,7 @@ export function tridiagonalize(a: Float64Array, n: number, options: Tridiagonali
   const space = eigenSpace(lay.dots + 2 * nb, max(n, 1), options.simd !== false);
   const m = space.m;
   for (let i = 0; i < n; i++) m.set(a.subarray(i * n, i * n + i + 1), (i * (i + 1)) / 2);
-  const red = reduce(m, space.kernels, n, nb, lay);
-  for (let i = 0; i < n; i++) a.set(m.subarray((i * (i + 1)) / 2, (i * (i + 1)) / 2 + i + 1), i * n);
-  return { ...red, reflectors: a };
+  return { red: reduce(m, space.kernels, n, nb, lay), m };
 }
 
 interface Layout {

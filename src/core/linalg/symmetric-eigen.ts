@@ -8,9 +8,10 @@
  * *rows* of an n×n (or k×n) array, row k belonging to `values[k]`, so that each vector is
  * contiguous in memory.
  */
-import { applyReflectors, tridiagonalize } from './householder';
+import { applyReflectors, tridiagonalForm, tridiagonalize } from './householder';
 import type { HouseholderReduction } from './householder';
 import { bisectEigenvalues, tridiagonalInverseIteration, tridiagonalQL } from './tridiagonal';
+import { rootFreeEigenvalues } from './root-free-ql';
 
 /** Options of {@link symmetricEigen}. */
 export interface SymmetricEigenOptions {
@@ -51,15 +52,22 @@ function reduce(a: Float64Array, n: number, overwrite: boolean): HouseholderRedu
 /**
  * All eigenvalues (ascending) and optionally eigenvectors of the symmetric n×n matrix `a`:
  * Householder tridiagonalization, then implicit QL with Wilkinson shifts
- * (Golub & Van Loan 4th ed., alg. 8.3.1 and 8.3.2). Cost ≈ 4n³/3 flops for values only.
+ * (Golub & Van Loan 4th ed., alg. 8.3.1 and 8.3.2; for values alone its root-free form, as
+ * LAPACK's dsterf). Cost ≈ 4n³/3 flops for values only.
  */
 export function symmetricEigen(a: Float64Array, n: number, options: SymmetricEigenOptions = {}): SymmetricEigenResult {
+  const k = Math.min(n, options.topVectors ?? 0);
+  if (options.vectors !== true && k === 0) {
+    // Values alone need no reflectors: `a` is read where it is, never copied nor written; and
+    // no rotations, so the root-free QL (the rotation QL where T cannot be squared safely).
+    checkSquare(a, n);
+    const t = tridiagonalForm(a, n);
+    return { n, values: rootFreeEigenvalues(t) ?? tridiagonalQL(t), vectors: null, vectorOffset: 0 };
+  }
   const red = reduce(a, n, options.overwrite === true);
   if (options.vectors !== true) {
     const values = tridiagonalQL(red);
-    const k = Math.min(n, options.topVectors ?? 0);
     if (!Number.isInteger(k) || k < 0) throw new RangeError(`topVectors must be a non-negative integer, got ${options.topVectors}`);
-    if (k === 0) return { n, values, vectors: null, vectorOffset: 0 };
     const vectors = tridiagonalInverseIteration(red, values.slice(n - k));
     applyReflectors(red, vectors, k);
     return { n, values, vectors, vectorOffset: n - k };

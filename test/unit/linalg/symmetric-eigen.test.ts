@@ -1,6 +1,6 @@
 import { eigenvalues, fromRows, selectedEigenpairs, symmetricEigen } from '../../../src/core/linalg/symmetric-eigen';
 import { Rng } from '../../../src/core/rng';
-import { tridiagonalize } from '../../../src/core/linalg/householder';
+import { tridiagonalForm, tridiagonalize } from '../../../src/core/linalg/householder';
 import { tridiagonalQL } from '../../../src/core/linalg/tridiagonal';
 import { eigenSpace } from '../../../src/core/linalg/eigen-kernels';
 import { diagonal, repeated, repeatedSpectrum, tridiagonal, wilkinson } from '../../reference/curvature/fixtures';
@@ -104,6 +104,23 @@ describe('symmetricEigen invariants', () => {
     const v1 = eigenvalues(a, 120);
     const v2 = symmetricEigen(a, 120, { vectors: true }).values;
     expect(maxAbs(v1.map((x, i) => x - v2[i]))).toBeLessThan(1e-12 * maxAbs(v1));
+  });
+
+  it('values alone leave the matrix untouched; their T is, bit for bit, the T of the path that keeps the reflectors', () => {
+    const n = 97;
+    const a = seededSymmetric(n, 11);
+    const before = Float64Array.from(a);
+    const values = eigenvalues(a, n);
+    expect(values.length).toBe(n);
+    expect(Array.from(a)).toEqual(Array.from(before));
+    // overwrite: true is a permission, not a promise; values alone still read the matrix only
+    expect(Array.from(symmetricEigen(a, n, { overwrite: true }).values)).toEqual(Array.from(values));
+    expect(Array.from(a)).toEqual(Array.from(before));
+    const t = tridiagonalForm(a, n);
+    const kept = tridiagonalize(Float64Array.from(a), n);
+    expect(Array.from(t.diagonal)).toEqual(Array.from(kept.diagonal));
+    expect(Array.from(t.subdiagonal)).toEqual(Array.from(kept.subdiagonal));
+    expect(Array.from(t.h)).toEqual(Array.from(kept.h));
   });
 
   it('recovers a known spectrum with multiplicities (3 ×5, −1 ×4, 0 ×3)', () => {
