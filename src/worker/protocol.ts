@@ -24,6 +24,8 @@ import type { NoiseScale } from '../core/probe/noise-scale';
 import type { LayerBalance } from '../core/probe/balance';
 import type { Generalization } from '../core/probe/generalization';
 import type { Finding } from '../core/probe/findings/types';
+import type { DeeperKept, DeeperRequest, DeeperResult } from './deeper';
+import { deeperRequestProblem } from './deeper';
 
 export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison, Finding };
 
@@ -134,6 +136,8 @@ export interface BranchReadouts {
   data: DataReport | null;
   /** The branch's findings at its cursor, most severe first (`evaluateFindings`). */
   findings: Finding[];
+  /** The latest complete deeper readout of each kind taken on the branch (`worker/deeper.ts`). */
+  deeper: DeeperKept;
   derived: DerivedReadouts;
 }
 
@@ -257,6 +261,11 @@ export type EngineRequest =
   /** Measure the Hessian spectrum at the current weights: `k` eigenvalues per end, dense up to `denseLimit` parameters. */
   | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
+  /**
+   * Take one deeper readout (line, plane, range test, precision, batch sizes) at the active
+   * branch's cursor, in slices with progress; a stop discards it (the reply says `stopped`).
+   */
+  | { id: number; kind: 'deeper'; request: DeeperRequest }
   /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
   | { id: number; kind: 'ledger'; specText: string; checkpointCap: number; maxBytes?: number }
   /** Replay branches from the seed (default: the active one) and compare bit for bit. */
@@ -392,6 +401,8 @@ export type EngineReply =
       trajectory: StepRecord[];
     }
   | { id: number; kind: 'curvature'; result: CurvatureResult; readouts: BranchReadouts }
+  /** The deeper readout taken (null when stopped: nothing was kept) and the branch's readouts with it kept. */
+  | { id: number; kind: 'deeper'; result: DeeperResult | null; stopped: boolean; readouts: BranchReadouts }
   /** `result` is the first branch's; `results` has one per branch replayed. */
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   /** What a stored ledger shows, or every problem that makes it unreadable (`open`). */
@@ -418,6 +429,7 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'noise',
   'curvature',
   'snapshot',
+  'deeper',
   'ledger',
   'verify',
   'stop'
@@ -474,6 +486,8 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('k') ?? positiveInt('denseLimit');
     case 'stop':
       return positiveInt('target');
+    case 'deeper':
+      return deeperRequestProblem(r.request);
     case 'ledger':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
       return positiveInt('checkpointCap') ?? (r.maxBytes === undefined ? null : positiveInt('maxBytes'));
