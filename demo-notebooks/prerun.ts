@@ -30,6 +30,7 @@ export type PrerunAction =
   | { do: 'fork'; atStep: number; set: Record<string, unknown>; name?: string; from?: string }
   | { do: 'curvature' }
   | { do: 'audit' }
+  | { do: 'noise' }
   | { do: 'switch'; branch: string }
   /** Take a deeper readout on the Deeper tab with these choices (the rest as the tab starts). */
   | { do: 'deeper'; choice: Partial<DeeperChoice> }
@@ -78,6 +79,8 @@ async function act(c: CellController, a: PrerunAction, out: PrerunResult): Promi
       return c.measureCurvature();
     case 'audit':
       return c.audit();
+    case 'noise':
+      return c.measureNoise();
     case 'deeper':
       c.setDeeperChoice(a.choice);
       return c.takeDeeper();

@@ -79,6 +79,7 @@ async function main(): Promise<void> {
     actions: [
       { do: 'step', n: STEPS },
       { do: 'audit' },
+      { do: 'noise' },
       { do: 'deeper', choice: { kind: 'line' } },
       { do: 'deeper', choice: { kind: 'plane', directions: 'random', planePoints: '21' } },
       { do: 'deeper', choice: { kind: 'range', rangeFrom: '1e-3', rangeTo: '30', rangeSteps: '40' } },

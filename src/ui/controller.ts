@@ -251,13 +251,13 @@ export class CellController extends BranchController {
     return this.persist();
   }
 
-  /** Measures the gradient noise scale at the active branch's step (shown on the Data tab). */
-  async measureNoise(): Promise<boolean> {
+  /** Measures the gradient noise scale at the active branch's step (shown on the Data tab, which opens unless `showTab` is false). */
+  async measureNoise(showTab = true): Promise<boolean> {
     const reply = await this.exchange('Measuring the gradient noise scale', { kind: 'noise', sample: this.deps.settings().noiseSample });
     if (reply === null) return false;
     if (reply.kind !== 'noise') return this.failed(reply);
     this.applyReadouts(reply.readouts);
-    this.set({ tab: 'data' });
+    if (showTab) this.set({ tab: 'data' });
     return this.persist();
   }
 

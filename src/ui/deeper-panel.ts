@@ -197,20 +197,26 @@ export function deeperPanel(c: DeeperChoice, kept: DeeperKept, where: { branch: 
   return box;
 }
 
+/** `f` with its title at the top of the figure and the legend below it (in the cell, where a figure is 240 px high, they would overlap). */
+function titledAbove(f: Figure): Figure {
+  if (f.layout.title === undefined) return f;
+  return { ...f, layout: { ...f.layout, height: f.layout.height + 30, margin: { ...f.layout.margin, t: f.layout.margin.t + 30 }, title: { ...f.layout.title, y: 0.98, yanchor: 'top' } } };
+}
+
 /** The figures the shown result needs, each with the plot node it goes into. */
 export function deeperFigures(kind: DeeperKind, kept: DeeperKept, plots: DeeperPlots, theme: FigureTheme): [HTMLElement, Figure][] {
   const r = kept[kind];
   if (r === undefined) return [];
   switch (r.what) {
     case 'line': {
-      const out: [HTMLElement, Figure][] = [[plots.lineUpdate, lineFigure(r.result.update, theme, `Along the update (step ${r.step})`)]];
-      if (r.result.eigenvector !== undefined) out.push([plots.lineEigen, lineFigure(r.result.eigenvector, theme, `Along the top eigenvector (step ${r.step})`)]);
+      const out: [HTMLElement, Figure][] = [[plots.lineUpdate, titledAbove(lineFigure(r.result.update, theme, `Along the update (step ${r.step})`))]];
+      if (r.result.eigenvector !== undefined) out.push([plots.lineEigen, titledAbove(lineFigure(r.result.eigenvector, theme, `Along the top eigenvector (step ${r.step})`))]);
       return out;
     }
     case 'plane':
       return [[plots.plane, planeFigure(r.result, theme)]];
     case 'range':
-      return [[plots.range, rangeFigure(r.result, theme)]];
+      return [[plots.range, titledAbove(rangeFigure(r.result, theme))]];
     case 'precision':
       return [];
     case 'batch':

@@ -74,7 +74,7 @@ export class ReadoutPanels {
       (s.tab === 'layers' ? `${d.activations.now?.step}:${d.derived.balance?.steps.length}:${d.derived.balance?.steps[d.derived.balance.steps.length - 1]}:${d.init !== null}` : '') +
       (s.tab === 'data' ? `${d.data !== null}:${d.noise?.step}:${d.noise?.noiseScale}` : '') +
       (s.tab === 'deeper' ? `${s.deeperChoice.kind}:${s.deeperChoice.directions}:${deeperKey(s)}` : '') +
-      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
+      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${d.noise?.step}:${d.noise?.noiseScale}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
     if (key === this.rendered) return;
     this.rendered = key;
     // The plot nodes are reused across panel rebuilds (plotly updates them in place); they are
@@ -115,8 +115,9 @@ export class ReadoutPanels {
           choose: names => void c.setCompared(names),
           axis: axis => c.setCompareAxis(axis),
           refresh: () => void c.compare(),
-          record: () => c.setForm('record')
-        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot });
+          record: () => c.setForm('record'),
+          measureNoise: () => void c.measureNoise(false)
+        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot }, { scale: d.noise, active: s.summary?.branch ?? '' });
         break;
     }
     replaceChildren(this.node, [panel]);

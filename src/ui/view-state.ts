@@ -8,6 +8,7 @@ import type { LedgerRead, SpecChecker } from './ports';
 import type { BranchComparison, BranchReadouts, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 import type { CompareAxis } from '../figures/compare';
 import type { DeeperKept } from '../worker/deeper';
+import type { BatchOfBranch } from '../worker/batch-branches';
 import { DEFAULT_DEEPER_CHOICE, type DeeperChoice } from './deeper-form';
 
 /** Readout tabs of the cell widget. */
@@ -61,7 +62,7 @@ export interface ComparisonView {
   /** Branches to compare, the reference first. */
   names: string[];
   axis: CompareAxis;
-  data: { comparison: BranchComparison; traces: BranchTrace[] } | null;
+  data: { comparison: BranchComparison; traces: BranchTrace[]; batchOnly?: BatchOfBranch[] | null } | null;
 }
 
 /** A message for the user above the readouts. */

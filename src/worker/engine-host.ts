@@ -23,6 +23,7 @@ import { viewLedger } from './ledger-view';
 import { grouped } from '../experiment/limits';
 import { parseSpec } from '../experiment';
 import { deeperTask } from '../core/probe/readouts-at';
+import { batchOnlyComparison } from './batch-branches';
 import { keepDeeper, planePath, thinDeeper, type DeeperRequest } from './deeper';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
@@ -148,7 +149,7 @@ export class EngineHost {
         return;
       }
       case 'compare':
-        this.post({ id, kind: 'comparison', ...this.need().cell.compare(request.branches, request.reference) });
+        this.post({ id, kind: 'comparison', ...this.need().cell.compare(request.branches, request.reference), batchOnly: batchOnlyComparison(this.need().cell, request.branches) });
         return;
       case 'gradcheck': {
         const cell = this.need().cell;

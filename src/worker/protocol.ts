@@ -26,6 +26,7 @@ import type { Generalization } from '../core/probe/generalization';
 import type { Finding } from '../core/probe/findings/types';
 import type { DeeperKept, DeeperRequest, DeeperResult } from './deeper';
 import { deeperRequestProblem } from './deeper';
+import type { BatchOfBranch } from './batch-branches';
 
 export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison, Finding };
 
@@ -370,7 +371,8 @@ export type EngineReply =
     }
   /** A patch that does not validate against the spec (line:column within the patch text is the page's business). */
   | { id: number; kind: 'patch-errors'; errors: SpecProblem[] }
-  | { id: number; kind: 'comparison'; comparison: BranchComparison; traces: BranchTrace[] }
+  /** `batchOnly`: the branches' batch sizes when they differ only in batch size (`worker/batch-branches.ts`), else null. */
+  | { id: number; kind: 'comparison'; comparison: BranchComparison; traces: BranchTrace[]; batchOnly?: BatchOfBranch[] | null }
   | {
       id: number;
       kind: 'audit';
