@@ -7,7 +7,8 @@
  * `npx tsx demo-notebooks/dough-proofing/make_proofing_demo.ts` in Debian's Chromium; the
  * readouts' own numbers have their outside checks in test/unit/probe).
  */
-import { readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { LEDGER_KEY, validateLedger } from '../../../src/ledger';
 import { CellGrove } from '../../../src/worker/cell-grove';
@@ -38,6 +39,16 @@ describe('the dough-proofing demo', () => {
     const r = await cli(['verify', join(DIR, 'dough-proofing.ipynb')]);
     expect(r.out).toContain('verified: 2 branches in 1 cell bit-identical');
     expect(r.code).toBe(0);
+  });
+
+  it('stepwell report draws its kept deeper readouts, each saying where it was taken', async () => {
+    const out = join(mkdtempSync(join(tmpdir(), 'proofing-')), 'report.html');
+    const r = await cli(['report', join(DIR, 'dough-proofing.ipynb'), '--out', out]);
+    expect(r.out).toContain('1 cell, 5 figures; verification: bit-identical');
+    const html = readFileSync(out, 'utf8');
+    const titles = ['Loss along the update', 'Loss over a plane (filter-normalized random directions)', 'Learning-rate range test', 'Batch sizes by examples seen'];
+    expect(titles).toHaveLength(4);
+    for (const t of titles) expect(html).toContain(`${t}. Branch main, taken at step 60.`);
   });
 
   it('keeps the five deeper readouts on main, each equal to what the current code computes at its step', () => {
