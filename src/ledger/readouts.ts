@@ -10,6 +10,7 @@
  * becomes `"f64:"` + 16 hex digits of its bits (as {@link encodeScalar}); a string that starts
  * with `f64:` or `~` gets a `~` in front, so decoding is unambiguous.
  */
+import { aboveLimit } from '../core/probe/curvature/verdicts';
 import { decodeScalar, encodeScalar } from './codec';
 import { sha256Hex } from './hash';
 import { LedgerError } from './types';
@@ -53,7 +54,8 @@ export interface DecodedReadouts {
   activations: Record<string, unknown> | null;
   init: Record<string, unknown> | null;
   data: Record<string, unknown> | null;
-  deeper: Record<string, unknown> | null;
+  /** The deeper readouts (absent or null: none kept). */
+  deeper?: Record<string, unknown> | null;
 }
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
@@ -123,7 +125,7 @@ export function capSharpness<T extends { step: number }>(points: readonly T[], c
   if (points.length <= cap) return points.slice();
   const crossing = points.findIndex((p) => {
     const q = p as unknown as { sharpness?: unknown; limit?: unknown };
-    return typeof q.sharpness === 'number' && typeof q.limit === 'number' && q.sharpness > q.limit;
+    return typeof q.sharpness === 'number' && typeof q.limit === 'number' && aboveLimit(q.sharpness, q.limit);
   });
   const must = (i: number): boolean => i === 0 || i === points.length - 1 || i === crossing;
   const last = points[points.length - 1].step;

@@ -139,7 +139,7 @@ export abstract class BranchController extends ControllerBase {
     if (reply === null) return false;
     if (reply.kind !== 'branched') return this.failed(reply);
     this.applyView(reply);
-    this.set({ notice: null, msPerStep: undefined });
+    this.set({ notice: null, msPerStep: undefined, msBelow: undefined });
     return this.persist();
   }
 

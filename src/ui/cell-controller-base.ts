@@ -12,7 +12,7 @@ import { cellFileNames } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
-import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, problemLine, unreadableMarkdown } from './summary';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, msBound, problemLine, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -132,7 +132,8 @@ export abstract class ControllerBase {
     this.engineInSync = false;
     const view = viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
-    this.set({ ...view, msPerStep: read.kind === 'ok' ? meanMs(read.content.trajectory.slice(-200)) : undefined });
+    const recent = read.kind === 'ok' ? read.content.trajectory.slice(-200) : [];
+    this.set({ ...view, msPerStep: meanMs(recent), msBelow: msBound(recent) });
     if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
   }
 
@@ -243,6 +244,7 @@ export abstract class ControllerBase {
       diagnosis: diagnosisOf(reply.readouts),
       warnings: reply.warnings,
       msPerStep: undefined,
+      msBelow: undefined,
       notice: reply.warnings.length > 0 ? { level: 'warn', text: reply.warnings.map(problemLine).join('; ') } : null
     });
     return this.persist();

@@ -123,7 +123,7 @@ export class StepwellCellWidget extends Widget {
     this.statusNode.textContent =
       s.summary === null
         ? s.ledger === 'corrupt' ? 'unreadable ledger' : s.ledger === 'reading' ? 'reading the saved ledger…' : 'no session yet: run the cell (Shift+Enter)'
-        : `${statusLine({ step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, ledgerBytes: s.ledgerBytes })}` +
+        : `${statusLine({ step, tip: s.summary.tip, last: atCursor, msPerStep: s.msPerStep, msBelow: s.msBelow, ledgerBytes: s.ledgerBytes })}` +
           `${many ? ` · branch ${s.summary.branch}` : ''} · ${s.summary.recipe}` +
           (s.specEdited ? ' · previous spec' : '');
     replaceChildren(this.problemsNode, s.problems.map(p => el('li', 'sw-Problem', problemLine(p))));

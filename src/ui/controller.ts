@@ -16,7 +16,7 @@ import type { StopCondition } from '../worker/protocol';
 import { RECENT_RECORDS, thinInPlace } from '../worker/sampling';
 import { BranchController, type ControllerDeps } from './branch-controller';
 import { readNumber } from './forms';
-import { errorMarkdown, meanMs, problemLine, requestMs, verifyLines } from './summary';
+import { errorMarkdown, meanMs, msBound, problemLine, requestMs, verifyLines } from './summary';
 import type { Notice } from './view-state';
 import { diagnosisOf, mergeSharpness } from './view-state';
 import { conditionProblem, conditionText } from './forms';
@@ -207,19 +207,29 @@ export class CellController extends BranchController {
         }
         break;
     }
+    const trajectory = thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep())));
+    // Too short to time on its own (one fast step): the branch's recent steps, as after a reload.
+    const recent = produced.length >= RECENT_RECORDS ? produced.slice(-RECENT_RECORDS) : trajectory.slice(-RECENT_RECORDS);
     this.set({
       busy: null,
       summary: reply.summary,
-      trajectory: thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep()))),
+      trajectory,
       sharpness: reply.readouts.sharpness,
       diagnosis: diagnosisOf(reply.readouts),
-      msPerStep: requestMs(reply.updates, reply.elapsedMs) ?? meanMs(produced.slice(-RECENT_RECORDS)) ?? this.st.msPerStep,
+      ...this.timing(requestMs(reply.updates, reply.elapsedMs) ?? meanMs(recent), msBound(recent)),
       notice
     });
     return this.persist();
   }
 
   /** The last step of the displayed trace (re-stepped kept steps are already in it). */
+  /** The status line's timing after a stepping action: its measured mean, else the bound its too-fast steps set, else the previous one. */
+  private timing(measured: number | undefined, bound: number | undefined): { msPerStep?: number; msBelow?: number } {
+    if (measured !== undefined) return { msPerStep: measured, msBelow: undefined };
+    if (bound !== undefined) return { msPerStep: undefined, msBelow: bound };
+    return { msPerStep: this.st.msPerStep, msBelow: this.st.msBelow };
+  }
+
   private lastStep(): number {
     const t = this.st.trajectory;
     return t.length > 0 ? t[t.length - 1].step : -1;

@@ -14,11 +14,10 @@ import { chooseScale, logTicks, SHARPNESS_LOG_SPAN, stepAxis, themedAxis, themed
  * @param theme - colours from the page.
  */
 export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure {
-  const top = c.top.map((v, i) => ({ rank: i + 1, v }));
-  const bottom = c.bottom.map((v, i) => ({ rank: -(i + 1), v }));
+  const top = c.top.map((v, i) => ({ rank: i + 1, v, above: c.aboveTop[i] === true }));
+  const bottom = c.bottom.map((v, i) => ({ rank: -(i + 1), v, above: c.aboveBottom[i] === true }));
   const points = [...bottom.reverse(), ...top];
-  const limit = stabilityLimit(c);
-  const above = (v: number): boolean => limit !== null && v > limit;
+  const limit = c.limitLine;
   const stems: LineSeries = {
     type: 'scatter',
     mode: 'markers',
@@ -30,7 +29,7 @@ export function curvatureFigure(c: CurvatureResult, theme: FigureTheme): Figure 
     hovertemplate: 'λ = %{y:.6g}<extra></extra>'
   };
   const data: LineSeries[] = [stems];
-  const unstable = points.filter(p => above(p.v));
+  const unstable = points.filter(p => p.above);
   if (unstable.length > 0) {
     data.push({
       type: 'scatter',
@@ -79,16 +78,6 @@ export function limitFormula(etaFormula: string): string {
 }
 
 /**
- * The largest sharpness the recipe tolerates at its learning rate (factor/η, e.g. 2/η for plain
- * gradient descent), or null when the rule does not apply (line searches, Newton) or when the
- * bound is on a preconditioned matrix rather than the plain Hessian shown here.
- */
-export function stabilityLimit(c: CurvatureResult): number | null {
-  const s = c.summary.stability;
-  return s.preconditioned ? null : s.sharpnessLimit;
-}
-
-/**
  * The sharpness over the steps against the limit of the learning rate in effect: the signature
  * of a step size that is too large is the sharpness line crossing the limit line.
  *
@@ -120,7 +109,7 @@ export function sharpnessFigure(points: readonly SharpnessPoint[], theme: Figure
       line: { color: theme.heldOut, width: 2, dash: 'dash' },
       hovertemplate: 'step %{x}<br>limit %{y:.6g}<extra></extra>'
     });
-    const over = limited.filter(p => p.sharpness > (p.limit as number));
+    const over = limited.filter(p => p.above);
     if (over.length > 0) {
       data.push({
         type: 'scatter',

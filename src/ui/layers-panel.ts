@@ -112,7 +112,7 @@ function initTable(init: InitCheck | null): HTMLElement {
     String(l.layer), l.activation, String(l.fanIn), fmt(l.weightSpread) + (l.measured ? ' (measured)' : ''), `${fmt(l.ruleSpread)} (${rules[l.rule] ?? l.rule})`, `${fmt(l.ratio)}×`
   ]);
   box.appendChild(textTable('sw-Table sw-InitTable', ['layer', 'activation', 'fan-in', `weight spread, ${candidateName(chosen)}`, 'fan-in rule', 'ratio'], rows,
-    i => (chosen.layers[i].ratio > 2 || chosen.layers[i].ratio < 0.5 ? 'sw-mod-off' : '')));
+    i => (chosen.layers[i].offRule ? 'sw-mod-off' : '')));
   // The same scheme at the same gain is the chosen one drawn again from another stream: showing it
   // twice with different numbers reads as a contradiction, so the chosen draw stands for it.
   const all = [chosen, ...init.alternatives.filter(c => !(c.scheme === chosen.scheme && c.gain === chosen.gain))];

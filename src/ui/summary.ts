@@ -133,6 +133,8 @@ export interface StatusInputs {
   last: StepRecord | undefined;
   /** Mean wall time per step of the last stepping action, ms. */
   msPerStep?: number;
+  /** Without `msPerStep`: an upper bound on it, when the steps were timed but too fast to measure ({@link msBound}). */
+  msBelow?: number;
   /** Ledger size in bytes. */
   ledgerBytes?: number;
 }
@@ -144,24 +146,28 @@ export function bytes(n: number): string {
   return `${(n / 1e6).toFixed(1)} MB`;
 }
 
+/** A time per step as the status line writes it: `4.2 µs`, `0.42 ms`, `12.3 ms`. */
+function perStep(ms: number): string {
+  return ms < 0.1 ? `${(ms * 1000).toFixed(1)} µs` : ms < 1 ? `${ms.toFixed(2)} ms` : `${ms.toFixed(1)} ms`;
+}
+
 /** The status line: `step 40 · loss 0.0132 · held-out 0.0171 · 0.42 ms/step · ledger 14.2 kB`. */
 export function statusLine(s: StatusInputs): string {
   const parts = [`step ${s.step}${s.tip !== undefined && s.tip > s.step ? ` (of ${s.tip})` : ''}`, `loss ${fmt(s.last?.loss)}`];
   if (s.last?.heldOutLoss !== undefined) parts.push(`held-out ${fmt(s.last.heldOutLoss)}`);
-  if (s.msPerStep !== undefined && Number.isFinite(s.msPerStep)) {
-    const ms = s.msPerStep;
-    parts.push(ms < 0.1 ? `${(ms * 1000).toFixed(1)} µs/step` : ms < 1 ? `${ms.toFixed(2)} ms/step` : `${ms.toFixed(1)} ms/step`);
-  }
+  if (s.msPerStep !== undefined && Number.isFinite(s.msPerStep)) parts.push(`${perStep(s.msPerStep)}/step`);
+  else if (s.msBelow !== undefined && Number.isFinite(s.msBelow)) parts.push(`< ${perStep(s.msBelow)}/step`);
   if (s.ledgerBytes !== undefined) parts.push(`ledger ${bytes(s.ledgerBytes)}`);
   return parts.join(' · ');
 }
 
 /**
  * Mean wall time per update of one stepping request, or undefined when its total is below
- * 1 ms (ten times the ~0.1 ms resolution of the browser's timer, so the mean is good to 10 %).
+ * {@link MIN_TIMED_MS}: a request of a few fast updates is mostly the fixed cost of the request
+ * itself (messages, readouts), and the records' own times (as after a reload) tell more.
  */
 export function requestMs(updates: number, elapsedMs: number): number | undefined {
-  return updates > 0 && elapsedMs >= 1 ? elapsedMs / updates : undefined;
+  return updates > 0 && elapsedMs >= MIN_TIMED_MS ? elapsedMs / updates : undefined;
 }
 
 /**
@@ -179,6 +185,17 @@ export function meanMs(records: readonly StepRecord[]): number | undefined {
   const total = timed.reduce((a, r) => a + r.ms, 0);
   if (timed.length === 0 || total < MIN_TIMED_MS) return undefined;
   return total / timed.length;
+}
+
+/**
+ * When the records after step 0 were timed but their total is below {@link MIN_TIMED_MS} (so
+ * {@link meanMs} gives none): the bound that total sets on the mean, MIN_TIMED_MS / count.
+ * Undefined when no record is timed or a mean can be given.
+ */
+export function msBound(records: readonly StepRecord[]): number | undefined {
+  const timed = records.filter(r => r.step > 0 && Number.isFinite(r.ms));
+  if (timed.length === 0 || meanMs(records) !== undefined) return undefined;
+  return MIN_TIMED_MS / timed.length;
 }
 
 /** One spec problem as `line N: message` (or `path: message` when the line is unknown). */

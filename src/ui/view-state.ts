@@ -104,6 +104,8 @@ export interface CellViewState {
   busy: BusyState | null;
   /** Mean ms per step of the last stepping action. */
   msPerStep?: number;
+  /** Without `msPerStep`: an upper bound on it when the steps were too fast to time (`msBound`). */
+  msBelow?: number;
   /** Size of the last written ledger, bytes. */
   ledgerBytes?: number;
   /** The latest gradient audit of the active branch and the step it ran at. */

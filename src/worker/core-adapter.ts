@@ -5,7 +5,7 @@
 import type { SpecLimits } from '../experiment/limits';
 import { Rng } from '../core/rng';
 import { auditGradient } from '../core/probe/gradcheck';
-import { measureSessionCurvature, measureSessionCurvatureWith, type CurvatureReport, type DensityTraceRunner } from '../core/probe/curvature';
+import { aboveLimit, measureSessionCurvature, measureSessionCurvatureWith, type CurvatureReport, type DensityTraceRunner } from '../core/probe/curvature';
 import { gradientNoiseScale } from '../core/probe/noise-scale';
 import { effectiveBatch, type Session } from '../core/session';
 import { parseSpec } from '../experiment';
@@ -29,7 +29,7 @@ function curvatureResult(session: Session, { spectrum, summary, threads }: Curva
     products: spectrum.products,
     stop: spectrum.stop,
     summary,
-    ...curvatureVerdict(summary)
+    ...curvatureVerdict(summary, spectrum)
   };
 }
 
@@ -82,6 +82,7 @@ export const realCore: EngineCore = {
       sharpness: st.sharpness,
       limit: st.sharpnessLimit,
       preconditioned: st.preconditioned,
+      above: aboveLimit(st.sharpness, st.sharpnessLimit),
       lr: st.lr
     };
   }

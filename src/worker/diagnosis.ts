@@ -13,7 +13,7 @@ import type { InitCheck } from '../core/probe/init-check';
 import type { DataReport } from '../core/probe/data-checks';
 import { layerBalance } from '../core/probe/balance';
 import { generalization } from '../core/probe/generalization';
-import { stabilityFactor, stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from '../core/probe/curvature';
+import { eigenvalueLimit, eigenvaluesAbove, stabilityFactor, stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from '../core/probe/curvature';
 import type { CurvatureSummary } from '../core/probe/curvature';
 import { auditFacts, curvatureFacts, sharpnessPointFrom, setupFacts, staticEvidence } from '../core/probe/findings';
 import type { Evidence, SharpnessPoint as EvidencePoint, StandardizedFit } from '../core/probe/findings';
@@ -142,7 +142,14 @@ export function derivedReadouts(trajectory: readonly StepRecord[], sharpness: re
   };
 }
 
-/** The verdict and sentence of a curvature summary's stability bound. */
-export function curvatureVerdict(summary: CurvatureSummary): Pick<CurvatureResult, 'verdict' | 'sentence'> {
-  return { verdict: stabilityVerdict(summary.stability), sentence: stabilitySentence(summary.stability) };
+/** The verdict and sentence of a curvature summary's stability bound, its limit line on the eigenvalues and which measured eigenvalues lie above it. */
+export function curvatureVerdict(summary: CurvatureSummary, ends: { top: ArrayLike<number>; bottom: ArrayLike<number> }): Pick<CurvatureResult, 'verdict' | 'sentence' | 'limitLine' | 'aboveTop' | 'aboveBottom'> {
+  const s = summary.stability;
+  return {
+    verdict: stabilityVerdict(s),
+    sentence: stabilitySentence(s),
+    limitLine: eigenvalueLimit(s),
+    aboveTop: eigenvaluesAbove(Array.from(ends.top), s),
+    aboveBottom: eigenvaluesAbove(Array.from(ends.bottom), s)
+  };
 }

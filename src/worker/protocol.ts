@@ -50,6 +50,11 @@ export interface CurvatureResult {
   /** The verdict on the learning rate in effect and the sentence that says it (`core/probe/curvature/verdicts.ts`). */
   verdict: StabilityVerdict;
   sentence: string;
+  /** The limit line on the plain Hessian's eigenvalues (factor/η), null when the rule bounds another matrix or none applies (core's `eigenvalueLimit`). */
+  limitLine: number | null;
+  /** Per entry of `top` and `bottom`: whether it lies above `limitLine` (core's `eigenvaluesAbove`). */
+  aboveTop: boolean[];
+  aboveBottom: boolean[];
   /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
   threads?: number;
 }
@@ -77,6 +82,8 @@ export interface SharpnessPoint {
   limit: number | null;
   /** True when `sharpness` is of a preconditioned matrix. */
   preconditioned: boolean;
+  /** Whether `sharpness` lies above `limit` (core's `aboveLimit`; derived, recomputed when a ledger is read). */
+  above: boolean;
   /** The learning rate in effect at the step (schedule and warm-up applied); absent in points stored by ledger version 2. */
   lr?: number;
 }

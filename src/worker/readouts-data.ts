@@ -14,6 +14,8 @@ import type { NoiseScale } from '../core/probe/noise-scale';
 import type { AuditResult, BranchReadouts, CurvatureResult, Finding, SharpnessPoint } from './protocol';
 import { curvatureVerdict, emptyReadouts } from './diagnosis';
 import { deeperFromLedger } from './deeper';
+import { aboveLimit } from '../core/probe/curvature/verdicts';
+import { offFanInRule } from '../core/probe/init-check';
 
 /** Worst audit entries kept in the ledger. */
 export const STORED_AUDIT_ENTRIES = 20;
@@ -46,11 +48,13 @@ function curvatureOf(v: Obj | null): CurvatureResult | null {
   if (!isObj(s.stability) || !has(s, { lambdaMax: 'number', caveat: 'string' })) return null;
   const c = v as unknown as CurvatureResult;
   // The verdict is core's, from the stored bound (version-2 ledgers did not store it).
-  return { ...c, ...curvatureVerdict(c.summary) };
+  return { ...c, ...curvatureVerdict(c.summary, c) };
 }
 
 function sharpnessOf(list: Obj[]): SharpnessPoint[] {
-  return list.filter(p => isInt(p.step) && has(p, { lambdaMax: 'number', sharpness: 'number', limit: 'number|null', preconditioned: 'boolean' })) as unknown as SharpnessPoint[];
+  return (list.filter(p => isInt(p.step) && has(p, { lambdaMax: 'number', sharpness: 'number', limit: 'number|null', preconditioned: 'boolean' })) as unknown as SharpnessPoint[])
+    // The verdict is core's, never the stored one (ledgers before it was kept lack it).
+    .map(p => ({ ...p, above: aboveLimit(p.sharpness, p.limit) }));
 }
 
 function auditOf(v: Obj | null): BranchReadouts['audit'] {
@@ -68,7 +72,11 @@ function healthOf(v: unknown): ActivationHealth | null {
 
 function initOf(v: Obj | null, start: ActivationHealth | null): InitCheck | null {
   if (v === null || start === null || !isObj(v.chosen) || !Array.isArray(v.alternatives) || !Array.isArray(v.chosen.layers)) return null;
-  return { ...(v as unknown as Omit<InitCheck, 'health'>), health: start };
+  const stored = v as unknown as Omit<InitCheck, 'health'>;
+  // The marking is core's, never the stored one (ledgers before it was kept lack it).
+  const marked = (c: InitCheck['chosen']): InitCheck['chosen'] =>
+    ({ ...c, layers: Array.isArray(c.layers) ? c.layers.map(l => ({ ...l, offRule: offFanInRule(l.ratio) })) : c.layers });
+  return { ...stored, chosen: marked(stored.chosen), alternatives: stored.alternatives.map(marked), health: start };
 }
 
 function dataOf(v: Obj | null): DataReport | null {

@@ -93,11 +93,26 @@ export interface InitLayerStats {
   rule: FanInRule;
   /** weightSpread / ruleSpread. */
   ratio: number;
+  /** Whether `ratio` is off the rule by more than {@link INIT_RULE_FACTOR} either way ({@link offFanInRule}). */
+  offRule: boolean;
   /** Forward statistics at step 0 on all training rows. */
   preMean: number;
   preSpread: number;
   saturatedShare: number | null;
   deadShare: number | null;
+}
+
+/**
+ * How far a layer's weight spread may sit from its fan-in rule, either way, before the check
+ * marks it: 2×, i.e. the variance of the signal scales by 4× per layer.
+ * common practice (no single source): a factor of 2 in spread is where the per-layer
+ * variance drift of LeCun 1998 / He 2015 compounds visibly within a few layers.
+ */
+export const INIT_RULE_FACTOR = 2;
+
+/** Whether a spread ratio (weight spread ÷ the rule's) lies off the fan-in rule: above {@link INIT_RULE_FACTOR} or below its inverse. */
+export function offFanInRule(ratio: number): boolean {
+  return !(ratio <= INIT_RULE_FACTOR && ratio >= 1 / INIT_RULE_FACTOR);
 }
 
 /** One candidate initialization. */
@@ -139,7 +154,7 @@ function candidate(net: Network, model: NetworkModel, w: Float64Array, scheme: I
     const h = health.layers[l];
     return {
       layer: l, activation: layer.activation, fanIn, fanOut, weightSpread: spread, measured: scheme === 'explicit',
-      ruleSpread, rule: fanInRule(layer.activation), ratio: spread / ruleSpread,
+      ruleSpread, rule: fanInRule(layer.activation), ratio: spread / ruleSpread, offRule: offFanInRule(spread / ruleSpread),
       preMean: h.preMean, preSpread: h.preSpread, saturatedShare: h.saturatedShare, deadShare: h.deadShare,
     };
   });

@@ -4,7 +4,8 @@
  * fact (below); the cases are chosen on either side of it and at it.
  */
 import { stabilityBound } from '../../../src/core/probe/curvature/stability';
-import { stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from '../../../src/core/probe/curvature/verdicts';
+import { aboveLimit, eigenvalueLimit, eigenvaluesAbove, stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from '../../../src/core/probe/curvature/verdicts';
+import { offFanInRule } from '../../../src/core/probe/init-check';
 import { parseSpec, TEMPLATE_SPEC } from '../../../src/experiment';
 
 const recipe = (() => {
@@ -61,5 +62,41 @@ describe('sharpness trace verdict', () => {
     const v = traceVerdict([{ step: 0, sharpness: 4, limit: null }, { step: 1, sharpness: 5, limit: null }]);
     expect(v).toEqual({ kind: 'no-limit', measured: 2 });
     expect(traceSentence(v)).toMatch(/^2 sharpness measurements; no learning-rate limit applies/);
+  });
+});
+
+describe('which points the figures mark (decided here, drawn by ui/)', () => {
+  // source: the same rule — an eigen-direction with λ > 2/η grows under gradient descent (Nocedal & Wright 2006, ch. 3).
+  it('marks a sharpness strictly above a finite limit, and nothing without one', () => {
+    expect(aboveLimit(20.000001, 20)).toBe(true);
+    expect(aboveLimit(20, 20)).toBe(false);
+    expect(aboveLimit(19, 20)).toBe(false);
+    expect(aboveLimit(1e9, null)).toBe(false);
+    expect(aboveLimit(Number.NaN, 20)).toBe(false);
+    expect(aboveLimit(1, Number.POSITIVE_INFINITY)).toBe(false);
+  });
+
+  it('draws the eigenvalue limit line at 2/η for gradient descent and none on a preconditioned bound', () => {
+    const gd = stabilityBound({ ...recipe, lr: 0.1 }, 10, 0.1);
+    expect(eigenvalueLimit(gd)).toBeCloseTo(2 / 0.1, 12);
+    expect(eigenvaluesAbove([25, 20, 19.9, -3], gd)).toEqual([true, false, false, false]);
+    const adam = stabilityBound({ ...recipe, optimizer: 'adam', lr: 0.1 }, 10, 0.1);
+    expect(adam.preconditioned).toBe(true);
+    expect(eigenvalueLimit(adam)).toBeNull();
+    expect(eigenvaluesAbove([1e9], adam)).toEqual([false]);
+  });
+});
+
+describe('the initialization check marks a layer off its fan-in rule beyond 2x either way', () => {
+  // common practice (no single source): the check's band is [1/2, 2] times the rule's spread (INIT_RULE_FACTOR).
+  it.each([
+    [1, false],
+    [2, false],
+    [0.5, false],
+    [2.0001, true],
+    [0.4999, true],
+    [Number.NaN, true]
+  ])('ratio %p off the rule: %p', (ratio, off) => {
+    expect(offFanInRule(ratio)).toBe(off);
   });
 });

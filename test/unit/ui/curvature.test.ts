@@ -5,7 +5,7 @@ import { EngineHost } from '../../../src/worker/engine-host';
 import { realCore } from '../../../src/worker/core-adapter';
 import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC } from '../../../src/experiment';
-import { curvatureFigure, sharpnessFigure, stabilityLimit } from '../../../src/ui/curvature-figure';
+import { curvatureFigure, sharpnessFigure } from '../../../src/ui/curvature-figure';
 import { mergeSharpness } from '../../../src/ui/view-state';
 import type { FigureTheme } from '../../../src/figures/trace';
 
@@ -37,7 +37,9 @@ describe('curvature readout', () => {
   it('puts the plain gradient-descent limit at 2/η and flags eigenvalues above it', async () => {
     const c = await measure(TEMPLATE_SPEC.replace('lr: 0.1 ', 'lr: 5   '), 0);
     // common practice (Nocedal & Wright 2006, ch. 3): gradient descent on a quadratic is stable iff η < 2/λmax.
-    expect(stabilityLimit(c)).toBeCloseTo(2 / 5, 12);
+    expect(c.limitLine).toBeCloseTo(2 / 5, 12);
+    expect(c.aboveTop).toEqual(c.top.map(v => v > 2 / 5));
+    expect(c.aboveBottom).toEqual(c.bottom.map(v => v > 2 / 5));
     expect(c.summary.stability.margin).toBeCloseTo((5 * c.summary.lambdaMax) / 2, 10);
     const f = curvatureFigure(c, theme);
     const unstable = f.data.find(d => d.name === 'above the stability limit');
@@ -51,7 +53,8 @@ describe('curvature readout', () => {
 
   it('draws no limit for an optimizer the rule does not cover', async () => {
     const c = await measure(TEMPLATE_SPEC.replace('optimizer: sgd ', 'optimizer: lbfgs'), 0);
-    expect(stabilityLimit(c)).toBeNull();
+    expect(c.limitLine).toBeNull();
+    expect([...c.aboveTop, ...c.aboveBottom].every(a => !a)).toBe(true);
     expect(curvatureFigure(c, theme).data.map(d => d.name)).toEqual(['eigenvalues']);
   });
 });
@@ -74,7 +77,8 @@ describe('sharpness trace', () => {
   });
 
   it('merges new points by step and marks crossings of the limit', () => {
-    const pt = (step: number, sharpness: number) => ({ step, lambdaMax: sharpness, sharpness, limit: 2, preconditioned: false });
+    // The marking is core's (`above`, decided by aboveLimit); the figure draws the points so marked.
+    const pt = (step: number, sharpness: number) => ({ step, lambdaMax: sharpness, sharpness, limit: 2, preconditioned: false, above: sharpness > 2 });
     const merged = mergeSharpness([pt(0, 1), pt(5, 1.5)], [pt(5, 1.6), pt(10, 2.5)]);
     expect(merged.map(p => [p.step, p.sharpness])).toEqual([[0, 1], [5, 1.6], [10, 2.5]]);
     expect(mergeSharpness(merged, undefined)).toBe(merged);

@@ -3,7 +3,7 @@
  */
 import { chooseScale, decimate, traceFigure, traceText } from '../../../src/figures/trace';
 import type { FigureTheme } from '../../../src/figures/trace';
-import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
+import { auditRows, escapeMarkdown, fmt, markdownSummary, meanMs, MIN_TIMED_MS, msBound, problemLine, requestMs, statusLine, verifyLine } from '../../../src/ui/summary';
 import { readNumber } from '../../../src/ui/forms';
 import type { StepRecord } from '../../../src/core/state';
 
@@ -109,12 +109,25 @@ describe('summary texts', () => {
     // one fast update reads 0 or 0.1 ms in a browser: no "0.0 µs/step"
     expect(requestMs(1, 0.1)).toBeUndefined();
     expect(requestMs(1, 0)).toBeUndefined();
-    expect(requestMs(40, 2)).toBe(0.05);
+    expect(requestMs(1, 1.3)).toBeUndefined();
+    expect(requestMs(40, 8)).toBe(0.2);
     expect(meanMs([rec(0, 1), { ...rec(1, 1), ms: 0.1 }])).toBeUndefined();
     const many = Array.from({ length: 100 }, (_, i) => ({ ...rec(i + 1, 1), ms: 0.1 }));
     expect(meanMs(many)).toBeCloseTo(0.1, 12);
     expect(MIN_TIMED_MS).toBe(5);
     expect(statusLine({ step: 1, last: rec(1, 1), msPerStep: undefined })).toBe('step 1 · loss 1');
+  });
+
+  it('says how fast steps too short to time were at most, instead of nothing (after a reload, say)', () => {
+    // 20 steps timed at 0.1 ms each total 2 ms < MIN_TIMED_MS: their mean is below 5 ms / 20 = 0.25 ms.
+    const quick = Array.from({ length: 20 }, (_, i) => ({ ...rec(i + 1, 1), ms: 0.1 }));
+    expect(meanMs(quick)).toBeUndefined();
+    expect(msBound(quick)).toBeCloseTo(0.25, 12);
+    expect(statusLine({ step: 20, last: rec(20, 1), msBelow: msBound(quick) })).toBe('step 20 · loss 1 · < 0.25 ms/step');
+    expect(msBound([rec(0, 1)])).toBeUndefined();
+    const slow = Array.from({ length: 10 }, (_, i) => ({ ...rec(i + 1, 1), ms: 1 }));
+    expect(msBound(slow)).toBeUndefined();
+    expect(statusLine({ step: 10, last: rec(10, 1), msPerStep: meanMs(slow), msBelow: 0.5 })).toBe('step 10 · loss 1 · 1.0 ms/step');
   });
 
   it('places spec problems at their line', () => {

@@ -15,4 +15,4 @@ export { trackSharpness } from './trajectory';
 export { lineProfile } from './profile';
 export { measureSessionCurvature, measureSessionCurvatureWith } from './measure-session';
 export type { StabilityVerdict, TraceVerdict } from './verdicts';
-export { stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from './verdicts';
+export { aboveLimit, eigenvaluesAbove, eigenvalueLimit, stabilitySentence, stabilityVerdict, traceSentence, traceVerdict } from './verdicts';

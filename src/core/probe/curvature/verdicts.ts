@@ -60,11 +60,34 @@ export function stabilitySentence(bound: Pick<StabilityBound, 'margin' | 'lr' | 
   return `η = ${num(bound.lr)}; limit ${bound.formula} → largest stable η ≈ ${num(bound.largestStableLr)}; η / limit = ${num(bound.margin as number)}: ${verdict}.`;
 }
 
+/**
+ * Whether a sharpness (or one Hessian eigenvalue) lies above the largest sharpness its learning
+ * rate tolerates: strictly above a finite limit. False when no limit applies or either is NaN.
+ */
+export function aboveLimit(sharpness: number, limit: number | null): boolean {
+  return limit !== null && Number.isFinite(limit) && sharpness > limit;
+}
+
+/**
+ * The limit line on the plain Hessian's eigenvalues (factor/η), or null when the rule does not
+ * apply (line searches, Newton) or bounds the preconditioned matrix instead of the plain Hessian
+ * the spectrum shows.
+ */
+export function eigenvalueLimit(bound: Pick<StabilityBound, 'preconditioned' | 'sharpnessLimit'>): number | null {
+  return bound.preconditioned ? null : bound.sharpnessLimit;
+}
+
+/** Per eigenvalue, whether it lies above the limit line of {@link eigenvalueLimit}. */
+export function eigenvaluesAbove(values: readonly number[], bound: Pick<StabilityBound, 'preconditioned' | 'sharpnessLimit'>): boolean[] {
+  const limit = eigenvalueLimit(bound);
+  return values.map((v) => aboveLimit(v, limit));
+}
+
 /** The verdict on a sharpness trace (points in step order). */
 export function traceVerdict(points: readonly TracePoint[]): TraceVerdict {
   const limited = points.filter((p) => p.limit !== null && Number.isFinite(p.limit));
   if (limited.length === 0) return { kind: 'no-limit', measured: points.length };
-  const over = limited.find((p) => p.sharpness > (p.limit as number));
+  const over = limited.find((p) => aboveLimit(p.sharpness, p.limit));
   if (over !== undefined) return { kind: 'crossed', measured: limited.length, step: over.step, sharpness: over.sharpness, limit: over.limit as number };
   return { kind: 'within', measured: limited.length, from: limited[0].step, to: limited[limited.length - 1].step };
 }
