@@ -119,12 +119,24 @@ describe('the Deeper tab in the browser', () => {
     await cell.locator('input[data-option="planePoints"]').fill('61');
     await cell.locator('.sw-Button-deeper').click();
     await where.filter({ hasText: '2-D slice taken at step 65 of branch main' }).waitFor({ timeout: 120_000 });
-    expect((await progressSeen(page)).some(t => t.startsWith('2-D slice'))).toBe(true);
+    const planeProgress = await progressSeen(page);
+    console.log(`progress shown during the 61 × 61 slice: ${JSON.stringify(planeProgress)}`);
+    expect(planeProgress.some(t => t.startsWith('2-D slice'))).toBe(true);
     expect(await cell.locator('.sw-Deeper .sw-Stale').count()).toBe(0);
     await traces(cell, '.sw-DeeperPlane').first().waitFor({ timeout: 30_000 });
     expect(await cell.locator('.sw-Deeper .sw-Note', { hasText: '61 × 61 grid over the top two eigenvectors' }).count()).toBe(1);
     await cell.locator('.sw-Deeper').scrollIntoViewIfNeeded();
     await screenshot(page, 'deeper-3-eigen-plane');
+
+    // A range test over 400 rates, with its progress shown; kept as the step-65 one.
+    await choose(cell, 'range');
+    await cell.locator('input[data-option="rangeSteps"]').fill('400');
+    await cell.locator('.sw-Button-deeper').click();
+    await where.filter({ hasText: 'Learning-rate range test taken at step 65 of branch main' }).waitFor({ timeout: 120_000 });
+    const rangeProgress = await progressSeen(page);
+    console.log(`progress shown during the range test: ${JSON.stringify(rangeProgress)}`);
+    expect(rangeProgress.some(t => t.startsWith('Learning-rate range test'))).toBe(true);
+    await traces(cell, '.sw-DeeperRange').first().waitFor({ timeout: 30_000 });
 
     // A long batch-size comparison, stopped midway: discarded, the step-60 one stays, the cell steps on.
     await choose(cell, 'batch');
