@@ -20,7 +20,7 @@ import { errorMarkdown, meanMs, msBound, problemLine, requestMs, verifyLines } f
 import type { Notice } from './view-state';
 import { diagnosisOf, mergeSharpness } from './view-state';
 import { conditionProblem, conditionText } from './forms';
-import { DEEPER_LABELS, deeperRequestOf, type DeeperChoice } from './deeper-form';
+import { choiceOfKept, DEEPER_LABELS, deeperRequestOf, type DeeperChoice } from './deeper-form';
 
 export type { ControllerDeps } from './branch-controller';
 
@@ -284,7 +284,10 @@ export class CellController extends BranchController {
 
   /** Changes the Deeper tab's choice (the readout or an option's text); nothing runs. */
   setDeeperChoice(patch: Partial<DeeperChoice>): void {
-    this.set({ deeperChoice: { ...this.st.deeperChoice, ...patch } });
+    const now = this.st.deeperChoice;
+    // Choosing a readout shows the options its kept result was taken with (options in `patch` win).
+    const base = patch.kind !== undefined && patch.kind !== now.kind ? choiceOfKept({ ...now, kind: patch.kind }, this.st.deeper[patch.kind]) : now;
+    this.set({ deeperChoice: { ...base, ...patch } });
   }
 
   /**

@@ -3,7 +3,7 @@
  * the request they make (or the first problem, worded for the user). Limits are the worker's
  * ({@link DEEPER_LIMITS}), so the page refuses what the worker would refuse, with the field named.
  */
-import type { DeeperKind, DeeperRequest } from '../worker/deeper';
+import type { DeeperKind, DeeperRequest, DeeperResult } from '../worker/deeper';
 import { DEEPER_LIMITS } from '../worker/deeper';
 import { readNumber } from './forms';
 
@@ -104,5 +104,27 @@ export function deeperRequestOf(c: DeeperChoice): DeeperRequest | string {
       const examples = count(c.batchExamples, 'examples per run', 1, DEEPER_LIMITS.batchExamples);
       return typeof examples === 'string' ? examples : { what: 'batch', sizes, examples };
     }
+  }
+}
+
+/**
+ * The option texts that would take `kept` again (so *Take it again* repeats what is shown); the
+ * texts of `c` where the kept result does not say.
+ */
+export function choiceOfKept(c: DeeperChoice, kept: DeeperResult | undefined): DeeperChoice {
+  if (kept === undefined) return c;
+  switch (kept.what) {
+    case 'line':
+      return { ...c, linePoints: String(kept.result.update.t.length) };
+    case 'plane':
+      return { ...c, directions: kept.result.kind, planePoints: String(kept.result.alpha.length) };
+    case 'range': {
+      const g = kept.result.grid;
+      return g.length < 2 ? c : { ...c, rangeFrom: String(g[0]), rangeTo: String(g[g.length - 1]), rangeSteps: String(g.length) };
+    }
+    case 'precision':
+      return { ...c, bits: kept.result.rows.filter((r) => r.bits < 53).map((r) => r.bits).join(', ') };
+    case 'batch':
+      return { ...c, batchSizes: kept.result.runs.map((r) => r.batch).join(', '), batchExamples: String(kept.result.budget) };
   }
 }

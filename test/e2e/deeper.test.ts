@@ -8,7 +8,7 @@
  * test-output/.
  */
 import type { Locator, Page } from 'playwright-core';
-import { ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
+import { ensureBuilt, executeCommand, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
 
 jest.setTimeout(300_000);
 
@@ -101,6 +101,7 @@ describe('the Deeper tab in the browser', () => {
     expect(bits).toEqual(['53 (float64)', '16', '10', '8', '6', '4']);
     // batch: three runs, the lowest final loss marked
     await choose(cell, 'batch');
+    expect(await cell.locator('input[data-option="batchSizes"]').inputValue()).toBe('2, 4, 12');
     expect(await cell.locator('.sw-BatchTable tbody tr').count()).toBe(3);
     expect(await cell.locator('.sw-BatchTable tbody tr.sw-mod-best td:first-child').innerText()).toBe('12 (full)');
     expect(await workers(page)).toBe(1);
@@ -153,6 +154,8 @@ describe('the Deeper tab in the browser', () => {
     await screenshot(page, 'deeper-5-stopped');
     await cell.locator('.sw-Button-step').click();
     await waitForStatus(cell, /^step 66 · /);
+    // the ledger is written after the reply that moves the status line: give it time before saving
+    await page.waitForTimeout(2000);
 
     // Saved and reloaded: the kept readouts come back without an engine.
     await page.keyboard.press('Escape');
@@ -184,6 +187,17 @@ describe('the Deeper tab in the browser', () => {
     await again.locator('.sw-ComparePlot .scatterlayer .trace').first().waitFor({ timeout: 30_000 });
     await note.scrollIntoViewIfNeeded();
     await screenshot(page, 'deeper-7-compare-batch');
+
+    // Dark theme: the tab reads from the theme's variables.
+    await executeCommand(page, 'apputils:change-theme', { theme: 'JupyterLab Dark' });
+    await page.waitForFunction(() => document.body.dataset.jpThemeLight === 'false', undefined, { timeout: 20_000 });
+    await again.locator('.sw-Tab[data-tab="deeper"]').click();
+    await choose(again, 'plane');
+    await traces(again, '.sw-DeeperPlane').first().waitFor({ timeout: 30_000 });
+    await page.waitForTimeout(1000);
+    await again.locator('.sw-Deeper').scrollIntoViewIfNeeded();
+    await screenshot(page, 'deeper-8-dark');
+    await executeCommand(page, 'apputils:change-theme', { theme: 'JupyterLab Light' });
     expect(ourErrors(browser)).toEqual([]);
   });
 });

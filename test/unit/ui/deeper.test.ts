@@ -42,6 +42,11 @@ describe('Deeper tab in the controller', () => {
     c.setDeeperChoice({ kind: 'precision' });
     expect(await c.takeDeeper()).toBe(true);
     expect(Object.keys(c.state.deeper).sort()).toEqual(['plane', 'precision']);
+    // going back to a kept readout shows the options it was taken with, not the last typed
+    c.setDeeperChoice({ kind: 'plane', planePoints: '9', directions: 'eigenvectors' });
+    c.setDeeperChoice({ kind: 'line' });
+    c.setDeeperChoice({ kind: 'plane' });
+    expect([c.state.deeperChoice.planePoints, c.state.deeperChoice.directions]).toEqual(['5', 'random']);
     const kept = c.state.deeper;
     c.dispose();
     const engines = cell.engines;
