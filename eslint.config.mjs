@@ -8,7 +8,7 @@ import tseslint from 'typescript-eslint';
  * parsers the data readers use on bytes, and stdlib-js's plain-JavaScript fdlibm ports behind
  * core/elementary (checked to call no engine Math function).
  */
-const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', 'papaparse', 'fflate', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
+const CORE_PACKAGES = ['@noble/hashes', 'ml-matrix', 'papaparse', 'fflate', 'hyparquet', ...['cos', 'erf', 'pow', 'sin'].map((f) => `@stdlib/math-base-special-${f}`)];
 
 /**
  * Math functions whose last bits ECMAScript leaves to the engine ("implementation-approximated"):

@@ -15,9 +15,10 @@ import { fingerprintState } from '../core/session/state-data';
 import { writeNpy, writeSafetensors } from '../core/data';
 import type { Experiment } from '../core/setup';
 import type { SessionState, StepRecord } from '../core/state';
-import { describePatch, patchExperiment, type SpecPatch } from '../experiment/patch';
+import { describePatch, patchExperiment, touchesSetup, type SpecPatch } from '../experiment/patch';
+import { Grove } from '../core/session/grove';
 import { CliError, loadExperiment, positiveInt, readOverrides, readSpecFiles, type CommandResult } from './io';
-import { parseBranch } from './run';
+import { MAX_STEPS, parseBranch } from './run';
 import { NotExportable, pytorchScript } from './export/pytorch';
 import { notebookBranch, type NotebookBranch } from './export-notebook';
 import pkg from '../../package.json';
@@ -50,8 +51,11 @@ interface Source {
   warnings: string[];
   /** For a notebook source: what the ledger recorded (records, states at steps), exported instead of a new run. */
   recorded?: NotebookBranch;
-  /** A branch forked after step 0: the script starts from the branch's stored state at its fork step. */
-  start?: { step: number; state: SessionState };
+  /**
+   * A branch forked after step 0: the script starts from the branch's state at its fork step —
+   * stored in the notebook's ledger, or `replayed` here from a spec file.
+   */
+  start?: { step: number; state: SessionState; replayed?: boolean };
 }
 
 /** True when SOURCE names a notebook. */
@@ -74,13 +78,34 @@ function resolveSource(path: string, flags: ExportFlags): Source {
   const { experiment, text, patch, limits, warnings } = loadExperiment(path, flags.set, flags.limit);
   if (flags.branch === undefined) return { experiment, label: path, patch, specPath: path, warnings };
   const fork = parseBranch(flags.branch);
-  if (fork.at !== 0) {
-    throw new CliError(`--branch ${flags.branch}: a spec file's export writes a recipe from step 0; a branch forked at step ${fork.at} continues the parent's optimizer state, which is exported from a notebook's ledger (stepwell export NOTEBOOK --branch NAME starts the script from the state stored at the fork), not from a spec file (export the branch's recipe from the start with --branch 0:${fork.overrides.join(',')})`);
-  }
-  const both = { ...patch, ...readOverrides(fork.overrides, '--branch') };
+  const branchPatch = readOverrides(fork.overrides, '--branch');
+  const both = { ...patch, ...branchPatch };
   const r = patchExperiment(text, both, { files: readSpecFiles(path, text, both, limits.maxFileBytes), limits });
   if (!r.ok) throw new CliError(r.errors.map((e) => `${path}: --branch: ${e.message}`).join('\n'));
-  return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings };
+  if (fork.at === 0) return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings };
+  if (touchesSetup(branchPatch)) throw new CliError(`--branch ${flags.branch}: ${describePatch(branchPatch)} changes the setup or the seed, so it must fork at step 0 (0:KEY=VALUE), not step ${fork.at}`);
+  return { experiment: r.experiment, label: path, patch: both, specPath: path, warnings, start: replayedStart(path, experiment, r.experiment, branchPatch, fork.at) };
+}
+
+/**
+ * The state where a spec file's `--branch S:…` starts (S > 0): a spec has no ledger, so the
+ * trunk (the spec with `--set`) is run here to step S — the engine is deterministic, so this is
+ * the state `stepwell run SPEC --branch S:…` forks from — and carried over to the branch's recipe
+ * as a fork does (`adaptSessionState`).
+ *
+ * @throws CliError when S is beyond the step limit, or the trunk diverges before step S.
+ */
+function replayedStart(path: string, trunk: Experiment, branch: Experiment, branchPatch: SpecPatch, at: number): { step: number; state: SessionState; replayed: true } {
+  if (at > MAX_STEPS) throw new CliError(`--branch forks at step ${at}, beyond the limit of ${MAX_STEPS} steps`);
+  const grove = Grove.create(trunk);
+  const r = grove.runUntil('main', { kind: 'steps', count: at }, at);
+  const last = r.records[r.records.length - 1];
+  const session = grove.session('main');
+  if (session.stepCount < at || (last !== undefined && !Number.isFinite(last.loss)) || !session.parameters.every(Number.isFinite)) {
+    throw new CliError(`${path}: the trunk diverged at step ${last?.step ?? 0} (loss ${last?.loss ?? NaN}), before the fork step ${at}: fork earlier, or fix the trunk's recipe (stepwell run ${path} --steps ${at})`);
+  }
+  grove.fork('main', at, 'branch', branch, branchPatch);
+  return { step: at, state: grove.tipState('branch'), replayed: true };
 }
 
 /** The records (record 0 first), final weights, step and fingerprint to export: a run of `steps` updates, or what a notebook recorded. */

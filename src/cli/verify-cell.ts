@@ -8,14 +8,17 @@
  *
  * Besides the replays it states what changed since the ledger was written: the spec text (its
  * SHA-256 against `specHash`, with the lines that differ), the data (the hash of the numbers read
- * from the files now against `dataHash`), the engine (`engine`), and edits the ledger's own
- * digests and fingerprints reveal.
+ * from the files now against `dataHash`), the bytes of every file each branch read (SHA-256 now
+ * against the branch's `files`, at the key that names it), the engine (`engine`), and edits the
+ * ledger's own digests and fingerprints reveal.
  */
 import { ENGINE_NAME } from '../core/engine';
+import { sha256Hex as sha256OfBytes } from '../core/data';
 import type { Experiment } from '../core/setup';
 import type { ReplayDifference } from '../core/session';
-import { formatSpecError } from '../experiment';
-import { patchChainExperiment } from '../experiment/patch';
+import { formatSpecError, readSpecValue, specFileRefs } from '../experiment';
+import { formatPath } from '../experiment/path';
+import { applyPatches, patchChainExperiment, type SpecPatch } from '../experiment/patch';
 import { buildObjective } from '../core/assemble';
 import { groveFromLedger, sha256Hex, validateLedger, type Ledger, type RestoredGrove } from '../ledger';
 import { ledgerChains, readCellFiles, type CellFile } from './cell-files';
@@ -57,11 +60,52 @@ export interface CellCheck {
   spec: { recordedHash: string | null; currentHash: string; changed: boolean; replayed: 'cell' | 'ledger'; lines: LineChange[]; errors: string[] };
   /** Files the spec names (absent for inline data); the data hashes when either side has one. */
   data: { recordedHash: string | null; currentHash: string | null; changed: boolean; files: (CellFile & { sha256: string })[] };
+  /**
+   * Every file a branch's ledger entry records (`files`: what the branch read), against the file
+   * at that name now: `current` is the SHA-256 of its bytes now (null when it cannot be read);
+   * `keys` are the spec keys that name it for that branch (`data.file`, `model.weights.file`, …).
+   */
+  branchFiles: BranchFileCheck[];
   /** Edits or damage the ledger's own checks found (digests, fingerprints, specHash); the replay still ran. */
   integrity: string[];
   /** Why the cell (or part of it) could not be checked. */
   problems: string[];
   branches: BranchCheck[];
+}
+
+/** One recorded file of one branch, checked against the file now (see `CellCheck.branchFiles`). */
+export interface BranchFileCheck {
+  branch: string;
+  name: string;
+  keys: string[];
+  recorded: string;
+  current: string | null;
+  changed: boolean;
+}
+
+/**
+ * The recorded files of every branch against the bytes read now. Keys come from the branch's
+ * spec (the cell's text patched by the branch's lineage), so a file a branch's patch names is
+ * reported at that key.
+ */
+function checkBranchFiles(ledger: Ledger, specText: string, now: ReadonlyMap<string, Uint8Array>): BranchFileCheck[] {
+  const read = readSpecValue(specText);
+  const chains = new Map<string, SpecPatch[]>();
+  const out: BranchFileCheck[] = [];
+  for (const b of ledger.branches) {
+    const chain = b.parent ? [...(chains.get(b.parent.branch) ?? []), (b.patch ?? {}) as SpecPatch] : [];
+    chains.set(b.name, chain);
+    if (b.files === undefined) continue;
+    const applied = read.ok ? applyPatches(read.value, chain) : undefined;
+    const refs = applied !== undefined && applied.ok ? specFileRefs(applied.value) : [];
+    for (const f of b.files) {
+      const bytes = now.get(f.name);
+      const current = bytes === undefined ? null : sha256OfBytes(bytes);
+      const keys = refs.filter((r) => r.name === f.name).map((r) => formatPath(r.path));
+      out.push({ branch: b.name, name: f.name, keys, recorded: f.sha256, current, changed: current !== f.sha256 });
+    }
+  }
+  return out;
 }
 
 /** A cell's check with what the report draws from (the ledger and the rebuilt grove). */
@@ -114,6 +158,7 @@ export function verifyCell(notebookPath: string, cell: NotebookCell, options: Ve
     engine: { recorded: null, current: ENGINE_NAME, changed: false },
     spec: { recordedHash: null, currentHash: sha256Hex(cell.source), changed: false, replayed: 'cell', lines: [], errors: [] },
     data: { recordedHash: null, currentHash: null, changed: false, files: [] },
+    branchFiles: [],
     integrity: [],
     problems: [],
     branches: []
@@ -146,6 +191,7 @@ export function verifyCell(notebookPath: string, cell: NotebookCell, options: Ve
   }
   check.problems.push(...files.problems);
   work.specText = specText;
+  check.branchFiles = checkBranchFiles(ledger, specText, files.files);
   if (!rootParse.ok) {
     if (files.problems.length === 0) check.problems.push(...rootParse.errors.map((e) => `${where}: the spec: ${formatSpecError(e)}`));
     return work;
@@ -208,7 +254,7 @@ export function verifyCell(notebookPath: string, cell: NotebookCell, options: Ve
     }
   }
   const replayed = check.branches.map((b) => b.match);
-  const changed = check.spec.changed || check.data.changed || check.integrity.length > 0;
+  const changed = check.spec.changed || check.data.changed || check.branchFiles.some((f) => f.changed) || check.integrity.length > 0;
   check.verdict = check.problems.length > 0 ? 'unreadable' : changed ? worstVerdict([...replayed, 'differs']) : worstVerdict(replayed);
   return work;
 }

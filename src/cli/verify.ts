@@ -135,6 +135,12 @@ export function cellText(c: CellCheck): string[] {
     if (!c.data.changed) lines.push(`  data    unchanged: hash ${c.data.currentHash?.slice(0, 12) ?? '—'}${files ? ` from ${files}` : ''}`);
     else lines.push(`  data    CHANGED since the ledger was written: data hash ${c.data.recordedHash ?? 'none (inline data)'} in the ledger, ${c.data.currentHash ?? 'none (inline data)'} now${files ? `, read from ${files}` : ''}`);
   }
+  const changedFiles = c.branchFiles.filter((f) => f.changed);
+  if (c.branchFiles.length > 0 && changedFiles.length === 0) lines.push(`  files   unchanged: ${new Set(c.branchFiles.map((f) => f.name)).size} file(s) the branches read have the bytes recorded (sha256)`);
+  for (const f of changedFiles) {
+    const at = f.keys.length > 0 ? f.keys.join(', ') : 'a key no longer in the spec';
+    lines.push(`  files   CHANGED: branch '${f.branch}' read '${f.name}' (${at}) with sha256 ${f.recorded.slice(0, 12)}…; ${f.current === null ? 'it cannot be read now' : `it now has sha256 ${f.current.slice(0, 12)}…`} — put the file the branch used back, or start that branch over`);
+  }
   const width = Math.max(6, ...c.branches.map((b) => b.name.length));
   for (const b of c.branches) lines.push(`  ${b.name.padEnd(width)}  ${branchText(b)}`);
   for (const i of c.integrity) lines.push(`  edited  ${i}`);

@@ -123,8 +123,8 @@ export interface DataOrigin {
  * what an exporter needs to load the same numbers elsewhere.
  */
 export interface DataReading {
-  format: 'csv' | 'npy' | 'npz';
-  /** CSV: whether the first row was a header; column indices (0-based) of features and targets. */
+  format: 'csv' | 'npy' | 'npz' | 'parquet';
+  /** CSV: whether the first row was a header; CSV, npy and parquet: column indices (0-based) of features and targets. */
   header?: boolean;
   delimiter?: string;
   featureColumns?: number[];

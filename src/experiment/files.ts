@@ -10,7 +10,7 @@
  */
 import { activationProblem, dataLimits, DEFAULT_SPEC_LIMITS, type SpecLimits } from './limits';
 import { dataHash, readTable, readWeights, sha256Hex, DataFileError, type TableData, type TableRequest, type TargetKind } from '../core/data';
-import type { DataOrigin, DataSetup, FileOrigin, LayerWeights, LossName } from '../core/setup';
+import type { DataOrigin, DataSetup, Experiment, FileOrigin, LayerWeights, LossName } from '../core/setup';
 import type { CheckProblem } from './checks';
 import type { Path } from './path';
 
@@ -168,4 +168,15 @@ function fitModel(t: TableData, at: Path, inputs: number, outUnits: number | und
   } else if (t.targets !== outUnits) {
     problems.push({ path: at, message: `the data have ${t.targets} target column${t.targets === 1 ? '' : 's'}, but the last layer has ${outUnits} units` });
   }
+}
+
+/**
+ * The files an experiment read — data, targets and held-out data (`setup.data.origin`), then the
+ * initial weights (`model.weightsOrigin`) — each name once, with size and SHA-256 of the bytes;
+ * what a ledger records per branch so a replaced file is found by its content.
+ */
+export function usedFiles(e: Experiment): FileOrigin[] {
+  const all = [...(e.setup.data?.origin?.files ?? []), ...(e.setup.model.kind === 'network' && e.setup.model.weightsOrigin ? [e.setup.model.weightsOrigin] : [])];
+  const seen = new Set<string>();
+  return all.filter((f) => !seen.has(f.name) && (seen.add(f.name), true)).map((f) => ({ name: f.name, bytes: f.bytes, sha256: f.sha256 }));
 }

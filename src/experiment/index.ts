@@ -22,7 +22,7 @@ export { TEMPLATE_SPEC } from './template';
 export { DEFAULT_SPEC_LIMITS, parseLimits, type SpecLimits } from './limits';
 export { MAGIC_LINE, maskMagicLine } from './source';
 export { RECIPE_DEFAULTS } from './normalize';
-export { specFileNames, specFileRefs, type SpecFiles } from './files';
+export { specFileNames, specFileRefs, usedFiles, type SpecFiles } from './files';
 
 /** Options of {@link parseSpec}. */
 export interface SpecOptions {

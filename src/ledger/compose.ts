@@ -10,7 +10,7 @@ import { decodeSessionState, decodeTrajectory, encodeSessionState, encodeTraject
 import { sha256Hex } from './hash';
 import { capTrajectory, thinCheckpoints } from './caps';
 import { LEDGER_FORMAT, LEDGER_VERSION, LedgerError } from './types';
-import type { Ledger, LedgerBranch, LedgerCheckpoint } from './types';
+import type { Ledger, LedgerBranch, LedgerCheckpoint, LedgerFile } from './types';
 import { validateLedger } from './check';
 import { decodeReadouts, encodeFindings, encodeReadouts } from './readouts';
 import type { DecodedReadouts, ReadoutsInput } from './readouts';
@@ -48,6 +48,8 @@ export interface BranchInput {
   pinned?: readonly number[];
   /** Record steps that findings refer to; never thinned away. */
   keepRecords?: readonly number[];
+  /** The files the branch's experiment read (name, bytes, SHA-256), each once. */
+  files?: readonly LedgerFile[];
 }
 
 /** Everything {@link buildLedger} needs. */
@@ -127,6 +129,7 @@ function buildBranch(b: BranchInput, extraPins: readonly number[], limits: Ledge
   if (b.cursor !== undefined && b.cursor.step < b.head.step) branch.cursor = b.cursor.step;
   const readouts = within('readouts', () => encodeReadouts(b.readouts));
   if (readouts !== undefined) branch.readouts = readouts;
+  if (b.files !== undefined && b.files.length > 0) branch.files = b.files.map((f) => ({ name: f.name, bytes: f.bytes, sha256: f.sha256 }));
   return branch;
 }
 

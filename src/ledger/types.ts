@@ -120,6 +120,18 @@ export interface LedgerBranch {
    */
   cursor?: number;
   readouts?: LedgerReadouts;
+  /**
+   * The files the branch's experiment read (data, targets, held-out data, initial weights), each
+   * once, with the SHA-256 of their bytes; absent when it read none (or in ledgers written before).
+   */
+  files?: LedgerFile[];
+}
+
+/** A file a branch read: the name as written, its size in bytes, SHA-256 (hex) of its bytes. */
+export interface LedgerFile {
+  name: string;
+  bytes: number;
+  sha256: string;
 }
 
 /** The whole metadata value, format version 3. */

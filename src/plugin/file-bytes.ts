@@ -73,3 +73,13 @@ export function bytesOfBase64(text: string, maxBytes: number): Decoded {
   }
   return { ok: true, bytes: out };
 }
+
+/**
+ * True when `raw` holds exactly the text a contents manager gave as `text` — the same file, only
+ * decoded: UTF-8 with a leading byte-order mark dropped, as `Response.text()` decodes
+ * (WHATWG Encoding, "UTF-8 decode"). Then `raw` are the file's bytes to hash and read; otherwise
+ * (the file was changed in the browser's storage since the site was built) the text is all there is.
+ */
+export function sameFileAsText(raw: Uint8Array, text: string): boolean {
+  return new TextDecoder('utf-8').decode(raw) === text;
+}

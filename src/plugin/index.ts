@@ -15,6 +15,7 @@ import { spawnEngine } from '../worker/spawn';
 import { figureImage } from '../ui/plot';
 import { cellHost } from './cell-host';
 import { notebookFileReader } from './notebook-files';
+import { siteFileBytes } from './site-files';
 import { addCommands } from './commands';
 import { createExecutor } from './executor';
 import { StepwellCells } from './registry';
@@ -41,7 +42,7 @@ const cellsPlugin: JupyterFrontEndPlugin<IStepwellCells> = {
     // tracker (for marking notebooks dirty) once it exists.
     const cells: StepwellCells = new StepwellCells(
       spawnEngine,
-      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model)), () => cells.tracker),
+      model => cellHost(model, notebookFileReader(app.serviceManager.contents, () => cells.notebookPath(model), { maxBytes: () => cells.settings.limits.maxFileBytes, rawBytes: siteFileBytes }), () => cells.tracker),
       figureImage
     );
     return cells;

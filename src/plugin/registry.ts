@@ -6,6 +6,7 @@
 import type { ICellModel, ICodeCellModel } from '@jupyterlab/cells';
 import type { INotebookTracker } from '@jupyterlab/notebook';
 import { MAGIC_LINE, parseSpec } from '../experiment';
+import { cellFileNames } from '../experiment/patch';
 import { CellController, type ControllerDeps } from '../ui/controller';
 import type { CellHost, CellSettings } from '../ui/ports';
 import { DEFAULT_SETTINGS } from '../ui/ports';
@@ -27,7 +28,9 @@ export const MARKER = /^#\s*(a\s+)?stepwell\b/i;
 /** True when the first line of `source` is the marker line or the magic line. */
 export function hasMarker(source: string): boolean {
   if (MAGIC_LINE.test(source)) return true;
-  const first = source.split('\n', 1)[0] ?? '';
+  // Only the first line is read: a spec with 10⁵ inline rows is not split on the page.
+  const nl = source.indexOf('\n');
+  const first = nl < 0 ? source : source.slice(0, nl);
   return MARKER.test(first.trim());
 }
 
@@ -37,9 +40,14 @@ export function hasMarker(source: string): boolean {
  * the problems of reading them placed at their keys).
  */
 export function checkSpec(text: string, limits?: SpecLimits): SpecProblem[] {
+  // Counted so the browser tests can tell the page never parses a spec (the reader worker does).
+  performance.mark(PAGE_PARSE_MARK);
   const r = parseSpec(text, 'auto', { deferFiles: true, ...(limits === undefined ? {} : { limits }) });
   return r.ok ? [] : r.errors;
 }
+
+/** The user-timing mark set each time the page itself parses spec text (a fallback; normally never). */
+export const PAGE_PARSE_MARK = 'stepwell:page-parse';
 
 /** Milliseconds of quiet typing before the spec is re-checked. */
 const CHECK_DELAY_MS = 300;
@@ -113,9 +121,11 @@ export class StepwellCells implements IStepwellCells {
       engine: this.engine,
       ledger: this.glue,
       checkSpec: text => checkSpec(text, this.settings.limits),
-      checkSpecLater: async text => {
-        const reply = await this.readerClient().request({ kind: 'check', specText: text, limits: this.settings.limits });
-        return reply.kind === 'checked' ? reply.errors : checkSpec(text, this.settings.limits);
+      specFactsLater: async (text, chains) => {
+        const reply = await this.readerClient().request({ kind: 'check', specText: text, limits: this.settings.limits, ...(chains === undefined ? {} : { chains: chains.map(c => [...c]) }) });
+        if (reply.kind === 'checked') return { problems: reply.errors, files: reply.files };
+        // The reader failed (it says why in the console): the page checks the text itself.
+        return { problems: checkSpec(text, this.settings.limits), files: cellFileNames(text, chains) };
       },
       settings: () => this.settings,
       imageOf: this.imageOf

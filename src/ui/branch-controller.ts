@@ -5,7 +5,7 @@
  * verdicts come from the worker; this class only asks, confirms where work would be lost, and
  * writes down.
  */
-import { cellFileNames, checkPatchText, type SpecPatch } from '../experiment/patch';
+import { checkPatchText, type SpecPatch } from '../experiment/patch';
 import type { BranchInfo } from '../worker/protocol';
 import { ControllerBase, type ControllerDeps } from './cell-controller-base';
 import { comparisonFigure, comparisonText, type CompareAxis } from '../figures/compare';
@@ -64,8 +64,8 @@ export abstract class BranchController extends ControllerBase {
     // Files only the new patch names (e.g. another data.file) are read and sent with the fork.
     const from = request.from ?? this.st.summary?.branch ?? '';
     const spec = this.st.sessionSpec ?? '';
-    const known = new Set(cellFileNames(spec, [this.ancestry(from)]));
-    const newFiles = cellFileNames(spec, [[...this.ancestry(from), { ...request.set } as SpecPatch]]).filter((n) => !known.has(n));
+    const known = new Set(await this.fileNames(spec, [this.ancestry(from)]));
+    const newFiles = (await this.fileNames(spec, [[...this.ancestry(from), { ...request.set } as SpecPatch]])).filter((n) => !known.has(n));
     const reply = await this.exchange('Making a branch', { kind: 'fork', step: request.atStep, patch: { ...request.set }, name: request.name, from: request.from }, 0, newFiles);
     if (reply === null) return false;
     if (reply.kind === 'patch-errors') {

@@ -8,13 +8,19 @@ import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
 import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
 import type { BranchReadouts, SessionSummary, SpecFilesPayload, SpecProblem } from '../worker/protocol';
-import { cellFileNames } from '../experiment/patch';
+import { cellFileNames, type SpecPatch } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
 import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, msBound, problemLine, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
+
+/** What the page needs of spec text: its problems and the files it names. */
+export interface SpecFacts {
+  problems: SpecProblem[];
+  files: string[];
+}
 
 /** Collaborators of a cell controller. */
 export interface ControllerDeps {
@@ -24,11 +30,12 @@ export interface ControllerDeps {
   ledger: LedgerGlue;
   checkSpec: SpecChecker;
   /**
-   * The same check off the page thread (the app's reader worker): used for the live check as the
-   * user types, so a spec with 10⁵ inline rows does not freeze the page per keystroke. Absent:
-   * `checkSpec` is used.
+   * The same check off the page thread (the app's reader worker), with the files the text names
+   * (each of `chains` applied, for a fork): used as the user types, before a run or Reset, after
+   * a ledger is read and before a fork, so a spec with 10⁵ inline rows is never parsed on the
+   * page. Absent: `checkSpec` and `cellFileNames` run in the calling thread.
    */
-  checkSpecLater?: (text: string) => Promise<SpecProblem[]>;
+  specFactsLater?: (text: string, chains?: readonly (readonly SpecPatch[])[]) => Promise<SpecFacts>;
   settings: () => CellSettings;
   /** Turns a figure into an image for the decision record (plotly in the browser); absent: records carry no image. */
   imageOf?: (figure: Figure) => Promise<FigureImage | null>;
@@ -51,6 +58,11 @@ export abstract class ControllerBase {
   private readSeq = 0;
   /** Counts live spec checks; only the newest one's answer is applied. */
   private checkSeq = 0;
+  /** True while a live check is with the worker; {@link liveAgain} asks for one more when it ends. */
+  private liveChecking = false;
+  private liveAgain = false;
+  /** The last text the worker checked, with its limits and answer (see {@link factsLater}). */
+  private lastFacts: { text: string; limits: CellSettings['limits']; facts: Promise<SpecFacts> } | null = null;
 
   protected constructor(deps: ControllerDeps) {
     this.deps = deps;
@@ -116,7 +128,7 @@ export abstract class ControllerBase {
     this.content = null;
     this.engineInSync = false;
     // Nothing stored: nothing to read (and nothing to wait for before a first run).
-    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits);
+    const read = raw === undefined || raw === null ? { kind: 'absent' as const } : this.deps.ledger.read(raw, this.deps.settings().limits, this.deps.settings().maxLedgerBytes);
     if (!(read instanceof Promise)) {
       this.applyRead(read, raw);
       return Promise.resolve();
@@ -130,11 +142,17 @@ export abstract class ControllerBase {
   private applyRead(read: LedgerRead, raw: unknown): void {
     this.content = read.kind === 'ok' ? read.content : null;
     this.engineInSync = false;
-    const view = viewFromLedger(read, raw, this.deps.host.readSource(), this.deps.checkSpec);
+    const later = this.deps.specFactsLater !== undefined;
+    // With a worker the text is checked there (below), never parsed on the page.
+    const view = viewFromLedger(read, raw, this.deps.host.readSource(), later ? () => [] : this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
     const recent = read.kind === 'ok' ? read.content.trajectory.slice(-200) : [];
     this.set({ ...view, msPerStep: meanMs(recent), msBelow: msBound(recent) });
     if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
+    if (later) {
+      this.engineChecked = null;
+      void this.sourceChanged();
+    }
   }
 
   /** Writes an output that says the ledger cannot be read (so a cell without outputs shows it). */
@@ -156,16 +174,79 @@ export abstract class ControllerBase {
       return Promise.resolve();
     }
     this.engineChecked = null;
-    const later = this.deps.checkSpecLater;
+    const later = this.deps.specFactsLater;
     if (later === undefined) {
       this.set({ problems: this.deps.checkSpec(source), specEdited });
       return Promise.resolve();
     }
     const seq = ++this.checkSeq;
     this.set({ specEdited });
-    return later(source).then(problems => {
-      if (seq === this.checkSeq && !this.disposedFlag && this.engineChecked === null) this.set({ problems });
+    // One live check at a time: texts typed meanwhile are not queued in the worker, the newest is checked next.
+    if (this.liveChecking) {
+      this.liveAgain = true;
+      return Promise.resolve();
+    }
+    return this.liveCheck(later, source, seq);
+  }
+
+  private async liveCheck(later: NonNullable<ControllerDeps['specFactsLater']>, source: string, seq: number): Promise<void> {
+    this.liveChecking = true;
+    try {
+      const facts = await this.factsLater(later, source);
+      if (seq === this.checkSeq && !this.disposedFlag && this.engineChecked === null) this.set({ problems: facts.problems });
+    } finally {
+      this.liveChecking = false;
+    }
+    if (this.liveAgain && !this.disposedFlag) {
+      this.liveAgain = false;
+      await this.sourceChanged();
+    }
+  }
+
+  /**
+   * The worker's facts of `text`, reused while the text and the limits stay the same: writing
+   * outputs or the ledger re-fires the cell's change signal, and re-parsing 10⁵ rows each time
+   * would queue seconds of work before the user's next action.
+   */
+  private factsLater(later: NonNullable<ControllerDeps['specFactsLater']>, text: string): Promise<SpecFacts> {
+    const limits = this.deps.settings().limits;
+    const known = this.lastFacts;
+    if (known !== null && known.text === text && known.limits === limits) return known.facts;
+    const facts = later(text);
+    this.lastFacts = { text, limits, facts };
+    // A failed check is not kept.
+    facts.catch(() => {
+      if (this.lastFacts?.facts === facts) this.lastFacts = null;
     });
+    return facts;
+  }
+
+  /**
+   * The problems of `text` and the files it names: in the worker when the deps offer it (the
+   * page shows "Checking the spec" meanwhile), else in the calling thread, synchronously.
+   *
+   * @returns the facts, or a promise of them.
+   */
+  protected specFacts(text: string): SpecFacts | Promise<SpecFacts> {
+    const later = this.deps.specFactsLater;
+    if (later === undefined) return { problems: this.deps.checkSpec(text), files: cellFileNames(text) };
+    this.set({ busy: { action: 'Checking the spec', done: 0, total: 0 } });
+    return this.factsLater(later, text).then(
+      facts => {
+        this.set({ busy: null });
+        return facts;
+      },
+      (err: unknown) => {
+        this.set({ busy: null });
+        throw err;
+      }
+    );
+  }
+
+  /** The files `text` names with each of `chains` applied (a fork's), off the page when the deps allow. */
+  protected async fileNames(text: string, chains: readonly (readonly SpecPatch[])[]): Promise<string[]> {
+    const later = this.deps.specFactsLater;
+    return later === undefined ? cellFileNames(text, chains) : (await later(text, chains)).files;
   }
 
   /** Opens or closes an inline form. */
@@ -217,10 +298,14 @@ export abstract class ControllerBase {
     return { payload, transfer: [...transfer] };
   }
 
-  protected async loadFresh(source: string): Promise<boolean> {
+  /**
+   * Starts a new session from `source` in the engine.
+   * @param files - the files `source` names (from {@link specFacts}); absent: found here.
+   */
+  protected async loadFresh(source: string, files?: readonly string[]): Promise<boolean> {
     const engine = this.ensureEngine();
     this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), deeper: {}, verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
-    const { payload, transfer } = await this.readFiles(cellFileNames(source));
+    const { payload, transfer } = await this.readFiles(files ?? (await this.fileNames(source, [])));
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, limits: this.deps.settings().limits, ...payload }, undefined, transfer);
     this.set({ busy: null });
     if (reply.kind === 'spec-errors') {

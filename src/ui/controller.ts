@@ -58,7 +58,8 @@ export class CellController extends BranchController {
       return false;
     }
     const source = this.deps.host.readSource();
-    const problems = this.deps.checkSpec(source);
+    const got = this.specFacts(source);
+    const { problems, files } = got instanceof Promise ? await got : got;
     this.set({ problems, specEdited: this.st.sessionSpec !== null && source !== this.st.sessionSpec });
     if (problems.length > 0) {
       if (this.st.summary === null) this.deps.host.writeOutputs(null, errorMarkdown(problems.map(problemLine)));
@@ -83,7 +84,7 @@ export class CellController extends BranchController {
       return true;
     }
     if (!force && this.askBeforeLosingWork('The spec changed. Running it starts a new session at step 0 from the new text')) return false;
-    return this.loadFresh(source);
+    return this.loadFresh(source, files);
   }
 
   /**
@@ -93,7 +94,8 @@ export class CellController extends BranchController {
   async reset(force = false): Promise<boolean> {
     if (this.st.busy !== null) return false;
     const source = this.deps.host.readSource();
-    const problems = this.deps.checkSpec(source);
+    const got = this.specFacts(source);
+    const { problems, files } = got instanceof Promise ? await got : got;
     if (problems.length > 0) {
       this.set({ problems, notice: { level: 'error', text: 'Fix the spec before resetting; nothing was changed.' } });
       return false;
@@ -109,7 +111,7 @@ export class CellController extends BranchController {
       return false;
     }
     if (!force && this.askBeforeLosingWork('Reset starts a new session at step 0 from the spec text')) return false;
-    return this.loadFresh(source);
+    return this.loadFresh(source, files);
   }
 
   /**

@@ -8,6 +8,7 @@
  * Ledgers are written by the worker (`worker/cell-grove.ts`).
  */
 import { LEDGER_KEY as KEY, locate, prototypeProblem } from '../ledger';
+import { jsonBytes, tooLargeMessage } from '../ledger/size';
 import type { SpecLimits } from '../experiment/limits';
 import type { EngineClient } from '../worker/client';
 import { viewLedger, type LedgerViewResult } from '../worker/ledger-view';
@@ -30,9 +31,18 @@ function pageProblem(value: unknown): LedgerRead | undefined {
   return { kind: 'corrupt', message: p.message, specText: typeof (value as { spec?: unknown }).spec === 'string' ? (value as { spec: string }).spec : undefined, problems: [p] };
 }
 
-function read(value: unknown, limits?: SpecLimits): LedgerRead {
+/** A ledger above `maxBytes` as a verdict (counted without serializing it); undefined when it fits. */
+function sizeProblem(value: unknown, maxBytes: number | undefined): LedgerRead | undefined {
+  if (maxBytes === undefined) return undefined;
+  const bytes = jsonBytes(value);
+  if (bytes <= maxBytes) return undefined;
+  const message = tooLargeMessage(bytes, maxBytes);
+  return { kind: 'corrupt', message, problems: [{ message, field: 'ledger', detail: message }] };
+}
+
+function read(value: unknown, limits?: SpecLimits, maxBytes?: number): LedgerRead {
   if (value === undefined || value === null) return { kind: 'absent' };
-  return pageProblem(value) ?? toRead(value, viewLedger(value, limits));
+  return sizeProblem(value, maxBytes) ?? pageProblem(value) ?? toRead(value, viewLedger(value, limits));
 }
 
 /** The ledger glue that reads in the calling thread. */
@@ -44,9 +54,10 @@ export const ledgerGlue: LedgerGlue = { read };
  */
 export function workerLedgerGlue(reader: () => EngineClient): LedgerGlue {
   return {
-    read: async (value: unknown, limits?: SpecLimits): Promise<LedgerRead> => {
+    read: async (value: unknown, limits?: SpecLimits, maxBytes?: number): Promise<LedgerRead> => {
       if (value === undefined || value === null) return { kind: 'absent' };
-      const early = pageProblem(value);
+      // Too large: refused before the worker gets a copy of it.
+      const early = sizeProblem(value, maxBytes) ?? pageProblem(value);
       if (early !== undefined) return early;
       const reply = await reader().request({ kind: 'open', ledger: value, ...(limits !== undefined ? { limits } : {}) });
       if (reply.kind === 'opened') return toRead(value, reply.result);

@@ -86,8 +86,10 @@ export interface LedgerGlue {
   /**
    * Validates and decodes a metadata value; never throws (a promise never rejects). In the
    * browser the work runs in a worker and a promise comes back; in Node tests it may be direct.
+   * A value whose JSON text takes more than `maxBytes` (the `maxLedgerBytes` setting; absent: no
+   * limit) is refused as unreadable before it is copied or parsed.
    */
-  read(value: unknown, limits?: SpecLimits): LedgerRead | Promise<LedgerRead>;
+  read(value: unknown, limits?: SpecLimits, maxBytes?: number): LedgerRead | Promise<LedgerRead>;
 }
 
 /** User settings the controller reads at each action (schema/plugin.json). */

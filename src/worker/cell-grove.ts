@@ -12,7 +12,7 @@ import { compareBranches, effectiveBatch, examplesAt, fingerprintState, Grove, S
 import { buildLedger, decodeFindings, groveFromOpened, LedgerOpenError, ledgerSize, openLedger } from '../ledger';
 import { describePatch, recipeExcerpt, touchesSetup, type SpecPatch } from '../experiment/patch';
 import type { CellFiles, EngineCore } from './engine-core';
-import { specProblemAt } from '../experiment';
+import { specProblemAt, usedFiles } from '../experiment';
 import type { SpecLimits } from '../experiment/limits';
 import type { BranchComparison, BranchInfo, BranchReadouts, BranchTrace, CheckpointData, SessionSummary, SpecProblem } from './protocol';
 import { COMPARE_POINTS } from './protocol';
@@ -329,7 +329,8 @@ export class CellGrove {
           checkpoints: g.checkpoints(name).map((c) => c.state).filter((s) => s.step < tip.step),
           head: tip,
           cursor: cursor.step < tip.step ? cursor : undefined,
-          readouts: readoutsForLedger(this.readoutsOf(name))
+          readouts: readoutsForLedger(this.readoutsOf(name)),
+          files: usedFiles(g.experiment(name))
         };
       }),
       activeBranch: this.activeName,

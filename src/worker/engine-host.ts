@@ -12,7 +12,7 @@
  */
 import type { StepRecord } from '../core/state';
 import type { GroveTask, RunReason, StepHooks } from '../core/session';
-import type { SpecPatch } from '../experiment/patch';
+import { cellFileNames, type SpecPatch } from '../experiment/patch';
 import type { EngineCore } from './engine-core';
 import type { BranchReadouts, EngineReply, EngineRequest, SharpnessPoint, SpecFilesPayload, StopCondition, VerifyResult } from './protocol';
 import { checkRequest } from './protocol';
@@ -195,7 +195,7 @@ export class EngineHost {
       case 'check': {
         // the live check reads no files (they are read when the engine starts)
         const parsed = parseSpec(request.specText, 'auto', { deferFiles: true, ...(request.limits === undefined ? {} : { limits: request.limits }) });
-        this.post({ id, kind: 'checked', errors: parsed.ok ? [] : parsed.errors });
+        this.post({ id, kind: 'checked', errors: parsed.ok ? [] : parsed.errors, files: cellFileNames(request.specText, request.chains ?? []) });
         return;
       }
       case 'ledger': {

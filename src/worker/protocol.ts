@@ -11,6 +11,7 @@
  * worker boundary by structured clone without loss.
  */
 import { LIMIT_NAMES, type SpecLimits } from '../experiment/limits';
+import type { SpecPatch } from '../experiment/patch';
 import type { LedgerViewResult } from './ledger-view';
 import type { SessionState, StepRecord } from '../core/state';
 import type { Standardization } from '../core/setup';
@@ -245,8 +246,12 @@ export type EngineRequest =
    * page thread (`worker/ledger-view.ts`); the engine's own session is not touched.
    */
   | { id: number; kind: 'open'; ledger: unknown; limits?: SpecLimits }
-  /** Check spec text (the editor's, as the user types) without loading it: parsing 10⁵ inline rows takes seconds. */
-  | { id: number; kind: 'check'; specText: string; limits?: SpecLimits }
+  /**
+   * Check spec text (the editor's, as the user types, or before a run) without loading it: parsing
+   * 10⁵ inline rows takes seconds. The reply also names the files the text names (with each chain
+   * of `chains` applied, for a fork), so the page never parses the spec itself.
+   */
+  | { id: number; kind: 'check'; specText: string; limits?: SpecLimits; chains?: SpecPatch[][] }
   /** `sharpnessEvery` > 0 also measures the sharpness every that many steps (and at the start). */
   | { id: number; kind: 'step'; n: number; sharpnessEvery?: number }
   | { id: number; kind: 'run-until'; condition: StopCondition; maxSteps: number }
@@ -416,8 +421,8 @@ export type EngineReply =
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   /** What a stored ledger shows, or every problem that makes it unreadable (`open`). */
   | { id: number; kind: 'opened'; result: LedgerViewResult }
-  /** The problems of checked spec text (empty when it parses). */
-  | { id: number; kind: 'checked'; errors: SpecProblem[] }
+  /** The problems of checked spec text (empty when it parses) and the files it names (`cellFileNames`). */
+  | { id: number; kind: 'checked'; errors: SpecProblem[]; files: string[] }
   | { id: number; kind: 'failed'; message: string };
 
 const REQUEST_KINDS: readonly EngineRequestKind[] = [
@@ -481,6 +486,7 @@ export function checkRequest(value: unknown): string | null {
     case 'open':
       return limitsProblem(r.limits);
     case 'check':
+      if (r.chains !== undefined && !(Array.isArray(r.chains) && r.chains.every(Array.isArray))) return 'request.chains must be a list of lists of spec patches';
       return typeof r.specText !== 'string' ? 'request.specText must be a string' : limitsProblem(r.limits);
     case 'step':
       return positiveInt('n') ?? (r.sharpnessEvery === undefined ? null : positiveInt('sharpnessEvery'));

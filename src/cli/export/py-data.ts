@@ -15,9 +15,11 @@ export function dataCode(data: DataSetup, loss: LossName, dataDir: string): stri
   const cast = (y: string): string[] => (loss === 'cross-entropy' ? [`${y} = ${y}[:, 0].long()`] : []);
   const origin = data.origin;
   const held = data.heldOut;
-  if (origin === undefined) {
+  if (origin === undefined || origin.reading.format === 'parquet') {
     return [
-      `# the spec's inline rows${data.standardized ? ' (standardized as data.standardize asked)' : ''}`,
+      origin === undefined
+        ? `# the spec's inline rows${data.standardized ? ' (standardized as data.standardize asked)' : ''}`
+        : `# the numbers Stepwell read from ${origin.files.map((f) => f.name).join(', ')} (sha256 ${origin.files.map((f) => f.sha256.slice(0, 12)).join(', ')}), embedded: reading parquet in Python needs pyarrow${data.standardized ? '; standardized as data.standardize asked' : ''}`,
       `X = torch.tensor(${pyFloats(data.x, '')}).reshape(${data.rows}, ${data.inputs})`,
       `Y = torch.tensor(${pyFloats(data.y, '')}).reshape(${data.rows}, ${data.targets})`,
       ...cast('Y'),
@@ -59,6 +61,8 @@ export function dataCode(data: DataSetup, loss: LossName, dataDir: string): stri
           `${x} = torch.from_numpy(np.ascontiguousarray(A.reshape(-1, 1) if A.ndim == 1 else A))`,
           `${y} = torch.from_numpy(np.ascontiguousarray(B.reshape(-1, 1) if B.ndim == 1 else B))`,
         ];
+      case 'parquet':
+        throw new Error('parquet data are embedded, not loaded (see above)');
       default: {
         const never: never = r.format;
         throw new Error(`unknown data format ${String(never)}`);

@@ -13,6 +13,7 @@ import type { SessionState } from '../../core/state';
 import { effectiveBatch } from '../../core/session/adapt';
 import { batchOrderCode, dataCode, dataHelpers } from './py-data';
 import { RESTART_HELPER, scheduleCode } from './py-schedule';
+import { resumable, startCode } from './py-start';
 import { py, pyFloats, pyString } from './py-text';
 
 /** What the script's header states about where it came from. */
@@ -35,57 +36,7 @@ export interface ExportSource {
    * session state there — the weights (`initial` holds them too), the optimizer's buffers and
    * update count, the batch generator and the epoch's row order.
    */
-  start?: { step: number; state: SessionState };
-}
-
-/** torch.optim state keys per Stepwell buffer, for each family a started script can resume. */
-const TORCH_STATE: Partial<Record<Recipe['optimizer'], [torchKey: string, buffer: string][]>> = {
-  sgd: [['momentum_buffer', 'velocity']],
-  adam: [['exp_avg', 'm'], ['exp_avg_sq', 'v'], ['max_exp_avg_sq', 'vMax']],
-  adamw: [['exp_avg', 'm'], ['exp_avg_sq', 'v'], ['max_exp_avg_sq', 'vMax']],
-  rmsprop: [['square_avg', 'squareAvg'], ['grad_avg', 'gradAvg'], ['momentum_buffer', 'momentum']],
-  adagrad: [['sum', 'sum']],
-};
-
-/**
- * Lines that put the optimizer, the schedules and the step count where a branch forked at a later
- * step has them: torch's per-parameter state from Stepwell's flat buffers (sliced in the order
- * of `model.parameters()`, which is Stepwell's layout), and the schedules advanced `step` times.
- */
-function startCode(r: Recipe, start: { step: number; state: SessionState }): string[] {
-  const keys = TORCH_STATE[r.optimizer];
-  if (keys === undefined) throw new NotExportable(`a branch forked at step ${start.step} continues ${r.optimizer}'s state, which the script cannot set in torch.optim; export it from step 0 (fork it at step 0), or use sgd, adam, adamw, rmsprop or adagrad`);
-  if (r.schedule.kind === 'plateau') throw new NotExportable(`a branch forked at step ${start.step} continues reduce-on-plateau's counters, which are not exported; fork it at step 0 to export it`);
-  const o = start.state.optimizer;
-  const present = keys.filter(([, b]) => o.buffers[b] !== undefined);
-  // SGD keeps no update count in torch: its buffer exists from the first update on.
-  const withStep = r.optimizer !== 'sgd';
-  const lines = [
-    `# ---- the state at step ${start.step}, where this branch was forked: optimizer buffers (Stepwell's flat layout), update count, schedules`,
-    `START_STEP = ${start.step}`,
-  ];
-  if (o.t > 0 && present.length > 0) {
-    lines.push(
-      'OPT_BUFFERS = {',
-      ...present.map(([, b]) => `    ${pyString(b)}: torch.tensor(${pyFloats(o.buffers[b], '    ')}),`),
-      '}',
-      'at = 0',
-      'for p in model.parameters():',
-      '    n = p.numel()',
-      `    opt.state[p] = {${[...(withStep ? [`"step": torch.tensor(${py(o.t)})`] : []), ...present.map(([k, b]) => `${pyString(k)}: OPT_BUFFERS[${pyString(b)}][at:at + n].reshape(p.shape).clone()`)].join(', ')}}`,
-      '    at += n'
-    );
-  } else if (o.t > 0 && withStep) {
-    lines.push('for p in model.parameters():', `    opt.state[p] = {"step": torch.tensor(${py(o.t)})}`);
-  }
-  lines.push(
-    '# the schedules as they stand after START_STEP updates (torch warns when a scheduler steps before the optimizer; here it must)',
-    'with warnings.catch_warnings():',
-    '    warnings.simplefilter("ignore")',
-    '    for _ in range(START_STEP):',
-    '        advance_schedules(None)'
-  );
-  return lines;
+  start?: { step: number; state: SessionState; replayed?: boolean };
 }
 
 /** An experiment that cannot be written as a PyTorch script, with the reason. */
@@ -203,7 +154,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
   if (!lbfgs && r.clipNorm > 0) clipping.push(`        torch.nn.utils.clip_grad_norm_(model.parameters(), max_norm=${py(r.clipNorm)})`);
   const rowsExpr = batch > 0 ? 'BATCHES.next()' : 'None';
   const start = src.start !== undefined && src.start.step > 0 ? src.start : undefined;
-  if (start !== undefined && lbfgs) throw new NotExportable(`a branch forked at step ${start.step} continues L-BFGS's history, which torch.optim.LBFGS cannot be given; fork it at step 0 to export it`);
+  if (start !== undefined && !resumable(r.optimizer)) throw new NotExportable(`a branch forked at step ${start.step} continues ${r.optimizer}'s state, which no torch.optim class takes; fork it at step 0 to export it`);
   const resume = start !== undefined && batch > 0 && start.state.order !== null ? { cursor: start.state.cursor, order: start.state.order } : undefined;
   const batchState = start !== undefined && batch > 0 ? start.state.rng.s : src.batchState;
   const heldOut = data.heldOut !== undefined;
@@ -212,7 +163,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '#!/usr/bin/env python3',
     `# Exported by Stepwell ${src.version} from ${src.spec}${src.patch ? ` with ${src.patch}` : ''}.`,
     ...(start !== undefined
-      ? [`# Starts at step ${start.step}, where the branch was forked, from the state the ledger stored there; fingerprint: ${src.fingerprint}`]
+      ? [`# Starts at step ${start.step}, where the branch was forked, from the state ${start.replayed === true ? 'of the trunk run from the spec to that step' : 'the ledger stored there'}; fingerprint: ${src.fingerprint}`]
       : [`# Initial state fingerprint (step 0): ${src.fingerprint}`]),
     ...(origin ? [`# Data hash: ${origin.hash}`] : []),
     '#',
@@ -250,7 +201,7 @@ export function pytorchScript(e: Experiment, src: ExportSource): string {
     '',
   ];
   const body = [
-    ...(origin ? [...dataHelpers(origin.reading.format === 'csv'), '', ''] : []),
+    ...(origin && origin.reading.format !== 'parquet' ? [...dataHelpers(origin.reading.format === 'csv'), '', ''] : []),
     ...(usesRestarts ? [...RESTART_HELPER, '', ''] : []),
     '# ---- data',
     ...dataCode(data, e.setup.loss, src.dataDir),

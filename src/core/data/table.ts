@@ -9,6 +9,7 @@ import { DataFileError, inFile } from './errors';
 import { DEFAULT_LIMITS, type DataLimits } from './limits';
 import { readNpy, type NumericArray } from './npy';
 import { readNpz } from './npz';
+import { openParquet } from './parquet';
 
 /** A column named by its header text or its 0-based position. */
 export type ColumnRef = string | number;
@@ -18,7 +19,7 @@ export type TargetKind = 'value' | 'class' | 'binary';
 
 /** What to read from a file (the spec's `data` mapping, resolved). */
 export interface TableRequest {
-  /** Feature columns (CSV, npy) or the feature array's name (npz); default: every column but the targets / 'x'. */
+  /** Feature columns (CSV, npy, parquet) or the feature array's name (npz); default: every column but the targets / 'x'. */
   features?: ColumnRef[] | string;
   /** Target column(s) (CSV, npy) or the target array's name (npz); default: the last column / 'y'. */
   target?: ColumnRef | ColumnRef[];
@@ -41,12 +42,13 @@ export interface TableData {
 }
 
 /** The format a file name implies, or a typed error. */
-export function formatOf(name: string): 'csv' | 'npy' | 'npz' {
+export function formatOf(name: string): 'csv' | 'npy' | 'npz' | 'parquet' {
   const lower = name.toLowerCase();
   if (lower.endsWith('.csv') || lower.endsWith('.tsv') || lower.endsWith('.txt')) return 'csv';
   if (lower.endsWith('.npy')) return 'npy';
   if (lower.endsWith('.npz')) return 'npz';
-  throw new DataFileError(`${name}: Stepwell reads .csv (.tsv, .txt), .npy and .npz data files; rename the file or convert it`, { file: name });
+  if (lower.endsWith('.parquet')) return 'parquet';
+  throw new DataFileError(`${name}: Stepwell reads .csv (.tsv, .txt), .npy, .npz and .parquet data files; rename the file or convert it`, { file: name });
 }
 
 /** Index of a column reference in a table of `width` columns with an optional header. */
@@ -142,6 +144,43 @@ export function tableFromCsv(bytes: Uint8Array, file: string, req: TableRequest,
   return { rows: n, inputs: features.length, targets: targets.length, x, y, ...(classes ? { classes } : {}), reading };
 }
 
+/**
+ * Reads a parquet file into features and targets: columns chosen by name or position as in a
+ * CSV (the column names are its header), text features parsed as numbers, a text target mapped
+ * to class indices. Nulls and non-finite features are refused with their row and column.
+ */
+export function tableFromParquet(bytes: Uint8Array, file: string, req: TableRequest, limits: DataLimits = DEFAULT_LIMITS): TableData {
+  const t = openParquet(bytes, file, limits);
+  const { features, targets } = resolveColumns(req, t.names, t.names.length, file, false);
+  const n = t.rows;
+  if (n * features.length > limits.maxValues) throw new DataFileError(inFile(file, `holds ${n}×${features.length} feature values, above the limit of ${limits.maxValues}`), { file });
+  if (req.targetKind !== 'value' && targets.length !== 1) throw new DataFileError(inFile(file, `a classification loss takes one target column, data.target names ${targets.length}`), { file });
+  const cols = t.read([...features, ...targets]);
+  const x = new Float64Array(n * features.length);
+  features.forEach((j, k) => {
+    const col = cols[k];
+    for (let i = 0; i < n; i++) {
+      const raw = col.values[i];
+      const v = typeof raw === 'string' ? parseNumber(raw) : raw;
+      if (v === null || v === undefined || !Number.isFinite(v)) {
+        const what = raw === null ? 'missing value (null)' : typeof raw === 'string' ? `${JSON.stringify(raw.length > 40 ? `${raw.slice(0, 40)}…` : raw)} is not a number` : `${raw} (non-finite values are not accepted)`;
+        throw new DataFileError(inFile(file, `row ${i + 1}, column '${t.names[j]}': ${what}`), { file, row: i + 1, column: t.names[j] });
+      }
+      x[i * features.length + k] = v;
+    }
+  });
+  const y = new Float64Array(n * targets.length);
+  let classes: string[] | undefined;
+  targets.forEach((j, k) => {
+    const fields = cols[features.length + k].values.map((v) => (v === null ? '' : String(v)));
+    const col = targetColumn(fields, req, (i) => `row ${i + 1}, column '${t.names[j]}'`, file);
+    for (let i = 0; i < n; i++) y[i * targets.length + k] = col.values[i];
+    classes = col.classes;
+  });
+  const reading: DataReading = { format: 'parquet', featureColumns: features, targetColumns: targets };
+  return { rows: n, inputs: features.length, targets: targets.length, x, y, ...(classes ? { classes } : {}), reading };
+}
+
 /** An array as a matrix: 1-D arrays become one column. */
 function asMatrix(a: NumericArray, file: string, what: string): { rows: number; cols: number; data: Float64Array } {
   if (a.shape.length === 0) throw new DataFileError(inFile(file, `${what} is a scalar; give a vector or a matrix`), { file });
@@ -228,6 +267,8 @@ export function readTable(bytes: Uint8Array, file: string, req: TableRequest, ta
       return tableFromNpy(bytes, file, req, target, limits);
     case 'npz':
       return tableFromNpz(bytes, file, req, limits);
+    case 'parquet':
+      return tableFromParquet(bytes, file, req, limits);
     default: {
       const never: never = format;
       throw new DataFileError(`unknown format ${String(never)}`);

@@ -54,8 +54,26 @@ describe('stepwell export --to weights / trajectory', () => {
   });
   it('refuses what PyTorch cannot express, saying why', () => {
     expect(() => exportCommand(SPEC, { set: ['optimizer=cg'] })).toThrow(new CliError(`${SPEC}: recipe.optimizer 'cg' has no torch.optim counterpart, so it cannot be exported; sgd, adagrad, rmsprop, adam, adamw and lbfgs can`));
-    expect(() => exportCommand(SPEC, { branch: '3:lr=0.01' })).toThrow(/a branch forked at step 3 continues the parent's optimizer state, which is exported from a notebook's ledger/);
     expect(() => exportCommand(SPEC, { to: 'weights', steps: '2', out: join(dir, 'w.bin') })).toThrow(/weights are written as .safetensors/);
     expect(exportCommand(SPEC, { branch: '0:lr=0.01' }).out).toContain('lr=0.01');
+  });
+
+  it('a spec file\'s --branch S:… with S > 0 starts from the trunk run to step S (the state `stepwell run --branch` forks from)', () => {
+    const script = exportCommand(SPEC, { branch: '3:lr=0.01' }).out;
+    expect(script).toContain('# Starts at step 3, where the branch was forked, from the state of the trunk run from the spec to that step');
+    expect(script).toContain('START_STEP = 3');
+    expect(script).toContain('lr=0.01');
+    expect(script).toContain('"exp_avg"');
+    // the embedded starting weights are the trunk's after 3 updates (printed exactly, as Python floats)
+    const trunk = JSON.parse(runCommand(SPEC, { steps: '3', json: true }).out) as { final: { parameters: number[] } };
+    expect(trunk.final.parameters).toHaveLength(13);
+    const embedded = /model\.load_state_dict\(\{([\s\S]*?)\}\)/.exec(script)?.[1] ?? '';
+    const numbers = (embedded.match(/-?\d+(?:\.\d+)?(?:e[+-]?\d+)?(?=[,\s\]])/g) ?? []).map(Number);
+    for (const w of trunk.final.parameters) expect(numbers).toContain(w);
+  });
+
+  it('refuses a spec file\'s --branch S:… that changes the setup after step 0, or forks past a diverged trunk', () => {
+    expect(() => exportCommand(SPEC, { branch: '3:seed=5' })).toThrow(new CliError('--branch 3:seed=5: seed=5 changes the setup or the seed, so it must fork at step 0 (0:KEY=VALUE), not step 3'));
+    expect(() => exportCommand(SPEC, { set: ['optimizer=sgd', 'lr=1e200'], branch: '5:lr=0.01' })).toThrow(/the trunk diverged at step 1 \(loss Infinity\), before the fork step 5: fork earlier/);
   });
 });

@@ -159,6 +159,35 @@ describe('non-finite runs and the ledger size limit in the cell', () => {
     k.dispose();
   });
 
+  it('refuses to open a ledger above the limit: shown as too large, never sent to the reader, the metadata untouched', async () => {
+    const c = cell(TEMPLATE_SPEC);
+    const k = controller(c);
+    await k.run();
+    await k.step(5);
+    k.dispose();
+    const saved = JSON.stringify(c.metadata.stepwell);
+    // source: ECMAScript JSON.stringify and TextEncoder (UTF-8) give the size the limit is about
+    const size = new TextEncoder().encode(saved).length;
+    let sent = 0;
+    const counting: LedgerGlue = { read: (v, l, m) => { sent++; return ledgerGlue.read(v, l, m); } };
+    const small = controller(c, counting, { maxLedgerBytes: size - 1 });
+    expect(sent).toBe(1);
+    expect(small.state.ledger).toBe('corrupt');
+    expect(small.state.ledgerMessage).toMatch(new RegExp(`^too large to open: ${size} bytes > limit ${size - 1} bytes \\(setting maxLedgerBytes\\)`));
+    expect(small.state.notice?.text).toContain('too large to open');
+    // The cell has our output (its widget shows the message); the output is not rewritten.
+    expect(c.outputs?.markdown).toContain('at step 5');
+    expect(JSON.stringify(c.metadata.stepwell)).toBe(saved);
+    expect(await small.run()).toBe(false);
+    expect(JSON.stringify(c.metadata.stepwell)).toBe(saved);
+    small.dispose();
+    // At exactly its size it opens.
+    const fits = controller(c, ledgerGlue, { maxLedgerBytes: size });
+    expect(fits.state.ledger).toBe('ok');
+    expect(fits.state.summary?.step).toBe(5);
+    fits.dispose();
+  });
+
   it('refuses to save a ledger above the limit with a message in the cell, keeping the session and the previous ledger', async () => {
     const c = cell(TEMPLATE_SPEC);
     const k = controller(c);
