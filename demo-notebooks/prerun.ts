@@ -18,6 +18,7 @@ import { EngineClient } from '../src/worker/client';
 import { inProcessPort } from '../src/worker/in-process';
 import { realCore } from '../src/worker/core-adapter';
 import type { DiagnosisView } from '../src/ui/view-state';
+import type { DeeperChoice } from '../src/ui/deeper-form';
 
 /** One product action of a pre-run script. */
 export type PrerunAction =
@@ -29,7 +30,10 @@ export type PrerunAction =
   | { do: 'fork'; atStep: number; set: Record<string, unknown>; name?: string; from?: string }
   | { do: 'curvature' }
   | { do: 'audit' }
+  | { do: 'noise' }
   | { do: 'switch'; branch: string }
+  /** Take a deeper readout on the Deeper tab with these choices (the rest as the tab starts). */
+  | { do: 'deeper'; choice: Partial<DeeperChoice> }
   /** Write the decision record; an empty `chosen` picks the branch the last fork made. */
   | { do: 'record'; question: string; chosen: string };
 
@@ -75,6 +79,11 @@ async function act(c: CellController, a: PrerunAction, out: PrerunResult): Promi
       return c.measureCurvature();
     case 'audit':
       return c.audit();
+    case 'noise':
+      return c.measureNoise();
+    case 'deeper':
+      c.setDeeperChoice(a.choice);
+      return c.takeDeeper();
     case 'record':
       return c.writeDecisionRecord(a.question, a.chosen || (out.forked ?? ''));
     case 'fork':

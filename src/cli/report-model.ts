@@ -9,6 +9,7 @@ import type { StepRecord } from '../core/state';
 import { comparisonFigure, comparisonText, sharpnessOverlayFigure, type BranchSeries, type SharpnessSample } from '../figures/compare';
 import { IMAGE_THEME, traceFigure, traceText } from '../figures/trace';
 import { renderSvg } from '../figures/svg';
+import { deeperReportFigures } from './report-deeper';
 import { describePatch, recipeExcerpt, type SpecPatch } from '../experiment/patch';
 import type { DecodedBranch } from '../ledger';
 import { cellLabel, type Notebook, type NotebookCell } from './notebook';
@@ -154,6 +155,7 @@ function figuresOf(cell: NotebookCell, decoded: readonly DecodedBranch[], active
     const alt = `Branch ${shown.name}. ${traceText(shown.trajectory, cursor)}`;
     out.push({ name: `${stem}-held-out`, title: `Training and held-out loss of ${shown.name}`, text: alt, svg: renderSvg(fig, { id: `${stem}-held-out`, title: `Training and held-out loss of ${shown.name}`, description: alt, width: 760 }) });
   }
+  if (shown !== undefined) out.push(...deeperReportFigures(stem, shown));
   return out;
 }
 

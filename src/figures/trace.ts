@@ -98,7 +98,8 @@ export interface Figure {
     showlegend: boolean;
     /** Pixel width (images only; in the cell the figure follows its container). */
     width?: number;
-    title?: { text: string; font: { size: number } };
+    /** `y` (container fraction) and `yanchor` place the title above the legend when both are shown. */
+    title?: { text: string; font: { size: number }; y?: number; yanchor?: 'top' };
   };
 }
 

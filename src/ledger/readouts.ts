@@ -25,6 +25,8 @@ export const MAX_FINDINGS_PER_BRANCH = 64;
 
 /** The version-3 readouts, in digest order after the version-2 three. */
 const DIAGNOSIS_KEYS = ['noise', 'activations', 'init', 'data'] as const;
+/** The deeper readouts, hashed after the diagnosis readouts only when present (so earlier digests stay valid). */
+const DEEPER_KEY = 'deeper';
 type DiagnosisKey = (typeof DIAGNOSIS_KEYS)[number];
 
 /**
@@ -39,6 +41,8 @@ export interface ReadoutsInput {
   activations?: object | null;
   init?: object | null;
   data?: object | null;
+  /** The latest deeper readout of each kind (`{line?, plane?, range?, precision?, batch?}`, each with a `step`). */
+  deeper?: object | null;
 }
 
 /** Decoded readouts: plain values with exact numbers; the worker checks their shapes. */
@@ -50,6 +54,8 @@ export interface DecodedReadouts {
   activations: Record<string, unknown> | null;
   init: Record<string, unknown> | null;
   data: Record<string, unknown> | null;
+  /** The deeper readouts (absent or null: none kept). */
+  deeper?: Record<string, unknown> | null;
 }
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
@@ -105,8 +111,9 @@ export function canonicalJson(v: unknown): string {
  */
 export function readoutsDigest(r: Omit<LedgerReadouts, 'digest'> | Record<string, unknown>): string {
   const o = r as Record<string, unknown>;
-  const extra = DIAGNOSIS_KEYS.some((k) => o[k] !== undefined) ? `;${canonicalJson(DIAGNOSIS_KEYS.map((k) => o[k] ?? null))}` : '';
-  return sha256Hex(`stepwell-readouts-v1;${canonicalJson([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}${extra}`);
+  const extra = DIAGNOSIS_KEYS.some((k) => o[k] !== undefined) || o[DEEPER_KEY] !== undefined ? `;${canonicalJson(DIAGNOSIS_KEYS.map((k) => o[k] ?? null))}` : '';
+  const deeper = o[DEEPER_KEY] === undefined ? '' : `;deeper;${canonicalJson(o[DEEPER_KEY])}`;
+  return sha256Hex(`stepwell-readouts-v1;${canonicalJson([o.curvature ?? null, o.sharpness ?? null, o.audit ?? null])}${extra}${deeper}`);
 }
 
 /**
@@ -149,6 +156,12 @@ export function encodeReadouts(r: ReadoutsInput | undefined): LedgerReadouts | u
     const v = r[k];
     if (v) out[k] = sized(encodeLoose(v, `readouts.${k}`), `readouts.${k}`) as Record<string, unknown>;
   }
+  if (r.deeper && Object.keys(r.deeper).length > 0) {
+    const d: Record<string, unknown> = {};
+    // each kind is sized on its own: one large plane never takes the others' room
+    for (const [k, v] of Object.entries(r.deeper)) if (v) d[k] = sized(encodeLoose(v, `readouts.deeper.${k}`), `readouts.deeper.${k}`);
+    out.deeper = d;
+  }
   if (Object.keys(out).length === 0) return undefined;
   return { digest: readoutsDigest(out), ...out };
 }
@@ -169,7 +182,8 @@ export function decodeReadouts(r: LedgerReadouts | undefined, field: string, ver
     noise: one('noise'),
     activations: one('activations'),
     init: one('init'),
-    data: one('data')
+    data: one('data'),
+    deeper: r?.deeper === undefined ? null : (decodeLoose(r.deeper, `${field}.deeper`) as Record<string, unknown>)
   };
 }
 

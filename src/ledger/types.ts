@@ -89,6 +89,8 @@ export interface LedgerReadouts {
   init?: Record<string, unknown>;
   /** The data checks of the branch's setup (features listed up to a bound). Version 3. */
   data?: Record<string, unknown>;
+  /** The latest deeper readout of each kind (`line`, `plane`, `range`, `precision`, `batch`), each with a `step`. Added within version 3. */
+  deeper?: Record<string, unknown>;
 }
 
 /**

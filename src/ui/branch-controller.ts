@@ -252,7 +252,10 @@ export abstract class BranchController extends ControllerBase {
     const reply = await this.exchange('Comparing branches', { kind: 'compare', branches: names });
     if (reply === null) return false;
     if (reply.kind !== 'comparison') return this.failed(reply);
-    this.set({ comparison: { ...this.st.comparison, names, data: { comparison: reply.comparison, traces: reply.traces } } });
+    const batchOnly = reply.batchOnly ?? null;
+    // Branches that differ only in batch size compare fairly by examples seen: shown so at once.
+    const axis = batchOnly !== null && (this.st.comparison.data?.batchOnly ?? null) === null ? 'examples' : this.st.comparison.axis;
+    this.set({ comparison: { ...this.st.comparison, axis, names, data: { comparison: reply.comparison, traces: reply.traces, batchOnly } } });
     return true;
   }
 

@@ -304,7 +304,7 @@ export abstract class ControllerBase {
    */
   protected async loadFresh(source: string, files?: readonly string[]): Promise<boolean> {
     const engine = this.ensureEngine();
-    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
+    this.set({ busy: { action: 'Starting', done: 0, total: 0 }, notice: null, confirm: null, audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), deeper: {}, verify: null, comparison: { names: [], axis: this.st.comparison.axis, data: null } });
     const { payload, transfer } = await this.readFiles(files ?? (await this.fileNames(source, [])));
     const reply = await engine.request({ kind: 'load', specText: source, checkpointEvery: this.deps.settings().checkpointEvery, limits: this.deps.settings().limits, ...payload }, undefined, transfer);
     this.set({ busy: null });
@@ -397,13 +397,14 @@ export abstract class ControllerBase {
       sharpness: reply.readouts.sharpness,
       audit: reply.readouts.audit,
       diagnosis: diagnosisOf(reply.readouts),
+      deeper: reply.readouts.deeper ?? {},
       verify: null
     });
   }
 
   /** Takes a branch's readouts after a measurement or a run: the measurements and the diagnosis. */
   protected applyReadouts(r: BranchReadouts): void {
-    this.set({ curvature: r.curvature, sharpness: r.sharpness, audit: r.audit, diagnosis: diagnosisOf(r) });
+    this.set({ curvature: r.curvature, sharpness: r.sharpness, audit: r.audit, diagnosis: diagnosisOf(r), deeper: r.deeper ?? {} });
   }
 
   protected failed(reply: FinalReply): false {

@@ -10,6 +10,8 @@ import { button, el, textTable } from './dom';
 import { comparisonText, type CompareAxis } from '../figures/compare';
 import { fmt } from './summary';
 import type { ComparisonView } from './view-state';
+import type { NoiseScale } from '../core/probe/noise-scale';
+import { batchNote } from './batch-note';
 
 /** What the comparison panel's controls do. */
 export interface ComparePanelActions {
@@ -17,6 +19,7 @@ export interface ComparePanelActions {
   axis(axis: CompareAxis): void;
   refresh(): void;
   record(): void;
+  measureNoise(): void;
 }
 
 /** Names radio groups uniquely per panel. */
@@ -44,7 +47,7 @@ function patchNode(b: BranchInfo): HTMLElement {
  *
  * @param plots - the nodes plotly draws the loss and sharpness overlays into (reused across rebuilds).
  */
-export function comparePanel(view: ComparisonView, branches: readonly BranchInfo[], busy: boolean, actions: ComparePanelActions, plots: { loss: HTMLElement; sharpness: HTMLElement }): HTMLElement {
+export function comparePanel(view: ComparisonView, branches: readonly BranchInfo[], busy: boolean, actions: ComparePanelActions, plots: { loss: HTMLElement; sharpness: HTMLElement }, noise: { scale: NoiseScale | null; active: string } = { scale: null, active: '' }): HTMLElement {
   const box = el('div', 'sw-Readout sw-Compare');
   const chosen = view.data?.comparison.branches ?? view.names;
   const pick = el('fieldset', 'sw-ComparePick');
@@ -71,6 +74,7 @@ export function comparePanel(view: ComparisonView, branches: readonly BranchInfo
     const radio = el('input');
     radio.type = 'radio';
     radio.name = group;
+    radio.value = value;
     radio.checked = view.axis === value;
     radio.disabled = value === 'examples' && noExamples;
     radio.addEventListener('change', () => radio.checked && actions.axis(value));
@@ -94,6 +98,7 @@ export function comparePanel(view: ComparisonView, branches: readonly BranchInfo
   plots.loss.setAttribute('aria-label', alt);
   box.appendChild(plots.loss);
   box.appendChild(el('p', 'sw-Note sw-FigureText', alt));
+  if (view.data.batchOnly) box.appendChild(batchNote(view.data.batchOnly, view.axis, noise.scale, noise.active, actions, busy));
   if (traces.some(t => t.sharpness.length > 0)) {
     plots.sharpness.setAttribute('role', 'img');
     plots.sharpness.setAttribute('aria-label', 'Sharpness of the compared branches against each one’s stability limit (dashed).');

@@ -20,6 +20,7 @@ import { errorMarkdown, meanMs, msBound, problemLine, requestMs, verifyLines } f
 import type { Notice } from './view-state';
 import { diagnosisOf, mergeSharpness } from './view-state';
 import { conditionProblem, conditionText } from './forms';
+import { choiceOfKept, DEEPER_LABELS, deeperRequestOf, type DeeperChoice } from './deeper-form';
 
 export type { ControllerDeps } from './branch-controller';
 
@@ -262,13 +263,13 @@ export class CellController extends BranchController {
     return this.persist();
   }
 
-  /** Measures the gradient noise scale at the active branch's step (shown on the Data tab). */
-  async measureNoise(): Promise<boolean> {
+  /** Measures the gradient noise scale at the active branch's step (shown on the Data tab, which opens unless `showTab` is false). */
+  async measureNoise(showTab = true): Promise<boolean> {
     const reply = await this.exchange('Measuring the gradient noise scale', { kind: 'noise', sample: this.deps.settings().noiseSample });
     if (reply === null) return false;
     if (reply.kind !== 'noise') return this.failed(reply);
     this.applyReadouts(reply.readouts);
-    this.set({ tab: 'data' });
+    if (showTab) this.set({ tab: 'data' });
     return this.persist();
   }
 
@@ -280,6 +281,40 @@ export class CellController extends BranchController {
     if (reply.kind !== 'curvature') return this.failed(reply);
     this.applyReadouts(reply.readouts);
     this.set({ tab: 'curvature' });
+    return this.persist();
+  }
+
+  /** Changes the Deeper tab's choice (the readout or an option's text); nothing runs. */
+  setDeeperChoice(patch: Partial<DeeperChoice>): void {
+    const now = this.st.deeperChoice;
+    // Choosing a readout shows the options its kept result was taken with (options in `patch` win).
+    const base = patch.kind !== undefined && patch.kind !== now.kind ? choiceOfKept({ ...now, kind: patch.kind }, this.st.deeper[patch.kind]) : now;
+    this.set({ deeperChoice: { ...base, ...patch } });
+  }
+
+  /**
+   * Takes the chosen deeper readout at the active branch's cursor, with progress; Stop discards
+   * it (the branch keeps its previous result of that kind). A complete one is kept in the ledger.
+   */
+  async takeDeeper(): Promise<boolean> {
+    const choice = this.st.deeperChoice;
+    const label = DEEPER_LABELS[choice.kind];
+    const request = deeperRequestOf(choice);
+    if (typeof request === 'string') {
+      this.notice('error', `${label}: ${request}.`);
+      return false;
+    }
+    this.set({ notice: null });
+    const reply = await this.exchange(label, { kind: 'deeper', request });
+    if (reply === null) return false;
+    if (reply.kind !== 'deeper') return this.failed(reply);
+    this.applyReadouts(reply.readouts);
+    if (reply.stopped) {
+      const previous = reply.readouts.deeper[choice.kind];
+      this.notice('info', `${label} stopped: the partial result was discarded${previous === undefined ? '' : ` (the one taken at step ${previous.step} is still shown)`}.`);
+      return false;
+    }
+    this.set({ tab: 'deeper' });
     return this.persist();
   }
 

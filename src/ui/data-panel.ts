@@ -13,7 +13,7 @@ import { staleNote } from './readouts';
 import type { DiagnosisView } from './view-state';
 
 /** What the noise verdict means, in words (the verdict itself is core's). */
-const NOISE_WORDS: Record<NoiseScale['verdict'], string> = {
+export const NOISE_WORDS: Record<NoiseScale['verdict'], string> = {
   'below-noise-scale': 'well below the noise scale: larger batches would speed training almost in proportion',
   'near-noise-scale': 'near the noise scale',
   'above-noise-scale': 'well above the noise scale: more rows per update buy little',

@@ -16,6 +16,7 @@ import { dataPanel } from './data-panel';
 import { curvatureFigure, sharpnessFigure } from './curvature-figure';
 import { traceFigure, traceText } from '../figures/trace';
 import type { CellViewState } from './view-state';
+import { deeperFigures, deeperPanel, type DeeperPlots } from './deeper-panel';
 
 /** Least milliseconds between trace redraws while work is running. */
 const PLOT_INTERVAL_MS = 1000;
@@ -31,6 +32,13 @@ export class ReadoutPanels {
   private readonly sharpnessPlot = el('div', 'sw-CurvaturePlot sw-SharpnessPlot');
   private readonly comparePlot = el('div', 'sw-ComparePlot');
   private readonly compareSharpnessPlot = el('div', 'sw-ComparePlot sw-CompareSharpnessPlot');
+  private readonly deeperPlots: DeeperPlots = {
+    lineUpdate: el('div', 'sw-DeeperPlot sw-DeeperLineUpdate'),
+    lineEigen: el('div', 'sw-DeeperPlot sw-DeeperLineEigen'),
+    plane: el('div', 'sw-DeeperPlot sw-DeeperPlane'),
+    range: el('div', 'sw-DeeperPlot sw-DeeperRange'),
+    batch: el('div', 'sw-DeeperPlot sw-DeeperBatch')
+  };
   private rendered: string | null = null;
   private renderedGeneralization: string | null = null;
   private lastPlot = 0;
@@ -71,7 +79,8 @@ export class ReadoutPanels {
       `${s.sharpness.length}:${s.sharpness[s.sharpness.length - 1]?.step}:${s.stepN}:${d.derived.sharpness.sentence}:` +
       (s.tab === 'layers' ? `${d.activations.now?.step}:${d.derived.balance?.steps.length}:${d.derived.balance?.steps[d.derived.balance.steps.length - 1]}:${d.init !== null}` : '') +
       (s.tab === 'data' ? `${d.data !== null}:${d.noise?.step}:${d.noise?.noiseScale}` : '') +
-      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
+      (s.tab === 'deeper' ? `${s.deeperChoice.kind}:${s.deeperChoice.directions}:${deeperKey(s)}` : '') +
+      (s.tab === 'compare' ? `${s.comparison.axis}:${s.comparison.names.join('|')}:${s.comparison.data !== null}:${d.noise?.step}:${d.noise?.noiseScale}:${JSON.stringify(s.summary?.branches.map(b => b.name))}` : '');
     if (key === this.rendered) return;
     this.rendered = key;
     // The plot nodes are reused across panel rebuilds (plotly updates them in place); they are
@@ -101,13 +110,20 @@ export class ReadoutPanels {
           d.derived.sharpness
         );
         break;
+      case 'deeper':
+        panel = deeperPanel(s.deeperChoice, s.deeper, { branch: s.summary?.branch ?? '', step }, busy, {
+          choose: patch => c.setDeeperChoice(patch),
+          take: () => void c.takeDeeper()
+        }, this.deeperPlots);
+        break;
       case 'compare':
         panel = comparePanel(s.comparison, s.summary?.branches ?? [], busy, {
           choose: names => void c.setCompared(names),
           axis: axis => c.setCompareAxis(axis),
           refresh: () => void c.compare(),
-          record: () => c.setForm('record')
-        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot });
+          record: () => c.setForm('record'),
+          measureNoise: () => void c.measureNoise(false)
+        }, { loss: this.comparePlot, sharpness: this.compareSharpnessPlot }, { scale: d.noise, active: s.summary?.branch ?? '' });
         break;
     }
     replaceChildren(this.node, [panel]);
@@ -117,6 +133,7 @@ export class ReadoutPanels {
       if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
       if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
     }
+    if (s.tab === 'deeper') for (const [node, figure] of deeperFigures(s.deeperChoice.kind, s.deeper, this.deeperPlots, theme)) void renderFigure(node, figure);
     if (s.tab === 'compare' && s.comparison.data !== null) {
       const traces = s.comparison.data.traces;
       void renderFigure(this.comparePlot, comparisonFigure(traces, s.comparison.axis, theme));
@@ -178,6 +195,19 @@ export class ReadoutPanels {
   }
 
   private plots(): HTMLElement[] {
-    return [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot];
+    return [this.plotNode, this.curvaturePlot, this.sharpnessPlot, this.comparePlot, this.compareSharpnessPlot, ...Object.values(this.deeperPlots)];
   }
+}
+
+/** Identities of the kept deeper results (each reply brings new objects: a result taken again redraws). */
+const resultIds = new WeakMap<object, number>();
+let nextResultId = 1;
+
+/** What changes the Deeper tab's content: which results are kept, and which objects they are. */
+function deeperKey(s: CellViewState): string {
+  return Object.entries(s.deeper).map(([k, r]) => {
+    let id = resultIds.get(r);
+    if (id === undefined) resultIds.set(r, (id = nextResultId++));
+    return `${k}@${r.step}#${id}`;
+  }).join(',');
 }

@@ -7,9 +7,12 @@ import type { AuditResult } from '../core/probe/gradcheck';
 import type { LedgerRead, SpecChecker } from './ports';
 import type { BranchComparison, BranchReadouts, BranchTrace, CurvatureResult, SessionSummary, SharpnessPoint, SpecProblem, StopCondition, VerifyResult } from '../worker/protocol';
 import type { CompareAxis } from '../figures/compare';
+import type { DeeperKept } from '../worker/deeper';
+import type { BatchOfBranch } from '../worker/batch-branches';
+import { DEFAULT_DEEPER_CHOICE, type DeeperChoice } from './deeper-form';
 
 /** Readout tabs of the cell widget. */
-export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'data' | 'audit' | 'compare';
+export type ReadoutTab = 'trace' | 'curvature' | 'layers' | 'data' | 'audit' | 'deeper' | 'compare';
 
 /** The cell widget's tabs in order, with their labels. */
 export const READOUT_TABS: readonly (readonly [ReadoutTab, string])[] = [
@@ -18,6 +21,7 @@ export const READOUT_TABS: readonly (readonly [ReadoutTab, string])[] = [
   ['layers', 'Layers'],
   ['data', 'Data'],
   ['audit', 'Audit'],
+  ['deeper', 'Deeper'],
   ['compare', 'Compare']
 ];
 
@@ -58,7 +62,7 @@ export interface ComparisonView {
   /** Branches to compare, the reference first. */
   names: string[];
   axis: CompareAxis;
-  data: { comparison: BranchComparison; traces: BranchTrace[] } | null;
+  data: { comparison: BranchComparison; traces: BranchTrace[]; batchOnly?: BatchOfBranch[] | null } | null;
 }
 
 /** A message for the user above the readouts. */
@@ -114,6 +118,10 @@ export interface CellViewState {
   sharpness: SharpnessPoint[];
   /** The active branch's findings and the diagnosis readouts (from the worker or the ledger). */
   diagnosis: DiagnosisView;
+  /** The active branch's latest complete deeper readout of each kind (from the worker or the ledger). */
+  deeper: DeeperKept;
+  /** The Deeper tab's chosen readout and the texts of its options. */
+  deeperChoice: DeeperChoice;
   notice: Notice | null;
   /** An open inline form. */
   form: FormKind | null;
@@ -145,6 +153,8 @@ export function initialViewState(): CellViewState {
     curvature: null,
     sharpness: [],
     diagnosis: emptyDiagnosis(),
+    deeper: {},
+    deeperChoice: { ...DEFAULT_DEEPER_CHOICE },
     notice: null,
     form: null,
     branchProblems: [],
@@ -174,7 +184,7 @@ export function mergeSharpness(old: SharpnessPoint[], fresh: SharpnessPoint[] | 
  */
 export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, checkSpec: SpecChecker): Partial<CellViewState> {
   const cleared: Partial<CellViewState> = {
-    audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), verify: null, problems: checkSpec(source), confirm: null,
+    audit: null, curvature: null, sharpness: [], diagnosis: emptyDiagnosis(), deeper: {}, verify: null, problems: checkSpec(source), confirm: null,
     comparison: { names: [], axis: 'step', data: null }
   };
   switch (read.kind) {
@@ -209,7 +219,8 @@ export function viewFromLedger(read: LedgerRead, raw: unknown, source: string, c
         curvature: read.content.readouts.curvature,
         sharpness: read.content.readouts.sharpness,
         audit: read.content.readouts.audit,
-        diagnosis: diagnosisOf(read.content.readouts)
+        diagnosis: diagnosisOf(read.content.readouts),
+        deeper: read.content.readouts.deeper ?? {}
       };
   }
 }

@@ -15,6 +15,7 @@ import { currentActivations, diagnoseRng, evaluateFindings, standardizedFit } fr
 import type { StandardizedFit } from '../core/probe/findings';
 import { inputsUnscaled } from '../core/probe/findings/proposals';
 import type { BranchReadouts, Finding } from './protocol';
+import { deeperUpTo } from './deeper';
 import { branchEvidence, derivedReadouts, emptyReadouts, staticDiagnosis, triedAs, type ChildFork } from './diagnosis';
 
 /** Readouts and findings of every branch of one grove. */
@@ -71,6 +72,7 @@ export class BranchBook {
     if (r.curvature !== null && r.curvature.step > step) r.curvature = null;
     if (r.audit !== null && r.audit.step > step) r.audit = null;
     if (r.noise !== null && (r.noise.step ?? 0) > step) r.noise = null;
+    r.deeper = deeperUpTo(r.deeper, step);
   }
 
   /** The static parts of a branch's diagnosis: its parent's when it keeps the parent's setup, else computed. */
@@ -119,6 +121,7 @@ export class BranchBook {
       sharpness: r.sharpness.slice(),
       activations: { ...r.activations },
       findings: r.findings.slice(),
+      deeper: { ...r.deeper },
       derived: derivedReadouts(this.toCursor(name), r.sharpness, this.grove.experiment(name), r.findings, this.children(name))
     };
   }

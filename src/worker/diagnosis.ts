@@ -39,6 +39,7 @@ export function emptyReadouts(): BranchReadouts {
     init: null,
     data: null,
     findings: [],
+    deeper: {},
     derived: { balance: null, generalization: null, sharpness: { verdict: { kind: 'no-limit', measured: 0 }, sentence: traceSentence({ kind: 'no-limit', measured: 0 }) }, standardization: null, tried: [] }
   };
 }

@@ -22,6 +22,9 @@ import type { CellFiles } from './engine-core';
 import { viewLedger } from './ledger-view';
 import { grouped } from '../experiment/limits';
 import { parseSpec } from '../experiment';
+import { deeperTask } from '../core/probe/readouts-at';
+import { batchOnlyComparison } from './batch-branches';
+import { keepDeeper, planePath, thinDeeper, type DeeperRequest } from './deeper';
 
 /** Something that can post replies (the worker's `self.postMessage`, or a test array). */
 export type ReplySink = (reply: EngineReply) => void;
@@ -146,7 +149,7 @@ export class EngineHost {
         return;
       }
       case 'compare':
-        this.post({ id, kind: 'comparison', ...this.need().cell.compare(request.branches, request.reference) });
+        this.post({ id, kind: 'comparison', ...this.need().cell.compare(request.branches, request.reference), batchOnly: batchOnlyComparison(this.need().cell, request.branches) });
         return;
       case 'gradcheck': {
         const cell = this.need().cell;
@@ -184,6 +187,8 @@ export class EngineHost {
       }
       case 'verify':
         return this.verify(id, request.branches);
+      case 'deeper':
+        return this.deeper(id, request.request);
       case 'open':
         this.post({ id, kind: 'opened', result: viewLedger(request.ledger, request.limits) });
         return;
@@ -379,6 +384,24 @@ export class EngineHost {
     }
     cell.diagnose(name);
     this.post({ id, kind: 'rewound', ...this.view() });
+  }
+
+  /**
+   * One deeper readout at the active branch's cursor, in slices with progress. A stopped readout
+   * is discarded (the branch keeps its previous result of that kind), so what is kept is complete.
+   */
+  private async deeper(id: number, request: DeeperRequest): Promise<void> {
+    const cell = this.need().cell;
+    const name = cell.active;
+    const session = cell.grove.session(name);
+    const path = request.what === 'plane' ? planePath(cell.checkpointData(), session.stepCount, session.parameters) : undefined;
+    const task = deeperTask(session, request, path);
+    const end = await this.runTask(id, task);
+    const done = end === 'stopped' ? (task.stop(), null) : task.result();
+    const result = done === null ? null : thinDeeper(done);
+    const readouts = cell.readoutsOf(name);
+    if (result !== null) readouts.deeper = keepDeeper(readouts.deeper, result);
+    this.post({ id, kind: 'deeper', result, stopped: end === 'stopped', readouts: cell.readoutsView(name) });
   }
 
   private async verify(id: number, names: string[] | undefined): Promise<void> {

@@ -25,6 +25,9 @@ import type { NoiseScale } from '../core/probe/noise-scale';
 import type { LayerBalance } from '../core/probe/balance';
 import type { Generalization } from '../core/probe/generalization';
 import type { Finding } from '../core/probe/findings/types';
+import type { DeeperKept, DeeperRequest, DeeperResult } from './deeper';
+import { deeperRequestProblem } from './deeper';
+import type { BatchOfBranch } from './batch-branches';
 
 export type { StopCondition, AuditResult, CurvatureSummary, BranchComparison, Finding };
 
@@ -142,6 +145,8 @@ export interface BranchReadouts {
   data: DataReport | null;
   /** The branch's findings at its cursor, most severe first (`evaluateFindings`). */
   findings: Finding[];
+  /** The latest complete deeper readout of each kind taken on the branch (`worker/deeper.ts`). */
+  deeper: DeeperKept;
   derived: DerivedReadouts;
 }
 
@@ -269,6 +274,11 @@ export type EngineRequest =
   /** Measure the Hessian spectrum at the current weights: `k` eigenvalues per end, dense up to `denseLimit` parameters. */
   | { id: number; kind: 'curvature'; k: number; denseLimit: number }
   | { id: number; kind: 'snapshot' }
+  /**
+   * Take one deeper readout (line, plane, range test, precision, batch sizes) at the active
+   * branch's cursor, in slices with progress; a stop discards it (the reply says `stopped`).
+   */
+  | { id: number; kind: 'deeper'; request: DeeperRequest }
   /** Build the cell's ledger in the worker; `specText` is the text the session belongs to. */
   | { id: number; kind: 'ledger'; specText: string; checkpointCap: number; maxBytes?: number }
   /** Replay branches from the seed (default: the active one) and compare bit for bit. */
@@ -373,7 +383,8 @@ export type EngineReply =
     }
   /** A patch that does not validate against the spec (line:column within the patch text is the page's business). */
   | { id: number; kind: 'patch-errors'; errors: SpecProblem[] }
-  | { id: number; kind: 'comparison'; comparison: BranchComparison; traces: BranchTrace[] }
+  /** `batchOnly`: the branches' batch sizes when they differ only in batch size (`worker/batch-branches.ts`), else null. */
+  | { id: number; kind: 'comparison'; comparison: BranchComparison; traces: BranchTrace[]; batchOnly?: BatchOfBranch[] | null }
   | {
       id: number;
       kind: 'audit';
@@ -404,6 +415,8 @@ export type EngineReply =
       trajectory: StepRecord[];
     }
   | { id: number; kind: 'curvature'; result: CurvatureResult; readouts: BranchReadouts }
+  /** The deeper readout taken (null when stopped: nothing was kept) and the branch's readouts with it kept. */
+  | { id: number; kind: 'deeper'; result: DeeperResult | null; stopped: boolean; readouts: BranchReadouts }
   /** `result` is the first branch's; `results` has one per branch replayed. */
   | { id: number; kind: 'verified'; result: VerifyResult; results: VerifyResult[] }
   /** What a stored ledger shows, or every problem that makes it unreadable (`open`). */
@@ -430,6 +443,7 @@ const REQUEST_KINDS: readonly EngineRequestKind[] = [
   'noise',
   'curvature',
   'snapshot',
+  'deeper',
   'ledger',
   'verify',
   'stop'
@@ -487,6 +501,8 @@ export function checkRequest(value: unknown): string | null {
       return positiveInt('k') ?? positiveInt('denseLimit');
     case 'stop':
       return positiveInt('target');
+    case 'deeper':
+      return deeperRequestProblem(r.request);
     case 'ledger':
       if (typeof r.specText !== 'string') return 'request.specText must be a string';
       return positiveInt('checkpointCap') ?? (r.maxBytes === undefined ? null : positiveInt('maxBytes'));

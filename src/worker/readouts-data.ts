@@ -13,6 +13,7 @@ import type { DataReport } from '../core/probe/data-checks';
 import type { NoiseScale } from '../core/probe/noise-scale';
 import type { AuditResult, BranchReadouts, CurvatureResult, Finding, SharpnessPoint } from './protocol';
 import { curvatureVerdict, emptyReadouts } from './diagnosis';
+import { deeperFromLedger } from './deeper';
 import { aboveLimit } from '../core/probe/curvature/verdicts';
 import { offFanInRule } from '../core/probe/init-check';
 
@@ -30,7 +31,7 @@ export function readoutsForLedger(r: BranchReadouts): ReadoutsInput {
     ...(r.activations.now === null ? {} : { now: r.activations.now })
   };
   const init = r.init === null ? null : (({ health: _health, ...rest }) => rest)(r.init);
-  return { curvature: r.curvature, sharpness: r.sharpness, audit, noise: r.noise, activations, init, data: r.data };
+  return { curvature: r.curvature, sharpness: r.sharpness, audit, noise: r.noise, activations, init, data: r.data, deeper: r.deeper };
 }
 
 type Obj = Record<string, unknown>;
@@ -105,6 +106,7 @@ export function readoutsFromLedger(d: DecodedReadouts, findings: Finding[] = [])
     activations: { start, now },
     init: initOf(d.init, start),
     data: dataOf(d.data),
+    deeper: deeperFromLedger(d.deeper),
     findings
   };
 }

@@ -97,10 +97,11 @@ export type DeeperResult =
 export function deeperTask(session: Session, request: DeeperRequest, path: { steps: number[]; weights: readonly Float64Array[] } = { steps: [], weights: [] }): StoppableTask<DeeperResult | null> {
   const step = session.stepCount;
   const rng = Rng.fromSeed(session.experiment.seed).fork(`${request.what}-${step}`);
-  const once = <T>(make: () => T): UnitTask<T | null> => {
+  // a function declaration, not a generic arrow: the app's bundler reads .ts files as TSX
+  function once<T>(make: () => T): UnitTask<T | null> {
     let value: T | null = null;
     return new UnitTask<T | null>(1, () => { value = make(); return false; }, (stopped) => (stopped ? null : value));
-  };
+  }
   switch (request.what) {
     case 'line':
       return once(() => ({ what: 'line', step, result: lineAt(session, rng, { points: request.points }) }));
