@@ -102,7 +102,8 @@ function modelOf(rel, abs, stat) {
 /**
  * Rebuild api/contents and files/ from the contents folder. Notebooks are parsed first so a
  * broken demo file fails the build with its path instead of failing later in the browser.
- * Returns the relative paths of the notebooks, sorted.
+ * Returns the relative paths of the notebooks: those at the top of the folder first, then those
+ * in sub-folders, each group in name order (the first is the one the app and the site open).
  */
 export function writeContents(source = contentsSource()) {
   for (const d of ['api/contents', 'files']) fs.rmSync(path.join(BUILD, d), { recursive: true, force: true });
@@ -145,7 +146,10 @@ export function writeContents(source = contentsSource()) {
     });
   };
   walk('');
-  return notebooks.sort();
+  // Notebooks at the top of the folder first (the first is the one the app and the site open),
+  // then those in sub-folders; each group in name order.
+  const depth = p => (p.includes('/') ? 1 : 0);
+  return notebooks.sort((a, b) => depth(a) - depth(b) || (a < b ? -1 : a > b ? 1 : 0));
 }
 
 /**
