@@ -9,7 +9,7 @@ import type { LineCurve } from '../core/probe/line';
 import type { PlaneReadout } from '../core/probe/slice';
 import type { RangeTestAtResult } from '../core/probe/readouts-at';
 import type { BatchComparison } from '../core/probe/batch-compare';
-import { themedAxis, themedLayout, type Figure, type FigureTheme, type LineSeries } from './trace';
+import { chooseScale, themedAxis, themedLayout, type Figure, type FigureTheme, type LineSeries } from './trace';
 import { contourLevels, levelLines } from './contour';
 
 const fin = (v: number): number | null => (Number.isFinite(v) ? v : null);
@@ -82,7 +82,9 @@ export function rangeFigure(r: RangeTestAtResult, theme: FigureTheme): Figure {
   }
   const limit = r.limit?.largestStableLr;
   if (limit !== null && limit !== undefined && Number.isFinite(limit)) data.push(vertical(`stability limit ${r.limit?.formula ?? ''}`.trim(), limit, all, theme.alert, 'dot'));
-  const layout = themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'learning rate', 'log'), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true });
+  // A loss that blows up at the last rates would flatten the rest of the curve on a linear axis.
+  const scale = chooseScale(all);
+  const layout = themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'learning rate', 'log'), yaxis: themedAxis(theme, scale === 'log' ? 'loss (log scale)' : 'loss', scale), annotations: [], showlegend: true });
   if (r.beyondLimit) layout.title = { text: 'The suggested range reaches past the stability limit: one update per rate did not show the growth along the sharpest direction', font: { size: 12 } };
   return { data, layout };
 }
@@ -93,5 +95,6 @@ export function batchFigure(c: BatchComparison, theme: FigureTheme): Figure {
     const color = theme.series[k % theme.series.length];
     return { type: 'scatter', mode: 'lines', name: `batch ${run.batch}${run.full ? ' (full)' : ''}`, x: run.examples.slice(), y: run.loss.map(fin), line: { color, width: 2 }, hovertemplate: `batch ${run.batch}: %{x} examples, loss %{y:.6g}<extra></extra>` };
   });
-  return { data, layout: themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'examples seen'), yaxis: themedAxis(theme, 'loss'), annotations: [], showlegend: true }) };
+  const scale = chooseScale(c.runs.flatMap((run) => run.loss));
+  return { data, layout: themedLayout(theme, { height: 260, xaxis: themedAxis(theme, 'examples seen'), yaxis: themedAxis(theme, scale === 'log' ? 'loss (log scale)' : 'loss', scale), annotations: [], showlegend: true }) };
 }

@@ -80,6 +80,11 @@ describe('deeper readout figures', () => {
     expect(f.layout.xaxis.type).toBe('log');
     expect(f.data.map((s) => s.name)).toEqual(['loss after the update', 'suggested low', 'suggested high', 'stability limit 2/λmax']);
     expect(f.data[3].x).toEqual([0.5, 0.5]);
+    expect(f.layout.yaxis.type).toBe('linear');
+    // A blow-up 200x above the rest turns the loss axis logarithmic (the traces' rule: max/min above 100).
+    const blown = rangeFigure({ ...r, loss: [0.004, 0.005, 0.8] }, IMAGE_THEME);
+    expect(blown.layout.yaxis.type).toBe('log');
+    expect(blown.layout.yaxis.title.text).toBe('loss (log scale)');
   });
 
   it('the batch figure draws each size by examples seen', () => {
