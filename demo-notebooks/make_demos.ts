@@ -18,9 +18,7 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import * as esbuild from 'esbuild';
-import { chromium } from 'playwright-core';
-import { CHROMIUM, CHROMIUM_ARGS } from '../test/e2e/harness';
+import { prerunInChromium } from './prerun-chromium';
 import type { PrerunRequest, PrerunResult } from './prerun';
 import { parseSpec } from '../src/experiment';
 import { Session } from '../src/core/session';
@@ -67,28 +65,6 @@ function stepwellCells(r: PrerunResult, spec: string): NbCell[] {
   const rec: NbCell = { cell_type: 'markdown', id: `${r.id}-record`, metadata: r.record.metadata, source: lines(r.record.source) };
   if (Object.keys(r.record.attachments).length > 0) rec.attachments = r.record.attachments;
   return [cell, rec];
-}
-
-/** Bundles prerun.ts and runs the requests in headless Chromium. */
-async function prerunInChromium(requests: PrerunRequest[]): Promise<PrerunResult[]> {
-  const bundle = await esbuild.build({
-    entryPoints: [path.join(__dirname, 'prerun.ts')],
-    bundle: true,
-    format: 'iife',
-    platform: 'browser',
-    write: false,
-    logLevel: 'silent'
-  });
-  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-  try {
-    const page = await browser.newPage();
-    await page.addScriptTag({ content: bundle.outputFiles[0].text });
-    const results = (await page.evaluate(`stepwellPrerun(${JSON.stringify(requests)})`)) as PrerunResult[];
-    console.log(`pre-ran ${results.length} cells in Chromium ${browser.version()}`);
-    return results;
-  } finally {
-    await browser.close();
-  }
 }
 
 function session(spec: string): Session {

@@ -11,13 +11,11 @@
  */
 import * as fs from 'fs';
 import * as path from 'path';
-import * as esbuild from 'esbuild';
-import { chromium } from 'playwright-core';
-import { CHROMIUM, CHROMIUM_ARGS } from '../../test/e2e/harness';
-import type { PrerunRequest, PrerunResult } from '../prerun';
+import { prerunInChromium } from '../prerun-chromium';
+import type { PrerunRequest } from '../prerun';
 import { parseSpec } from '../../src/experiment';
 import { Session } from '../../src/core/session';
-import { eigenvalues } from '../../src/core/linalg';
+import { eigenvalues } from '../../src/core/linalg/symmetric-eigen';
 
 type Json = Record<string, unknown>;
 
@@ -50,21 +48,6 @@ recipe:
 const lines = (text: string): string[] => text.split(/(?<=\n)/);
 const markdown = (id: string, text: string): Json => ({ cell_type: 'markdown', id, metadata: {}, source: lines(text) });
 const g3 = (x: number): string => x.toPrecision(3);
-
-/** Bundles ../prerun.ts and runs the requests in headless Chromium. */
-async function prerunInChromium(requests: PrerunRequest[]): Promise<PrerunResult[]> {
-  const bundle = await esbuild.build({ entryPoints: [path.join(HERE, '..', 'prerun.ts')], bundle: true, format: 'iife', platform: 'browser', write: false, logLevel: 'silent' });
-  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-  try {
-    const page = await browser.newPage();
-    await page.addScriptTag({ content: bundle.outputFiles[0].text });
-    const results = (await page.evaluate(`stepwellPrerun(${JSON.stringify(requests)})`)) as PrerunResult[];
-    console.log(`pre-ran ${results.length} cell in Chromium ${browser.version()}`);
-    return results;
-  } finally {
-    await browser.close();
-  }
-}
 
 /** Largest Hessian eigenvalue at the session's weights (dense, from exact Hessian-vector products). */
 function lambdaMax(s: Session): number {
