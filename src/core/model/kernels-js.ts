@@ -5,6 +5,9 @@
  * a fixed order (i, r or o ascending); register blocking changes speed, never bits.
  */
 import type { LayerShape } from './kernels';
+import { activation } from './activations';
+
+const builtinRelu = activation('relu');
 
 /**
  * dst[r, o] (=|+=) Σ_i M[o, i]·inp[r, i] (+ bias[o]) with M the layer's weight block of `src`.
@@ -123,4 +126,14 @@ export function backprop(src: Float64Array, p: LayerShape, d: Float64Array, n: n
       for (let i = 0; i < fanIn; i++) dst[ir + i] += c * src[wr + i];
     }
   }
+}
+
+/** dst[i] = x[i]·y[i] for i < n. */
+export function hadamard(x: Float64Array, y: Float64Array, n: number, dst: Float64Array): void {
+  for (let i = 0; i < n; i++) dst[i] = x[i] * y[i];
+}
+
+/** The built-in ReLU's f and f′ on a[0..n) (its own loop in `activations.ts`; f″ not written). */
+export function relu(a: Float64Array, f: Float64Array, d1: Float64Array, n: number): void {
+  builtinRelu.evaluate(a, f, d1, null, n);
 }

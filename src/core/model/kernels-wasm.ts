@@ -20,6 +20,8 @@ interface NetworkExports {
   outerBias(gb: number, d: number, n: number, units: number): void;
   backprop(w: number, d: number, n: number, fanIn: number, units: number, dst: number, accumulate: number, zero: number, pack: number): void;
   finite(p: number, count: number): number;
+  relu(a: number, f: number, d1: number, n: number): void;
+  hadamard(x: number, y: number, n: number, dst: number): void;
 }
 
 const align16 = (bytes: number): number => (bytes + 15) & ~15;
@@ -64,6 +66,14 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
       const w = src.byteOffset + 8 * p.wOff;
       if (!ours(src, d, dst) || ex.finite(w, p.units * p.fanIn) === 0) return js.backprop(src, p, d, n, dst, accumulate);
       ex.backprop(w, d.byteOffset, n, p.fanIn, p.units, dst.byteOffset, accumulate ? 1 : 0, zero, pack);
+    },
+    hadamard(x, y, n, dst) {
+      if (!ours(x, y, dst)) return js.hadamard(x, y, n, dst);
+      ex.hadamard(x.byteOffset, y.byteOffset, n, dst.byteOffset);
+    },
+    relu(a, f, d1, n) {
+      if (!ours(a, f, d1)) return js.relu(a, f, d1, n);
+      ex.relu(a.byteOffset, f.byteOffset, d1.byteOffset, n);
     },
   };
   return { kernels, arrays };

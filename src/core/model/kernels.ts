@@ -31,6 +31,10 @@ export interface MatrixKernels {
   outer(g: Float64Array, p: LayerShape, d: Float64Array, inp: Float64Array, n: number, withBias: boolean): void;
   /** dst[r, i] (=|+=) Σ_o M[o, i]·d[r, o], o ascending — the transpose product. */
   backprop(src: Float64Array, p: LayerShape, d: Float64Array, n: number, dst: Float64Array, accumulate: boolean): void;
+  /** dst[i] = x[i]·y[i] for i < n (the chain rule's elementwise products: δa = δh ⊙ f′). */
+  hadamard(x: Float64Array, y: Float64Array, n: number, dst: Float64Array): void;
+  /** The built-in ReLU on a[0..n): f = a where a > 0 else +0, f′ = 1 where a > 0 else +0 (f″ is not written). */
+  relu(a: Float64Array, f: Float64Array, d1: Float64Array, n: number): void;
 }
 
 /** The plain-JavaScript kernels (the reference the SIMD kernels match). */
@@ -39,6 +43,8 @@ export const scalarKernels: MatrixKernels = {
   dense: js.dense,
   outer: js.accumulateOuter,
   backprop: js.backprop,
+  hadamard: js.hadamard,
+  relu: js.relu,
 };
 
 /** Kernels with the zeroed work arrays they run on. */

@@ -21,12 +21,14 @@
 import type { DataSetup, LossExpression, LossName, NetworkModel } from '../setup';
 import { expressionLoss } from './expression';
 import type { Objective, ParamBlock, Rows } from '../objective';
-import { layerActivation, type Activation } from './activations';
+import { activation, layerActivation, type Activation } from './activations';
 import { lossFunction, type Loss } from './losses';
 import { matrixKernels, type LayerShape, type MatrixKernels } from './kernels';
 
 interface LayerPlan extends LayerShape {
   act: Activation;
+  /** The built-in ReLU (not an override): the kernels' vectorized loop gives its bits. */
+  relu: boolean;
 }
 
 /** Per-layer buffers, each `maxRows × units`. */
@@ -124,13 +126,11 @@ export class Network implements Objective {
   constructor(model: NetworkModel, data: DataSetup, loss: LossName, l2: number, options: NetworkOptions = {}) {
     if (data.inputs !== model.inputs) throw new Error(`data has ${data.inputs} input columns but model.inputs is ${model.inputs}`);
     this.blocks = networkBlocks(model.inputs, model.layers.map((l) => l.units));
-    this.plan = model.layers.map((layer, l) => ({
-      fanIn: this.blocks[2 * l].shape[1],
-      units: layer.units,
-      act: options.activationOf?.(l) ?? layerActivation(layer),
-      wOff: this.blocks[2 * l].offset,
-      bOff: this.blocks[2 * l + 1].offset,
-    }));
+    const relu = activation('relu');
+    this.plan = model.layers.map((layer, l) => {
+      const act = options.activationOf?.(l) ?? layerActivation(layer);
+      return { fanIn: this.blocks[2 * l].shape[1], units: layer.units, act, relu: act === relu, wOff: this.blocks[2 * l].offset, bOff: this.blocks[2 * l + 1].offset };
+    });
     const last = this.blocks[this.blocks.length - 1];
     const P = last.offset + last.size;
     this.parameterCount = P;
@@ -204,8 +204,7 @@ export class Network implements Objective {
       for (let l = L - 1; l >= 0; l--) {
         const p = this.plan[l];
         const { dh, d1, da } = this.work[l];
-        const m = n * p.units;
-        for (let i = 0; i < m; i++) da[i] = dh[i] * d1[i];
+        this.k.hadamard(dh, d1, n * p.units, da);
         if (l > 0) this.k.backprop(wk, p, da, n, this.work[l - 1].dh, false);
       }
       this.keep('hessian', w, rows);
@@ -353,7 +352,11 @@ export class Network implements Objective {
       const wk = this.work[l];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
       this.k.dense(w, p, inp, n, wk.a, true, false);
-      p.act.evaluate(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, n * p.units);
+      const m = n * p.units;
+      if (p.relu) {
+        this.k.relu(wk.a, wk.h, wk.d1, m);
+        if (withSecond) wk.d2.fill(0, 0, m);
+      } else p.act.evaluate(wk.a, wk.h, wk.d1, withSecond ? wk.d2 : null, m);
     }
   }
 
@@ -365,8 +368,7 @@ export class Network implements Objective {
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
       this.k.dense(v, p, inp, n, wk.ra, true, false);
       if (l > 0) this.k.dense(w, p, this.work[l - 1].rh, n, wk.ra, false, true);
-      const m = n * p.units;
-      for (let i = 0; i < m; i++) wk.rh[i] = wk.d1[i] * wk.ra[i];
+      this.k.hadamard(wk.d1, wk.ra, n * p.units, wk.rh);
     }
   }
 
@@ -375,10 +377,9 @@ export class Network implements Objective {
     for (let l = this.plan.length - 1; l >= 0; l--) {
       const p = this.plan[l];
       const wk = this.work[l];
-      const m = n * p.units;
       let da = wk.da;
       if (p.act.identity) da = wk.dh;
-      else for (let i = 0; i < m; i++) da[i] = wk.dh[i] * wk.d1[i];
+      else this.k.hadamard(wk.dh, wk.d1, n * p.units, da);
       this.k.outer(g, p, da, l === 0 ? this.xin : this.work[l - 1].h, n, true);
       if (l > 0) this.k.backprop(w, p, da, n, this.work[l - 1].dh, false);
     }

@@ -85,8 +85,35 @@
         (local.set $a2 (i32.add (local.get $a2) (local.get $aStep)))
         (local.set $b (i32.add (local.get $b) (local.get $bStep)))
         (br_if $next (local.tee $k (i32.sub (local.get $k) (i32.const 1))))))
-    ;; Spill the tile to the staging area first: values live across a call would be spilled
-    ;; inside the loop by the engine's register allocator (measured: half the speed).
+    ;; A full tile is stored straight to C (p + v when adding, as $put): with a short k loop
+    ;; (a last layer of ten units) staging and nine $put calls cost as much as the products.
+    (if (i32.and (i32.eq (local.get $rows) (i32.const 3)) (i32.eq (local.get $cols) (i32.const 6)))
+      (then
+        (local.set $a1 (i32.add (local.get $c) (local.get $cRow)))
+        (local.set $a2 (i32.add (local.get $a1) (local.get $cRow)))
+        (if (local.get $add)
+          (then
+            (local.set $x00 (f64x2.add (v128.load offset=0 (local.get $c)) (local.get $x00)))
+            (local.set $x01 (f64x2.add (v128.load offset=16 (local.get $c)) (local.get $x01)))
+            (local.set $x02 (f64x2.add (v128.load offset=32 (local.get $c)) (local.get $x02)))
+            (local.set $x10 (f64x2.add (v128.load offset=0 (local.get $a1)) (local.get $x10)))
+            (local.set $x11 (f64x2.add (v128.load offset=16 (local.get $a1)) (local.get $x11)))
+            (local.set $x12 (f64x2.add (v128.load offset=32 (local.get $a1)) (local.get $x12)))
+            (local.set $x20 (f64x2.add (v128.load offset=0 (local.get $a2)) (local.get $x20)))
+            (local.set $x21 (f64x2.add (v128.load offset=16 (local.get $a2)) (local.get $x21)))
+            (local.set $x22 (f64x2.add (v128.load offset=32 (local.get $a2)) (local.get $x22)))))
+        (v128.store offset=0 (local.get $c) (local.get $x00))
+        (v128.store offset=16 (local.get $c) (local.get $x01))
+        (v128.store offset=32 (local.get $c) (local.get $x02))
+        (v128.store offset=0 (local.get $a1) (local.get $x10))
+        (v128.store offset=16 (local.get $a1) (local.get $x11))
+        (v128.store offset=32 (local.get $a1) (local.get $x12))
+        (v128.store offset=0 (local.get $a2) (local.get $x20))
+        (v128.store offset=16 (local.get $a2) (local.get $x21))
+        (v128.store offset=32 (local.get $a2) (local.get $x22))
+        (return)))
+    ;; A partial tile goes through the staging area: values live across a call would be
+    ;; spilled inside the loop by the engine's register allocator (measured: half the speed).
     (v128.store offset=64 (i32.const 0) (local.get $x00))
     (v128.store offset=80 (i32.const 0) (local.get $x01))
     (v128.store offset=96 (i32.const 0) (local.get $x02))
@@ -171,7 +198,31 @@
   ;; Copies columns [col, col + width) of the rows×stride matrix at $src (zeros past $cols) into
   ;; a rows×width panel at $dst, row after row: the panel a tile reads sequentially.
   (func $panel (param $src i32) (param $rows i32) (param $stride i32) (param $cols i32) (param $col i32) (param $width i32) (param $dst i32)
-    (local $r i32) (local $j i32) (local $p i32)
+    (local $r i32) (local $j i32) (local $p i32) (local $step i32)
+    ;; Whole panels of six or three columns move as f64x2 pairs (a copy: same bits).
+    (if (i32.le_u (i32.add (local.get $col) (local.get $width)) (local.get $cols))
+      (then
+        (local.set $p (i32.add (local.get $src) (i32.shl (local.get $col) (i32.const 3))))
+        (local.set $step (i32.shl (local.get $stride) (i32.const 3)))
+        (if (i32.eq (local.get $width) (i32.const 6))
+          (then
+            (loop $six
+              (v128.store offset=0 (local.get $dst) (v128.load offset=0 (local.get $p)))
+              (v128.store offset=16 (local.get $dst) (v128.load offset=16 (local.get $p)))
+              (v128.store offset=32 (local.get $dst) (v128.load offset=32 (local.get $p)))
+              (local.set $p (i32.add (local.get $p) (local.get $step)))
+              (local.set $dst (i32.add (local.get $dst) (i32.const 48)))
+              (br_if $six (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 1))) (local.get $rows))))
+            (return)))
+        (if (i32.eq (local.get $width) (i32.const 3))
+          (then
+            (loop $three
+              (v128.store offset=0 (local.get $dst) (v128.load offset=0 (local.get $p)))
+              (f64.store offset=16 (local.get $dst) (f64.load offset=16 (local.get $p)))
+              (local.set $p (i32.add (local.get $p) (local.get $step)))
+              (local.set $dst (i32.add (local.get $dst) (i32.const 24)))
+              (br_if $three (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 1))) (local.get $rows))))
+            (return)))))
     (loop $rows_loop
       (local.set $p (i32.add (local.get $src) (i32.shl (i32.add (i32.mul (local.get $r) (local.get $stride)) (local.get $col)) (i32.const 3))))
       (local.set $j (i32.const 0))
@@ -276,6 +327,45 @@
           (i32.const 0))
         (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n))))
       (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn)))))
+
+  ;; ReLU of the n doubles at $a: f = a where a > 0, else +0; d1 = 1 where a > 0, else +0 — the
+  ;; bits of the scalar loop in core/model/activations.ts (a NaN fails a > 0 there and here;
+  ;; a compare mask ANDed with a gives a's bits or all-zero bits, which is +0).
+  (func (export "relu") (param $a i32) (param $f i32) (param $d1 i32) (param $n i32)
+    (local $end i32) (local $x v128) (local $m v128) (local $one v128) (local $s f64)
+    (local.set $one (f64x2.splat (f64.const 1)))
+    (local.set $end (i32.add (local.get $a) (i32.shl (i32.and (local.get $n) (i32.const -2)) (i32.const 3))))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_u (local.get $a) (local.get $end)))
+        (local.set $x (v128.load (local.get $a)))
+        (local.set $m (f64x2.gt (local.get $x) (v128.const f64x2 0 0)))
+        (v128.store (local.get $f) (v128.and (local.get $x) (local.get $m)))
+        (v128.store (local.get $d1) (v128.and (local.get $one) (local.get $m)))
+        (local.set $a (i32.add (local.get $a) (i32.const 16)))
+        (local.set $f (i32.add (local.get $f) (i32.const 16)))
+        (local.set $d1 (i32.add (local.get $d1) (i32.const 16)))
+        (br $pairs)))
+    (if (i32.and (local.get $n) (i32.const 1))
+      (then
+        (local.set $s (f64.load (local.get $a)))
+        (f64.store (local.get $f) (select (local.get $s) (f64.const 0) (f64.gt (local.get $s) (f64.const 0))))
+        (f64.store (local.get $d1) (select (f64.const 1) (f64.const 0) (f64.gt (local.get $s) (f64.const 0)))))))
+
+  ;; dst[i] = x[i]·y[i] for i < n (each product rounded once, as the scalar loop).
+  (func (export "hadamard") (param $x i32) (param $y i32) (param $n i32) (param $dst i32)
+    (local $end i32)
+    (local.set $end (i32.add (local.get $x) (i32.shl (i32.and (local.get $n) (i32.const -2)) (i32.const 3))))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_u (local.get $x) (local.get $end)))
+        (v128.store (local.get $dst) (f64x2.mul (v128.load (local.get $x)) (v128.load (local.get $y))))
+        (local.set $x (i32.add (local.get $x) (i32.const 16)))
+        (local.set $y (i32.add (local.get $y) (i32.const 16)))
+        (local.set $dst (i32.add (local.get $dst) (i32.const 16)))
+        (br $pairs)))
+    (if (i32.and (local.get $n) (i32.const 1))
+      (then (f64.store (local.get $dst) (f64.mul (f64.load (local.get $x)) (f64.load (local.get $y)))))))
 
   ;; 1 when every one of the $count doubles at $p is finite, else 0 (x − x is 0 exactly for a
   ;; finite x and NaN for ±∞ and NaN, and a NaN survives every later addition).

@@ -8,6 +8,7 @@
  */
 import { matrixKernels, type LayerShape, type MatrixKernels } from '../../../src/core/model/kernels';
 import { Rng } from '../../../src/core/rng';
+import { activation } from '../../../src/core/model/activations';
 
 const SIZES = [1, 2, 3, 4, 5, 6, 7, 11, 13, 17];
 const SHAPES: [number, number, number][] = [];
@@ -86,5 +87,61 @@ describe('the SIMD matrix kernels give the bits of the plain-JavaScript loops', 
     // source: IEEE 754-2019 §4.3 round-to-nearest — (a + b) + c and a + (b + c) differ for these three.
     const a = 1e16, b = -1e16, c = 1;
     expect((a + b) + c).not.toBe(a + (b + c));
+  });
+});
+
+describe('the SIMD elementwise kernels give the bits of the plain-JavaScript loops', () => {
+  // Signed zeros, infinities, NaN, subnormals and values either side of zero: where ReLU's
+  // comparison and a product's sign are decided (common practice (no single source)).
+  const SPECIAL = [0, -0, Infinity, -Infinity, NaN, 5e-324, -5e-324, 1e-300, -1e-300, 1, -1, 0.5, -2.5, 1e300, -1e300];
+
+  /** Arrays of length n in the kernels' memory (SIMD) or plain (scalar), filled alike from `seed`. */
+  function filled(n: number, seed: number, simd: boolean): { k: MatrixKernels; a: Float64Array; b: Float64Array; f: Float64Array; d: Float64Array } {
+    const space = matrixKernels([n, n, n, n], 4, simd);
+    const [a, b, f, d] = space.arrays;
+    const rng = Rng.fromSeed(seed);
+    for (let i = 0; i < n; i++) {
+      a[i] = rng.uniform() < 0.5 ? SPECIAL[Math.floor(rng.uniform() * SPECIAL.length)] : rng.normal();
+      b[i] = rng.uniform() < 0.5 ? SPECIAL[Math.floor(rng.uniform() * SPECIAL.length)] : rng.normal();
+    }
+    // Stale values the kernels must overwrite everywhere.
+    f.fill(7);
+    d.fill(-7);
+    return { k: space.kernels, a, b, f, d };
+  }
+
+  const LENGTHS = [1, 2, 3, 4, 5, 16, 17, 255, 1024];
+  it(`cover ${LENGTHS.length} lengths`, () => {
+    expect(LENGTHS.length).toBe(9);
+  });
+
+  it.each(LENGTHS)('relu and hadamard, n = %i', (n) => {
+    const s = filled(n, n, true);
+    const j = filled(n, n, false);
+    expect(s.k.kind).toBe('simd');
+    expect(j.k.kind).toBe('scalar');
+    s.k.relu(s.a, s.f, s.d, n);
+    j.k.relu(j.a, j.f, j.d, n);
+    expect(firstDifference(s.f, j.f)).toBe(-1);
+    expect(firstDifference(s.d, j.d)).toBe(-1);
+    // The built-in activation's own loop, f″ aside, is what both match.
+    const f = new Float64Array(n), d1 = new Float64Array(n);
+    activation('relu').evaluate(j.a, f, d1, null, n);
+    expect(firstDifference(s.f, f)).toBe(-1);
+    expect(firstDifference(s.d, d1)).toBe(-1);
+    s.k.hadamard(s.a, s.b, n, s.f);
+    j.k.hadamard(j.a, j.b, n, j.f);
+    expect(firstDifference(s.f, j.f)).toBe(-1);
+    for (let i = 0; i < n; i++) expect(Object.is(s.f[i], s.a[i] * s.b[i]) || Number.isNaN(s.f[i])).toBe(true);
+  });
+
+  it('relu maps −0, NaN and the smallest subnormals as the scalar comparison does', () => {
+    const space = matrixKernels([7, 7, 7], 4, true);
+    const [a, f, d] = space.arrays;
+    a.set([-0, NaN, 5e-324, -5e-324, Infinity, -Infinity, 0]);
+    space.kernels.relu(a, f, d, 7);
+    // source: IEEE 754-2019 §5.11 — comparisons with NaN are false and −0 > 0 is false.
+    expect(Array.from(f).map((x) => (Object.is(x, -0) ? '-0' : String(x)))).toEqual(['0', '0', '5e-324', '0', 'Infinity', '0', '0']);
+    expect(Array.from(d)).toEqual([0, 0, 1, 0, 1, 0, 0]);
   });
 });
