@@ -285,18 +285,27 @@
       (br_if $chunks (i32.lt_u (local.tee $r (i32.add (local.get $r) (local.get $kc))) (local.get $n)))))
 
   ;; gb[o] += Σ_r d[r, o], r in order, for o < units (the bias part of the outer product).
+  ;; Rows are the outer loop, so d is read once, in order, while gb (one row) stays in the L1
+  ;; cache; each gb[o] still receives d[0, o], d[1, o], … one after another.
   (func (export "outerBias") (param $gb i32) (param $d i32) (param $n i32) (param $units i32)
-    (local $o i32) (local $r i32) (local $p i32) (local $acc v128)
-    (loop $pairs
-      (local.set $acc (v128.load (i32.add (local.get $gb) (i32.shl (local.get $o) (i32.const 3)))))
-      (local.set $p (i32.add (local.get $d) (i32.shl (local.get $o) (i32.const 3))))
-      (local.set $r (local.get $n))
-      (loop $rows
-        (local.set $acc (f64x2.add (local.get $acc) (v128.load (local.get $p))))
-        (local.set $p (i32.add (local.get $p) (i32.shl (local.get $units) (i32.const 3))))
-        (br_if $rows (local.tee $r (i32.sub (local.get $r) (i32.const 1)))))
-      (call $put (i32.add (local.get $gb) (i32.shl (local.get $o) (i32.const 3))) (local.get $acc) (i32.sub (local.get $units) (local.get $o)) (i32.const 0))
-      (br_if $pairs (i32.lt_u (local.tee $o (i32.add (local.get $o) (i32.const 2))) (local.get $units)))))
+    (local $o i32) (local $r i32) (local $p i32) (local $q i32) (local $pairs i32)
+    (local.set $pairs (i32.and (local.get $units) (i32.const -2)))
+    (loop $rows
+      (local.set $o (i32.const 0))
+      (local.set $p (local.get $d))
+      (local.set $q (local.get $gb))
+      (block $done
+        (loop $cols
+          (br_if $done (i32.ge_u (local.get $o) (local.get $pairs)))
+          (v128.store (local.get $q) (f64x2.add (v128.load (local.get $q)) (v128.load (local.get $p))))
+          (local.set $p (i32.add (local.get $p) (i32.const 16)))
+          (local.set $q (i32.add (local.get $q) (i32.const 16)))
+          (local.set $o (i32.add (local.get $o) (i32.const 2)))
+          (br $cols)))
+      (if (i32.and (local.get $units) (i32.const 1))
+        (then (f64.store (local.get $q) (f64.add (f64.load (local.get $q)) (f64.load (local.get $p))))))
+      (local.set $d (i32.add (local.get $d) (i32.shl (local.get $units) (i32.const 3))))
+      (br_if $rows (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 1))) (local.get $n)))))
 
   ;; dst[r, i] (=|+=) Σ_o d[r, o]·W[o, i], o in order, for r < n, i < fanIn (W units×fanIn,
   ;; d n×units, dst n×fanIn). Without $accumulate each sum starts from the 48 zero bytes at

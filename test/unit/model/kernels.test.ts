@@ -141,7 +141,7 @@ describe('the SIMD elementwise kernels give the bits of the plain-JavaScript loo
     a.set([-0, NaN, 5e-324, -5e-324, Infinity, -Infinity, 0]);
     space.kernels.relu(a, f, d, 7);
     // source: IEEE 754-2019 §5.11 — comparisons with NaN are false and −0 > 0 is false.
-    expect(Array.from(f).map((x) => (Object.is(x, -0) ? '-0' : String(x)))).toEqual(['0', '0', '5e-324', '0', 'Infinity', '0', '0']);
+    expect(Array.from(f).map((x) => Object.is(x, -0) ? '-0' : String(x))).toEqual(['0', '0', '5e-324', '0', 'Infinity', '0', '0']);
     expect(Array.from(d)).toEqual([0, 0, 1, 0, 1, 0, 0]);
   });
 });
