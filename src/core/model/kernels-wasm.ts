@@ -36,9 +36,9 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * widest + 16);
   const zero = 0;
-  // Scratch for packed panels: Wᵀ of `dense`, a 128-row chunk of x and d for `outer`, six columns of W for `backprop`.
+  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns of W for `backprop`.
   const pack = 256;
-  const packLength = Math.max((widest + 1) * (widest + 6), 128 * (2 * widest + 9), 6 * widest);
+  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest);
   let end = align16(pack + 8 * packLength + slack);
   const offsets = lengths.map((n) => {
     const at = end;

@@ -236,17 +236,17 @@
       (br_if $rows_loop (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 1))) (local.get $rows)))))
 
   ;; g[o, i] += Σ_r d[r, o]·x[r, i], r in order, for o < units, i < fanIn (g units×fanIn,
-  ;; d n×units, x n×fanIn). Rows go in chunks of 128; each chunk's x is packed into panels of
+  ;; d n×units, x n×fanIn). Rows go in chunks of 256; each chunk's x is packed into panels of
   ;; six columns and its d into panels of three, so every tile reads two short sequential
   ;; panels, and each chunk continues the sums the previous one stored. $pack holds
-  ;; 128·(F + O) entries, F = fanIn rounded up to a multiple of 6, O = units up to one of 3.
+  ;; 256·(F + O) entries, F = fanIn rounded up to a multiple of 6, O = units up to one of 3.
   (func (export "outer")
     (param $g i32) (param $d i32) (param $x i32) (param $n i32) (param $fanIn i32) (param $units i32) (param $pack i32)
     (local $r i32) (local $kc i32) (local $i i32) (local $o i32) (local $gp i32) (local $dpack i32) (local $f i32)
     (local.set $f (i32.mul (i32.div_u (i32.add (local.get $fanIn) (i32.const 5)) (i32.const 6)) (i32.const 6)))
-    (local.set $dpack (i32.add (local.get $pack) (i32.shl (i32.mul (i32.const 128) (local.get $f)) (i32.const 3))))
+    (local.set $dpack (i32.add (local.get $pack) (i32.shl (i32.mul (i32.const 256) (local.get $f)) (i32.const 3))))
     (loop $chunks
-      (local.set $kc (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 128)))
+      (local.set $kc (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 256)))
       (local.set $i (i32.const 0))
       (loop $xpanels
         (call $panel

@@ -1,7 +1,7 @@
 /**
  * The WebAssembly SIMD kernels against the plain-JavaScript loops they replace: identical bits
  * on many shapes — 1-wide, odd, one past and one short of the tile sizes (3 rows × 6 columns),
- * more rows than one 128-row chunk — with exact zeros in the coefficients (as ReLU layers
+ * more rows than one 256-row chunk — with exact zeros in the coefficients (as ReLU layers
  * make them) and with non-finite operands (which the SIMD path hands to the loops). Bit
  * equality is the check: the two paths must add the same products in the same order
  * (common practice (no single source): IEEE-754 addition is deterministic but not associative).
