@@ -133,6 +133,11 @@ export function hadamard(x: Float64Array, y: Float64Array, n: number, dst: Float
   for (let i = 0; i < n; i++) dst[i] = x[i] * y[i];
 }
 
+/** dst[i] = rdh[i]·d1[i] + dh[i]·d2[i]·ra[i] for i < n. */
+export function rDelta(rdh: Float64Array, d1: Float64Array, dh: Float64Array, d2: Float64Array, ra: Float64Array, n: number, dst: Float64Array): void {
+  for (let i = 0; i < n; i++) dst[i] = rdh[i] * d1[i] + dh[i] * d2[i] * ra[i];
+}
+
 /** The built-in ReLU's f and f′ on a[0..n) (its own loop in `activations.ts`; f″ not written). */
 export function relu(a: Float64Array, f: Float64Array, d1: Float64Array, n: number): void {
   builtinRelu.evaluate(a, f, d1, null, n);

@@ -22,6 +22,7 @@ interface NetworkExports {
   finite(p: number, count: number): number;
   relu(a: number, f: number, d1: number, n: number): void;
   hadamard(x: number, y: number, n: number, dst: number): void;
+  rDelta(rdh: number, d1: number, dh: number, d2: number, ra: number, n: number, dst: number): void;
 }
 
 const align16 = (bytes: number): number => (bytes + 15) & ~15;
@@ -70,6 +71,10 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
     hadamard(x, y, n, dst) {
       if (!ours(x, y, dst)) return js.hadamard(x, y, n, dst);
       ex.hadamard(x.byteOffset, y.byteOffset, n, dst.byteOffset);
+    },
+    rDelta(rdh, d1, dh, d2, ra, n, dst) {
+      if (!ours(rdh, d1, dh, d2, ra, dst)) return js.rDelta(rdh, d1, dh, d2, ra, n, dst);
+      ex.rDelta(rdh.byteOffset, d1.byteOffset, dh.byteOffset, d2.byteOffset, ra.byteOffset, n, dst.byteOffset);
     },
     relu(a, f, d1, n) {
       if (!ours(a, f, d1)) return js.relu(a, f, d1, n);

@@ -33,6 +33,8 @@ export interface MatrixKernels {
   backprop(src: Float64Array, p: LayerShape, d: Float64Array, n: number, dst: Float64Array, accumulate: boolean): void;
   /** dst[i] = x[i]·y[i] for i < n (the chain rule's elementwise products: δa = δh ⊙ f′). */
   hadamard(x: Float64Array, y: Float64Array, n: number, dst: Float64Array): void;
+  /** dst[i] = rdh[i]·d1[i] + dh[i]·d2[i]·ra[i] for i < n (R{δa} of the R-operator, in that order). */
+  rDelta(rdh: Float64Array, d1: Float64Array, dh: Float64Array, d2: Float64Array, ra: Float64Array, n: number, dst: Float64Array): void;
   /** The built-in ReLU on a[0..n): f = a where a > 0 else +0, f′ = 1 where a > 0 else +0 (f″ is not written). */
   relu(a: Float64Array, f: Float64Array, d1: Float64Array, n: number): void;
 }
@@ -44,6 +46,7 @@ export const scalarKernels: MatrixKernels = {
   outer: js.accumulateOuter,
   backprop: js.backprop,
   hadamard: js.hadamard,
+  rDelta: js.rDelta,
   relu: js.relu,
 };
 

@@ -218,8 +218,7 @@ export class Network implements Objective {
     for (let l = L - 1; l >= 0; l--) {
       const p = this.plan[l];
       const { dh, rdh, d1, d2, ra, da, rda } = this.work[l];
-      const m = n * p.units;
-      for (let i = 0; i < m; i++) rda[i] = rdh[i] * d1[i] + dh[i] * d2[i] * ra[i];
+      this.k.rDelta(rdh, d1, dh, d2, ra, n * p.units, rda);
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
       this.k.outer(g, p, rda, inp, n, true);
       if (l > 0) {

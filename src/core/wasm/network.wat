@@ -376,6 +376,31 @@
     (if (i32.and (local.get $n) (i32.const 1))
       (then (f64.store (local.get $dst) (f64.mul (f64.load (local.get $x)) (f64.load (local.get $y)))))))
 
+  ;; dst[i] = rdh[i]·d1[i] + (dh[i]·d2[i])·ra[i] for i < n: R{δa} of the R-operator, each product
+  ;; rounded on its own and added in the order of the scalar expression.
+  (func (export "rDelta") (param $rdh i32) (param $d1 i32) (param $dh i32) (param $d2 i32) (param $ra i32) (param $n i32) (param $dst i32)
+    (local $k i32) (local $end i32)
+    (local.set $end (i32.shl (i32.and (local.get $n) (i32.const -2)) (i32.const 3)))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_u (local.get $k) (local.get $end)))
+        (v128.store (i32.add (local.get $dst) (local.get $k))
+          (f64x2.add
+            (f64x2.mul (v128.load (i32.add (local.get $rdh) (local.get $k))) (v128.load (i32.add (local.get $d1) (local.get $k))))
+            (f64x2.mul
+              (f64x2.mul (v128.load (i32.add (local.get $dh) (local.get $k))) (v128.load (i32.add (local.get $d2) (local.get $k))))
+              (v128.load (i32.add (local.get $ra) (local.get $k))))))
+        (local.set $k (i32.add (local.get $k) (i32.const 16)))
+        (br $pairs)))
+    (if (i32.and (local.get $n) (i32.const 1))
+      (then
+        (f64.store (i32.add (local.get $dst) (local.get $k))
+          (f64.add
+            (f64.mul (f64.load (i32.add (local.get $rdh) (local.get $k))) (f64.load (i32.add (local.get $d1) (local.get $k))))
+            (f64.mul
+              (f64.mul (f64.load (i32.add (local.get $dh) (local.get $k))) (f64.load (i32.add (local.get $d2) (local.get $k))))
+              (f64.load (i32.add (local.get $ra) (local.get $k)))))))))
+
   ;; 1 when every one of the $count doubles at $p is finite, else 0 (x − x is 0 exactly for a
   ;; finite x and NaN for ±∞ and NaN, and a NaN survives every later addition).
   (func (export "finite") (param $p i32) (param $count i32) (result i32)

@@ -96,18 +96,17 @@ describe('the SIMD elementwise kernels give the bits of the plain-JavaScript loo
   const SPECIAL = [0, -0, Infinity, -Infinity, NaN, 5e-324, -5e-324, 1e-300, -1e-300, 1, -1, 0.5, -2.5, 1e300, -1e300];
 
   /** Arrays of length n in the kernels' memory (SIMD) or plain (scalar), filled alike from `seed`. */
-  function filled(n: number, seed: number, simd: boolean): { k: MatrixKernels; a: Float64Array; b: Float64Array; f: Float64Array; d: Float64Array } {
-    const space = matrixKernels([n, n, n, n], 4, simd);
-    const [a, b, f, d] = space.arrays;
+  function filled(n: number, seed: number, simd: boolean): { k: MatrixKernels; a: Float64Array; b: Float64Array; c: Float64Array; e: Float64Array; q: Float64Array; f: Float64Array; d: Float64Array } {
+    const space = matrixKernels([n, n, n, n, n, n, n], 4, simd);
+    const [a, b, c, e, q, f, d] = space.arrays;
     const rng = Rng.fromSeed(seed);
-    for (let i = 0; i < n; i++) {
-      a[i] = rng.uniform() < 0.5 ? SPECIAL[Math.floor(rng.uniform() * SPECIAL.length)] : rng.normal();
-      b[i] = rng.uniform() < 0.5 ? SPECIAL[Math.floor(rng.uniform() * SPECIAL.length)] : rng.normal();
+    for (const x of [a, b, c, e, q]) {
+      for (let i = 0; i < n; i++) x[i] = rng.uniform() < 0.5 ? SPECIAL[Math.floor(rng.uniform() * SPECIAL.length)] : rng.normal();
     }
     // Stale values the kernels must overwrite everywhere.
     f.fill(7);
     d.fill(-7);
-    return { k: space.kernels, a, b, f, d };
+    return { k: space.kernels, a, b, c, e, q, f, d };
   }
 
   const LENGTHS = [1, 2, 3, 4, 5, 16, 17, 255, 1024];
@@ -115,7 +114,7 @@ describe('the SIMD elementwise kernels give the bits of the plain-JavaScript loo
     expect(LENGTHS.length).toBe(9);
   });
 
-  it.each(LENGTHS)('relu and hadamard, n = %i', (n) => {
+  it.each(LENGTHS)('relu, hadamard and rDelta, n = %i', (n) => {
     const s = filled(n, n, true);
     const j = filled(n, n, false);
     expect(s.k.kind).toBe('simd');
@@ -133,6 +132,9 @@ describe('the SIMD elementwise kernels give the bits of the plain-JavaScript loo
     j.k.hadamard(j.a, j.b, n, j.f);
     expect(firstDifference(s.f, j.f)).toBe(-1);
     for (let i = 0; i < n; i++) expect(Object.is(s.f[i], s.a[i] * s.b[i]) || Number.isNaN(s.f[i])).toBe(true);
+    s.k.rDelta(s.a, s.b, s.c, s.e, s.q, n, s.d);
+    j.k.rDelta(j.a, j.b, j.c, j.e, j.q, n, j.d);
+    expect(firstDifference(s.d, j.d)).toBe(-1);
   });
 
   it('relu maps −0, NaN and the smallest subnormals as the scalar comparison does', () => {
