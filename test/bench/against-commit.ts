@@ -1,0 +1,123 @@
+/**
+ * Before and after a speed change, in one process, interleaved: the network and its kernels as
+ * they are in the working tree against the same files at an earlier commit (`git archive` of its
+ * `src/` into `test-output/`, gitignored, so its imports resolve against this node_modules).
+ * Both sides get the same weights, rows and direction; each round runs both, in alternating
+ * order, and the median process CPU time per call is compared, so load from other work on a
+ * shared machine slows both sides alike. Every row also says whether both sides produced the
+ * same bits (a speed change must not move one).
+ *
+ *   npx tsx test/bench/against-commit.ts <commit>     e.g. main, HEAD~3 or a hash
+ *
+ * Prints; writes nothing but the extracted tree.
+ */
+import { execFileSync } from 'node:child_process';
+import { existsSync, mkdirSync } from 'node:fs';
+import { loadavg } from 'node:os';
+import { join } from 'node:path';
+import { Network } from '../../src/core/model/network';
+import { matrixKernels } from '../../src/core/model/kernels';
+import { initNetwork } from '../../src/core/model/init';
+import { Rng } from '../../src/core/rng';
+import type { NetworkModel } from '../../src/core/setup';
+import { MLPS } from './compare';
+
+type NetworkClass = typeof Network;
+type KernelsFn = typeof matrixKernels;
+
+const root = join(__dirname, '..', '..');
+
+/** The commit's `src/` extracted once into test-output/against-<hash>/src. */
+function extract(commit: string): string {
+  const hash = execFileSync('git', ['rev-parse', '--short=12', commit], { cwd: root, encoding: 'utf8' }).trim();
+  const dir = join(root, 'test-output', `against-${hash}`);
+  if (!existsSync(join(dir, 'src'))) {
+    mkdirSync(dir, { recursive: true });
+    const tar = execFileSync('git', ['archive', hash, 'src'], { cwd: root, maxBuffer: 1 << 30 });
+    execFileSync('tar', ['-x', '-C', dir], { input: tar });
+  }
+  return dir;
+}
+
+const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
+
+/** Median CPU ms per call of each side over `rounds` rounds of `reps` calls, sides alternating first. */
+function interleaved(sides: [() => void, () => void], rounds: number, reps: number): [number, number] {
+  const cpu: [number[], number[]] = [[], []];
+  for (let r = 0; r < rounds; r++) {
+    for (const s of r % 2 === 0 ? [0, 1] : [1, 0]) {
+      sides[s]();
+      const c = process.cpuUsage();
+      for (let i = 0; i < reps; i++) sides[s]();
+      const u = process.cpuUsage(c);
+      cpu[s].push((u.user + u.system) / 1000 / reps);
+    }
+  }
+  return [median(cpu[0]), median(cpu[1])];
+}
+
+const sameBits = (a: Float64Array, b: Float64Array): boolean => a.length === b.length && a.every((x, i) => Object.is(x, b[i]));
+
+function line(what: string, [before, after]: [number, number], same: boolean): void {
+  process.stdout.write(`${what.padEnd(44)} before ${before.toFixed(3).padStart(8)} ms  after ${after.toFixed(3).padStart(8)} ms  after/before ${(after / before).toFixed(3)}  same bits ${same}\n`);
+}
+
+async function main(): Promise<void> {
+  const commit = process.argv[2];
+  if (!commit) throw new Error('usage: npx tsx test/bench/against-commit.ts <commit>');
+  const dir = extract(commit);
+  const old = (await import(join(dir, 'src/core/model/network.ts'))) as { Network: NetworkClass };
+  const oldKernels = (await import(join(dir, 'src/core/model/kernels.ts'))) as { matrixKernels: KernelsFn };
+  process.stdout.write(`working tree against ${commit} (CPU time, interleaved); load ${loadavg()[0].toFixed(2)}\n`);
+  for (const c of MLPS.filter((m) => m.name !== 'MLP a')) {
+    const rng = Rng.fromSeed(1);
+    const [inputs, ...units] = c.widths;
+    const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
+    const k = units[units.length - 1];
+    const ce = c.loss === 'cross-entropy';
+    const x = rng.fillNormal(new Float64Array(c.batch * inputs));
+    const y = new Float64Array(ce ? c.batch : c.batch * k);
+    for (let i = 0; i < y.length; i++) y[i] = ce ? rng.int(k) : rng.normal();
+    const data = { rows: c.batch, inputs, targets: ce ? 1 : k, x, y };
+    const nets = [new old.Network(model, data, c.loss, 0), new Network(model, data, c.loss, 0)];
+    const w = initNetwork(model, rng);
+    const P = nets[1].parameterCount;
+    const v = Rng.fromSeed(2).fillNormal(new Float64Array(P));
+    const outs = [new Float64Array(P), new Float64Array(P)];
+    const reps = Math.max(1, Math.round(2e7 / (6 * P * c.batch)));
+    const subject = `${c.name} ${c.widths.join('-')}`;
+    line(`${subject} loss + gradient`, interleaved([() => nets[0].gradient(w, outs[0]), () => nets[1].gradient(w, outs[1])], 9, reps), sameBits(outs[0], outs[1]));
+    line(`${subject} Hv on a kept pass`, interleaved([() => nets[0].hvp(w, v, outs[0]), () => nets[1].hvp(w, v, outs[1])], 9, reps), sameBits(outs[0], outs[1]));
+    const fresh = (s: number) => (): void => { nets[s].forgetPass(); nets[s].hvp(w, v, outs[s]); };
+    line(`${subject} Hv from scratch`, interleaved([fresh(0), fresh(1)], 9, reps), sameBits(outs[0], outs[1]));
+  }
+  for (const [n, fanIn, units] of [[512, 256, 256], [512, 64, 256], [512, 256, 10], [256, 64, 64]]) {
+    const P = units * fanIn + units;
+    const spaces = [oldKernels.matrixKernels, matrixKernels].map((make) => {
+      const s = make([P, n * fanIn, n * units, n * fanIn, P], Math.max(fanIn, units));
+      const rng = Rng.fromSeed(3);
+      for (const a of s.arrays) rng.fillNormal(a);
+      return s;
+    });
+    const p = { fanIn, units, wOff: 0, bOff: units * fanIn };
+    const reps = Math.max(1, Math.round(2e7 / (2 * n * fanIn * units)));
+    const shape = `${n} rows × ${fanIn} in × ${units} out`;
+    const run = (what: 'dense' | 'outer' | 'backprop') => (s: number) => (): void => {
+      const { kernels, arrays: [w, xs, d, out, g] } = spaces[s];
+      if (what === 'dense') kernels.dense(w, p, xs, n, d, true, false);
+      else if (what === 'outer') kernels.outer(g, p, d, xs, n, true);
+      else kernels.backprop(w, p, d, n, out, false);
+    };
+    for (const what of ['dense', 'outer', 'backprop'] as const) {
+      const f = run(what);
+      const t = interleaved([f(0), f(1)], 9, reps);
+      // Both sides made the same calls in the same order, so every array must match.
+      line(`${what} ${shape}`, t, spaces[0].arrays.every((a, i) => sameBits(a, spaces[1].arrays[i])));
+    }
+  }
+}
+
+main().catch((e: unknown) => {
+  process.stderr.write(`${e instanceof Error ? e.message : String(e)}\n`);
+  process.exit(1);
+});
