@@ -67,15 +67,20 @@ export function dot(a: Float64Array, b: Float64Array): number {
 export function norm2(a: Float64Array, offset = 0, size = a.length - offset): number {
   let scale = 0;
   let ssq = 1;
-  for (let i = offset; i < offset + size; i++) {
+  const end = offset + size;
+  for (let i = offset; i < end; i++) {
     const x = a[i];
     if (x !== 0) {
       const ax = Math.abs(x);
+      // One division per entry, named once: V8 does not merge the two equal quotients of
+      // q·q written out twice, and the divider bounds this loop (three times slower so).
       if (scale < ax) {
-        ssq = 1 + ssq * (scale / ax) * (scale / ax);
+        const q = scale / ax;
+        ssq = 1 + ssq * q * q;
         scale = ax;
       } else {
-        ssq += (ax / scale) * (ax / scale);
+        const q = ax / scale;
+        ssq += q * q;
       }
     }
   }
