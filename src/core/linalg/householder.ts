@@ -51,12 +51,25 @@ export interface HouseholderReduction extends Tridiagonal {
 export interface TridiagonalizeOptions {
   /** Use the WebAssembly SIMD kernels when available (default true; false forces the plain-JavaScript loops). */
   simd?: boolean;
-  /** Steps per panel (default 32; 1 applies every update at once, as the unblocked algorithm does). */
+  /**
+   * Steps per panel (default {@link panelSize}: 32, 48 from order 1 000; 1 applies every update
+   * at once, as the unblocked algorithm does).
+   */
   block?: number;
 }
 
-/** Steps whose updates are deferred together: the rank-2k update then does 2·32 terms per entry. */
-const PANEL = 32;
+/**
+ * Steps whose updates are deferred together (the rank-2k update then does 2·nb terms per entry)
+ * for a matrix of order n: 32, and 48 from n = 1 000, where fewer passes of the update over a
+ * triangle that no longer fits the caches measured 5–10 % faster at n = 1 000 and 2 000 (load
+ * average 7–9, so roughly; test/bench/BENCHMARKS.md). Smaller matrices, among them every dense
+ * Hessian of the demo notebooks, keep 32 and the bits of earlier releases.
+ * @param n - order of the matrix.
+ * @returns the default panel size.
+ */
+export function panelSize(n: number): number {
+  return n >= 1000 ? 48 : 32;
+}
 
 /**
  * Reduces the symmetric matrix `a` (n×n, row-major; only the lower triangle j ≤ i is read)
@@ -88,7 +101,7 @@ export function tridiagonalForm(a: Float64Array, n: number, options: Tridiagonal
 function packAndReduce(a: Float64Array, n: number, options: TridiagonalizeOptions): { red: Omit<HouseholderReduction, 'reflectors'>; m: Float64Array } {
   if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
-  const nb = options.block ?? PANEL;
+  const nb = options.block ?? panelSize(n);
   if (!Number.isInteger(nb) || nb < 1) throw new RangeError(`block must be a positive integer, got ${options.block}`);
   // Space: [A's lower triangle packed, row i at i(i+1)/2 | Uᵀ (nb rows of n) | Qᵀ (nb rows) | Uᵀ
   // again | p | coefficients (2·nb) | dots (2·nb) | the update's packing scratch]. Packed rows make the leading block one

@@ -5,6 +5,9 @@
  * kernels' blocking and packing may change only speed, never a readout kept in a notebook.
  */
 import { eigenSpace, syr2kWork } from '../../../src/core/linalg/eigen-kernels';
+import { panelSize, tridiagonalForm } from '../../../src/core/linalg/householder';
+import { eigenvalues } from '../../../src/core/linalg/symmetric-eigen';
+import { tridiagonalQL } from '../../../src/core/linalg/tridiagonal';
 import { Rng } from '../../../src/core/rng';
 
 /** Offsets (doubles) of a packed lower triangle of m rows, `count` rows of X and of Y (stride `stride`), and scratch. */
@@ -61,5 +64,60 @@ describe('syr2k (the rank-2k update of a packed lower triangle)', () => {
     // common practice (no single source): a sum of 10 products of standard normals reordered
     // differs by a few units of its largest partial sum's last place; 1e-13 leaves room.
     for (let i = 0; i < lay.tri; i++) expect(Math.abs(fast.m[i] - slow.m[i])).toBeLessThan(1e-13);
+  });
+});
+
+describe('large orders (panels of 48 from n = 1 000)', () => {
+  /**
+   * A dense symmetric matrix with a known spectrum: H·D·H with D = diag(d) and the Householder
+   * reflector H = I − 2vvᵀ/(vᵀv), built in O(n²) as D − v·wᵀ − w·vᵀ with w = 2Dv/s − 2(vᵀDv)v/s², s = vᵀv.
+   */
+  function reflectedDiagonal(d: Float64Array, seed: number): Float64Array {
+    const n = d.length;
+    const rng = Rng.fromSeed(seed);
+    const v = Float64Array.from({ length: n }, () => rng.normal());
+    let s = 0;
+    let vdv = 0;
+    for (let i = 0; i < n; i++) {
+      s += v[i] * v[i];
+      vdv += v[i] * d[i] * v[i];
+    }
+    const w = Float64Array.from(v, (vi, i) => (2 * d[i] * vi) / s - (2 * vdv * vi) / (s * s));
+    const a = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) a[i * n + j] = (i === j ? d[i] : 0) - v[i] * w[j] - w[i] * v[j];
+    }
+    return a;
+  }
+
+  it('switches to panels of 48 at n = 1 000', () => {
+    expect(panelSize(999)).toBe(32);
+    expect(panelSize(1000)).toBe(48);
+  });
+
+  it('n = 1 000: the spectrum of H·D·H is D', () => {
+    const n = 1000;
+    const d = Float64Array.from({ length: n }, (_, k) => Math.cos((Math.PI * (k + 0.5)) / n) * (1 + (k % 7) / 10));
+    const got = eigenvalues(reflectedDiagonal(d, 5), n);
+    const want = Float64Array.from(d).sort();
+    expect(got).toHaveLength(n);
+    // source: Golub & Van Loan, Matrix Computations, 4th ed., §5.1.2 and §7.1 (a Householder
+    // reflector is orthogonal; similarity keeps eigenvalues); tolerance 1e-12·max|λ| as the
+    // LAPACK golden tests (backward-error scale of a stable solver, common practice).
+    for (let k = 0; k < n; k++) expect(Math.abs(got[k] - want[k])).toBeLessThan(1e-12 * 1.6);
+  });
+
+  it('n = 1 000: the default and explicit panels of 48 give the same bits; panels of 32 agree to rounding', () => {
+    const n = 1000;
+    const a = reflectedDiagonal(Float64Array.from({ length: n }, (_, k) => (k - 500) / 250), 6);
+    const byDefault = tridiagonalForm(a, n);
+    const explicit = tridiagonalForm(a, n, { block: 48 });
+    expect(Array.from(byDefault.diagonal)).toEqual(Array.from(explicit.diagonal));
+    expect(Array.from(byDefault.subdiagonal)).toEqual(Array.from(explicit.subdiagonal));
+    const v48 = tridiagonalQL(byDefault);
+    const v32 = tridiagonalQL(tridiagonalForm(a, n, { block: 32 }));
+    expect(v48).toHaveLength(n);
+    // common practice (no single source): two backward-stable reductions differ by O(n·ε·‖A‖).
+    for (let k = 0; k < n; k++) expect(Math.abs(v48[k] - v32[k])).toBeLessThan(1e-12 * 2);
   });
 });
