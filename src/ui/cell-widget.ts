@@ -117,6 +117,10 @@ export class StepwellCellWidget extends Widget {
   }
 
   private render(s: CellViewState): void {
+    // The readout panel first: plotly measures the page while it draws, which forces a layout of
+    // everything changed before it; drawn first, it finds the page as the last frame left it,
+    // and the lines below are laid out once, in the next frame.
+    this.panels.render(s);
     const step = shownStep(s);
     const atCursor = s.summary === null ? undefined : s.trajectory.find(r => r.step === step);
     const many = (s.summary?.branches.length ?? 0) > 1;
@@ -162,17 +166,23 @@ export class StepwellCellWidget extends Widget {
     this.tabButtons.forEach((b, i) => b.setAttribute('aria-selected', String(i === selected)));
     rovingFocus(this.tabsNode, this.tabButtons, selected, i => this.controller.setTab(READOUT_TABS[i][0]));
     this.renderFindings(s);
-    this.panels.render(s);
   }
 
   /** The findings strip, rebuilt only when the findings (or whether work runs) changed. */
   private renderFindings(s: CellViewState): void {
     const d = s.diagnosis;
-    const key = JSON.stringify([s.summary?.branch, d.findings.map(f => [f.id, f.layer, f.statement, f.proposal]), d.derived.tried, s.busy !== null, s.specEdited]);
-    if (key === this.renderedFindings) return;
+    // A single update (Step Once) is over before a refresh could happen: no note for it.
+    const stepping = s.busy !== null && s.busy.total > 1;
+    const locked = s.busy !== null || s.specEdited;
+    // Whether work runs only disables the buttons: done in place, not by rebuilding the strip
+    // (twice per Step Once otherwise).
+    const key = JSON.stringify([s.summary?.branch, d.findings.map(f => [f.id, f.layer, f.statement, f.proposal]), d.derived.tried, stepping, s.specEdited]);
+    if (key === this.renderedFindings) {
+      for (const b of this.findingsNode.querySelectorAll<HTMLButtonElement>('.sw-Button-try')) b.disabled = locked;
+      return;
+    }
     this.renderedFindings = key;
-    const stepping = s.busy !== null && s.busy.total > 0;
-    const strip = findingsStrip(d.findings, d.derived.tried, s.busy !== null || s.specEdited, {
+    const strip = findingsStrip(d.findings, d.derived.tried, locked, {
       tryFinding: i => void this.controller.tryFinding(i),
       toggleMore: open => {
         this.findingsMore = open;
