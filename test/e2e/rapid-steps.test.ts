@@ -70,10 +70,15 @@ describe('Step Once clicked in quick succession', () => {
     await openNotebook(page, `${app.origin}/lab/tree/${NOTEBOOK}`);
     const cell = page.locator('.sw-CellWidget').first();
     await cell.locator('.sw-Status', { hasText: /^step 14 · / }).waitFor({ timeout: 90_000 });
-    const times = await page.evaluate(async (clicks) => {
+    const seen = await page.evaluate(async (clicks) => {
       const root = document.querySelector('.sw-CellWidget') as HTMLElement;
       const stepOf = (): number => Number(/^step (\d+)/.exec(root.querySelector('.sw-Status')?.textContent ?? '')?.[1] ?? NaN);
       const out: number[] = [];
+      // Whenever the cell shows work running, the branch bar's and findings' buttons are off too
+      // (they are locked in place, not rebuilt, as work starts and ends).
+      let unlockedWhileBusy = 0;
+      let busySeen = 0;
+      const others = (): HTMLButtonElement[] => [...root.querySelectorAll<HTMLButtonElement>('.sw-Button-branch, .sw-Button-compare, .sw-Button-try')];
       for (let k = 0; k < clicks; k++) {
         const button = root.querySelector('.sw-Button-step') as HTMLButtonElement;
         while (button.disabled) await new Promise(r => setTimeout(r, 5));
@@ -81,6 +86,10 @@ describe('Step Once clicked in quick succession', () => {
         const t0 = performance.now();
         await new Promise<void>(resolve => {
           const mo = new MutationObserver(() => {
+            if (button.disabled) {
+              busySeen++;
+              if (others().some(b => !b.disabled)) unlockedWhileBusy++;
+            }
             if (stepOf() === before + 1 && !button.disabled) {
               mo.disconnect();
               resolve();
@@ -91,9 +100,17 @@ describe('Step Once clicked in quick succession', () => {
         });
         out.push(performance.now() - t0);
       }
-      return out;
+      return { out, busySeen, unlockedWhileBusy, othersCount: others().length, enabledAfter: others().filter(b => !b.disabled).length };
     }, CLICKS);
+    const { out: times } = seen;
     expect(times).toHaveLength(CLICKS);
+    expect(seen.busySeen).toBeGreaterThanOrEqual(CLICKS);
+    expect(seen.unlockedWhileBusy).toBe(0);
+    // New branch, Compare and the two findings' buttons, all usable again once the steps are done.
+    expect(seen.othersCount).toBe(4);
+    expect(seen.enabledAfter).toBe(4);
+    // The root branch cannot be deleted: that button stays off through the in-place unlocking.
+    expect(await cell.locator('.sw-Button-delete').isDisabled()).toBe(true);
     // Reported, never asserted: wall-clock time on a shared machine is not a test.
     console.log(`rapid steps: ms per click ${times.map(t => t.toFixed(0)).join(' ')}`);
     const last = 14 + CLICKS;
