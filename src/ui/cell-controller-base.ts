@@ -6,7 +6,7 @@
  */
 import { Signal } from '@lumino/signaling';
 import type { ISignal } from '@lumino/signaling';
-import type { EngineClient, FinalReply, RequestBody } from '../worker/client';
+import type { EngineClient, FinalReply, ProgressReply, RequestBody } from '../worker/client';
 import type { BranchReadouts, SessionSummary, SpecFilesPayload, SpecProblem } from '../worker/protocol';
 import { cellFileNames, type SpecPatch } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
@@ -374,16 +374,24 @@ export abstract class ControllerBase {
   /**
    * One request with the busy state shown (progress included) and the engine synced first.
    *
+   * @param onProgress - also called with each progress reply (after the busy state is updated).
    * @returns the final reply, or null when busy or no session exists (a notice says why).
    */
-  protected async exchange(action: string, body: RequestBody, total = 0, names: readonly string[] = []): Promise<FinalReply | null> {
+  protected async exchange(action: string, body: RequestBody, total = 0, names: readonly string[] = [], onProgress?: (p: ProgressReply) => void): Promise<FinalReply | null> {
     if (this.st.busy !== null) return null;
     const engine = await this.syncEngine();
     if (engine === null) return null;
     this.set({ busy: { action, done: 0, total }, confirm: null });
     // Files a request names (a fork whose patch names a new data file) are read first.
     const { payload, transfer } = await this.readFiles(names);
-    const reply = await engine.request({ ...body, ...payload } as RequestBody, p => this.set({ busy: { action, done: p.done, total: p.total } }), transfer);
+    const reply = await engine.request(
+      { ...body, ...payload } as RequestBody,
+      p => {
+        this.set({ busy: { action, done: p.done, total: p.total } });
+        onProgress?.(p);
+      },
+      transfer
+    );
     this.set({ busy: null });
     return reply;
   }

@@ -278,9 +278,16 @@ export class CellController extends BranchController {
   /** Measures the Hessian spectrum and the recipe's stability limit at the active branch's step. */
   async measureCurvature(): Promise<boolean> {
     const { eigenCount, denseHessianLimit } = this.deps.settings();
-    const reply = await this.exchange('Measuring curvature', { kind: 'curvature', k: eigenCount, denseLimit: denseHessianLimit });
+    const before = this.st.curvature;
+    // On a large model the top end arrives first and is shown at once, marked as partial.
+    const reply = await this.exchange('Measuring curvature', { kind: 'curvature', k: eigenCount, denseLimit: denseHessianLimit }, 0, [], p => {
+      if (p.curvature !== undefined) this.set({ curvature: p.curvature, tab: 'curvature' });
+    });
     if (reply === null) return false;
-    if (reply.kind !== 'curvature') return this.failed(reply);
+    if (reply.kind !== 'curvature') {
+      this.set({ curvature: before });
+      return this.failed(reply);
+    }
     this.applyReadouts(reply.readouts);
     this.set({ tab: 'curvature' });
     return this.persist();

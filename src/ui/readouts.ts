@@ -168,17 +168,20 @@ export function curvaturePanel(
   const st = s.stability;
   const stale = staleNote(c.step, currentStep, 'Measure again');
   if (stale !== null) box.appendChild(stale);
-  box.appendChild(
-    el(
-      'p',
-      'sw-CurvatureHead',
-      `At step ${c.step}: λmax = ${fmt(s.lambdaMax)} (± ${s.lambdaMaxBound.toExponential(1)})` +
+  const head = el(
+    'p',
+    'sw-CurvatureHead',
+    c.partial === true
+      ? `At step ${c.step}, top end: λmax = ${fmt(s.lambdaMax)} (± ${s.lambdaMaxBound.toExponential(1)}) — Lanczos over ${c.parameterCount} parameters, ${c.products} Hessian-vector products so far. ` +
+          'Still measuring: the smallest eigenvalues, the spectral density and the trace.'
+      : `At step ${c.step}: λmax = ${fmt(s.lambdaMax)} (± ${s.lambdaMaxBound.toExponential(1)})` +
         (s.lambdaMin !== null ? `, λmin = ${fmt(s.lambdaMin)}` : '') +
         ` — ${c.method === 'dense' ? 'full Hessian' : 'Lanczos'} over ${c.parameterCount} parameters, ${c.products} Hessian-vector products` +
         (c.threads !== undefined && c.threads > 1 ? ` on ${c.threads} threads` : '') +
         (c.stop !== 'converged' ? ` (stopped: ${c.stop})` : '') + '.'
-    )
   );
+  if (c.partial === true) head.dataset.partial = 'true';
+  box.appendChild(head);
   box.appendChild(el('p', `sw-Stability ${c.verdict === 'unstable' ? 'sw-mod-unstable' : ''}`.trim(), c.sentence));
   if (st.note) box.appendChild(el('p', ReadoutClass.note, `${st.note} (operator: ${s.stepMetric}).`));
   plots.spectrum.setAttribute('role', 'img');
@@ -188,7 +191,8 @@ export function curvaturePanel(
   c.top.forEach((v, i) => rows.push([`top ${i + 1}`, fmt(v), c.topBounds[i]?.toExponential(1) ?? '—']));
   c.bottom.forEach((v, i) => rows.push([`bottom ${i + 1}`, fmt(v), c.bottomBounds[i]?.toExponential(1) ?? '—']));
   box.appendChild(textTable(`${ReadoutClass.table} sw-SpectrumTable`, ['eigenvalue', 'λ', '± bound'], rows));
-  box.appendChild(derivedNumbers(s));
+  // The derived numbers need the bottom end, the density or the trace: they come with the complete readout.
+  if (c.partial !== true) box.appendChild(derivedNumbers(s));
   box.appendChild(el('p', ReadoutClass.note, s.caveat));
   return box;
 }

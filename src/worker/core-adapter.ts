@@ -16,9 +16,10 @@ import type { CurvatureResult, SharpnessPoint } from './protocol';
 import { curvatureVerdict } from './diagnosis';
 
 /** The curvature reply's shape from a report. */
-function curvatureResult(session: Session, { spectrum, summary, threads }: CurvatureReport): CurvatureResult {
+function curvatureResult(session: Session, { spectrum, summary, threads, partial }: CurvatureReport): CurvatureResult {
   return {
     ...(threads === undefined ? {} : { threads }),
+    ...(partial === true ? { partial } : {}),
     step: session.stepCount,
     method: spectrum.method,
     parameterCount: spectrum.parameterCount,
@@ -33,6 +34,11 @@ function curvatureResult(session: Session, { spectrum, summary, threads }: Curva
   };
 }
 
+/** The core option that hands the early top-end readout on as a {@link CurvatureResult}. */
+function topEnd(session: Session, onTopEnd: ((partial: CurvatureResult) => void) | undefined): { onTopEnd?: (r: CurvatureReport) => void } {
+  return onTopEnd === undefined ? {} : { onTopEnd: (r) => onTopEnd(curvatureResult(session, r)) };
+}
+
 /**
  * The real numerics; with `helper`, the curvature readout's density and trace run there (a
  * second thread) while Lanczos runs in the engine's own.
@@ -40,10 +46,10 @@ function curvatureResult(session: Session, { spectrum, summary, threads }: Curva
 export function coreWith(helper?: (experiment: Experiment) => DensityTraceRunner): EngineCore {
   return {
     ...realCore,
-    curvature(experiment, session, k, denseLimit) {
-      if (helper === undefined) return realCore.curvature(experiment, session, k, denseLimit);
+    curvature(experiment, session, k, denseLimit, onTopEnd) {
+      if (helper === undefined) return realCore.curvature(experiment, session, k, denseLimit, onTopEnd);
       const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
-      return measureSessionCurvatureWith(helper(experiment), session, rng, { k, denseLimit }).then(r => curvatureResult(session, r));
+      return measureSessionCurvatureWith(helper(experiment), session, rng, { k, denseLimit, ...topEnd(session, onTopEnd) }).then(r => curvatureResult(session, r));
     }
   };
 }
@@ -61,9 +67,9 @@ export const realCore: EngineCore = {
     const rng = Rng.fromSeed(experiment.seed).fork(`audit-${session.stepCount}`);
     return auditGradient(session.objective, session.parameters, { sample, rng });
   },
-  curvature(experiment, session, k, denseLimit): CurvatureResult {
+  curvature(experiment, session, k, denseLimit, onTopEnd): CurvatureResult {
     const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
-    return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit }));
+    return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit, ...topEnd(session, onTopEnd) }));
   },
   noise(experiment, session, sample) {
     // Like the audit: the rows sampled come from the seed and the step.

@@ -33,7 +33,11 @@ export interface EngineCore {
    * Hessian spectrum and stability summary at the session's current weights (a promise when a
    * second thread computes part of it).
    */
-  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number): CurvatureResult | Promise<CurvatureResult>;
+  /**
+   * The curvature readout at the session's step; on the matrix-free path `onTopEnd` gets the
+   * top end alone (`partial`) as soon as it has converged, before the complete readout.
+   */
+  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number, onTopEnd?: (partial: CurvatureResult) => void): CurvatureResult | Promise<CurvatureResult>;
   /** The gradient noise scale at the session's weights from `sample` rows' gradients (throws without data rows). */
   noise(experiment: Experiment, session: Session, sample: number): NoiseScale;
   /** The sharpness the recipe's stability rule uses, by a short Lanczos run (cheap enough to track). */

@@ -58,6 +58,11 @@ export interface CurvatureResult {
   aboveBottom: boolean[];
   /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
   threads?: number;
+  /**
+   * Set on the early readout of the top end alone, shown while the bottom end, the spectral
+   * density and the trace are still being measured; never stored.
+   */
+  partial?: true;
 }
 
 /** One problem in the spec text, at a path and (when known) a 1-based line and column. */
@@ -335,6 +340,8 @@ export type EngineReply =
       sharpness?: SharpnessPoint[];
       /** The active branch's readouts with fresh findings (at most about once a second of work). */
       readouts?: BranchReadouts;
+      /** A curvature readout's top end, sent before the complete readout (`partial` set). */
+      curvature?: CurvatureResult;
     }
   | {
       id: number;

@@ -6,8 +6,14 @@
  */
 import type { Experiment } from '../core/setup';
 import { buildObjective } from '../core/assemble';
-import { runDensityTrace, type DensityTrace, type DensityTraceRunner } from '../core/probe/curvature';
+import { runDensityTrace, type DensityTrace, type DensityTraceJob, type DensityTraceRunner } from '../core/probe/curvature';
 import type { ReadoutReply, ReadoutRequest } from './readout-protocol';
+
+interface Pending {
+  accepted: () => void;
+  resolve: (r: DensityTrace) => void;
+  reject: (e: Error) => void;
+}
 
 /** A runner factory for `coreWith`: one lazily started helper per engine, reused for every readout. */
 export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner) | undefined {
@@ -15,7 +21,15 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
   let worker: Worker | null = null;
   let broken = false;
   let next = 1;
-  const pending = new Map<number, { resolve: (r: DensityTrace) => void; reject: (e: Error) => void }>();
+  const pending = new Map<number, Pending>();
+  const fail = (message: string): void => {
+    broken = true;
+    for (const p of pending.values()) {
+      p.accepted();
+      p.reject(new Error(message));
+    }
+    pending.clear();
+  };
   const start = (): Worker | null => {
     if (worker !== null || broken) return worker;
     try {
@@ -27,27 +41,36 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
     worker.onmessage = (event: MessageEvent<ReadoutReply>) => {
       const r = event.data;
       const p = pending.get(r.id);
-      pending.delete(r.id);
       if (p === undefined) return;
+      if (r.kind === 'accepted') {
+        p.accepted();
+        return;
+      }
+      pending.delete(r.id);
       if (r.ok) p.resolve({ ...r.result, elsewhere: true });
       else p.reject(new Error(`readout helper: ${r.message}`));
     };
     worker.onerror = (event: ErrorEvent) => {
       event.preventDefault();
-      broken = true;
-      for (const p of pending.values()) p.reject(new Error(`readout helper stopped: ${event.message}`));
-      pending.clear();
+      fail(`readout helper stopped: ${event.message}`);
     };
     return worker;
   };
-  return (experiment) => (task) => {
-    const w = start();
-    if (w === null) return Promise.resolve({ ...runDensityTrace(buildObjective(experiment.setup), task), elsewhere: false });
-    const id = next++;
-    const request: ReadoutRequest = { id, setup: experiment.setup, task };
-    return new Promise<DensityTrace>((resolve, reject) => {
-      pending.set(id, { resolve, reject });
-      w.postMessage(request);
-    });
-  };
+  return (experiment) =>
+    (task): DensityTraceJob => {
+      const w = start();
+      if (w === null) {
+        const result = Promise.resolve({ ...runDensityTrace(buildObjective(experiment.setup), task), elsewhere: false });
+        return { started: Promise.resolve(), result };
+      }
+      const id = next++;
+      const request: ReadoutRequest = { id, setup: experiment.setup, task };
+      let accepted: () => void = () => undefined;
+      const started = new Promise<void>((resolve) => (accepted = resolve));
+      const result = new Promise<DensityTrace>((resolve, reject) => {
+        pending.set(id, { accepted, resolve, reject });
+        w.postMessage(request);
+      });
+      return { started, result };
+    };
 }

@@ -9,5 +9,11 @@ export interface ReadoutRequest {
   task: DensityTraceTask;
 }
 
-/** The helper's answer to one request. */
-export type ReadoutReply = { id: number; ok: true; result: DensityTrace } | { id: number; ok: false; message: string };
+/**
+ * The helper's answers to one request: `accepted` as soon as it holds the request (the engine
+ * waits for it before it starts Lanczos), then the result or the error.
+ */
+export type ReadoutReply =
+  | { id: number; kind: 'accepted' }
+  | { id: number; kind: 'done'; ok: true; result: DensityTrace }
+  | { id: number; kind: 'done'; ok: false; message: string };

@@ -18,12 +18,14 @@ const scope = self as unknown as WorkerScope;
 
 scope.onmessage = (event: MessageEvent<ReadoutRequest>) => {
   const { id, setup, task } = event.data;
+  const accepted: ReadoutReply = { id, kind: 'accepted' };
+  scope.postMessage(accepted);
   let reply: ReadoutReply;
   try {
     // Built afresh per readout: the setup arrives as a copy, and building is cheap next to the products.
-    reply = { id, ok: true, result: runDensityTrace(buildObjective(setup), task) };
+    reply = { id, kind: 'done', ok: true, result: runDensityTrace(buildObjective(setup), task) };
   } catch (e) {
-    reply = { id, ok: false, message: (e as Error).message };
+    reply = { id, kind: 'done', ok: false, message: (e as Error).message };
   }
   scope.postMessage(reply);
 };

@@ -18,9 +18,11 @@ export interface EigenKernels {
   dots(out: number, src: number, stride: number, count: number, v: number, len: number): void;
   /**
    * A[r, j] −= Σ_{k<count} X[k, r]·Y[k, j] for j ≤ r < m, A's lower triangle packed as for `symv`
-   * (X = [U; Q], Y = [Q; U] stacked make it the rank-2k update A − U Qᵀ − Q Uᵀ).
+   * (X = [U; Q], Y = [Q; U] stacked make it the rank-2k update A − U Qᵀ − Q Uᵀ). `work` is
+   * scratch of {@link syr2kWork}(m, count) doubles where the SIMD kernel packs X and Y (the
+   * scalar one leaves it alone); the result does not depend on it.
    */
-  syr2k(a: number, m: number, x: number, y: number, vStride: number, count: number): void;
+  syr2k(a: number, m: number, x: number, y: number, vStride: number, count: number, work: number): void;
   /** v −= u·(uᵀv)/h over len entries. */
   reflect(u: number, v: number, len: number, h: number): void;
   /** For i = hi down to lo: rows i, i+1 of the matrix at z (row stride `stride`, `cols` entries) rotated by (c[i], s[i]). */
@@ -38,9 +40,18 @@ interface EigenExports {
   symv(a: number, m: number, u: number, p: number): void;
   subtractRows(dst: number, src: number, stride: number, coef: number, count: number, len: number): void;
   dots(out: number, src: number, stride: number, count: number, v: number, len: number): void;
-  syr2k(a: number, m: number, x: number, y: number, vStride: number, count: number): void;
+  syr2k(a: number, m: number, x: number, y: number, vStride: number, count: number, work: number): void;
   reflect(u: number, v: number, len: number, h: number): void;
   rotSweep(z: number, stride: number, cols: number, c: number, s: number, lo: number, hi: number): void;
+}
+
+/**
+ * Doubles of scratch {@link EigenKernels.syr2k} needs for an update of the leading m×m block
+ * with `count` terms: X packed in blocks of 3 rows and Y in blocks of 6 columns, each block
+ * `count` deep (at most (m + 2) + (m + 7) entries of each of the `count` vectors).
+ */
+export function syr2kWork(m: number, count: number): number {
+  return (2 * m + 12) * count;
 }
 
 /** Doubles the SIMD kernels keep for themselves at the start of their memory. */
@@ -69,7 +80,7 @@ export function eigenSpace(length: number, width: number, simd = true): EigenSpa
         symv: (a, n, u, p) => ex.symv(at(a), n, at(u), at(p)),
         subtractRows: (dst, src, stride, coef, count, len) => ex.subtractRows(at(dst), at(src), 8 * stride, at(coef), count, len),
         dots: (out, src, stride, count, v, len) => ex.dots(at(out), at(src), 8 * stride, count, at(v), len),
-        syr2k: (a, n, x, y, vStride, count) => ex.syr2k(at(a), n, at(x), at(y), 8 * vStride, count),
+        syr2k: (a, n, x, y, vStride, count, work) => ex.syr2k(at(a), n, at(x), at(y), 8 * vStride, count, at(work)),
         reflect: (u, v, len, h) => ex.reflect(at(u), at(v), len, h),
         rotSweep: (z, stride, cols, c, s, lo, hi) => ex.rotSweep(at(z), 8 * stride, cols, at(c), at(s), lo, hi),
       };

@@ -25,7 +25,7 @@
  * two agree to rounding.
  */
 
-import { eigenSpace, type EigenKernels } from './eigen-kernels';
+import { eigenSpace, syr2kWork, type EigenKernels } from './eigen-kernels';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
@@ -51,12 +51,25 @@ export interface HouseholderReduction extends Tridiagonal {
 export interface TridiagonalizeOptions {
   /** Use the WebAssembly SIMD kernels when available (default true; false forces the plain-JavaScript loops). */
   simd?: boolean;
-  /** Steps per panel (default 32; 1 applies every update at once, as the unblocked algorithm does). */
+  /**
+   * Steps per panel (default {@link panelSize}: 32, 48 from order 1 000; 1 applies every update
+   * at once, as the unblocked algorithm does).
+   */
   block?: number;
 }
 
-/** Steps whose updates are deferred together: the rank-2k update then does 2·32 terms per entry. */
-const PANEL = 32;
+/**
+ * Steps whose updates are deferred together (the rank-2k update then does 2·nb terms per entry)
+ * for a matrix of order n: 32, and 48 from n = 1 000, where fewer passes of the update over a
+ * triangle that no longer fits the caches measured 5–10 % faster at n = 1 000 and 2 000 (load
+ * average 7–9, so roughly; test/bench/BENCHMARKS.md). Smaller matrices, among them every dense
+ * Hessian of the demo notebooks, keep 32 and the bits of earlier releases.
+ * @param n - order of the matrix.
+ * @returns the default panel size.
+ */
+export function panelSize(n: number): number {
+  return n >= 1000 ? 48 : 32;
+}
 
 /**
  * Reduces the symmetric matrix `a` (n×n, row-major; only the lower triangle j ≤ i is read)
@@ -88,16 +101,16 @@ export function tridiagonalForm(a: Float64Array, n: number, options: Tridiagonal
 function packAndReduce(a: Float64Array, n: number, options: TridiagonalizeOptions): { red: Omit<HouseholderReduction, 'reflectors'>; m: Float64Array } {
   if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix order must be a non-negative integer, got ${n}`);
   if (a.length < n * n) throw new RangeError(`matrix storage needs ${n * n} entries for order ${n}, got ${a.length}`);
-  const nb = options.block ?? PANEL;
+  const nb = options.block ?? panelSize(n);
   if (!Number.isInteger(nb) || nb < 1) throw new RangeError(`block must be a positive integer, got ${options.block}`);
   // Space: [A's lower triangle packed, row i at i(i+1)/2 | Uᵀ (nb rows of n) | Qᵀ (nb rows) | Uᵀ
-  // again | p | coefficients (2·nb) | dots (2·nb)]. Packed rows make the leading block one
+  // again | p | coefficients (2·nb) | dots (2·nb) | the update's packing scratch]. Packed rows make the leading block one
   // sequential stream; [Uᵀ; Qᵀ] and [Qᵀ; Uᵀ] are then both contiguous, so the end-of-panel
   // update is one product of 2·nb terms per entry.
   const tri = (n * (n + 1)) / 2;
   const after = tri + 3 * nb * n;
-  const lay = { a: 0, ut: tri, qt: tri + nb * n, ut2: tri + 2 * nb * n, p: after, coef: after + n, dots: after + n + 2 * nb };
-  const space = eigenSpace(lay.dots + 2 * nb, max(n, 1), options.simd !== false);
+  const lay = { a: 0, ut: tri, qt: tri + nb * n, ut2: tri + 2 * nb * n, p: after, coef: after + n, dots: after + n + 2 * nb, work: after + n + 4 * nb };
+  const space = eigenSpace(lay.work + syr2kWork(n, 2 * nb), max(n, 1), options.simd !== false);
   const m = space.m;
   for (let i = 0; i < n; i++) m.set(a.subarray(i * n, i * n + i + 1), (i * (i + 1)) / 2);
   return { red: reduce(m, space.kernels, n, nb, lay), m };
@@ -111,13 +124,14 @@ interface Layout {
   p: number;
   coef: number;
   dots: number;
+  work: number;
 }
 
 function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: Layout): Omit<HouseholderReduction, 'reflectors'> {
   const d = new Float64Array(n);
   const e = new Float64Array(n);
   const h = new Float64Array(n);
-  const { ut, qt, ut2, p, coef, dots } = lay;
+  const { ut, qt, ut2, p, coef, dots, work } = lay;
   let c = 0; // reflectors in the current panel
   for (let i = n - 1; i >= 0; i--) {
     const row = (i * (i + 1)) / 2;
@@ -181,7 +195,7 @@ function reduce(m: Float64Array, k: EigenKernels, n: number, nb: number, lay: La
     // 4. End of a panel: one rank-2k update of the rows still to come (0..i−1). A last, partial
     //    panel needs none: step 1 brings each remaining row up to date.
     if (c === nb) {
-      k.syr2k(0, i, ut, qt, n, 2 * c); // [Uᵀ; Qᵀ] against [Qᵀ; Uᵀ]
+      k.syr2k(0, i, ut, qt, n, 2 * c, work); // [Uᵀ; Qᵀ] against [Qᵀ; Uᵀ]
       c = 0;
     }
   }

@@ -132,6 +132,14 @@ export interface LanczosOptions extends IterationControl {
   vectors?: boolean;
   /** Start vector (default: a seeded standard-normal draw from `rng`). */
   start?: Float64Array;
+  /**
+   * With `which` = `both`: called once, as soon as the largest eigenvalue has converged while
+   * the run goes on, with the converged ones of the largest end as they stand (the leading run
+   * of the k largest that have converged, at least one; `smallest` empty, `stop` `converged`, no
+   * vectors). Not called when everything converges at the same step. The final result's values
+   * may still move within their bounds.
+   */
+  onLargest?: (partial: LanczosResult) => void;
 }
 
 /** One Ritz pair of a Lanczos run with its a-posteriori bounds. */
@@ -209,6 +217,7 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
   let stop: StopReason = 'max-iterations';
   let snap: RitzSnapshot = { values: new Float64Array(0), last: new Float64Array(0) };
   let scale = 0;
+  let toldLargest = false;
   while (state.alpha.length < maxIterations) {
     if (stopRequested(options)) {
       stop = 'cancelled';
@@ -221,11 +230,18 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
     const bm = state.beta[m - 1];
     const { top, bottom } = wantedIndices(m, k, which);
     const wanted = [...top, ...bottom];
-    const done = wanted.filter((i) => abs(bm * snap.last[i]) <= tol * scale).length;
+    const isDone = (i: number): boolean => abs(bm * snap.last[i]) <= tol * scale;
+    const done = wanted.filter(isDone).length;
     // After a restart the new block needs its own steps before the ends can be trusted.
     const sinceRestart = m - (state.restarts.length > 0 ? state.restarts[state.restarts.length - 1] : 0);
     const settled = state.restarts.length === 0 ? m >= minIterations : sinceRestart >= Math.min(minIterations, n - m + sinceRestart);
     const converged = state.exhausted || (settled && sinceRestart > 0 && done === wanted.length);
+    if (options.onLargest !== undefined && !toldLargest && which === 'both' && !converged && settled && sinceRestart > 0 && isDone(top[0])) {
+      toldLargest = true;
+      const partial = assemble(state, snap, scale, k, 'largest', tol, 'converged', false);
+      const leading = partial.largest.findIndex((p) => !p.converged);
+      options.onLargest({ ...partial, largest: leading < 0 ? partial.largest : partial.largest.slice(0, leading) });
+    }
     // A·q = 0 exactly for a random q means A = 0 (with probability one): every eigenvalue is 0.
     const zero = m === 1 && state.alpha[0] === 0 && state.beta[0] === 0;
     if (state.exhausted) stop = 'exhausted';

@@ -371,14 +371,59 @@
               (local.set $j (i32.add (local.get $j) (i32.const 1)))
               (br $cols_loop))))))
 
+  ;; Copies `count` vectors (rows of stride $vStride bytes at $src, entries 0..$m−1) into
+  ;; $dst as blocks of $w consecutive entries, k-major inside a block: entry j of vector k goes to
+  ;; $dst + (j div $w)·8·$w·count + 8·$w·k + 8·(j mod $w); $blocks blocks, entries past $m
+  ;; zero. A tile then reads its operand as one sequential stream instead of `count` rows
+  ;; $vStride apart (a stride of a power-of-two-ish number of bytes puts every row in the same
+  ;; few L1 sets; packing is O(count·m) against the update's O(count·m²)).
+  (func $pack (param $dst i32) (param $src i32) (param $vStride i32) (param $count i32) (param $m i32) (param $w i32) (param $blocks i32)
+    (local $k i32) (local $blk i32) (local $t i32) (local $j i32) (local $out i32) (local $blockBytes i32)
+    (local.set $blockBytes (i32.mul (i32.shl (local.get $w) (i32.const 3)) (local.get $count)))
+    (block $k_done
+      (loop $k_loop
+        (br_if $k_done (i32.ge_s (local.get $k) (local.get $count)))
+        (local.set $blk (i32.const 0))
+        (local.set $j (i32.const 0))
+        (local.set $out (i32.add (local.get $dst) (i32.mul (i32.shl (local.get $w) (i32.const 3)) (local.get $k))))
+        (block $b_done
+          (loop $b_loop
+            (br_if $b_done (i32.ge_s (local.get $blk) (local.get $blocks)))
+            (local.set $t (i32.const 0))
+            (loop $t_loop
+              (f64.store (i32.add (local.get $out) (i32.shl (local.get $t) (i32.const 3)))
+                (select
+                  (f64.load (i32.add (local.get $src) (i32.shl (select (local.get $j) (i32.const 0) (i32.lt_s (local.get $j) (local.get $m))) (i32.const 3))))
+                  (f64.const 0)
+                  (i32.lt_s (local.get $j) (local.get $m))))
+              (local.set $j (i32.add (local.get $j) (i32.const 1)))
+              (br_if $t_loop (i32.lt_s (local.tee $t (i32.add (local.get $t) (i32.const 1))) (local.get $w))))
+            (local.set $out (i32.add (local.get $out) (local.get $blockBytes)))
+            (local.set $blk (i32.add (local.get $blk) (i32.const 1)))
+            (br $b_loop)))
+        (local.set $src (i32.add (local.get $src) (local.get $vStride)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $k_loop))))
+
   ;; Low-rank update of the lower triangle of the leading m×m block of A (packed as in symv):
   ;; A[r, j] ← A[r, j] − Σ_{k<count} X[k, r]·Y[k, j] for j ≤ r < m, where X and Y hold `count`
   ;; vectors as rows of stride $vStride bytes. With X = [U; Q] and Y = [Q; U] stacked this is
-  ;; the rank-2k update A − U Qᵀ − Q Uᵀ in one pass of 2k terms per entry. Tiles of 3 rows × 6 columns
-  ;; cover the lower triangle (diagonal tiles also write a few entries above it, which the
-  ;; solver never reads).
-  (func (export "syr2k") (param $a i32) (param $m i32) (param $x i32) (param $y i32) (param $vStride i32) (param $count i32)
+  ;; the rank-2k update A − U Qᵀ − Q Uᵀ in one pass of 2k terms per entry. Tiles of 3 rows × 6
+  ;; columns cover the lower triangle (diagonal tiles also write a few entries above it, which
+  ;; the solver never reads). X and Y are first packed at $work (see $pack: X in blocks of 3
+  ;; rows, then Y in blocks of 6 columns; 8·count·(2m + 12) bytes), so every tile streams its
+  ;; operands from consecutive memory; each entry's terms are subtracted in the same order as
+  ;; from the unpacked rows, so the packing changes no bit.
+  (func (export "syr2k") (param $a i32) (param $m i32) (param $x i32) (param $y i32) (param $vStride i32) (param $count i32) (param $work i32)
     (local $r i32) (local $j i32) (local $rows i32) (local $cols i32) (local $row0 i32) (local $row1 i32) (local $row2 i32)
+    (local $xp i32) (local $yp i32) (local $xBlocks i32) (local $yBlocks i32)
+    ;; row blocks of 3 cover r < m; column blocks of 6 cover j ≤ m + 1 (the last row block's reach)
+    (local.set $xBlocks (i32.div_u (i32.add (local.get $m) (i32.const 2)) (i32.const 3)))
+    (local.set $yBlocks (i32.add (i32.div_u (i32.add (local.get $m) (i32.const 1)) (i32.const 6)) (i32.const 1)))
+    (local.set $yp (i32.add (local.get $work) (i32.mul (i32.mul (local.get $xBlocks) (i32.const 24)) (local.get $count))))
+    (call $pack (local.get $work) (local.get $x) (local.get $vStride) (local.get $count) (local.get $m) (i32.const 3) (local.get $xBlocks))
+    (call $pack (local.get $yp) (local.get $y) (local.get $vStride) (local.get $count) (local.get $m) (i32.const 6) (local.get $yBlocks))
+    (local.set $xp (local.get $work))
     (block $done
       (loop $row_blocks
         (br_if $done (i32.ge_s (local.get $r) (local.get $m)))
@@ -393,8 +438,8 @@
             ;; row r + t takes columns j ≤ r + t: $cols + t of them, $cols = r + 1 − j
             (local.set $cols (i32.sub (i32.add (local.get $r) (i32.const 1)) (local.get $j)))
             (call $tile
-              (i32.add (local.get $x) (i32.shl (local.get $r) (i32.const 3))) (local.get $vStride)
-              (i32.add (local.get $y) (i32.shl (local.get $j) (i32.const 3))) (local.get $vStride)
+              (local.get $xp) (i32.const 24)
+              (i32.add (local.get $yp) (i32.mul (i32.mul (local.get $j) (i32.const 8)) (local.get $count))) (i32.const 48)
               (local.get $count)
               (i32.add (local.get $row0) (i32.shl (local.get $j) (i32.const 3)))
               (i32.add (local.get $row1) (i32.shl (local.get $j) (i32.const 3)))
@@ -402,6 +447,7 @@
               (local.get $rows) (local.get $cols))
             (local.set $j (i32.add (local.get $j) (i32.const 6)))
             (br $col_blocks)))
+        (local.set $xp (i32.add (local.get $xp) (i32.mul (local.get $count) (i32.const 24))))
         (local.set $r (i32.add (local.get $r) (i32.const 3)))
         (br $row_blocks))))
 

@@ -24,9 +24,9 @@ describe('measureCurvatureWith', () => {
     const { network, w } = net();
     const other = net().network; // the helper's own copy of the objective
     const tasks: DensityTraceTask[] = [];
-    const run = async (task: DensityTraceTask) => {
+    const run = (task: DensityTraceTask) => {
       tasks.push(task);
-      return runDensityTrace(other, task);
+      return { started: Promise.resolve(), result: Promise.resolve(runDensityTrace(other, task)) };
     };
     const options = { denseLimit: 10, k: 3, density: { probes: 3, steps: 12 }, traceProbes: 8 };
     const one = measureCurvature(network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(4), options);
@@ -45,7 +45,7 @@ describe('measureCurvatureWith', () => {
   it('runs nothing elsewhere on the dense path', async () => {
     const { network, w } = net();
     let calls = 0;
-    const r = await measureCurvatureWith(async () => { calls++; throw new Error('not expected'); }, network, w, recipe(), Rng.fromSeed(1), { denseLimit: 1000 });
+    const r = await measureCurvatureWith(() => { calls++; throw new Error('not expected'); }, network, w, recipe(), Rng.fromSeed(1), { denseLimit: 1000 });
     expect(calls).toBe(0);
     expect(r.spectrum.method).toBe('dense');
   });

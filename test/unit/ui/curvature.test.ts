@@ -89,3 +89,31 @@ describe('sharpness trace', () => {
     expect(sharpnessFigure([pt(0, 1), pt(1, 1e6)], theme).layout.yaxis.type).toBe('log');
   });
 });
+
+describe('curvature readout on the matrix-free path', () => {
+  it('sends the top end as progress (partial) before the complete readout, which is not partial', async () => {
+    const replies: EngineReply[] = [];
+    const host = new EngineHost(realCore, r => replies.push(structuredClone(r)));
+    await host.receive({ id: 1, kind: 'load', specText: TEMPLATE_SPEC, checkpointEvery: 0 });
+    await host.receive({ id: 2, kind: 'step', n: 2 });
+    replies.length = 0;
+    // P = 26 above a dense limit of 10: Lanczos at both ends
+    await host.receive({ id: 3, kind: 'curvature', k: 3, denseLimit: 10 });
+    const early = replies.filter(r => r.kind === 'progress' && r.curvature !== undefined);
+    expect(early).toHaveLength(1);
+    const last = replies[replies.length - 1];
+    if (last.kind !== 'curvature' || early[0].kind !== 'progress' || early[0].curvature === undefined) throw new Error('expected a partial top end, then the readout');
+    const top = early[0].curvature;
+    expect(replies.indexOf(early[0])).toBeLessThan(replies.length - 1);
+    expect(top.partial).toBe(true);
+    expect(top.method).toBe('lanczos');
+    expect(top.step).toBe(2);
+    expect(top.bottom).toEqual([]);
+    expect(last.result.partial).toBeUndefined();
+    expect(last.result.method).toBe('lanczos');
+    // source: Golub & Van Loan 4th ed., §10.1.4 — each Ritz value lies within its residual bound of an eigenvalue.
+    expect(Math.abs(top.summary.lambdaMax - last.result.summary.lambdaMax)).toBeLessThanOrEqual(top.summary.lambdaMaxBound + last.result.summary.lambdaMaxBound + 1e-12);
+    // the readout kept for the branch is the complete one
+    expect(last.readouts.curvature?.partial).toBeUndefined();
+  });
+});

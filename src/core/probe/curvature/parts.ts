@@ -33,8 +33,21 @@ export interface DensityTrace {
   readonly elsewhere?: boolean;
 }
 
-/** Runs a task somewhere (another thread) and resolves with its result. */
-export type DensityTraceRunner = (task: DensityTraceTask) => Promise<DensityTrace>;
+/** A task handed to a runner. */
+export interface DensityTraceJob {
+  /**
+   * Settles once the other thread holds the task and works on it. The caller awaits it before
+   * its own long synchronous work: a browser worker's messages to a worker it started are
+   * delivered through its own event loop, so a task posted just before Lanczos would otherwise
+   * wait for Lanczos to end and the two halves would run one after the other.
+   */
+  readonly started: Promise<void>;
+  /** The density and trace. */
+  readonly result: Promise<DensityTrace>;
+}
+
+/** Runs a task somewhere (another thread). */
+export type DensityTraceRunner = (task: DensityTraceTask) => DensityTraceJob;
 
 /** The task for `rng`'s forks and these options (see `measureCurvature` for the defaults). */
 export function densityTraceTask(

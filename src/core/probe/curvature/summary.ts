@@ -224,6 +224,13 @@ export interface MeasureOptions extends IterationControl {
   /** The step operator (see `stepMetric`); default plain Hessian. */
   metric?: StepMetric;
   cutoff?: number;
+  /**
+   * Matrix-free path only: called once with a readout of the top end alone (λmax, the top k, the
+   * stability bound; `partial` set, λmin, density and trace not yet measured) as soon as the
+   * largest eigenvalues have converged while Lanczos still works on the smallest. The complete
+   * readout follows; its λmax may differ within the bounds shown.
+   */
+  onTopEnd?: (partial: CurvatureReport) => void;
 }
 
 /** The message of the error {@link measureCurvature} throws when cancelled before any eigenvalue exists. */
@@ -235,6 +242,8 @@ export interface CurvatureReport {
   readonly summary: CurvatureSummary;
   /** Threads that computed it (2 when a runner computed the density and trace in another thread). */
   readonly threads?: number;
+  /** Set on the early top-end readout of `onTopEnd`: the bottom end, density and trace are still running. */
+  readonly partial?: true;
 }
 
 /**
@@ -252,12 +261,13 @@ export interface CurvatureReport {
 export function measureCurvature(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): CurvatureReport {
   const plan = planParts(objective, w, rng, options);
   if (plan.dense) return finish(objective, w, recipe, rng, options, denseSpectrumFacts(objective, w, options));
-  const l = lanczosPart(objective, w, rng, options);
+  const step = stepSharpnessOnce(objective, w, rng, options);
+  const l = lanczosPart(objective, w, recipe, rng, options, step);
   const densityOptions = plan.task.density === null ? null : { ...plan.task.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
   const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind }).apply, objective.parameterCount, Rng.fromState(plan.task.densityRng), densityOptions);
   const skipTrace = plan.task.traceProbes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
   const trace = skipTrace ? null : hutchinsonTrace(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind }).apply, objective.parameterCount, Rng.fromState(plan.task.traceRng), { probes: plan.task.traceProbes, onProgress: options.onProgress, shouldStop: options.shouldStop });
-  return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+  return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace), step);
 }
 
 /**
@@ -269,12 +279,15 @@ export function measureCurvature(objective: Objective, w: Float64Array, recipe: 
 export async function measureCurvatureWith(run: DensityTraceRunner, objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): Promise<CurvatureReport> {
   const plan = planParts(objective, w, rng, options);
   if (plan.dense || (plan.task.density === null && plan.task.traceProbes === 0)) return measureCurvature(objective, w, recipe, rng, options);
-  const pending = run(plan.task);
-  const l = lanczosPart(objective, w, rng, options);
-  const parts = await pending;
+  const job = run(plan.task);
+  // The other thread must hold the task before this one turns to Lanczos (see DensityTraceJob.started).
+  await job.started;
+  const step = stepSharpnessOnce(objective, w, rng, options);
+  const l = lanczosPart(objective, w, recipe, rng, options, step);
+  const parts = await job.result;
   const density = l.stop === 'cancelled' ? null : parts.density;
   const trace = l.stop === 'cancelled' ? null : parts.trace;
-  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace));
+  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace), step);
   return parts.elsewhere === true ? { ...report, threads: 2 } : report;
 }
 
@@ -300,27 +313,45 @@ function denseSpectrumFacts(objective: Objective, w: Float64Array, options: Meas
   return spectrumFromDense(d, kind, options.k ?? 5, options.cutoff);
 }
 
-function lanczosPart(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): LanczosResult {
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness): LanczosResult {
   const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian' });
-  const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+  const onTopEnd = options.onTopEnd;
+  const onLargest =
+    onTopEnd === undefined
+      ? undefined
+      : (partial: LanczosResult): void => onTopEnd({ ...finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, options.kind ?? 'hessian', partial, null, null), step), partial: true });
+  const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest });
   if (l.largest.length === 0) throw new Error(CANCELLED);
   return l;
 }
 
-/** The step metric's sharpness (when the metric is not the plain Hessian) and the summary. */
-function finish(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, spectrum: CurvatureSpectrum): CurvatureReport {
-  const p = objective.parameterCount;
-  const kind = options.kind ?? 'hessian';
-  let stepSharpness: SummaryOptions['stepSharpness'];
-  const metric = options.metric;
-  if (metric !== undefined && (metric.scaling !== null || metric.shift !== 0)) {
-    if (metric.scaling === null) {
-      stepSharpness = { value: spectrum.top[0] + metric.shift, bound: spectrum.topBounds[0], description: metric.description };
-    } else {
-      const op = curvatureOperator(objective, w, { rows: options.rows, kind, scaling: metric.scaling, shift: metric.shift });
-      const l = lanczosExtremes(op.apply, p, rng.fork('step-metric'), { k: 1, tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
-      stepSharpness = { value: l.largest[0].value, bound: l.largest[0].errorBound, description: metric.description };
+/** The sharpness of the step metric for the stability bound, or undefined when it is the plain Hessian's λmax (found from the spectrum). */
+type StepSharpness = SummaryOptions['stepSharpness'] | 'from-spectrum';
+
+/**
+ * The step metric's own top-1 Lanczos solve (when the metric scales the Hessian), computed on
+ * first use and kept: the early top-end readout and the complete one share it.
+ */
+function stepSharpnessOnce(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): () => StepSharpness {
+  let kept: StepSharpness | null = null;
+  return () => {
+    if (kept !== null) return kept;
+    const metric = options.metric;
+    if (metric === undefined || (metric.scaling === null && metric.shift === 0)) kept = undefined;
+    else if (metric.scaling === null) kept = 'from-spectrum';
+    else {
+      const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', scaling: metric.scaling, shift: metric.shift });
+      const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('step-metric'), { k: 1, tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+      kept = { value: l.largest[0].value, bound: l.largest[0].errorBound, description: metric.description };
     }
-  }
+    return kept;
+  };
+}
+
+/** The step metric's sharpness (when the metric is not the plain Hessian) and the summary. */
+function finish(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, spectrum: CurvatureSpectrum, step = stepSharpnessOnce(objective, w, rng, options)): CurvatureReport {
+  const metric = options.metric;
+  const s = step();
+  const stepSharpness = s === 'from-spectrum' && metric !== undefined ? { value: spectrum.top[0] + metric.shift, bound: spectrum.topBounds[0], description: metric.description } : s === 'from-spectrum' ? undefined : s;
   return { spectrum, summary: curvatureSummary(spectrum, recipe, { lr: options.lr, stepSharpness, cutoff: options.cutoff }) };
 }

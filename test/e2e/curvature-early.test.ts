@@ -1,0 +1,85 @@
+/**
+ * The curvature readout of a model above the dense limit, in the browser: Lanczos runs in the
+ * engine worker while the spectral density and the trace run in its helper thread (the reply
+ * says "on 2 threads"), and the top end — λmax against the step size's limit — is shown as soon
+ * as it has converged, marked as still measuring, before the complete readout replaces it.
+ * Screenshots go to test-output/ (curvature-early-*.png).
+ */
+import { ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
+
+jest.setTimeout(300_000);
+
+let app: IAppServer;
+let browser: IBrowserSession;
+
+beforeAll(async () => {
+  ensureBuilt();
+  app = await startApp();
+  browser = await launchBrowser();
+});
+
+afterAll(async () => {
+  await browser?.close();
+  await app?.stop();
+});
+
+/** A 16-64-64-4 network (P = 5 508, above the default dense limit of 2 000) on 128 rows of made-up readings. */
+function mediumSpec(): string {
+  const x = Array.from({ length: 128 }, (_, r) => Array.from({ length: 16 }, (_, j) => Number(Math.sin(0.37 * r + 1.3 * j + 0.01 * r * j).toFixed(4))));
+  const y = Array.from({ length: 128 }, (_, r) => (r * 7 + (r >> 3)) % 4);
+  const spec = {
+    seed: 3,
+    model: { inputs: 16, layers: [{ units: 64, activation: 'tanh' }, { units: 64, activation: 'tanh' }, { units: 4, activation: 'linear' }] },
+    data: { x, y },
+    loss: 'cross-entropy',
+    recipe: { optimizer: 'sgd', lr: 0.2 },
+  };
+  return `# stepwell: a medium network for the matrix-free curvature readout\n${JSON.stringify(spec)}\n`;
+}
+
+describe('the curvature readout above the dense limit', () => {
+  it('shows the top end first, then the complete readout computed on two threads', async () => {
+    const { page } = browser;
+    await openNotebook(page, `${app.origin}/lab/tree/greenhouse-humidity-sensor.ipynb`);
+    await page.evaluate(async source => {
+      type Panel = { content: { model: { sharedModel: { insertCell(i: number, c: unknown): void }; cells: { length: number } }; activeCellIndex: number } };
+      const lab = (window as unknown as { jupyterapp: { shell: { currentWidget: Panel }; commands: { execute(id: string): Promise<unknown> } } }).jupyterapp;
+      const nb = lab.shell.currentWidget.content;
+      const at = nb.model.cells.length;
+      nb.model.sharedModel.insertCell(at, { cell_type: 'code', source, metadata: {} });
+      nb.activeCellIndex = at;
+      await lab.commands.execute('notebook:run-cell');
+    }, mediumSpec());
+    const cell = page.locator('.sw-CellWidget').last();
+    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
+    await cell.scrollIntoViewIfNeeded();
+    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    // Every head the cell shows, in order, recorded in the page as it appears.
+    await cell.evaluate(root => {
+      const seen: string[] = [];
+      (window as unknown as { swHeads: string[] }).swHeads = seen;
+      new MutationObserver(() => {
+        const head = root.querySelector('.sw-CurvatureHead') as HTMLElement | null;
+        if (head === null) return;
+        const text = `${head.dataset.partial === 'true' ? 'partial' : 'complete'}: ${head.textContent ?? ''}`;
+        if (seen[seen.length - 1] !== text) seen.push(text);
+      }).observe(root, { subtree: true, childList: true, characterData: true, attributes: true });
+    });
+    await cell.locator('.sw-Button-curvature').click();
+    await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
+    const heads = await page.evaluate(() => (window as unknown as { swHeads: string[] }).swHeads);
+    expect(heads.length).toBeGreaterThanOrEqual(2);
+    expect(heads[0]).toMatch(/^partial: At step 0, top end: λmax = [\d.]+ \(± [\d.e+-]+\) — Lanczos over 5508 parameters, \d+ Hessian-vector products so far\. Still measuring: the smallest eigenvalues, the spectral density and the trace\.$/);
+    const last = heads[heads.length - 1];
+    expect(last).toMatch(/^complete: At step 0: λmax = [\d.]+ \(± [\d.e+-]+\), λmin = -?[\d.]+ — Lanczos over 5508 parameters, \d+ Hessian-vector products on 2 threads\.$/);
+    // Both show λmax to the digits shown (Golub & Van Loan 4th ed., §10.1.4: the early value lies within its bound).
+    const lam = (t: string): string => /λmax = ([\d.]+)/.exec(t)?.[1] ?? 'none';
+    expect(lam(heads[0])).toBe(lam(last));
+    const products = (t: string): number => Number(/, (\d+) Hessian-vector/.exec(t)?.[1] ?? NaN);
+    expect(products(heads[0])).toBeLessThan(products(last));
+    // The derived numbers come with the complete readout only.
+    await cell.locator('.sw-DerivedTable').waitFor({ timeout: 10_000 });
+    await screenshot(page, 'curvature-early-complete');
+    expect(ourErrors(browser)).toEqual([]);
+  });
+});
