@@ -38,11 +38,13 @@ export function branchLines(b: BranchInfo): { name: string; origin: string; stat
 /**
  * Builds the bar for `branches` with `active` shown.
  *
- * @param busy - disables every action while the engine works.
+ * @param busy - disables every action while the engine works (a function: asked again at each
+ *   click, so {@link lockBranchBar} can follow work starting and ending without a rebuild).
  * @param edited - the spec text was edited since the session started: no new branch (it would
  *   patch the old text) and no discarding until the cell is run again.
  */
-export function branchBar(branches: readonly BranchInfo[], active: string, busy: boolean, actions: BranchBarActions, edited = false): HTMLElement {
+export function branchBar(branches: readonly BranchInfo[], active: string, busy: boolean | (() => boolean), actions: BranchBarActions, edited = false): HTMLElement {
+  const isBusy = typeof busy === 'function' ? busy : (): boolean => busy;
   const root = el('div', BranchBarClass.root);
   const list = el('div', BranchBarClass.list);
   list.setAttribute('role', 'listbox');
@@ -58,14 +60,14 @@ export function branchBar(branches: readonly BranchInfo[], active: string, busy:
     item.title = b.parent === null ? `${b.name}: ${b.recipe}` : `${b.name}: ${b.recipe}\nforked from ${b.parent} at step ${b.forkStep} with ${b.patchText}`;
     item.append(el('span', 'sw-BranchName', t.name), el('span', 'sw-BranchOrigin', t.origin), el('span', 'sw-BranchState', t.state));
     const show = (): void => {
-      if (!busy) actions.switchTo(b.name);
+      if (!isBusy()) actions.switchTo(b.name);
     };
     item.addEventListener('click', show);
     item.addEventListener('keydown', (e: KeyboardEvent) => {
       if (e.key === 'Enter' || e.key === ' ') {
         e.preventDefault();
         show();
-      } else if (e.key === 'Delete' && b.parent !== null && !busy) {
+      } else if (e.key === 'Delete' && b.parent !== null && !isBusy()) {
         e.preventDefault();
         actions.remove(b.name);
       }
@@ -78,7 +80,9 @@ export function branchBar(branches: readonly BranchInfo[], active: string, busy:
   const activeInfo = branches.find(b => b.name === active);
   const add = (label: string, title: string, onClick: () => void, cls: string, disabled: boolean): void => {
     const b = button(label, title, onClick, cls);
-    b.disabled = busy || disabled;
+    b.disabled = isBusy() || disabled;
+    // Kept so that work starting or ending can re-enable the bar in place (lockBranchBar).
+    if (disabled) b.dataset.off = 'true';
     bar.appendChild(b);
   };
   add('New branch…', edited ? 'Run the cell first: the spec text was edited since this session started' : 'Fork a branch from a step of the shown branch with a changed recipe', actions.newBranch, 'sw-Button-branch', activeInfo === undefined || edited);
@@ -90,4 +94,9 @@ export function branchBar(branches: readonly BranchInfo[], active: string, busy:
   add('Compare', 'Overlay the branches and compare them at matched steps', actions.compare, 'sw-Button-compare', branches.length < 2);
   root.append(list, bar);
   return root;
+}
+
+/** Disables (or re-enables) a branch bar's buttons in place as work starts (or ends); buttons off for other reasons stay off. */
+export function lockBranchBar(root: HTMLElement, busy: boolean): void {
+  for (const b of root.querySelectorAll<HTMLButtonElement>(`.${BranchBarClass.actions} button`)) b.disabled = busy || b.dataset.off === 'true';
 }

@@ -421,12 +421,25 @@ export abstract class ControllerBase {
     return false;
   }
 
-  /** Has the worker build the whole ledger, then writes it and the outputs in one go each. */
-  protected async persist(): Promise<boolean> {
+  /**
+   * Asks the worker for the whole ledger of the session as it is now, or returns null without a
+   * session. Sent before the page redraws an action's result, so the worker builds the ledger
+   * while the page draws (the next request would otherwise queue behind it).
+   */
+  protected requestLedger(): Promise<FinalReply> | null {
     const engine = this.engine;
     const specText = this.st.sessionSpec;
-    if (engine === null || specText === null) return false;
-    const reply = await engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap, maxBytes: this.deps.settings().maxLedgerBytes });
+    if (engine === null || specText === null) return null;
+    return engine.request({ kind: 'ledger', specText, checkpointCap: this.deps.settings().checkpointCap, maxBytes: this.deps.settings().maxLedgerBytes });
+  }
+
+  /**
+   * Has the worker build the whole ledger, then writes it and the outputs in one go each.
+   * @param requested - the ledger request already sent by {@link requestLedger} (default: sent now).
+   */
+  protected async persist(requested: Promise<FinalReply> | null = this.requestLedger()): Promise<boolean> {
+    if (requested === null) return false;
+    const reply = await requested;
     if (reply.kind === 'failed') {
       // Keep the notice of the action (e.g. a non-finite loss) and add why nothing was saved.
       const before = this.st.notice !== null && this.st.notice.level !== 'info' ? `${this.st.notice.text} ` : '';

@@ -9,7 +9,7 @@ import type { CellController } from './controller';
 import { button, el, replaceChildren, show } from './dom';
 import { chipSteps, readNumber, rewindForm, runUntilForm } from './forms';
 import { branchForm, confirmBar, recordForm, renameForm } from './branch-forms';
-import { branchBar } from './branch-bar';
+import { branchBar, lockBranchBar } from './branch-bar';
 import { problemLine, PROXY_NOTE, statusLine } from './summary';
 import { rovingFocus } from './keyboard';
 import { findingsStrip } from './findings-strip';
@@ -28,6 +28,9 @@ export namespace CellWidgetClass {
   export const tabs = 'sw-Tabs';
   export const findings = 'sw-FindingsSlot';
 }
+
+/** Milliseconds a single update (Step Once) runs before its progress row is shown. */
+const SINGLE_UPDATE_GRACE_MS = 250;
 
 /** The widget shown in a stepwell cell's output area. */
 export class StepwellCellWidget extends Widget {
@@ -56,6 +59,8 @@ export class StepwellCellWidget extends Widget {
   private renderedBar: string | null = null;
   private renderedConfirm: string | null = null;
   private themeObserver: MutationObserver | null = null;
+  /** Pending display of the progress row of a single update (see showProgress). */
+  private progressTimer: number | null = null;
 
   /** @param options - the controller whose state this widget shows. */
   constructor(options: StepwellCellWidget.Options) {
@@ -117,6 +122,10 @@ export class StepwellCellWidget extends Widget {
   }
 
   private render(s: CellViewState): void {
+    // The readout panel first: plotly measures the page while it draws, which forces a layout of
+    // everything changed before it; drawn first, it finds the page as the last frame left it,
+    // and the lines below are laid out once, in the next frame.
+    this.panels.render(s);
     const step = shownStep(s);
     const atCursor = s.summary === null ? undefined : s.trajectory.find(r => r.step === step);
     const many = (s.summary?.branches.length ?? 0) > 1;
@@ -148,7 +157,7 @@ export class StepwellCellWidget extends Widget {
     this.buttons.reset.hidden = s.ledger === 'corrupt';
     this.buttons.stepN.textContent = `Step ×${this.controller.defaultN}`;
     if (this.nInput.value !== s.stepN) this.nInput.value = s.stepN;
-    show(this.progressNode, busy);
+    this.showProgress(s);
     if (s.busy !== null) {
       this.progressBar.max = Math.max(1, s.busy.total);
       if (s.busy.total > 0) this.progressBar.value = s.busy.done;
@@ -162,17 +171,43 @@ export class StepwellCellWidget extends Widget {
     this.tabButtons.forEach((b, i) => b.setAttribute('aria-selected', String(i === selected)));
     rovingFocus(this.tabsNode, this.tabButtons, selected, i => this.controller.setTab(READOUT_TABS[i][0]));
     this.renderFindings(s);
-    this.panels.render(s);
+  }
+
+  /**
+   * Shows the progress row (with Stop) while work runs. A single update (Step Once) shows it only
+   * when still running after {@link SINGLE_UPDATE_GRACE_MS}: Stop cannot shorten it, and a row
+   * that appears and vanishes again within one step re-lays out the whole notebook twice.
+   */
+  private showProgress(s: CellViewState): void {
+    const single = s.busy !== null && s.busy.total === 1;
+    if (s.busy === null || !single) {
+      if (this.progressTimer !== null) window.clearTimeout(this.progressTimer);
+      this.progressTimer = null;
+      show(this.progressNode, s.busy !== null);
+      return;
+    }
+    if (this.progressTimer !== null || !this.progressNode.hidden) return;
+    this.progressTimer = window.setTimeout(() => {
+      this.progressTimer = null;
+      if (this.controller.state.busy !== null) show(this.progressNode, true);
+    }, SINGLE_UPDATE_GRACE_MS);
   }
 
   /** The findings strip, rebuilt only when the findings (or whether work runs) changed. */
   private renderFindings(s: CellViewState): void {
     const d = s.diagnosis;
-    const key = JSON.stringify([s.summary?.branch, d.findings.map(f => [f.id, f.layer, f.statement, f.proposal]), d.derived.tried, s.busy !== null, s.specEdited]);
-    if (key === this.renderedFindings) return;
+    // A single update (Step Once) is over before a refresh could happen: no note for it.
+    const stepping = s.busy !== null && s.busy.total > 1;
+    const locked = s.busy !== null || s.specEdited;
+    // Whether work runs only disables the buttons: done in place, not by rebuilding the strip
+    // (twice per Step Once otherwise).
+    const key = JSON.stringify([s.summary?.branch, d.findings.map(f => [f.id, f.layer, f.statement, f.proposal]), d.derived.tried, stepping, s.specEdited]);
+    if (key === this.renderedFindings) {
+      for (const b of this.findingsNode.querySelectorAll<HTMLButtonElement>('.sw-Button-try')) b.disabled = locked;
+      return;
+    }
     this.renderedFindings = key;
-    const stepping = s.busy !== null && s.busy.total > 0;
-    const strip = findingsStrip(d.findings, d.derived.tried, s.busy !== null || s.specEdited, {
+    const strip = findingsStrip(d.findings, d.derived.tried, locked, {
       tryFinding: i => void this.controller.tryFinding(i),
       toggleMore: open => {
         this.findingsMore = open;
@@ -195,12 +230,13 @@ export class StepwellCellWidget extends Widget {
 
   private renderBranchBar(s: CellViewState): void {
     const branches = s.summary?.branches ?? [];
-    const key = JSON.stringify([branches, s.summary?.branch, s.busy !== null, s.specEdited]);
-    if (key === this.renderedBar) return;
+    // Work starting or ending only locks the buttons (in place); the items ask at each click.
+    const key = JSON.stringify([branches, s.summary?.branch, s.specEdited]);
+    if (key === this.renderedBar) return lockBranchBar(this.branchNode, s.busy !== null);
     this.renderedBar = key;
     if (s.summary === null) return replaceChildren(this.branchNode, []);
     const c = this.controller;
-    replaceChildren(this.branchNode, [branchBar(branches, s.summary.branch, s.busy !== null, {
+    replaceChildren(this.branchNode, [branchBar(branches, s.summary.branch, () => c.state.busy !== null, {
       switchTo: name => void c.switchBranch(name),
       newBranch: () => c.setForm(c.state.form === 'branch' ? null : 'branch'),
       rename: () => c.setForm(c.state.form === 'rename' ? null : 'rename'),
@@ -271,6 +307,8 @@ export class StepwellCellWidget extends Widget {
   dispose(): void {
     if (this.isDisposed) return;
     this.controller.changed.disconnect(this.onState, this);
+    if (this.progressTimer !== null) window.clearTimeout(this.progressTimer);
+    this.progressTimer = null;
     this.panels.dispose();
     super.dispose();
   }

@@ -212,6 +212,8 @@ export class CellController extends BranchController {
     const trajectory = thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep())));
     // Too short to time on its own (one fast step): the branch's recent steps, as after a reload.
     const recent = produced.length >= RECENT_RECORDS ? produced.slice(-RECENT_RECORDS) : trajectory.slice(-RECENT_RECORDS);
+    // The worker builds the ledger while the page draws the step.
+    const saving = this.requestLedger();
     this.set({
       busy: null,
       summary: reply.summary,
@@ -221,7 +223,7 @@ export class CellController extends BranchController {
       ...this.timing(requestMs(reply.updates, reply.elapsedMs) ?? meanMs(recent), msBound(recent)),
       notice
     });
-    return this.persist();
+    return this.persist(saving);
   }
 
   /** The last step of the displayed trace (re-stepped kept steps are already in it). */

@@ -14,7 +14,7 @@ import { auditPanel, curvaturePanel, generalizationNote } from './readouts';
 import { layersPanel } from './layers-panel';
 import { dataPanel } from './data-panel';
 import { curvatureFigure, sharpnessFigure } from './curvature-figure';
-import { traceFigure, traceText } from '../figures/trace';
+import { traceFigure, traceText, type FigureTheme } from '../figures/trace';
 import type { CellViewState } from './view-state';
 import { deeperFigures, deeperPanel, type DeeperPlots } from './deeper-panel';
 
@@ -45,6 +45,8 @@ export class ReadoutPanels {
   private plotTimer: number | null = null;
   /** The trace figure last handed to plotly (JSON), to skip redrawing an unchanged one. */
   private drawnTrace: string | null = null;
+  /** The theme read from the page, with the theme name it was read under. */
+  private theme: { name: string; value: FigureTheme } | null = null;
 
   /** @param controller - whose state the panel shows and whose actions its buttons call. */
   constructor(private readonly controller: CellController, private readonly isAttached: () => boolean) {
@@ -57,6 +59,18 @@ export class ReadoutPanels {
     this.rendered = null;
     this.drawnTrace = null;
     this.renderedGeneralization = null;
+    this.theme = null;
+  }
+
+  /**
+   * The figure theme, read from the page once per theme: reading CSS variables forces a style
+   * recalculation of the page, which every state change (several per step) would otherwise pay.
+   */
+  private currentTheme(): FigureTheme {
+    const body = document.body.dataset;
+    const name = `${body.jpThemeName ?? ''}|${body.jpThemeLight ?? ''}`;
+    if (this.theme === null || this.theme.name !== name) this.theme = { name, value: readTheme(this.node) };
+    return this.theme.value;
   }
 
   /** Shows the state's tab. */
@@ -128,7 +142,7 @@ export class ReadoutPanels {
     }
     replaceChildren(this.node, [panel]);
     if (!this.isAttached()) return;
-    const theme = readTheme(this.node);
+    const theme = this.currentTheme();
     if (s.tab === 'curvature') {
       if (s.curvature !== null) void renderFigure(this.curvaturePlot, curvatureFigure(s.curvature, theme));
       if (s.sharpness.length > 0) void renderFigure(this.sharpnessPlot, sharpnessFigure(s.sharpness, theme));
@@ -175,7 +189,7 @@ export class ReadoutPanels {
     this.plotNode.setAttribute('aria-label', traceText(s.trajectory, cursor));
     // One action sets the state several times (busy, records, summary, ledger written); most of
     // those leave the figure as it is, and a plotly redraw costs more than the step itself.
-    const figure = traceFigure(s.trajectory, readTheme(this.node), { cursor });
+    const figure = traceFigure(s.trajectory, this.currentTheme(), { cursor });
     const drawn = JSON.stringify(figure);
     if (drawn === this.drawnTrace && !force) return;
     this.drawnTrace = drawn;

@@ -60,13 +60,16 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
     const chromium = session.context.browser()?.version() ?? 'unknown';
     for (const demo of parts.steps === false ? [] : DEMOS) {
       await openNotebook(page, `${app.origin}/lab/tree/${demo}`);
-      const cells = page.locator('.sw-CellWidget');
+      // Only this notebook's cells: the previous demo stays open in a hidden tab, and its widget
+      // may still be in the page.
+      const panel = await page.evaluate(() => (window as unknown as { jupyterapp: { shell: { currentWidget: { id: string } } } }).jupyterapp.shell.currentWidget.id);
+      const cells = page.locator(`[id="${panel}"] .sw-CellWidget`);
       await cells.first().waitFor({ timeout: 60_000 });
       const count = await cells.count();
       for (let k = 0; k < count; k++) {
         const times: number[] = await page.evaluate(
-          async ({ index, steps }) => {
-            const cell = document.querySelectorAll('.sw-CellWidget')[index] as HTMLElement;
+          async ({ index, steps, panelId }) => {
+            const cell = (document.getElementById(panelId) as HTMLElement).querySelectorAll('.sw-CellWidget')[index] as HTMLElement;
             cell.scrollIntoView();
             const status = (): string => cell.querySelector('.sw-Status')?.textContent ?? '';
             const stepOf = (): number => Number(/^step (\d+)/.exec(status())?.[1] ?? NaN);
@@ -92,7 +95,7 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
             }
             return out;
           },
-          { index: k, steps: STEPS }
+          { index: k, steps: STEPS, panelId: panel }
         );
         const subject = `${demo.replace('.ipynb', '')}, cell ${k + 1}`;
         rows.push({ what: 'first Step Once (starts the engine)', subject, ms: times[0], reps: 1, all: [times[0]] });

@@ -25,6 +25,12 @@ describe('traceFigure', () => {
     expect(f.layout.showlegend).toBe(false);
   });
 
+  it('never has plotly hide tick labels (its default re-measures every label per label drawn)', () => {
+    const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2)], theme);
+    expect(f.layout.xaxis.ticklabeloverflow).toBe('allow');
+    expect(f.layout.yaxis.ticklabeloverflow).toBe('allow');
+  });
+
   it('ticks whole steps and keeps the legend at the top left, clear of the plot toolbar', () => {
     const f = traceFigure([rec(0, 2), rec(1, 1.5), rec(2, 1.2), rec(3, 1)], theme);
     expect(f.layout.xaxis).toMatchObject({ tickmode: 'linear', tick0: 0, dtick: 1 });
