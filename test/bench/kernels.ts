@@ -29,7 +29,12 @@ export interface KernelReport {
 
 type Tile = (a: number, aRow: number, aStep: number, b: number, bStep: number, k: number, i: number, iRow: number, c: number, cRow: number, rows: number, cols: number, add: number) => void;
 
-/** Best GFLOP/s of `fn` (doing `flops` each call) over `rounds` rounds of `reps` calls, by process CPU time. */
+/**
+ * Best GFLOP/s of `fn` (doing `flops` each call) over `rounds` rounds of `reps` calls. A round's
+ * time is the smaller of its wall time and the process's CPU time: both bound this thread's own
+ * time from above (wall time counts preemption, process CPU time counts V8's background threads —
+ * compilers and the garbage collector still busy after earlier benchmarks in the same process).
+ */
 function best(fn: () => void, flops: number, reps: number, rounds: number): number {
   // Warm up by time, not by a few calls: V8 first runs WebAssembly from its baseline compiler
   // and swaps in the optimized code in the background; a short tile call timed before the swap
@@ -39,9 +44,11 @@ function best(fn: () => void, flops: number, reps: number, rounds: number): numb
   let top = 0;
   for (let r = 0; r < rounds; r++) {
     const c = process.cpuUsage();
+    const t0 = performance.now();
     for (let i = 0; i < reps; i++) fn();
+    const wall = performance.now() - t0;
     const u = process.cpuUsage(c);
-    const ms = (u.user + u.system) / 1000;
+    const ms = Math.min(wall, (u.user + u.system) / 1000);
     if (ms > 0) top = Math.max(top, (flops * reps) / ms / 1e6);
   }
   return top;
