@@ -13,7 +13,7 @@
  *    time to the top end's early readout (λmax and the stability limit) and to the complete one.
  */
 import { loadavg } from 'node:os';
-import { ensureBuilt, launchBrowser, openNotebook, startApp } from '../e2e/harness';
+import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, startApp } from '../e2e/harness';
 import { buildMlp } from './networks';
 
 /** One browser figure. */
@@ -33,7 +33,7 @@ const STEPS = 12;
 const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
 
 /** Spec text of the P = 85 002 network over MLP c's seeded rows (JSON is YAML; the comment line marks the cell). */
-export function bigSpec(): string {
+function bigSpec(): string {
   const c = { widths: [64, 256, 256, 10], act: 'relu' as const, loss: 'cross-entropy' as const, batch: 512 };
   const { x, y } = buildMlp(c, 1);
   const rows = Array.from({ length: c.batch }, (_, r) => Array.from(x.subarray(r * 64, (r + 1) * 64), (v) => Number(v.toFixed(4))));
@@ -112,16 +112,7 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
     page = session.page;
     await page.addInitScript({ content: 'globalThis.__name = (f) => f;' });
     await openNotebook(page, `${app.origin}/lab/tree/${DEMOS[0]}`);
-    const text = bigSpec();
-    await page.evaluate(async (source) => {
-      type Panel = { content: { model: { sharedModel: { insertCell(i: number, c: unknown): void }; cells: { length: number } }; activeCellIndex: number } };
-      const app = (window as unknown as { jupyterapp: { shell: { currentWidget: Panel }; commands: { execute(id: string): Promise<unknown> } } }).jupyterapp;
-      const nb = app.shell.currentWidget.content;
-      const at = nb.model.cells.length;
-      nb.model.sharedModel.insertCell(at, { cell_type: 'code', source, metadata: {} });
-      nb.activeCellIndex = at;
-      await app.commands.execute('notebook:run-cell');
-    }, text);
+    await appendAndRunCell(page, bigSpec());
     const big = page.locator('.sw-CellWidget').last();
     await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
     // DOM clicks in the page: the notebook may keep a long cell's output out of view.

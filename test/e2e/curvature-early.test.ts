@@ -5,7 +5,7 @@
  * as it has converged, marked as still measuring, before the complete readout replaces it.
  * Screenshots go to test-output/ (curvature-early-*.png).
  */
-import { ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
+import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
 
 jest.setTimeout(300_000);
 
@@ -41,15 +41,7 @@ describe('the curvature readout above the dense limit', () => {
   it('shows the top end first, then the complete readout computed on two threads', async () => {
     const { page } = browser;
     await openNotebook(page, `${app.origin}/lab/tree/greenhouse-humidity-sensor.ipynb`);
-    await page.evaluate(async source => {
-      type Panel = { content: { model: { sharedModel: { insertCell(i: number, c: unknown): void }; cells: { length: number } }; activeCellIndex: number } };
-      const lab = (window as unknown as { jupyterapp: { shell: { currentWidget: Panel }; commands: { execute(id: string): Promise<unknown> } } }).jupyterapp;
-      const nb = lab.shell.currentWidget.content;
-      const at = nb.model.cells.length;
-      nb.model.sharedModel.insertCell(at, { cell_type: 'code', source, metadata: {} });
-      nb.activeCellIndex = at;
-      await lab.commands.execute('notebook:run-cell');
-    }, mediumSpec());
+    await appendAndRunCell(page, mediumSpec());
     const cell = page.locator('.sw-CellWidget').last();
     await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
     await cell.scrollIntoViewIfNeeded();

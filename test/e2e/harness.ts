@@ -312,6 +312,22 @@ export async function runPaletteCommand(page: Page, label: string): Promise<void
 }
 
 /** Save a full-page screenshot to test-output/<name>.png and return its path. */
+/**
+ * Appends a code cell with `source` to the notebook in view (not saved) and runs it, as
+ * Shift+Enter would: a stepwell cell starts its session.
+ */
+export async function appendAndRunCell(page: Page, source: string): Promise<void> {
+  await page.evaluate(async text => {
+    type Panel = { content: { model: { sharedModel: { insertCell(i: number, c: unknown): void }; cells: { length: number } }; activeCellIndex: number } };
+    const lab = (window as unknown as { jupyterapp: { shell: { currentWidget: Panel }; commands: { execute(id: string): Promise<unknown> } } }).jupyterapp;
+    const nb = lab.shell.currentWidget.content;
+    const at = nb.model.cells.length;
+    nb.model.sharedModel.insertCell(at, { cell_type: 'code', source: text, metadata: {} });
+    nb.activeCellIndex = at;
+    await lab.commands.execute('notebook:run-cell');
+  }, source);
+}
+
 export async function screenshot(page: Page, name: string): Promise<string> {
   fs.mkdirSync(OUTPUT_DIR, { recursive: true });
   const file = path.join(OUTPUT_DIR, `${name}.png`);
