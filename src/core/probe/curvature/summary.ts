@@ -225,10 +225,10 @@ export interface MeasureOptions extends IterationControl {
   metric?: StepMetric;
   cutoff?: number;
   /**
-   * Matrix-free path only: called once with a readout of the top end alone (λmax, the top k, the
-   * stability bound; `partial` set, λmin, density and trace not yet measured) as soon as the
-   * largest eigenvalues have converged while Lanczos still works on the smallest. The complete
-   * readout follows; its λmax may differ within the bounds shown.
+   * Matrix-free path only: called once with a readout of the top end alone (λmax, the top values
+   * that have converged, the stability bound; `partial` set, λmin, density and trace not yet
+   * measured) as soon as λmax has converged while Lanczos still works on the rest. The complete
+   * readout follows; its values may differ within the bounds shown.
    */
   onTopEnd?: (partial: CurvatureReport) => void;
 }
@@ -325,8 +325,12 @@ function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng:
   return l;
 }
 
-/** The sharpness of the step metric for the stability bound, or undefined when it is the plain Hessian's λmax (found from the spectrum). */
-type StepSharpness = SummaryOptions['stepSharpness'] | 'from-spectrum';
+/**
+ * What the stability bound measures: undefined for the plain Hessian's λmax; `shift` for
+ * λmax + s (an unscaled metric with a shift, read off the spectrum); else the step metric's own
+ * sharpness.
+ */
+type StepSharpness = SummaryOptions['stepSharpness'] | { readonly shift: number; readonly description: string };
 
 /**
  * The step metric's own top-1 Lanczos solve (when the metric scales the Hessian), computed on
@@ -338,7 +342,7 @@ function stepSharpnessOnce(objective: Objective, w: Float64Array, rng: Rng, opti
     if (kept !== null) return kept;
     const metric = options.metric;
     if (metric === undefined || (metric.scaling === null && metric.shift === 0)) kept = undefined;
-    else if (metric.scaling === null) kept = 'from-spectrum';
+    else if (metric.scaling === null) kept = { shift: metric.shift, description: metric.description };
     else {
       const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', scaling: metric.scaling, shift: metric.shift });
       const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('step-metric'), { k: 1, tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
@@ -350,8 +354,7 @@ function stepSharpnessOnce(objective: Objective, w: Float64Array, rng: Rng, opti
 
 /** The step metric's sharpness (when the metric is not the plain Hessian) and the summary. */
 function finish(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, spectrum: CurvatureSpectrum, step = stepSharpnessOnce(objective, w, rng, options)): CurvatureReport {
-  const metric = options.metric;
   const s = step();
-  const stepSharpness = s === 'from-spectrum' && metric !== undefined ? { value: spectrum.top[0] + metric.shift, bound: spectrum.topBounds[0], description: metric.description } : s === 'from-spectrum' ? undefined : s;
+  const stepSharpness = s !== undefined && 'shift' in s ? { value: spectrum.top[0] + s.shift, bound: spectrum.topBounds[0], description: s.description } : s;
   return { spectrum, summary: curvatureSummary(spectrum, recipe, { lr: options.lr, stepSharpness, cutoff: options.cutoff }) };
 }
