@@ -12,7 +12,7 @@ import { cellFileNames, type SpecPatch } from '../experiment/patch';
 import type { Figure } from '../figures/trace';
 import type { FigureImage } from './plot';
 import type { CellHost, CellSettings, LedgerContent, LedgerGlue, LedgerRead, SpecChecker } from './ports';
-import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, msBound, problemLine, unreadableMarkdown } from './summary';
+import { cellSummary, errorMarkdown, lossImage, markdownSummary, meanMs, msBound, problemLine, TIMING_WINDOW, unreadableMarkdown } from './summary';
 import type { CellViewState, Confirmation, Notice } from './view-state';
 import { diagnosisOf, emptyDiagnosis, initialViewState, viewFromLedger } from './view-state';
 
@@ -146,7 +146,7 @@ export abstract class ControllerBase {
     // With a worker the text is checked there (below), never parsed on the page.
     const view = viewFromLedger(read, raw, this.deps.host.readSource(), later ? () => [] : this.deps.checkSpec);
     // A restored session has no fresh timing: the stored records' wall times give one.
-    const recent = read.kind === 'ok' ? read.content.trajectory.slice(-200) : [];
+    const recent = read.kind === 'ok' ? read.content.trajectory.slice(-TIMING_WINDOW) : [];
     this.set({ ...view, msPerStep: meanMs(recent), msBelow: msBound(recent) });
     if (read.kind === 'corrupt' && this.deps.host.hasOutput?.() === false) this.writeUnreadable();
     if (later) {

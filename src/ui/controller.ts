@@ -16,7 +16,7 @@ import type { StopCondition } from '../worker/protocol';
 import { RECENT_RECORDS, thinInPlace } from '../worker/sampling';
 import { BranchController, type ControllerDeps } from './branch-controller';
 import { readNumber } from './forms';
-import { errorMarkdown, meanMs, msBound, problemLine, requestMs, verifyLines } from './summary';
+import { errorMarkdown, meanMs, msBound, problemLine, TIMING_WINDOW, verifyLines } from './summary';
 import type { Notice } from './view-state';
 import { diagnosisOf, mergeSharpness } from './view-state';
 import { conditionProblem, conditionText } from './forms';
@@ -210,8 +210,8 @@ export class CellController extends BranchController {
         break;
     }
     const trajectory = thinInPlace(this.st.trajectory.concat(reply.records.filter(r => r.step > this.lastStep())));
-    // Too short to time on its own (one fast step): the branch's recent steps, as after a reload.
-    const recent = produced.length >= RECENT_RECORDS ? produced.slice(-RECENT_RECORDS) : trajectory.slice(-RECENT_RECORDS);
+    // The branch's last records, as after a reload (the shown trace may be thinned; this run's own records are not).
+    const recent = (produced.length >= TIMING_WINDOW ? produced : trajectory).slice(-TIMING_WINDOW);
     // The worker builds the ledger while the page draws the step.
     const saving = this.requestLedger();
     this.set({
@@ -220,7 +220,7 @@ export class CellController extends BranchController {
       trajectory,
       sharpness: reply.readouts.sharpness,
       diagnosis: diagnosisOf(reply.readouts),
-      ...this.timing(requestMs(reply.updates, reply.elapsedMs) ?? meanMs(recent), msBound(recent)),
+      ...this.timing(meanMs(recent), msBound(recent)),
       notice
     });
     return this.persist(saving);

@@ -162,13 +162,11 @@ export function statusLine(s: StatusInputs): string {
 }
 
 /**
- * Mean wall time per update of one stepping request, or undefined when its total is below
- * {@link MIN_TIMED_MS}: a request of a few fast updates is mostly the fixed cost of the request
- * itself (messages, readouts), and the records' own times (as after a reload) tell more.
+ * Step records the status line's timing is the mean of: the branch's last ones, after a
+ * stepping action and after a reload alike, so the same records give the same figure (a
+ * request's own elapsed time is one noisy sample when it is a single step).
  */
-export function requestMs(updates: number, elapsedMs: number): number | undefined {
-  return updates > 0 && elapsedMs >= MIN_TIMED_MS ? elapsedMs / updates : undefined;
-}
+export const TIMING_WINDOW = 200;
 
 /**
  * Least total wall time (ms) a timing is computed from: browsers round `performance.now()` to
