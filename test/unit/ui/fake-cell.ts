@@ -40,13 +40,24 @@ export function fakeCell(source: string, metadata?: unknown): FakeCell {
   return cell;
 }
 
-/** A controller of `cell` whose engines are in-process hosts with `options`. */
-export function controllerOf(cell: FakeCell, settings: Partial<CellSettings> = {}, options: EngineHost.Options = {}): CellController {
+/** The in-process engine port a controller of {@link controllerOf} talks to. */
+export type EnginePortOf = ReturnType<typeof inProcessPort>;
+
+/**
+ * A controller of `cell` whose engines are in-process hosts with `options`; `wrap` may watch or
+ * alter a port's messages before the engine client gets it.
+ */
+export function controllerOf(
+  cell: FakeCell,
+  settings: Partial<CellSettings> = {},
+  options: EngineHost.Options = {},
+  wrap: (port: EnginePortOf) => EnginePortOf = port => port
+): CellController {
   return new CellController({
     host: cell,
     engine: () => {
       cell.engines++;
-      return new EngineClient(inProcessPort(realCore, options));
+      return new EngineClient(wrap(inProcessPort(realCore, options)));
     },
     ledger: ledgerGlue,
     checkSpec: text => {

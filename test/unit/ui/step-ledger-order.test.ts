@@ -3,36 +3,20 @@
  * while the page redraws, instead of after, where the next click's step would queue behind it.
  * The ledger written is still the one of the step shown.
  */
-import { CellController } from '../../../src/ui/controller';
-import { DEFAULT_SETTINGS } from '../../../src/ui/ports';
-import { ledgerGlue } from '../../../src/ui/ledger-glue';
-import { EngineClient } from '../../../src/worker/client';
-import { inProcessPort } from '../../../src/worker/in-process';
-import { realCore } from '../../../src/worker/core-adapter';
-import { parseSpec, TEMPLATE_SPEC } from '../../../src/experiment';
-import { fakeCell } from './fake-cell';
+import { TEMPLATE_SPEC } from '../../../src/experiment';
+import { controllerOf, fakeCell } from './fake-cell';
 
 describe('Step and the ledger write', () => {
   it('sends the ledger request before the step is drawn, and writes the ledger of that step', async () => {
     const cell = fakeCell(TEMPLATE_SPEC);
     const events: string[] = [];
-    const c = new CellController({
-      host: cell,
-      engine: () => {
-        const port = inProcessPort(realCore);
-        const post = port.postMessage.bind(port);
-        port.postMessage = (message, transfer) => {
-          events.push(`request ${(message as { kind: string }).kind}`);
-          post(message, transfer);
-        };
-        return new EngineClient(port);
-      },
-      ledger: ledgerGlue,
-      checkSpec: text => {
-        const r = parseSpec(text);
-        return r.ok ? [] : r.errors;
-      },
-      settings: () => DEFAULT_SETTINGS
+    const c = controllerOf(cell, {}, {}, port => {
+      const post = port.postMessage.bind(port);
+      port.postMessage = (message, transfer) => {
+        events.push(`request ${(message as { kind: string }).kind}`);
+        post(message, transfer);
+      };
+      return port;
     });
     expect(await c.run()).toBe(true);
     let shown = -1;

@@ -5,34 +5,18 @@
  * reload and "1.0 ms/step" after it. The expected value is the arithmetic mean of the records
  * (common practice (no single source)).
  */
-import { CellController } from '../../../src/ui/controller';
-import { DEFAULT_SETTINGS } from '../../../src/ui/ports';
-import { ledgerGlue } from '../../../src/ui/ledger-glue';
-import { EngineClient } from '../../../src/worker/client';
-import { inProcessPort } from '../../../src/worker/in-process';
-import { realCore } from '../../../src/worker/core-adapter';
-import { parseSpec, TEMPLATE_SPEC } from '../../../src/experiment';
+import { TEMPLATE_SPEC } from '../../../src/experiment';
 import type { EngineReply } from '../../../src/worker/protocol';
-import { fakeCell } from './fake-cell';
+import { controllerOf, fakeCell } from './fake-cell';
 
 describe('the status line’s timing after a step', () => {
   it('is the mean of the last records, whatever the request itself took', async () => {
     const cell = fakeCell(TEMPLATE_SPEC);
-    const c = new CellController({
-      host: cell,
-      engine: () => {
-        const port = inProcessPort(realCore);
-        const listen = port.listen.bind(port);
-        // A slowed request: the reply says its one update took 13.3 ms of wall time.
-        port.listen = l => listen((reply: EngineReply) => l(reply.kind === 'stepped' ? { ...reply, elapsedMs: 13.3 } : reply));
-        return new EngineClient(port);
-      },
-      ledger: ledgerGlue,
-      checkSpec: text => {
-        const r = parseSpec(text);
-        return r.ok ? [] : r.errors;
-      },
-      settings: () => DEFAULT_SETTINGS
+    const c = controllerOf(cell, {}, {}, port => {
+      const listen = port.listen.bind(port);
+      // A slowed request: the reply says its one update took 13.3 ms of wall time.
+      port.listen = l => listen((reply: EngineReply) => l(reply.kind === 'stepped' ? { ...reply, elapsedMs: 13.3 } : reply));
+      return port;
     });
     expect(await c.run()).toBe(true);
     expect(await c.step(30)).toBe(true);
