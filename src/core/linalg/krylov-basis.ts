@@ -2,9 +2,12 @@
  * The Lanczos basis in one block of memory, re-orthogonalized by blocked classical
  * Gram–Schmidt: h = Qᵀw as four dot products per pass over w, then w −= Q h four vectors per
  * pass (the `dots` and `subtractRows` kernels of `core/wasm/eigen.wat`), instead of one dot
- * product and one update per basis vector. Where the engine lacks WebAssembly SIMD the vectors
- * are plain arrays and the loops are JavaScript. A readout: the sums are ordered differently
- * from one-vector-at-a-time code and agree with it to rounding.
+ * product and one update per basis vector. The first pass's update and the second pass's dot
+ * products share one sweep (`subtractThenDots`, chunk by chunk while the chunk's rows are in
+ * cache), so a step reads the basis three times, not four, with the same bits as the two kernels
+ * one after the other. Where the engine lacks WebAssembly SIMD the vectors are plain arrays and
+ * the loops are JavaScript. A readout: the sums are ordered differently from
+ * one-vector-at-a-time code and agree with it to rounding.
  */
 import { growTo, wasmInstance } from '../wasm/load';
 
@@ -12,10 +15,24 @@ interface KernelExports {
   memory: WebAssembly.Memory;
   subtractRows(dst: number, src: number, stride: number, coef: number, count: number, len: number): void;
   dots(out: number, src: number, stride: number, count: number, v: number, len: number): void;
+  subtractThenDots(dst: number, src: number, stride: number, coef: number, count: number, len: number, out: number, acc: number, chunk: number): void;
 }
 
 /** Doubles before the first vector: the kernels' own bytes, then the coefficient scratch. */
 const HEAD = 32;
+
+/**
+ * Bytes of basis rows one chunk of the fused sweep touches: its update reads them and its dot
+ * products read them again, from cache when they fit in a core's L2 (2 MiB on the machine of
+ * test/bench/BENCHMARKS.md) with room for what else runs; measured there (common practice: tune the
+ * block to the cache, no single source).
+ */
+const CHUNK_BYTES = 512 * 1024;
+
+/** Entries per chunk of the fused sweep for `count` rows: even, at least 64. */
+export function chunkEntries(count: number): number {
+  return Math.max(64, Math.floor(CHUNK_BYTES / (8 * Math.max(1, count))) & ~1);
+}
 
 /** A growing set of n-vectors that can orthogonalize a vector against all of them. */
 export class KrylovBasis {
@@ -23,6 +40,8 @@ export class KrylovBasis {
   readonly vectors: Float64Array[] = [];
   private ex: KernelExports | null;
   private capacity = 0;
+  /** Vectors the coefficient scratch has room for. */
+  private readonly slots: number;
   private readonly scratch: number;
 
   /**
@@ -32,8 +51,9 @@ export class KrylovBasis {
    */
   constructor(readonly n: number, expected: number, simd = true) {
     this.ex = simd ? (wasmInstance('eigen') as unknown as KernelExports | null) : null;
-    // [HEAD | coefficients (one per vector) | w scratch | vectors]
-    this.scratch = HEAD + Math.max(16, expected + 8);
+    // [HEAD | pass-1 coefficients | pass-2 coefficients | two-lane sums (two per vector) | w | vectors]
+    this.slots = 2 * Math.ceil(Math.max(16, expected + 8) / 2);
+    this.scratch = HEAD + 4 * this.slots;
     if (this.ex !== null && !this.reserve(Math.max(1, expected))) this.ex = null;
   }
 
@@ -64,16 +84,16 @@ export class KrylovBasis {
     if (ex === null || !this.vectors.every((q) => q.buffer === ex.memory.buffer)) return plainOrthogonalize(w, this.vectors, index);
     const n = this.n;
     const buf = new Float64Array(ex.memory.buffer);
-    const coef = HEAD;
+    const h1 = HEAD;
+    const h2 = HEAD + this.slots;
+    const acc = HEAD + 2 * this.slots;
     const wAt = this.scratch;
     buf.set(w, wAt);
     const q0 = this.vectorAt(0);
-    let correction = 0;
-    for (let pass = 0; pass < 2; pass++) {
-      ex.dots(8 * coef, 8 * q0, 8 * n, m, 8 * wAt, n);
-      if (pass === 0 && index >= 0) correction = buf[coef + index];
-      ex.subtractRows(8 * wAt, 8 * q0, 8 * n, 8 * coef, m, n);
-    }
+    ex.dots(8 * h1, 8 * q0, 8 * n, m, 8 * wAt, n);
+    const correction = index >= 0 ? buf[h1 + index] : 0;
+    ex.subtractThenDots(8 * wAt, 8 * q0, 8 * n, 8 * h1, m, n, 8 * h2, 8 * acc, chunkEntries(m));
+    ex.subtractRows(8 * wAt, 8 * q0, 8 * n, 8 * h2, m, n);
     w.set(buf.subarray(wAt, wAt + n));
     return correction;
   }
@@ -85,7 +105,7 @@ export class KrylovBasis {
   /** Room for `count` vectors; re-creates every view when the memory moved. */
   private reserve(count: number): boolean {
     const ex = this.ex as KernelExports;
-    if (count > this.scratch - HEAD) return false; // the coefficient scratch is sized for `expected`
+    if (count > this.slots) return false; // the coefficient scratch is sized for `expected`
     if (!growTo(ex.memory, 8 * (this.vectorAt(count) + 16))) return false;
     this.capacity = count;
     const buffer = ex.memory.buffer;

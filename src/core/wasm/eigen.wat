@@ -45,7 +45,7 @@
 ;; dst[j] ← dst[j] − Σ_{k<count} coef[k]·src[k·stride + j] for j < len (several vectors
   ;; subtracted from one, each coefficient at $coef + 8k). Four source rows per pass, so dst
   ;; is loaded and stored once for every four.
-  (func (export "subtractRows") (param $dst i32) (param $src i32) (param $stride i32) (param $coef i32) (param $count i32) (param $len i32)
+  (func $subtractRows (export "subtractRows") (param $dst i32) (param $src i32) (param $stride i32) (param $coef i32) (param $count i32) (param $len i32)
     (local $k i32) (local $j i32) (local $end i32) (local $r1 i32) (local $r2 i32) (local $r3 i32)
     (local $c0 v128) (local $c1 v128) (local $c2 v128) (local $c3 v128)
     (local.set $end (i32.shl (i32.and (local.get $len) (i32.const -2)) (i32.const 3)))
@@ -140,6 +140,129 @@
         (br_if $done (i32.ge_s (local.get $k) (local.get $count)))
         (f64.store (local.get $out) (call $dot (local.get $src) (local.get $v) (local.get $len)))
         (local.set $src (i32.add (local.get $src) (local.get $stride)))
+        (local.set $out (i32.add (local.get $out) (i32.const 8)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $rows))))
+
+  ;; Pass 1's update and pass 2's dot products of CGS2 (krylov-basis.ts) in one sweep over the
+  ;; basis: for each chunk of $chunk entries (even; the chunks start on even indices) first
+  ;; dst[chunk] −= Σ_k coef[k]·src[k, chunk] exactly as $subtractRows, then the chunk's products
+  ;; src[k, chunk]·dst[chunk] are added into two-lane sums kept at $acc (16 bytes a row) while
+  ;; the chunk's rows are still in cache; the odd last entry and the lanes' reduction come at
+  ;; the end, as in "dots". Every entry of dst gets its updates, and every sum its terms, in
+  ;; the order of "subtractRows" then "dots": the same bits, with the basis read once, not twice.
+  (func (export "subtractThenDots") (param $dst i32) (param $src i32) (param $stride i32) (param $coef i32) (param $count i32) (param $len i32)
+    (param $out i32) (param $acc i32) (param $chunk i32)
+    (local $a i32) (local $n i32) (local $pairs i32) (local $i i32)
+    (local.set $chunk (select (i32.and (local.get $chunk) (i32.const -2)) (i32.const 2) (i32.ge_s (local.get $chunk) (i32.const 2))))
+    (block $zeroed
+      (loop $zero
+        (br_if $zeroed (i32.ge_s (local.get $i) (local.get $count)))
+        (v128.store (i32.add (local.get $acc) (i32.shl (local.get $i) (i32.const 4))) (v128.const f64x2 0 0))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $zero)))
+    (local.set $pairs (i32.and (local.get $len) (i32.const -2)))
+    (block $chunks_done
+      (loop $chunks
+        (br_if $chunks_done (i32.ge_s (local.get $a) (local.get $pairs)))
+        (local.set $n (select (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a))
+          (i32.le_s (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a)))))
+        (call $subtractRows (i32.add (local.get $dst) (i32.shl (local.get $a) (i32.const 3))) (i32.add (local.get $src) (i32.shl (local.get $a) (i32.const 3)))
+          (local.get $stride) (local.get $coef) (local.get $count) (local.get $n))
+        (call $accumulateDots (local.get $acc) (i32.add (local.get $src) (i32.shl (local.get $a) (i32.const 3))) (local.get $stride) (local.get $count)
+          (i32.add (local.get $dst) (i32.shl (local.get $a) (i32.const 3))) (local.get $n))
+        (local.set $a (i32.add (local.get $a) (local.get $n)))
+        (br $chunks)))
+    (if (i32.and (local.get $len) (i32.const 1))
+      (then
+        (call $subtractRows (i32.add (local.get $dst) (i32.shl (local.get $pairs) (i32.const 3))) (i32.add (local.get $src) (i32.shl (local.get $pairs) (i32.const 3)))
+          (local.get $stride) (local.get $coef) (local.get $count) (i32.const 1))))
+    (call $finishDots (local.get $out) (local.get $acc) (local.get $src) (local.get $stride) (local.get $count) (local.get $dst) (local.get $len)))
+
+  ;; acc[k] += src[k·stride + ·]·v lane by lane over an even len (lane 0 even entries, lane 1
+  ;; odd), four rows per pass over v, then the rows left one at a time; acc[k] at $acc + 16k.
+  (func $accumulateDots (param $acc i32) (param $src i32) (param $stride i32) (param $count i32) (param $v i32) (param $len i32)
+    (local $k i32) (local $j i32) (local $end i32) (local $r1 i32) (local $r2 i32) (local $r3 i32)
+    (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128) (local $x v128)
+    (local.set $end (i32.shl (local.get $len) (i32.const 3)))
+    (block $quads_done
+      (loop $quads
+        (br_if $quads_done (i32.gt_s (i32.add (local.get $k) (i32.const 4)) (local.get $count)))
+        (local.set $r1 (i32.add (local.get $src) (local.get $stride)))
+        (local.set $r2 (i32.add (local.get $r1) (local.get $stride)))
+        (local.set $r3 (i32.add (local.get $r2) (local.get $stride)))
+        (local.set $s0 (v128.load offset=0 (local.get $acc)))
+        (local.set $s1 (v128.load offset=16 (local.get $acc)))
+        (local.set $s2 (v128.load offset=32 (local.get $acc)))
+        (local.set $s3 (v128.load offset=48 (local.get $acc)))
+        (local.set $j (i32.const 0))
+        (block $pairs_done
+          (loop $pairs
+            (br_if $pairs_done (i32.ge_u (local.get $j) (local.get $end)))
+            (local.set $x (v128.load (i32.add (local.get $v) (local.get $j))))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $src) (local.get $j))))))
+            (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $r1) (local.get $j))))))
+            (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $r2) (local.get $j))))))
+            (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $r3) (local.get $j))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 16)))
+            (br $pairs)))
+        (v128.store offset=0 (local.get $acc) (local.get $s0))
+        (v128.store offset=16 (local.get $acc) (local.get $s1))
+        (v128.store offset=32 (local.get $acc) (local.get $s2))
+        (v128.store offset=48 (local.get $acc) (local.get $s3))
+        (local.set $src (i32.add (local.get $r3) (local.get $stride)))
+        (local.set $acc (i32.add (local.get $acc) (i32.const 64)))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
+        (br $quads)))
+    (block $done
+      (loop $rows
+        (br_if $done (i32.ge_s (local.get $k) (local.get $count)))
+        (local.set $s0 (v128.load (local.get $acc)))
+        (local.set $j (i32.const 0))
+        (block $row_done
+          (loop $row_pairs
+            (br_if $row_done (i32.ge_u (local.get $j) (local.get $end)))
+            (local.set $s0 (f64x2.add (local.get $s0)
+              (f64x2.mul (v128.load (i32.add (local.get $src) (local.get $j))) (v128.load (i32.add (local.get $v) (local.get $j))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 16)))
+            (br $row_pairs)))
+        (v128.store (local.get $acc) (local.get $s0))
+        (local.set $src (i32.add (local.get $src) (local.get $stride)))
+        (local.set $acc (i32.add (local.get $acc) (i32.const 16)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $rows))))
+
+  ;; out[k] from the two-lane sums at $acc as "dots" ends them: rows in fours take the odd last
+  ;; entry into lane 0 (lane 1 adds 0·0) and then add the lanes; the rows left add the lanes
+  ;; first and the last entry's product after (as $dot).
+  (func $finishDots (param $out i32) (param $acc i32) (param $src i32) (param $stride i32) (param $count i32) (param $v i32) (param $len i32)
+    (local $k i32) (local $j i32) (local $odd i32) (local $s v128) (local $x v128) (local $t f64)
+    (local.set $odd (i32.and (local.get $len) (i32.const 1)))
+    (local.set $j (i32.shl (i32.and (local.get $len) (i32.const -2)) (i32.const 3)))
+    ;; read only when it exists: v may end where the memory does
+    (if (local.get $odd) (then (local.set $x (v128.load64_zero (i32.add (local.get $v) (local.get $j))))))
+    (block $quads_done
+      (loop $quads
+        (br_if $quads_done (i32.ge_s (local.get $k) (i32.and (local.get $count) (i32.const -4))))
+        (local.set $s (v128.load (local.get $acc)))
+        (if (local.get $odd)
+          (then (local.set $s (f64x2.add (local.get $s) (f64x2.mul (local.get $x) (v128.load64_zero (i32.add (local.get $src) (local.get $j))))))))
+        (f64.store (local.get $out) (f64.add (f64x2.extract_lane 0 (local.get $s)) (f64x2.extract_lane 1 (local.get $s))))
+        (local.set $src (i32.add (local.get $src) (local.get $stride)))
+        (local.set $acc (i32.add (local.get $acc) (i32.const 16)))
+        (local.set $out (i32.add (local.get $out) (i32.const 8)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $quads)))
+    (block $done
+      (loop $rows
+        (br_if $done (i32.ge_s (local.get $k) (local.get $count)))
+        (local.set $s (v128.load (local.get $acc)))
+        (local.set $t (f64.add (f64x2.extract_lane 0 (local.get $s)) (f64x2.extract_lane 1 (local.get $s))))
+        (if (local.get $odd)
+          (then (local.set $t (f64.add (local.get $t) (f64.mul (f64.load (i32.add (local.get $src) (local.get $j))) (f64.load (i32.add (local.get $v) (local.get $j))))))))
+        (f64.store (local.get $out) (local.get $t))
+        (local.set $src (i32.add (local.get $src) (local.get $stride)))
+        (local.set $acc (i32.add (local.get $acc) (i32.const 16)))
         (local.set $out (i32.add (local.get $out) (i32.const 8)))
         (local.set $k (i32.add (local.get $k) (i32.const 1)))
         (br $rows))))
