@@ -7,7 +7,10 @@
  * shared machine slows both sides alike. Every row also says whether both sides produced the
  * same bits (a speed change must not move one).
  *
- *   npx tsx test/bench/against-commit.ts <commit>     e.g. main, HEAD~3 or a hash
+ *   npx tsx test/bench/against-commit.ts <commit>           e.g. main, HEAD~3 or a hash
+ *   npx tsx test/bench/against-commit.ts <commit> lanczos   the Lanczos basis instead: one
+ *     re-orthogonalization at 30, 60 and 90 vectors of 85 002, then top-10 Lanczos on MLP c
+ *     (both sides over the working tree's Hessian-vector product)
  *
  * Prints; writes nothing but the extracted tree.
  */
@@ -21,6 +24,10 @@ import { initNetwork } from '../../src/core/model/init';
 import { Rng } from '../../src/core/rng';
 import type { NetworkModel } from '../../src/core/setup';
 import { MLPS } from './compare';
+import { buildMlp } from './networks';
+import { KrylovBasis } from '../../src/core/linalg/krylov-basis';
+import { lanczosExtremes } from '../../src/core/linalg/lanczos';
+import { curvatureOperator } from '../../src/core/probe/curvature';
 
 type NetworkClass = typeof Network;
 type KernelsFn = typeof matrixKernels;
@@ -41,12 +48,15 @@ function extract(commit: string): string {
 
 const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
 
-/** Median CPU ms per call of each side over `rounds` rounds of `reps` calls, sides alternating first. */
-function interleaved(sides: [() => void, () => void], rounds: number, reps: number): [number, number] {
+/**
+ * Median CPU ms per call of each side over `rounds` rounds of `reps` calls, sides alternating
+ * first; each round starts with one untimed call per side unless `warm` is false.
+ */
+function interleaved(sides: [() => void, () => void], rounds: number, reps: number, warm = true): [number, number] {
   const cpu: [number[], number[]] = [[], []];
   for (let r = 0; r < rounds; r++) {
     for (const s of r % 2 === 0 ? [0, 1] : [1, 0]) {
-      sides[s]();
+      if (warm) sides[s]();
       const c = process.cpuUsage();
       for (let i = 0; i < reps; i++) sides[s]();
       const u = process.cpuUsage(c);
@@ -62,10 +72,61 @@ function line(what: string, [before, after]: [number, number], same: boolean): v
   process.stdout.write(`${what.padEnd(44)} before ${before.toFixed(3).padStart(8)} ms  after ${after.toFixed(3).padStart(8)} ms  after/before ${(after / before).toFixed(3)}  same bits ${same}\n`);
 }
 
+type BasisClass = typeof KrylovBasis;
+type LanczosFn = typeof lanczosExtremes;
+type RngClass = typeof Rng;
+
+/** The Lanczos basis and top-10 Lanczos of the working tree against the commit's (mode `lanczos`). */
+async function lanczosRows(dir: string): Promise<void> {
+  const old = (await import(join(dir, 'src/core/linalg/krylov-basis.ts'))) as { KrylovBasis: BasisClass };
+  const oldLanczos = (await import(join(dir, 'src/core/linalg/lanczos.ts'))) as { lanczosExtremes: LanczosFn };
+  const oldRng = (await import(join(dir, 'src/core/rng.ts'))) as { Rng: RngClass };
+  const n = 85_002;
+  const rng = Rng.fromSeed(4);
+  const stores = [new old.KrylovBasis(n, 91), new KrylovBasis(n, 91)];
+  const w0 = rng.fillNormal(new Float64Array(n));
+  const ws = [new Float64Array(n), new Float64Array(n)];
+  const corrections = [0, 0];
+  for (let m = 1; m <= 90; m++) {
+    const q = rng.fillNormal(new Float64Array(n));
+    let s = 0;
+    for (const x of q) s += x * x;
+    for (let i = 0; i < n; i++) q[i] /= Math.sqrt(s);
+    for (const st of stores) st.push(q);
+    if (m % 30 !== 0) continue;
+    const side = (k: number) => (): void => {
+      ws[k].set(w0);
+      corrections[k] = stores[k].orthogonalize(ws[k], m - 1);
+    };
+    const t = interleaved([side(0), side(1)], 9, 5);
+    line(`orthogonalize, ${m} vectors of ${n}`, t, sameBits(ws[0], ws[1]) && Object.is(corrections[0], corrections[1]));
+  }
+  stores.length = 0;
+  const c = MLPS.find((x) => x.name === 'MLP c');
+  if (c === undefined) throw new Error('MLP c is missing from compare.ts MLPS');
+  const { net, w } = buildMlp(c, 1);
+  const P = net.parameterCount;
+  const values: Float64Array[] = [new Float64Array(10), new Float64Array(10)];
+  const run = (k: number) => (): void => {
+    net.forgetPass();
+    const op = curvatureOperator(net, w);
+    const r = k === 0
+      ? oldLanczos.lanczosExtremes(op.apply, P, oldRng.Rng.fromSeed(1), { k: 10, tol: 1e-10 })
+      : lanczosExtremes(op.apply, P, Rng.fromSeed(1), { k: 10, tol: 1e-10 });
+    values[k] = Float64Array.from(r.largest, (p) => p.value);
+  };
+  line(`top-10 Lanczos ${c.name} (P ${P})`, interleaved([run(0), run(1)], 4, 1, false), sameBits(values[0], values[1]));
+}
+
 async function main(): Promise<void> {
   const commit = process.argv[2];
-  if (!commit) throw new Error('usage: npx tsx test/bench/against-commit.ts <commit>');
+  if (!commit) throw new Error('usage: npx tsx test/bench/against-commit.ts <commit> [lanczos]');
   const dir = extract(commit);
+  if (process.argv[3] === 'lanczos') {
+    process.stdout.write(`working tree against ${commit} (CPU time, interleaved); load ${loadavg()[0].toFixed(2)}\n`);
+    await lanczosRows(dir);
+    return;
+  }
   const old = (await import(join(dir, 'src/core/model/network.ts'))) as { Network: NetworkClass };
   const oldKernels = (await import(join(dir, 'src/core/model/kernels.ts'))) as { matrixKernels: KernelsFn };
   process.stdout.write(`working tree against ${commit} (CPU time, interleaved); load ${loadavg()[0].toFixed(2)}\n`);

@@ -22,12 +22,13 @@ interface KernelExports {
 const HEAD = 32;
 
 /**
- * Bytes of basis rows one chunk of the fused sweep touches: its update reads them and its dot
- * products read them again, from cache when they fit in a core's L2 (2 MiB on the machine of
- * test/bench/BENCHMARKS.md) with room for what else runs; measured there (common practice: tune the
- * block to the cache, no single source).
+ * Bytes of basis rows one chunk of the fused sweep touches: its update reads them from memory
+ * and its dot products read them again, from a core's L2 (2 MiB on the machine of
+ * test/bench/BENCHMARKS.md) or the L3 that takes what L2 drops. Measured there at 90 vectors of
+ * 85 002: 0.5 MiB chunks were slowest (the rows are read as short streams), 2–4 MiB best, whole
+ * vectors no better than the two kernels apart (common practice: tune the block to the cache).
  */
-const CHUNK_BYTES = 512 * 1024;
+const CHUNK_BYTES = 2 * 1024 * 1024;
 
 /** Entries per chunk of the fused sweep for `count` rows: even, at least 64. */
 export function chunkEntries(count: number): number {

@@ -90,9 +90,10 @@ function twoKernelOrthogonalize(basis: readonly Float64Array[], w: Float64Array,
 }
 
 describe('subtractThenDots: the same bits as subtractRows then dots', () => {
-  // Counts in fours and with one, two or three rows left; lengths odd and even, shorter than a
-  // chunk, on a chunk edge, one either side of it and one past several chunks.
-  const counts = [1, 2, 3, 4, 5, 6, 7, 8, 11];
+  // Counts that take the dot products' groups of eight, four and one in every combination;
+  // lengths odd and even, shorter than a chunk, on a chunk edge, either side of it and past
+  // several chunks.
+  const counts = [1, 2, 3, 4, 5, 6, 7, 8, 9, 11, 12, 13, 15];
   const chunks = [2, 4, 6, 64];
   const cases: [number, number, number][] = [];
   for (const count of counts) {
