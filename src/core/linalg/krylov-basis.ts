@@ -3,9 +3,9 @@
  * Gram–Schmidt: h = Qᵀw as four dot products per pass over w, then w −= Q h four vectors per
  * pass (the `dots` and `subtractRows` kernels of `core/wasm/eigen.wat`), instead of one dot
  * product and one update per basis vector. The first pass's update and the second pass's dot
- * products share one sweep (`subtractThenDots`, chunk by chunk while the chunk's rows are in
- * cache), so a step reads the basis three times, not four, with the same bits as the two kernels
- * one after the other. Where the engine lacks WebAssembly SIMD the vectors are plain arrays and
+ * products share one sweep (`subtractThenDots`: a chunk's update beside the previous chunk's
+ * dot products, whose rows are still in cache), so a step reads the basis from memory three
+ * times, not four, with the same bits as the two kernels one after the other. Where the engine lacks WebAssembly SIMD the vectors are plain arrays and
  * the loops are JavaScript. A readout: the sums are ordered differently from
  * one-vector-at-a-time code and agree with it to rounding.
  */
@@ -23,10 +23,10 @@ const HEAD = 32;
 
 /**
  * Bytes of basis rows one chunk of the fused sweep touches: its update reads them from memory
- * and its dot products read them again, from a core's L2 (2 MiB on the machine of
- * test/bench/BENCHMARKS.md) or the L3 that takes what L2 drops. Measured there at 90 vectors of
- * 85 002: 0.5 MiB chunks were slowest (the rows are read as short streams), 2–4 MiB best, whole
- * vectors no better than the two kernels apart (common practice: tune the block to the cache).
+ * and the next chunk's loop reads them again from cache (a core's L2, or the L3 that takes what
+ * L2 drops). On the machine of test/bench/BENCHMARKS.md (1 MiB L2 a core, 32 MiB L3) 2 MiB was
+ * among the best of 0.25–4 MiB at 30–90 vectors of 85 002: smaller chunks read each row as short
+ * streams, larger ones from farther (common practice: tune the block to the cache).
  */
 const CHUNK_BYTES = 2 * 1024 * 1024;
 

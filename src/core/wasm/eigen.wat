@@ -145,15 +145,16 @@
         (br $rows))))
 
   ;; Pass 1's update and pass 2's dot products of CGS2 (krylov-basis.ts) in one sweep over the
-  ;; basis: for each chunk of $chunk entries (even; the chunks start on even indices) first
-  ;; dst[chunk] −= Σ_k coef[k]·src[k, chunk] exactly as $subtractRows, then the chunk's products
-  ;; src[k, chunk]·dst[chunk] are added into two-lane sums kept at $acc (16 bytes a row) while
-  ;; the chunk's rows are still in cache; the odd last entry and the lanes' reduction come at
-  ;; the end, as in "dots". Every entry of dst gets its updates, and every sum its terms, in
-  ;; the order of "subtractRows" then "dots": the same bits, with the basis read once, not twice.
+  ;; basis, chunk by chunk ($chunk entries, even, so chunks start on even indices): a chunk's
+  ;; update dst[chunk] −= Σ_k coef[k]·src[k, chunk] (as $subtractRows) runs in the same loop as
+  ;; the previous chunk's products src[k, ·]·dst[·], whose updates are complete and whose rows
+  ;; are still in cache, added into two-lane sums kept at $acc (16 bytes a row) in the order of
+  ;; "dots"; the odd last entry and the lanes' reduction come at the end, as in "dots". Every
+  ;; entry of dst gets its updates, and every sum its terms, in the order of "subtractRows" then
+  ;; "dots": the same bits, with the basis read from memory once instead of twice.
   (func (export "subtractThenDots") (param $dst i32) (param $src i32) (param $stride i32) (param $coef i32) (param $count i32) (param $len i32)
     (param $out i32) (param $acc i32) (param $chunk i32)
-    (local $a i32) (local $n i32) (local $pairs i32) (local $i i32)
+    (local $a i32) (local $n i32) (local $pairs i32) (local $i i32) (local $quads i32) (local $left i32) (local $at i32) (local $prev i32)
     (local.set $chunk (select (i32.and (local.get $chunk) (i32.const -2)) (i32.const 2) (i32.ge_s (local.get $chunk) (i32.const 2))))
     (block $zeroed
       (loop $zero
@@ -162,22 +163,108 @@
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
         (br $zero)))
     (local.set $pairs (i32.and (local.get $len) (i32.const -2)))
-    (block $chunks_done
-      (loop $chunks
-        (br_if $chunks_done (i32.ge_s (local.get $a) (local.get $pairs)))
-        (local.set $n (select (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a))
-          (i32.le_s (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a)))))
-        (call $subtractRows (i32.add (local.get $dst) (i32.shl (local.get $a) (i32.const 3))) (i32.add (local.get $src) (i32.shl (local.get $a) (i32.const 3)))
-          (local.get $stride) (local.get $coef) (local.get $count) (local.get $n))
-        (call $accumulateDots (local.get $acc) (i32.add (local.get $src) (i32.shl (local.get $a) (i32.const 3))) (local.get $stride) (local.get $count)
-          (i32.add (local.get $dst) (i32.shl (local.get $a) (i32.const 3))) (local.get $n))
-        (local.set $a (i32.add (local.get $a) (local.get $n)))
-        (br $chunks)))
+    (local.set $quads (i32.and (local.get $count) (i32.const -4)))
+    (local.set $left (i32.mul (local.get $quads) (local.get $stride)))
+    (if (i32.gt_s (local.get $pairs) (i32.const 0))
+      (then
+        ;; chunk 0's update alone; then each chunk's update beside the previous chunk's dot
+        ;; products (one loop streams the new rows in while the cached ones are summed)
+        (local.set $n (select (local.get $chunk) (local.get $pairs) (i32.le_s (local.get $chunk) (local.get $pairs))))
+        (call $subtractRows (local.get $dst) (local.get $src) (local.get $stride) (local.get $coef) (local.get $count) (local.get $n))
+        (local.set $a (local.get $n))
+        (block $chunks_done
+          (loop $chunks
+            (br_if $chunks_done (i32.ge_s (local.get $a) (local.get $pairs)))
+            (local.set $n (select (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a))
+              (i32.le_s (local.get $chunk) (i32.sub (local.get $pairs) (local.get $a)))))
+            (local.set $at (i32.shl (local.get $a) (i32.const 3)))
+            (local.set $prev (i32.shl (i32.sub (local.get $a) (local.get $chunk)) (i32.const 3)))
+            (call $subtractBesideDots (i32.add (local.get $dst) (local.get $at)) (i32.add (local.get $src) (local.get $at)) (local.get $stride)
+              (local.get $coef) (local.get $quads) (local.get $n) (local.get $chunk) (local.get $acc))
+            ;; the rows left after the fours: their updates of this chunk, then their sums of the last
+            (call $subtractRows (i32.add (local.get $dst) (local.get $at)) (i32.add (i32.add (local.get $src) (local.get $left)) (local.get $at)) (local.get $stride)
+              (i32.add (local.get $coef) (i32.shl (local.get $quads) (i32.const 3))) (i32.sub (local.get $count) (local.get $quads)) (local.get $n))
+            (call $accumulateDots (i32.add (local.get $acc) (i32.shl (local.get $quads) (i32.const 4))) (i32.add (i32.add (local.get $src) (local.get $left)) (local.get $prev))
+              (local.get $stride) (i32.sub (local.get $count) (local.get $quads)) (i32.add (local.get $dst) (local.get $prev)) (local.get $chunk))
+            (local.set $a (i32.add (local.get $a) (local.get $n)))
+            (br $chunks)))
+        ;; the last chunk's sums
+        (local.set $prev (i32.shl (i32.sub (local.get $a) (local.get $n)) (i32.const 3)))
+        (call $accumulateDots (local.get $acc) (i32.add (local.get $src) (local.get $prev)) (local.get $stride) (local.get $count)
+          (i32.add (local.get $dst) (local.get $prev)) (local.get $n))))
     (if (i32.and (local.get $len) (i32.const 1))
       (then
         (call $subtractRows (i32.add (local.get $dst) (i32.shl (local.get $pairs) (i32.const 3))) (i32.add (local.get $src) (i32.shl (local.get $pairs) (i32.const 3)))
           (local.get $stride) (local.get $coef) (local.get $count) (i32.const 1))))
     (call $finishDots (local.get $out) (local.get $acc) (local.get $src) (local.get $stride) (local.get $count) (local.get $dst) (local.get $len)))
+
+;; For each of the first `quads` rows in fours: dst[j] −= (c0·q0[j] + c1·q1[j]) + (c2·q2[j] +
+  ;; c3·q3[j]) for j < n (as $subtractRows), and in the same loop the rows' two-lane sums at $acc
+  ;; take the products of the chunk before (the `chunk` entries ending at dst, whose updates are
+  ;; complete) in the order of $accumulateDots; entries n ≤ j < chunk of that chunk after.
+  (func $subtractBesideDots (param $dst i32) (param $src i32) (param $stride i32) (param $coef i32) (param $quads i32) (param $n i32) (param $chunk i32) (param $acc i32)
+    (local $k i32) (local $j i32) (local $end i32) (local $back i32) (local $r1 i32) (local $r2 i32) (local $r3 i32)
+    (local $b0 i32) (local $b1 i32) (local $b2 i32) (local $b3 i32) (local $v i32)
+    (local $c0 v128) (local $c1 v128) (local $c2 v128) (local $c3 v128)
+    (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128) (local $x v128)
+    (local.set $end (i32.shl (local.get $n) (i32.const 3)))
+    (local.set $back (i32.shl (local.get $chunk) (i32.const 3)))
+    (local.set $v (i32.sub (local.get $dst) (local.get $back)))
+    (block $quads_done
+      (loop $quads
+        (br_if $quads_done (i32.ge_s (local.get $k) (local.get $quads)))
+        (local.set $r1 (i32.add (local.get $src) (local.get $stride)))
+        (local.set $r2 (i32.add (local.get $r1) (local.get $stride)))
+        (local.set $r3 (i32.add (local.get $r2) (local.get $stride)))
+        (local.set $b0 (i32.sub (local.get $src) (local.get $back)))
+        (local.set $b1 (i32.sub (local.get $r1) (local.get $back)))
+        (local.set $b2 (i32.sub (local.get $r2) (local.get $back)))
+        (local.set $b3 (i32.sub (local.get $r3) (local.get $back)))
+        (local.set $c0 (v128.load64_splat offset=0 (local.get $coef)))
+        (local.set $c1 (v128.load64_splat offset=8 (local.get $coef)))
+        (local.set $c2 (v128.load64_splat offset=16 (local.get $coef)))
+        (local.set $c3 (v128.load64_splat offset=24 (local.get $coef)))
+        (local.set $s0 (v128.load offset=0 (local.get $acc)))
+        (local.set $s1 (v128.load offset=16 (local.get $acc)))
+        (local.set $s2 (v128.load offset=32 (local.get $acc)))
+        (local.set $s3 (v128.load offset=48 (local.get $acc)))
+        (local.set $j (i32.const 0))
+        (block $both_done
+          (loop $both
+            (br_if $both_done (i32.ge_u (local.get $j) (local.get $end)))
+            (v128.store (i32.add (local.get $dst) (local.get $j))
+              (f64x2.sub (v128.load (i32.add (local.get $dst) (local.get $j)))
+                (f64x2.add
+                  (f64x2.add (f64x2.mul (local.get $c0) (v128.load (i32.add (local.get $src) (local.get $j))))
+                             (f64x2.mul (local.get $c1) (v128.load (i32.add (local.get $r1) (local.get $j)))))
+                  (f64x2.add (f64x2.mul (local.get $c2) (v128.load (i32.add (local.get $r2) (local.get $j))))
+                             (f64x2.mul (local.get $c3) (v128.load (i32.add (local.get $r3) (local.get $j))))))))
+            (local.set $x (v128.load (i32.add (local.get $v) (local.get $j))))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b0) (local.get $j))))))
+            (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b1) (local.get $j))))))
+            (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b2) (local.get $j))))))
+            (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b3) (local.get $j))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 16)))
+            (br $both)))
+        (block $dots_done
+          (loop $dots
+            (br_if $dots_done (i32.ge_u (local.get $j) (local.get $back)))
+            (local.set $x (v128.load (i32.add (local.get $v) (local.get $j))))
+            (local.set $s0 (f64x2.add (local.get $s0) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b0) (local.get $j))))))
+            (local.set $s1 (f64x2.add (local.get $s1) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b1) (local.get $j))))))
+            (local.set $s2 (f64x2.add (local.get $s2) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b2) (local.get $j))))))
+            (local.set $s3 (f64x2.add (local.get $s3) (f64x2.mul (local.get $x) (v128.load (i32.add (local.get $b3) (local.get $j))))))
+            (local.set $j (i32.add (local.get $j) (i32.const 16)))
+            (br $dots)))
+        (v128.store offset=0 (local.get $acc) (local.get $s0))
+        (v128.store offset=16 (local.get $acc) (local.get $s1))
+        (v128.store offset=32 (local.get $acc) (local.get $s2))
+        (v128.store offset=48 (local.get $acc) (local.get $s3))
+        (local.set $src (i32.add (local.get $r3) (local.get $stride)))
+        (local.set $coef (i32.add (local.get $coef) (i32.const 32)))
+        (local.set $acc (i32.add (local.get $acc) (i32.const 64)))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
+        (br $quads))))
 
   ;; acc[k] += src[k·stride + ·]·v lane by lane over an even len (lane 0 even entries, lane 1
   ;; odd), eight rows per pass over v (each row's sum is its own chain, so grouping rows changes
