@@ -51,15 +51,16 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * widest + 16);
   const zero = 0;
-  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns of W for `backprop`.
-  const pack = 256;
-  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest);
-  // The sparse kernels' scratch: sixteen-column panels of the other factor, the coefficient
-  // lists (values, panel offsets, lengths), a staging row and a row of zeros.
+  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns
+  // of W for `backprop` — or, for the sparse kernels (which never run between a packing and its
+  // use by the others), sixteen-column panels of the other factor.
   const wide16 = (widest + 15) & ~15;
+  const pack = 256;
+  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest, Math.max(widest, SPARSE_ROWS) * wide16);
+  const sPack = pack;
+  // The sparse kernels' coefficient lists (values, panel offsets, lengths), a staging row and a row of zeros.
   const listEntries = SPARSE_ROWS * widest;
-  const sPack = align16(pack + 8 * packLength);
-  const sVals = align16(sPack + 8 * Math.max(widest, SPARSE_ROWS) * wide16);
+  const sVals = align16(pack + 8 * packLength);
   const sOffs = align16(sVals + 8 * listEntries);
   const sCounts = align16(sOffs + 4 * listEntries);
   const stage = align16(sCounts + 4 * Math.max(widest, SPARSE_ROWS));
