@@ -75,8 +75,11 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   const buffer = ex.memory.buffer;
   const arrays = lengths.map((n, k) => new Float64Array(buffer, offsets[k], n));
   const ours = (...xs: Float64Array[]): boolean => xs.every((x) => x.buffer === buffer);
-  /** True when the count × coefficients at byte `at` hold enough exact zeros for the sparse kernels. */
-  const sparse = (at: number, count: number): boolean => count > 0 && ex.zeros(at, count) >= SPARSE_ZERO_SHARE * count;
+  /**
+   * True when the `count` coefficients at byte `at` hold enough exact zeros for the sparse kernels
+   * and the result is at least one panel wide (a narrower one wastes most of each sixteen-column pass).
+   */
+  const sparse = (at: number, count: number, width: number): boolean => width >= 16 && count > 0 && ex.zeros(at, count) >= SPARSE_ZERO_SHARE * count;
   const lists = (a: number, count: number, len: number, listStep: number, entryStep: number): void => {
     ex.compact(a, count, len, listStep, entryStep, sVals, sOffs, sCounts, len);
   };
@@ -89,7 +92,7 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
       const w = at + 8 * p.wOff;
       const bias = at + 8 * p.bOff;
       // Skipping x = 0 terms needs finite weights and no sum starting at a bias of −0.
-      if (sparse(inp.byteOffset, n * fanIn) && ex.finite(w, units * fanIn) === 1 && !(withBias && negativeZero(src, p.bOff, units))) {
+      if (sparse(inp.byteOffset, n * fanIn, units) && ex.finite(w, units * fanIn) === 1 && !(withBias && negativeZero(src, p.bOff, units))) {
         ex.pack16(w, fanIn, 8, 8 * fanIn, units, sPack);
         for (let r = 0; r < n; r += SPARSE_ROWS) {
           const rows = Math.min(SPARSE_ROWS, n - r);
@@ -105,7 +108,7 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
       if (!ours(g, d, inp) || ex.finite(inp.byteOffset, n * p.fanIn) === 0) return js.accumulateOuter(g, p, d, inp, n, withBias);
       const at = g.byteOffset;
       const { fanIn, units } = p;
-      if (sparse(d.byteOffset, n * units)) {
+      if (sparse(d.byteOffset, n * units, fanIn)) {
         const gw = at + 8 * p.wOff;
         for (let r = 0; r < n; r += SPARSE_ROWS) {
           const rows = Math.min(SPARSE_ROWS, n - r);
@@ -121,7 +124,7 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
       const w = src.byteOffset + 8 * p.wOff;
       if (!ours(src, d, dst) || ex.finite(w, p.units * p.fanIn) === 0) return js.backprop(src, p, d, n, dst, accumulate);
       const { fanIn, units } = p;
-      if (sparse(d.byteOffset, n * units)) {
+      if (sparse(d.byteOffset, n * units, fanIn)) {
         ex.pack16(w, units, 8 * fanIn, 8, fanIn, sPack);
         for (let r = 0; r < n; r += SPARSE_ROWS) {
           const rows = Math.min(SPARSE_ROWS, n - r);
