@@ -91,6 +91,20 @@ export function kernelRates(): KernelReport {
     add('dense (forward, R-forward)', () => space.kernels.dense(w, p, x, n, a, true, false));
     add('outer (weight gradient)', () => space.kernels.outer(g, p, d, x, n, true));
     add('backprop (transpose product)', () => space.kernels.backprop(w, p, d, n, x, false));
+    if (n === 512 && fanIn === 256) {
+      // Half the coefficients exactly zero, as a ReLU layer's outputs and errors: the sparse
+      // path runs. Only the terms it adds count as flops, so the rate compares with the rows above.
+      const rz = Rng.fromSeed(2);
+      for (let i = 0; i < x.length; i++) if (rz.uniform() < 0.5) x[i] = 0;
+      for (let i = 0; i < d.length; i++) if (rz.uniform() < 0.5) d[i] = 0;
+      const half = (kernel: string, fn: () => void): void => {
+        const gflops = best(fn, flops / 2, reps, 9);
+        rows.push({ kernel: `${kernel}, half the coefficients zero (sparse path; terms added)`, shape, gflops, ofPeak: gflops / peakGflops });
+      };
+      half('dense', () => space.kernels.dense(w, p, x, n, a, true, false));
+      half('outer', () => space.kernels.outer(g, p, d, x, n, true));
+      half('backprop', () => space.kernels.backprop(w, p, d, n, x, false));
+    }
   }
   return { peakGflops, peakWhat: 'the register tile of core/wasm/network.wat on operands in L1 (f64x2 mul then add, no FMA)', rows, load: loadavg()[0] };
 }

@@ -23,7 +23,21 @@ interface NetworkExports {
   relu(a: number, f: number, d1: number, n: number): void;
   hadamard(x: number, y: number, n: number, dst: number): void;
   rDelta(rdh: number, d1: number, dh: number, d2: number, ra: number, n: number, dst: number): void;
+  zeros(p: number, count: number): number;
+  compact(a: number, lists: number, len: number, listStep: number, entryStep: number, vals: number, offs: number, counts: number, cap: number): number;
+  pack16(src: number, rows: number, kStep: number, jStep: number, width: number, dst: number): void;
+  sparseProduct(vals: number, offs: number, counts: number, cap: number, lists: number, b: number, panelBytes: number, width: number, c: number, cRow: number, i: number, iRow: number, iCol: number, add: number, stage: number): void;
 }
+
+/** Rows of a coefficient matrix compacted at a time (the lists' scratch holds this many × the widest layer). */
+const SPARSE_ROWS = 256;
+
+/**
+ * The share of exact zeros in a coefficient matrix from which the sparse kernels run (a ReLU
+ * layer's outputs and back-propagated errors are about half zeros). Measured in
+ * `npm run bench -- kernels`: below it the compaction costs more than the skipped terms save.
+ */
+export const SPARSE_ZERO_SHARE = 0.25;
 
 const align16 = (bytes: number): number => (bytes + 15) & ~15;
 
@@ -37,10 +51,21 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * widest + 16);
   const zero = 0;
-  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns of W for `backprop`.
+  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns
+  // of W for `backprop` — or, for the sparse kernels (which never run between a packing and its
+  // use by the others), sixteen-column panels of the other factor.
+  const wide16 = (widest + 15) & ~15;
   const pack = 256;
-  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest);
-  let end = align16(pack + 8 * packLength + slack);
+  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest, Math.max(widest, SPARSE_ROWS) * wide16);
+  const sPack = pack;
+  // The sparse kernels' coefficient lists (values, panel offsets, lengths), a staging row and a row of zeros.
+  const listEntries = SPARSE_ROWS * widest;
+  const sVals = align16(pack + 8 * packLength);
+  const sOffs = align16(sVals + 8 * listEntries);
+  const sCounts = align16(sOffs + 4 * listEntries);
+  const stage = align16(sCounts + 4 * Math.max(widest, SPARSE_ROWS));
+  const zeroRow = stage + 128;
+  let end = align16(zeroRow + 128 + slack);
   const offsets = lengths.map((n) => {
     const at = end;
     end = align16(at + 8 * n + slack);
@@ -50,23 +75,66 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   const buffer = ex.memory.buffer;
   const arrays = lengths.map((n, k) => new Float64Array(buffer, offsets[k], n));
   const ours = (...xs: Float64Array[]): boolean => xs.every((x) => x.buffer === buffer);
+  /**
+   * True when the `count` coefficients at byte `at` hold enough exact zeros for the sparse kernels
+   * and the result is at least one panel wide (a narrower one wastes most of each sixteen-column pass).
+   */
+  const sparse = (at: number, count: number, width: number): boolean => width >= 16 && count > 0 && ex.zeros(at, count) >= SPARSE_ZERO_SHARE * count;
+  const lists = (a: number, count: number, len: number, listStep: number, entryStep: number): void => {
+    ex.compact(a, count, len, listStep, entryStep, sVals, sOffs, sCounts, len);
+  };
   const kernels: MatrixKernels = {
     kind: 'simd',
     dense(src, p, inp, n, dst, withBias, accumulate) {
       if (!ours(src, inp, dst)) return js.dense(src, p, inp, n, dst, withBias, accumulate);
       const at = src.byteOffset;
-      ex.dense(at + 8 * p.wOff, at + 8 * p.bOff, inp.byteOffset, n, p.fanIn, p.units, dst.byteOffset, (withBias ? 1 : 0) | (accumulate ? 2 : 0), pack);
+      const { fanIn, units } = p;
+      const w = at + 8 * p.wOff;
+      const bias = at + 8 * p.bOff;
+      // Skipping x = 0 terms needs finite weights and no sum starting at a bias of −0.
+      if (sparse(inp.byteOffset, n * fanIn, units) && ex.finite(w, units * fanIn) === 1 && !(withBias && negativeZero(src, p.bOff, units))) {
+        ex.pack16(w, fanIn, 8, 8 * fanIn, units, sPack);
+        for (let r = 0; r < n; r += SPARSE_ROWS) {
+          const rows = Math.min(SPARSE_ROWS, n - r);
+          lists(inp.byteOffset + 8 * r * fanIn, rows, fanIn, 8 * fanIn, 8);
+          const c = dst.byteOffset + 8 * r * units;
+          ex.sparseProduct(sVals, sOffs, sCounts, fanIn, rows, sPack, 128 * fanIn, units, c, 8 * units, withBias ? bias : zeroRow, 0, withBias ? 8 : 0, accumulate ? 1 : 0, stage);
+        }
+        return;
+      }
+      ex.dense(w, bias, inp.byteOffset, n, fanIn, units, dst.byteOffset, (withBias ? 1 : 0) | (accumulate ? 2 : 0), pack);
     },
     outer(g, p, d, inp, n, withBias) {
       if (!ours(g, d, inp) || ex.finite(inp.byteOffset, n * p.fanIn) === 0) return js.accumulateOuter(g, p, d, inp, n, withBias);
       const at = g.byteOffset;
-      ex.outer(at + 8 * p.wOff, d.byteOffset, inp.byteOffset, n, p.fanIn, p.units, pack);
+      const { fanIn, units } = p;
+      if (sparse(d.byteOffset, n * units, fanIn)) {
+        const gw = at + 8 * p.wOff;
+        for (let r = 0; r < n; r += SPARSE_ROWS) {
+          const rows = Math.min(SPARSE_ROWS, n - r);
+          ex.pack16(inp.byteOffset + 8 * r * fanIn, rows, 8 * fanIn, 8, fanIn, sPack);
+          // one list per output unit o: the rows' d[r, o], r in order
+          lists(d.byteOffset + 8 * r * units, units, rows, 8, 8 * units);
+          ex.sparseProduct(sVals, sOffs, sCounts, rows, units, sPack, 128 * rows, fanIn, gw, 8 * fanIn, gw, 8 * fanIn, 8, 0, stage);
+        }
+      } else ex.outer(at + 8 * p.wOff, d.byteOffset, inp.byteOffset, n, fanIn, units, pack);
       if (withBias) ex.outerBias(at + 8 * p.bOff, d.byteOffset, n, p.units);
     },
     backprop(src, p, d, n, dst, accumulate) {
       const w = src.byteOffset + 8 * p.wOff;
       if (!ours(src, d, dst) || ex.finite(w, p.units * p.fanIn) === 0) return js.backprop(src, p, d, n, dst, accumulate);
-      ex.backprop(w, d.byteOffset, n, p.fanIn, p.units, dst.byteOffset, accumulate ? 1 : 0, zero, pack);
+      const { fanIn, units } = p;
+      if (sparse(d.byteOffset, n * units, fanIn)) {
+        ex.pack16(w, units, 8 * fanIn, 8, fanIn, sPack);
+        for (let r = 0; r < n; r += SPARSE_ROWS) {
+          const rows = Math.min(SPARSE_ROWS, n - r);
+          lists(d.byteOffset + 8 * r * units, rows, units, 8 * units, 8);
+          const c = dst.byteOffset + 8 * r * fanIn;
+          ex.sparseProduct(sVals, sOffs, sCounts, units, rows, sPack, 128 * units, fanIn, c, 8 * fanIn, accumulate ? c : zeroRow, accumulate ? 8 * fanIn : 0, accumulate ? 8 : 0, 0, stage);
+        }
+        return;
+      }
+      ex.backprop(w, d.byteOffset, n, fanIn, units, dst.byteOffset, accumulate ? 1 : 0, zero, pack);
     },
     hadamard(x, y, n, dst) {
       if (!ours(x, y, dst)) return js.hadamard(x, y, n, dst);
@@ -82,4 +150,10 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
     },
   };
   return { kernels, arrays };
+}
+
+/** True when one of the `count` entries of `a` from `offset` is −0 (a sum starting there must add every term). */
+function negativeZero(a: Float64Array, offset: number, count: number): boolean {
+  for (let k = offset; k < offset + count; k++) if (a[k] === 0 && 1 / a[k] < 0) return true;
+  return false;
 }

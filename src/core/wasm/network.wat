@@ -337,6 +337,186 @@
         (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n))))
       (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn)))))
 
+  ;; ---- Products whose coefficient matrix holds many exact zeros (ReLU layers) ----
+  ;;
+  ;; The same sums as the kernels above, term for term in the same order, except that terms
+  ;; whose coefficient is ±0 are not added. That leaves every sum unchanged when the other factor
+  ;; is finite and the sum does not start at −0 (kernels-wasm.ts checks both before it comes
+  ;; here): c·x is then ±0, s + ±0 = s for s ≠ 0, and +0 + ±0 = +0.
+  ;;
+  ;; A coefficient matrix is first compacted into lists, one per row of the result: list t holds
+  ;; its nonzero coefficients at $vals + 8·t·cap, in order, and beside each the byte offset of
+  ;; its row in a panel of the other factor at $offs + 4·t·cap; its length is at $counts + 4·t.
+  ;; The other factor is packed into panels of sixteen columns, row k of a panel at 128·k.
+
+  ;; Number of entries equal to ±0 among the $count doubles at $p.
+  (func (export "zeros") (param $p i32) (param $count i32) (result i32)
+    (local $acc v128) (local $end i32) (local $z i32)
+    (local.set $end (i32.add (local.get $p) (i32.shl (i32.and (local.get $count) (i32.const -2)) (i32.const 3))))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_u (local.get $p) (local.get $end)))
+        ;; an equal lane is all ones, −1 as an integer: subtracting counts it
+        (local.set $acc (i64x2.sub (local.get $acc) (f64x2.eq (v128.load (local.get $p)) (v128.const f64x2 0 0))))
+        (local.set $p (i32.add (local.get $p) (i32.const 16)))
+        (br $pairs)))
+    (local.set $z (i32.wrap_i64 (i64.add (i64x2.extract_lane 0 (local.get $acc)) (i64x2.extract_lane 1 (local.get $acc)))))
+    (if (i32.and (local.get $count) (i32.const 1))
+      (then (local.set $z (i32.add (local.get $z) (f64.eq (f64.load (local.get $p)) (f64.const 0))))))
+    (local.get $z))
+
+  ;; Compacts $lists lists of $len coefficients — entry k of list t at $a + t·$listStep + k·$entryStep —
+  ;; into the lists described above, with offsets k·128. Every entry is written and the
+  ;; position advances only past nonzero ones (no branch to mispredict). Returns the total kept.
+  (func (export "compact")
+    (param $a i32) (param $lists i32) (param $len i32) (param $listStep i32) (param $entryStep i32)
+    (param $vals i32) (param $offs i32) (param $counts i32) (param $cap i32) (result i32)
+    (local $t i32) (local $k i32) (local $p i32) (local $v f64) (local $e i32) (local $total i32)
+    (local $vp i32) (local $op i32)
+    (block $empty (br_if $empty (i32.eqz (local.get $len)))
+      (loop $list
+        (local.set $p (i32.add (local.get $a) (i32.mul (local.get $t) (local.get $listStep))))
+        (local.set $vp (i32.add (local.get $vals) (i32.shl (i32.mul (local.get $t) (local.get $cap)) (i32.const 3))))
+        (local.set $op (i32.add (local.get $offs) (i32.shl (i32.mul (local.get $t) (local.get $cap)) (i32.const 2))))
+        (local.set $e (i32.const 0))
+        (local.set $k (i32.const 0))
+        (loop $entry
+          (local.set $v (f64.load (local.get $p)))
+          (f64.store (i32.add (local.get $vp) (i32.shl (local.get $e) (i32.const 3))) (local.get $v))
+          (i32.store (i32.add (local.get $op) (i32.shl (local.get $e) (i32.const 2))) (i32.shl (local.get $k) (i32.const 7)))
+          ;; NaN is kept (NaN ≠ 0), so it reaches the sums as in the kernels above
+          (local.set $e (i32.add (local.get $e) (f64.ne (local.get $v) (f64.const 0))))
+          (local.set $p (i32.add (local.get $p) (local.get $entryStep)))
+          (br_if $entry (i32.lt_u (local.tee $k (i32.add (local.get $k) (i32.const 1))) (local.get $len))))
+        (i32.store (i32.add (local.get $counts) (i32.shl (local.get $t) (i32.const 2))) (local.get $e))
+        (local.set $total (i32.add (local.get $total) (local.get $e)))
+        (br_if $list (i32.lt_u (local.tee $t (i32.add (local.get $t) (i32.const 1))) (local.get $lists)))))
+    (local.get $total))
+
+  ;; Packs B[k, j] = f64 at $src + k·$kStep + j·$jStep, for k < $rows and j < $width, into panels
+  ;; of sixteen columns at $dst (panel p at $dst + 128·rows·p, row k at + 128·k; zeros past $width).
+  (func (export "pack16") (param $src i32) (param $rows i32) (param $kStep i32) (param $jStep i32) (param $width i32) (param $dst i32)
+    (local $j i32) (local $k i32) (local $q i32) (local $s i32) (local $panelBytes i32)
+    (local.set $panelBytes (i32.shl (local.get $rows) (i32.const 7)))
+    (loop $cols
+      (local.set $q (i32.add (local.get $dst)
+        (i32.add (i32.mul (i32.shr_u (local.get $j) (i32.const 4)) (local.get $panelBytes)) (i32.shl (i32.and (local.get $j) (i32.const 15)) (i32.const 3)))))
+      (local.set $s (i32.add (local.get $src) (i32.mul (local.get $j) (local.get $jStep))))
+      (local.set $k (i32.const 0))
+      (loop $rows_loop
+        (f64.store (local.get $q)
+          (if (result f64) (i32.lt_u (local.get $j) (local.get $width))
+            (then (f64.load (local.get $s)))
+            (else (f64.const 0))))
+        (local.set $q (i32.add (local.get $q) (i32.const 128)))
+        (local.set $s (i32.add (local.get $s) (local.get $kStep)))
+        (br_if $rows_loop (i32.lt_u (local.tee $k (i32.add (local.get $k) (i32.const 1))) (local.get $rows))))
+      (br_if $cols (i32.lt_u (local.tee $j (i32.add (local.get $j) (i32.const 1)))
+        (i32.and (i32.add (local.get $width) (i32.const 15)) (i32.const -16))))))
+
+  ;; One row of sixteen columns: out[j] = I[j] + Σ_e vals[e]·P[offs[e], j], e in order, with the
+  ;; starting values I at $i (sixteen doubles; past the result's edge they are read, not used)
+  ;; and the panel P at $b. Eight accumulators stay in registers. A full row (cols = 16) is stored
+  ;; at $c (C + out with $add); a partial one is staged at $stage and its first cols entries written.
+  (func $sparseRow
+    (param $vals i32) (param $offs i32) (param $count i32) (param $b i32)
+    (param $i i32) (param $c i32) (param $cols i32) (param $add i32) (param $stage i32)
+    (local $s v128) (local $p i32) (local $j i32) (local $end i32)
+    (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128)
+    (local $x4 v128) (local $x5 v128) (local $x6 v128) (local $x7 v128)
+    (local.set $x0 (v128.load offset=0 (local.get $i)))
+    (local.set $x1 (v128.load offset=16 (local.get $i)))
+    (local.set $x2 (v128.load offset=32 (local.get $i)))
+    (local.set $x3 (v128.load offset=48 (local.get $i)))
+    (local.set $x4 (v128.load offset=64 (local.get $i)))
+    (local.set $x5 (v128.load offset=80 (local.get $i)))
+    (local.set $x6 (v128.load offset=96 (local.get $i)))
+    (local.set $x7 (v128.load offset=112 (local.get $i)))
+    (local.set $end (i32.add (local.get $vals) (i32.shl (local.get $count) (i32.const 3))))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_u (local.get $vals) (local.get $end)))
+        (local.set $s (v128.load64_splat (local.get $vals)))
+        (local.set $p (i32.add (local.get $b) (i32.load (local.get $offs))))
+        (local.set $x0 (f64x2.add (local.get $x0) (f64x2.mul (v128.load offset=0 (local.get $p)) (local.get $s))))
+        (local.set $x1 (f64x2.add (local.get $x1) (f64x2.mul (v128.load offset=16 (local.get $p)) (local.get $s))))
+        (local.set $x2 (f64x2.add (local.get $x2) (f64x2.mul (v128.load offset=32 (local.get $p)) (local.get $s))))
+        (local.set $x3 (f64x2.add (local.get $x3) (f64x2.mul (v128.load offset=48 (local.get $p)) (local.get $s))))
+        (local.set $x4 (f64x2.add (local.get $x4) (f64x2.mul (v128.load offset=64 (local.get $p)) (local.get $s))))
+        (local.set $x5 (f64x2.add (local.get $x5) (f64x2.mul (v128.load offset=80 (local.get $p)) (local.get $s))))
+        (local.set $x6 (f64x2.add (local.get $x6) (f64x2.mul (v128.load offset=96 (local.get $p)) (local.get $s))))
+        (local.set $x7 (f64x2.add (local.get $x7) (f64x2.mul (v128.load offset=112 (local.get $p)) (local.get $s))))
+        (local.set $vals (i32.add (local.get $vals) (i32.const 8)))
+        (local.set $offs (i32.add (local.get $offs) (i32.const 4)))
+        (br $next)))
+    (if (i32.eq (local.get $cols) (i32.const 16))
+      (then
+        (if (local.get $add)
+          (then
+            (local.set $x0 (f64x2.add (v128.load offset=0 (local.get $c)) (local.get $x0)))
+            (local.set $x1 (f64x2.add (v128.load offset=16 (local.get $c)) (local.get $x1)))
+            (local.set $x2 (f64x2.add (v128.load offset=32 (local.get $c)) (local.get $x2)))
+            (local.set $x3 (f64x2.add (v128.load offset=48 (local.get $c)) (local.get $x3)))
+            (local.set $x4 (f64x2.add (v128.load offset=64 (local.get $c)) (local.get $x4)))
+            (local.set $x5 (f64x2.add (v128.load offset=80 (local.get $c)) (local.get $x5)))
+            (local.set $x6 (f64x2.add (v128.load offset=96 (local.get $c)) (local.get $x6)))
+            (local.set $x7 (f64x2.add (v128.load offset=112 (local.get $c)) (local.get $x7)))))
+        (v128.store offset=0 (local.get $c) (local.get $x0))
+        (v128.store offset=16 (local.get $c) (local.get $x1))
+        (v128.store offset=32 (local.get $c) (local.get $x2))
+        (v128.store offset=48 (local.get $c) (local.get $x3))
+        (v128.store offset=64 (local.get $c) (local.get $x4))
+        (v128.store offset=80 (local.get $c) (local.get $x5))
+        (v128.store offset=96 (local.get $c) (local.get $x6))
+        (v128.store offset=112 (local.get $c) (local.get $x7))
+        (return)))
+    (v128.store offset=0 (local.get $stage) (local.get $x0))
+    (v128.store offset=16 (local.get $stage) (local.get $x1))
+    (v128.store offset=32 (local.get $stage) (local.get $x2))
+    (v128.store offset=48 (local.get $stage) (local.get $x3))
+    (v128.store offset=64 (local.get $stage) (local.get $x4))
+    (v128.store offset=80 (local.get $stage) (local.get $x5))
+    (v128.store offset=96 (local.get $stage) (local.get $x6))
+    (v128.store offset=112 (local.get $stage) (local.get $x7))
+    (block $written
+      (loop $each
+        (br_if $written (i32.ge_s (local.get $j) (local.get $cols)))
+        (f64.store (local.get $c)
+          (if (result f64) (local.get $add)
+            (then (f64.add (f64.load (local.get $c)) (f64.load (local.get $stage))))
+            (else (f64.load (local.get $stage)))))
+        (local.set $c (i32.add (local.get $c) (i32.const 8)))
+        (local.set $stage (i32.add (local.get $stage) (i32.const 8)))
+        (local.set $j (i32.add (local.get $j) (i32.const 1)))
+        (br $each))))
+
+  ;; C[t, j] (=|+=) I[t, j] + Σ over list t of coefficient·P[row, j] for t < $lists, j < $width:
+  ;; C[t, j] at $c + t·$cRow + 8·j, I[t, j] at $i + t·$iRow + j·$iCol ($iRow = $iCol = 0 for one
+  ;; row of sixteen zeros, $iRow = 0 for a bias), the packed panels at $b ($panelBytes apart).
+  ;; Panels are the outer loop: one stays in cache while the lists stream past.
+  (func (export "sparseProduct")
+    (param $vals i32) (param $offs i32) (param $counts i32) (param $cap i32) (param $lists i32)
+    (param $b i32) (param $panelBytes i32) (param $width i32)
+    (param $c i32) (param $cRow i32) (param $i i32) (param $iRow i32) (param $iCol i32)
+    (param $add i32) (param $stage i32)
+    (local $j i32) (local $t i32)
+    (loop $panels
+      (local.set $t (i32.const 0))
+      (loop $rows
+        (call $sparseRow
+          (i32.add (local.get $vals) (i32.shl (i32.mul (local.get $t) (local.get $cap)) (i32.const 3)))
+          (i32.add (local.get $offs) (i32.shl (i32.mul (local.get $t) (local.get $cap)) (i32.const 2)))
+          (i32.load (i32.add (local.get $counts) (i32.shl (local.get $t) (i32.const 2))))
+          (local.get $b)
+          (i32.add (local.get $i) (i32.add (i32.mul (local.get $t) (local.get $iRow)) (i32.mul (local.get $j) (local.get $iCol))))
+          (i32.add (local.get $c) (i32.add (i32.mul (local.get $t) (local.get $cRow)) (i32.shl (local.get $j) (i32.const 3))))
+          (call $min (i32.sub (local.get $width) (local.get $j)) (i32.const 16))
+          (local.get $add)
+          (local.get $stage))
+        (br_if $rows (i32.lt_u (local.tee $t (i32.add (local.get $t) (i32.const 1))) (local.get $lists))))
+      (local.set $b (i32.add (local.get $b) (local.get $panelBytes)))
+      (br_if $panels (i32.lt_u (local.tee $j (i32.add (local.get $j) (i32.const 16))) (local.get $width)))))
+
   ;; ReLU of the n doubles at $a: f = a where a > 0, else +0; d1 = 1 where a > 0, else +0 — the
   ;; bits of the scalar loop in core/model/activations.ts (a NaN fails a > 0 there and here;
   ;; a compare mask ANDed with a gives a's bits or all-zero bits, which is +0).

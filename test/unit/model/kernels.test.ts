@@ -14,6 +14,8 @@ const SIZES = [1, 2, 3, 4, 5, 6, 7, 11, 13, 17];
 const SHAPES: [number, number, number][] = [];
 for (const n of [1, 2, 3, 4, 7]) for (const fanIn of SIZES) for (const units of [1, 3, 6, 7, 13]) SHAPES.push([n, fanIn, units]);
 SHAPES.push([129, 5, 7], [257, 13, 4], [300, 20, 64], [64, 64, 20], [31, 37, 41]);
+// The sparse path's panels are sixteen columns wide: one exact panel, one short and one past, over two chunks.
+SHAPES.push([5, 16, 16], [3, 33, 31], [257, 17, 18], [513, 48, 15]);
 
 /** Same bits, NaN payload aside (every NaN counts as equal to every NaN). */
 function firstDifference(a: Float64Array, b: Float64Array): number {
@@ -22,6 +24,10 @@ function firstDifference(a: Float64Array, b: Float64Array): number {
   return -1;
 }
 
+/** zeros: half the inputs ±0 (the sparse kernels run); special: that and ±∞, NaN in the operands. */
+const VARIANTS = ['plain', 'special', 'zeros', 'zeros, bias −0'] as const;
+type Variant = (typeof VARIANTS)[number];
+
 interface Operands {
   shape: LayerShape;
   n: number;
@@ -29,7 +35,7 @@ interface Operands {
 }
 
 /** Parameters (with a spare block before and after the layer), input, coefficients and an output, filled from `seed`. */
-function operands(n: number, fanIn: number, units: number, seed: number, simd: boolean, special = false): Operands & { kernels: MatrixKernels } {
+function operands(n: number, fanIn: number, units: number, seed: number, simd: boolean, variant: Variant): Operands & { kernels: MatrixKernels } {
   const wOff = 5;
   const P = wOff + units * fanIn + units + 3;
   const lengths = [P, n * fanIn, n * units, n * Math.max(fanIn, units), P];
@@ -43,9 +49,19 @@ function operands(n: number, fanIn: number, units: number, seed: number, simd: b
   rng.fillNormal(g);
   // Exact zeros in the coefficients, in runs, as a ReLU layer's δa has them.
   for (let i = 0; i < d.length; i++) if (rng.uniform() < 0.4) d[i] = i % 3 === 0 ? -0 : 0;
-  if (special) {
+  if (variant === 'special') {
     x[Math.floor(rng.uniform() * x.length)] = Infinity;
     w[wOff + Math.floor(rng.uniform() * units * fanIn)] = NaN;
+  }
+  if (variant !== 'plain') {
+    // Half the inputs exactly zero, as a ReLU layer's outputs (−0 too: a user's data may hold it).
+    for (let i = 0; i < x.length; i++) if (rng.uniform() < 0.5) x[i] = i % 5 === 0 ? -0 : 0;
+  }
+  // A sum that starts at a bias of −0 must add every term (+0 + −0 … is +0, not −0).
+  // Only a row with every input zero shows it: the sum is the bias plus zeros alone.
+  if (variant === 'zeros, bias −0') {
+    for (let o = 0; o < units; o += 2) w[wOff + units * fanIn + o] = -0;
+    for (let r = 0; r < n; r += 3) x.fill(0, r * fanIn, (r + 1) * fanIn);
   }
   return { shape: { fanIn, units, wOff, bOff: wOff + units * fanIn }, n, arrays: [w, x, d, out, g], kernels: space.kernels };
 }
@@ -56,16 +72,16 @@ describe('the SIMD matrix kernels give the bits of the plain-JavaScript loops', 
   });
 
   it(`cover ${SHAPES.length} shapes`, () => {
-    expect(SHAPES.length).toBe(255);
+    expect(SHAPES.length).toBe(259);
   });
 
   const flags = [[true, false], [false, true], [true, true], [false, false]] as const;
   it.each(SHAPES)('n = %i, fanIn = %i, units = %i', (n, fanIn, units) => {
-    for (const special of [false, true]) {
+    for (const variant of VARIANTS) {
       for (const [withBias, accumulate] of flags) {
-        const seed = 7 * n + 131 * fanIn + units + (special ? 1 : 0);
-        const a = operands(n, fanIn, units, seed, true, special);
-        const b = operands(n, fanIn, units, seed, false, special);
+        const seed = 7 * n + 131 * fanIn + units + VARIANTS.indexOf(variant);
+        const a = operands(n, fanIn, units, seed, true, variant);
+        const b = operands(n, fanIn, units, seed, false, variant);
         expect(a.kernels.kind).toBe('simd');
         expect(b.kernels.kind).toBe('scalar');
         const [wa, xa, da, oa, ga] = a.arrays;
