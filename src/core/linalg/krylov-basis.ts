@@ -5,9 +5,10 @@
  * product and one update per basis vector. The first pass's update and the second pass's dot
  * products share one sweep (`subtractThenDots`: a chunk's update beside the previous chunk's
  * dot products, whose rows are still in cache), so a step reads the basis from memory three
- * times, not four, with the same bits as the two kernels one after the other. Where the engine lacks WebAssembly SIMD the vectors are plain arrays and
- * the loops are JavaScript. A readout: the sums are ordered differently from
- * one-vector-at-a-time code and agree with it to rounding.
+ * times, not four, with the same bits as the two kernels one after the other. Where the
+ * engine lacks WebAssembly SIMD the vectors are plain arrays and the loops are JavaScript. A
+ * readout: the sums are ordered differently from one-vector-at-a-time code and agree with it to
+ * rounding.
  */
 import { growTo, wasmInstance } from '../wasm/load';
 
@@ -30,7 +31,12 @@ const HEAD = 32;
  */
 const CHUNK_BYTES = 2 * 1024 * 1024;
 
-/** Entries per chunk of the fused sweep for `count` rows: even, at least 64. */
+/**
+ * Entries per chunk of the fused sweep (`subtractThenDots`) over `count` basis vectors.
+ * @param count - vectors in the basis.
+ * @returns CHUNK_BYTES / (8·count) rounded down to even, at least 64 (even keeps the two-lane
+ *   sums' pairing, so any even value gives the same bits).
+ */
 export function chunkEntries(count: number): number {
   return Math.max(64, Math.floor(CHUNK_BYTES / (8 * Math.max(1, count))) & ~1);
 }
