@@ -47,8 +47,10 @@ function operands(n: number, fanIn: number, units: number, seed: number, simd: b
   rng.fillNormal(d);
   rng.fillNormal(out);
   rng.fillNormal(g);
-  // Exact zeros in the coefficients, in runs, as a ReLU layer's δa has them.
-  for (let i = 0; i < d.length; i++) if (rng.uniform() < 0.4) d[i] = i % 3 === 0 ? -0 : 0;
+  // Exact zeros in the coefficients, as a ReLU layer's δa has them: a few (the tiles run and add
+  // them) or half (the sparse path runs and skips them).
+  const share = variant === 'plain' ? 0.15 : 0.5;
+  for (let i = 0; i < d.length; i++) if (rng.uniform() < share) d[i] = i % 3 === 0 ? -0 : 0;
   if (variant === 'special') {
     x[Math.floor(rng.uniform() * x.length)] = Infinity;
     w[wOff + Math.floor(rng.uniform() * units * fanIn)] = NaN;

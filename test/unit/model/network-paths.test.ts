@@ -8,6 +8,8 @@ import { ACTIVATIONS, activation, type Activation } from '../../../src/core/mode
 import { LOSSES } from '../../../src/core/model/losses';
 import { Rng } from '../../../src/core/rng';
 import { tinyNet } from './fixtures';
+import { Network } from '../../../src/core/model/network';
+import { SPARSE_ZERO_SHARE } from '../../../src/core/model/kernels-wasm';
 
 const cases = ACTIVATIONS.flatMap((a) => LOSSES.map((l) => [a, l] as const));
 
@@ -39,6 +41,50 @@ describe('SIMD and scalar kernels give the same network bits', () => {
       a.net.gnvp(a.w, v, ha, rows);
       b.net.gnvp(b.w, v, hb, rows);
       expect(sameBits(ha, hb)).toBe(true);
+    }
+  });
+});
+
+describe('the sparse kernels inside a ReLU network give the bits of the plain loops', () => {
+  // Layers at least one sixteen-column panel wide and more rows than one 256-row chunk, so the
+  // products whose coefficients are ReLU outputs or errors take the sparse path.
+  const build = (simd: boolean): { net: Network; w: Float64Array } => {
+    const rng = Rng.fromSeed(41);
+    const N = 300, D = 20, K = 3;
+    const x = rng.fillNormal(new Float64Array(N * D));
+    const y = Float64Array.from({ length: N }, () => rng.int(K));
+    const model = { kind: 'network' as const, inputs: D, layers: [{ units: 24, activation: 'relu' as const }, { units: 32, activation: 'relu' as const }, { units: K, activation: 'linear' as const }], init: 'lecun-normal' as const, gain: 1 };
+    const net = new Network(model, { rows: N, inputs: D, targets: 1, x, y }, 'cross-entropy', 0.01, { simd });
+    return { net, w: rng.fillNormal(new Float64Array(net.parameterCount)) };
+  };
+
+  it('gradient, Hessian and Gauss-Newton products, full batch and a mini-batch', () => {
+    const a = build(true);
+    const b = build(false);
+    expect(a.net.kernelKind).toBe('simd');
+    const P = a.net.parameterCount;
+    // The hidden layers' outputs hold enough exact zeros for the sparse path.
+    let zeros = 0, count = 0;
+    a.net.inspectLayers(a.w, Int32Array.from({ length: 300 }, (_, i) => i), (layer, _pre, post) => {
+      if (layer === 2) return;
+      count += post.length;
+      for (const f of post) if (f === 0) zeros++;
+    });
+    expect(zeros / count).toBeGreaterThan(SPARSE_ZERO_SHARE);
+    const v = Rng.fromSeed(6).fillNormal(new Float64Array(P));
+    for (const rows of [undefined, Int32Array.from({ length: 270 }, (_, i) => (i * 7) % 300)]) {
+      const ga = new Float64Array(P), gb = new Float64Array(P);
+      expect(Object.is(a.net.gradient(a.w, ga, rows), b.net.gradient(b.w, gb, rows))).toBe(true);
+      expect(sameBits(ga, gb)).toBe(true);
+      for (let k = 0; k < 2; k++) {
+        // the second product runs on the kept pass
+        a.net.hvp(a.w, v, ga, rows);
+        b.net.hvp(b.w, v, gb, rows);
+        expect(sameBits(ga, gb)).toBe(true);
+      }
+      a.net.gnvp(a.w, v, ga, rows);
+      b.net.gnvp(b.w, v, gb, rows);
+      expect(sameBits(ga, gb)).toBe(true);
     }
   });
 });
