@@ -8,6 +8,10 @@
  * start at +0 and a sum of doubles that starts at +0 is never −0 in round-to-nearest. So the
  * SIMD kernels run only when the other factor is finite everywhere (checked in WebAssembly, a
  * small fraction of the product's cost) and hand non-finite operands to the scalar loops.
+ * The same argument lets them skip zero terms: a coefficient matrix with at least
+ * {@link SPARSE_ZERO_SHARE} exact zeros (a ReLU layer's outputs and errors) goes to the sparse
+ * kernels, which add only the nonzero coefficients' terms, in order; `dense` also needs no bias
+ * of −0 there, since its sums start at the bias.
  */
 import type { KernelSpace, MatrixKernels } from './kernels';
 import * as js from './kernels-js';
