@@ -90,6 +90,8 @@ export const ENGINE_CASES: readonly EngineCase[] = [
   network({ name: 'own activation x/(1 + e^−x) + 0.1·sin x, derivatives derived · mse · sgd momentum · batch 8', act: { expr: 'x / (1 + exp(-x)) + 0.1 * sin(x)' }, loss: 'mse', init: 'he-normal', hidden: [5], recipe: { optimizer: 'sgd', lr: 0.05, momentum: 0.9, batch: 8 } }, 17),
   network({ name: 'own activation softsign with its derivative written · cross-entropy · adam', act: { expr: 'x / (1 + abs(x))', derivative: '1 / (1 + abs(x))^2' }, loss: 'cross-entropy', init: 'glorot-normal', recipe: { optimizer: 'adam', lr: 0.02 } }, 18),
   network({ name: 'own activation tanh(x) (sech² derived) · binary cross-entropy · lbfgs', act: { expr: 'tanh(x)' }, loss: 'binary-cross-entropy', init: 'lecun-normal', hidden: [5], recipe: { optimizer: 'lbfgs', lr: 1, history: 4 }, steps: 10 }, 19),
+  // Hidden layers at least sixteen wide, so the SIMD engines' products over ReLU outputs and errors take the sparse kernels.
+  network({ name: 'relu, layers 20 and 18 wide · cross-entropy · sgd momentum', act: 'relu', loss: 'cross-entropy', init: 'he-normal', hidden: [20, 18], recipe: { optimizer: 'sgd', lr: 0.1, momentum: 0.9 }, steps: 20 }, 20),
   { name: 'rosenbrock · adam', steps: 30, spec: { seed: 13, model: { objective: 'rosenbrock' }, recipe: { optimizer: 'adam', lr: 0.05 } } },
 ];
 
