@@ -2,7 +2,7 @@
 import { Network } from '../../src/core/model/network';
 import { initNetwork } from '../../src/core/model/init';
 import { Rng } from '../../src/core/rng';
-import type { ActivationName, LossName, NetworkModel } from '../../src/core/setup';
+import type { ActivationName, DataSetup, LossName, NetworkModel } from '../../src/core/setup';
 
 /** Shape of a benchmark network: widths from inputs to outputs, hidden activation, loss, rows. */
 export interface MlpShape {
@@ -12,8 +12,8 @@ export interface MlpShape {
   batch: number;
 }
 
-/** Builds the network over seeded normal inputs and targets, with lecun-normal weights. */
-export function buildMlp(c: MlpShape, seed: number, simd = true): { net: Network; w: Float64Array; x: Float64Array; y: Float64Array } {
+/** The model, seeded normal rows (inputs and targets) and lecun-normal weights of a benchmark network, without building it. */
+export function mlpSetup(c: MlpShape, seed: number): { model: NetworkModel; data: DataSetup; w: Float64Array } {
   const rng = Rng.fromSeed(seed);
   const [inputs, ...units] = c.widths;
   const model: NetworkModel = { kind: 'network', inputs, layers: units.map((u, i) => ({ units: u, activation: i === units.length - 1 ? 'linear' : c.act })), init: 'lecun-normal', gain: 1 };
@@ -22,6 +22,11 @@ export function buildMlp(c: MlpShape, seed: number, simd = true): { net: Network
   const x = rng.fillNormal(new Float64Array(c.batch * inputs));
   const y = new Float64Array(ce ? c.batch : c.batch * k);
   for (let i = 0; i < y.length; i++) y[i] = ce ? rng.int(k) : rng.normal();
-  const net = new Network(model, { rows: c.batch, inputs, targets: ce ? 1 : k, x, y }, c.loss, 0, { simd });
-  return { net, w: initNetwork(model, rng), x, y };
+  return { model, data: { rows: c.batch, inputs, targets: ce ? 1 : k, x, y }, w: initNetwork(model, rng) };
+}
+
+/** Builds the network over seeded normal inputs and targets, with lecun-normal weights. */
+export function buildMlp(c: MlpShape, seed: number, simd = true): { net: Network; w: Float64Array; x: Float64Array; y: Float64Array } {
+  const { model, data, w } = mlpSetup(c, seed);
+  return { net: new Network(model, data, c.loss, 0, { simd }), w, x: data.x, y: data.y };
 }

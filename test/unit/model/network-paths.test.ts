@@ -29,21 +29,29 @@ describe('SIMD and scalar kernels give the same network bits', () => {
     expect(b.net.kernelKind).toBe('scalar');
     const P = a.net.parameterCount;
     const v = Rng.fromSeed(5).fillNormal(new Float64Array(P));
-    for (const rows of [undefined, Int32Array.from([6, 0, 3, 3, 1])]) {
-      expect(Object.is(a.net.value(a.w, rows), b.net.value(b.w, rows))).toBe(true);
-      const ga = new Float64Array(P), gb = new Float64Array(P);
-      expect(Object.is(a.net.gradient(a.w, ga, rows), b.net.gradient(b.w, gb, rows))).toBe(true);
-      expect(sameBits(ga, gb)).toBe(true);
-      const ha = new Float64Array(P), hb = new Float64Array(P);
-      a.net.hvp(a.w, v, ha, rows);
-      b.net.hvp(b.w, v, hb, rows);
-      expect(sameBits(ha, hb)).toBe(true);
-      a.net.gnvp(a.w, v, ha, rows);
-      b.net.gnvp(b.w, v, hb, rows);
-      expect(sameBits(ha, hb)).toBe(true);
-    }
+    for (const rows of [undefined, Int32Array.from([6, 0, 3, 3, 1])]) expectSameProducts(a, b, v, rows);
   });
 });
+
+/**
+ * Value, gradient, Hessian product (fresh, then on the kept pass) and Gauss-Newton product of
+ * two builds of one network, each required to give the other's bits.
+ */
+function expectSameProducts(a: { net: Network; w: Float64Array }, b: { net: Network; w: Float64Array }, v: Float64Array, rows?: Int32Array): void {
+  const P = a.net.parameterCount;
+  expect(Object.is(a.net.value(a.w, rows), b.net.value(b.w, rows))).toBe(true);
+  const ga = new Float64Array(P), gb = new Float64Array(P);
+  expect(Object.is(a.net.gradient(a.w, ga, rows), b.net.gradient(b.w, gb, rows))).toBe(true);
+  expect(sameBits(ga, gb)).toBe(true);
+  for (let k = 0; k < 2; k++) {
+    a.net.hvp(a.w, v, ga, rows);
+    b.net.hvp(b.w, v, gb, rows);
+    expect(sameBits(ga, gb)).toBe(true);
+  }
+  a.net.gnvp(a.w, v, ga, rows);
+  b.net.gnvp(b.w, v, gb, rows);
+  expect(sameBits(ga, gb)).toBe(true);
+}
 
 describe('the sparse kernels inside a ReLU network give the bits of the plain loops', () => {
   // Layers at least one sixteen-column panel wide and more rows than one 256-row chunk, so the
@@ -58,7 +66,7 @@ describe('the sparse kernels inside a ReLU network give the bits of the plain lo
     return { net, w: rng.fillNormal(new Float64Array(net.parameterCount)) };
   };
 
-  it('gradient, Hessian and Gauss-Newton products, full batch and a mini-batch', () => {
+  it('value, gradient, Hessian and Gauss-Newton products, full batch and a mini-batch', () => {
     const a = build(true);
     const b = build(false);
     expect(a.net.kernelKind).toBe('simd');
@@ -72,20 +80,7 @@ describe('the sparse kernels inside a ReLU network give the bits of the plain lo
     });
     expect(zeros / count).toBeGreaterThan(SPARSE_ZERO_SHARE);
     const v = Rng.fromSeed(6).fillNormal(new Float64Array(P));
-    for (const rows of [undefined, Int32Array.from({ length: 270 }, (_, i) => (i * 7) % 300)]) {
-      const ga = new Float64Array(P), gb = new Float64Array(P);
-      expect(Object.is(a.net.gradient(a.w, ga, rows), b.net.gradient(b.w, gb, rows))).toBe(true);
-      expect(sameBits(ga, gb)).toBe(true);
-      for (let k = 0; k < 2; k++) {
-        // the second product runs on the kept pass
-        a.net.hvp(a.w, v, ga, rows);
-        b.net.hvp(b.w, v, gb, rows);
-        expect(sameBits(ga, gb)).toBe(true);
-      }
-      a.net.gnvp(a.w, v, ga, rows);
-      b.net.gnvp(b.w, v, gb, rows);
-      expect(sameBits(ga, gb)).toBe(true);
-    }
+    for (const rows of [undefined, Int32Array.from({ length: 270 }, (_, i) => (i * 7) % 300)]) expectSameProducts(a, b, v, rows);
   });
 });
 
