@@ -92,7 +92,7 @@ export function spectralDensity(op: LinearOperator, n: number, rng: Rng, options
   let stop: StopReason = 'converged';
   outer: for (let l = 0; l < probes; l++) {
     const probeRng = rng.fork(`probe-${l}`);
-    const state = startKrylov(n, probeRng, undefined, steps);
+    const state = startKrylov(n, probeRng, undefined, steps, true);
     while (state.alpha.length < steps && !state.exhausted) {
       if (stopRequested(options)) {
         stop = 'cancelled';
