@@ -288,7 +288,13 @@ export class CellController extends BranchController {
       this.set({ curvature: before });
       return this.failed(reply);
     }
+    // Stopped: the branch's readouts still hold the previous readout (or none), which replaces the partial top end.
     this.applyReadouts(reply.readouts);
+    if (reply.stopped) {
+      const kept = reply.readouts.curvature;
+      this.notice('info', `Curvature readout stopped: the partial result was discarded${kept === null ? '' : ` (the one taken at step ${kept.step} is still shown)`}.`);
+      return false;
+    }
     this.set({ tab: 'curvature' });
     return this.persist();
   }

@@ -46,10 +46,10 @@ function topEnd(session: Session, onTopEnd: ((partial: CurvatureResult) => void)
 export function coreWith(helper?: (experiment: Experiment) => DensityTraceRunner): EngineCore {
   return {
     ...realCore,
-    curvature(experiment, session, k, denseLimit, onTopEnd) {
-      if (helper === undefined) return realCore.curvature(experiment, session, k, denseLimit, onTopEnd);
+    curvature(experiment, session, k, denseLimit, onTopEnd, control) {
+      if (helper === undefined) return realCore.curvature(experiment, session, k, denseLimit, onTopEnd, control);
       const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
-      return measureSessionCurvatureWith(helper(experiment), session, rng, { k, denseLimit, ...topEnd(session, onTopEnd) }).then(r => curvatureResult(session, r));
+      return measureSessionCurvatureWith(helper(experiment), session, rng, { k, denseLimit, ...topEnd(session, onTopEnd), ...control }).then(r => curvatureResult(session, r));
     }
   };
 }
@@ -67,9 +67,10 @@ export const realCore: EngineCore = {
     const rng = Rng.fromSeed(experiment.seed).fork(`audit-${session.stepCount}`);
     return auditGradient(session.objective, session.parameters, { sample, rng });
   },
-  curvature(experiment, session, k, denseLimit, onTopEnd): CurvatureResult {
+  curvature(experiment, session, k, denseLimit, onTopEnd, control): CurvatureResult {
+    // One thread, synchronous: a stop request cannot arrive until it returns (no `pause` turns).
     const rng = Rng.fromSeed(experiment.seed).fork(`curvature-${session.stepCount}`);
-    return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit, ...topEnd(session, onTopEnd) }));
+    return curvatureResult(session, measureSessionCurvature(session, rng, { k, denseLimit, ...topEnd(session, onTopEnd), ...(control === undefined ? {} : { shouldStop: control.shouldStop }) }));
   },
   noise(experiment, session, sample) {
     // Like the audit: the rows sampled come from the seed and the step.

@@ -21,6 +21,16 @@ export interface CellFiles {
   problems: ReadonlyMap<string, string>;
 }
 
+/** How a long readout hears of a stop request (see `EngineCore.curvature`). */
+export interface ReadoutControl {
+  /** Read between Lanczos steps. */
+  shouldStop: () => boolean;
+  /** Settles when the stop is requested. */
+  stopped: Promise<void>;
+  /** Called between Lanczos steps: a promise to wait for (a turn for the worker's event loop), or undefined to go on. */
+  pause: () => Promise<void> | undefined;
+}
+
 /** Parsing and the readouts over a live session. */
 export interface EngineCore {
   /** Parses and validates spec text (reading the files it names from `files`) under `limits`. Never throws for bad text: returns the errors. */
@@ -30,14 +40,12 @@ export interface EngineCore {
   /** Gradient audit of the session's current parameters over `sample` sampled entries. */
   audit(experiment: Experiment, session: Session, sample: number): AuditResult;
   /**
-   * Hessian spectrum and stability summary at the session's current weights (a promise when a
-   * second thread computes part of it).
+   * The curvature readout at the session's step: Hessian spectrum and stability summary (a
+   * promise when a second thread computes part of it). On the matrix-free path `onTopEnd` gets
+   * the top end alone (`partial`) as soon as it has converged, before the complete readout, and
+   * `control` lets a stop request end it early (its result then has `stop` = `cancelled`).
    */
-  /**
-   * The curvature readout at the session's step; on the matrix-free path `onTopEnd` gets the
-   * top end alone (`partial`) as soon as it has converged, before the complete readout.
-   */
-  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number, onTopEnd?: (partial: CurvatureResult) => void): CurvatureResult | Promise<CurvatureResult>;
+  curvature(experiment: Experiment, session: Session, k: number, denseLimit: number, onTopEnd?: (partial: CurvatureResult) => void, control?: ReadoutControl): CurvatureResult | Promise<CurvatureResult>;
   /** The gradient noise scale at the session's weights from `sample` rows' gradients (throws without data rows). */
   noise(experiment: Experiment, session: Session, sample: number): NoiseScale;
   /** The sharpness the recipe's stability rule uses, by a short Lanczos run (cheap enough to track). */

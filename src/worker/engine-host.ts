@@ -40,6 +40,24 @@ interface Loaded {
 
 const nextTick = (): Promise<void> => new Promise(resolve => setTimeout(resolve, 0));
 
+/**
+ * A turn of the event loop without a timer's clamp (nested zero timeouts wait 4 ms each, which
+ * over a readout's hundred-odd turns would cost half a second): a message to itself, which the
+ * loop delivers after the messages already waiting, such as a stop request.
+ */
+function messageTurn(): Promise<void> {
+  if (typeof MessageChannel === 'undefined') return nextTick();
+  return new Promise(resolve => {
+    const channel = new MessageChannel();
+    channel.port1.onmessage = () => {
+      channel.port1.close();
+      channel.port2.close();
+      resolve();
+    };
+    channel.port2.postMessage(null);
+  });
+}
+
 /** The files of a load or fork request as maps (absent fields: none). */
 function filesOf(r: SpecFilesPayload): CellFiles {
   return { files: new Map(Object.entries(r.files ?? {})), problems: new Map(Object.entries(r.fileProblems ?? {})) };
@@ -55,6 +73,8 @@ export class EngineHost {
   private queue: Promise<void> = Promise.resolve();
   private running: number | null = null;
   private stopFlag = false;
+  /** Settles when the running action is asked to stop. */
+  private stopSignal: { promise: Promise<void>; resolve: () => void } = EngineHost.signal();
 
   /**
    * @param core - parsing and readouts (see `core-adapter.ts` for the real one).
@@ -82,7 +102,10 @@ export class EngineHost {
     }
     const request = message as EngineRequest;
     if (request.kind === 'stop') {
-      if (this.running === request.target) this.stopFlag = true;
+      if (this.running === request.target) {
+        this.stopFlag = true;
+        this.stopSignal.resolve();
+      }
       return Promise.resolve();
     }
     const done = this.queue.then(() => this.run(request));
@@ -90,9 +113,16 @@ export class EngineHost {
     return done;
   }
 
+  private static signal(): { promise: Promise<void>; resolve: () => void } {
+    let resolve: () => void = () => undefined;
+    const promise = new Promise<void>(r => (resolve = r));
+    return { promise, resolve };
+  }
+
   private async run(request: Exclude<EngineRequest, { kind: 'stop' }>): Promise<void> {
     this.running = request.id;
     this.stopFlag = false;
+    this.stopSignal = EngineHost.signal();
     try {
       await this.dispatch(request);
     } catch (error) {
@@ -176,10 +206,28 @@ export class EngineHost {
         // The top end goes out as soon as it has converged: on a large model it is most of what
         // the readout says (λmax against the limit) in a fraction of the time.
         const early = (partial: CurvatureResult): void => this.post({ id, kind: 'progress', done: 0, total: 0, records: [], curvature: partial });
-        const result = await this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit, early);
+        // Between Lanczos steps the loop gets a turn every chunk, so a Stop click can arrive.
+        let since = performance.now();
+        const pause = (): Promise<void> | undefined => {
+          if (performance.now() - since < this.chunkMs) return undefined;
+          return messageTurn().then(() => void (since = performance.now()));
+        };
+        const control = { shouldStop: () => this.stopFlag, stopped: this.stopSignal.promise, pause };
+        let result: CurvatureResult | null = null;
+        try {
+          result = await this.core.curvature(cell.grove.experiment(name), cell.grove.session(name), request.k, request.denseLimit, early, control);
+        } catch (error) {
+          // Stopped before the first eigenvalue: nothing to show.
+          if (!this.stopFlag) throw error;
+        }
+        if (result === null || result.stop === 'cancelled') {
+          // A stopped readout is discarded whole, like a stopped deeper readout: the branch keeps its previous one.
+          this.post({ id, kind: 'curvature', result: null, stopped: true, readouts: cell.readoutsView(name) });
+          return;
+        }
         cell.readoutsOf(name).curvature = result;
         cell.diagnose(name);
-        this.post({ id, kind: 'curvature', result, readouts: cell.readoutsView(name) });
+        this.post({ id, kind: 'curvature', result, stopped: false, readouts: cell.readoutsView(name) });
         return;
       }
       case 'snapshot': {

@@ -421,7 +421,8 @@ export type EngineReply =
       /** An even sample (≤ 5000) of the trajectory, for display. */
       trajectory: StepRecord[];
     }
-  | { id: number; kind: 'curvature'; result: CurvatureResult; readouts: BranchReadouts }
+  /** The curvature readout (null when stopped: nothing was kept) and the branch's readouts with it kept. */
+  | { id: number; kind: 'curvature'; result: CurvatureResult | null; stopped: boolean; readouts: BranchReadouts }
   /** The deeper readout taken (null when stopped: nothing was kept) and the branch's readouts with it kept. */
   | { id: number; kind: 'deeper'; result: DeeperResult | null; stopped: boolean; readouts: BranchReadouts }
   /** `result` is the first branch's; `results` has one per branch replayed. */

@@ -56,12 +56,25 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
     };
     return worker;
   };
+  // A stopped readout's task is given up by ending the thread (its loop never looks at messages);
+  // the next task starts a fresh one, so it does not queue behind the abandoned work.
+  const cancel = (id: number): void => {
+    const p = pending.get(id);
+    if (p === undefined || worker === null) return;
+    worker.terminate();
+    worker = null;
+    for (const other of pending.values()) {
+      other.accepted();
+      other.reject(new Error('readout helper: the readout was stopped'));
+    }
+    pending.clear();
+  };
   return (experiment) =>
     (task): DensityTraceJob => {
       const w = start();
       if (w === null) {
         const result = Promise.resolve({ ...runDensityTrace(buildObjective(experiment.setup), task), elsewhere: false });
-        return { started: Promise.resolve(), result };
+        return { started: Promise.resolve(), result, cancel: () => undefined };
       }
       const id = next++;
       const request: ReadoutRequest = { id, setup: experiment.setup, task };
@@ -71,6 +84,8 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
         pending.set(id, { accepted, resolve, reject });
         w.postMessage(request);
       });
-      return { started, result };
+      // Nobody awaits a cancelled task's result: keep its rejection from being reported as unhandled.
+      result.catch(() => undefined);
+      return { started, result, cancel: () => cancel(id) };
     };
 }

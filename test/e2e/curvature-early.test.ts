@@ -3,6 +3,8 @@
  * engine worker while the spectral density and the trace run in its helper thread (the reply
  * says "on 2 threads"), and the top end — λmax against the step size's limit — is shown as soon
  * as it has converged, marked as still measuring, before the complete readout replaces it.
+ * Stop during the readout ends it between Lanczos steps and discards it; the next readout runs on
+ * two threads again (the helper thread that was ended is started afresh).
  * Screenshots go to test-output/ (curvature-early-*.png).
  */
 import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
@@ -35,6 +37,20 @@ function mediumSpec(): string {
     recipe: { optimizer: 'sgd', lr: 0.2 },
   };
   return `# stepwell: a medium network for the matrix-free curvature readout\n${JSON.stringify(spec)}\n`;
+}
+
+/** A 32-256-256-4 ReLU network (P = 75 268) on 256 rows of made-up readings: a readout of seconds. */
+function largeSpec(): string {
+  const x = Array.from({ length: 256 }, (_, r) => Array.from({ length: 32 }, (_, j) => Number(Math.cos(0.11 * r + 0.7 * j + 0.003 * r * j).toFixed(4))));
+  const y = Array.from({ length: 256 }, (_, r) => (r * 5 + (r >> 2)) % 4);
+  const spec = {
+    seed: 8,
+    model: { inputs: 32, layers: [{ units: 256, activation: 'relu' }, { units: 256, activation: 'relu' }, { units: 4, activation: 'linear' }] },
+    data: { x, y },
+    loss: 'cross-entropy',
+    recipe: { optimizer: 'sgd', lr: 0.05 },
+  };
+  return `# stepwell: a large network whose curvature readout takes seconds\n${JSON.stringify(spec)}\n`;
 }
 
 describe('the curvature readout above the dense limit', () => {
@@ -72,6 +88,28 @@ describe('the curvature readout above the dense limit', () => {
     // The derived numbers come with the complete readout only.
     await cell.locator('.sw-DerivedTable').waitFor({ timeout: 10_000 });
     await screenshot(page, 'curvature-early-complete');
+    expect(ourErrors(browser)).toEqual([]);
+  });
+
+  it('stops between Lanczos steps when Stop is clicked, discards the partial readout, and measures on two threads again afterwards', async () => {
+    const { page } = browser;
+    await appendAndRunCell(page, largeSpec());
+    const cell = page.locator('.sw-CellWidget').last();
+    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
+    await cell.scrollIntoViewIfNeeded();
+    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    await cell.locator('.sw-Button-curvature').click();
+    await cell.locator('.sw-CurvatureHead[data-partial="true"]').waitFor({ timeout: 60_000 });
+    const stopAt = Date.now();
+    await cell.locator('.sw-Button-stop').click();
+    await cell.locator('.sw-Notice', { hasText: 'Curvature readout stopped: the partial result was discarded.' }).waitFor({ timeout: 30_000 });
+    // A step of Lanczos plus a turn of the worker's loop, far less than the rest of the readout.
+    expect(Date.now() - stopAt).toBeLessThan(3_000);
+    expect(await cell.locator('.sw-CurvatureHead').count()).toBe(0);
+    await screenshot(page, 'curvature-early-stopped');
+    await cell.locator('.sw-Button-curvature').click();
+    await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
+    expect(await cell.locator('.sw-CurvatureHead').textContent()).toMatch(/^At step 0: λmax = [\d.]+ \(± [\d.e+-]+\), λmin = -?[\d.]+ — Lanczos over 75268 parameters, \d+ Hessian-vector products on 2 threads\.$/);
     expect(ourErrors(browser)).toEqual([]);
   });
 });

@@ -315,6 +315,31 @@ function wantedIndices(m: number, k: number, which: 'largest' | 'smallest' | 'bo
  * @param rng - seeded generator for the start vector and restarts.
  */
 export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options: LanczosOptions = {}): LanczosResult {
+  const run = lanczosRun(op, n, rng, options);
+  for (;;) {
+    const r = run.next();
+    if (r.done === true) return r.value;
+  }
+}
+
+/**
+ * {@link lanczosExtremes} with a turn for the caller's event loop between steps: after each step
+ * `pause` returns a promise to wait for (the caller's choice, e.g. once 50 ms have passed) or
+ * undefined to go on. A stop request that arrives as a message can then reach `shouldStop`,
+ * which is read before every step. Same steps, same numbers.
+ */
+export async function lanczosExtremesSliced(op: LinearOperator, n: number, rng: Rng, options: LanczosOptions, pause: () => Promise<void> | undefined): Promise<LanczosResult> {
+  const run = lanczosRun(op, n, rng, options);
+  for (;;) {
+    const r = run.next();
+    if (r.done === true) return r.value;
+    const wait = pause();
+    if (wait !== undefined) await wait;
+  }
+}
+
+/** The run of {@link lanczosExtremes}, yielding after every step. */
+function* lanczosRun(op: LinearOperator, n: number, rng: Rng, options: LanczosOptions): Generator<void, LanczosResult, void> {
   const k = options.k ?? 5;
   const which = options.which ?? 'largest';
   const tol = options.tol ?? 1e-10;
@@ -368,6 +393,7 @@ export function lanczosExtremes(op: LinearOperator, n: number, rng: Rng, options
       stop = 'cancelled';
       break;
     }
+    yield;
   }
   return assemble(state, snap, scale, k, which, tol, stop, options.vectors === true);
 }

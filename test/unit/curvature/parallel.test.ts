@@ -26,7 +26,7 @@ describe('measureCurvatureWith', () => {
     const tasks: DensityTraceTask[] = [];
     const run = (task: DensityTraceTask) => {
       tasks.push(task);
-      return { started: Promise.resolve(), result: Promise.resolve(runDensityTrace(other, task)) };
+      return { started: Promise.resolve(), result: Promise.resolve(runDensityTrace(other, task)), cancel: () => undefined };
     };
     const options = { denseLimit: 10, k: 3, density: { probes: 3, steps: 12 }, traceProbes: 8 };
     const one = measureCurvature(network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(4), options);
@@ -40,6 +40,32 @@ describe('measureCurvatureWith', () => {
     expect(Array.from(two.spectrum.density?.density ?? [])).toEqual(Array.from(one.spectrum.density?.density ?? []));
     expect(two.spectrum.products).toBe(one.spectrum.products);
     expect(two.summary).toEqual(one.summary);
+  });
+
+  it('gives the event loop a turn between Lanczos steps; a stop then cancels the other thread and returns without its result', async () => {
+    const { network, w } = net();
+    let cancelled = 0;
+    let stop = false;
+    let turns = 0;
+    // The other thread never answers: a readout that waited for it would never return.
+    const run = () => ({ started: Promise.resolve(), result: new Promise<never>(() => undefined), cancel: () => void cancelled++ });
+    const pause = (): Promise<void> => {
+      turns++;
+      // A stop request arrives as a message while the event loop has its turn.
+      return new Promise((resolve) => setTimeout(() => {
+        if (turns === 4) stop = true;
+        resolve();
+      }, 0));
+    };
+    const options = { denseLimit: 10, k: 3, density: { probes: 3, steps: 12 }, traceProbes: 8, shouldStop: () => stop, pause };
+    const r = await measureCurvatureWith(run, network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(4), options);
+    expect(turns).toBe(4);
+    expect(cancelled).toBe(1);
+    expect(r.spectrum.stop).toBe('cancelled');
+    expect(r.spectrum.density).toBeNull();
+    expect(r.spectrum.trace).toBeNull();
+    // Four steps were taken: the values so far, with their (wide) bounds.
+    expect(r.spectrum.top.length).toBeGreaterThan(0);
   });
 
   it('runs nothing elsewhere on the dense path', async () => {

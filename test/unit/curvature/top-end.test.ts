@@ -96,7 +96,7 @@ describe('the early top end of a matrix-free curvature readout', () => {
     const order: string[] = [];
     const run = (task: DensityTraceTask) => {
       order.push('task handed over');
-      return { started: Promise.resolve().then(() => void order.push('started')), result: Promise.resolve(runDensityTrace(other, task)) };
+      return { started: Promise.resolve().then(() => void order.push('started')), result: Promise.resolve(runDensityTrace(other, task)), cancel: () => undefined };
     };
     const two = await measureCurvatureWith(run, network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(8), { ...options, onTopEnd: () => order.push('top end') });
     expect(order).toEqual(['task handed over', 'started', 'top end']);

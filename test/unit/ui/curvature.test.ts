@@ -2,7 +2,10 @@
  * The curvature readout's path through the engine host and the figure builder.
  */
 import { EngineHost } from '../../../src/worker/engine-host';
-import { realCore } from '../../../src/worker/core-adapter';
+import { coreWith, realCore } from '../../../src/worker/core-adapter';
+import { buildObjective } from '../../../src/core/assemble';
+import { runDensityTrace, type DensityTraceJob, type DensityTraceTask } from '../../../src/core/probe/curvature';
+import type { Experiment } from '../../../src/core/setup';
 import type { CurvatureResult, EngineReply } from '../../../src/worker/protocol';
 import { TEMPLATE_SPEC } from '../../../src/experiment';
 import { curvatureFigure, sharpnessFigure } from '../../../src/ui/curvature-figure';
@@ -18,7 +21,7 @@ async function measure(spec: string, steps: number): Promise<CurvatureResult> {
   if (steps > 0) await host.receive({ id: 2, kind: 'step', n: steps });
   await host.receive({ id: 3, kind: 'curvature', k: 4, denseLimit: 2000 });
   const r = replies[replies.length - 1];
-  if (r.kind !== 'curvature') throw new Error(`expected a curvature reply, got ${JSON.stringify(r).slice(0, 200)}`);
+  if (r.kind !== 'curvature' || r.result === null) throw new Error(`expected a curvature reply, got ${JSON.stringify(r).slice(0, 200)}`);
   return r.result;
 }
 
@@ -71,7 +74,7 @@ describe('sharpness trace', () => {
     for (const p of points) expect(p.limit).toBeCloseTo(2 / 0.1, 12);
     await host.receive({ id: 3, kind: 'curvature', k: 1, denseLimit: 2000 });
     const dense = replies[replies.length - 1];
-    if (dense.kind !== 'curvature') throw new Error('expected a curvature reply');
+    if (dense.kind !== 'curvature' || dense.result === null) throw new Error('expected a curvature reply');
     // The short Lanczos run and the full Hessian agree on λmax at step 20 (Golub & Van Loan, ch. 10: extreme eigenvalues converge first).
     expect(points[4].lambdaMax).toBeCloseTo(dense.result.top[0], 6);
   });
@@ -102,7 +105,7 @@ describe('curvature readout on the matrix-free path', () => {
     const early = replies.filter(r => r.kind === 'progress' && r.curvature !== undefined);
     expect(early).toHaveLength(1);
     const last = replies[replies.length - 1];
-    if (last.kind !== 'curvature' || early[0].kind !== 'progress' || early[0].curvature === undefined) throw new Error('expected a partial top end, then the readout');
+    if (last.kind !== 'curvature' || last.result === null || early[0].kind !== 'progress' || early[0].curvature === undefined) throw new Error('expected a partial top end, then the readout');
     const top = early[0].curvature;
     expect(replies.indexOf(early[0])).toBeLessThan(replies.length - 1);
     expect(top.partial).toBe(true);
@@ -115,5 +118,45 @@ describe('curvature readout on the matrix-free path', () => {
     expect(Math.abs(top.summary.lambdaMax - last.result.summary.lambdaMax)).toBeLessThanOrEqual(top.summary.lambdaMaxBound + last.result.summary.lambdaMaxBound + 1e-12);
     // the readout kept for the branch is the complete one
     expect(last.readouts.curvature?.partial).toBeUndefined();
+  });
+
+  it('stops between Lanczos steps: the partial readout is discarded, the branch keeps its previous one and the helper gives its task up', async () => {
+    // A network of our own (4-32-32-1 tanh, P 1 249, 64 seeded rows) whose two-ended run takes
+    // dozens of steps, with the density and trace on a stand-in helper thread.
+    const x = Array.from({ length: 64 }, (_, r) => Array.from({ length: 4 }, (_, c) => Math.sin(1.7 * r + 0.9 * c)));
+    const spec = JSON.stringify({
+      seed: 4,
+      model: { inputs: 4, layers: [{ units: 32, activation: 'tanh' }, { units: 32, activation: 'tanh' }, { units: 1, activation: 'linear' }] },
+      data: { x, y: x.map((row) => row[0] * row[1] - row[2]) },
+      loss: 'mse',
+      recipe: { optimizer: 'sgd', lr: 0.05 },
+    });
+    let cancelled = 0;
+    const helper = (experiment: Experiment) => (task: DensityTraceTask): DensityTraceJob => ({
+      started: Promise.resolve(),
+      result: Promise.resolve(runDensityTrace(buildObjective(experiment.setup), task)),
+      cancel: () => void cancelled++,
+    });
+    const replies: EngineReply[] = [];
+    const host = new EngineHost(coreWith(helper), r => replies.push(structuredClone(r)), { chunkMs: 0 });
+    await host.receive({ id: 1, kind: 'load', specText: `# stepwell\n${spec}\n`, checkpointEvery: 0 });
+    await host.receive({ id: 2, kind: 'curvature', k: 5, denseLimit: 10 });
+    const first = replies[replies.length - 1];
+    if (first.kind !== 'curvature' || first.result === null) throw new Error(`expected a complete readout, got ${JSON.stringify(first).slice(0, 200)}`);
+    expect(first.stopped).toBe(false);
+    expect(first.result.products).toBeGreaterThan(40);
+    await host.receive({ id: 3, kind: 'step', n: 2 });
+    replies.length = 0;
+    const running = host.receive({ id: 4, kind: 'curvature', k: 5, denseLimit: 10 });
+    // Stop as soon as the top end is out: the bottom end still needs steps.
+    while (!replies.some((r) => r.id === 4 && r.kind === 'progress')) await new Promise((resolve) => setTimeout(resolve, 0));
+    await host.receive({ id: 5, kind: 'stop', target: 4 });
+    await running;
+    const last = replies[replies.length - 1];
+    if (last.kind !== 'curvature') throw new Error(`expected the curvature reply, got ${last.kind}`);
+    expect(last.stopped).toBe(true);
+    expect(last.result).toBeNull();
+    expect(last.readouts.curvature?.step).toBe(0);
+    expect(cancelled).toBe(1);
   });
 });

@@ -44,6 +44,11 @@ export interface DensityTraceJob {
   readonly started: Promise<void>;
   /** The density and trace. */
   readonly result: Promise<DensityTrace>;
+  /**
+   * Gives the task up (the readout was stopped): the other thread stops working on it and
+   * `result` may never settle. Nothing to do for a runner that computed it already.
+   */
+  readonly cancel: () => void;
 }
 
 /** Runs a task somewhere (another thread). */

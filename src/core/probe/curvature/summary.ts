@@ -6,8 +6,8 @@
 import type { Objective, Rows } from '../../objective';
 import type { Recipe } from '../../setup';
 import type { IterationControl, StopReason } from '../../linalg/operator';
-import type { LanczosResult } from '../../linalg/lanczos';
-import { lanczosExtremes } from '../../linalg/lanczos';
+import type { LanczosOptions, LanczosResult } from '../../linalg/lanczos';
+import { lanczosExtremes, lanczosExtremesSliced } from '../../linalg/lanczos';
 import type { DensityOptions, SpectralDensity, TraceEstimate } from '../../linalg/density';
 import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
 import type { CurvatureKind } from './operator';
@@ -231,6 +231,18 @@ export interface MeasureOptions extends IterationControl {
    * readout follows; its values may differ within the bounds shown.
    */
   onTopEnd?: (partial: CurvatureReport) => void;
+  /**
+   * {@link measureCurvatureWith} only: called after every Lanczos step; a promise it returns is
+   * awaited first (a turn for the caller's event loop, so that a stop request can reach
+   * `shouldStop`), undefined goes straight on.
+   */
+  pause?: () => Promise<void> | undefined;
+  /**
+   * {@link measureCurvatureWith} only: settles when a stop is requested. Waiting for the other
+   * thread's density and trace then ends at once (the task is cancelled and the readout comes
+   * back `cancelled`, without them).
+   */
+  stopped?: Promise<void>;
 }
 
 /** The message of the error {@link measureCurvature} throws when cancelled before any eigenvalue exists. */
@@ -283,11 +295,25 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
   // The other thread must hold the task before this one turns to Lanczos (see DensityTraceJob.started).
   await job.started;
   const step = stepSharpnessOnce(objective, w, rng, options);
-  const l = lanczosPart(objective, w, recipe, rng, options, step);
-  const parts = await job.result;
-  const density = l.stop === 'cancelled' ? null : parts.density;
-  const trace = l.stop === 'cancelled' ? null : parts.trace;
-  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace), step);
+  let l: LanczosResult;
+  try {
+    l = await lanczosPart(objective, w, recipe, rng, options, step, options.pause ?? (() => undefined));
+  } catch (error) {
+    job.cancel();
+    throw error;
+  }
+  if (l.stop === 'cancelled') {
+    // Cancelled: the density and trace would be dropped, so the other thread stops now.
+    job.cancel();
+    return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null), step);
+  }
+  const parts = options.stopped === undefined ? await job.result : await Promise.race([job.result, options.stopped.then(() => null)]);
+  if (parts === null) {
+    job.cancel();
+    const spectrum = spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null);
+    return finish(objective, w, recipe, rng, options, { ...spectrum, stop: 'cancelled' }, step);
+  }
+  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, parts.density, parts.trace), step);
   return parts.elsewhere === true ? { ...report, threads: 2 } : report;
 }
 
@@ -313,16 +339,23 @@ function denseSpectrumFacts(objective: Objective, w: Float64Array, options: Meas
   return spectrumFromDense(d, kind, options.k ?? 5, options.cutoff);
 }
 
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness): LanczosResult {
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness): LanczosResult;
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, pause: () => Promise<void> | undefined): Promise<LanczosResult>;
+/** The two-ended Lanczos run of the readout (sliced with `pause` when given). */
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, pause?: () => Promise<void> | undefined): LanczosResult | Promise<LanczosResult> {
   const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian' });
   const onTopEnd = options.onTopEnd;
   const onLargest =
     onTopEnd === undefined
       ? undefined
       : (partial: LanczosResult): void => onTopEnd({ ...finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, options.kind ?? 'hessian', partial, null, null), step), partial: true });
-  const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest });
-  if (l.largest.length === 0) throw new Error(CANCELLED);
-  return l;
+  const lanczosOptions: LanczosOptions = { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest };
+  const some = (l: LanczosResult): LanczosResult => {
+    if (l.largest.length === 0) throw new Error(CANCELLED);
+    return l;
+  };
+  if (pause === undefined) return some(lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), lanczosOptions));
+  return lanczosExtremesSliced(op.apply, objective.parameterCount, rng.fork('lanczos'), lanczosOptions, pause).then(some);
 }
 
 /**
