@@ -25,33 +25,27 @@ afterAll(async () => {
   await app?.stop();
 });
 
-/** A 16-64-64-4 network (P = 5 508, above the default dense limit of 2 000) on 128 rows of made-up readings. */
-function mediumSpec(): string {
-  const x = Array.from({ length: 128 }, (_, r) => Array.from({ length: 16 }, (_, j) => Number(Math.sin(0.37 * r + 1.3 * j + 0.01 * r * j).toFixed(4))));
-  const y = Array.from({ length: 128 }, (_, r) => (r * 7 + (r >> 3)) % 4);
+/** Spec text of a classifier of our own: made-up readings (a smooth function of row and column), four classes. */
+function classifierSpec(title: string, seed: number, inputs: number, units: number, activation: string, rows: number, reading: (r: number, j: number) => number, lr: number): string {
+  const x = Array.from({ length: rows }, (_, r) => Array.from({ length: inputs }, (_, j) => Number(reading(r, j).toFixed(4))));
+  const y = Array.from({ length: rows }, (_, r) => (r * 7 + (r >> 3)) % 4);
   const spec = {
-    seed: 3,
-    model: { inputs: 16, layers: [{ units: 64, activation: 'tanh' }, { units: 64, activation: 'tanh' }, { units: 4, activation: 'linear' }] },
+    seed,
+    model: { inputs, layers: [{ units, activation }, { units, activation }, { units: 4, activation: 'linear' }] },
     data: { x, y },
     loss: 'cross-entropy',
-    recipe: { optimizer: 'sgd', lr: 0.2 },
+    recipe: { optimizer: 'sgd', lr },
   };
-  return `# stepwell: a medium network for the matrix-free curvature readout\n${JSON.stringify(spec)}\n`;
+  return `# stepwell: ${title}\n${JSON.stringify(spec)}\n`;
 }
 
-/** A 32-256-256-4 ReLU network (P = 75 268) on 256 rows of made-up readings: a readout of seconds. */
-function largeSpec(): string {
-  const x = Array.from({ length: 256 }, (_, r) => Array.from({ length: 32 }, (_, j) => Number(Math.cos(0.11 * r + 0.7 * j + 0.003 * r * j).toFixed(4))));
-  const y = Array.from({ length: 256 }, (_, r) => (r * 5 + (r >> 2)) % 4);
-  const spec = {
-    seed: 8,
-    model: { inputs: 32, layers: [{ units: 256, activation: 'relu' }, { units: 256, activation: 'relu' }, { units: 4, activation: 'linear' }] },
-    data: { x, y },
-    loss: 'cross-entropy',
-    recipe: { optimizer: 'sgd', lr: 0.05 },
-  };
-  return `# stepwell: a large network whose curvature readout takes seconds\n${JSON.stringify(spec)}\n`;
-}
+/** A 16-64-64-4 network (P = 5 508, above the default dense limit of 2 000) on 128 rows. */
+const mediumSpec = (): string =>
+  classifierSpec('a medium network for the matrix-free curvature readout', 3, 16, 64, 'tanh', 128, (r, j) => Math.sin(0.37 * r + 1.3 * j + 0.01 * r * j), 0.2);
+
+/** A 32-256-256-4 ReLU network (P = 75 268) on 256 rows: a readout of seconds. */
+const largeSpec = (): string =>
+  classifierSpec('a large network whose curvature readout takes seconds', 8, 32, 256, 'relu', 256, (r, j) => Math.cos(0.11 * r + 0.7 * j + 0.003 * r * j), 0.05);
 
 describe('the curvature readout above the dense limit', () => {
   it('shows the top end first, then the complete readout computed on two threads', async () => {
