@@ -100,6 +100,13 @@ class OrthogonalityEstimate {
     return must;
   }
 
+  /** The largest estimate of |q_mᵀq_k| over k < m for the newest vector q_m. */
+  newest(): number {
+    let worst = 0;
+    for (let k = 0; k + 1 < this.cur.length; k++) worst = max(worst, abs(this.cur[k]));
+    return worst;
+  }
+
   /** The newest vector was orthogonalized against the whole basis: its estimates fall to rounding. */
   reset(b: number, scale: number): void {
     const nx = this.cur;
