@@ -83,19 +83,18 @@ class OrthogonalityEstimate {
     const nx = new Float64Array(j + 2);
     const aj = alpha[j];
     const bPrev = j > 0 ? beta[j - 1] : 0;
-    let worst = 0;
     for (let k = 0; k < j; k++) {
       let t = beta[k] * cur[k + 1] + (alpha[k] - aj) * cur[k] - bPrev * prev[k];
       if (k > 0) t += beta[k - 1] * cur[k - 1];
       t += (t < 0 ? -EPS : EPS) * (abs(beta[k]) + b);
       nx[k] = t / b;
-      worst = max(worst, abs(nx[k]));
     }
     nx[j] = this.psi(b, scale);
     nx[j + 1] = 1;
     this.prev = cur;
     this.cur = nx;
-    const must = this.again || worst > SEMI;
+    // The local term counts too: a β_j tiny against T's scale leaves q_{j+1} far from orthogonal to q_j.
+    const must = this.again || this.newest() > SEMI;
     this.again = must && !this.again;
     return must;
   }

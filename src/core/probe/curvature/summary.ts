@@ -302,13 +302,10 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
     job.cancel();
     throw error;
   }
-  if (l.stop === 'cancelled') {
-    // Cancelled: the density and trace would be dropped, so the other thread stops now.
-    job.cancel();
-    return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null), step);
-  }
-  const parts = options.stopped === undefined ? await job.result : await Promise.race([job.result, options.stopped.then(() => null)]);
+  const parts =
+    l.stop === 'cancelled' ? null : options.stopped === undefined ? await job.result : await Promise.race([job.result, options.stopped.then(() => null)]);
   if (parts === null) {
+    // Stopped during Lanczos or while waiting: the density and trace would be dropped, so the other thread stops now.
     job.cancel();
     const spectrum = spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null);
     return finish(objective, w, recipe, rng, options, { ...spectrum, stop: 'cancelled' }, step);
