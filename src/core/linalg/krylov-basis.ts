@@ -105,6 +105,58 @@ export class KrylovBasis {
     return correction;
   }
 
+  /**
+   * One classical Gram–Schmidt pass for a vector already close to orthogonal to the basis (partial
+   * re-orthogonalization): h = Qᵀw against every stored vector, then w −= h_k q_k only over the
+   * runs of k where |h_k| > `threshold`, runs fewer than `gap` apart merged. Over a semi-orthogonal
+   * basis one pass leaves overlaps of order m·√ε·|h_k|, far below the threshold, so the second pass
+   * of {@link orthogonalize} is not needed here.
+   * @returns h (a copy) and the runs [from, to) subtracted.
+   */
+  projectOut(w: Float64Array, threshold: number, gap: number): { h: Float64Array; runs: Array<[number, number]> } {
+    const m = this.vectors.length;
+    const ex = this.ex;
+    const wasm = ex !== null && this.vectors.every((q) => q.buffer === ex.memory.buffer);
+    let h: Float64Array;
+    if (wasm) {
+      const buf = new Float64Array(ex.memory.buffer);
+      buf.set(w, this.scratch);
+      ex.dots(8 * HEAD, 8 * this.vectorAt(0), 8 * this.n, m, 8 * this.scratch, this.n);
+      h = buf.slice(HEAD, HEAD + m);
+    } else {
+      h = new Float64Array(m);
+      for (let k = 0; k < m; k++) {
+        const q = this.vectors[k];
+        let s = 0;
+        for (let i = 0; i < w.length; i++) s += q[i] * w[i];
+        h[k] = s;
+      }
+    }
+    const runs: Array<[number, number]> = [];
+    for (let k = 0; k < m; k++) {
+      if (!(Math.abs(h[k]) > threshold)) continue;
+      const last = runs.length > 0 ? runs[runs.length - 1] : null;
+      if (last !== null && k - last[1] < gap) last[1] = k + 1;
+      else runs.push([k, k + 1]);
+    }
+    if (runs.length === 0) return { h, runs };
+    if (wasm) {
+      const buf = new Float64Array(ex.memory.buffer);
+      buf.set(h, HEAD);
+      for (const [from, to] of runs) ex.subtractRows(8 * this.scratch, 8 * this.vectorAt(from), 8 * this.n, 8 * (HEAD + from), to - from, this.n);
+      w.set(buf.subarray(this.scratch, this.scratch + this.n));
+    } else {
+      for (const [from, to] of runs) {
+        for (let k = from; k < to; k++) {
+          const q = this.vectors[k];
+          const c = h[k];
+          for (let i = 0; i < w.length; i++) w[i] -= c * q[i];
+        }
+      }
+    }
+    return { h, runs };
+  }
+
   private vectorAt(k: number): number {
     return this.scratch + this.n + k * this.n;
   }

@@ -1,6 +1,7 @@
 /**
  * The Lanczos basis store: its blocked re-orthogonalization (WebAssembly SIMD) against the plain
- * one-vector-at-a-time loops, and its growth past the expected size (views re-made, values kept).
+ * one-vector-at-a-time loops, its one-pass projection for partial re-orthogonalization, and its
+ * growth past the expected size (views re-made, values kept).
  */
 import { KrylovBasis } from '../../../src/core/linalg/krylov-basis';
 import { Rng } from '../../../src/core/rng';
@@ -62,5 +63,60 @@ describe('KrylovBasis', () => {
       // source: as above (CGS2 leaves round-off-level inner products).
       expect(Math.abs(s)).toBeLessThan(1e-11);
     }
+  });
+
+  it.each([true, false])('projectOut (SIMD %s): measures every overlap, subtracts only the runs above the threshold, merges runs closer than the gap', (simd) => {
+    const n = 1000;
+    const m = 24;
+    const qs = orthonormalSet(n, m, 17);
+    const store = new KrylovBasis(n, m, simd);
+    for (const q of qs) store.push(q);
+    // w = r + Σ c_k q_k with r orthogonal to the basis and chosen overlaps c_k: above the threshold
+    // at 2, 5 and 19 (5 − 2 < gap: one run 2..5; 19 alone), at rounding level elsewhere.
+    const r = Rng.fromSeed(21).fillNormal(new Float64Array(n));
+    const plain = new KrylovBasis(n, m, false);
+    for (const q of qs) plain.push(q);
+    plain.orthogonalize(r, -1);
+    let rr = 0;
+    for (const x of r) rr += x * x;
+    for (let i = 0; i < n; i++) r[i] /= Math.sqrt(rr);
+    const c = new Float64Array(m).fill(3e-13);
+    c[2] = 3e-9;
+    c[5] = -2e-9;
+    c[19] = 5e-10;
+    c[4] = 1e-13; // inside the merged run, below the threshold: subtracted with it
+    const w = Float64Array.from(r);
+    for (let k = 0; k < m; k++) for (let i = 0; i < n; i++) w[i] += c[k] * qs[k][i];
+    const before = Float64Array.from(w);
+    const { h, runs } = store.projectOut(w, 1e-12, 8);
+    expect(runs).toEqual([[2, 6], [19, 20]]);
+    // source: the construction (qᵀw = c_k for an orthonormal basis), to the rounding of n-term sums.
+    for (let k = 0; k < m; k++) expect(Math.abs(h[k] - c[k])).toBeLessThan(1e-14);
+    const overlap = (k: number): number => {
+      let s = 0;
+      for (let i = 0; i < n; i++) s += qs[k][i] * w[i];
+      return s;
+    };
+    // source: one classical Gram–Schmidt pass over an orthonormal basis removes the measured
+    // components to rounding (common practice); the other components are left as they were.
+    for (const k of [2, 3, 4, 5, 19]) expect(Math.abs(overlap(k))).toBeLessThan(1e-14);
+    for (const k of [0, 1, 6, 18, 20, 23]) expect(Math.abs(overlap(k) - c[k])).toBeLessThan(1e-14);
+    let moved = 0;
+    for (let i = 0; i < n; i++) moved = Math.max(moved, Math.abs(w[i] - before[i]));
+    expect(moved).toBeLessThan(1e-8);
+    expect(moved).toBeGreaterThan(1e-10);
+  });
+
+  it('projectOut with nothing above the threshold leaves w bit for bit as it was', () => {
+    const n = 300;
+    const qs = orthonormalSet(n, 6, 2);
+    const store = new KrylovBasis(n, 6);
+    for (const q of qs) store.push(q);
+    const w = Rng.fromSeed(4).fillNormal(new Float64Array(n));
+    store.orthogonalize(w, -1);
+    const before = Float64Array.from(w);
+    const { runs } = store.projectOut(w, 1e-9, 8);
+    expect(runs).toEqual([]);
+    expect(Array.from(w)).toEqual(Array.from(before));
   });
 });
