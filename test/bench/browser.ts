@@ -61,8 +61,17 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
     for (const demo of parts.steps === false ? [] : DEMOS) {
       await openNotebook(page, `${app.origin}/lab/tree/${demo}`);
       // Only this notebook's cells: the previous demo stays open in a hidden tab, and its widget
-      // may still be in the page.
-      const panel = await page.evaluate(() => (window as unknown as { jupyterapp: { shell: { currentWidget: { id: string } } } }).jupyterapp.shell.currentWidget.id);
+      // may still be in the page. The shell may still name the previous tab current for a moment
+      // (a full run once waited on the hidden one's cells): wait until it names this notebook.
+      const handle = await page.waitForFunction(
+        (name) => {
+          const current = (window as unknown as { jupyterapp: { shell: { currentWidget: { id: string; title: { label: string } } | null } } }).jupyterapp.shell.currentWidget;
+          return current !== null && current.title.label === name ? current.id : null;
+        },
+        demo,
+        { timeout: 60_000 }
+      );
+      const panel = (await handle.jsonValue()) as string;
       const cells = page.locator(`[id="${panel}"] .sw-CellWidget`);
       await cells.first().waitFor({ timeout: 60_000 });
       const count = await cells.count();
