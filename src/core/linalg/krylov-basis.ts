@@ -5,10 +5,11 @@
  * product and one update per basis vector. The first pass's update and the second pass's dot
  * products share one sweep (`subtractThenDots`: a chunk's update beside the previous chunk's
  * dot products, whose rows are still in cache), so a step reads the basis from memory three
- * times, not four, with the same bits as the two kernels one after the other. Where the
- * engine lacks WebAssembly SIMD the vectors are plain arrays and the loops are JavaScript. A
- * readout: the sums are ordered differently from one-vector-at-a-time code and agree with it to
- * rounding.
+ * times, not four, with the same bits as the two kernels one after the other. Partial
+ * re-orthogonalization's sweep (`projectOut`) reads it once for the dot products and subtracts
+ * only the components it asks for. Where the engine lacks WebAssembly SIMD the vectors are
+ * plain arrays and the loops are JavaScript. A readout: the sums are ordered differently from
+ * one-vector-at-a-time code and agree with it to rounding.
  */
 import { growTo, wasmInstance } from '../wasm/load';
 
@@ -141,8 +142,8 @@ export class KrylovBasis {
     }
     if (runs.length === 0) return { h, runs };
     if (wasm) {
+      // The coefficients are still where `dots` wrote them.
       const buf = new Float64Array(ex.memory.buffer);
-      buf.set(h, HEAD);
       for (const [from, to] of runs) ex.subtractRows(8 * this.scratch, 8 * this.vectorAt(from), 8 * this.n, 8 * (HEAD + from), to - from, this.n);
       w.set(buf.subarray(this.scratch, this.scratch + this.n));
     } else {

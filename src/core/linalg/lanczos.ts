@@ -57,7 +57,7 @@ export interface KrylovState {
 const EPS = Number.EPSILON;
 /** Semi-orthogonality: |q_iᵀq_k| ≤ √ε keeps the Ritz values accurate to working precision (Simon 1984). */
 const SEMI = Math.sqrt(EPS);
-/** Simon's threshold for the vectors a sweep includes: estimates above ε^{3/4}. */
+/** Simon's η: a sweep subtracts the components whose measured overlap exceeds ε^{3/4}. */
 const ETA = SEMI * Math.sqrt(SEMI);
 /** Subtracted runs fewer than this many vectors apart are subtracted as one (a run costs a pass over w of its own). */
 const GAP = 8;

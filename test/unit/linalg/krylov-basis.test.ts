@@ -72,7 +72,7 @@ describe('KrylovBasis', () => {
     const store = new KrylovBasis(n, m, simd);
     for (const q of qs) store.push(q);
     // w = r + Σ c_k q_k with r orthogonal to the basis and chosen overlaps c_k: above the threshold
-    // at 2, 5 and 19 (5 − 2 < gap: one run 2..5; 19 alone), at rounding level elsewhere.
+    // at 2, 5 and 19 (5 − 2 < gap: one run 2..5; 19 alone), below it (3e-13) elsewhere.
     const r = Rng.fromSeed(21).fillNormal(new Float64Array(n));
     const plain = new KrylovBasis(n, m, false);
     for (const q of qs) plain.push(q);
