@@ -124,15 +124,7 @@ export class KrylovBasis {
       buf.set(w, this.scratch);
       ex.dots(8 * HEAD, 8 * this.vectorAt(0), 8 * this.n, m, 8 * this.scratch, this.n);
       h = buf.slice(HEAD, HEAD + m);
-    } else {
-      h = new Float64Array(m);
-      for (let k = 0; k < m; k++) {
-        const q = this.vectors[k];
-        let s = 0;
-        for (let i = 0; i < w.length; i++) s += q[i] * w[i];
-        h[k] = s;
-      }
-    }
+    } else h = plainDots(w, this.vectors);
     const runs: Array<[number, number]> = [];
     for (let k = 0; k < m; k++) {
       if (!(Math.abs(h[k]) > threshold)) continue;
@@ -146,15 +138,7 @@ export class KrylovBasis {
       const buf = new Float64Array(ex.memory.buffer);
       for (const [from, to] of runs) ex.subtractRows(8 * this.scratch, 8 * this.vectorAt(from), 8 * this.n, 8 * (HEAD + from), to - from, this.n);
       w.set(buf.subarray(this.scratch, this.scratch + this.n));
-    } else {
-      for (const [from, to] of runs) {
-        for (let k = from; k < to; k++) {
-          const q = this.vectors[k];
-          const c = h[k];
-          for (let i = 0; i < w.length; i++) w[i] -= c * q[i];
-        }
-      }
-    }
+    } else for (const [from, to] of runs) plainSubtract(w, this.vectors, h, from, to);
     return { h, runs };
   }
 
@@ -179,20 +163,31 @@ export class KrylovBasis {
 /** One dot product and one update per vector, in JavaScript (the fallback). */
 function plainOrthogonalize(w: Float64Array, basis: readonly Float64Array[], index: number): number {
   let correction = 0;
-  const h = new Float64Array(basis.length);
   for (let pass = 0; pass < 2; pass++) {
-    for (let k = 0; k < basis.length; k++) {
-      const q = basis[k];
-      let s = 0;
-      for (let i = 0; i < w.length; i++) s += q[i] * w[i];
-      h[k] = s;
-    }
-    for (let k = 0; k < basis.length; k++) {
-      const q = basis[k];
-      const c = h[k];
-      for (let i = 0; i < w.length; i++) w[i] -= c * q[i];
-    }
+    const h = plainDots(w, basis);
+    plainSubtract(w, basis, h, 0, basis.length);
     if (pass === 0 && index >= 0) correction = h[index];
   }
   return correction;
+}
+
+/** h_k = q_kᵀw for every basis vector, one dot product each (the fallback). */
+function plainDots(w: Float64Array, basis: readonly Float64Array[]): Float64Array {
+  const h = new Float64Array(basis.length);
+  for (let k = 0; k < basis.length; k++) {
+    const q = basis[k];
+    let s = 0;
+    for (let i = 0; i < w.length; i++) s += q[i] * w[i];
+    h[k] = s;
+  }
+  return h;
+}
+
+/** w −= h_k q_k for from ≤ k < to, one vector at a time (the fallback). */
+function plainSubtract(w: Float64Array, basis: readonly Float64Array[], h: Float64Array, from: number, to: number): void {
+  for (let k = from; k < to; k++) {
+    const q = basis[k];
+    const c = h[k];
+    for (let i = 0; i < w.length; i++) w[i] -= c * q[i];
+  }
 }
