@@ -10,7 +10,8 @@
  * 2. A curvature readout at P = 85 002: a cell with the benchmark's MLP c (64-256-256-10, ReLU,
  *    512 rows of seeded data of our own), run, then Measure curvature until the readout shows
  *    (Lanczos at both ends, the spectral density and the trace, as the cell computes them): the
- *    time to the top end's early readout (λmax and the stability limit) and to the complete one.
+ *    time to the top end's early readout (λmax and the stability limit) and to the complete one;
+ *    three readouts at the same step, their medians reported.
  */
 import { loadavg } from 'node:os';
 import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, startApp } from '../e2e/harness';
@@ -124,37 +125,47 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
     await appendAndRunCell(page, bigSpec());
     const big = page.locator('.sw-CellWidget').last();
     await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
-    // DOM clicks in the page: the notebook may keep a long cell's output out of view.
-    const times = await page.evaluate(async () => {
-      const cells = document.querySelectorAll('.sw-CellWidget');
-      const cell = cells[cells.length - 1] as HTMLElement;
-      (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
-      while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
-      const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
-      const t0 = performance.now();
-      let top: { ms: number; text: string } | null = null;
-      const all = await new Promise<number>((resolve) => {
-        const mo = new MutationObserver(() => {
-          const head = cell.querySelector('.sw-CurvatureHead') as HTMLElement | null;
-          if (head === null) return;
-          // The top end first (marked partial), then the complete readout.
-          if (top === null) top = { ms: performance.now() - t0, text: head.textContent ?? '' };
-          if (head.dataset.partial !== 'true') {
-            mo.disconnect();
-            resolve(performance.now() - t0);
-          }
+    // DOM clicks in the page: the notebook may keep a long cell's output out of view. Three
+    // readouts (Measure, then Measure again twice): one is too noisy on a shared 2-core machine.
+    // The first also starts the helper thread. Each readout shows its top end first (the head
+    // marked partial); the next head not so marked is the complete readout. (The button is
+    // enabled again only after the ledger is written back, later than the readout shows.)
+    const measure = (): Promise<{ top: { ms: number; text: string } | null; all: number }> =>
+      page.evaluate(async () => {
+        const cells = document.querySelectorAll('.sw-CellWidget');
+        const cell = cells[cells.length - 1] as HTMLElement;
+        (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
+        while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
+        const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
+        const t0 = performance.now();
+        let top: { ms: number; text: string } | null = null;
+        const all = await new Promise<number>((resolve) => {
+          const mo = new MutationObserver(() => {
+            const head = cell.querySelector('.sw-CurvatureHead') as HTMLElement | null;
+            if (head === null) return;
+            if (head.dataset.partial === 'true') {
+              if (top === null) top = { ms: performance.now() - t0, text: head.textContent ?? '' };
+            } else if (top !== null) {
+              mo.disconnect();
+              resolve(performance.now() - t0);
+            }
+          });
+          mo.observe(cell, { subtree: true, childList: true, characterData: true, attributes: true });
+          button.click();
         });
-        mo.observe(cell, { subtree: true, childList: true, characterData: true });
-        button.click();
+        return { top: top as { ms: number; text: string } | null, all };
       });
-      return { top: top as { ms: number; text: string } | null, all };
-    });
+    const runs: Array<{ top: { ms: number; text: string } | null; all: number }> = [];
+    for (let r = 0; r < 3; r++) runs.push(await measure());
     const head = await big.locator('.sw-CurvatureHead').textContent();
     const subject = 'MLP c 64-256-256-10, 512 rows (P 85 002)';
-    if (times.top !== null && times.top.ms < times.all) rows.push({ what: 'curvature readout, top end (click to λmax and the limit shown)', subject: `${subject}: ${times.top.text}`, ms: times.top.ms, reps: 1, all: [times.top.ms] });
-    rows.push({ what: 'curvature readout, complete (click to readout shown)', subject: `${subject}: ${head ?? ''}`, ms: times.all, reps: 1, all: [times.all] });
-    if (times.top !== null) process.stdout.write(`  top end: ${times.top.text}\n`);
-    process.stdout.write(`curvature readout at P = 85 002: top end ${times.top?.ms.toFixed(0) ?? '—'} ms, complete ${times.all.toFixed(0)} ms — ${head ?? ''}\n`);
+    const tops = runs.flatMap((t) => (t.top !== null && t.top.ms < t.all ? [t.top.ms] : []));
+    const alls = runs.map((t) => t.all);
+    const topText = runs.find((t) => t.top !== null)?.top?.text ?? '';
+    if (tops.length > 0) rows.push({ what: 'curvature readout, top end (click to λmax and the limit shown)', subject: `${subject}: ${topText}`, ms: median(tops), reps: tops.length, all: tops });
+    rows.push({ what: 'curvature readout, complete (click to readout shown)', subject: `${subject}: ${head ?? ''}`, ms: median(alls), reps: alls.length, all: alls });
+    if (topText !== '') process.stdout.write(`  top end: ${topText}\n`);
+    process.stdout.write(`curvature readout at P = 85 002: top end ${tops.map((t) => t.toFixed(0)).join(' ') || '—'} ms, complete ${alls.map((t) => t.toFixed(0)).join(' ')} ms (the first starts the helper) — ${head ?? ''}\n`);
     return { rows, chromium, load: loadavg() };
   } finally {
     await session.close();
