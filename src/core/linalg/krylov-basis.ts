@@ -65,20 +65,21 @@ export class KrylovBasis {
     if (this.ex !== null && !this.reserve(Math.max(1, expected))) this.ex = null;
   }
 
-  /** Appends a copy of `v` and returns the stored vector. */
-  push(v: Float64Array): Float64Array {
+  /** Appends a copy of `v` (each entry divided by `divisor` when one is given) and returns the stored vector. */
+  push(v: Float64Array, divisor?: number): Float64Array {
     if (this.ex !== null && this.vectors.length >= this.capacity && !this.reserve(Math.max(8, 2 * this.capacity))) this.ex = null;
+    let stored: Float64Array;
     if (this.ex === null) {
       // Without the kernels (or once memory ran out) vectors are plain copies; earlier views stay valid.
-      const copy = Float64Array.from(v);
-      this.vectors.push(copy);
-      return copy;
+      stored = new Float64Array(this.n);
+    } else {
+      const at = this.vectorAt(this.vectors.length);
+      stored = new Float64Array(this.ex.memory.buffer, 8 * at, this.n);
     }
-    const at = this.vectorAt(this.vectors.length);
-    const view = new Float64Array(this.ex.memory.buffer, 8 * at, this.n);
-    view.set(v);
-    this.vectors.push(view);
-    return view;
+    if (divisor === undefined) stored.set(v.subarray(0, this.n));
+    else for (let i = 0; i < this.n; i++) stored[i] = v[i] / divisor;
+    this.vectors.push(stored);
+    return stored;
   }
 
   /**

@@ -23,7 +23,7 @@
 import type { Rng } from '../rng';
 import { dot } from '../objective';
 import type { IterationControl, LinearOperator, StopReason } from './operator';
-import { normalizeInPlace, reportProgress, stopRequested, subtractScaled } from './operator';
+import { normalizeInPlace, reportProgress, stopRequested } from './operator';
 import { tridiagonalEigen, tridiagonalQL } from './tridiagonal';
 import { KrylovBasis } from './krylov-basis';
 
@@ -52,6 +52,8 @@ export interface KrylovState {
   readonly partial: OrthogonalityEstimate | null;
   /** Steps whose new vector was re-orthogonalized against the basis (every step without `partial`). */
   reorthogonalized: number;
+  /** The step's product w, reused from step to step (the basis stores a copy of it). */
+  readonly work: Float64Array;
 }
 
 const EPS = Number.EPSILON;
@@ -179,7 +181,7 @@ export function startKrylov(n: number, rng: Rng, start?: Float64Array, steps = 6
   if (normalizeInPlace(q) === 0) throw new RangeError('start vector must be non-zero');
   const store = new KrylovBasis(n, Math.min(n, steps) + 1);
   store.push(q);
-  return { n, basis: store.vectors, store, alpha: [], beta: [], products: 0, exhausted: false, restarts: [], partial: partial ? new OrthogonalityEstimate(n) : null, reorthogonalized: 0 };
+  return { n, basis: store.vectors, store, alpha: [], beta: [], products: 0, exhausted: false, restarts: [], partial: partial ? new OrthogonalityEstimate(n) : null, reorthogonalized: 0, work: new Float64Array(n) };
 }
 
 /**
@@ -192,30 +194,62 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
   const { n, basis, alpha, beta, store } = state;
   const j = alpha.length;
   const q = basis[j];
-  const w = new Float64Array(n);
+  const w = state.work;
+  w.fill(0);
   op(q, w);
   state.products++;
-  let a = dot(q, w);
-  if (!Number.isFinite(a) || !Number.isFinite(dot(w, w))) {
+  // The loops below fuse what used to be separate passes (α = qᵀw with the finiteness check's
+  // wᵀw; both subtractions with the local coefficient's dot product; the last subtraction with
+  // ‖w‖²). Each entry and each sum sees the same operations in the same order as before, so
+  // the bits are the same; the vector is read four times a step instead of nine.
+  let a = 0;
+  let ww = 0;
+  for (let i = 0; i < n; i++) {
+    const x = w[i];
+    a += q[i] * x;
+    ww += x * x;
+  }
+  if (!Number.isFinite(a) || !Number.isFinite(ww)) {
     throw new Error(`the operator returned a non-finite product at Lanczos step ${j + 1} (NaN or ±Infinity); the weights may have diverged`);
   }
-  subtractScaled(w, a, q);
-  if (j > 0) subtractScaled(w, beta[j - 1], basis[j - 1]);
   const estimate = state.partial;
+  // w ← w − α q − β_{j−1} q_{j−1}, and c = qᵀw after it (the local coefficient; unused without `partial`).
+  let c = 0;
+  if (j > 0) {
+    const bp = beta[j - 1];
+    const qp = basis[j - 1];
+    for (let i = 0; i < n; i++) {
+      const x = w[i] - a * q[i] - bp * qp[i];
+      w[i] = x;
+      c += q[i] * x;
+    }
+  } else {
+    for (let i = 0; i < n; i++) {
+      const x = w[i] - a * q[i];
+      w[i] = x;
+      c += q[i] * x;
+    }
+  }
+  let b: number;
   if (estimate === null) {
     a += store.orthogonalize(w, j);
     state.reorthogonalized++;
+    b = sqrt(dot(w, w));
   } else {
     // Local re-orthogonalization against q_j only; a sweep of the basis when the estimates ask.
-    const c = dot(q, w);
-    subtractScaled(w, c, q);
+    let ss = 0;
+    for (let i = 0; i < n; i++) {
+      const x = w[i] - c * q[i];
+      w[i] = x;
+      ss += x * x;
+    }
     a += c;
+    b = sqrt(ss);
   }
   alpha.push(a);
   let scale = 0;
   for (const x of alpha) scale = max(scale, abs(x));
   for (const x of beta) scale = max(scale, abs(x));
-  let b = sqrt(dot(w, w));
   if (estimate !== null && b > 0 && estimate.next(alpha, beta, b, max(scale, b))) {
     const { h, runs } = store.projectOut(w, ETA * b, GAP);
     if (runs.some(([from, to]) => from <= j && j < to)) alpha[j] += h[j];
@@ -224,9 +258,8 @@ export function lanczosStep(op: LinearOperator, state: KrylovState, rng: Rng, re
     estimate.reset(h, b, max(scale, b), runs);
   }
   if (b > BREAKDOWN * max(scale, b) && basis.length < n) {
-    for (let i = 0; i < n; i++) w[i] /= b;
     beta.push(b);
-    store.push(w);
+    store.push(w, b);
     return;
   }
   const fresh = restart ? freshDirection(n, store, rng) : null;

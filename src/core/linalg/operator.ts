@@ -42,11 +42,6 @@ export function reportProgress(control: IterationControl | undefined, progress: 
   return control.onProgress(progress) === false;
 }
 
-/** out ← out − c·x over the first `n` entries (BLAS daxpy with a = −c). */
-export function subtractScaled(out: Float64Array, c: number, x: Float64Array, n = out.length): void {
-  for (let i = 0; i < n; i++) out[i] -= c * x[i];
-}
-
 /** Scales `x` to unit Euclidean norm in place and returns the norm it had. */
 export function normalizeInPlace(x: Float64Array): number {
   let s = 0;
