@@ -46,14 +46,21 @@ export interface Objective {
   /** Writes ∇f(w) into `out` (length P) and returns f(w). */
   gradient(w: Float64Array, out: Float64Array, rows?: Rows): number;
 
-  /** Writes the exact Hessian-vector product H(w)·v into `out` (length P). */
-  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void;
+  /**
+   * Writes the exact Hessian-vector product H(w)·v into `out` (length P). With `fused`, the
+   * product may fuse multiply-adds where the engine can ({@link fusedProducts}): faster, and
+   * different in the last bits from engine to engine — readouts pass it, trajectories never do.
+   */
+  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused?: boolean): void;
 
   /**
    * Writes the Gauss-Newton product G(w)·v = Jᵀ·H_out·J·v (+ regularization) into `out`.
-   * For analytic objectives without a natural split this is the Hessian product.
+   * For analytic objectives without a natural split this is the Hessian product. `fused` as for `hvp`.
    */
-  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void;
+  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused?: boolean): void;
+
+  /** True when `fused` products really fuse (absent: they never do). */
+  readonly fusedProducts?: boolean;
 }
 
 /** Euclidean dot product of two equal-length vectors. */

@@ -178,6 +178,7 @@ export function curvaturePanel(
         (s.lambdaMin !== null ? `, λmin = ${fmt(s.lambdaMin)}` : '') +
         ` — ${c.method === 'dense' ? 'full Hessian' : 'Lanczos'} over ${c.parameterCount} parameters, ${c.products} Hessian-vector products` +
         (c.threads !== undefined && c.threads > 1 ? ` on ${c.threads} threads` : '') +
+        (c.fused === true ? ', with fused multiply-add' : '') +
         (c.stop !== 'converged' ? ` (stopped: ${c.stop})` : '') + '.'
   );
   if (c.partial === true) head.dataset.partial = 'true';

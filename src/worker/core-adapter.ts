@@ -16,9 +16,10 @@ import type { CurvatureResult, SharpnessPoint } from './protocol';
 import { curvatureVerdict } from './diagnosis';
 
 /** The curvature reply's shape from a report. */
-function curvatureResult(session: Session, { spectrum, summary, threads, partial }: CurvatureReport): CurvatureResult {
+function curvatureResult(session: Session, { spectrum, summary, threads, fused, partial }: CurvatureReport): CurvatureResult {
   return {
     ...(threads === undefined ? {} : { threads }),
+    ...(fused === true ? { fused } : {}),
     ...(partial === true ? { partial } : {}),
     step: session.stepCount,
     method: spectrum.method,

@@ -58,6 +58,8 @@ export interface CurvatureResult {
   aboveBottom: boolean[];
   /** Threads that computed it: 2 when the density and trace ran in the readout helper. */
   threads?: number;
+  /** Set when its products fused multiply-adds (WebAssembly relaxed SIMD): last bits differ from engines without. */
+  fused?: true;
   /**
    * Set on the early readout of the top end alone, shown while the bottom end, the spectral
    * density and the trace are still being measured; never stored.

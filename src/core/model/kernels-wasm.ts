@@ -56,7 +56,6 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   if (ex === null) return null;
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * widest + 16);
-  const zero = 0;
   // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns
   // of W for `backprop` — or, for the sparse kernels (which never run between a packing and its
   // use by the others), sixteen-column panels of the other factor.
@@ -80,6 +79,29 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   if (!growTo(ex.memory, end)) return null;
   const buffer = ex.memory.buffer;
   const arrays = lengths.map((n, k) => new Float64Array(buffer, offsets[k], n));
+  const scratch = { sPack, sVals, sOffs, sCounts, stage, zeroRow, pack };
+  const kernels = kernelTable(ex, buffer, scratch);
+  // The readout-only variant (fused multiply-adds) runs on the same memory, so on the same arrays.
+  const fx = wasmInstance('networkFused', { network: { memory: ex.memory } }) as unknown as NetworkExports | null;
+  const fused = fx === null ? null : kernelTable(fx, buffer, scratch);
+  return { kernels, arrays, fused };
+}
+
+/** Byte addresses of the kernels' scratch space in the memory (see `wasmKernels`). */
+interface Scratch {
+  readonly sPack: number;
+  readonly sVals: number;
+  readonly sOffs: number;
+  readonly sCounts: number;
+  readonly stage: number;
+  readonly zeroRow: number;
+  readonly pack: number;
+}
+
+/** The kernel table over the exports of a network instance (or of its fused variant) whose memory is `buffer`. */
+function kernelTable(ex: NetworkExports, buffer: ArrayBuffer, scratch: Scratch): MatrixKernels {
+  const { sPack, sVals, sOffs, sCounts, stage, zeroRow, pack } = scratch;
+  const zero = 0;
   const ours = (...xs: Float64Array[]): boolean => xs.every((x) => x.buffer === buffer);
   /**
    * True when the `count` coefficients at byte `at` hold enough exact zeros for the sparse kernels
@@ -89,7 +111,7 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
   const lists = (a: number, count: number, len: number, listStep: number, entryStep: number): void => {
     ex.compact(a, count, len, listStep, entryStep, sVals, sOffs, sCounts, len);
   };
-  const kernels: MatrixKernels = {
+  return {
     kind: 'simd',
     dense(src, p, inp, n, dst, withBias, accumulate) {
       if (!ours(src, inp, dst)) return js.dense(src, p, inp, n, dst, withBias, accumulate);
@@ -155,7 +177,6 @@ export function wasmKernels(lengths: readonly number[], widest: number): KernelS
       ex.relu(a.byteOffset, f.byteOffset, d1.byteOffset, n);
     },
   };
-  return { kernels, arrays };
 }
 
 /** True when one of the `count` entries of `a` from `offset` is −0 (a sum starting there must add every term). */

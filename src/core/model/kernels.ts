@@ -55,6 +55,12 @@ export interface KernelSpace {
   readonly kernels: MatrixKernels;
   /** One array per requested length, in order. */
   readonly arrays: Float64Array[];
+  /**
+   * The same products over the same arrays with each multiply-add fused into one rounding
+   * (WebAssembly relaxed SIMD), or null where the engine lacks it. Faster, and different in the
+   * last bits from `kernels` and from engine to engine: for readouts, never for a trajectory.
+   */
+  readonly fused: MatrixKernels | null;
 }
 
 /**
@@ -65,5 +71,5 @@ export interface KernelSpace {
  * @param widest - the largest fanIn or units of any layer (sizes the SIMD scratch space).
  */
 export function matrixKernels(lengths: readonly number[], widest: number, simd = true): KernelSpace {
-  return (simd ? wasmKernels(lengths, widest) : null) ?? { kernels: scalarKernels, arrays: lengths.map((n) => new Float64Array(n)) };
+  return (simd ? wasmKernels(lengths, widest) : null) ?? { kernels: scalarKernels, arrays: lengths.map((n) => new Float64Array(n)), fused: null };
 }

@@ -99,6 +99,8 @@ export class Network implements Objective {
   private readonly loss: Loss;
   private readonly l2: number;
   private readonly k: MatrixKernels;
+  /** The products with fused multiply-adds (readouts only), or null where the engine has none. */
+  private readonly kFused: MatrixKernels | null;
   private readonly x: Float64Array;
   private readonly y: Float64Array;
   private readonly yWidth: number;
@@ -148,6 +150,7 @@ export class Network implements Objective {
     const widest = Math.max(this.inputs, ...this.plan.map((p) => p.units));
     const space = matrixKernels(lengths, widest, options.simd !== false);
     this.k = space.kernels;
+    this.kFused = space.fused;
     this.kernelKind = space.kernels.kind;
     const [x, xBatch, wk, vk, gk, ...layerArrays] = space.arrays;
     x.set(data.x.subarray(0, n * this.inputs));
@@ -187,12 +190,19 @@ export class Network implements Objective {
     return f + this.addPenaltyGradient(w, w, out);
   }
 
+  /** True when `hvp` and `gnvp` can fuse multiply-adds (the engine has WebAssembly relaxed SIMD). */
+  get fusedProducts(): boolean {
+    return this.kFused !== null;
+  }
+
   /**
    * Exact H·v by the R-operator. At the weights and rows of the previous `hvp` (with no other
    * evaluation in between) the forward pass and the first-order backward are kept, so a run
-   * of products at fixed weights (Lanczos, a dense Hessian) pays for them once.
+   * of products at fixed weights (Lanczos, a dense Hessian) pays for them once. With `fused`
+   * the R-passes fuse multiply-adds where the engine can (readouts only); the kept passes never
+   * do, so a trajectory that reuses them gets the same bits either way.
    */
-  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
+  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused = false): void {
     const L = this.plan.length;
     const keep = this.kept === 'hessian' && this.sameInputs(w, rows);
     const n = keep ? this.keptCount(rows) : this.select(rows);
@@ -210,7 +220,8 @@ export class Network implements Objective {
       this.keep('hessian', w, rows);
     }
     const vk = this.direction(v);
-    this.rForward(wk, vk, n);
+    const k = this.rKernels(fused);
+    this.rForward(wk, vk, n, k);
     const top = this.work[L - 1];
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.rdh);
     const g = this.product(out);
@@ -218,33 +229,35 @@ export class Network implements Objective {
     for (let l = L - 1; l >= 0; l--) {
       const p = this.plan[l];
       const { dh, rdh, d1, d2, ra, da, rda } = this.work[l];
-      this.k.rDelta(rdh, d1, dh, d2, ra, n * p.units, rda);
+      k.rDelta(rdh, d1, dh, d2, ra, n * p.units, rda);
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      this.k.outer(g, p, rda, inp, n, true);
+      k.outer(g, p, rda, inp, n, true);
       if (l > 0) {
         const below = this.work[l - 1];
-        this.k.outer(g, p, da, below.rh, n, false);
-        this.k.backprop(vk, p, da, n, below.rdh, false);
-        this.k.backprop(wk, p, rda, n, below.rdh, true);
+        k.outer(g, p, da, below.rh, n, false);
+        k.backprop(vk, p, da, n, below.rdh, false);
+        k.backprop(wk, p, rda, n, below.rdh, true);
       }
     }
     if (g !== out) out.set(g);
     this.addPenaltyGradient(w, v, out);
   }
 
-  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
+  /** G·v; `fused` as for {@link hvp}. */
+  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused = false): void {
     const keep = this.kept !== 'none' && this.sameInputs(w, rows);
     const n = keep ? this.keptCount(rows) : this.select(rows);
     const wk = this.weights(w);
     if (!keep) this.forward(wk, n, false);
     // The reverse pass below overwrites δh: only the forward pass stays usable.
     this.keep('forward', w, rows);
-    this.rForward(wk, this.direction(v), n);
+    const k = this.rKernels(fused);
+    this.rForward(wk, this.direction(v), n, k);
     const top = this.work[this.plan.length - 1];
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.dh);
     const g = this.product(out);
     g.fill(0);
-    this.backward(wk, n, g);
+    this.backward(wk, n, g, k);
     if (g !== out) out.set(g);
     this.addPenaltyGradient(w, v, out);
   }
@@ -359,28 +372,33 @@ export class Network implements Objective {
     }
   }
 
+  /** The kernels of a curvature product's R-passes: the fused ones when asked for and present. */
+  private rKernels(fused: boolean): MatrixKernels {
+    return fused && this.kFused !== null ? this.kFused : this.k;
+  }
+
   /** R{a_l} and R{h_l} for all layers along direction v (needs a forward pass first). */
-  private rForward(w: Float64Array, v: Float64Array, n: number): void {
+  private rForward(w: Float64Array, v: Float64Array, n: number, k: MatrixKernels): void {
     for (let l = 0; l < this.plan.length; l++) {
       const p = this.plan[l];
       const wk = this.work[l];
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      this.k.dense(v, p, inp, n, wk.ra, true, false);
-      if (l > 0) this.k.dense(w, p, this.work[l - 1].rh, n, wk.ra, false, true);
-      this.k.hadamard(wk.d1, wk.ra, n * p.units, wk.rh);
+      k.dense(v, p, inp, n, wk.ra, true, false);
+      if (l > 0) k.dense(w, p, this.work[l - 1].rh, n, wk.ra, false, true);
+      k.hadamard(wk.d1, wk.ra, n * p.units, wk.rh);
     }
   }
 
   /** Reverse pass from `work[L−1].dh`, accumulating ∂/∂w into `g`. */
-  private backward(w: Float64Array, n: number, g: Float64Array): void {
+  private backward(w: Float64Array, n: number, g: Float64Array, k = this.k): void {
     for (let l = this.plan.length - 1; l >= 0; l--) {
       const p = this.plan[l];
       const wk = this.work[l];
       let da = wk.da;
       if (p.act.identity) da = wk.dh;
-      else this.k.hadamard(wk.dh, wk.d1, n * p.units, da);
-      this.k.outer(g, p, da, l === 0 ? this.xin : this.work[l - 1].h, n, true);
-      if (l > 0) this.k.backprop(w, p, da, n, this.work[l - 1].dh, false);
+      else k.hadamard(wk.dh, wk.d1, n * p.units, da);
+      k.outer(g, p, da, l === 0 ? this.xin : this.work[l - 1].h, n, true);
+      if (l > 0) k.backprop(w, p, da, n, this.work[l - 1].dh, false);
     }
   }
 

@@ -50,13 +50,17 @@ class DecayedObjective implements Objective {
     return f + this.penalty(w);
   }
 
-  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
-    this.inner.hvp(w, v, out, rows);
+  get fusedProducts(): boolean {
+    return this.inner.fusedProducts === true;
+  }
+
+  hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused = false): void {
+    this.inner.hvp(w, v, out, rows, fused);
     this.addTo(out, v);
   }
 
-  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows): void {
-    this.inner.gnvp(w, v, out, rows);
+  gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused = false): void {
+    this.inner.gnvp(w, v, out, rows, fused);
     this.addTo(out, v);
   }
 }

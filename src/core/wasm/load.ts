@@ -48,12 +48,15 @@ export function wasmModule(name: ModuleName): WebAssembly.Module | null {
   return m;
 }
 
-/** A fresh instance of the module (own memory) with its exports, or null (see {@link wasmModule}). */
-export function wasmInstance(name: ModuleName): WebAssembly.Exports | null {
+/**
+ * A fresh instance of the module with its exports, or null (see {@link wasmModule}): with its
+ * own memory, or with what `imports` gives it (a derived module imports its source's memory).
+ */
+export function wasmInstance(name: ModuleName, imports: WebAssembly.Imports = {}): WebAssembly.Exports | null {
   const m = wasmModule(name);
   if (m === null) return null;
   try {
-    return new WebAssembly.Instance(m, {}).exports;
+    return new WebAssembly.Instance(m, imports).exports;
   } catch {
     return null;
   }

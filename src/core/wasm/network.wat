@@ -6,6 +6,11 @@
 ;; Two neighbouring outputs share one f64x2 register, so vectorizing never reorders a sum and
 ;; the results are bit-identical to the scalar path in every engine.
 ;;
+;; assemble.mjs also derives the readout-only module `networkFused` from this text: each
+;; accumulating multiply-add, written on one line as (local.set $x (f64x2.add (local.get $x)
+;; (f64x2.mul A B))), becomes (f64x2.relaxed_madd A B (local.get $x)), and the memory is
+;; imported from an instance of this module. Keep that one-line form for every such update.
+;;
 ;; All pointers are byte addresses into the exported memory. Matrices are row-major. Bytes
 ;; 0..63 hold zeros (a zero starting tile) and 64..207 stage a finished tile; callers use
 ;; memory from byte 256 on.

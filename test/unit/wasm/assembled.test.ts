@@ -16,8 +16,10 @@ describe('the assembled WebAssembly modules', () => {
   });
 
   it('decode to valid WebAssembly with the SIMD proposal (magic number, version 1)', () => {
-    const names = Object.keys(binaries) as (keyof typeof binaries)[];
-    expect(names.length).toBeGreaterThanOrEqual(1);
+    // networkFused uses relaxed SIMD, which Node 20 validates only behind a flag: checked in
+    // test/reference/model/fused.test.ts, which sets it.
+    const names = (Object.keys(binaries) as (keyof typeof binaries)[]).filter((n) => n !== 'networkFused');
+    expect(names.length).toBeGreaterThanOrEqual(2);
     for (const name of names) {
       const bytes = decodeBase64(binaries[name]);
       // source: WebAssembly Core Specification 2.0, §5.5.16 — magic \0asm, version 1.

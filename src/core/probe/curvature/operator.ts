@@ -24,6 +24,8 @@ export interface CurvatureOperatorOptions {
   scaling?: Float64Array;
   /** Shift s of M + s·I (default 0). */
   shift?: number;
+  /** Products with fused multiply-adds where the objective has them (readouts only; default false). */
+  fused?: boolean;
 }
 
 /** A {@link LinearOperator} that also counts its products. */
@@ -44,6 +46,7 @@ export function curvatureOperator(objective: Objective, w: Float64Array, options
   const { rows, scaling } = options;
   const kind = options.kind ?? 'hessian';
   const shift = options.shift ?? 0;
+  const fused = options.fused === true;
   let root: Float64Array | null = null;
   if (scaling !== undefined) {
     if (scaling.length !== p) throw new RangeError(`scaling diagonal has ${scaling.length} entries, expected ${p}`);
@@ -61,8 +64,8 @@ export function curvatureOperator(objective: Objective, w: Float64Array, options
       for (let i = 0; i < p; i++) scaled[i] = root[i] * v[i];
       x = scaled;
     }
-    if (kind === 'hessian') objective.hvp(w, x, out, rows);
-    else objective.gnvp(w, x, out, rows);
+    if (kind === 'hessian') objective.hvp(w, x, out, rows, fused);
+    else objective.gnvp(w, x, out, rows, fused);
     count++;
     if (shift !== 0) for (let i = 0; i < p; i++) out[i] += shift * x[i];
     if (root !== null) for (let i = 0; i < p; i++) out[i] *= root[i];

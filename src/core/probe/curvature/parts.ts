@@ -20,6 +20,8 @@ export interface DensityTraceTask {
   readonly density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null;
   /** Hutchinson probes (0 skips the trace). */
   readonly traceProbes: number;
+  /** Fuse multiply-adds in the products where the objective can (see `MeasureOptions.fused`). */
+  readonly fused: boolean;
   /** States of the readout generator's `density` and `trace` forks. */
   readonly densityRng: RngState;
   readonly traceRng: RngState;
@@ -61,7 +63,8 @@ export function densityTraceTask(
   kind: CurvatureKind,
   rng: Rng,
   density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null,
-  traceProbes: number
+  traceProbes: number,
+  fused: boolean
 ): DensityTraceTask {
   return {
     w: Float64Array.from(w),
@@ -69,6 +72,7 @@ export function densityTraceTask(
     kind,
     density,
     traceProbes,
+    fused,
     densityRng: rng.fork('density').state(),
     traceRng: rng.fork('trace').state(),
   };
@@ -76,7 +80,7 @@ export function densityTraceTask(
 
 /** SLQ density (Ubaru, Chen & Saad 2017) and Hutchinson trace (Hutchinson 1989) of the task, on `objective`. */
 export function runDensityTrace(objective: Objective, task: DensityTraceTask): DensityTrace {
-  const op = curvatureOperator(objective, task.w, { rows: task.rows ?? undefined, kind: task.kind });
+  const op = curvatureOperator(objective, task.w, { rows: task.rows ?? undefined, kind: task.kind, fused: task.fused });
   const p = objective.parameterCount;
   const density = task.density === null ? null : spectralDensity(op.apply, p, Rng.fromState(task.densityRng), task.density);
   const trace = task.traceProbes === 0 ? null : hutchinsonTrace(op.apply, p, Rng.fromState(task.traceRng), { probes: task.traceProbes });
