@@ -18,7 +18,7 @@ import { measureCurvature } from '../../../src/core/probe/curvature';
 import { Rng } from '../../../src/core/rng';
 import { decodeBase64 } from '../../../src/core/wasm/load';
 import { networkFused } from '../../../src/core/wasm/binaries';
-import type { Experiment } from '../../../src/experiment';
+import type { Experiment } from '../../../src/core/setup';
 import { relErr } from '../compare';
 
 setFlagsFromString('--experimental-wasm-relaxed-simd');
