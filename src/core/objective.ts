@@ -61,6 +61,12 @@ export interface Objective {
 
   /** True when `fused` products really fuse (absent: they never do). */
   readonly fusedProducts?: boolean;
+
+  /**
+   * The exact trace of the Hessian or the Gauss-Newton matrix at `w` on `rows` (regularization
+   * included), or null where this objective cannot give it without estimating (absent: never).
+   */
+  exactTrace?(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows): number | null;
 }
 
 /** Euclidean dot product of two equal-length vectors. */

@@ -86,6 +86,16 @@ export function auditPanel(audit: { step: number; result: AuditResult } | null, 
   return box;
 }
 
+/** How the trace was obtained, in words (readouts stored before `traceMethod` existed carry only the standard error). */
+function traceHow(s: CurvatureResult['summary']): string {
+  const method = (s.traceMethod as CurvatureResult['summary']['traceMethod'] | undefined) ?? (s.traceStandardError ? 'hutchinson' : 'exact');
+  if (method === 'hutchinson') return "Hutchinson's estimate ± its standard error";
+  if (s.method === 'dense') return 'sum of the full spectrum';
+  return s.kind === 'hessian'
+    ? 'exact, by two backward passes per output: every activation is piecewise linear, so the Hessian’s diagonal is the Gauss–Newton one'
+    : 'exact, by two backward passes per output';
+}
+
 /**
  * The numbers derived from the spectrum, one per row with how each was obtained (the condition
  * number's definition in words rather than packed into one line).
@@ -96,7 +106,7 @@ function derivedNumbers(s: CurvatureResult['summary']): HTMLElement {
   if (s.negativeShare !== null) {
     rows.push(['share of negative eigenvalues', `${(100 * s.negativeShare).toFixed(1)} %`, s.negativeShareMethod === 'slq' ? 'estimated by stochastic Lanczos quadrature' : `counted in the full spectrum, below −${s.cutoff}·max|λ|`]);
   }
-  if (s.trace !== null) rows.push(['trace tr(H)', `${fmt(s.trace)}${s.traceStandardError ? ` ± ${fmt(s.traceStandardError)}` : ''}`, s.traceStandardError ? "Hutchinson's estimate ± its standard error" : 'sum of the full spectrum']);
+  if (s.trace !== null) rows.push(['trace tr(H)', `${fmt(s.trace)}${s.traceStandardError ? ` ± ${fmt(s.traceStandardError)}` : ''}`, traceHow(s)]);
   return textTable(`${ReadoutClass.table} sw-DerivedTable`, ['quantity', 'value', 'how'], rows);
 }
 

@@ -15,7 +15,7 @@ import { dot } from '../objective';
 import type { IterationControl, LinearOperator, StopReason } from './operator';
 import { reportProgress, stopRequested } from './operator';
 import { lanczosStep, startKrylov } from './lanczos';
-import { tridiagonalQL } from './tridiagonal';
+import { gaussRule, type QuadratureRule } from './tridiagonal';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
 // vm context (as under jest), and binding them costs nothing elsewhere.
@@ -101,15 +101,9 @@ export function spectralDensity(op: LinearOperator, n: number, rng: Rng, options
       lanczosStep(op, state, probeRng, false);
     }
     products += state.products;
-    const m = state.alpha.length;
-    const sub = new Float64Array(m);
-    for (let j = 1; j < m; j++) sub[j] = state.beta[j - 1];
-    const first = new Float64Array(m);
-    first[0] = 1;
-    const theta = tridiagonalQL({ diagonal: Float64Array.from(state.alpha), subdiagonal: sub }, first, 1);
-    for (let j = 0; j < m; j++) first[j] *= first[j];
-    nodes.push(theta);
-    weights.push(first);
+    const rule = gaussRule(state.alpha, state.beta);
+    nodes.push(rule.nodes);
+    weights.push(rule.weights);
     const cancel = reportProgress(options, { phase: 'density', done: l + 1, total: probes, products, detail: `probe ${l + 1} of ${probes}` });
     if (cancel && l + 1 < probes) {
       stop = 'cancelled';
@@ -118,6 +112,25 @@ export function spectralDensity(op: LinearOperator, n: number, rng: Rng, options
   }
   if (nodes.length === 0) throw new Error('spectral density was cancelled before the first probe finished');
   return broaden(nodes, weights, { ...options, gridPoints, negativeCutoff }, products, stop);
+}
+
+/**
+ * `d` with more probes' rules appended — probes run elsewhere, e.g. a Lanczos run for the
+ * extreme eigenvalues from a seeded random unit vector, which is one more SLQ probe with as many
+ * nodes as it took steps — broadened again with `options` (those `d` was computed with). Its
+ * products stay those of `d`: the appended runs count where they ran.
+ */
+export function withProbes(d: SpectralDensity, rules: readonly QuadratureRule[], options: Omit<DensityOptions, 'onProgress' | 'shouldStop'> = {}): SpectralDensity {
+  return densityOfRules([...d.nodes.map((nodes, l) => ({ nodes, weights: d.weights[l] })), ...rules], options, d.products, d.stop);
+}
+
+/** The density of probes' rules alone (no products of its own), broadened with `options`. */
+export function densityOfRules(rules: readonly QuadratureRule[], options: Omit<DensityOptions, 'onProgress' | 'shouldStop'> = {}, products = 0, stop: StopReason = 'converged'): SpectralDensity {
+  if (rules.length === 0) throw new Error('a spectral density needs at least one probe');
+  const gridPoints = options.gridPoints ?? 512;
+  const negativeCutoff = options.negativeCutoff ?? 1e-6;
+  if (!Number.isInteger(gridPoints) || gridPoints < 2) throw new RangeError(`gridPoints must be an integer >= 2, got ${gridPoints}`);
+  return broaden(rules.map((r) => r.nodes), rules.map((r) => r.weights), { ...options, gridPoints, negativeCutoff }, products, stop);
 }
 
 function broaden(

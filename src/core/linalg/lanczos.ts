@@ -18,13 +18,16 @@
  *    diagonal), which also lets it find further copies of a repeated eigenvalue.
  * 4. The Ritz values θ_i of T_m and the last components s_{m,i} of T_m's eigenvectors give the
  *    residual ‖A z_i − θ_i z_i‖ = |β_m s_{m,i}|; a wanted pair has converged when that residual is
- *    at most `tol` times the largest |θ|.
+ *    at most `tol` times the largest |θ| (`criterion` `residual`, the default), or — when only the
+ *    eigenvalues are wanted (`eigenvalue`) — when the eigenvalue's error bound min(r, r²/gap)
+ *    (Parlett, *The Symmetric Eigenvalue Problem*, Thm 11.7.1) is at most `tol`·max|θ| and its
+ *    residual at most √tol·max|θ|.
  */
 import type { Rng } from '../rng';
 import { dot } from '../objective';
 import type { IterationControl, LinearOperator, StopReason } from './operator';
 import { normalizeInPlace, reportProgress, stopRequested } from './operator';
-import { tridiagonalEigen, tridiagonalQL } from './tridiagonal';
+import { gaussRule, tridiagonalEigen, tridiagonalQL, type QuadratureRule } from './tridiagonal';
 import { KrylovBasis } from './krylov-basis';
 
 // Math functions bound once: global lookups inside hot loops are slow when the code runs in a
@@ -282,12 +285,25 @@ export interface LanczosOptions extends IterationControl {
   which?: 'largest' | 'smallest' | 'both';
   /** Residual tolerance relative to the largest |Ritz value|. Default 1e-10. */
   tol?: number;
+  /**
+   * What `tol` bounds: the residual ‖A z − θ z‖ (`residual`, default: the Ritz vectors are good
+   * to `tol` too), or the eigenvalue's error bound {@link RitzPair.errorBound} with the residual
+   * at most √tol (`eigenvalue`: for readouts of eigenvalues alone; a clustered end of the
+   * spectrum, where the bound falls as r², converges in fewer steps).
+   */
+  criterion?: 'residual' | 'eigenvalue';
   /** Step cap (basis memory is maxIterations·n doubles). Default min(n, 300). */
   maxIterations?: number;
   /** Steps before convergence is first tested. Default min(n, k + 10). */
   minIterations?: number;
   /** Also form the Ritz vectors of the wanted pairs. Default false. */
   vectors?: boolean;
+  /**
+   * Also return the Gauss quadrature rule of the run for its start vector ({@link LanczosResult.rule}):
+   * a run from the seeded random unit vector is one more probe of stochastic Lanczos quadrature.
+   * Default false.
+   */
+  rule?: boolean;
   /** Start vector (default: a seeded standard-normal draw from `rng`). */
   start?: Float64Array;
   /**
@@ -315,7 +331,7 @@ export interface RitzPair {
   readonly residual: number;
   /** Bound on |θ − λ| for the nearest eigenvalue λ: min(r, r²/gap), gap estimated from the other Ritz values. */
   readonly errorBound: number;
-  /** Whether `residual` ≤ tol·scale. */
+  /** Whether the pair meets the run's criterion: `residual` ≤ tol·scale, or for `eigenvalue` `errorBound` ≤ tol·scale and `residual` ≤ √tol·scale. */
   readonly converged: boolean;
   /** Unit Ritz vector when requested, else null. */
   readonly vector: Float64Array | null;
@@ -337,8 +353,12 @@ export interface LanczosResult {
   readonly scale: number;
   /** The tolerance used. */
   readonly tol: number;
+  /** What the tolerance bounded (see {@link LanczosOptions.criterion}). */
+  readonly criterion: 'residual' | 'eigenvalue';
   /** Steps whose new vector was re-orthogonalized against the basis (every step unless `partial`). */
   readonly reorthogonalized: number;
+  /** With `rule`: nodes (the Ritz values) and weights (squared first components) of T's Gauss rule. */
+  readonly rule?: QuadratureRule;
 }
 
 interface RitzSnapshot {
@@ -400,6 +420,7 @@ function* lanczosRun(op: LinearOperator, n: number, rng: Rng, options: LanczosOp
   const k = options.k ?? 5;
   const which = options.which ?? 'largest';
   const tol = options.tol ?? 1e-10;
+  const criterion = options.criterion ?? 'residual';
   if (!Number.isInteger(k) || k < 1) throw new RangeError(`k must be a positive integer, got ${k}`);
   if (!(tol > 0)) throw new RangeError(`tol must be positive, got ${tol}`);
   const maxIterations = Math.min(n, options.maxIterations ?? 300);
@@ -422,7 +443,7 @@ function* lanczosRun(op: LinearOperator, n: number, rng: Rng, options: LanczosOp
     const bm = state.beta[m - 1];
     const { top, bottom } = wantedIndices(m, k, which);
     const wanted = [...top, ...bottom];
-    const isDone = (i: number): boolean => abs(bm * snap.last[i]) <= tol * scale;
+    const isDone = (i: number): boolean => meets(criterion, abs(bm * snap.last[i]), gapOf(snap.values, m, i), tol, scale);
     const done = wanted.filter(isDone).length;
     // After a restart the new block needs its own steps before the ends can be trusted.
     const sinceRestart = m - (state.restarts.length > 0 ? state.restarts[state.restarts.length - 1] : 0);
@@ -430,7 +451,7 @@ function* lanczosRun(op: LinearOperator, n: number, rng: Rng, options: LanczosOp
     const converged = state.exhausted || (settled && sinceRestart > 0 && done === wanted.length);
     if (options.onLargest !== undefined && !toldLargest && which === 'both' && !converged && settled && sinceRestart > 0 && isDone(top[0])) {
       toldLargest = true;
-      const partial = assemble(state, snap, scale, k, 'largest', tol, 'converged', false);
+      const partial = assemble(state, snap, scale, k, 'largest', tol, criterion, 'converged', false);
       const leading = partial.largest.findIndex((p) => !p.converged);
       options.onLargest({ ...partial, largest: leading < 0 ? partial.largest : partial.largest.slice(0, leading) });
     }
@@ -452,7 +473,27 @@ function* lanczosRun(op: LinearOperator, n: number, rng: Rng, options: LanczosOp
     }
     yield;
   }
-  return assemble(state, snap, scale, k, which, tol, stop, options.vectors === true);
+  const result = assemble(state, snap, scale, k, which, tol, criterion, stop, options.vectors === true);
+  return options.rule === true && state.alpha.length > 0 ? { ...result, rule: gaussRule(state.alpha, state.beta) } : result;
+}
+
+/** Distance from Ritz value i to its nearest neighbour among the m (Infinity when alone). */
+function gapOf(values: Float64Array, m: number, i: number): number {
+  let gap = Infinity;
+  if (i > 0) gap = Math.min(gap, values[i] - values[i - 1]);
+  if (i + 1 < m) gap = Math.min(gap, values[i + 1] - values[i]);
+  return gap;
+}
+
+/** The eigenvalue error bound min(r, r²/gap) of a Ritz value with residual r. */
+function errorBoundOf(residual: number, gap: number): number {
+  return Math.min(residual, gap > 0 ? (residual * residual) / gap : residual);
+}
+
+/** Whether a Ritz pair with this residual and gap has converged under `criterion`. */
+function meets(criterion: 'residual' | 'eigenvalue', residual: number, gap: number, tol: number, scale: number): boolean {
+  if (criterion === 'residual') return residual <= tol * scale;
+  return errorBoundOf(residual, gap) <= tol * scale && residual <= sqrt(tol) * scale;
 }
 
 function assemble(
@@ -462,6 +503,7 @@ function assemble(
   k: number,
   which: 'largest' | 'smallest' | 'both',
   tol: number,
+  criterion: 'residual' | 'eigenvalue',
   stop: StopReason,
   wantVectors: boolean
 ): LanczosResult {
@@ -477,10 +519,8 @@ function assemble(
   const pair = (i: number): RitzPair => {
     const value = snap.values[i];
     const residual = abs(bm * snap.last[i]);
-    let gap = Infinity;
-    if (i > 0) gap = Math.min(gap, value - snap.values[i - 1]);
-    if (i + 1 < m) gap = Math.min(gap, snap.values[i + 1] - value);
-    const errorBound = Math.min(residual, gap > 0 ? (residual * residual) / gap : residual);
+    const gap = gapOf(snap.values, m, i);
+    const errorBound = errorBoundOf(residual, gap);
     let vector: Float64Array | null = null;
     if (s !== null) {
       vector = new Float64Array(state.n);
@@ -491,7 +531,7 @@ function assemble(
       }
       normalizeInPlace(vector);
     }
-    return { value, residual, errorBound, converged: residual <= tol * scale, vector };
+    return { value, residual, errorBound, converged: meets(criterion, residual, gap, tol, scale), vector };
   };
   return {
     largest: top.map(pair),
@@ -501,6 +541,7 @@ function assemble(
     stop,
     scale,
     tol,
+    criterion,
     reorthogonalized: state.reorthogonalized,
   };
 }

@@ -380,3 +380,25 @@ function orthogonalizeAgainst(x: Float64Array, basis: Float64Array, off: number,
   for (let i = 0; i < n; i++) s += x[i] * basis[off + i];
   for (let i = 0; i < n; i++) x[i] -= s * basis[off + i];
 }
+
+/** One probe's Gauss quadrature rule: nodes θ_j and weights τ_j (summing to 1). */
+export interface QuadratureRule {
+  readonly nodes: Float64Array;
+  readonly weights: Float64Array;
+}
+
+/**
+ * The Gauss rule of m Lanczos steps from a unit vector v: the eigenvalues θ_j of T_m and the
+ * squared first components τ_j = S[0, j]² of its eigenvectors (Golub & Meurant 2010, ch. 6).
+ * `beta[j]` couples steps j and j + 1; entries from m − 1 on are ignored.
+ */
+export function gaussRule(alpha: readonly number[] | Float64Array, beta: readonly number[] | Float64Array): QuadratureRule {
+  const m = alpha.length;
+  const sub = new Float64Array(m);
+  for (let j = 1; j < m; j++) sub[j] = beta[j - 1];
+  const first = new Float64Array(m);
+  first[0] = 1;
+  const nodes = tridiagonalQL({ diagonal: Float64Array.from(alpha), subdiagonal: sub }, first, 1);
+  for (let j = 0; j < m; j++) first[j] *= first[j];
+  return { nodes, weights: first };
+}

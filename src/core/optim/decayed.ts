@@ -63,4 +63,16 @@ class DecayedObjective implements Objective {
     this.inner.gnvp(w, v, out, rows, fused);
     this.addTo(out, v);
   }
+
+  /** The inner objective's exact trace plus λ per decayed entry (λI on the masked entries). */
+  exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows): number | null {
+    const inner = this.inner.exactTrace?.(w, kind, rows) ?? null;
+    if (inner === null) return null;
+    let decayed = this.parameterCount;
+    if (this.mask !== null) {
+      decayed = 0;
+      for (const m of this.mask) if (m === 1) decayed++;
+    }
+    return inner + this.lambda * decayed;
+  }
 }

@@ -9,12 +9,12 @@ import { Network } from '../../../src/core/model/network';
 import { Rng } from '../../../src/core/rng';
 import { recipe } from './helpers';
 
-function net(): { network: Network; w: Float64Array } {
+function net(act: 'tanh' | 'relu' = 'tanh'): { network: Network; w: Float64Array } {
   const rng = Rng.fromSeed(12);
   const rows = 40;
   const x = rng.fillNormal(new Float64Array(rows * 5));
   const y = Float64Array.from({ length: rows }, () => rng.int(3));
-  const model = { kind: 'network' as const, inputs: 5, layers: [{ units: 9, activation: 'tanh' as const }, { units: 3, activation: 'linear' as const }], init: 'lecun-normal' as const, gain: 1 };
+  const model = { kind: 'network' as const, inputs: 5, layers: [{ units: 9, activation: act }, { units: 3, activation: 'linear' as const }], init: 'lecun-normal' as const, gain: 1 };
   const network = new Network(model, { rows, inputs: 5, targets: 1, x, y }, 'cross-entropy', 0.01);
   return { network, w: rng.fillNormal(new Float64Array(network.parameterCount)) };
 }
@@ -39,6 +39,18 @@ describe('measureCurvatureWith', () => {
     expect(two.spectrum.negativeShare).toEqual(one.spectrum.negativeShare);
     expect(Array.from(two.spectrum.density?.density ?? [])).toEqual(Array.from(one.spectrum.density?.density ?? []));
     expect(two.spectrum.products).toBe(one.spectrum.products);
+    expect(two.summary).toEqual(one.summary);
+  });
+
+  it('gives the same exact trace of a piecewise-linear network from the other thread', async () => {
+    const { network, w } = net('relu');
+    const other = net('relu').network;
+    const run = (task: DensityTraceTask) => ({ started: Promise.resolve(), result: Promise.resolve(runDensityTrace(other, task)), cancel: () => undefined });
+    const options = { denseLimit: 10, k: 3, density: { probes: 3, steps: 12 }, traceProbes: 8 };
+    const one = measureCurvature(network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(4), options);
+    const two = await measureCurvatureWith(run, network, w, recipe({ optimizer: 'sgd', lr: 0.1 }), Rng.fromSeed(4), options);
+    expect(one.spectrum.trace?.method).toBe('exact');
+    expect(two.spectrum.trace).toEqual(one.spectrum.trace);
     expect(two.summary).toEqual(one.summary);
   });
 

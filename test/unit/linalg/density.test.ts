@@ -1,4 +1,5 @@
-import { densityMassBelow, hutchinsonTrace, spectralDensity } from '../../../src/core/linalg/density';
+import { densityMassBelow, densityOfRules, hutchinsonTrace, spectralDensity, withProbes } from '../../../src/core/linalg/density';
+import { lanczosExtremes } from '../../../src/core/linalg/lanczos';
 import { eigenvalues } from '../../../src/core/linalg/symmetric-eigen';
 import { Rng } from '../../../src/core/rng';
 import { graded, matvec, spiked } from '../../reference/curvature/fixtures';
@@ -104,6 +105,39 @@ describe('spectralDensity (stochastic Lanczos quadrature)', () => {
     expect(r.probes).toBe(2);
     expect(r.stop).toBe('cancelled');
     expect(r.products).toBe(40);
+  });
+});
+
+describe('a Lanczos run for the extreme eigenvalues as one more SLQ probe', () => {
+  const n = 300;
+  const a = spiked(n, 21);
+  const drawn = spectralDensity(matvec(a, n), n, Rng.fromSeed(42), { probes: 9, steps: 60 });
+  const run = lanczosExtremes(matvec(a, n), n, Rng.fromSeed(43), { k: 3, which: 'both', rule: true });
+  const rule = run.rule as NonNullable<typeof run.rule>;
+
+  it('has the run’s Ritz values as nodes and weights that sum to 1', () => {
+    expect(rule.nodes).toHaveLength(run.iterations);
+    // source: Gauss quadrature weights of a unit start vector sum to ‖v‖² = 1 (Golub & Meurant 2010, ch. 6).
+    expect(rule.weights.reduce((s, x) => s + x, 0)).toBeCloseTo(1, 12);
+    expect(rule.nodes[rule.nodes.length - 1]).toBe(run.largest[0].value);
+    expect(rule.nodes[0]).toBe(run.smallest[0].value);
+    // source: E[vᵀAv] = tr(A)/n for v uniform on the unit sphere, and the rule's first moment is vᵀAv
+    // (Ubaru, Chen & Saad 2017, §2): one probe lands within 4 closed-form standard deviations.
+    expect(Math.abs(rule.nodes.reduce((s, x, j) => s + x * rule.weights[j], 0) - trace(a, n) / n)).toBeLessThan(4 * sphereProbeSd(a, n));
+  });
+
+  it('appended to drawn probes: the same as broadening all the rules at once; its products are not counted again', () => {
+    const d = withProbes(drawn, [rule], { probes: 10, steps: 60 });
+    expect(d.probes).toBe(10);
+    expect(d.products).toBe(drawn.products);
+    expect(d.nodes[9]).toBe(rule.nodes);
+    const all = densityOfRules([...drawn.nodes.map((nodes, l) => ({ nodes, weights: drawn.weights[l] })), rule], {}, drawn.products);
+    expect(Array.from(d.density)).toEqual(Array.from(all.density));
+    expect(trapezoid(d.grid, d.density)).toBeCloseTo(1, 6);
+    // source: E[vᵀAv] = tr(A)/n for v uniform on the unit sphere (Ubaru, Chen & Saad 2017, §2): the
+    // run's start vector is such a v, so the ten probes' mean stays within 4 closed-form errors.
+    expect(Math.abs(d.mean - trace(a, n) / n)).toBeLessThan((4 * sphereProbeSd(a, n)) / Math.sqrt(10));
+    expect(() => densityOfRules([])).toThrow('a spectral density needs at least one probe');
   });
 });
 

@@ -111,3 +111,57 @@ describe('lanczosExtremes against the dense solver', () => {
     expect(() => lanczosExtremes(op, 0, Rng.fromSeed(1))).toThrow();
   });
 });
+
+describe('lanczosExtremes with the eigenvalue criterion', () => {
+  /** A diagonal operator: its eigenvalues are its entries (closed form). */
+  function diagonal(d: Float64Array): (v: Float64Array, out: Float64Array) => void {
+    return (v, out) => {
+      for (let i = 0; i < d.length; i++) out[i] = d[i] * v[i];
+    };
+  }
+
+  it.each(cases)('%s: every value within tol·scale of the dense spectrum, in no more steps than the residual criterion', (_name, n, make) => {
+    const a = make();
+    const all = eigenvalues(a, n);
+    const tol = 1e-10;
+    const byValue = lanczosExtremes(matvec(a, n), n, Rng.fromSeed(101), { k: 5, which: 'both', tol, criterion: 'eigenvalue' });
+    const byResidual = lanczosExtremes(matvec(a, n), n, Rng.fromSeed(101), { k: 5, which: 'both', tol });
+    expect(['converged', 'exhausted']).toContain(byValue.stop);
+    expect(byValue.criterion).toBe('eigenvalue');
+    expect(byValue.iterations).toBeLessThanOrEqual(byResidual.iterations);
+    // source: the dense solver of this package (checked against numpy.linalg.eigvalsh in
+    // eigen.golden.test.ts); 1e-13·scale is its own rounding (common practice: O(n·ε·‖A‖)).
+    const pairs = [...byValue.largest.map((p, i) => [p, all[n - 1 - i]] as const), ...byValue.smallest.map((p, i) => [p, all[i]] as const)];
+    for (const [p, exact] of pairs) {
+      expect(p.converged).toBe(true);
+      if (byValue.stop === 'exhausted') continue;
+      expect(p.errorBound).toBeLessThanOrEqual(tol * byValue.scale);
+      expect(p.residual).toBeLessThanOrEqual(Math.sqrt(tol) * byValue.scale);
+      expect(Math.abs(p.value - exact)).toBeLessThanOrEqual(tol * byValue.scale + 1e-13 * byValue.scale);
+    }
+  });
+
+  it('stops sooner on a clustered end and still finds the cluster to tol·scale (diagonal operator, exact eigenvalues)', () => {
+    // A spectrum shaped like a network Hessian's: a few separated top values, a bulk near zero and
+    // ten negative values 0.01 apart. Invented; the eigenvalues of a diagonal matrix are its entries.
+    const n = 1000;
+    const d = new Float64Array(n);
+    for (let i = 0; i < n; i++) d[i] = i < 10 ? -0.46 + 0.01 * i : -0.1 + 0.4 * (i / n);
+    d[n - 1] = 6.5;
+    d[n - 2] = 5.9;
+    d[n - 3] = 5.6;
+    const sorted = Float64Array.from(d).sort();
+    const tol = 1e-10;
+    const byValue = lanczosExtremes(diagonal(d), n, Rng.fromSeed(9), { k: 5, which: 'both', tol, criterion: 'eigenvalue' });
+    const byResidual = lanczosExtremes(diagonal(d), n, Rng.fromSeed(9), { k: 5, which: 'both', tol });
+    expect(byValue.stop).toBe('converged');
+    expect(byResidual.stop).toBe('converged');
+    expect(byValue.iterations).toBeLessThan(0.9 * byResidual.iterations);
+    for (let i = 0; i < 5; i++) {
+      expect(Math.abs(byValue.smallest[i].value - sorted[i])).toBeLessThanOrEqual(tol * byValue.scale);
+      expect(Math.abs(byValue.largest[i].value - sorted[n - 1 - i])).toBeLessThanOrEqual(tol * byValue.scale);
+      // The bound shown covers the true error.
+      expect(Math.abs(byValue.smallest[i].value - sorted[i])).toBeLessThanOrEqual(byValue.smallest[i].errorBound + 1e-15 * byValue.scale);
+    }
+  });
+});

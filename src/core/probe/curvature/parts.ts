@@ -1,12 +1,14 @@
 /**
  * The curvature readout's matrix-free parts that do not depend on the Lanczos run — the SLQ
- * spectral density and Hutchinson's trace — as a task of plain data (weights, rows, generator
+ * spectral density and the trace (exact where the objective gives it, else Hutchinson's
+ * estimate) — as a task of plain data (weights, rows, generator
  * states, options) that another thread can run on its own copy of the objective while this one
  * runs Lanczos. The same function runs it in-process, so both ways give the same numbers.
  */
 import type { Objective, Rows } from '../../objective';
 import { Rng, type RngState } from '../../rng';
-import type { DensityOptions, SpectralDensity, TraceEstimate } from '../../linalg/density';
+import type { DensityOptions, SpectralDensity } from '../../linalg/density';
+import type { IterationControl, LinearOperator, StopReason } from '../../linalg/operator';
 import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
 import type { CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
@@ -18,7 +20,7 @@ export interface DensityTraceTask {
   readonly kind: CurvatureKind;
   /** SLQ options without callbacks, or null to skip the density. */
   readonly density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null;
-  /** Hutchinson probes (0 skips the trace). */
+  /** Hutchinson probes where the trace is not exact (0 skips the trace). */
   readonly traceProbes: number;
   /** Fuse multiply-adds in the products where the objective can (see `MeasureOptions.fused`). */
   readonly fused: boolean;
@@ -27,10 +29,33 @@ export interface DensityTraceTask {
   readonly traceRng: RngState;
 }
 
+/** The readout's trace: exact where the objective gives it (no products), else Hutchinson's estimate. */
+export interface TracePart {
+  readonly value: number;
+  /** Standard error of the estimate; 0 when exact. */
+  readonly standardError: number;
+  readonly method: 'exact' | 'hutchinson';
+  /** Operator products spent (0 when exact). */
+  readonly products: number;
+  readonly stop: StopReason;
+}
+
+/**
+ * The trace of `kind` at `w`: `objective.exactTrace` where it gives one (a network's
+ * Gauss-Newton matrix; the Hessian of a piecewise-linear network), else Hutchinson's estimate
+ * with `probes` products of `op` (Hutchinson 1989).
+ */
+export function tracePart(objective: Objective, op: LinearOperator, w: Float64Array, rows: Rows, kind: CurvatureKind, rng: Rng, probes: number, control: IterationControl = {}): TracePart {
+  const exact = objective.exactTrace?.(w, kind, rows) ?? null;
+  if (exact !== null) return { value: exact, standardError: 0, method: 'exact', products: 0, stop: 'converged' };
+  const t = hutchinsonTrace(op, objective.parameterCount, rng, { probes, ...control });
+  return { value: t.estimate, standardError: t.standardError, method: 'hutchinson', products: t.products, stop: t.stop };
+}
+
 /** What {@link runDensityTrace} returns. */
 export interface DensityTrace {
   readonly density: SpectralDensity | null;
-  readonly trace: TraceEstimate | null;
+  readonly trace: TracePart | null;
   /** Set by a runner: true when another thread computed it. */
   readonly elsewhere?: boolean;
 }
@@ -78,11 +103,11 @@ export function densityTraceTask(
   };
 }
 
-/** SLQ density (Ubaru, Chen & Saad 2017) and Hutchinson trace (Hutchinson 1989) of the task, on `objective`. */
+/** SLQ density (Ubaru, Chen & Saad 2017) and the trace ({@link tracePart}) of the task, on `objective`. */
 export function runDensityTrace(objective: Objective, task: DensityTraceTask): DensityTrace {
   const op = curvatureOperator(objective, task.w, { rows: task.rows ?? undefined, kind: task.kind, fused: task.fused });
   const p = objective.parameterCount;
   const density = task.density === null ? null : spectralDensity(op.apply, p, Rng.fromState(task.densityRng), task.density);
-  const trace = task.traceProbes === 0 ? null : hutchinsonTrace(op.apply, p, Rng.fromState(task.traceRng), { probes: task.traceProbes });
+  const trace = task.traceProbes === 0 ? null : tracePart(objective, op.apply, task.w, task.rows ?? undefined, task.kind, Rng.fromState(task.traceRng), task.traceProbes);
   return { density, trace };
 }

@@ -1,20 +1,21 @@
 /**
  * The curvature readout's numbers: extreme eigenvalues with error bounds, condition number of the
  * positive part, share of negative curvature, trace, and the recipe's largest stable learning
- * rate with its margin, from either the dense spectrum (small P) or Lanczos + SLQ + Hutchinson.
+ * rate with its margin, from either the dense spectrum (small P) or Lanczos + SLQ + the trace
+ * (exact where the objective gives it, else Hutchinson's estimate).
  */
 import type { Objective, Rows } from '../../objective';
 import type { Recipe } from '../../setup';
 import type { IterationControl, StopReason } from '../../linalg/operator';
 import type { LanczosOptions, LanczosResult } from '../../linalg/lanczos';
 import { lanczosExtremes, lanczosExtremesSliced } from '../../linalg/lanczos';
-import type { DensityOptions, SpectralDensity, TraceEstimate } from '../../linalg/density';
-import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
+import type { DensityOptions, SpectralDensity } from '../../linalg/density';
+import { densityOfRules, spectralDensity, withProbes } from '../../linalg/density';
 import type { CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
 import type { DenseSpectrum } from './dense';
 import { DENSE_LIMIT, denseSpectrum } from './dense';
-import { densityTraceTask, type DensityTraceRunner, type DensityTraceTask } from './parts';
+import { densityTraceTask, tracePart, type DensityTraceRunner, type DensityTraceTask, type TracePart } from './parts';
 import { Rng } from '../../rng';
 import type { StabilityBound, StepMetric } from './stability';
 import { stabilityBound, stabilityFactor } from './stability';
@@ -79,13 +80,13 @@ export function spectrumFromDense(d: DenseSpectrum, kind: CurvatureKind, k = 5, 
   };
 }
 
-/** Facts of a Lanczos run (with optional SLQ density and Hutchinson trace). */
+/** Facts of a Lanczos run (with optional SLQ density and trace). */
 export function spectrumFromLanczos(
   parameterCount: number,
   kind: CurvatureKind,
   l: LanczosResult,
   density: SpectralDensity | null,
-  trace: TraceEstimate | null
+  trace: TracePart | null
 ): CurvatureSpectrum {
   return {
     method: 'lanczos',
@@ -96,7 +97,7 @@ export function spectrumFromLanczos(
     bottom: l.smallest.map((p) => p.value),
     bottomBounds: l.smallest.map((p) => p.errorBound),
     eigenvalues: null,
-    trace: trace === null ? null : { value: trace.estimate, standardError: trace.standardError, method: 'hutchinson' },
+    trace: trace === null ? null : { value: trace.value, standardError: trace.standardError, method: trace.method },
     negativeShare: density === null ? null : { value: density.negativeShare, method: 'slq', cutoff: density.negativeCutoff },
     density,
     asymmetry: null,
@@ -123,6 +124,8 @@ export interface CurvatureSummary {
   readonly negativeShareMethod: 'dense-count' | 'slq' | null;
   readonly trace: number | null;
   readonly traceStandardError: number | null;
+  /** How the trace was obtained: exactly (dense: the spectrum's sum; matrix-free: `Objective.exactTrace`) or by Hutchinson's estimate. */
+  readonly traceMethod: 'exact' | 'hutchinson' | null;
   /** Largest stable learning rate of the recipe and the stability margin. */
   readonly stability: StabilityBound;
   /** The operator the stability bound used, e.g. `plain Hessian` or `frozen diagonal preconditioner P^-1`. */
@@ -197,6 +200,7 @@ export function curvatureSummary(s: CurvatureSpectrum, recipe: Recipe, options: 
     negativeShareMethod: s.negativeShare?.method ?? null,
     trace: s.trace?.value ?? null,
     traceStandardError: s.trace?.standardError ?? null,
+    traceMethod: s.trace?.method ?? null,
     stability,
     stepMetric: step?.description ?? 'plain Hessian',
     caveat: CURVATURE_CAVEAT,
@@ -212,12 +216,24 @@ export interface MeasureOptions extends IterationControl {
   denseLimit?: number;
   /** Eigenvalues reported at each end (default 5). */
   k?: number;
-  /** Lanczos residual tolerance (default 1e-10) and step cap (default 300). */
+  /**
+   * Lanczos tolerance (default 1e-10) and step cap (default 300). The readout reports eigenvalues,
+   * not vectors: a value has converged when its error bound is at most tol·max|θ| (and its residual
+   * at most √tol·max|θ|; `LanczosOptions.criterion` `eigenvalue`).
+   */
   tol?: number;
   maxIterations?: number;
-  /** SLQ density on the matrix-free path (default `{ probes: 4, steps: 40 }`; false to skip). */
+  /**
+   * SLQ density on the matrix-free path (default `{ probes: 4, steps: 40 }`; false to skip). The
+   * main Lanczos run, from a seeded random unit vector like every probe, is the last of the
+   * probes, with as many nodes as it took steps; the others are drawn with `steps` steps each.
+   */
   density?: DensityOptions | false;
-  /** Hutchinson probes on the matrix-free path (default 32; 0 to skip). */
+  /**
+   * Matrix-free path: Hutchinson probes where the trace is not exact (default 32; 0 skips the
+   * trace). A network's Gauss-Newton trace, and the Hessian trace of a network whose activations
+   * are all piecewise linear, are computed exactly instead (`Objective.exactTrace`).
+   */
   traceProbes?: number;
   /**
    * Matrix-free path: fuse multiply-adds in the Hessian-vector products where the engine can
@@ -268,7 +284,8 @@ export interface CurvatureReport {
 
 /**
  * Measures the curvature of `objective` at `w` and summarizes it for `recipe`: the dense spectrum
- * when P ≤ denseLimit (default 2000), else Lanczos (both ends), SLQ density and Hutchinson trace.
+ * when P ≤ denseLimit (default 2000), else Lanczos (both ends), SLQ density and the trace (exact
+ * where the objective gives it, else Hutchinson's estimate).
  * When the step metric is not the plain Hessian, one more top-1 Lanczos (or dense) solve on
  * D^{1/2}(M + sI)D^{1/2} gives the sharpness the stability bound uses.
  *
@@ -282,11 +299,13 @@ export function measureCurvature(objective: Objective, w: Float64Array, recipe: 
   const plan = planParts(objective, w, rng, options);
   if (plan.dense) return finish(objective, w, recipe, rng, options, denseSpectrumFacts(objective, w, options));
   const step = stepSharpnessOnce(objective, w, rng, options);
-  const l = lanczosPart(objective, w, recipe, rng, options, step);
+  const l = lanczosPart(objective, w, recipe, rng, options, step, plan.density !== null);
   const densityOptions = plan.task.density === null ? null : { ...plan.task.density, onProgress: options.onProgress, shouldStop: options.shouldStop };
-  const density = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply, objective.parameterCount, Rng.fromState(plan.task.densityRng), densityOptions);
+  const drawn = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply, objective.parameterCount, Rng.fromState(plan.task.densityRng), densityOptions);
+  const density = l.stop === 'cancelled' ? null : withMainProbe(plan.density, drawn, l);
   const skipTrace = plan.task.traceProbes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
-  const trace = skipTrace ? null : hutchinsonTrace(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply, objective.parameterCount, Rng.fromState(plan.task.traceRng), { probes: plan.task.traceProbes, onProgress: options.onProgress, shouldStop: options.shouldStop });
+  const traceOp = curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply;
+  const trace = skipTrace ? null : tracePart(objective, traceOp, w, options.rows, plan.task.kind, Rng.fromState(plan.task.traceRng), plan.task.traceProbes, { onProgress: options.onProgress, shouldStop: options.shouldStop });
   return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace), step);
 }
 
@@ -305,7 +324,7 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
   const step = stepSharpnessOnce(objective, w, rng, options);
   let l: LanczosResult;
   try {
-    l = await lanczosPart(objective, w, recipe, rng, options, step, options.pause ?? (() => undefined));
+    l = await lanczosPart(objective, w, recipe, rng, options, step, plan.density !== null, options.pause ?? (() => undefined));
   } catch (error) {
     job.cancel();
     throw error;
@@ -318,18 +337,39 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
     const spectrum = spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null);
     return finish(objective, w, recipe, rng, options, { ...spectrum, stop: 'cancelled' }, step);
   }
-  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, parts.density, parts.trace), step);
+  const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, withMainProbe(plan.density, parts.density, l), parts.trace), step);
   return parts.elsewhere === true ? { ...report, threads: 2 } : report;
 }
 
-function planParts(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): { dense: boolean; task: DensityTraceTask } {
+/** Density options without callbacks. */
+type DensityPlan = Omit<DensityOptions, 'onProgress' | 'shouldStop'>;
+
+/**
+ * What runs where: the density's probes but one, and the trace, as a task (another thread's, or
+ * this one's after Lanczos); `density` the whole density's options (null: no density).
+ */
+function planParts(objective: Objective, w: Float64Array, rng: Rng, options: MeasureOptions): { dense: boolean; task: DensityTraceTask; density: DensityPlan | null } {
   const p = objective.parameterCount;
   const denseLimit = options.denseLimit ?? DENSE_LIMIT;
   const method = options.method ?? 'auto';
   const dense = method === 'dense' || (method === 'auto' && p <= denseLimit);
   const density = options.density === false ? null : { probes: 4, steps: 40, negativeCutoff: options.cutoff, ...withoutCallbacks(options.density ?? {}) };
-  const task = densityTraceTask(w, options.rows, options.kind ?? 'hessian', rng, density, options.traceProbes ?? 32, fuses(objective, options));
-  return { dense, task };
+  const probes = density?.probes ?? 0;
+  if (density !== null && !(Number.isInteger(probes) && probes >= 1)) throw new RangeError(`probes must be a positive integer, got ${probes}`);
+  // The main Lanczos run starts from a seeded random unit vector: it is one of the SLQ probes.
+  const drawn = density === null || probes === 1 ? null : { ...density, probes: probes - 1 };
+  const task = densityTraceTask(w, options.rows, options.kind ?? 'hessian', rng, drawn, options.traceProbes ?? 32, fuses(objective, options));
+  return { dense, task, density };
+}
+
+/**
+ * The readout's density: the probes drawn for it (`drawn`, null when the main run is the only
+ * one) and, as the last probe, the Gauss rule of the main Lanczos run — same start-vector law,
+ * as many nodes as it took steps.
+ */
+function withMainProbe(plan: DensityPlan | null, drawn: SpectralDensity | null, l: LanczosResult): SpectralDensity | null {
+  if (plan === null || l.rule === undefined) return drawn;
+  return drawn === null ? densityOfRules([l.rule], plan) : withProbes(drawn, [l.rule], plan);
 }
 
 /** Whether the matrix-free products fuse multiply-adds: asked for (the default) and possible here. */
@@ -349,17 +389,17 @@ function denseSpectrumFacts(objective: Objective, w: Float64Array, options: Meas
   return spectrumFromDense(d, kind, options.k ?? 5, options.cutoff);
 }
 
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness): LanczosResult;
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, pause: () => Promise<void> | undefined): Promise<LanczosResult>;
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean): LanczosResult;
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause: () => Promise<void> | undefined): Promise<LanczosResult>;
 /** The two-ended Lanczos run of the readout (sliced with `pause` when given). */
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, pause?: () => Promise<void> | undefined): LanczosResult | Promise<LanczosResult> {
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause?: () => Promise<void> | undefined): LanczosResult | Promise<LanczosResult> {
   const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', fused: fuses(objective, options) });
   const onTopEnd = options.onTopEnd;
   const onLargest =
     onTopEnd === undefined
       ? undefined
       : (partial: LanczosResult): void => onTopEnd({ ...finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, options.kind ?? 'hessian', partial, null, null), step), partial: true });
-  const lanczosOptions: LanczosOptions = { k: options.k ?? 5, which: 'both', tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest };
+  const lanczosOptions: LanczosOptions = { k: options.k ?? 5, which: 'both', tol: options.tol, criterion: 'eigenvalue', rule, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest };
   const some = (l: LanczosResult): LanczosResult => {
     if (l.largest.length === 0) throw new Error(CANCELLED);
     return l;
@@ -388,7 +428,7 @@ function stepSharpnessOnce(objective: Objective, w: Float64Array, rng: Rng, opti
     else if (metric.scaling === null) kept = { shift: metric.shift, description: metric.description };
     else {
       const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', scaling: metric.scaling, shift: metric.shift, fused: fuses(objective, options) });
-      const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('step-metric'), { k: 1, tol: options.tol, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
+      const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('step-metric'), { k: 1, tol: options.tol, criterion: 'eigenvalue', maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
       kept = { value: l.largest[0].value, bound: l.largest[0].errorBound, description: metric.description };
     }
     return kept;
