@@ -64,9 +64,10 @@ export interface Objective {
 
   /**
    * The exact trace of the Hessian or the Gauss-Newton matrix at `w` on `rows` (regularization
-   * included), or null where this objective cannot give it without estimating (absent: never).
+   * included), or null where this objective cannot give it without estimating, or not within
+   * `maxBackwardPasses` backward passes of its model (absent: never).
    */
-  exactTrace?(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows): number | null;
+  exactTrace?(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows, maxBackwardPasses?: number): number | null;
 }
 
 /** Euclidean dot product of two equal-length vectors. */

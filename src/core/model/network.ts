@@ -274,10 +274,11 @@ export class Network implements Objective {
    * outer product δ_n ⊗ (h_n, 1) of its back-propagated signal and its input with the bias' 1, so
    * ⟨J_nᵀ u, J_nᵀ r⟩ = Σ_l (δ_l(u)_n · δ_l(r)_n)(‖h_{l−1,n}‖² + 1): two backward passes per output
    * (seeds e_c and H_n e_c), no outer products, no operator products. The l2 term adds l2 per weight
-   * entry. Clears the kept pass.
+   * entry. Null too when those 2·outputs passes exceed `maxBackwardPasses`. Clears the kept pass.
    */
-  exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows): number | null {
+  exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows, maxBackwardPasses = Infinity): number | null {
     if (kind === 'hessian' && !this.plan.every((p) => p.act.piecewiseLinear)) return null;
+    if (2 * this.outputs > maxBackwardPasses) return null;
     const n = this.select(rows);
     const wk = this.weights(w);
     this.forward(wk, n, false);

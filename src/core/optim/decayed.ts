@@ -65,8 +65,8 @@ class DecayedObjective implements Objective {
   }
 
   /** The inner objective's exact trace plus λ per decayed entry (λI on the masked entries). */
-  exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows): number | null {
-    const inner = this.inner.exactTrace?.(w, kind, rows) ?? null;
+  exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows, maxBackwardPasses?: number): number | null {
+    const inner = this.inner.exactTrace?.(w, kind, rows, maxBackwardPasses) ?? null;
     if (inner === null) return null;
     let decayed = this.parameterCount;
     if (this.mask !== null) {

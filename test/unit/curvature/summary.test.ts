@@ -144,6 +144,16 @@ describe('the trace on the matrix-free path', () => {
     expect(Math.abs(est.estimate - (rep.summary.trace as number))).toBeLessThan(3 * est.standardError);
   });
 
+  it('is estimated where the exact trace would cost more than the probes (two backward passes per output, six to a product)', () => {
+    const { network, w } = net('relu'); // 4 outputs: 8 backward passes
+    const one = measureCurvature(network, w, recipe(), Rng.fromSeed(2), { ...options, traceProbes: 1 });
+    const two = measureCurvature(network, w, recipe(), Rng.fromSeed(2), { ...options, traceProbes: 2 });
+    expect(one.summary.traceMethod).toBe('hutchinson');
+    expect(two.summary.traceMethod).toBe('exact');
+    expect(network.exactTrace(w, 'hessian', undefined, 7)).toBeNull();
+    expect(network.exactTrace(w, 'hessian', undefined, 8)).toBe(two.summary.trace);
+  });
+
   it('is Hutchinson’s estimate for a curved network, with its products and standard error', () => {
     const { network, w } = net('tanh');
     const rep = measureCurvature(network, w, recipe(), Rng.fromSeed(2), options);

@@ -41,12 +41,19 @@ export interface TracePart {
 }
 
 /**
+ * A Hessian-vector product on a kept pass costs about six matrix products per layer (two in the
+ * R-forward pass, two outer products and two back-propagations in the R-backward one), a
+ * backward pass of δ alone one: the exact trace is taken while it costs no more than the probes.
+ */
+const BACKWARD_PASSES_PER_PRODUCT = 6;
+
+/**
  * The trace of `kind` at `w`: `objective.exactTrace` where it gives one (a network's
- * Gauss-Newton matrix; the Hessian of a piecewise-linear network), else Hutchinson's estimate
- * with `probes` products of `op` (Hutchinson 1989).
+ * Gauss-Newton matrix; the Hessian of a piecewise-linear network) within the cost of `probes`
+ * products, else Hutchinson's estimate with `probes` products of `op` (Hutchinson 1989).
  */
 export function tracePart(objective: Objective, op: LinearOperator, w: Float64Array, rows: Rows, kind: CurvatureKind, rng: Rng, probes: number, control: IterationControl = {}): TracePart {
-  const exact = objective.exactTrace?.(w, kind, rows) ?? null;
+  const exact = objective.exactTrace?.(w, kind, rows, BACKWARD_PASSES_PER_PRODUCT * probes) ?? null;
   if (exact !== null) return { value: exact, standardError: 0, method: 'exact', products: 0, stop: 'converged' };
   const t = hutchinsonTrace(op, objective.parameterCount, rng, { probes, ...control });
   return { value: t.estimate, standardError: t.standardError, method: 'hutchinson', products: t.products, stop: t.stop };
