@@ -6,11 +6,13 @@
  */
 import type { Experiment } from '../core/setup';
 import { buildObjective } from '../core/assemble';
-import { runDensityTrace, type DensityTrace, type DensityTraceJob, type DensityTraceRunner } from '../core/probe/curvature';
+import { runDensityTrace, type DensityTrace, type DensityTraceJob, type DensityTraceRunner, type StepMetricValue } from '../core/probe/curvature';
 import type { ReadoutReply, ReadoutRequest } from './readout-protocol';
 
 interface Pending {
   accepted: () => void;
+  /** Settles the job's `stepMetric` (once; later calls do nothing). */
+  stepMetric: (v: StepMetricValue | null) => void;
   resolve: (r: DensityTrace) => void;
   reject: (e: Error) => void;
 }
@@ -26,6 +28,7 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
     broken = true;
     for (const p of pending.values()) {
       p.accepted();
+      p.stepMetric(null);
       p.reject(new Error(message));
     }
     pending.clear();
@@ -46,7 +49,12 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
         p.accepted();
         return;
       }
+      if (r.kind === 'step-metric') {
+        p.stepMetric(r.value);
+        return;
+      }
       pending.delete(r.id);
+      p.stepMetric(r.ok ? r.result.stepMetric ?? null : null);
       if (r.ok) p.resolve({ ...r.result, elsewhere: true });
       else p.reject(new Error(`readout helper: ${r.message}`));
     };
@@ -65,6 +73,7 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
     worker = null;
     for (const other of pending.values()) {
       other.accepted();
+      other.stepMetric(null);
       other.reject(new Error('readout helper: the readout was stopped'));
     }
     pending.clear();
@@ -80,12 +89,14 @@ export function readoutHelper(): ((experiment: Experiment) => DensityTraceRunner
       const request: ReadoutRequest = { id, setup: experiment.setup, task };
       let accepted: () => void = () => undefined;
       const started = new Promise<void>((resolve) => (accepted = resolve));
+      let stepMetricKnown: (v: StepMetricValue | null) => void = () => undefined;
+      const stepMetric = new Promise<StepMetricValue | null>((resolve) => (stepMetricKnown = resolve));
       const result = new Promise<DensityTrace>((resolve, reject) => {
-        pending.set(id, { accepted, resolve, reject });
+        pending.set(id, { accepted, stepMetric: stepMetricKnown, resolve, reject });
         w.postMessage(request);
       });
       // Nobody awaits a cancelled task's result: keep its rejection from being reported as unhandled.
       result.catch(() => undefined);
-      return { started, result, cancel: () => cancel(id) };
+      return { started, result, stepMetric, cancel: () => cancel(id) };
     };
 }

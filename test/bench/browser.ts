@@ -14,6 +14,7 @@
  *    three readouts at the same step, their medians reported.
  */
 import { loadavg } from 'node:os';
+import type { Page } from 'playwright-core';
 import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, startApp } from '../e2e/harness';
 import { buildMlp } from './networks';
 
@@ -33,8 +34,8 @@ const STEPS = 12;
 
 const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
 
-/** Spec text of the P = 85 002 network over MLP c's seeded rows (JSON is YAML; the comment line marks the cell). */
-function bigSpec(): string {
+/** Spec text of the P = 85 002 network over MLP c's seeded rows (JSON is YAML; the comment line marks the cell), with `recipe`. */
+function bigSpec(recipe: { optimizer: string; lr: number } = { optimizer: 'sgd', lr: 0.05 }): string {
   const c = { widths: [64, 256, 256, 10], act: 'relu' as const, loss: 'cross-entropy' as const, batch: 512 };
   const { x, y } = buildMlp(c, 1);
   const rows = Array.from({ length: c.batch }, (_, r) => Array.from(x.subarray(r * 64, (r + 1) * 64), (v) => Number(v.toFixed(4))));
@@ -43,9 +44,47 @@ function bigSpec(): string {
     model: { inputs: 64, layers: [{ units: 256, activation: 'relu' }, { units: 256, activation: 'relu' }, { units: 10, activation: 'linear' }] },
     data: { x: rows, y: Array.from(y) },
     loss: 'cross-entropy',
-    recipe: { optimizer: 'sgd', lr: 0.05 },
+    recipe,
   };
   return `# stepwell: benchmark network, P = 85 002\n${JSON.stringify(spec)}\n`;
+}
+
+/**
+ * One curvature readout of the last cell of the page, clicked in the page (the notebook may keep a
+ * long cell's output out of view): milliseconds to its top end (the head marked partial) and to
+ * the complete readout (the next head not so marked). The button is enabled again only after
+ * the ledger is written back, later than the readout shows.
+ */
+function measureCurvature(page: Page): Promise<{ top: { ms: number; text: string }; all: number }> {
+  return page.evaluate(async () => {
+    const cells = document.querySelectorAll('.sw-CellWidget');
+    const cell = cells[cells.length - 1] as HTMLElement;
+    (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
+    while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
+    const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
+    const t0 = performance.now();
+    let top: { ms: number; text: string } | null = null;
+    return await new Promise<{ top: { ms: number; text: string }; all: number }>((resolve, reject) => {
+      // A readout that never showed its top end, or never completed, would otherwise leave the bench waiting for good.
+      const late = setTimeout(() => {
+        mo.disconnect();
+        reject(new Error('the curvature readout did not show its top end and then the complete readout within 120 s'));
+      }, 120_000);
+      const mo = new MutationObserver(() => {
+        const head = cell.querySelector('.sw-CurvatureHead') as HTMLElement | null;
+        if (head === null) return;
+        if (head.dataset.partial === 'true') {
+          if (top === null) top = { ms: performance.now() - t0, text: head.textContent ?? '' };
+        } else if (top !== null) {
+          clearTimeout(late);
+          mo.disconnect();
+          resolve({ top, all: performance.now() - t0 });
+        }
+      });
+      mo.observe(cell, { subtree: true, childList: true, characterData: true });
+      button.click();
+    });
+  });
 }
 
 /** Runs both parts (or only those not switched off); returns the rows and the Chromium version. */
@@ -122,54 +161,28 @@ export async function browserFigures(parts: { steps?: boolean; curvature?: boole
     page = session.page;
     await page.addInitScript({ content: 'globalThis.__name = (f) => f;' });
     await openNotebook(page, `${app.origin}/lab/tree/${DEMOS[0]}`);
-    await appendAndRunCell(page, bigSpec());
-    const big = page.locator('.sw-CellWidget').last();
-    await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
-    // DOM clicks in the page: the notebook may keep a long cell's output out of view. Three
-    // readouts (Measure, then Measure again twice): one is too noisy on a shared 2-core machine.
-    // The first also starts the helper thread. Each readout shows its top end first (the head
-    // marked partial); the next head not so marked is the complete readout. (The button is
-    // enabled again only after the ledger is written back, later than the readout shows.)
-    const measure = (): Promise<{ top: { ms: number; text: string }; all: number }> =>
-      page.evaluate(async () => {
-        const cells = document.querySelectorAll('.sw-CellWidget');
-        const cell = cells[cells.length - 1] as HTMLElement;
-        (cell.querySelector('.sw-Tab[data-tab="curvature"]') as HTMLElement).click();
-        while (cell.querySelector('.sw-Button-curvature') === null) await new Promise((r) => setTimeout(r, 10));
-        const button = cell.querySelector('.sw-Button-curvature') as HTMLButtonElement;
-        const t0 = performance.now();
-        let top: { ms: number; text: string } | null = null;
-        return await new Promise<{ top: { ms: number; text: string }; all: number }>((resolve, reject) => {
-          // A readout that never showed its top end, or never completed, would otherwise leave the bench waiting for good.
-          const late = setTimeout(() => {
-            mo.disconnect();
-            reject(new Error('the curvature readout did not show its top end and then the complete readout within 120 s'));
-          }, 120_000);
-          const mo = new MutationObserver(() => {
-            const head = cell.querySelector('.sw-CurvatureHead') as HTMLElement | null;
-            if (head === null) return;
-            if (head.dataset.partial === 'true') {
-              if (top === null) top = { ms: performance.now() - t0, text: head.textContent ?? '' };
-            } else if (top !== null) {
-              clearTimeout(late);
-              mo.disconnect();
-              resolve({ top, all: performance.now() - t0 });
-            }
-          });
-          mo.observe(cell, { subtree: true, childList: true, characterData: true });
-          button.click();
-        });
-      });
-    const runs: Array<{ top: { ms: number; text: string }; all: number }> = [];
-    for (let r = 0; r < 3; r++) runs.push(await measure());
-    const head = await big.locator('.sw-CurvatureHead').textContent();
     const subject = 'MLP c 64-256-256-10, 512 rows (P 85 002)';
-    const tops = runs.map((t) => t.top.ms);
-    const alls = runs.map((t) => t.all);
-    rows.push({ what: 'curvature readout, top end (click to λmax and the limit shown)', subject: `${subject}: ${runs[0].top.text}`, ms: median(tops), reps: tops.length, all: tops });
-    rows.push({ what: 'curvature readout, complete (click to readout shown)', subject: `${subject}: ${head ?? ''}`, ms: median(alls), reps: alls.length, all: alls });
-    process.stdout.write(`  top end: ${runs[0].top.text}\n`);
-    process.stdout.write(`curvature readout at P = 85 002: top end ${tops.map((t) => t.toFixed(0)).join(' ')} ms, complete ${alls.map((t) => t.toFixed(0)).join(' ')} ms (the first starts the helper) — ${head ?? ''}\n`);
+    // SGD at step 0; Adam after one update (before it there is no preconditioner, so no step
+    // metric and no bound): the adaptive readout also runs Lanczos on the step metric.
+    for (const [recipe, steps, label] of [[{ optimizer: 'sgd', lr: 0.05 }, 0, ''], [{ optimizer: 'adam', lr: 0.001 }, 1, ', Adam after one update']] as const) {
+      await appendAndRunCell(page, bigSpec(recipe));
+      const big = page.locator('.sw-CellWidget').last();
+      await big.locator('.sw-Status', { hasText: /^step 0 ·/ }).waitFor({ state: 'attached', timeout: 300_000 });
+      if (steps > 0) {
+        await big.locator('.sw-Button-step').click();
+        await big.locator('.sw-Status', { hasText: new RegExp(`^step ${steps} ·`) }).waitFor({ state: 'attached', timeout: 300_000 });
+        await big.locator('.sw-Button-step:not([disabled])').waitFor({ timeout: 300_000 });
+      }
+      const runs: Array<{ top: { ms: number; text: string }; all: number }> = [];
+      for (let r = 0; r < 3; r++) runs.push(await measureCurvature(page));
+      const head = await big.locator('.sw-CurvatureHead').textContent();
+      const tops = runs.map((t) => t.top.ms);
+      const alls = runs.map((t) => t.all);
+      rows.push({ what: `curvature readout${label}, top end (click to λmax and the limit shown)`, subject: `${subject}: ${runs[0].top.text}`, ms: median(tops), reps: tops.length, all: tops });
+      rows.push({ what: `curvature readout${label}, complete (click to readout shown)`, subject: `${subject}: ${head ?? ''}`, ms: median(alls), reps: alls.length, all: alls });
+      process.stdout.write(`  top end: ${runs[0].top.text}\n`);
+      process.stdout.write(`curvature readout at P = 85 002${label}: top end ${tops.map((t) => t.toFixed(0)).join(' ')} ms, complete ${alls.map((t) => t.toFixed(0)).join(' ')} ms (the first of the SGD cell starts the helper) — ${head ?? ''}\n`);
+    }
     return { rows, chromium, load: loadavg() };
   } finally {
     await session.close();

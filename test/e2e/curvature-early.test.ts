@@ -7,6 +7,7 @@
  * two threads again (the helper thread that was ended is started afresh).
  * Screenshots go to test-output/ (curvature-early-*.png).
  */
+import type { Locator } from 'playwright-core';
 import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
 
 jest.setTimeout(300_000);
@@ -26,7 +27,7 @@ afterAll(async () => {
 });
 
 /** Spec text of a classifier of our own: made-up readings (a smooth function of row and column), four classes. */
-function classifierSpec(title: string, seed: number, inputs: number, units: number, activation: string, rows: number, reading: (r: number, j: number) => number, lr: number): string {
+function classifierSpec(title: string, seed: number, inputs: number, units: number, activation: string, rows: number, reading: (r: number, j: number) => number, lr: number, optimizer = 'sgd'): string {
   const x = Array.from({ length: rows }, (_, r) => Array.from({ length: inputs }, (_, j) => Number(reading(r, j).toFixed(4))));
   const y = Array.from({ length: rows }, (_, r) => (r * 7 + (r >> 3)) % 4);
   const spec = {
@@ -34,7 +35,7 @@ function classifierSpec(title: string, seed: number, inputs: number, units: numb
     model: { inputs, layers: [{ units, activation }, { units, activation }, { units: 4, activation: 'linear' }] },
     data: { x, y },
     loss: 'cross-entropy',
-    recipe: { optimizer: 'sgd', lr },
+    recipe: { optimizer, lr },
   };
   return `# stepwell: ${title}\n${JSON.stringify(spec)}\n`;
 }
@@ -46,6 +47,15 @@ const mediumSpec = (): string =>
 /** A 32-256-256-4 ReLU network (P = 75 268) on 256 rows: a readout of seconds. */
 const largeSpec = (): string =>
   classifierSpec('a large network whose curvature readout takes seconds', 8, 32, 256, 'relu', 256, (r, j) => Math.cos(0.11 * r + 0.7 * j + 0.003 * r * j), 0.05);
+
+/** The cells of the derived numbers' trace row: quantity, value, how. */
+async function traceRow(cell: Locator): Promise<string[]> {
+  return cell.locator('.sw-DerivedTable tr', { hasText: 'trace tr(H)' }).locator('td').allInnerTexts();
+}
+
+/** {@link mediumSpec} trained with Adam: its readout also measures the step metric (the frozen preconditioner) on the helper thread. */
+const mediumAdamSpec = (): string =>
+  classifierSpec('a medium network trained with Adam', 3, 16, 64, 'tanh', 128, (r, j) => Math.sin(0.37 * r + 1.3 * j + 0.01 * r * j), 0.01, 'adam');
 
 describe('the curvature readout above the dense limit', () => {
   it('shows the top end first, then the complete readout computed on two threads', async () => {
@@ -82,6 +92,8 @@ describe('the curvature readout above the dense limit', () => {
     expect(products(heads[0])).toBeLessThan(products(last));
     // The derived numbers come with the complete readout only.
     await cell.locator('.sw-DerivedTable').waitFor({ timeout: 10_000 });
+    // tanh is not piecewise linear, so the Hessian's trace is Hutchinson's estimate, and the row says so.
+    expect(await traceRow(cell)).toEqual(expect.arrayContaining(["Hutchinson's estimate ± its standard error"]));
     await screenshot(page, 'curvature-early-complete');
     expect(ourErrors(browser)).toEqual([]);
   });
@@ -105,6 +117,45 @@ describe('the curvature readout above the dense limit', () => {
     await cell.locator('.sw-Button-curvature').click();
     await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
     expect(await cell.locator('.sw-CurvatureHead').textContent()).toMatch(/^At step 0: λmax = [\d.]+ \(± [\d.e+-]+\), λmin = -?[\d.]+ — Lanczos over 75268 parameters, \d+ Hessian-vector products on 2 threads, with fused multiply-add\.$/);
+    // Every activation is ReLU or linear: the trace is exact (no ± in its value) and the row says why.
+    const trace = await traceRow(cell);
+    expect(trace[1]).not.toContain('±');
+    expect(trace[2]).toBe('exact, by two backward passes per output: every activation is piecewise linear, so the Hessian’s diagonal is the Gauss–Newton one');
+    expect(ourErrors(browser)).toEqual([]);
+  });
+
+  it('measures an adaptive optimizer’s step metric on the helper thread: the top end and the complete readout both carry it', async () => {
+    const { page } = browser;
+    await appendAndRunCell(page, mediumAdamSpec());
+    const cell = page.locator('.sw-CellWidget').last();
+    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
+    // Before the first update there is no preconditioner, so no step metric: take one step.
+    await cell.locator('.sw-Button-step').click();
+    await cell.locator('.sw-Status', { hasText: /^step 1 · / }).waitFor({ state: 'attached', timeout: 60_000 });
+    await cell.locator('.sw-Button-step:not([disabled])').waitFor({ timeout: 60_000 });
+    await cell.scrollIntoViewIfNeeded();
+    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    await cell.evaluate(root => {
+      const seen: string[] = [];
+      (window as unknown as { swPanels: string[] }).swPanels = seen;
+      new MutationObserver(() => {
+        const head = root.querySelector('.sw-CurvatureHead') as HTMLElement | null;
+        if (head === null) return;
+        const text = `${head.dataset.partial === 'true' ? 'partial' : 'complete'}: ${head.parentElement?.textContent ?? ''}`;
+        if (seen[seen.length - 1] !== text) seen.push(text);
+      }).observe(root, { subtree: true, childList: true, characterData: true, attributes: true });
+    });
+    await cell.locator('.sw-Button-curvature').click();
+    await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
+    const panels = await page.evaluate(() => (window as unknown as { swPanels: string[] }).swPanels);
+    const partial = panels.find(t => t.startsWith('partial: '));
+    const complete = panels[panels.length - 1];
+    expect(partial).toBeDefined();
+    expect(complete.startsWith('complete: ')).toBe(true);
+    expect(complete).toMatch(/At step 1: λmax = [\d.]+ .* Hessian-vector products on 2 threads, with fused multiply-add\./);
+    // Both name the operator the bound is taken on: the frozen preconditioner's step metric, measured by the helper.
+    for (const t of [partial ?? '', complete]) expect(t).toContain('operator: frozen diagonal preconditioner P^-1');
+    await screenshot(page, 'curvature-early-adam');
     expect(ourErrors(browser)).toEqual([]);
   });
 });

@@ -103,3 +103,64 @@ describe('the early top end of a matrix-free curvature readout', () => {
     expect(two.threads).toBeUndefined();
   });
 });
+
+describe('the step metric of an adaptive optimizer on the two-thread readout', () => {
+  const r = recipe({ optimizer: 'adam', lr: 0.01 });
+  function adaptive(): { network: Network; w: Float64Array; metric: ReturnType<typeof stepMetric> } {
+    const { network, w } = net();
+    const v = Float64Array.from({ length: w.length }, (_, i) => 1e-4 * (1 + (i % 7)));
+    const precond = preconditionerDiagonal(r, { kind: 'adam', t: 3, buffers: { m: new Float64Array(w.length), v }, scalars: {} });
+    return { network, w, metric: stepMetric(r, network.blocks, precond) };
+  }
+
+  it('is solved by the other thread, first, on the same generator fork: the same numbers as the one-thread readout', async () => {
+    const { network, w, metric } = adaptive();
+    const other = net().network;
+    const tasks: DensityTraceTask[] = [];
+    const told: string[] = [];
+    const run = (task: DensityTraceTask) => {
+      tasks.push(task);
+      const result = runDensityTrace(other, task, () => told.push('step metric'));
+      return { started: Promise.resolve(), result: Promise.resolve(result), cancel: () => undefined };
+    };
+    const early: CurvatureReport[] = [];
+    const one = measureCurvature(network, w, r, Rng.fromSeed(8), { ...options, metric, onTopEnd: (p) => early.push(p) });
+    const earlyTwo: CurvatureReport[] = [];
+    const two = await measureCurvatureWith(run, network, w, r, Rng.fromSeed(8), { ...options, metric, pause: () => Promise.resolve(), onTopEnd: (p) => earlyTwo.push(p) });
+    expect(tasks).toHaveLength(1);
+    expect(tasks[0].stepMetric?.scaling).toBe(metric.scaling);
+    expect(tasks[0].stepMetric?.rng).toEqual(Rng.fromSeed(8).fork('step-metric').state());
+    expect(told).toEqual(['step metric']);
+    // common practice (no single source): identical operations in one engine give identical results.
+    expect(two.summary).toEqual(one.summary);
+    expect(two.summary.stability.sharpness).not.toBe(two.summary.lambdaMax);
+    expect(earlyTwo).toHaveLength(1);
+    expect(earlyTwo[0].summary).toEqual(early[0].summary);
+  });
+
+  it('holds the top end back until the other thread has sent the step metric, then reports it while Lanczos goes on', async () => {
+    const { network, w, metric } = adaptive();
+    const other = net().network;
+    const order: string[] = [];
+    let send: () => void = () => undefined;
+    let steps = 0;
+    const run = (task: DensityTraceTask) => {
+      const result = runDensityTrace(other, task);
+      const stepMetric = new Promise<typeof result.stepMetric>((resolve) => (send = () => {
+        order.push(`step metric after ${steps} pauses`);
+        resolve(result.stepMetric);
+      }));
+      return { started: Promise.resolve(), result: Promise.resolve(result), stepMetric: stepMetric as Promise<NonNullable<typeof result.stepMetric>>, cancel: () => undefined };
+    };
+    const pause = (): Promise<void> => {
+      steps++;
+      if (steps === 30) send();
+      return Promise.resolve();
+    };
+    const two = await measureCurvatureWith(run, network, w, r, Rng.fromSeed(8), { ...options, metric, pause, onTopEnd: (p) => order.push(`top end, sharpness ${p.summary.stability.sharpness}`) });
+    order.push('complete');
+    const one = measureCurvature(network, w, r, Rng.fromSeed(8), { ...options, metric });
+    expect(order).toEqual(['step metric after 30 pauses', `top end, sharpness ${one.summary.stability.sharpness}`, 'complete']);
+    expect(two.summary).toEqual(one.summary);
+  });
+});

@@ -8,7 +8,7 @@ export { denseSpectrum } from './dense';
 export { stabilityFactor, stabilityBound, preconditionerDiagonal, stepMetric } from './stability';
 export type { CurvatureSummary, CurvatureReport } from './summary';
 export { measureCurvature, measureCurvatureWith } from './summary';
-export type { DensityTraceTask, DensityTrace, DensityTraceJob, DensityTraceRunner } from './parts';
+export type { DensityTraceTask, DensityTrace, DensityTraceJob, DensityTraceRunner, StepMetricValue } from './parts';
 export { runDensityTrace } from './parts';
 export { layerSharpness } from './layers';
 export { trackSharpness } from './trajectory';

@@ -1,7 +1,7 @@
 /**
- * The curvature readout's matrix-free parts that do not depend on the Lanczos run — the SLQ
- * spectral density and the trace (exact where the objective gives it, else Hutchinson's
- * estimate) — as a task of plain data (weights, rows, generator
+ * The curvature readout's matrix-free parts that do not depend on the Lanczos run — the step
+ * metric's sharpness (adaptive optimizers), the SLQ spectral density and the trace (exact where
+ * the objective gives it, else Hutchinson's estimate) — as a task of plain data (weights, rows, generator
  * states, options) that another thread can run on its own copy of the objective while this one
  * runs Lanczos. The same function runs it in-process, so both ways give the same numbers.
  */
@@ -10,8 +10,30 @@ import { Rng, type RngState } from '../../rng';
 import type { DensityOptions, SpectralDensity } from '../../linalg/density';
 import type { IterationControl, LinearOperator, StopReason } from '../../linalg/operator';
 import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
+import { lanczosExtremes } from '../../linalg/lanczos';
 import type { CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
+
+/**
+ * The step metric's top-1 Lanczos solve: λmax of D^{1/2}(M + sI)D^{1/2}, the operator an
+ * adaptive optimizer's update sees (plain data).
+ */
+export interface StepMetricTask {
+  /** The positive diagonal D. */
+  readonly scaling: Float64Array;
+  /** The shift s. */
+  readonly shift: number;
+  readonly tol?: number;
+  readonly maxIterations?: number;
+  /** State of the readout generator's `step-metric` fork. */
+  readonly rng: RngState;
+}
+
+/** The step metric's λmax and its error bound. */
+export interface StepMetricValue {
+  readonly value: number;
+  readonly bound: number;
+}
 
 /** Density and trace to compute (plain data: it crosses a worker boundary). */
 export interface DensityTraceTask {
@@ -27,6 +49,8 @@ export interface DensityTraceTask {
   /** States of the readout generator's `density` and `trace` forks. */
   readonly densityRng: RngState;
   readonly traceRng: RngState;
+  /** The step metric's sharpness, computed first (absent or null: none to compute). */
+  readonly stepMetric?: StepMetricTask | null;
 }
 
 /** The readout's trace: exact where the objective gives it (no products), else Hutchinson's estimate. */
@@ -59,10 +83,22 @@ export function tracePart(objective: Objective, op: LinearOperator, w: Float64Ar
   return { value: t.estimate, standardError: t.standardError, method: 'hutchinson', products: t.products, stop: t.stop };
 }
 
+/**
+ * λmax of the step metric of `t` at `w` (top-1 Lanczos with the eigenvalue stopping rule), or
+ * null when the run was stopped before it had a value.
+ */
+export function stepMetricPart(objective: Objective, w: Float64Array, rows: Rows, kind: CurvatureKind, fused: boolean, t: StepMetricTask, control: IterationControl = {}): StepMetricValue | null {
+  const op = curvatureOperator(objective, w, { rows, kind, scaling: t.scaling, shift: t.shift, fused });
+  const l = lanczosExtremes(op.apply, objective.parameterCount, Rng.fromState(t.rng), { k: 1, tol: t.tol, criterion: 'eigenvalue', maxIterations: t.maxIterations, ...control });
+  return l.largest.length === 0 ? null : { value: l.largest[0].value, bound: l.largest[0].errorBound };
+}
+
 /** What {@link runDensityTrace} returns. */
 export interface DensityTrace {
   readonly density: SpectralDensity | null;
   readonly trace: TracePart | null;
+  /** The step metric's sharpness when the task asked for it (absent from runners that predate it). */
+  readonly stepMetric?: StepMetricValue | null;
   /** Set by a runner: true when another thread computed it. */
   readonly elsewhere?: boolean;
 }
@@ -78,6 +114,11 @@ export interface DensityTraceJob {
   readonly started: Promise<void>;
   /** The density and trace. */
   readonly result: Promise<DensityTrace>;
+  /**
+   * The step metric's sharpness as soon as the other thread has it, before the density and the
+   * trace (the early top-end readout waits for it). Without it, it comes with `result`.
+   */
+  readonly stepMetric?: Promise<StepMetricValue | null>;
   /**
    * Gives the task up (the readout was stopped): the other thread stops working on it and
    * `result` may never settle. Nothing to do for a runner that computed it already.
@@ -96,9 +137,11 @@ export function densityTraceTask(
   rng: Rng,
   density: Omit<DensityOptions, 'onProgress' | 'shouldStop'> | null,
   traceProbes: number,
-  fused: boolean
+  fused: boolean,
+  stepMetric: StepMetricTask | null = null
 ): DensityTraceTask {
   return {
+    stepMetric,
     w: Float64Array.from(w),
     rows: rows === undefined ? null : Int32Array.from(rows),
     kind,
@@ -110,11 +153,19 @@ export function densityTraceTask(
   };
 }
 
-/** SLQ density (Ubaru, Chen & Saad 2017) and the trace ({@link tracePart}) of the task, on `objective`. */
-export function runDensityTrace(objective: Objective, task: DensityTraceTask): DensityTrace {
-  const op = curvatureOperator(objective, task.w, { rows: task.rows ?? undefined, kind: task.kind, fused: task.fused });
+/**
+ * The step metric's sharpness ({@link stepMetricPart}, handed to `onStepMetric` as soon as it is
+ * known), the SLQ density (Ubaru, Chen & Saad 2017) and the trace ({@link tracePart}) of the
+ * task, on `objective`.
+ */
+export function runDensityTrace(objective: Objective, task: DensityTraceTask, onStepMetric?: (v: StepMetricValue | null) => void): DensityTrace {
+  const rows = task.rows ?? undefined;
+  const metric = task.stepMetric ?? null;
+  const stepMetric = metric === null ? null : stepMetricPart(objective, task.w, rows, task.kind, task.fused, metric);
+  if (metric !== null) onStepMetric?.(stepMetric);
+  const op = curvatureOperator(objective, task.w, { rows, kind: task.kind, fused: task.fused });
   const p = objective.parameterCount;
   const density = task.density === null ? null : spectralDensity(op.apply, p, Rng.fromState(task.densityRng), task.density);
   const trace = task.traceProbes === 0 ? null : tracePart(objective, op.apply, task.w, task.rows ?? undefined, task.kind, Rng.fromState(task.traceRng), task.traceProbes);
-  return { density, trace };
+  return metric === null ? { density, trace } : { density, trace, stepMetric };
 }

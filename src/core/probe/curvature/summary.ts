@@ -15,7 +15,7 @@ import type { CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
 import type { DenseSpectrum } from './dense';
 import { DENSE_LIMIT, denseSpectrum } from './dense';
-import { densityTraceTask, tracePart, type DensityTraceRunner, type DensityTraceTask, type TracePart } from './parts';
+import { densityTraceTask, stepMetricPart, tracePart, type DensityTraceJob, type DensityTraceRunner, type DensityTraceTask, type StepMetricTask, type StepMetricValue, type TracePart } from './parts';
 import { Rng } from '../../rng';
 import type { StabilityBound, StepMetric } from './stability';
 import { stabilityBound, stabilityFactor } from './stability';
@@ -317,14 +317,17 @@ export function measureCurvature(objective: Objective, w: Float64Array, recipe: 
  */
 export async function measureCurvatureWith(run: DensityTraceRunner, objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions = {}): Promise<CurvatureReport> {
   const plan = planParts(objective, w, rng, options);
-  if (plan.dense || (plan.task.density === null && plan.task.traceProbes === 0)) return measureCurvature(objective, w, recipe, rng, options);
+  if (plan.dense || (plan.task.density === null && plan.task.traceProbes === 0 && (plan.task.stepMetric ?? null) === null)) return measureCurvature(objective, w, recipe, rng, options);
   const job = run(plan.task);
   // The other thread must hold the task before this one turns to Lanczos (see DensityTraceJob.started).
   await job.started;
-  const step = stepSharpnessOnce(objective, w, rng, options);
+  // The step metric's solve runs there first (while Lanczos runs here); the top end waits for it.
+  const metric = plan.task.stepMetric ?? null;
+  const offloaded = metric === null ? null : offloadedStep(job, options.metric?.description ?? '');
+  const step = offloaded?.step ?? stepSharpnessOnce(objective, w, rng, options);
   let l: LanczosResult;
   try {
-    l = await lanczosPart(objective, w, recipe, rng, options, step, plan.density !== null, options.pause ?? (() => undefined));
+    l = await lanczosPart(objective, w, recipe, rng, options, step, plan.density !== null, options.pause ?? (() => undefined), offloaded?.known);
   } catch (error) {
     job.cancel();
     throw error;
@@ -337,6 +340,7 @@ export async function measureCurvatureWith(run: DensityTraceRunner, objective: O
     const spectrum = spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, null, null);
     return finish(objective, w, recipe, rng, options, { ...spectrum, stop: 'cancelled' }, step);
   }
+  if (offloaded !== null) await offloaded.known;
   const report = finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, withMainProbe(plan.density, parts.density, l), parts.trace), step);
   return parts.elsewhere === true ? { ...report, threads: 2 } : report;
 }
@@ -358,7 +362,10 @@ function planParts(objective: Objective, w: Float64Array, rng: Rng, options: Mea
   if (density !== null && !(Number.isInteger(probes) && probes >= 1)) throw new RangeError(`probes must be a positive integer, got ${probes}`);
   // The main Lanczos run starts from a seeded random unit vector: it is one of the SLQ probes.
   const drawn = density === null || probes === 1 ? null : { ...density, probes: probes - 1 };
-  const task = densityTraceTask(w, options.rows, options.kind ?? 'hessian', rng, drawn, options.traceProbes ?? 32, fuses(objective, options));
+  // The step metric's own solve (a metric that scales the Hessian) goes with the task too.
+  const metric = options.metric;
+  const stepMetric = metric === undefined || metric.scaling === null ? null : stepMetricTask(rng, options, metric.scaling, metric.shift);
+  const task = densityTraceTask(w, options.rows, options.kind ?? 'hessian', rng, drawn, options.traceProbes ?? 32, fuses(objective, options), stepMetric);
   return { dense, task, density };
 }
 
@@ -390,22 +397,38 @@ function denseSpectrumFacts(objective: Objective, w: Float64Array, options: Meas
 }
 
 function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean): LanczosResult;
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause: () => Promise<void> | undefined): Promise<LanczosResult>;
-/** The two-ended Lanczos run of the readout (sliced with `pause` when given). */
-function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause?: () => Promise<void> | undefined): LanczosResult | Promise<LanczosResult> {
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause: () => Promise<void> | undefined, ready?: Promise<void>): Promise<LanczosResult>;
+/**
+ * The two-ended Lanczos run of the readout (sliced with `pause` when given). With `ready` (the
+ * step metric computed elsewhere) the top end is reported once it has settled, if the run has
+ * not ended by then.
+ */
+function lanczosPart(objective: Objective, w: Float64Array, recipe: Recipe, rng: Rng, options: MeasureOptions, step: () => StepSharpness, rule: boolean, pause?: () => Promise<void> | undefined, ready?: Promise<void>): LanczosResult | Promise<LanczosResult> {
   const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', fused: fuses(objective, options) });
   const onTopEnd = options.onTopEnd;
-  const onLargest =
-    onTopEnd === undefined
-      ? undefined
-      : (partial: LanczosResult): void => onTopEnd({ ...finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, options.kind ?? 'hessian', partial, null, null), step), partial: true });
+  let ended = false;
+  const tell = (partial: LanczosResult): void => {
+    if (onTopEnd !== undefined && !ended) onTopEnd({ ...finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, options.kind ?? 'hessian', partial, null, null), step), partial: true });
+  };
+  let isReady = ready === undefined;
+  void ready?.then(() => void (isReady = true));
+  const onLargest = onTopEnd === undefined ? undefined : (partial: LanczosResult): void => (isReady ? tell(partial) : void ready?.then(() => tell(partial)));
   const lanczosOptions: LanczosOptions = { k: options.k ?? 5, which: 'both', tol: options.tol, criterion: 'eigenvalue', rule, maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop, onLargest };
   const some = (l: LanczosResult): LanczosResult => {
     if (l.largest.length === 0) throw new Error(CANCELLED);
     return l;
   };
   if (pause === undefined) return some(lanczosExtremes(op.apply, objective.parameterCount, rng.fork('lanczos'), lanczosOptions));
-  return lanczosExtremesSliced(op.apply, objective.parameterCount, rng.fork('lanczos'), lanczosOptions, pause).then(some);
+  return lanczosExtremesSliced(op.apply, objective.parameterCount, rng.fork('lanczos'), lanczosOptions, pause).then(
+    (l) => {
+      ended = true;
+      return some(l);
+    },
+    (error: unknown) => {
+      ended = true;
+      throw error;
+    }
+  );
 }
 
 /**
@@ -427,12 +450,34 @@ function stepSharpnessOnce(objective: Objective, w: Float64Array, rng: Rng, opti
     if (metric === undefined || (metric.scaling === null && metric.shift === 0)) kept = undefined;
     else if (metric.scaling === null) kept = { shift: metric.shift, description: metric.description };
     else {
-      const op = curvatureOperator(objective, w, { rows: options.rows, kind: options.kind ?? 'hessian', scaling: metric.scaling, shift: metric.shift, fused: fuses(objective, options) });
-      const l = lanczosExtremes(op.apply, objective.parameterCount, rng.fork('step-metric'), { k: 1, tol: options.tol, criterion: 'eigenvalue', maxIterations: options.maxIterations, onProgress: options.onProgress, shouldStop: options.shouldStop });
-      kept = { value: l.largest[0].value, bound: l.largest[0].errorBound, description: metric.description };
+      const v = stepMetricPart(objective, w, options.rows, options.kind ?? 'hessian', fuses(objective, options), stepMetricTask(rng, options, metric.scaling, metric.shift), { onProgress: options.onProgress, shouldStop: options.shouldStop });
+      kept = v === null ? undefined : { ...v, description: metric.description };
     }
     return kept;
   };
+}
+
+/** The step metric's solve as a task: the same generator fork and options on either thread. */
+function stepMetricTask(rng: Rng, options: MeasureOptions, scaling: Float64Array, shift: number): StepMetricTask {
+  return { scaling, shift, tol: options.tol, maxIterations: options.maxIterations, rng: rng.fork('step-metric').state() };
+}
+
+/**
+ * The step metric's sharpness computed by the other thread (`plan.task.stepMetric`): `known`
+ * settles when it has arrived — early from a runner that sends it before the density, else with
+ * the result — and `step` then reads it. Read before that (a readout stopped first), the metric
+ * is left out of the stability bound, as when a run is stopped before it has a value.
+ */
+function offloadedStep(job: DensityTraceJob, description: string): { known: Promise<void>; step: () => StepSharpness } {
+  let value: StepMetricValue | null = null;
+  const arrived = job.stepMetric ?? job.result.then((r) => r.stepMetric ?? null);
+  const known = arrived.then(
+    (v) => {
+      value = v;
+    },
+    () => undefined
+  );
+  return { known, step: () => (value === null ? undefined : { ...value, description }) };
 }
 
 /** The step metric's sharpness (when the metric is not the plain Hessian) and the summary. */
