@@ -48,6 +48,27 @@ const mediumSpec = (): string =>
 const largeSpec = (): string =>
   classifierSpec('a large network whose curvature readout takes seconds', 8, 32, 256, 'relu', 256, (r, j) => Math.cos(0.11 * r + 0.7 * j + 0.003 * r * j), 0.05);
 
+/**
+ * Clicks Measure and records, in the page as they appear, every curvature readout the cell shows
+ * until the complete one: `partial: ` or `complete: ` and the head's text (with `panel`, the
+ * whole readout panel's).
+ */
+async function readoutsShown(cell: Locator, panel: boolean): Promise<string[]> {
+  await cell.evaluate((root, whole) => {
+    const seen: string[] = [];
+    (window as unknown as { swShown: string[] }).swShown = seen;
+    new MutationObserver(() => {
+      const head = root.querySelector('.sw-CurvatureHead') as HTMLElement | null;
+      if (head === null) return;
+      const text = `${head.dataset.partial === 'true' ? 'partial' : 'complete'}: ${(whole ? head.parentElement : head)?.textContent ?? ''}`;
+      if (seen[seen.length - 1] !== text) seen.push(text);
+    }).observe(root, { subtree: true, childList: true, characterData: true, attributes: true });
+  }, panel);
+  await cell.locator('.sw-Button-curvature').click();
+  await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
+  return cell.page().evaluate(() => (window as unknown as { swShown: string[] }).swShown);
+}
+
 /** The cells of the derived numbers' trace row: quantity, value, how. */
 async function traceRow(cell: Locator): Promise<string[]> {
   return cell.locator('.sw-DerivedTable tr', { hasText: 'trace tr(H)' }).locator('td').allInnerTexts();
@@ -66,20 +87,7 @@ describe('the curvature readout above the dense limit', () => {
     await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
     await cell.scrollIntoViewIfNeeded();
     await cell.locator('.sw-Tab[data-tab="curvature"]').click();
-    // Every head the cell shows, in order, recorded in the page as it appears.
-    await cell.evaluate(root => {
-      const seen: string[] = [];
-      (window as unknown as { swHeads: string[] }).swHeads = seen;
-      new MutationObserver(() => {
-        const head = root.querySelector('.sw-CurvatureHead') as HTMLElement | null;
-        if (head === null) return;
-        const text = `${head.dataset.partial === 'true' ? 'partial' : 'complete'}: ${head.textContent ?? ''}`;
-        if (seen[seen.length - 1] !== text) seen.push(text);
-      }).observe(root, { subtree: true, childList: true, characterData: true, attributes: true });
-    });
-    await cell.locator('.sw-Button-curvature').click();
-    await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
-    const heads = await page.evaluate(() => (window as unknown as { swHeads: string[] }).swHeads);
+    const heads = await readoutsShown(cell, false);
     expect(heads.length).toBeGreaterThanOrEqual(2);
     expect(heads[0]).toMatch(/^partial: At step 0, top end: λmax = [\d.]+ \(± [\d.e+-]+\) — Lanczos over 5508 parameters, \d+ Hessian-vector products so far\. Still measuring: the smallest eigenvalues, the spectral density and the trace\.$/);
     const last = heads[heads.length - 1];
@@ -135,19 +143,7 @@ describe('the curvature readout above the dense limit', () => {
     await cell.locator('.sw-Button-step:not([disabled])').waitFor({ timeout: 60_000 });
     await cell.scrollIntoViewIfNeeded();
     await cell.locator('.sw-Tab[data-tab="curvature"]').click();
-    await cell.evaluate(root => {
-      const seen: string[] = [];
-      (window as unknown as { swPanels: string[] }).swPanels = seen;
-      new MutationObserver(() => {
-        const head = root.querySelector('.sw-CurvatureHead') as HTMLElement | null;
-        if (head === null) return;
-        const text = `${head.dataset.partial === 'true' ? 'partial' : 'complete'}: ${head.parentElement?.textContent ?? ''}`;
-        if (seen[seen.length - 1] !== text) seen.push(text);
-      }).observe(root, { subtree: true, childList: true, characterData: true, attributes: true });
-    });
-    await cell.locator('.sw-Button-curvature').click();
-    await cell.locator('.sw-CurvatureHead:not([data-partial])').waitFor({ timeout: 120_000 });
-    const panels = await page.evaluate(() => (window as unknown as { swPanels: string[] }).swPanels);
+    const panels = await readoutsShown(cell, true);
     const partial = panels.find(t => t.startsWith('partial: '));
     const complete = panels[panels.length - 1];
     expect(partial).toBeDefined();
