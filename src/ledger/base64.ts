@@ -9,24 +9,38 @@ const ALPHABET = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789
 const INDEX = new Int16Array(128).fill(-1);
 for (let i = 0; i < ALPHABET.length; i++) INDEX[ALPHABET.charCodeAt(i)] = i;
 
-/** Encodes bytes as padded standard base64. */
+/** The alphabet's character codes, for writing the encoding as bytes. */
+const CODES = Uint8Array.from(ALPHABET, (c) => c.charCodeAt(0));
+const PAD = 61; // '='
+const ascii = new TextDecoder('utf-8');
+
+/**
+ * Encodes bytes as padded standard base64. The characters are written as ASCII bytes and
+ * decoded into a string once: building the string piece by piece made a ledger of a few MB
+ * spend most of its time collecting garbage.
+ */
 export function base64FromBytes(bytes: Uint8Array): string {
-  const parts: string[] = [];
-  let chunk = '';
-  for (let i = 0; i < bytes.length; i += 3) {
-    const b0 = bytes[i];
-    const b1 = i + 1 < bytes.length ? bytes[i + 1] : 0;
-    const b2 = i + 2 < bytes.length ? bytes[i + 2] : 0;
-    chunk += ALPHABET[b0 >> 2] + ALPHABET[((b0 & 3) << 4) | (b1 >> 4)];
-    chunk += i + 1 < bytes.length ? ALPHABET[((b1 & 15) << 2) | (b2 >> 6)] : '=';
-    chunk += i + 2 < bytes.length ? ALPHABET[b2 & 63] : '=';
-    if (chunk.length >= 8192) {
-      parts.push(chunk);
-      chunk = '';
-    }
+  const n = bytes.length;
+  const out = new Uint8Array(4 * Math.ceil(n / 3));
+  const whole = n - (n % 3);
+  let o = 0;
+  for (let i = 0; i < whole; i += 3) {
+    const t = (bytes[i] << 16) | (bytes[i + 1] << 8) | bytes[i + 2];
+    out[o] = CODES[t >> 18];
+    out[o + 1] = CODES[(t >> 12) & 63];
+    out[o + 2] = CODES[(t >> 6) & 63];
+    out[o + 3] = CODES[t & 63];
+    o += 4;
   }
-  parts.push(chunk);
-  return parts.join('');
+  if (whole < n) {
+    const b0 = bytes[whole];
+    const b1 = whole + 1 < n ? bytes[whole + 1] : 0;
+    out[o] = CODES[b0 >> 2];
+    out[o + 1] = CODES[((b0 & 3) << 4) | (b1 >> 4)];
+    out[o + 2] = whole + 1 < n ? CODES[(b1 & 15) << 2] : PAD;
+    out[o + 3] = PAD;
+  }
+  return ascii.decode(out);
 }
 
 /**
@@ -41,28 +55,45 @@ export function bytesFromBase64(text: unknown, field: string): Uint8Array {
   let pad = 0;
   if (n > 0 && text[n - 1] === '=') pad = text[n - 2] === '=' ? 2 : 1;
   const out = new Uint8Array((n / 4) * 3 - pad);
+  // Quads without padding in a tight loop (no allocation per quad); a quad with a bad character,
+  // and the padded last one, through `quad`, which names what is wrong.
+  const plain = pad === 0 ? n : n - 4;
   let o = 0;
-  for (let i = 0; i < n; i += 4) {
-    const q = [0, 0, 0, 0];
-    for (let j = 0; j < 4; j++) {
-      const pos = i + j;
-      const c = text.charCodeAt(pos);
-      if (pos >= n - pad) {
-        if (c !== 61) throw new LedgerError(field, `invalid base64 character '${text[pos]}' at position ${pos}`);
-        continue;
-      }
-      const v = c < 128 ? INDEX[c] : -1;
-      if (v < 0) throw new LedgerError(field, `invalid base64 character ${JSON.stringify(text[pos])} at position ${pos}`);
-      q[j] = v;
-    }
-    const triple = (q[0] << 18) | (q[1] << 12) | (q[2] << 6) | q[3];
+  for (let i = 0; i < plain; i += 4) {
+    const c0 = text.charCodeAt(i), c1 = text.charCodeAt(i + 1), c2 = text.charCodeAt(i + 2), c3 = text.charCodeAt(i + 3);
+    const v0 = c0 < 128 ? INDEX[c0] : -1, v1 = c1 < 128 ? INDEX[c1] : -1, v2 = c2 < 128 ? INDEX[c2] : -1, v3 = c3 < 128 ? INDEX[c3] : -1;
+    if ((v0 | v1 | v2 | v3) < 0) quad(text, i, n, pad, field);
+    const triple = (v0 << 18) | (v1 << 12) | (v2 << 6) | v3;
+    out[o] = triple >> 16;
+    out[o + 1] = (triple >> 8) & 255;
+    out[o + 2] = triple & 255;
+    o += 3;
+  }
+  if (plain < n) {
+    const triple = quad(text, plain, n, pad, field);
     if (o < out.length) out[o++] = (triple >> 16) & 255;
     if (o < out.length) out[o++] = (triple >> 8) & 255;
     if (o < out.length) out[o++] = triple & 255;
-    if (i + 4 === n && ((pad === 1 && (triple & 0xff) !== 0) || (pad === 2 && (triple & 0xffff) !== 0)))
-      throw new LedgerError(field, 'base64 has non-zero padding bits (the text was altered)');
+    if ((pad === 1 && (triple & 0xff) !== 0) || (pad === 2 && (triple & 0xffff) !== 0)) throw new LedgerError(field, 'base64 has non-zero padding bits (the text was altered)');
   }
   return out;
+}
+
+/** The 24 bits of the quad at `i`, or the error naming its first character that does not belong there. */
+function quad(text: string, i: number, n: number, pad: number, field: string): number {
+  let triple = 0;
+  for (let j = 0; j < 4; j++) {
+    const pos = i + j;
+    const c = text.charCodeAt(pos);
+    if (pos >= n - pad) {
+      if (c !== PAD) throw new LedgerError(field, `invalid base64 character '${text[pos]}' at position ${pos}`);
+      continue;
+    }
+    const v = c < 128 ? INDEX[c] : -1;
+    if (v < 0) throw new LedgerError(field, `invalid base64 character ${JSON.stringify(text[pos])} at position ${pos}`);
+    triple |= v << (18 - 6 * j);
+  }
+  return triple;
 }
 
 /** Encodes a Float64Array as base64 of its little-endian IEEE-754 bytes (NaN payloads and -0 kept). */
