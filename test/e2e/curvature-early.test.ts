@@ -7,7 +7,7 @@
  * two threads again (the helper thread that was ended is started afresh).
  * Screenshots go to test-output/ (curvature-early-*.png).
  */
-import type { Locator } from 'playwright-core';
+import type { Locator, Page } from 'playwright-core';
 import { appendAndRunCell, ensureBuilt, launchBrowser, openNotebook, ourErrors, screenshot, startApp, type IAppServer, type IBrowserSession } from './harness';
 
 jest.setTimeout(300_000);
@@ -69,6 +69,24 @@ async function readoutsShown(cell: Locator, panel: boolean): Promise<string[]> {
   return cell.page().evaluate(() => (window as unknown as { swShown: string[] }).swShown);
 }
 
+/**
+ * Appends a cell with `spec`, runs it, takes `steps` steps (one click each), and opens its
+ * Curvature tab; returns the cell.
+ */
+async function cellOnCurvature(page: Page, spec: string, steps = 0): Promise<Locator> {
+  await appendAndRunCell(page, spec);
+  const cell = page.locator('.sw-CellWidget').last();
+  await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
+  for (let s = 1; s <= steps; s++) {
+    await cell.locator('.sw-Button-step').click();
+    await cell.locator('.sw-Status', { hasText: new RegExp(`^step ${s} · `) }).waitFor({ state: 'attached', timeout: 60_000 });
+    await cell.locator('.sw-Button-step:not([disabled])').waitFor({ timeout: 60_000 });
+  }
+  await cell.scrollIntoViewIfNeeded();
+  await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+  return cell;
+}
+
 /** The cells of the derived numbers' trace row: quantity, value, how. */
 async function traceRow(cell: Locator): Promise<string[]> {
   return cell.locator('.sw-DerivedTable tr', { hasText: 'trace tr(H)' }).locator('td').allInnerTexts();
@@ -82,11 +100,7 @@ describe('the curvature readout above the dense limit', () => {
   it('shows the top end first, then the complete readout computed on two threads', async () => {
     const { page } = browser;
     await openNotebook(page, `${app.origin}/lab/tree/greenhouse-humidity-sensor.ipynb`);
-    await appendAndRunCell(page, mediumSpec());
-    const cell = page.locator('.sw-CellWidget').last();
-    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
-    await cell.scrollIntoViewIfNeeded();
-    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    const cell = await cellOnCurvature(page, mediumSpec());
     const heads = await readoutsShown(cell, false);
     expect(heads.length).toBeGreaterThanOrEqual(2);
     expect(heads[0]).toMatch(/^partial: At step 0, top end: λmax = [\d.]+ \(± [\d.e+-]+\) — Lanczos over 5508 parameters, \d+ Hessian-vector products so far\. Still measuring: the smallest eigenvalues, the spectral density and the trace\.$/);
@@ -108,11 +122,7 @@ describe('the curvature readout above the dense limit', () => {
 
   it('stops between Lanczos steps when Stop is clicked, discards the partial readout, and measures on two threads again afterwards', async () => {
     const { page } = browser;
-    await appendAndRunCell(page, largeSpec());
-    const cell = page.locator('.sw-CellWidget').last();
-    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
-    await cell.scrollIntoViewIfNeeded();
-    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    const cell = await cellOnCurvature(page, largeSpec());
     await cell.locator('.sw-Button-curvature').click();
     await cell.locator('.sw-CurvatureHead[data-partial="true"]').waitFor({ timeout: 60_000 });
     const stopAt = Date.now();
@@ -134,15 +144,8 @@ describe('the curvature readout above the dense limit', () => {
 
   it('measures an adaptive optimizer’s step metric on the helper thread: the top end and the complete readout both carry it', async () => {
     const { page } = browser;
-    await appendAndRunCell(page, mediumAdamSpec());
-    const cell = page.locator('.sw-CellWidget').last();
-    await cell.locator('.sw-Status', { hasText: /^step 0 · / }).waitFor({ state: 'attached', timeout: 120_000 });
     // Before the first update there is no preconditioner, so no step metric: take one step.
-    await cell.locator('.sw-Button-step').click();
-    await cell.locator('.sw-Status', { hasText: /^step 1 · / }).waitFor({ state: 'attached', timeout: 60_000 });
-    await cell.locator('.sw-Button-step:not([disabled])').waitFor({ timeout: 60_000 });
-    await cell.scrollIntoViewIfNeeded();
-    await cell.locator('.sw-Tab[data-tab="curvature"]').click();
+    const cell = await cellOnCurvature(page, mediumAdamSpec(), 1);
     const panels = await readoutsShown(cell, true);
     const partial = panels.find(t => t.startsWith('partial: '));
     const complete = panels[panels.length - 1];

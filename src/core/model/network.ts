@@ -470,9 +470,9 @@ export class Network implements Objective {
     return fused && this.kFused !== null ? this.kFused : this.k;
   }
 
-  /** R{a_l} and R{h_l} for all layers along direction v (needs a forward pass first). */
   /**
-   * R{a} and R{h} of every layer for direction `v` (after {@link zeroBlocks} of it). Below the
+   * R{a} and R{h} of every layer for direction `v` (needs a forward pass first, and
+   * {@link zeroBlocks} of `v`). Below the
    * first layer whose block of `v` is not zero both are zero (filled, not multiplied; `rZero`
    * says so); a layer whose block is zero takes only the term of the layer below.
    */
