@@ -59,6 +59,17 @@ export interface Objective {
    */
   gnvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused?: boolean): void;
 
+  /**
+   * Curvature products with several directions in one pass: `outs[j]` = M(w)·`vs[j]` for M the
+   * Hessian or the Gauss-Newton matrix, each the same numbers as `hvp` / `gnvp` give it alone
+   * (the same bits, up to the sign of an exact zero where the directions' zero blocks differ).
+   * The directions' products share each matrix product of the weights (absent: one at a time).
+   */
+  curvatureBlock?(kind: 'hessian' | 'gauss-newton', w: Float64Array, vs: readonly Float64Array[], outs: readonly Float64Array[], rows?: Rows, fused?: boolean): void;
+
+  /** How many directions {@link curvatureBlock} takes in one pass (absent: 1). */
+  readonly blockSize?: number;
+
   /** True when `fused` products really fuse (absent: they never do). */
   readonly fusedProducts?: boolean;
 

@@ -77,5 +77,61 @@ export function run(): BenchResult[] {
       out.push({ name: `dense Hessian spectrum ${label}`, ms: td.ms, reps: 1, extra: { Hv: p, asymmetry: asym.toExponential(1), ...cpu(td) } });
     }
   }
+  out.push(...blockPasses());
+  return out;
+}
+
+/** Shapes for the block passes: narrow layers (on by default) and MLP b's (off by default). */
+const BLOCK_SHAPES: MlpShape[] = [
+  { widths: [4, 16, 16, 1], act: 'tanh', loss: 'mse', batch: 64 },
+  { widths: [8, 32, 32, 2], act: 'tanh', loss: 'cross-entropy', batch: 256 },
+  { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256 },
+];
+
+/**
+ * Block passes (`Network.curvatureBlock`) against one product at a time, on the same weights:
+ * 64 Hessian products with seeded normal directions, and 64 neighbouring columns of a dense
+ * Hessian (unit vectors), alternating the two networks round by round; median per product.
+ * A shape whose default is no blocks is timed with blocks of 8, to show why.
+ */
+export function blockPasses(): BenchResult[] {
+  const out: BenchResult[] = [];
+  const count = 64;
+  for (const c of BLOCK_SHAPES) {
+    const single = buildMlp(c, 11, true, 1);
+    const byDefault = buildMlp(c, 11).net;
+    const k = byDefault.blockSize > 1 ? byDefault.blockSize : 8;
+    const blocked = buildMlp(c, 11, true, k).net;
+    const { w } = single;
+    const P = single.net.parameterCount;
+    const rng = Rng.fromSeed(4);
+    const kinds: Array<[string, Float64Array[]]> = [
+      ['normal directions', Array.from({ length: count }, () => rng.fillNormal(new Float64Array(P)))],
+      ['dense-Hessian columns', Array.from({ length: count }, (_, j) => Float64Array.from({ length: P }, (_, i) => (i === j + Math.floor(P / 3) ? 1 : 0)))],
+    ];
+    for (const [what, vs] of kinds) {
+      const outs = vs.map(() => new Float64Array(P));
+      const times: [number[], number[]] = [[], []];
+      const nets = [single.net, blocked];
+      for (const net of nets) net.curvatureBlock('hessian', w, vs, outs);
+      for (let round = 0; round < 15; round++) {
+        nets.forEach((net, i) => {
+          const t = performance.now();
+          net.curvatureBlock('hessian', w, vs, outs);
+          times[i].push((performance.now() - t) / count);
+        });
+      }
+      const med = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
+      const [one, many] = times.map(med);
+      const label = `${c.widths.join('-')} ${c.act}, batch ${c.batch} (P = ${P})`;
+      out.push({ name: `Hessian product, ${what}, one at a time: ${label}`, ms: one, reps: 15 });
+      out.push({
+        name: `Hessian product, ${what}, in block passes of ${k}${byDefault.blockSize > 1 ? '' : ' (not the default)'}: ${label}`,
+        ms: many,
+        reps: 15,
+        extra: { 'one at a time ÷ block': (one / many).toFixed(2) },
+      });
+    }
+  }
   return out;
 }

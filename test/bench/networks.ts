@@ -25,8 +25,8 @@ export function mlpSetup(c: MlpShape, seed: number): { model: NetworkModel; data
   return { model, data: { rows: c.batch, inputs, targets: ce ? 1 : k, x, y }, w: initNetwork(model, rng) };
 }
 
-/** Builds the network over seeded normal inputs and targets, with lecun-normal weights. */
-export function buildMlp(c: MlpShape, seed: number, simd = true): { net: Network; w: Float64Array; x: Float64Array; y: Float64Array } {
+/** Builds the network over seeded normal inputs and targets, with lecun-normal weights (`blockSize` as in `NetworkOptions`). */
+export function buildMlp(c: MlpShape, seed: number, simd = true, blockSize?: number): { net: Network; w: Float64Array; x: Float64Array; y: Float64Array } {
   const { model, data, w } = mlpSetup(c, seed);
-  return { net: new Network(model, data, c.loss, 0, { simd }), w, x: data.x, y: data.y };
+  return { net: new Network(model, data, c.loss, 0, { simd, blockSize }), w, x: data.x, y: data.y };
 }

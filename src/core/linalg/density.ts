@@ -12,7 +12,7 @@
 import { erf, exp } from '../elementary';
 import type { Rng } from '../rng';
 import { dot } from '../objective';
-import type { IterationControl, LinearOperator, StopReason } from './operator';
+import type { BlockProducts, IterationControl, LinearOperator, StopReason } from './operator';
 import { reportProgress, stopRequested } from './operator';
 import { lanczosStep, startKrylov } from './lanczos';
 import { gaussRule, type QuadratureRule } from './tridiagonal';
@@ -207,6 +207,8 @@ export function densityMassBelow(d: SpectralDensity, t: number): number {
 export interface TraceOptions extends IterationControl {
   /** Number of Rademacher probes. Default 32. */
   probes?: number;
+  /** The operator's block products: probes go `size` at a time through one call (same samples). */
+  block?: BlockProducts;
 }
 
 /** A stochastic trace estimate. */
@@ -231,19 +233,24 @@ export interface TraceEstimate {
 export function hutchinsonTrace(op: LinearOperator, n: number, rng: Rng, options: TraceOptions = {}): TraceEstimate {
   const probes = options.probes ?? 32;
   if (!Number.isInteger(probes) || probes < 1) throw new RangeError(`probes must be a positive integer, got ${probes}`);
-  const z = new Float64Array(n);
-  const az = new Float64Array(n);
+  const block = options.block !== undefined && options.block.size > 1 ? options.block : null;
+  const size = block === null ? 1 : Math.min(block.size, probes);
+  const zs = Array.from({ length: size }, () => new Float64Array(n));
+  const azs = Array.from({ length: size }, () => new Float64Array(n));
   const samples: number[] = [];
   let stop: StopReason = 'converged';
-  for (let l = 0; l < probes; l++) {
+  for (let l = 0; l < probes; ) {
     if (stopRequested(options)) {
       stop = 'cancelled';
       break;
     }
-    rng.rademacher(z);
-    op(z, az);
-    samples.push(dot(z, az));
-    if (reportProgress(options, { phase: 'trace', done: l + 1, total: probes, products: l + 1 }) && l + 1 < probes) {
+    const k = Math.min(size, probes - l);
+    for (let j = 0; j < k; j++) rng.rademacher(zs[j]);
+    if (block === null || k === 1) op(zs[0], azs[0]);
+    else block.apply(zs.slice(0, k), azs.slice(0, k));
+    for (let j = 0; j < k; j++) samples.push(dot(zs[j], azs[j]));
+    l += k;
+    if (reportProgress(options, { phase: 'trace', done: l, total: probes, products: l }) && l < probes) {
       stop = 'cancelled';
       break;
     }

@@ -6,6 +6,15 @@
 /** out ← A·v for a symmetric operator A of order n (v is never modified; out is caller-owned). */
 export type LinearOperator = (v: Float64Array, out: Float64Array) => void;
 
+/** outs[j] ← A·vs[j] for each j: the products of a {@link LinearOperator}, several in one call. */
+export type BlockOperator = (vs: readonly Float64Array[], outs: readonly Float64Array[]) => void;
+
+/** An operator's block products and how many vectors one call should carry. */
+export interface BlockProducts {
+  readonly apply: BlockOperator;
+  readonly size: number;
+}
+
 /** One progress report, sent after every operator product round (one Lanczos step, one probe). */
 export interface Progress {
   /** What is running: `lanczos`, `density`, `trace`, `dense-hessian`, `layers`, `trajectory`, … */

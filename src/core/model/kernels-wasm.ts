@@ -49,26 +49,29 @@ const align16 = (bytes: number): number => (bytes + 15) & ~15;
 
 /**
  * SIMD kernels and the arrays, in one fresh instance's memory, or null when the engine lacks
- * WebAssembly SIMD or the memory cannot grow to hold them.
+ * WebAssembly SIMD or the memory cannot grow to hold them. `block` > 1 sizes the scratch for a
+ * network's block passes, whose products are up to `block` times as wide on one side.
  */
-export function wasmKernels(lengths: readonly number[], widest: number): KernelSpace | null {
+export function wasmKernels(lengths: readonly number[], widest: number, block = 1): KernelSpace | null {
   const ex = wasmInstance('network') as unknown as NetworkExports | null;
   if (ex === null) return null;
+  // A block pass multiplies matrices `block` times as wide on one side (never on both).
+  const wide = block * widest;
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
-  const slack = 8 * (2 * widest + 16);
+  const slack = 8 * (2 * wide + 16);
   // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns
   // of W for `backprop` — or, for the sparse kernels (which never run between a packing and its
   // use by the others), sixteen-column panels of the other factor.
-  const wide16 = (widest + 15) & ~15;
+  const wide16 = (wide + 15) & ~15;
   const pack = 256;
-  const packLength = Math.max((widest + 1) * (widest + 6), 256 * (2 * widest + 9), 6 * widest, Math.max(widest, SPARSE_ROWS) * wide16);
+  const packLength = Math.max((widest + 1) * (wide + 6), 256 * (2 * wide + 9), 6 * wide, Math.max(widest, SPARSE_ROWS) * wide16);
   const sPack = pack;
   // The sparse kernels' coefficient lists (values, panel offsets, lengths), a staging row and a row of zeros.
-  const listEntries = SPARSE_ROWS * widest;
+  const listEntries = SPARSE_ROWS * wide;
   const sVals = align16(pack + 8 * packLength);
   const sOffs = align16(sVals + 8 * listEntries);
   const sCounts = align16(sOffs + 4 * listEntries);
-  const stage = align16(sCounts + 4 * Math.max(widest, SPARSE_ROWS));
+  const stage = align16(sCounts + 4 * Math.max(wide, SPARSE_ROWS));
   const zeroRow = stage + 128;
   let end = align16(zeroRow + 128 + slack);
   const offsets = lengths.map((n) => {

@@ -92,6 +92,63 @@ export interface NetworkOptions {
    * only the sign of an exact zero can differ; false runs every product (tests compare the two).
    */
   skipZeroBlocks?: boolean;
+  /**
+   * The most directions {@link Network.curvatureBlock} multiplies in one pass (default
+   * {@link defaultBlockSize}; 1 turns block passes off). Its workspaces are allocated with the
+   * network's, since the kernels' memory grows only once.
+   */
+  blockSize?: number;
+}
+
+/** Workspace the block passes of one network may take by default (bytes). */
+export const BLOCK_BYTES = 8 * 1024 * 1024;
+/**
+ * Bytes one layer's block buffer may span by default: a block pass gains only while the
+ * buffers it streams through stay in a core's cache (512 KB of L2 per core on the machine of
+ * test/bench/BENCHMARKS.md).
+ */
+export const BLOCK_CACHE_BYTES = 256 * 1024;
+/**
+ * The widest layer for which block passes are on by default. Measured there (test/bench,
+ * `curvature.bench.ts`): 1.1–1.5× faster products with layers of 8–32 units, where one
+ * direction's matrix products are too narrow for the kernels' tiles; none from 48 units up
+ * (MLP b and c: 0.9–1.0×, the rearranging costs what the wider products save).
+ */
+export const BLOCK_WIDEST = 32;
+/** The most directions of one block pass. */
+export const MAX_BLOCK = 16;
+
+/**
+ * Directions per block pass for a network over `rows` rows with these layers: 1 (no block
+ * passes) when a layer is wider than {@link BLOCK_WIDEST}, else as many as keep one layer's
+ * buffer within {@link BLOCK_CACHE_BYTES} and all of them within {@link BLOCK_BYTES}, at most
+ * {@link MAX_BLOCK}.
+ */
+export function defaultBlockSize(rows: number, plan: readonly LayerShape[]): number {
+  const widest = Math.max(...plan.map((p) => p.units));
+  if (widest > BLOCK_WIDEST) return 1;
+  const k = Math.min(MAX_BLOCK, Math.floor(BLOCK_CACHE_BYTES / (8 * rows * widest)), Math.floor(BLOCK_BYTES / (8 * blockDoubles(rows, plan))));
+  return Math.max(1, k);
+}
+
+/** Block-pass buffers per layer, each `maxRows × block × units`, row r holding direction j's units at (r·block + j)·units. */
+interface BlockWork {
+  ra: Float64Array;
+  rh: Float64Array;
+  rda: Float64Array;
+  rdh: Float64Array;
+  /** f′, f″ and δh of the kept pass, each row repeated once per direction. */
+  d1: Float64Array;
+  d2: Float64Array;
+  dh: Float64Array;
+}
+
+const BLOCK_BUFFERS = ['ra', 'rh', 'rda', 'rdh', 'd1', 'd2', 'dh'] as const;
+
+/** Doubles a block pass needs per direction: the layers' buffers and four stacked copies of the largest layer block. */
+function blockDoubles(rows: number, plan: readonly LayerShape[]): number {
+  const widestBlock = Math.max(...plan.map((p) => p.units * (p.fanIn + 1)));
+  return BLOCK_BUFFERS.length * rows * plan.reduce((s, p) => s + p.units, 0) + 4 * widestBlock;
 }
 
 /** A dense feed-forward network with a loss over an in-memory data set. */
@@ -132,6 +189,22 @@ export class Network implements Objective {
   private readonly keptW: Float64Array;
   private keptRows: Int32Array | null = null;
   private keptAll = false;
+  /** Directions per block pass (1: none). */
+  readonly blockSize: number;
+  /** Per layer, the block passes' buffers (empty when `blockSize` is 1). */
+  private readonly blockWork: BlockWork[];
+  /** A layer block of k directions stacked as one (k·units)×fanIn matrix and k·units biases. */
+  private readonly stacked: Float64Array;
+  /** A layer's weight block of k directions side by side: row o holds row o of each, units×(k·fanIn). */
+  private readonly sideBySide: Float64Array;
+  private readonly gStacked: Float64Array;
+  private readonly gSideBySide: Float64Array;
+  /** One direction's R{ŷ} and H_out·R{ŷ}, gathered for the loss. */
+  private readonly outU: Float64Array;
+  private readonly outR: Float64Array;
+  /** Counts forward passes, so the block buffers know whose f′, f″ and δh they repeat. */
+  private passes = 0;
+  private repeated = { pass: -1, k: 0, second: false };
 
   /**
    * @param model network shape and activations (initial weights are not used here)
@@ -163,14 +236,24 @@ export class Network implements Objective {
     // One allocation for every array the kernels touch: the data, a batch, P-vectors, workspaces.
     const lengths = [n * this.inputs, n * this.inputs, P, P, P, ...this.plan.flatMap((p) => LAYER_BUFFERS.map(() => n * p.units))];
     const widest = Math.max(this.inputs, ...this.plan.map((p) => p.units));
-    const space = matrixKernels(lengths, widest, options.simd !== false);
+    const asked = options.blockSize;
+    if (asked !== undefined && !(Number.isInteger(asked) && asked >= 1 && asked <= MAX_BLOCK)) {
+      throw new RangeError(`blockSize must be an integer from 1 to ${MAX_BLOCK}, got ${asked}`);
+    }
+    const kb = asked ?? defaultBlockSize(n, this.plan);
+    this.blockSize = kb;
+    const widestBlock = Math.max(...this.plan.map((p) => p.units * (p.fanIn + 1)));
+    if (kb > 1) lengths.push(...this.plan.flatMap((p) => BLOCK_BUFFERS.map(() => n * kb * p.units)), ...[0, 1, 2, 3].map(() => kb * widestBlock));
+    const space = matrixKernels(lengths, widest, options.simd !== false, kb);
     this.k = space.kernels;
     this.kFused = space.fused;
     this.skipZero = options.skipZeroBlocks !== false;
     this.vZero = this.plan.map(() => false);
     this.rZero = this.plan.map(() => false);
     this.kernelKind = space.kernels.kind;
-    const [x, xBatch, wk, vk, gk, ...layerArrays] = space.arrays;
+    const [x, xBatch, wk, vk, gk, ...rest] = space.arrays;
+    const layerArrays = rest.slice(0, this.plan.length * LAYER_BUFFERS.length);
+    const blockArrays = rest.slice(layerArrays.length);
     x.set(data.x.subarray(0, n * this.inputs));
     this.x = x;
     this.xBatch = xBatch;
@@ -182,6 +265,16 @@ export class Network implements Objective {
       const [a, h, d1, d2, da, dh, ra, rh, rda, rdh] = own;
       return { a, h, d1, d2, da, dh, ra, rh, rda, rdh };
     });
+    this.blockWork = kb === 1 ? [] : this.plan.map((_, l) => {
+      const own = blockArrays.slice(l * BLOCK_BUFFERS.length, (l + 1) * BLOCK_BUFFERS.length);
+      const [ra, rh, rda, rdh, d1, d2, dh] = own;
+      return { ra, rh, rda, rdh, d1, d2, dh };
+    });
+    const stackArrays = blockArrays.slice(this.plan.length * BLOCK_BUFFERS.length);
+    const none = new Float64Array(0);
+    [this.stacked, this.sideBySide, this.gStacked, this.gSideBySide] = kb === 1 ? [none, none, none, none] : stackArrays;
+    this.outU = new Float64Array(kb === 1 ? 0 : n * this.outputs);
+    this.outR = new Float64Array(kb === 1 ? 0 : n * this.outputs);
     this.y = data.y;
     this.yBatch = new Float64Array(n * this.yWidth);
     this.keptW = new Float64Array(P);
@@ -222,21 +315,8 @@ export class Network implements Objective {
    */
   hvp(w: Float64Array, v: Float64Array, out: Float64Array, rows?: Rows, fused = false): void {
     const L = this.plan.length;
-    const keep = this.kept === 'hessian' && this.sameInputs(w, rows);
-    const n = keep ? this.keptCount(rows) : this.select(rows);
     const wk = this.weights(w);
-    if (!keep) {
-      this.forward(wk, n, true);
-      const top = this.work[L - 1];
-      this.loss.gradient(top.h, this.yin, n, this.outputs, top.dh);
-      for (let l = L - 1; l >= 0; l--) {
-        const p = this.plan[l];
-        const { dh, d1, da } = this.work[l];
-        this.k.hadamard(dh, d1, n * p.units, da);
-        if (l > 0) this.k.backprop(wk, p, da, n, this.work[l - 1].dh, false);
-      }
-      this.keep('hessian', w, rows);
-    }
+    const n = this.hessianPass(w, wk, rows);
     const vk = this.direction(v);
     const k = this.rKernels(fused);
     const vz = this.zeroBlocks(vk);
@@ -261,6 +341,29 @@ export class Network implements Objective {
     }
     if (g !== out) out.set(g);
     this.addPenaltyGradient(w, v, out);
+  }
+
+  /**
+   * Curvature products with several directions in one pass (see {@link Objective.curvatureBlock}):
+   * up to {@link blockSize} at a time, the directions' R-passes side by side, so that each product
+   * with the weights is one matrix product over `block × rows` rows, and each product with the
+   * directions' own blocks one product `block` times as wide. Every output's sum adds the same
+   * terms in the same order as in {@link hvp} / {@link gnvp}, so the bits are theirs (with zero
+   * blocks skipped only where every direction's block is zero: an exact zero's sign may differ).
+   */
+  curvatureBlock(kind: 'hessian' | 'gauss-newton', w: Float64Array, vs: readonly Float64Array[], outs: readonly Float64Array[], rows?: Rows, fused = false): void {
+    if (vs.length !== outs.length) throw new RangeError(`a block of ${vs.length} directions needs as many outputs, got ${outs.length}`);
+    const P = this.parameterCount;
+    vs.forEach((v, j) => {
+      if (v.length !== P || outs[j].length !== P) throw new RangeError(`direction ${j} of the block and its output need ${P} entries, got ${v.length} and ${outs[j].length}`);
+    });
+    for (let at = 0; at < vs.length; at += this.blockSize) {
+      const k = Math.min(this.blockSize, vs.length - at);
+      if (k === 1) {
+        if (kind === 'hessian') this.hvp(w, vs[at], outs[at], rows, fused);
+        else this.gnvp(w, vs[at], outs[at], rows, fused);
+      } else this.blockPass(kind, w, vs.slice(at, at + k), outs.slice(at, at + k), rows, fused);
+    }
   }
 
   /** G·v; `fused` as for {@link hvp}. */
@@ -380,6 +483,181 @@ export class Network implements Objective {
     return this.work[this.plan.length - 1].h.slice(0, n * this.outputs);
   }
 
+  /**
+   * Runs the forward pass with f″ and the first-order backward (δh, δa) at `w` (`wk` its copy for
+   * the kernels) on `rows`, unless the workspaces already hold them; returns the row count.
+   */
+  private hessianPass(w: Float64Array, wk: Float64Array, rows: Rows): number {
+    if (this.kept === 'hessian' && this.sameInputs(w, rows)) return this.keptCount(rows);
+    const L = this.plan.length;
+    const n = this.select(rows);
+    this.forward(wk, n, true);
+    const top = this.work[L - 1];
+    this.loss.gradient(top.h, this.yin, n, this.outputs, top.dh);
+    for (let l = L - 1; l >= 0; l--) {
+      const p = this.plan[l];
+      const { dh, d1, da } = this.work[l];
+      this.k.hadamard(dh, d1, n * p.units, da);
+      if (l > 0) this.k.backprop(wk, p, da, n, this.work[l - 1].dh, false);
+    }
+    this.keep('hessian', w, rows);
+    return n;
+  }
+
+  /** One block pass of 2..blockSize directions (see {@link curvatureBlock}). */
+  private blockPass(kind: 'hessian' | 'gauss-newton', w: Float64Array, vs: readonly Float64Array[], outs: readonly Float64Array[], rows: Rows, fused: boolean): void {
+    const L = this.plan.length;
+    const k = vs.length;
+    const hessian = kind === 'hessian';
+    const wk = this.weights(w);
+    let n: number;
+    if (hessian) n = this.hessianPass(w, wk, rows);
+    else if (this.kept !== 'none' && this.sameInputs(w, rows)) n = this.keptCount(rows);
+    else {
+      n = this.select(rows);
+      this.forward(wk, n, false);
+      this.keep('forward', w, rows);
+    }
+    this.repeatRows(n, k, hessian);
+    const kern = this.rKernels(fused);
+    for (let l = 0; l < L; l++) {
+      const p = this.plan[l];
+      let zero = this.skipZero;
+      for (let j = 0; zero && j < k; j++) zero = this.blockIsZero(vs[j], p);
+      this.vZero[l] = zero;
+    }
+    // R-forward, as in rForward with every direction's rows side by side.
+    let below = false;
+    for (let l = 0; l < L; l++) {
+      const p = this.plan[l];
+      const bw = this.blockWork[l];
+      const m = n * k * p.units;
+      const own = !this.vZero[l];
+      this.rZero[l] = !own && !below;
+      if (this.rZero[l]) {
+        bw.ra.fill(0, 0, m);
+        bw.rh.fill(0, 0, m);
+        continue;
+      }
+      if (own) kern.dense(this.stacked, this.stack(vs, p), l === 0 ? this.xin : this.work[l - 1].h, n, bw.ra, true, false);
+      if (below) kern.dense(wk, p, this.blockWork[l - 1].rh, n * k, bw.ra, false, own);
+      kern.hadamard(bw.d1, bw.ra, m, bw.rh);
+      below = true;
+    }
+    // H_out per direction, on its rows gathered into one n × outputs matrix.
+    const C = this.outputs;
+    const top = this.blockWork[L - 1];
+    for (let j = 0; j < k; j++) {
+      for (let r = 0; r < n; r++) for (let c = 0; c < C; c++) this.outU[r * C + c] = top.rh[(r * k + j) * C + c];
+      this.loss.outputHvp(this.work[L - 1].h, this.yin, n, C, this.outU, this.outR);
+      for (let r = 0; r < n; r++) for (let c = 0; c < C; c++) top.rdh[(r * k + j) * C + c] = this.outR[r * C + c];
+    }
+    for (let l = L - 1; l >= 0; l--) {
+      const p = this.plan[l];
+      const bw = this.blockWork[l];
+      const m = n * k * p.units;
+      const inp = l === 0 ? this.xin : this.work[l - 1].h;
+      // The block's R{δa} (Hessian) or δa of the Gauss-Newton pass, whose δh is in rdh.
+      let d = bw.rda;
+      if (hessian) kern.rDelta(bw.rdh, bw.d1, bw.dh, bw.d2, bw.ra, m, d);
+      else if (p.act.identity) d = bw.rdh;
+      else kern.hadamard(bw.rdh, bw.d1, m, d);
+      const size = p.units * p.fanIn;
+      const shape = this.stackedShape(p, k);
+      this.gStacked.fill(0, 0, k * (size + p.units));
+      kern.outer(this.gStacked, shape, d, inp, n, true);
+      let side = false;
+      if (l > 0) {
+        const lower = this.blockWork[l - 1];
+        if (hessian) {
+          const da = this.work[l].da;
+          const wide: LayerShape = { fanIn: k * p.fanIn, units: p.units, wOff: 0, bOff: 0 };
+          if (!this.rZero[l - 1]) {
+            this.sideBySideOf(this.gStacked, p, k, this.gSideBySide);
+            kern.outer(this.gSideBySide, wide, da, lower.rh, n, false);
+            side = true;
+          }
+          if (!this.vZero[l]) {
+            for (let j = 0; j < k; j++) this.stacked.set(vs[j].subarray(p.wOff, p.wOff + size), j * size);
+            this.sideBySideOf(this.stacked, p, k, this.sideBySide);
+            kern.backprop(this.sideBySide, wide, da, n, lower.rdh, false);
+          }
+          kern.backprop(wk, p, d, n * k, lower.rdh, !this.vZero[l]);
+        } else kern.backprop(wk, p, d, n * k, lower.rdh, false);
+      }
+      for (let j = 0; j < k; j++) {
+        const out = outs[j];
+        if (side) {
+          const g = this.gSideBySide;
+          for (let o = 0; o < p.units; o++) {
+            const from = (o * k + j) * p.fanIn;
+            const to = p.wOff + o * p.fanIn;
+            for (let i = 0; i < p.fanIn; i++) out[to + i] = g[from + i];
+          }
+        } else out.set(this.gStacked.subarray(j * size, (j + 1) * size), p.wOff);
+        out.set(this.gStacked.subarray(k * size + j * p.units, k * size + (j + 1) * p.units), p.bOff);
+      }
+    }
+    for (let j = 0; j < k; j++) this.addPenaltyGradient(w, vs[j], outs[j]);
+  }
+
+  /** True when the block (weights and bias) of layer `p` of `v` is all zero. */
+  private blockIsZero(v: Float64Array, p: LayerPlan): boolean {
+    for (let i = p.wOff, end = p.wOff + p.units * p.fanIn; i < end; i++) if (v[i] !== 0) return false;
+    for (let i = p.bOff, end = p.bOff + p.units; i < end; i++) if (v[i] !== 0) return false;
+    return true;
+  }
+
+  /** The shape of k directions' blocks of layer `p` stacked: (k·units)×fanIn weights, then k·units biases. */
+  private stackedShape(p: LayerShape, k: number): LayerShape {
+    return { fanIn: p.fanIn, units: k * p.units, wOff: 0, bOff: k * p.units * p.fanIn };
+  }
+
+  /** Writes the k directions' blocks of layer `p` into {@link stacked}; returns their shape. */
+  private stack(vs: readonly Float64Array[], p: LayerShape): LayerShape {
+    const k = vs.length;
+    const size = p.units * p.fanIn;
+    for (let j = 0; j < k; j++) {
+      this.stacked.set(vs[j].subarray(p.wOff, p.wOff + size), j * size);
+      this.stacked.set(vs[j].subarray(p.bOff, p.bOff + p.units), k * size + j * p.units);
+    }
+    return this.stackedShape(p, k);
+  }
+
+  /** Rearranges k stacked units×fanIn blocks (direction-major) into `dst`, row o holding row o of each. */
+  private sideBySideOf(src: Float64Array, p: LayerShape, k: number, dst: Float64Array): void {
+    const { units, fanIn } = p;
+    for (let j = 0; j < k; j++) {
+      for (let o = 0; o < units; o++) {
+        const from = (j * units + o) * fanIn;
+        const to = (o * k + j) * fanIn;
+        for (let i = 0; i < fanIn; i++) dst[to + i] = src[from + i];
+      }
+    }
+  }
+
+  /**
+   * Repeats each row of the kept pass's f′ (and, for the Hessian, f″ and δh) once per direction
+   * into the block buffers, unless they already hold this pass for `k` directions.
+   */
+  private repeatRows(n: number, k: number, second: boolean): void {
+    const done = this.repeated;
+    if (done.pass === this.passes && done.k === k && (done.second || !second)) return;
+    for (let l = 0; l < this.plan.length; l++) {
+      const u = this.plan[l].units;
+      const wl = this.work[l];
+      const bw = this.blockWork[l];
+      const pairs: [Float64Array, Float64Array][] = second ? [[wl.d1, bw.d1], [wl.d2, bw.d2], [wl.dh, bw.dh]] : [[wl.d1, bw.d1]];
+      for (const [src, dst] of pairs) {
+        for (let r = 0; r < n; r++) {
+          const row = src.subarray(r * u, (r + 1) * u);
+          for (let j = 0; j < k; j++) dst.set(row, (r * k + j) * u);
+        }
+      }
+    }
+    this.repeated = { pass: this.passes, k, second };
+  }
+
   /** `w` where the kernels can read it: a copy in their memory for the SIMD kernels. */
   private weights(w: Float64Array): Float64Array {
     if (this.kernelKind === 'scalar') return w;
@@ -452,6 +730,7 @@ export class Network implements Objective {
 
   private forward(w: Float64Array, n: number, withSecond: boolean): void {
     this.kept = 'none';
+    this.passes++;
     for (let l = 0; l < this.plan.length; l++) {
       const p = this.plan[l];
       const wk = this.work[l];

@@ -58,23 +58,30 @@ export function denseHessian(
   }
   const op = curvatureOperator(objective, w, { rows, kind, scaling: options.scaling, shift: options.shift });
   const m = new Float64Array(n * n);
-  const e = new Float64Array(n);
-  const col = new Float64Array(n);
+  // Neighbouring columns go through one block pass: their unit vectors mostly share zero layer blocks.
+  const size = Math.min(op.blockSize, n);
+  const es = Array.from({ length: size }, () => new Float64Array(n));
+  const cols = Array.from({ length: size }, () => new Float64Array(n));
   let stop: StopReason = 'converged';
-  for (let j = 0; j < n; j++) {
+  for (let j = 0; j < n; j += size) {
     if (stopRequested(options)) {
       stop = 'cancelled';
       break;
     }
-    e[j] = 1;
-    op.apply(e, col);
-    e[j] = 0;
-    for (let i = 0; i < n; i++) {
-      if (!Number.isFinite(col[i])) throw new Error(`the ${kind} product of column ${j} is not finite (entry ${i} is ${col[i]}); the weights may have diverged`);
+    const k = Math.min(size, n - j);
+    for (let c = 0; c < k; c++) es[c][j + c] = 1;
+    if (k === 1) op.apply(es[0], cols[0]);
+    else op.applyBlock(es.slice(0, k), cols.slice(0, k));
+    for (let c = 0; c < k; c++) {
+      es[c][j + c] = 0;
+      const col = cols[c];
+      for (let i = 0; i < n; i++) {
+        if (!Number.isFinite(col[i])) throw new Error(`the ${kind} product of column ${j + c} is not finite (entry ${i} is ${col[i]}); the weights may have diverged`);
+      }
+      // Column j of M stored as row j; symmetrization below makes the orientation irrelevant.
+      m.set(col, (j + c) * n);
     }
-    // Column j of M stored as row j; symmetrization below makes the orientation irrelevant.
-    m.set(col, j * n);
-    if (reportProgress(options, { phase: 'dense-hessian', done: j + 1, total: n, products: j + 1 }) && j + 1 < n) {
+    if (reportProgress(options, { phase: 'dense-hessian', done: j + k, total: n, products: j + k }) && j + k < n) {
       stop = 'cancelled';
       break;
     }

@@ -9,7 +9,7 @@
  * diagonal preconditioner P) and s a shift (L2 weight decay added to the gradient).
  */
 import type { Objective, Rows } from '../../objective';
-import type { LinearOperator } from '../../linalg/operator';
+import type { BlockOperator, LinearOperator } from '../../linalg/operator';
 
 /** Which second-order matrix: the exact Hessian, or the Gauss-Newton matrix Jᵀ H_out J. */
 export type CurvatureKind = 'hessian' | 'gauss-newton';
@@ -31,6 +31,10 @@ export interface CurvatureOperatorOptions {
 /** A {@link LinearOperator} that also counts its products. */
 export interface CountingOperator {
   readonly apply: LinearOperator;
+  /** The same products for several vectors, in block passes where the objective has them (`Objective.curvatureBlock`). */
+  readonly applyBlock: BlockOperator;
+  /** Vectors per block pass (1: the objective multiplies one at a time). */
+  readonly blockSize: number;
   /** Products computed so far. */
   readonly count: () => number;
 }
@@ -58,17 +62,36 @@ export function curvatureOperator(objective: Objective, w: Float64Array, options
   }
   const scaled = new Float64Array(root === null ? 0 : p);
   let count = 0;
-  const apply: LinearOperator = (v, out) => {
-    let x = v;
-    if (root !== null) {
-      for (let i = 0; i < p; i++) scaled[i] = root[i] * v[i];
-      x = scaled;
-    }
-    if (kind === 'hessian') objective.hvp(w, x, out, rows, fused);
-    else objective.gnvp(w, x, out, rows, fused);
-    count++;
+  /** x ← D^{1/2}·v (into `into`) or v itself without a scaling. */
+  const scale = (v: Float64Array, into: Float64Array): Float64Array => {
+    if (root === null) return v;
+    for (let i = 0; i < p; i++) into[i] = root[i] * v[i];
+    return into;
+  };
+  /** out ← D^{1/2}(out + s·x): the shift and the outer scaling. */
+  const finish = (x: Float64Array, out: Float64Array): void => {
     if (shift !== 0) for (let i = 0; i < p; i++) out[i] += shift * x[i];
     if (root !== null) for (let i = 0; i < p; i++) out[i] *= root[i];
   };
-  return { apply, count: () => count };
+  const apply: LinearOperator = (v, out) => {
+    const x = scale(v, scaled);
+    if (kind === 'hessian') objective.hvp(w, x, out, rows, fused);
+    else objective.gnvp(w, x, out, rows, fused);
+    count++;
+    finish(x, out);
+  };
+  const blockSize = objective.curvatureBlock === undefined ? 1 : Math.max(1, objective.blockSize ?? 1);
+  const scaledBlock: Float64Array[] = [];
+  const applyBlock: BlockOperator = (vs, outs) => {
+    if (vs.length === 1 || objective.curvatureBlock === undefined) {
+      vs.forEach((v, j) => apply(v, outs[j]));
+      return;
+    }
+    while (root !== null && scaledBlock.length < vs.length) scaledBlock.push(new Float64Array(p));
+    const xs = vs.map((v, j) => scale(v, scaledBlock[j]));
+    objective.curvatureBlock(kind, w, xs, outs, rows, fused);
+    count += vs.length;
+    xs.forEach((x, j) => finish(x, outs[j]));
+  };
+  return { apply, applyBlock, blockSize, count: () => count };
 }

@@ -8,10 +8,10 @@
 import type { Objective, Rows } from '../../objective';
 import { Rng, type RngState } from '../../rng';
 import type { DensityOptions, SpectralDensity } from '../../linalg/density';
-import type { IterationControl, LinearOperator, StopReason } from '../../linalg/operator';
+import type { IterationControl, StopReason } from '../../linalg/operator';
 import { hutchinsonTrace, spectralDensity } from '../../linalg/density';
 import { lanczosExtremes } from '../../linalg/lanczos';
-import type { CurvatureKind } from './operator';
+import type { CountingOperator, CurvatureKind } from './operator';
 import { curvatureOperator } from './operator';
 
 /**
@@ -76,10 +76,10 @@ const BACKWARD_PASSES_PER_PRODUCT = 6;
  * Gauss-Newton matrix; the Hessian of a piecewise-linear network) within the cost of `probes`
  * products, else Hutchinson's estimate with `probes` products of `op` (Hutchinson 1989).
  */
-export function tracePart(objective: Objective, op: LinearOperator, w: Float64Array, rows: Rows, kind: CurvatureKind, rng: Rng, probes: number, control: IterationControl = {}): TracePart {
+export function tracePart(objective: Objective, op: CountingOperator, w: Float64Array, rows: Rows, kind: CurvatureKind, rng: Rng, probes: number, control: IterationControl = {}): TracePart {
   const exact = objective.exactTrace?.(w, kind, rows, BACKWARD_PASSES_PER_PRODUCT * probes) ?? null;
   if (exact !== null) return { value: exact, standardError: 0, method: 'exact', products: 0, stop: 'converged' };
-  const t = hutchinsonTrace(op, objective.parameterCount, rng, { probes, ...control });
+  const t = hutchinsonTrace(op.apply, objective.parameterCount, rng, { probes, block: { apply: op.applyBlock, size: op.blockSize }, ...control });
   return { value: t.estimate, standardError: t.standardError, method: 'hutchinson', products: t.products, stop: t.stop };
 }
 
@@ -166,6 +166,6 @@ export function runDensityTrace(objective: Objective, task: DensityTraceTask, on
   const op = curvatureOperator(objective, task.w, { rows, kind: task.kind, fused: task.fused });
   const p = objective.parameterCount;
   const density = task.density === null ? null : spectralDensity(op.apply, p, Rng.fromState(task.densityRng), task.density);
-  const trace = task.traceProbes === 0 ? null : tracePart(objective, op.apply, task.w, task.rows ?? undefined, task.kind, Rng.fromState(task.traceRng), task.traceProbes);
+  const trace = task.traceProbes === 0 ? null : tracePart(objective, op, task.w, task.rows ?? undefined, task.kind, Rng.fromState(task.traceRng), task.traceProbes);
   return metric === null ? { density, trace } : { density, trace, stepMetric };
 }

@@ -304,7 +304,7 @@ export function measureCurvature(objective: Objective, w: Float64Array, recipe: 
   const drawn = densityOptions === null || l.stop === 'cancelled' ? null : spectralDensity(curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply, objective.parameterCount, Rng.fromState(plan.task.densityRng), densityOptions);
   const density = l.stop === 'cancelled' ? null : withMainProbe(plan.density, drawn, l);
   const skipTrace = plan.task.traceProbes === 0 || l.stop === 'cancelled' || density?.stop === 'cancelled';
-  const traceOp = curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused }).apply;
+  const traceOp = curvatureOperator(objective, w, { rows: options.rows, kind: plan.task.kind, fused: plan.task.fused });
   const trace = skipTrace ? null : tracePart(objective, traceOp, w, options.rows, plan.task.kind, Rng.fromState(plan.task.traceRng), plan.task.traceProbes, { onProgress: options.onProgress, shouldStop: options.shouldStop });
   return finish(objective, w, recipe, rng, options, spectrumFromLanczos(objective.parameterCount, plan.task.kind, l, density, trace), step);
 }
