@@ -64,6 +64,16 @@ class DecayedObjective implements Objective {
     this.addTo(out, v);
   }
 
+  get blockSize(): number {
+    return this.inner.curvatureBlock === undefined ? 1 : (this.inner.blockSize ?? 1);
+  }
+
+  curvatureBlock(kind: 'hessian' | 'gauss-newton', w: Float64Array, vs: readonly Float64Array[], outs: readonly Float64Array[], rows?: Rows, fused = false): void {
+    if (this.inner.curvatureBlock !== undefined) this.inner.curvatureBlock(kind, w, vs, outs, rows, fused);
+    else vs.forEach((v, j) => (kind === 'hessian' ? this.inner.hvp(w, v, outs[j], rows, fused) : this.inner.gnvp(w, v, outs[j], rows, fused)));
+    vs.forEach((v, j) => this.addTo(outs[j], v));
+  }
+
   /** The inner objective's exact trace plus λ per decayed entry (λI on the masked entries). */
   exactTrace(w: Float64Array, kind: 'hessian' | 'gauss-newton', rows?: Rows, maxBackwardPasses?: number): number | null {
     const inner = this.inner.exactTrace?.(w, kind, rows, maxBackwardPasses) ?? null;

@@ -14,6 +14,7 @@ import type { ActivationName, LossName } from '../../../src/core/setup';
 import { denseHessian } from '../../../src/core/probe/curvature/dense';
 import { curvatureOperator } from '../../../src/core/probe/curvature/operator';
 import { hutchinsonTrace } from '../../../src/core/linalg/density';
+import { withWeightDecay } from '../../../src/core/optim/decayed';
 
 interface Case {
   name: string;
@@ -137,6 +138,26 @@ describe('block curvature products', () => {
     const tRef = hutchinsonTrace(opRef.apply, P, Rng.fromSeed(8), { probes: 12 });
     expect(equal(t.samples, tRef.samples)).toBe(true);
     expect(t.products).toBe(12);
+  });
+
+  it('pass through the recipe\'s weight decay: block products of the decayed objective are its single products', () => {
+    const c = CASES[1];
+    const { net, w, rng } = build(c, { simd: true, skipZeroBlocks: false, blockSize: 4 });
+    const P = net.parameterCount;
+    const mask = Uint8Array.from({ length: P }, (_, i) => i % 3 === 0 ? 0 : 1);
+    const decayed = withWeightDecay(net, 0.07, mask);
+    expect(decayed.blockSize).toBe(4);
+    const vs = directions(net, rng, 6);
+    const outs = vs.map(() => new Float64Array(P));
+    const one = new Float64Array(P);
+    for (const kind of ['hessian', 'gauss-newton'] as const) {
+      decayed.curvatureBlock?.(kind, w, vs, outs);
+      vs.forEach((v, j) => {
+        if (kind === 'hessian') decayed.hvp(w, v, one);
+        else decayed.gnvp(w, v, one);
+        expect(bits(outs[j], one)).toBe(true);
+      });
+    }
   });
 
   it('skip zero blocks only where every direction has them: the same numbers as one at a time', () => {
