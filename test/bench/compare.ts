@@ -239,6 +239,6 @@ export async function compare(options: CompareOptions = {}): Promise<{ rows: Com
     }
     return { rows, versions };
   } finally {
-    ref.close();
+    await ref.close();
   }
 }

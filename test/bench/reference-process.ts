@@ -57,10 +57,15 @@ export class Reference {
     return path;
   }
 
-  /** Ends the process and removes the array files. */
-  close(): void {
+  /**
+   * Ends the process, removes the array files and resolves once it has exited: the next
+   * measurements (the kernels against the peak) must not share the machine with its teardown.
+   */
+  async close(): Promise<void> {
+    const exited = this.child.exitCode !== null || this.child.signalCode !== null ? Promise.resolve() : new Promise<void>((resolve) => this.child.once('exit', () => resolve()));
     this.child.stdin.end();
     this.child.kill();
     rmSync(this.dir, { recursive: true, force: true });
+    await exited;
   }
 }

@@ -49,14 +49,14 @@ const align16 = (bytes: number): number => (bytes + 15) & ~15;
 
 /**
  * SIMD kernels and the arrays, in one fresh instance's memory, or null when the engine lacks
- * WebAssembly SIMD or the memory cannot grow to hold them. `block` > 1 sizes the scratch for a
- * network's block passes, whose products are up to `block` times as wide on one side.
+ * WebAssembly SIMD or the memory cannot grow to hold them. `wider` sizes the scratch for a
+ * network's block passes, whose products can be that wide on one side.
  */
-export function wasmKernels(lengths: readonly number[], widest: number, block = 1): KernelSpace | null {
+export function wasmKernels(lengths: readonly number[], widest: number, wider = widest): KernelSpace | null {
   const ex = wasmInstance('network') as unknown as NetworkExports | null;
   if (ex === null) return null;
-  // A block pass multiplies matrices `block` times as wide on one side (never on both).
-  const wide = block * widest;
+  // A block pass's products are up to `wider` on one side (never on both): the other is at most `widest`.
+  const wide = Math.max(widest, wider);
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * wide + 16);
   // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns

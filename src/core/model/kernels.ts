@@ -69,8 +69,8 @@ export interface KernelSpace {
  * `simd` is not false and the memory can hold them; else the scalar kernels over plain arrays.
  * @param lengths - lengths of the arrays to allocate.
  * @param widest - the largest fanIn or units of any layer (sizes the SIMD scratch space).
- * @param block - directions of the network's block passes (their products are this many times wider).
+ * @param wider - the widest side of a block pass's products (block size × the widest layer's units), when wider than `widest`.
  */
-export function matrixKernels(lengths: readonly number[], widest: number, simd = true, block = 1): KernelSpace {
-  return (simd ? wasmKernels(lengths, widest, block) : null) ?? { kernels: scalarKernels, arrays: lengths.map((n) => new Float64Array(n)), fused: null };
+export function matrixKernels(lengths: readonly number[], widest: number, simd = true, wider = widest): KernelSpace {
+  return (simd ? wasmKernels(lengths, widest, wider) : null) ?? { kernels: scalarKernels, arrays: lengths.map((n) => new Float64Array(n)), fused: null };
 }

@@ -244,7 +244,10 @@ export class Network implements Objective {
     this.blockSize = kb;
     const widestBlock = Math.max(...this.plan.map((p) => p.units * (p.fanIn + 1)));
     if (kb > 1) lengths.push(...this.plan.flatMap((p) => BLOCK_BUFFERS.map(() => n * kb * p.units)), ...[0, 1, 2, 3].map(() => kb * widestBlock));
-    const space = matrixKernels(lengths, widest, options.simd !== false, kb);
+    // A block pass widens a product's units side (stacked blocks) or, above the first layer, its
+    // fanIn side (side by side, fanIn = the units below): at most kb × the widest layer's units.
+    const wider = kb * Math.max(...this.plan.map((p) => p.units));
+    const space = matrixKernels(lengths, widest, options.simd !== false, kb > 1 ? wider : widest);
     this.k = space.kernels;
     this.kFused = space.fused;
     this.skipZero = options.skipZeroBlocks !== false;

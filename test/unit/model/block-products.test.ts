@@ -30,9 +30,8 @@ const CASES: Case[] = [
   { name: 'tanh, linear, gelu, cross-entropy', acts: ['tanh', 'linear', 'gelu'], loss: 'cross-entropy', widths: [9, 4, 6] },
 ];
 
-function build(c: Case, options: { simd: boolean; skipZeroBlocks?: boolean; blockSize?: number }, rows = 29): { net: Network; w: Float64Array; rng: Rng } {
+function build(c: Case, options: { simd: boolean; skipZeroBlocks?: boolean; blockSize?: number }, rows = 29, inputs = 5): { net: Network; w: Float64Array; rng: Rng } {
   const rng = Rng.fromSeed(c.widths.reduce((s, u) => s * 31 + u, 7));
-  const inputs = 5;
   const outputs = 3;
   const x = rng.fillNormal(new Float64Array(rows * inputs));
   const width = c.loss === 'cross-entropy' ? 1 : outputs;
@@ -90,20 +89,23 @@ describe('block curvature products', () => {
   }
 
   it('sizes the kernels\' scratch for sixteen directions of wide layers (products 16 × as wide, chunks of 256 rows): still the single products bit for bit', () => {
-    const c: Case = { name: 'wide', acts: ['relu', 'tanh'], loss: 'cross-entropy', widths: [40, 33] };
-    const { net, w, rng } = build(c, { simd: true, skipZeroBlocks: false, blockSize: MAX_BLOCK }, 300);
-    expect(net.kernelKind).toBe('simd');
-    const P = net.parameterCount;
-    const vs = directions(net, rng, MAX_BLOCK);
-    const outs = vs.map(() => new Float64Array(P));
-    const one = new Float64Array(P);
-    for (const kind of ['hessian', 'gauss-newton'] as const) {
-      net.curvatureBlock(kind, w, vs, outs);
-      vs.forEach((v, j) => {
-        if (kind === 'hessian') net.hvp(w, v, one);
-        else net.gnvp(w, v, one);
-        expect(bits(outs[j], one)).toBe(true);
-      });
+    // wide hidden layers; then more inputs than units (the first layer's products widen only their units side)
+    for (const [widths, inputs] of [[[40, 33], 5], [[8, 6], 70]] as const) {
+      const c: Case = { name: 'wide', acts: ['relu', 'tanh'], loss: 'cross-entropy', widths: [...widths] };
+      const { net, w, rng } = build(c, { simd: true, skipZeroBlocks: false, blockSize: MAX_BLOCK }, 300, inputs);
+      expect(net.kernelKind).toBe('simd');
+      const P = net.parameterCount;
+      const vs = directions(net, rng, MAX_BLOCK);
+      const outs = vs.map(() => new Float64Array(P));
+      const one = new Float64Array(P);
+      for (const kind of ['hessian', 'gauss-newton'] as const) {
+        net.curvatureBlock(kind, w, vs, outs);
+        vs.forEach((v, j) => {
+          if (kind === 'hessian') net.hvp(w, v, one);
+          else net.gnvp(w, v, one);
+          expect(bits(outs[j], one)).toBe(true);
+        });
+      }
     }
   });
 
