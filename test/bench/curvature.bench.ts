@@ -81,10 +81,11 @@ export function run(): BenchResult[] {
   return out;
 }
 
-/** Shapes for the block passes: narrow layers (on by default) and MLP b's (off by default). */
+/** Shapes for the block passes: narrow layers, with few or many inputs (on by default), and MLP b's (off by default). */
 const BLOCK_SHAPES: MlpShape[] = [
   { widths: [4, 16, 16, 1], act: 'tanh', loss: 'mse', batch: 64 },
   { widths: [8, 32, 32, 2], act: 'tanh', loss: 'cross-entropy', batch: 256 },
+  { widths: [784, 32, 32, 10], act: 'relu', loss: 'cross-entropy', batch: 128 },
   { widths: [20, 64, 64, 3], act: 'tanh', loss: 'cross-entropy', batch: 256 },
 ];
 

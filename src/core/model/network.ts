@@ -103,32 +103,33 @@ export interface NetworkOptions {
 /** Workspace the block passes of one network may take by default (bytes). */
 export const BLOCK_BYTES = 8 * 1024 * 1024;
 /**
- * Bytes one layer's block buffer may span by default: a block pass gains only while the
- * buffers it streams through stay in a core's cache (512 KB of L2 per core on the machine of
- * test/bench/BENCHMARKS.md).
- */
-export const BLOCK_CACHE_BYTES = 256 * 1024;
-/**
- * The widest layer for which block passes are on by default. Measured there (test/bench,
- * `curvature.bench.ts`): 1.1–1.5× faster products with layers of 8–32 units, where one
- * direction's matrix products are too narrow for the kernels' tiles; none from 48 units up
- * (MLP b and c: 0.9–1.0×, the rearranging costs what the wider products save).
+ * The widest layer for which block passes are on by default. Measured on the machine of
+ * test/bench/BENCHMARKS.md (`npm run bench -- curvature`, and shapes with 784 inputs): products
+ * 1.1–1.4× faster with layers of 8–32 units, where one direction's matrix products are too
+ * narrow for the kernels' tiles; none from 48 units up (MLP b: 0.93–1.08×, the rearranging
+ * costs what the wider products save).
  */
 export const BLOCK_WIDEST = 32;
+/**
+ * Directions of a default block pass at most. Blocks of 2, 4 and 8 measured alike; 5 and 6
+ * were slower than 4 on a 784-32-32-10 network, so the default is a power of two.
+ */
+export const DEFAULT_BLOCK = 8;
 /** The most directions of one block pass. */
 export const MAX_BLOCK = 16;
 
 /**
  * Directions per block pass for a network over `rows` rows with these layers: 1 (no block
- * passes) when a layer is wider than {@link BLOCK_WIDEST}, else as many as keep one layer's
- * buffer within {@link BLOCK_CACHE_BYTES} and all of them within {@link BLOCK_BYTES}, at most
- * {@link MAX_BLOCK}.
+ * passes) when a layer is wider than {@link BLOCK_WIDEST}, else the largest power of two up to
+ * {@link DEFAULT_BLOCK} whose buffers fit in {@link BLOCK_BYTES}.
  */
 export function defaultBlockSize(rows: number, plan: readonly LayerShape[]): number {
   const widest = Math.max(...plan.map((p) => p.units));
   if (widest > BLOCK_WIDEST) return 1;
-  const k = Math.min(MAX_BLOCK, Math.floor(BLOCK_CACHE_BYTES / (8 * rows * widest)), Math.floor(BLOCK_BYTES / (8 * blockDoubles(rows, plan))));
-  return Math.max(1, k);
+  const fits = Math.floor(BLOCK_BYTES / (8 * blockDoubles(rows, plan)));
+  let k = 1;
+  while (2 * k <= Math.min(DEFAULT_BLOCK, fits)) k *= 2;
+  return k;
 }
 
 /** Block-pass buffers per layer, each `maxRows × block × units`, row r holding direction j's units at (r·block + j)·units. */

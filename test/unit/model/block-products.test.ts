@@ -8,7 +8,7 @@
  * tolerance needs a source; the single products themselves are checked against PyTorch in
  * test/reference.
  */
-import { MAX_BLOCK, Network } from '../../../src/core/model/network';
+import { DEFAULT_BLOCK, MAX_BLOCK, Network } from '../../../src/core/model/network';
 import { Rng } from '../../../src/core/rng';
 import type { ActivationName, LossName } from '../../../src/core/setup';
 import { denseHessian } from '../../../src/core/probe/curvature/dense';
@@ -217,8 +217,13 @@ describe('block curvature products', () => {
   });
 
   it('chooses its block size from a workspace budget and refuses a bad one before allocating', () => {
-    const small = build(CASES[0], { simd: true }).net;
-    expect(small.blockSize).toBe(MAX_BLOCK);
+    // narrow layers: the default block; MLP b's 64 units: none; many rows: what 8 MB of buffers hold
+    expect(build(CASES[0], { simd: true }).net.blockSize).toBe(DEFAULT_BLOCK);
+    expect(build({ ...CASES[0], widths: [64] }, { simd: true }).net.blockSize).toBe(1);
+    const many = build({ ...CASES[2], widths: [24, 20] }, { simd: true }, 1000).net;
+    // 7 buffers × 1000 rows × (24 + 20 + 3) units + 4 stacked copies of the widest layer block (20 × 25) doubles per direction
+    expect(many.blockSize).toBe(2 ** Math.floor(Math.log2(Math.floor((8 * 1024 * 1024) / (8 * (7 * 1000 * 47 + 4 * 20 * 25))))));
+    expect(many.blockSize).toBe(2);
     expect(() => build(CASES[0], { simd: true, blockSize: 0 })).toThrow(/blockSize must be an integer from 1 to 16, got 0/);
     expect(() => build(CASES[0], { simd: true, blockSize: MAX_BLOCK + 1 })).toThrow(/blockSize/);
     const { net, w } = build(CASES[0], { simd: true });
