@@ -59,9 +59,10 @@ export function wasmKernels(lengths: readonly number[], widest: number, wider = 
   const wide = Math.max(widest, wider);
   // Partial tiles read up to two rows and a few columns past an operand (never write there).
   const slack = 8 * (2 * wide + 16);
-  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, six columns
-  // of W for `backprop` — or, for the sparse kernels (which never run between a packing and its
-  // use by the others), sixteen-column panels of the other factor.
+  // Scratch for packed panels: Wᵀ of `dense`, a 256-row chunk of x and d for `outer`, W in panels
+  // of six columns for `backprop` (units × fanIn rounded up to 6, within the first bound) — or, for
+  // the sparse kernels (which never run between a packing and its use by the others),
+  // sixteen-column panels of the other factor.
   const wide16 = (wide + 15) & ~15;
   const pack = 256;
   const packLength = Math.max((widest + 1) * (wide + 6), 256 * (2 * wide + 9), 6 * wide, Math.max(widest, SPARSE_ROWS) * wide16);

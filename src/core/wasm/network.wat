@@ -314,22 +314,31 @@
 
   ;; dst[r, i] (=|+=) Σ_o d[r, o]·W[o, i], o in order, for r < n, i < fanIn (W units×fanIn,
   ;; d n×units, dst n×fanIn). Without $accumulate each sum starts from the 48 zero bytes at
-  ;; $zero, with it from dst. Six columns of W at a time are packed into one panel ($pack:
-  ;; 6·units entries) that stays in cache while the rows of d stream past.
+  ;; $zero, with it from dst. W is packed first into panels of six columns ($pack: units·F
+  ;; entries, F = fanIn rounded up to a multiple of 6), one after another; then, as in `dense`,
+  ;; rows are the outer loop: three rows of d stay in the L1 cache while the panels stream past
+  ;; (from L2: a panel-outer order streamed all of d once per panel, and lost half its rate
+  ;; whenever the other core was busy with memory).
   (func (export "backprop")
     (param $w i32) (param $d i32) (param $n i32) (param $fanIn i32) (param $units i32)
     (param $dst i32) (param $accumulate i32) (param $zero i32) (param $pack i32)
-    (local $i i32) (local $r i32) (local $cp i32)
-    (loop $in_cols
-      (call $panel (local.get $w) (local.get $units) (local.get $fanIn) (local.get $fanIn) (local.get $i) (i32.const 6) (local.get $pack))
-      (local.set $r (i32.const 0))
-      (loop $row_blocks
+    (local $i i32) (local $r i32) (local $cp i32) (local $at i32) (local $panelBytes i32)
+    (local.set $panelBytes (i32.mul (i32.const 48) (local.get $units)))
+    (local.set $at (local.get $pack))
+    (loop $pack_cols
+      (call $panel (local.get $w) (local.get $units) (local.get $fanIn) (local.get $fanIn) (local.get $i) (i32.const 6) (local.get $at))
+      (local.set $at (i32.add (local.get $at) (local.get $panelBytes)))
+      (br_if $pack_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn))))
+    (loop $row_blocks
+      (local.set $i (i32.const 0))
+      (local.set $at (local.get $pack))
+      (loop $in_cols
         (local.set $cp (i32.add (local.get $dst) (i32.shl (i32.add (i32.mul (local.get $r) (local.get $fanIn)) (local.get $i)) (i32.const 3))))
         (call $tile
           (i32.add (local.get $d) (i32.shl (i32.mul (local.get $r) (local.get $units)) (i32.const 3)))
           (i32.shl (local.get $units) (i32.const 3))
           (i32.const 8)
-          (local.get $pack)
+          (local.get $at)
           (i32.const 48)
           (local.get $units)
           (select (local.get $cp) (local.get $zero) (local.get $accumulate))
@@ -339,8 +348,9 @@
           (call $min (i32.sub (local.get $n) (local.get $r)) (i32.const 3))
           (call $min (i32.sub (local.get $fanIn) (local.get $i)) (i32.const 6))
           (i32.const 0))
-        (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n))))
-      (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn)))))
+        (local.set $at (i32.add (local.get $at) (local.get $panelBytes)))
+        (br_if $in_cols (i32.lt_u (local.tee $i (i32.add (local.get $i) (i32.const 6))) (local.get $fanIn))))
+      (br_if $row_blocks (i32.lt_u (local.tee $r (i32.add (local.get $r) (i32.const 3))) (local.get $n)))))
 
   ;; ---- Products whose coefficient matrix holds many exact zeros (ReLU layers) ----
   ;;
