@@ -577,13 +577,12 @@ export class Network implements Objective {
           const da = this.work[l].da;
           const wide: LayerShape = { fanIn: k * p.fanIn, units: p.units, wOff: 0, bOff: 0 };
           if (!this.rZero[l - 1]) {
-            this.sideBySideOf(this.gStacked, p, k, this.gSideBySide);
+            for (let j = 0; j < k; j++) this.sideBySideOf(this.gStacked, j * size, p, j, k, this.gSideBySide);
             kern.outer(this.gSideBySide, wide, da, lower.rh, n, false);
             side = true;
           }
           if (!this.vZero[l]) {
-            for (let j = 0; j < k; j++) this.stacked.set(vs[j].subarray(p.wOff, p.wOff + size), j * size);
-            this.sideBySideOf(this.stacked, p, k, this.sideBySide);
+            vs.forEach((v, j) => this.sideBySideOf(v, p.wOff, p, j, k, this.sideBySide));
             kern.backprop(this.sideBySide, wide, da, n, lower.rdh, false);
           }
           kern.backprop(wk, p, d, n * k, lower.rdh, !this.vZero[l]);
@@ -628,15 +627,16 @@ export class Network implements Objective {
     return this.stackedShape(p, k);
   }
 
-  /** Rearranges k stacked units×fanIn blocks (direction-major) into `dst`, row o holding row o of each. */
-  private sideBySideOf(src: Float64Array, p: LayerShape, k: number, dst: Float64Array): void {
+  /**
+   * Copies direction j's units×fanIn block of layer `p` (at `from` in `src`) into `dst`, whose row
+   * o holds row o of each of the k directions' blocks side by side.
+   */
+  private sideBySideOf(src: Float64Array, from: number, p: LayerShape, j: number, k: number, dst: Float64Array): void {
     const { units, fanIn } = p;
-    for (let j = 0; j < k; j++) {
-      for (let o = 0; o < units; o++) {
-        const from = (j * units + o) * fanIn;
-        const to = (o * k + j) * fanIn;
-        for (let i = 0; i < fanIn; i++) dst[to + i] = src[from + i];
-      }
+    for (let o = 0; o < units; o++) {
+      const a = from + o * fanIn;
+      const b = (o * k + j) * fanIn;
+      for (let i = 0; i < fanIn; i++) dst[b + i] = src[a + i];
     }
   }
 
