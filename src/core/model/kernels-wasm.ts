@@ -65,7 +65,7 @@ export function wasmKernels(lengths: readonly number[], widest: number, wider = 
   // sixteen-column panels of the other factor.
   const wide16 = (wide + 15) & ~15;
   const pack = 256;
-  const packLength = Math.max((widest + 1) * (wide + 6), 256 * (2 * wide + 9), 6 * wide, Math.max(widest, SPARSE_ROWS) * wide16);
+  const packLength = Math.max((widest + 1) * (wide + 6), 256 * (2 * wide + 9), Math.max(widest, SPARSE_ROWS) * wide16);
   const sPack = pack;
   // The sparse kernels' coefficient lists (values, panel offsets, lengths), a staging row and a row of zeros.
   const listEntries = SPARSE_ROWS * wide;
