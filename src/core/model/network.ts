@@ -323,8 +323,8 @@ export class Network implements Objective {
     const n = this.hessianPass(w, wk, rows);
     const vk = this.direction(v);
     const k = this.rKernels(fused);
-    const vz = this.zeroBlocks(vk);
-    this.rForward(wk, vk, n, k);
+    const vz = this.zeroBlocks([vk]);
+    this.rForward(wk, [vk], n, k);
     const top = this.work[L - 1];
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.rdh);
     const g = this.product(out);
@@ -380,8 +380,8 @@ export class Network implements Objective {
     this.keep('forward', w, rows);
     const k = this.rKernels(fused);
     const vk = this.direction(v);
-    this.zeroBlocks(vk);
-    this.rForward(wk, vk, n, k);
+    this.zeroBlocks([vk]);
+    this.rForward(wk, [vk], n, k);
     const top = this.work[this.plan.length - 1];
     this.loss.outputHvp(top.h, this.yin, n, this.outputs, top.rh, top.dh);
     const g = this.product(out);
@@ -524,30 +524,8 @@ export class Network implements Objective {
     }
     this.repeatRows(n, k, hessian);
     const kern = this.rKernels(fused);
-    for (let l = 0; l < L; l++) {
-      const p = this.plan[l];
-      let zero = this.skipZero;
-      for (let j = 0; zero && j < k; j++) zero = this.blockIsZero(vs[j], p);
-      this.vZero[l] = zero;
-    }
-    // R-forward, as in rForward with every direction's rows side by side.
-    let below = false;
-    for (let l = 0; l < L; l++) {
-      const p = this.plan[l];
-      const bw = this.blockWork[l];
-      const m = n * k * p.units;
-      const own = !this.vZero[l];
-      this.rZero[l] = !own && !below;
-      if (this.rZero[l]) {
-        bw.ra.fill(0, 0, m);
-        bw.rh.fill(0, 0, m);
-        continue;
-      }
-      if (own) kern.dense(this.stacked, this.stack(vs, p), l === 0 ? this.xin : this.work[l - 1].h, n, bw.ra, true, false);
-      if (below) kern.dense(wk, p, this.blockWork[l - 1].rh, n * k, bw.ra, false, own);
-      kern.hadamard(bw.d1, bw.ra, m, bw.rh);
-      below = true;
-    }
+    this.zeroBlocks(vs);
+    this.rForward(wk, vs, n, kern);
     // H_out per direction, on its rows gathered into one n × outputs matrix.
     const C = this.outputs;
     const top = this.blockWork[L - 1];
@@ -754,40 +732,41 @@ export class Network implements Objective {
   }
 
   /**
-   * R{a} and R{h} of every layer for direction `v` (needs a forward pass first, and
-   * {@link zeroBlocks} of `v`). Below the
-   * first layer whose block of `v` is not zero both are zero (filled, not multiplied; `rZero`
-   * says so); a layer whose block is zero takes only the term of the layer below.
+   * R{a} and R{h} of every layer for the directions `vs` (needs a forward pass first, and
+   * {@link zeroBlocks} of `vs`): for one direction in the layers' buffers, for several side by side
+   * in the block buffers (see {@link curvatureBlock}). Below the first layer where a block of `vs`
+   * is not zero both are zero (filled, not multiplied; `rZero` says so); a layer whose blocks are
+   * zero takes only the term of the layer below.
    */
-  private rForward(w: Float64Array, v: Float64Array, n: number, k: MatrixKernels): void {
+  private rForward(w: Float64Array, vs: readonly Float64Array[], n: number, kern: MatrixKernels): void {
+    const k = vs.length;
+    const bufs: ReadonlyArray<{ ra: Float64Array; rh: Float64Array; d1: Float64Array }> = k === 1 ? this.work : this.blockWork;
     let below = false; // R{h} of the layer below may be nonzero (the inputs have none)
     for (let l = 0; l < this.plan.length; l++) {
       const p = this.plan[l];
-      const wk = this.work[l];
+      const b = bufs[l];
+      const m = n * k * p.units;
       const own = !this.vZero[l];
       this.rZero[l] = !own && !below;
       if (this.rZero[l]) {
-        wk.ra.fill(0, 0, n * p.units);
-        wk.rh.fill(0, 0, n * p.units);
+        b.ra.fill(0, 0, m);
+        b.rh.fill(0, 0, m);
         continue;
       }
       const inp = l === 0 ? this.xin : this.work[l - 1].h;
-      if (own) k.dense(v, p, inp, n, wk.ra, true, false);
-      if (below) k.dense(w, p, this.work[l - 1].rh, n, wk.ra, false, own);
-      k.hadamard(wk.d1, wk.ra, n * p.units, wk.rh);
+      if (own && k === 1) kern.dense(vs[0], p, inp, n, b.ra, true, false);
+      else if (own) kern.dense(this.stacked, this.stack(vs, p), inp, n, b.ra, true, false);
+      if (below) kern.dense(w, p, bufs[l - 1].rh, n * k, b.ra, false, own);
+      kern.hadamard(b.d1, b.ra, m, b.rh);
       below = true;
     }
   }
 
-  /** Marks the layers whose block (weights and bias) of `v` is all zero; none when skipping is off. */
-  private zeroBlocks(v: Float64Array): readonly boolean[] {
-    for (let l = 0; l < this.plan.length; l++) {
-      const p = this.plan[l];
-      let zero = this.skipZero;
-      for (let i = p.wOff, end = p.wOff + p.units * p.fanIn; zero && i < end; i++) if (v[i] !== 0) zero = false;
-      for (let i = p.bOff, end = p.bOff + p.units; zero && i < end; i++) if (v[i] !== 0) zero = false;
-      this.vZero[l] = zero;
-    }
+  /** Marks the layers whose block (weights and bias) is all zero in every one of `vs`; none when skipping is off. */
+  private zeroBlocks(vs: readonly Float64Array[]): readonly boolean[] {
+    this.plan.forEach((p, l) => {
+      this.vZero[l] = this.skipZero && vs.every((v) => this.blockIsZero(v, p));
+    });
     return this.vZero;
   }
 
